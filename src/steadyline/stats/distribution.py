@@ -1,0 +1,232 @@
+"""Distribution displays: box-plot summary, histogram binning and the Anderson–Darling test.
+
+Missing values (nan) are left out; infinite values are an error. Positions reported (outlier
+indices) are 0-based positions in the input sequence, missing values included.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from scipy import stats as _st
+
+from .results import BoxSummary, Histogram, NormalityTest, StatsError
+
+# numpy quantile method names and their Hyndman & Fan (1996) types (numpy docstring), plus
+# Tukey's hinges (Tukey 1977), which are not in general any single H&F type.
+QUARTILE_METHODS: dict[str, str] = {
+    "inverted_cdf": "Hyndman & Fan type 1 (inverse of the empirical distribution function)",
+    "averaged_inverted_cdf": "Hyndman & Fan type 2 (inverse empirical distribution, averaged at steps)",
+    "closest_observation": "Hyndman & Fan type 3 (nearest even order statistic)",
+    "interpolated_inverted_cdf": "Hyndman & Fan type 4 (linear interpolation of the empirical distribution)",
+    "hazen": "Hyndman & Fan type 5 (Hazen, piecewise linear with midpoints)",
+    "weibull": "Hyndman & Fan type 6 (Weibull, position (n+1)p)",
+    "linear": "Hyndman & Fan type 7 (linear)",
+    "median_unbiased": "Hyndman & Fan type 8 (approximately median-unbiased)",
+    "normal_unbiased": "Hyndman & Fan type 9 (approximately unbiased for normal data)",
+    "tukey-hinges": "Tukey's hinges (medians of the lower and upper halves, median in both when n is odd)",
+}
+
+HISTOGRAM_RULES: dict[str, str] = {
+    "fd": "Freedman–Diaconis",
+    "sturges": "Sturges",
+    "scott": "Scott",
+    "doane": "Doane",
+    "rice": "Rice",
+    "sqrt": "square root of n",
+    "stone": "Stone",
+    "auto": "smaller bin width of Sturges and Freedman–Diaconis",
+    "edges": "given bin edges",
+}
+
+AD_MIN_POINTS = 8  # the D'Agostino & Stephens small-sample adjustment is given for n >= 8 (from memory)
+
+
+def _finite(values: Sequence[float] | np.ndarray, what: str) -> tuple[np.ndarray, np.ndarray]:
+    """Return (finite values, their positions); nan is dropped, inf is an error."""
+    x = np.asarray(values, dtype=float)
+    if x.ndim != 1:
+        raise StatsError(f"{what} needs a one-dimensional sequence of values")
+    if np.isinf(x).any():
+        raise StatsError(f"{what} needs finite values, got an infinite value")
+    pos = np.flatnonzero(~np.isnan(x))
+    return x[pos], pos
+
+
+def tukey_hinges(sorted_x: np.ndarray) -> tuple[float, float, float]:
+    """Lower hinge, median, upper hinge of sorted data (median in both halves when n is odd)."""
+    n = len(sorted_x)
+    lower = sorted_x[: (n + 1) // 2]
+    upper = sorted_x[n // 2 :]
+    return float(np.median(lower)), float(np.median(sorted_x)), float(np.median(upper))
+
+
+def box_summary(values: Sequence[float] | np.ndarray, method: str = "linear") -> BoxSummary:
+    """Five-number summary with Tukey fences.
+
+    Quartiles come from ``numpy.quantile(method=...)`` (the Hyndman & Fan types listed in
+    :data:`QUARTILE_METHODS`) or from Tukey's hinges (``method="tukey-hinges"``).
+    Inner fences at 1.5 x IQR beyond the quartiles; whiskers end at the most extreme data
+    points inside the inner fences; points strictly beyond them are outliers, and those
+    strictly beyond 3 x IQR are also "far out".
+    """
+    if method not in QUARTILE_METHODS:
+        raise StatsError(
+            f"unknown quartile method {method!r}; choose one of {', '.join(QUARTILE_METHODS)}"
+        )
+    x, pos = _finite(values, "a box plot")
+    n = len(x)
+    if n == 0:
+        raise StatsError("a box plot needs at least one data point, got none")
+    if method == "tukey-hinges":
+        q1, med, q3 = tukey_hinges(np.sort(x))
+    else:
+        q1, med, q3 = (float(v) for v in np.quantile(x, [0.25, 0.5, 0.75], method=method))
+    iqr = q3 - q1
+    lo_f, hi_f = q1 - 1.5 * iqr, q3 + 1.5 * iqr
+    lo_far, hi_far = q1 - 3.0 * iqr, q3 + 3.0 * iqr
+    inside = (x >= lo_f) & (x <= hi_f)
+    out = ~inside
+    far = (x < lo_far) | (x > hi_far)
+    return BoxSummary(
+        method=method,
+        method_label=QUARTILE_METHODS[method],
+        n=int(n),
+        mean=float(np.mean(x)),
+        q1=q1,
+        median=med,
+        q3=q3,
+        iqr=float(iqr),
+        lower_fence=float(lo_f),
+        upper_fence=float(hi_f),
+        whisker_low=float(x[inside].min()),
+        whisker_high=float(x[inside].max()),
+        outlier_indices=tuple(int(i) for i in pos[out]),
+        outlier_values=tuple(float(v) for v in x[out]),
+        far_out_indices=tuple(int(i) for i in pos[far]),
+        minimum=float(x.min()),
+        maximum=float(x.max()),
+    )
+
+
+def histogram(
+    values: Sequence[float] | np.ndarray,
+    rule: str | Sequence[float] = "fd",
+) -> Histogram:
+    """Bin the values with a named rule or with explicit bin edges.
+
+    Named rules ("fd", "sturges", "scott", and numpy's other names) use
+    ``numpy.histogram_bin_edges``: equal-width bins, the realised width being range / k.
+    Explicit edges must be strictly increasing; points outside them are counted in
+    ``below_range`` / ``above_range``. As in numpy, bins are half-open [a, b) except the last,
+    which includes its right edge.
+
+    Degenerate data with zero range (all values equal) get one bin of width 1 centred on the
+    value, whatever the rule (numpy's convention).
+    """
+    x, _ = _finite(values, "a histogram")
+    n = len(x)
+    if n == 0:
+        raise StatsError("a histogram needs at least one data point, got none")
+    below = above = 0
+    if isinstance(rule, str):
+        if rule not in HISTOGRAM_RULES or rule == "edges":
+            raise StatsError(
+                f"unknown histogram rule {rule!r}; choose 'fd', 'sturges', 'scott' or give edges"
+            )
+        if x.min() == x.max():
+            v = float(x[0])
+            edges = np.array([v - 0.5, v + 0.5])
+        else:
+            edges = np.histogram_bin_edges(x, bins=rule)
+        rule_key = rule
+        counts, _ = np.histogram(x, bins=edges)
+        width: float | None = float(edges[1] - edges[0])
+    else:
+        edges = np.asarray(rule, dtype=float)
+        if edges.ndim != 1 or len(edges) < 2:
+            raise StatsError("explicit histogram edges need at least two numbers")
+        if not np.all(np.isfinite(edges)) or np.any(np.diff(edges) <= 0):
+            raise StatsError("explicit histogram edges must be finite and strictly increasing")
+        rule_key = "edges"
+        below = int(np.sum(x < edges[0]))
+        above = int(np.sum(x > edges[-1]))
+        counts, _ = np.histogram(x, bins=edges)
+        d = np.diff(edges)
+        width = float(d[0]) if np.allclose(d, d[0], rtol=1e-9, atol=0.0) else None
+    return Histogram(
+        rule=rule_key,
+        rule_label=HISTOGRAM_RULES[rule_key],
+        edges=tuple(float(e) for e in edges),
+        counts=tuple(int(c) for c in counts),
+        bin_width=width,
+        n=int(n),
+        mean=float(np.mean(x)),
+        std=float(np.std(x, ddof=1)) if n >= 2 else float("nan"),
+        below_range=below,
+        above_range=above,
+    )
+
+
+def normal_curve(hist: Histogram, points: int = 200) -> tuple[np.ndarray, np.ndarray]:
+    """A fitted normal curve over the histogram's range, scaled to counts per bin.
+
+    y = n * bin_width * pdf(x; mean, sd), so its area matches the bars. Needs equal-width
+    bins and a positive standard deviation.
+    """
+    if hist.bin_width is None:
+        raise StatsError("a normal curve scaled to counts needs bins of equal width")
+    if not (hist.n >= 2 and math.isfinite(hist.std) and hist.std > 0):
+        raise StatsError("a normal curve needs at least two points that are not all equal")
+    if points < 2:
+        raise StatsError("a normal curve needs at least two points")
+    x = np.linspace(hist.edges[0], hist.edges[-1], int(points))
+    y = hist.n * hist.bin_width * _st.norm.pdf(x, loc=hist.mean, scale=hist.std)
+    return x, y
+
+
+def ad_p_value(adjusted: float) -> float:
+    """p-value for the adjusted statistic A*² (D'Agostino & Stephens 1986, Table 4.9, from
+    memory), case 3 (mean and sigma estimated). Clipped to [0, 1]."""
+    a = float(adjusted)
+    if a >= 0.6:
+        p = math.exp(1.2937 - 5.709 * a + 0.0186 * a * a)
+    elif a >= 0.34:
+        p = math.exp(0.9177 - 4.279 * a - 1.38 * a * a)
+    elif a >= 0.2:
+        p = 1.0 - math.exp(-8.318 + 42.796 * a - 59.938 * a * a)
+    else:
+        p = 1.0 - math.exp(-13.436 + 101.14 * a - 223.73 * a * a)
+    return min(1.0, max(0.0, p))
+
+
+def anderson_darling(values: Sequence[float] | np.ndarray) -> NormalityTest:
+    """Anderson–Darling test of normality with mean and sigma estimated (Stephens' case 3).
+
+    A² = −n − (1/n) Σ (2i−1)[ln Φ(z₍ᵢ₎) + ln(1 − Φ(z₍ₙ₊₁₋ᵢ₎))], z from the sample mean and the
+    n−1 standard deviation; A*² = A²(1 + 0.75/n + 2.25/n²); p-value from the D'Agostino &
+    Stephens piecewise formula. Requires at least 8 values that are not all equal.
+    """
+    x, _ = _finite(values, "a normality test")
+    n = len(x)
+    if n < AD_MIN_POINTS:
+        raise StatsError(
+            f"the Anderson–Darling normality test needs at least {AD_MIN_POINTS} values, got {n}"
+        )
+    s = float(np.std(x, ddof=1))
+    if not s > 0:
+        raise StatsError(
+            "the Anderson–Darling normality test needs values that are not all equal "
+            "(the standard deviation is zero)"
+        )
+    z = (np.sort(x) - np.mean(x)) / s
+    i = np.arange(1, n + 1)
+    a2 = -n - np.sum((2 * i - 1) * (_st.norm.logcdf(z) + _st.norm.logsf(z[::-1]))) / n
+    a2 = float(a2)
+    adj = a2 * (1.0 + 0.75 / n + 2.25 / n**2)
+    p = ad_p_value(adj)
+    return NormalityTest(
+        statistic=a2, adjusted=float(adj), p_value=p, n=int(n), normal_at_5pct=bool(p >= 0.05)
+    )
