@@ -1,0 +1,70 @@
+"""The errors steadyline reports to its users.
+
+Every problem with a user's input becomes a :class:`Problem`: one line naming the file, the
+line / row / column / key where known, what is wrong and what to do. Problems are collected, not
+raised one at a time, so a user sees every problem of a project in one run. A
+:class:`ProjectError` carries the problems that stopped a project from building; the command line
+is the one place that turns them into exit codes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+
+@dataclass(frozen=True, order=True)
+class Problem:
+    """One problem found in the input.
+
+    path:     the file (relative to the portfolio root when possible, for stable messages).
+    line:     1-based line number in that file where known (CSV rows: the physical line).
+    where:    the key, column or row in words: "metric[2].spec_upper", "column 'value'".
+    message:  what is wrong and what to do.
+    severity: "error" stops the project building; "warning" is shown and the build goes on.
+    """
+
+    path: str
+    line: int | None
+    where: str
+    message: str
+    severity: str = "error"
+
+    def format(self) -> str:
+        loc = self.path if self.line is None else f"{self.path}:{self.line}"
+        where = f" {self.where}:" if self.where else ""
+        tag = "" if self.severity == "error" else f" {self.severity}:"
+        return f"{loc}:{tag}{where} {self.message}"
+
+    def __str__(self) -> str:  # pragma: no cover - convenience
+        return self.format()
+
+
+class SteadylineError(Exception):
+    """Base of our own errors."""
+
+
+class ProjectError(SteadylineError):
+    """A project cannot be built; carries every problem found."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = sorted(problems, key=_problem_key)
+        super().__init__("\n".join(p.format() for p in self.problems))
+
+
+class BuildError(SteadylineError):
+    """The build as a whole failed (e.g. the output folder cannot be written)."""
+
+
+def _problem_key(p: Problem):
+    return (p.path, p.line or 0, p.where, p.message)
+
+
+def rel(path: Path, root: Path | None) -> str:
+    """A path as shown in messages: relative to *root* when inside it, with forward slashes."""
+    try:
+        if root is not None:
+            return path.resolve().relative_to(root.resolve()).as_posix()
+    except ValueError:
+        pass
+    return path.as_posix()

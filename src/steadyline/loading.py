@@ -1,0 +1,476 @@
+"""CSV files -> typed, validated series ready for the statistics.
+
+Every problem names the file and the physical line (header = line 1) and column. Loading never
+writes: files are opened read-only. The output of :func:`load_metric` is a :class:`MetricData`
+holding one row per plotted point (after any roll-up), with its period, phase and segment (a new
+segment starts after a gap in the periods, so that lines are not joined across gaps).
+
+Time parsing (documented in the README):
+- default: ISO 8601 dates or date-times (``2026-03-31``, ``2026-03-31T14:05``, with an optional
+  UTC offset such as ``+01:00`` or ``Z``);
+- ``[metric.csv] date_format`` gives an explicit strftime format instead;
+- ``[metric.csv] timezone``: naive times are read in that zone, times with an offset are converted
+  to it; all times are then shown as wall-clock times of that zone. Without it, times with an
+  offset are converted to UTC, and a file that mixes times with and without an offset is refused.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import difflib
+import io
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from .config import MetricSpec, Period, PortfolioSettings
+from .errors import Problem, ProjectError
+
+STAGE_BASELINE, STAGE_AFTER, STAGE_OTHER = 0, 1, 2
+STAGE_NAMES = {STAGE_BASELINE: "Baseline", STAGE_AFTER: "After", STAGE_OTHER: "Between periods"}
+MAX_LISTED_ROWS = 5
+_OFFSET_RE = re.compile(r"(?:Z|[+-]\d{2}:?\d{2})$")
+
+
+@dataclass
+class MetricData:
+    """A metric's data as plotted.
+
+    kind:       the effective data type: continuous, subgroups, defectives, defects, categories.
+    points:     one row per plotted point with columns
+                  period (datetime64, naive wall-clock time), label (str, ISO date or date-time),
+                  value (the plotted figure: value, subgroup mean, proportion, rate or count),
+                  count, size (defectives / defects), n (rows behind the point),
+                  stage (0 baseline, 1 after, 2 between), segment (int).
+                For categories: one row per input row with columns category, weight, stage.
+    subgroups:  for subgroups: the values of each subgroup, in point order.
+    raw_rows:   data rows read from the file.
+    """
+
+    spec: MetricSpec
+    kind: str
+    points: pd.DataFrame
+    subgroups: list[np.ndarray] | None = None
+    raw_rows: int = 0
+    problems: list[Problem] = field(default_factory=list)  # warnings only
+
+    @property
+    def stage(self) -> np.ndarray:
+        return self.points["stage"].to_numpy(dtype=int)
+
+
+class _Rows:
+    """Collects problems for one CSV file."""
+
+    def __init__(self, spec: MetricSpec):
+        self.spec = spec
+        self.problems: list[Problem] = []
+
+    def add(self, line: int | None, where: str, message: str, severity: str = "error"):
+        self.problems.append(Problem(self.spec.file_rel, line, where, message, severity))
+
+    def rows(self, lines: list[int], where: str, message: str, severity: str = "error"):
+        """One problem for a set of rows: the first line is the location, the rest are listed."""
+        if not lines:
+            return
+        shown = ", ".join(str(x) for x in lines[:MAX_LISTED_ROWS])
+        more = f" and {len(lines) - MAX_LISTED_ROWS} more" if len(lines) > MAX_LISTED_ROWS else ""
+        lines_txt = f" (lines {shown}{more})" if len(lines) > 1 else ""
+        self.add(lines[0], where, message + lines_txt, severity)
+
+    @property
+    def failed(self) -> bool:
+        return any(p.severity == "error" for p in self.problems)
+
+    def raise_if_failed(self):
+        if self.failed:
+            raise ProjectError(self.problems)
+
+
+def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
+    if b"\x00" in raw[:4096]:
+        out.add(None, "", "the file looks binary, not CSV text (it contains NUL bytes); export "
+                "the data as CSV")
+        return None
+    codec = "utf-8-sig" if enc.lower().replace("_", "-") in ("utf-8", "utf8") else enc
+    try:
+        return raw.decode(codec)
+    except UnicodeDecodeError as e:
+        line = raw[: e.start].count(b"\n") + 1
+        out.add(line, "", f"byte 0x{raw[e.start]:02x} is not valid {enc} text; save the file as "
+                "UTF-8, or set [metric.csv] encoding = \"latin-1\" if it comes from an older "
+                "system")
+        return None
+
+
+def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd.DataFrame | None:
+    path = spec.file
+    try:
+        size = path.stat().st_size
+    except OSError as e:
+        out.add(None, "", f"cannot read the file: {e.strerror}")
+        return None
+    if size > settings.max_file_mb * 1024 * 1024:
+        out.add(None, "", f"the file is {size / 1024 / 1024:.0f} MB, over the limit of "
+                f"{settings.max_file_mb:g} MB; roll the data up before committing it, or raise "
+                "max_file_mb in portfolio.toml")
+        return None
+    with open(path, "rb") as fh:  # read-only: input files are never opened for writing
+        raw = fh.read()
+    text = _decode(raw, spec.csv.encoding, out)
+    if text is None:
+        return None
+    if not text.strip():
+        out.add(None, "", "the file is empty; it needs a header line and data rows")
+        return None
+    delim = spec.csv.delimiter
+    first = text.splitlines()[0]
+    header = next(csv.reader([first], delimiter=delim))
+    header = [h.strip() for h in header]
+    dup = sorted({h for h in header if header.count(h) > 1})
+    if dup:
+        out.add(1, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} appear more "
+                "than once; give each column its own name")
+        return None
+    try:
+        df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
+                         skipinitialspace=True, engine="c")
+    except pd.errors.ParserError as e:
+        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(e))
+        if m:
+            out.add(int(m.group(2)), "", f"this row has {m.group(3)} fields but the header has "
+                    f"{m.group(1)}; check for a stray delimiter or a missing quote")
+        else:
+            out.add(None, "", f"the file cannot be read as CSV: {e}")
+        return None
+    df.columns = [str(c).strip() for c in df.columns]
+    if len(df) == 0:
+        out.add(1, "", "the file has a header but no data rows")
+        return None
+    df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
+    return df
+
+
+def _require_column(df: pd.DataFrame, key: str, col: str | None, spec: MetricSpec,
+                    out: _Rows) -> bool:
+    if col is None:
+        return True
+    if col in df.columns:
+        return True
+    cols = list(df.columns)
+    guess = difflib.get_close_matches(col, cols, n=1, cutoff=0.6)
+    if guess:
+        hint = f"; did you mean '{guess[0]}'?"
+    elif len(cols) == 1 and any(c in cols[0] for c in ";,\t|"):
+        sep = next(c for c in ";\t|," if c in cols[0])
+        hint = (f"; the header was read as one column {cols[0]!r}: the file seems separated by "
+                f"{sep!r}; set [metric.csv] delimiter = {sep!r}")
+    else:
+        hint = f"; the file has columns: {', '.join(cols)}"
+    out.add(1, f"column '{col}'", f"not found (metric {spec.id!r}, key '{key}'){hint}")
+    return False
+
+
+def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, integer=False,
+             minimum: float | None = None, what="a number") -> pd.Series:
+    s = df[col].str.strip()
+    if spec.csv.decimal == ",":
+        s = s.str.replace(".", "", regex=False).str.replace(",", ".", regex=False)
+    num = pd.to_numeric(s, errors="coerce")
+    blank = s == ""
+    bad = num.isna() & ~blank
+    out.rows(list(df.index[bad]), f"column '{col}'",
+             f"{df[col][bad].iloc[0]!r} is not {what}" if bad.any() else "")
+    nonfinite = np.isinf(num.to_numpy(dtype=float, na_value=np.nan))
+    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite; write a "
+             "finite number or leave the row out")
+    num = num.where(~np.isinf(num.astype(float)))
+    out.rows(list(df.index[blank]), f"column '{col}'", "blank cell; the row is left out",
+             severity="warning")
+    if integer:
+        frac = num.notna() & (num != np.floor(num))
+        out.rows(list(df.index[frac]), f"column '{col}'", "expected a whole number")
+    if minimum is not None:
+        low = num.notna() & (num < minimum)
+        out.rows(list(df.index[low]), f"column '{col}'",
+                 f"{num[low].iloc[0]:g} is below {minimum:g}; counts cannot be negative"
+                 if low.any() else "")
+    return num.astype(float)
+
+
+def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
+    s = df[col].str.strip()
+    blank = s == ""
+    out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
+             severity="warning")
+    tz = spec.csv.timezone
+    if spec.csv.date_format:
+        t = pd.to_datetime(s.where(~blank), format=spec.csv.date_format, errors="coerce")
+        if tz:
+            t = t.dt.tz_localize(tz, ambiguous="NaT", nonexistent="NaT").dt.tz_localize(None)
+        expected = f"a date in the format {spec.csv.date_format!r}"
+    else:
+        aware = s.str.contains(_OFFSET_RE) & ~blank
+        if aware.any() and (~aware & ~blank).any() and not tz:
+            first_naive = list(df.index[~aware & ~blank])
+            first_aware = list(df.index[aware])
+            out.add(min(first_naive[0], first_aware[0]), f"column '{col}'",
+                    "the file mixes times with and without a UTC offset; write every time the "
+                    "same way, or set [metric.csv] timezone to say which zone the plain times "
+                    "are in")
+            return pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
+        t = pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
+        zone = tz or "UTC"
+        if aware.any():
+            ta = pd.to_datetime(s[aware], format="ISO8601", utc=True, errors="coerce")
+            t[aware] = ta.dt.tz_convert(zone).dt.tz_localize(None)
+        naive = ~aware & ~blank
+        if naive.any():
+            tn = pd.to_datetime(s[naive], format="ISO8601", errors="coerce")
+            t[naive] = tn
+        expected = "an ISO 8601 date like 2026-03-31 (or set [metric.csv] date_format)"
+    bad = t.isna() & ~blank
+    out.rows(list(df.index[bad]), f"column '{col}'",
+             f"{df[col][bad].iloc[0]!r} is not {expected}" if bad.any() else "")
+    return t.astype("datetime64[ns]")
+
+
+def assign_stage(times: pd.Series, baseline: Period | None, after: Period | None) -> np.ndarray:
+    """Stage of each time: 0 baseline, 1 after, 2 between / outside both periods.
+
+    Without a baseline period every point is baseline. Dates are inclusive at both ends.
+    """
+    d = times.dt.normalize()
+    if baseline is None:
+        return np.zeros(len(times), dtype=int)
+    stage = np.full(len(times), STAGE_OTHER, dtype=int)
+
+    def within(p: Period) -> np.ndarray:
+        m = (d >= pd.Timestamp(p.start)).to_numpy().copy()
+        if p.end is not None:
+            m &= (d <= pd.Timestamp(p.end)).to_numpy()
+        return m
+
+    stage[within(baseline)] = STAGE_BASELINE
+    if after is not None:
+        stage[within(after)] = STAGE_AFTER
+    return stage
+
+
+_PERIOD_FREQ = {"day": "D", "week": "W-MON", "month": "MS", "quarter": "QS"}
+
+
+def period_start(t: pd.Series, period: str) -> pd.Series:
+    d = t.dt.normalize()
+    if period == "day":
+        return d
+    if period == "week":  # ISO weeks start on Monday
+        return d - pd.to_timedelta(d.dt.weekday, unit="D")
+    if period == "month":
+        return d.dt.to_period("M").dt.start_time
+    return d.dt.to_period("Q").dt.start_time
+
+
+def period_label(start: pd.Series, period: str) -> pd.Series:
+    if period == "week":
+        iso = start.dt.isocalendar()
+        return iso["year"].astype(str) + "-W" + iso["week"].astype(str).str.zfill(2)
+    if period == "month":
+        return start.dt.strftime("%Y-%m")
+    if period == "quarter":
+        return start.dt.year.astype(str) + "-Q" + start.dt.quarter.astype(str)
+    return start.dt.strftime("%Y-%m-%d")
+
+
+def _segments_for_periods(starts: pd.Series, period: str) -> np.ndarray:
+    """A new segment starts wherever one or more whole periods are missing."""
+    if len(starts) == 0:
+        return np.zeros(0, dtype=int)
+    full = pd.date_range(starts.iloc[0], starts.iloc[-1], freq=_PERIOD_FREQ[period])
+    pos = full.get_indexer(pd.DatetimeIndex(starts))
+    gaps = np.diff(pos, prepend=pos[0]) > 1
+    return np.cumsum(gaps)
+
+
+def _labels(t: pd.Series) -> pd.Series:
+    has_time = (t.dt.normalize() != t).any()
+    return t.dt.strftime("%Y-%m-%dT%H:%M:%S" if has_time else "%Y-%m-%d")
+
+
+def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> MetricData:
+    """Read, validate and shape one metric's data. Raises ProjectError with every problem."""
+    settings = settings or PortfolioSettings()
+    out = _Rows(spec)
+    df = _read_table(spec, settings, out)
+    if df is None:
+        out.raise_if_failed()
+    assert df is not None
+    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
+            "count": spec.count, "size": spec.size, "category": spec.category}
+    ok = all([_require_column(df, k, c, spec, out) for k, c in cols.items()])
+    if not ok:
+        out.raise_if_failed()
+    raw_rows = len(df)
+    kind = spec.type
+    flags = False
+    if kind == "continuous" and spec.rollup and spec.rollup.statistic == "proportion":
+        kind, flags = "defectives", True
+    elif kind == "defectives" and spec.value is not None and spec.rollup is not None:
+        flags = True
+
+    frame = pd.DataFrame(index=df.index)
+    if spec.time is not None:
+        frame["t"] = _times(df, spec.time, spec, out)
+    if kind == "categories":
+        cat = df[spec.category].str.strip()
+        blank = cat == ""
+        out.rows(list(df.index[blank]), f"column '{spec.category}'",
+                 "blank category; counted as '(blank)'", severity="warning")
+        frame["category"] = cat.where(~blank, "(blank)")
+        frame["weight"] = (_numbers(df, spec.count, spec, out, minimum=0, what="a count")
+                           if spec.count else 1.0)
+    elif flags:
+        v = _numbers(df, spec.value, spec, out, what="0 or 1")
+        badflag = v.notna() & ~v.isin([0.0, 1.0])
+        out.rows(list(df.index[badflag]), f"column '{spec.value}'",
+                 "expected 0 (fine) or 1 (defective)")
+        frame["value"] = v
+    else:
+        if spec.value is not None:
+            frame["value"] = _numbers(df, spec.value, spec, out)
+        if spec.subgroup is not None:
+            frame["subgroup"] = df[spec.subgroup].str.strip()
+        if spec.count is not None:
+            frame["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
+                                      what="a count")
+        if spec.size is not None:
+            frame["size"] = _numbers(df, spec.size, spec, out, minimum=0,
+                                     what="a number of items or an area")
+    out.raise_if_failed()
+
+    frame = frame.dropna(how="any")
+    if kind == "defectives" and not flags:
+        over = frame["count"] > frame["size"]
+        out.rows(list(frame.index[over]), f"column '{spec.count}'",
+                 f"more defectives than items checked ('{spec.size}')")
+        zero = frame["size"] <= 0
+        out.rows(list(frame.index[zero]), f"column '{spec.size}'",
+                 "no items checked (size 0); the row is left out", severity="warning")
+        frame = frame[~zero]
+    if kind == "defects" and "size" in frame:
+        zero = frame["size"] <= 0
+        out.rows(list(frame.index[zero]), f"column '{spec.size}'",
+                 "area of opportunity is zero; the row is left out", severity="warning")
+        frame = frame[~zero]
+    out.raise_if_failed()
+    if len(frame) == 0:
+        out.add(None, "", "no usable data rows are left after leaving out blank cells")
+        out.raise_if_failed()
+
+    if "t" in frame:
+        order_ok = frame["t"].is_monotonic_increasing
+        if not order_ok:
+            first_bad = int(np.argmax(np.diff(frame["t"].to_numpy()) < np.timedelta64(0))) + 1
+            out.add(int(frame.index[first_bad]), f"column '{spec.time}'",
+                    "rows are not in time order; they were sorted by time", severity="warning")
+            frame = frame.sort_values("t", kind="stable")
+
+    if kind == "categories":
+        stage = (assign_stage(frame["t"], spec.baseline, spec.after) if "t" in frame
+                 else np.zeros(len(frame), dtype=int))
+        pts = pd.DataFrame({"category": frame["category"].to_numpy(),
+                            "weight": frame["weight"].to_numpy(dtype=float), "stage": stage})
+        if "t" in frame:
+            pts["period"] = frame["t"].to_numpy()
+        return MetricData(spec, kind, pts, raw_rows=raw_rows,
+                          problems=[p for p in out.problems if p.severity != "error"])
+
+    subgroups = None
+    if kind == "subgroups":
+        pts, subgroups = _subgroups(frame, spec, out)
+    elif spec.rollup is not None:
+        pts = _rollup(frame, spec, kind, flags)
+    else:
+        if kind == "continuous":
+            dups = frame["t"].duplicated(keep=False)
+            out.rows(list(frame.index[dups]), f"column '{spec.time}'",
+                     "several rows share the same time; each is plotted as its own point",
+                     severity="warning")
+        pts = pd.DataFrame({"period": frame["t"].to_numpy()})
+        if kind == "continuous":
+            pts["value"] = frame["value"].to_numpy()
+        else:
+            pts["count"] = frame["count"].to_numpy()
+            pts["size"] = frame["size"].to_numpy() if "size" in frame else 1.0
+        pts["n"] = 1
+        pts["segment"] = 0
+    if kind == "defectives":
+        pts["value"] = pts["count"] / pts["size"]
+    elif kind == "defects":
+        pts["value"] = pts["count"] / pts["size"]
+    pts["label"] = (_labels(pts["period"]) if spec.rollup is None
+                    else period_label(pts["period"], spec.rollup.period))
+    pts["stage"] = assign_stage(pts["period"], spec.baseline, spec.after)
+    pts = pts.reset_index(drop=True)
+    out.raise_if_failed()
+    return MetricData(spec, kind, pts, subgroups=subgroups, raw_rows=raw_rows,
+                      problems=[p for p in out.problems if p.severity != "error"])
+
+
+def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> pd.DataFrame:
+    assert spec.rollup is not None
+    per = spec.rollup.period
+    key = period_start(frame["t"], per)
+    g = frame.groupby(key.to_numpy(), sort=True)
+    if flags:
+        pts = pd.DataFrame({"count": g["value"].sum(), "size": g["value"].count()})
+    elif kind in ("defectives", "defects"):
+        pts = pd.DataFrame({"count": g["count"].sum()})
+        pts["size"] = g["size"].sum() if "size" in frame else 1.0
+    else:
+        stat = spec.rollup.statistic
+        pts = pd.DataFrame({"value": getattr(g["value"], stat)() if stat != "count"
+                            else g["value"].count()})
+    pts["n"] = g.size()
+    pts.index.name = "period"
+    pts = pts.reset_index()
+    pts["segment"] = _segments_for_periods(pts["period"], per)
+    return pts
+
+
+def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
+    if spec.subgroup is not None:
+        keys = frame["subgroup"]
+        order = pd.unique(keys)
+        groups = frame.groupby(keys, sort=False)
+        values = [groups.get_group(k)["value"].to_numpy(dtype=float) for k in order]
+        times = [groups.get_group(k)["t"].min() for k in order]
+        labels = list(order)
+    else:
+        k = spec.subgroup_size or 1
+        n = len(frame)
+        if n % k:
+            out.add(None, "subgroup_size", f"the last subgroup has {n % k} of {k} rows; it is "
+                    "used as a smaller subgroup", severity="warning")
+        values = [frame["value"].to_numpy(dtype=float)[i:i + k] for i in range(0, n, k)]
+        times = [frame["t"].iloc[i] for i in range(0, n, k)]
+        labels = [str(i // k + 1) for i in range(0, n, k)]
+    pts = pd.DataFrame({
+        "period": pd.to_datetime(pd.Series(times)).to_numpy(),
+        "value": [float(np.mean(v)) for v in values],
+        "n": [len(v) for v in values],
+        "subgroup": [str(s) for s in labels],
+    })
+    pts["segment"] = 0
+    return pts, values
+
+
+def describe_period(p: Period | None) -> str:
+    return p.label() if p else "all data"
+
+
+def today() -> dt.date:  # pragma: no cover - tiny seam for tests
+    return dt.date.today()
