@@ -11,7 +11,7 @@ Definitions used here:
 - ``vital_few``: rank the real categories (the catch-all excluded) by total, largest first,
   ties by name; the vital few are the smallest leading set of them whose share of the grand
   total reaches at least ``threshold`` percent. If even all of them do not reach it (because
-  the catch-all is large), all of them are listed. The 80% threshold is Juran's heuristic
+  the catch-all is large), all of them with a non-zero total are listed. The 80% threshold is Juran's heuristic
   (from memory), not a law.
 - ``max_bars`` limits the number of bars including the catch-all: the largest
   ``max_bars − 1`` categories are kept and the rest are added into the catch-all.
@@ -56,7 +56,7 @@ def _vital_few(totals: dict[str, float], other_label: str, threshold: float) -> 
     grand = sum(totals.values())
     if grand <= 0:
         return ()
-    ranked = _ranked(totals, exclude=other_label)
+    ranked = [c for c in _ranked(totals, exclude=other_label) if totals[c] > 0]
     running = 0.0
     chosen: list[str] = []
     for c in ranked:
