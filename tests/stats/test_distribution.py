@@ -194,6 +194,14 @@ def test_degenerate_zero_range_gives_one_bin():
         assert h.edges == (6.5, 7.5)
 
 
+def test_fd_falls_back_when_it_would_need_absurd_bin_count():
+    x = [0, 1, 1 + 1e-9, 1 + 2e-9, 1 + 3e-9, 1 + 4e-9, 1 + 5e-9, 1 + 6e-9, 1000.0]
+    h = histogram(x, "fd")
+    assert h.rule == "sturges" and "Freedman–Diaconis would need" in h.rule_label
+    # reference: numpy.histogram with the Sturges rule
+    assert h.counts == tuple(np.histogram(x, bins="sturges")[0])
+
+
 def test_histogram_errors():
     with pytest.raises(StatsError):
         histogram([], "fd")

@@ -111,6 +111,19 @@ def box_summary(values: Sequence[float] | np.ndarray, method: str = "linear") ->
     )
 
 
+MAX_NAMED_BINS = 500  # our guard: beyond this a named rule falls back to Sturges
+
+
+def _fd_bins_needed(x: np.ndarray) -> int:
+    """Number of bins the Freedman–Diaconis width would give, without allocating them."""
+    q1, q3 = np.percentile(x, [25, 75])
+    width = 2.0 * (q3 - q1) * len(x) ** (-1 / 3)
+    if not width > 0:
+        return 1
+    k = (float(x.max()) - float(x.min())) / width
+    return int(min(math.ceil(k), 10**15))
+
+
 def histogram(
     values: Sequence[float] | np.ndarray,
     rule: str | Sequence[float] = "fd",
@@ -124,7 +137,9 @@ def histogram(
     which includes its right edge.
 
     Degenerate data with zero range (all values equal) get one bin of width 1 centred on the
-    value, whatever the rule (numpy's convention).
+    value, whatever the rule (numpy's convention). When "fd" (or "auto") would need more than
+    500 bins — most values packed into a tiny interval with a few far away — Sturges is used
+    instead and ``rule`` / ``rule_label`` say so.
     """
     x, _ = _finite(values, "a histogram")
     n = len(x)
@@ -136,12 +151,20 @@ def histogram(
             raise StatsError(
                 f"unknown histogram rule {rule!r}; choose 'fd', 'sturges', 'scott' or give edges"
             )
+        rule_key = rule
+        label = HISTOGRAM_RULES[rule]
         if x.min() == x.max():
             v = float(x[0])
             edges = np.array([v - 0.5, v + 0.5])
         else:
-            edges = np.histogram_bin_edges(x, bins=rule)
-        rule_key = rule
+            too_many = _fd_bins_needed(x) if rule in ("fd", "auto") else 0
+            if too_many > MAX_NAMED_BINS:
+                rule_key = "sturges"
+                label = (
+                    f"Sturges ({HISTOGRAM_RULES[rule]} would need {too_many:,} bins because "
+                    "most values are packed into a narrow interval)"
+                )
+            edges = np.histogram_bin_edges(x, bins=rule_key)
         counts, _ = np.histogram(x, bins=edges)
         width: float | None = float(edges[1] - edges[0])
     else:
@@ -151,6 +174,7 @@ def histogram(
         if not np.all(np.isfinite(edges)) or np.any(np.diff(edges) <= 0):
             raise StatsError("explicit histogram edges must be finite and strictly increasing")
         rule_key = "edges"
+        label = HISTOGRAM_RULES[rule_key]
         below = int(np.sum(x < edges[0]))
         above = int(np.sum(x > edges[-1]))
         counts, _ = np.histogram(x, bins=edges)
@@ -158,7 +182,7 @@ def histogram(
         width = float(d[0]) if np.allclose(d, d[0], rtol=1e-9, atol=0.0) else None
     return Histogram(
         rule=rule_key,
-        rule_label=HISTOGRAM_RULES[rule_key],
+        rule_label=label,
         edges=tuple(float(e) for e in edges),
         counts=tuple(int(c) for c in counts),
         bin_width=width,
