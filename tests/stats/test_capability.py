@@ -62,8 +62,32 @@ def test_nist_centred_process_table(cp, ppm):
 def test_methods_own_xbar_example():
     # METHODS.md §2 own worked numbers [computed there]: USL 10.8, LSL 9.4, sigma_R 0.24284
     # -> Cp 0.9609, Cpk 0.9265; overall s 0.22312 -> Pp 1.0458, Ppk 1.0084
-    data = [10.2, 9.8, 10.1, 10.0, 10.4, 10.1, 9.9, 10.2, 9.7, 10.0, 10.3, 9.9,
-            10.1, 10.5, 10.2, 10.0, 9.9, 9.6, 10.0, 10.1, 10.3, 10.2, 10.4, 9.9]
+    data = [
+        10.2,
+        9.8,
+        10.1,
+        10.0,
+        10.4,
+        10.1,
+        9.9,
+        10.2,
+        9.7,
+        10.0,
+        10.3,
+        9.9,
+        10.1,
+        10.5,
+        10.2,
+        10.0,
+        9.9,
+        9.6,
+        10.0,
+        10.1,
+        10.3,
+        10.2,
+        10.4,
+        9.9,
+    ]
     sigma_r = 0.5 / 2.059  # R-bar / d2(4), printed constant
     c = capability(data, sigma_within=sigma_r, lsl=9.4, usl=10.8)
     assert c.sigma_overall == pytest.approx(0.22312, abs=1e-5)

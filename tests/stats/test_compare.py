@@ -48,8 +48,15 @@ def test_mann_whitney_when_too_few_to_check_normality():
 def test_two_proportion_z_test():
     d_b, n_b = [41, 39, 43], [1000, 1000, 1000]
     d_a, n_a = [19, 20, 18], [1000, 1000, 1000]
-    c = compare(d_b, d_a, "defectives", "lower", baseline_sizes=n_b, after_sizes=n_a,
-                metric="weekly error rate")
+    c = compare(
+        d_b,
+        d_a,
+        "defectives",
+        "lower",
+        baseline_sizes=n_b,
+        after_sizes=n_a,
+        metric="weekly error rate",
+    )
     # reference: statsmodels.stats.proportion.proportions_ztest (pooled); our sign is after-baseline
     z, p = proportions_ztest([123, 57], [3000, 3000])
     assert c.statistic == pytest.approx(-z)
@@ -82,15 +89,22 @@ def test_poisson_default_exposure_one():
 
 
 def test_target_direction():
-    c = compare([9, 12, 8, 13, 10, 11, 9, 12, 10, 11], [10, 10.5, 9.5, 10, 10.2, 9.8, 10, 10.1],
-                "continuous", "target", target=10.5)
+    c = compare(
+        [9, 12, 8, 13, 10, 11, 9, 12, 10, 11],
+        [10, 10.5, 9.5, 10, 10.2, 9.8, 10, 10.1],
+        "continuous",
+        "target",
+        target=10.5,
+    )
     assert c.improved == (abs(c.after - 10.5) < abs(c.baseline - 10.5))
     none = compare([1, 2, 3], [2, 3, 4], "continuous", "target")
     assert none.improved is None
 
 
 def test_no_test_when_no_variation():
-    c = compare([0, 0], [0, 0], "defectives", "lower", baseline_sizes=[10, 10], after_sizes=[10, 10])
+    c = compare(
+        [0, 0], [0, 0], "defectives", "lower", baseline_sizes=[10, 10], after_sizes=[10, 10]
+    )
     assert c.p_value is None and c.statistic is None
     assert "did not change" in c.sentence
     assert c.percent_change is None
@@ -106,8 +120,14 @@ def test_format_p_value():
 
 
 def test_sentence_for_not_significant_rise():
-    c = compare([10, 11, 9, 10, 12, 8, 10, 11, 9, 10], [10, 12, 9, 11, 12, 9, 10, 11, 10, 11],
-                "continuous", "lower", metric="cycle time", unit="min")
+    c = compare(
+        [10, 11, 9, 10, 12, 8, 10, 11, 9, 10],
+        [10, 12, 9, 11, 12, 9, 10, 11, 10, 11],
+        "continuous",
+        "lower",
+        metric="cycle time",
+        unit="min",
+    )
     assert c.sentence.startswith("The cycle time rose from 10 min to 10.5 min (+5%)")
     assert "could well be due to chance alone" in c.sentence
 

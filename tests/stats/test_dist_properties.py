@@ -62,11 +62,11 @@ def test_pareto_cumulative_ends_at_100_and_non_decreasing(cs, max_bars):
     p = pareto(cs, max_bars=max_bars)
     cum = p.cumulative_percent
     assert cum[-1] == 100.0
-    assert all(b >= a for a, b in zip(cum, cum[1:]))
+    assert all(b >= a for a, b in zip(cum, cum[1:], strict=False))
     assert sum(p.counts) == len(cs)
     named = [c for c in p.categories if c != "Other"]
-    counts = dict(zip(p.categories, p.counts))
-    assert all(counts[a] >= counts[b] for a, b in zip(named, named[1:]))
+    counts = dict(zip(p.categories, p.counts, strict=True))
+    assert all(counts[a] >= counts[b] for a, b in zip(named, named[1:], strict=False))
     # vital few is the smallest leading set reaching 80 %
     full = pareto(cs)
     share = np.cumsum([full.counts[full.categories.index(c)] for c in full.vital_few])

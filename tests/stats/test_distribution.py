@@ -132,8 +132,17 @@ def test_box_single_value():
 
 
 @pytest.mark.parametrize(
-    "rule,bins", [("sturges", 8), ("scott", 7), ("fd", 8), ("doane", 9), ("rice", 10),
-                  ("sqrt", 10), ("stone", 8), ("auto", 8)]
+    "rule,bins",
+    [
+        ("sturges", 8),
+        ("scott", 7),
+        ("fd", 8),
+        ("doane", 9),
+        ("rice", 10),
+        ("sqrt", 10),
+        ("stone", 8),
+        ("auto", 8),
+    ],
 )
 def test_histogram_bin_counts_methods_values(rule, bins):
     # METHODS.md §7 check values (seed 12345 N(50,5) 2 dp), reproduced with numpy
@@ -262,7 +271,7 @@ def test_anderson_darling_decision_matches_scipy_critical_value():
     # reference: scipy.stats.anderson critical values (the A*² table divided by the
     # small-sample factor): A² < 5% critical value <=> p >= 0.05 except at the boundary
     rng = np.random.default_rng(7)
-    for k in range(30):
+    for _k in range(30):
         x = rng.standard_t(3, size=40)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")

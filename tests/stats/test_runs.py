@@ -21,6 +21,7 @@ from steadyline.stats.runs import (
 
 # /work/shared/METHODS.md §4a table [computed there with numpy/scipy]: n -> (longest-run limit,
 # minimum crossings), Anhøj & Olesen 2014 definitions.
+# fmt: off
 ANHOJ_TABLE = {
     10: (6, 2), 11: (6, 2), 12: (7, 3), 13: (7, 3), 14: (7, 4), 15: (7, 4), 16: (7, 4),
     17: (7, 5), 18: (7, 5), 19: (7, 6), 20: (7, 6), 21: (7, 6), 22: (7, 7), 23: (8, 7),
@@ -45,6 +46,7 @@ PERLA_TABLE = {
     54: (21, 35), 55: (21, 36), 56: (22, 36), 57: (22, 37), 58: (23, 37), 59: (23, 38),
     60: (24, 38),
 }
+# fmt: on
 
 
 def nile() -> np.ndarray:

@@ -251,7 +251,9 @@ def _sentence(
     if p is None:
         tail = f"no test was possible because the data do not vary ({test})."
     elif p < ALPHA:
-        tail = f"a change this large would be unlikely by chance alone ({test}, {format_p_value(p)})."
+        tail = (
+            f"a change this large would be unlikely by chance alone ({test}, {format_p_value(p)})."
+        )
     else:
         tail = f"a change of this size could well be due to chance alone ({test}, {format_p_value(p)})."
     return f"{head}; {tail}"

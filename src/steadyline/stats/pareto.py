@@ -43,7 +43,7 @@ def _totals(categories: Iterable[object], weights: Sequence[float] | None) -> di
         if np.any(w < 0):
             raise StatsError("Pareto weights must not be negative")
     totals: dict[str, float] = {}
-    for c, v in zip(cats, w.tolist()):
+    for c, v in zip(cats, w.tolist(), strict=True):
         totals[c] = totals.get(c, 0.0) + float(v)
     return totals
 

@@ -145,7 +145,7 @@ def _as_array(values: Sequence[float] | np.ndarray) -> np.ndarray:
 def _runs_of_sides(useful_idx: np.ndarray, sides: np.ndarray) -> list[tuple[int, list[int]]]:
     """Group useful points into runs on one side; returns (side, indices) per run."""
     runs: list[tuple[int, list[int]]] = []
-    for idx, s in zip(useful_idx.tolist(), sides.tolist()):
+    for idx, s in zip(useful_idx.tolist(), sides.tolist(), strict=True):
         if runs and runs[-1][0] == s:
             runs[-1][1].append(idx)
         else:
