@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 from scipy import integrate
 from scipy.special import gammaln, ndtr
@@ -48,7 +48,7 @@ def _check_n(n: int) -> int:
     return n
 
 
-@lru_cache(maxsize=None)
+@cache
 def _d2(n: int) -> float:
     def integrand(x: float) -> float:
         return 1.0 - ndtr(x) ** n - ndtr(-x) ** n
@@ -57,7 +57,7 @@ def _d2(n: int) -> float:
     return float(value)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _d3(n: int) -> float:
     def integrand(y: float, x: float) -> float:
         return 1.0 - ndtr(y) ** n - ndtr(-x) ** n + (ndtr(y) - ndtr(x)) ** n
@@ -69,7 +69,7 @@ def _d3(n: int) -> float:
     return float(math.sqrt(2.0 * half - mean * mean))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _c4(n: int) -> float:
     return float(math.sqrt(2.0 / (n - 1)) * math.exp(gammaln(n / 2.0) - gammaln((n - 1) / 2.0)))
 
@@ -143,7 +143,7 @@ class Factors:
     e2: float
 
 
-@lru_cache(maxsize=None)
+@cache
 def _factors(n: int) -> Factors:
     return Factors(
         n=n,
