@@ -41,9 +41,8 @@ HISTOGRAM_RULES: dict[str, str] = {
     "edges": "given bin edges",
 }
 
-AD_MIN_POINTS = (
-    8  # the D'Agostino & Stephens small-sample adjustment is given for n >= 8 (from memory)
-)
+# The D'Agostino & Stephens small-sample adjustment is given for n >= 8 (from memory).
+AD_MIN_POINTS = 8
 
 
 def _finite(values: Sequence[float] | np.ndarray, what: str) -> tuple[np.ndarray, np.ndarray]:
