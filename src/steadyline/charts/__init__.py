@@ -1,0 +1,24 @@
+"""Chart specs: statistics results in, Vega-Lite specs out (no files, no HTML).
+
+Each builder returns a :class:`ChartSpec` whose ``spec`` carries
+``usermeta.steadyline.display`` naming the display: "run-chart", "control-chart",
+"histogram", "box-plot", "column-chart", "pareto", "pareto-by-phase".
+"""
+
+from .base import ChartSpec, SeriesContext, clear_template_cache
+from .categorical import column_chart, pareto_chart, phase_pareto_chart
+from .distribution import box_chart, histogram_chart
+from .series import control_chart, run_chart
+
+__all__ = [
+    "ChartSpec",
+    "SeriesContext",
+    "box_chart",
+    "clear_template_cache",
+    "column_chart",
+    "control_chart",
+    "histogram_chart",
+    "pareto_chart",
+    "phase_pareto_chart",
+    "run_chart",
+]

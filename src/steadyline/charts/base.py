@@ -1,0 +1,386 @@
+"""Input and output types of the chart builders, and the shared machinery behind them.
+
+Every builder turns statistics results into a :class:`ChartSpec`: a Vega-Lite spec with its data
+inline as named datasets, the same data as table rows, and a one-line summary.
+
+Speed: composing a spec with Altair costs tens of milliseconds, so each display's spec *template*
+(no data, placeholders for the per-metric texts) is composed once per process and cached by
+display and variant flags. A chart is then a copy of the template with the placeholders filled in
+and the data rows attached under ``datasets``.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable, Hashable, Sequence
+from dataclasses import dataclass
+from datetime import UTC, date, datetime
+
+from . import style
+
+
+@dataclass(frozen=True)
+class SeriesContext:
+    """How a time-based series is laid out.
+
+    x:         per point an ISO date 'YYYY-MM-DD' (or ISO datetime) when x_is_time, else a label.
+    x_is_time: whether x holds dates.
+    stage:     per point the phase name ("Baseline", "After"), "" if none.
+    segment:   per point a segment number; lines never join across segments (gaps in periods).
+    unit:      e.g. "hours", "" if none.
+    metric_name: the metric's display name.
+    events:    (ISO date, label) pairs, drawn as labelled vertical rules on time-based charts.
+    """
+
+    x: tuple[str, ...]
+    x_is_time: bool
+    stage: tuple[str, ...]
+    segment: tuple[int, ...]
+    unit: str
+    metric_name: str
+    events: tuple[tuple[str, str], ...] = ()
+
+    def __post_init__(self) -> None:
+        n = len(self.x)
+        if len(self.stage) != n or len(self.segment) != n:
+            raise ValueError(
+                f"SeriesContext needs one stage and one segment per point: got {n} x values, "
+                f"{len(self.stage)} stages and {len(self.segment)} segments"
+            )
+
+
+@dataclass(frozen=True)
+class ChartSpec:
+    """One chart, ready to embed.
+
+    spec:    Vega-Lite JSON-able dict, data inline, deterministic, no NaN.
+    table:   the plotted data as rows (a CSV download / data table).
+    columns: column order for the table.
+    summary: one line of plain text saying what the chart shows.
+    """
+
+    spec: dict
+    table: list[dict]
+    columns: tuple[str, ...]
+    summary: str
+
+
+# ------------------------------------------------------------------------------------------------
+# Template cache and placeholder filling
+# ------------------------------------------------------------------------------------------------
+
+_PLACEHOLDER = "\u00a7\u00a7"  # "§§name" marks a per-metric value in a cached template
+_TEMPLATES: dict[tuple[Hashable, ...], dict] = {}
+
+
+def slot(name: str) -> str:
+    """A placeholder string for a per-metric value in a template."""
+    return _PLACEHOLDER + name
+
+
+def list_slot(name: str) -> list[str]:
+    """A placeholder for a per-metric list (e.g. a sort order or axis tick values)."""
+    return [_PLACEHOLDER + name]
+
+
+def cached_template(key: tuple[Hashable, ...], build: Callable[[], dict]) -> dict:
+    """The template for ``key``, composed by ``build`` on first use in this process."""
+    tpl = _TEMPLATES.get(key)
+    if tpl is None:
+        tpl = build()
+        _TEMPLATES[key] = tpl
+    return tpl
+
+
+def clear_template_cache() -> None:
+    """Forget every composed template (tests compare cached and fresh compositions)."""
+    _TEMPLATES.clear()
+
+
+def fill(node, values: dict):
+    """A deep copy of a template with every placeholder replaced by ``values[name]``."""
+    if isinstance(node, dict):
+        return {k: fill(v, values) for k, v in node.items()}
+    if isinstance(node, list):
+        if len(node) == 1 and isinstance(node[0], str) and node[0].startswith(_PLACEHOLDER):
+            name = node[0][len(_PLACEHOLDER) :]
+            if name in values and isinstance(values[name], list):
+                return list(values[name])
+        return [fill(v, values) for v in node]
+    if isinstance(node, str) and node.startswith(_PLACEHOLDER):
+        name = node[len(_PLACEHOLDER) :]
+        if name not in values:
+            raise KeyError(f"no value given for the template placeholder {name!r}")
+        return values[name]
+    return node
+
+
+def finish_template(chart, display: str) -> dict:
+    """Altair chart -> template dict with our shared config and the display name in usermeta."""
+    spec = chart.to_dict()
+    spec["config"] = style.vega_config()
+    spec["usermeta"] = {"steadyline": {"display": display}}
+    spec.pop("datasets", None)
+    return spec
+
+
+def make_spec(
+    template: dict,
+    values: dict,
+    datasets: dict[str, list[dict]],
+    title: str,
+    subtitle: Sequence[str] = (),
+) -> dict:
+    spec = fill(template, values)
+    spec["datasets"] = datasets
+    t: dict = {"text": title}
+    sub = [s for s in subtitle if s]
+    if sub:
+        t["subtitle"] = sub
+    spec["title"] = t
+    return spec
+
+
+# ------------------------------------------------------------------------------------------------
+# Numbers and text
+# ------------------------------------------------------------------------------------------------
+
+
+def num(v) -> float | None:
+    """A plain float, or None for missing / nan / inf (Vega-Lite JSON never holds NaN)."""
+    if v is None:
+        return None
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
+
+
+def fmt(v, sig: int = 3) -> str:
+    """A number for labels: about ``sig`` significant digits, integer part always whole."""
+    f = num(v)
+    if f is None:
+        return "n/a"
+    if f == 0:
+        return "0"
+    if f.is_integer() and abs(f) < 1e15:
+        return f"{f:,.0f}" if abs(f) >= 10000 else f"{f:.0f}"
+    mag = math.floor(math.log10(abs(f)))
+    decimals = min(max(0, sig - 1 - mag), 8)
+    text = f"{f:.{decimals}f}"
+    if decimals == 0 and abs(f) >= 10000:
+        text = f"{f:,.0f}"
+    if text.startswith("-") and float(text.replace(",", "")) == 0:
+        text = text[1:]
+    return text
+
+
+def with_unit(value_text: str, unit: str) -> str:
+    if not unit:
+        return value_text
+    if unit in ("%", "\u2030"):
+        return value_text + unit
+    return f"{value_text} {unit}"
+
+
+def titled(name: str, unit: str) -> str:
+    """'Lead time (hours)'; the unit alone or the name alone when one is missing."""
+    if name and unit:
+        return f"{name} ({unit})"
+    return name or unit
+
+
+def plural(n: int, word: str, words: str | None = None) -> str:
+    return f"{n} {word if n == 1 else (words or word + 's')}"
+
+
+# ------------------------------------------------------------------------------------------------
+# Time positions
+# ------------------------------------------------------------------------------------------------
+
+_DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+
+
+def parse_time(text: str) -> datetime:
+    """An ISO date or datetime as an aware UTC datetime (naive values are taken as UTC)."""
+    if isinstance(text, datetime | date):
+        raise TypeError("x values must be ISO strings, not date objects")
+    s = text.strip()
+    if s.endswith("Z"):
+        s = s[:-1] + "+00:00"
+    d = datetime.fromisoformat(s)
+    if d.tzinfo is None:
+        return d.replace(tzinfo=UTC)
+    return d.astimezone(UTC)
+
+
+def time_text(text: str) -> str:
+    """The x value as written into a spec: 'YYYY-MM-DD' as is (browsers read it as UTC), any
+    datetime as UTC with an explicit 'Z' (a naive datetime would be read as local time)."""
+    s = text.strip()
+    if _DATE_RE.match(s):
+        return s
+    return utc_text(parse_time(s))
+
+
+def utc_text(d: datetime) -> str:
+    d = d.astimezone(UTC)
+    if d.microsecond:
+        return d.strftime("%Y-%m-%dT%H:%M:%S.") + f"{d.microsecond // 1000:03d}Z"
+    return d.strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+class XAxis:
+    """Positions along the x axis of a series chart.
+
+    Time-based series place points at their dates (temporal, UTC scale); other series place
+    point i at i (quantitative) and label the axis with the point labels.
+    """
+
+    def __init__(self, ctx: SeriesContext):
+        self.ctx = ctx
+        self.n = len(ctx.x)
+        self.is_time = ctx.x_is_time
+        if self.is_time:
+            self.pos = [time_text(s) for s in ctx.x]
+            self._dt = [parse_time(s) for s in ctx.x]
+        else:
+            self.pos = list(range(self.n))
+            self._dt = None
+
+    def at(self, i: int):
+        return self.pos[i]
+
+    def half_before(self, i: int):
+        """Position halfway between point i-1 and point i (point i itself for the first)."""
+        if i <= 0:
+            return self.pos[0] if self.is_time else -0.5
+        if self.is_time:
+            a, b = self._dt[i - 1], self._dt[i]
+            return utc_text(a + (b - a) / 2)
+        return i - 0.5
+
+    def half_after(self, i: int):
+        if i >= self.n - 1:
+            return self.pos[self.n - 1] if self.is_time else self.n - 0.5
+        return self.half_before(i + 1)
+
+    def axis_values(self) -> dict:
+        """Placeholder values for a label axis (non-time series)."""
+        labels = [str(s) for s in self.ctx.x]
+        step = max(1, math.ceil(self.n / 30))
+        values = list(range(0, self.n, step))
+        expr = f"{_js_list(labels)}[datum.value] || ''"
+        return {"x_values": values, "x_label_expr": expr}
+
+    def in_range(self, when: str) -> bool:
+        if not self.is_time or self.n == 0:
+            return False
+        try:
+            d = parse_time(when)
+        except ValueError:
+            return False
+        return min(self._dt) <= d <= max(self._dt)
+
+
+def _js_list(items: list[str]) -> str:
+    import json
+
+    return json.dumps(items, ensure_ascii=True)
+
+
+def x_encoding(alt, is_time: bool, field: str = "x", title: str | None = None):
+    """The shared x channel of series charts (temporal UTC or indexed with label axis)."""
+    if is_time:
+        return alt.X(
+            f"{field}:T",
+            scale=alt.Scale(type="utc"),
+            axis=alt.Axis(title=title, labelOverlap=True, grid=False),
+        )
+    return alt.X(
+        f"{field}:Q",
+        scale=alt.Scale(zero=False, nice=False),
+        axis=alt.Axis(
+            title=title,
+            values=list_slot("x_values"),
+            labelExpr=slot("x_label_expr"),
+            labelOverlap=True,
+            grid=False,
+        ),
+    )
+
+
+def stage_runs(stages: Sequence[str]) -> list[tuple[int, int, str]]:
+    """Contiguous runs of equal stage names as (first index, last index, name)."""
+    runs: list[tuple[int, int, str]] = []
+    start = 0
+    for i in range(1, len(stages) + 1):
+        if i == len(stages) or stages[i] != stages[start]:
+            runs.append((start, i - 1, stages[start]))
+            start = i
+    return runs
+
+
+def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
+    """Background bands, one per contiguous phase, when the series has more than one phase."""
+    runs = stage_runs(stages)
+    if len(runs) < 2 and not (runs and runs[0][2]):
+        return []
+    if len(runs) < 2:
+        # one named phase: label it, no shading needed
+        a, b, name = runs[0]
+        return [{"x": xa.half_before(a), "x2": xa.half_after(b), "stage": name, "fill": "#ffffff"}]
+    rows = []
+    for k, (a, b, name) in enumerate(runs):
+        rows.append(
+            {
+                "x": xa.half_before(a),
+                "x2": xa.half_after(b),
+                "stage": name,
+                "fill": style.BAND_FILLS[k % 2],
+            }
+        )
+    return rows
+
+
+def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
+    """Events within the plotted time range (outside it they would stretch the axis)."""
+    rows = []
+    for when, label in events:
+        if xa.in_range(when):
+            rows.append({"x": time_text(when), "label": str(label), "when": str(when)})
+    return rows
+
+
+def band_layers(alt, is_time: bool) -> list:
+    """Phase background bands with their names at the top left."""
+    base = alt.Chart(alt.NamedData("bands"))
+    x = x_encoding(alt, is_time)
+    rect = base.mark_rect(opacity=1).encode(
+        x=x,
+        x2="x2",
+        fill=alt.Fill("fill:N", scale=None),
+        tooltip=[alt.Tooltip("stage:N", title="phase")],
+    )
+    label = base.mark_text(align="left", baseline="top", dx=3, dy=2, fontWeight=600).encode(
+        x=x, y=alt.value(0), text="stage:N"
+    )
+    return [rect, label]
+
+
+def event_layers(alt, is_time: bool) -> list:
+    """Events as dotted vertical rules labelled near the top (time-based series only)."""
+    if not is_time:
+        return []
+    base = alt.Chart(alt.NamedData("events"))
+    x = x_encoding(alt, is_time)
+    rule = base.mark_rule(color=style.EVENT, strokeDash=style.DASH_EVENT, strokeWidth=1.5).encode(
+        x=x,
+        tooltip=[alt.Tooltip("when:N", title="date"), alt.Tooltip("label:N", title="event")],
+    )
+    label = base.mark_text(
+        align="left", baseline="top", dx=3, dy=16, color=style.EVENT, fontStyle="italic"
+    ).encode(x=x, y=alt.value(0), text="label:N")
+    return [rule, label]

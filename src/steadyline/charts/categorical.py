@@ -1,0 +1,334 @@
+"""Counts by category: column chart, Pareto chart, and Pareto charts of several phases."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from ..stats.results import Pareto
+from . import style
+from .base import (
+    ChartSpec,
+    cached_template,
+    finish_template,
+    fmt,
+    list_slot,
+    make_spec,
+    num,
+    plural,
+    slot,
+    with_unit,
+)
+
+VITAL_LABEL = "vital few"
+REST_LABEL = "remaining categories"
+_GROUPS = [VITAL_LABEL, REST_LABEL]
+
+
+def _category_x(alt, order_slot: str = "order"):
+    return alt.X(
+        "category:N",
+        sort=list_slot(order_slot),
+        axis=alt.Axis(title=None, labelAngle=-35, labelLimit=140),
+    )
+
+
+# ------------------------------------------------------------------------------------------------
+# Column chart
+# ------------------------------------------------------------------------------------------------
+
+
+def _column_template() -> dict:
+    import altair as alt
+
+    base = alt.Chart(alt.NamedData("bars"))
+    y = alt.Y(
+        "count:Q", scale=alt.Scale(zero=True, domainMin=0), axis=alt.Axis(title=slot("y_title"))
+    )
+    bars = base.mark_bar(color=style.DATA).encode(
+        x=_category_x(alt),
+        y=y,
+        tooltip=[
+            alt.Tooltip("category:N", title="category"),
+            alt.Tooltip("count:Q", title=slot("y_title"), format=",.4~g"),
+        ],
+    )
+    labels = base.mark_text(baseline="bottom", dy=-3).encode(x=_category_x(alt), y=y, text="text:N")
+    chart = alt.layer(bars, labels).properties(width="container", height=style.HEIGHT_DISTRIBUTION)
+    return finish_template(chart, "column-chart")
+
+
+def column_chart(
+    categories: Sequence[str], counts: Sequence[float], *, unit: str = "count"
+) -> ChartSpec:
+    """Bars in the order given, the value axis starting at zero."""
+    cats = [str(c) for c in categories]
+    vals = [num(c) for c in counts]
+    if len(cats) != len(vals):
+        raise ValueError(f"{len(cats)} categories but {len(vals)} counts")
+    if len(set(cats)) != len(cats):
+        raise ValueError("column chart categories must be distinct")
+    tpl = cached_template(("column-chart",), _column_template)
+    rows = [
+        {"category": c, "count": v, "text": fmt(v, 4) if v is not None else ""}
+        for c, v in zip(cats, vals, strict=True)
+    ]
+    spec = make_spec(
+        tpl, {"order": cats, "y_title": unit or "count"}, {"bars": rows}, "Counts by category"
+    )
+    table = [{"category": c, unit or "count": v} for c, v in zip(cats, vals, strict=True)]
+    total = sum(v for v in vals if v is not None)
+    summary = f"Column chart of {plural(len(cats), 'category', 'categories')}, total {with_unit(fmt(total, 4), unit)}"
+    if any(v is not None for v in vals):
+        k = max((i for i in range(len(vals)) if vals[i] is not None), key=lambda i: vals[i])
+        summary += f"; largest {cats[k]} ({fmt(vals[k], 4)})"
+    return ChartSpec(
+        spec=spec, table=table, columns=("category", unit or "count"), summary=summary + "."
+    )
+
+
+# ------------------------------------------------------------------------------------------------
+# Pareto
+# ------------------------------------------------------------------------------------------------
+
+
+def _pareto_view(alt, prefix: str = "", panel_title: bool = False):
+    """Bars on the left axis [0, total] and the cumulative percentage on the right axis [0, 100]:
+    with both domains fixed, 100 % sits exactly at the total."""
+    x = _category_x(alt, f"{prefix}order")
+    bars_data = alt.Chart(alt.NamedData(f"{prefix}bars"))
+    y_count = alt.Y(
+        "count:Q",
+        scale=alt.Scale(domain=[0, slot(f"{prefix}total")], nice=False, zero=True),
+        axis=alt.Axis(title="count", orient="left"),
+    )
+    bar_tip = [
+        alt.Tooltip("category:N", title="category"),
+        alt.Tooltip("count:Q", title="count", format=",.4~g"),
+        alt.Tooltip("percent:Q", title="percent", format=".1f"),
+        alt.Tooltip("cumulative:Q", title="cumulative percent", format=".1f"),
+        alt.Tooltip("group:N", title="group"),
+    ]
+    bars = bars_data.mark_bar(stroke=style.INK, strokeWidth=0.6).encode(
+        x=x,
+        y=y_count,
+        fill=alt.Fill(
+            "group:O",
+            sort=_GROUPS,
+            scale=alt.Scale(domain=_GROUPS, range=[style.VITAL, style.REMAINING]),
+            legend=alt.Legend(title=None),
+        ),
+        opacity=alt.Opacity(
+            "group:O",
+            sort=_GROUPS,
+            scale=alt.Scale(domain=_GROUPS, range=[1.0, 0.6]),
+            legend=alt.Legend(title=None),
+        ),
+        tooltip=bar_tip,
+    )
+    bar_text = bars_data.mark_text(baseline="bottom", dy=-2, fontSize=10).encode(
+        x=x, y=y_count, text="text:N"
+    )
+    y_pct = alt.Y(
+        "cumulative:Q",
+        scale=alt.Scale(domain=[0, 100], nice=False, zero=True),
+        axis=alt.Axis(
+            title="cumulative %",
+            orient="right",
+            values=[0, 20, 40, 60, 80, 100],
+            labelExpr="datum.value + '%'",
+            grid=False,
+        ),
+    )
+    line = bars_data.mark_line(color=style.CURVE, strokeWidth=2).encode(x=x, y=y_pct)
+    pts = bars_data.mark_point(color=style.CURVE, filled=True, size=36, opacity=1).encode(
+        x=x, y=y_pct, tooltip=bar_tip
+    )
+    thr_data = alt.Chart(alt.NamedData(f"{prefix}threshold"))
+    thr_y = alt.Y("cumulative:Q", scale=alt.Scale(domain=[0, 100], nice=False, zero=True))
+    thr = thr_data.mark_rule(
+        color=style.INK, strokeDash=style.DASH_REFERENCE, strokeWidth=1
+    ).encode(y=thr_y, tooltip=[alt.Tooltip("text:N", title="reference")])
+    thr_text = thr_data.mark_text(align="left", baseline="bottom", dy=-2, dx=2).encode(
+        x=alt.value(0), y=thr_y, text="text:N"
+    )
+    left = alt.layer(bars, bar_text)
+    right = alt.layer(line, pts, thr, thr_text)
+    view = alt.layer(left, right).resolve_scale(y="independent")
+    if panel_title:
+        view = view.properties(title=slot(f"{prefix}panel_title"))
+    return view
+
+
+def _pareto_template() -> dict:
+    import altair as alt
+
+    chart = _pareto_view(alt).properties(width="container", height=style.HEIGHT_DISTRIBUTION)
+    return finish_template(chart, "pareto")
+
+
+def _pareto_rows(
+    categories: Sequence[str], counts: Sequence[float], total: float, vital: set[str]
+) -> list[dict]:
+    rows = []
+    cum = 0.0
+    for c, v in zip(categories, counts, strict=True):
+        f = num(v) or 0.0
+        cum += f
+        rows.append(
+            {
+                "category": c,
+                "count": f,
+                "percent": num(100.0 * f / total) if total > 0 else None,
+                "cumulative": num(100.0 * cum / total) if total > 0 else None,
+                "group": VITAL_LABEL if c in vital else REST_LABEL,
+                "text": fmt(f, 4),
+            }
+        )
+    return rows
+
+
+def _domain_total(total: float) -> float:
+    t = num(total)
+    return t if t is not None and t > 0 else 1.0
+
+
+def pareto_chart(p: Pareto) -> ChartSpec:
+    """Bars in descending order, the cumulative percentage against a right axis whose 100 %
+    sits at the total, the vital few set apart by fill, opacity and legend, an 80 % rule."""
+    if len(p.categories) != len(p.counts):
+        raise ValueError(f"{len(p.categories)} categories but {len(p.counts)} counts")
+    tpl = cached_template(("pareto",), _pareto_template)
+    cats = [str(c) for c in p.categories]
+    total = float(p.total)
+    rows = []
+    for k, c in enumerate(cats):
+        rows.append(
+            {
+                "category": c,
+                "count": num(p.counts[k]),
+                "percent": num(p.percent[k]),
+                "cumulative": num(p.cumulative_percent[k]),
+                "group": VITAL_LABEL if c in p.vital_few else REST_LABEL,
+                "text": fmt(p.counts[k], 4),
+            }
+        )
+    thr = [{"cumulative": float(p.threshold), "text": f"{fmt(p.threshold)}%"}]
+    sub = [
+        f"total {fmt(total, 4)}; vital few: {len(p.vital_few)} of {plural(len(cats), 'category', 'categories')} "
+        f"make up the first {fmt(p.threshold)}%"
+        + (f" ({', '.join(p.vital_few)})" if p.vital_few else ""),
+        f"right axis: cumulative percentage, 100% at the total of {fmt(total, 4)}",
+    ]
+    spec = make_spec(
+        tpl,
+        {"order": cats, "total": _domain_total(total)},
+        {"bars": rows, "threshold": thr},
+        "Pareto chart",
+        sub,
+    )
+    table = [
+        {
+            "category": r["category"],
+            "count": r["count"],
+            "percent": r["percent"],
+            "cumulative percent": r["cumulative"],
+            "vital few": "yes" if r["group"] == VITAL_LABEL else "no",
+        }
+        for r in rows
+    ]
+    summary = (
+        f"Pareto chart of {fmt(total, 4)} across {plural(len(cats), 'category', 'categories')}: "
+        f"{len(p.vital_few)} make up the first {fmt(p.threshold)}%"
+        + (f" ({', '.join(p.vital_few)})" if p.vital_few else "")
+        + "."
+    )
+    return ChartSpec(
+        spec=spec,
+        table=table,
+        columns=("category", "count", "percent", "cumulative percent", "vital few"),
+        summary=summary,
+    )
+
+
+def _phase_template(k: int) -> dict:
+    import altair as alt
+
+    panels = [
+        _pareto_view(alt, prefix=f"p{j}_", panel_title=True).properties(
+            width=alt.Step(style.PANEL_STEP), height=style.HEIGHT_DISTRIBUTION
+        )
+        for j in range(k)
+    ]
+    chart = alt.hconcat(*panels, spacing=24).resolve_scale(fill="shared", opacity="shared")
+    return finish_template(chart, "pareto-by-phase")
+
+
+def common_order(paretos: Sequence[tuple[str, Pareto]]) -> list[str]:
+    """The first phase's order, then categories new in later phases by their later totals
+    (descending, ties by name); a category named "other" stays last."""
+    first = [str(c) for c in paretos[0][1].categories]
+    seen = set(first)
+    later: dict[str, float] = {}
+    for _, p in paretos[1:]:
+        for c, v in zip(p.categories, p.counts, strict=True):
+            c = str(c)
+            if c not in seen:
+                later[c] = later.get(c, 0.0) + (num(v) or 0.0)
+    extra = sorted(later, key=lambda c: (-later[c], c))
+    order = first + extra
+    others = [c for c in order if c.strip().lower() == "other"]
+    return [c for c in order if c.strip().lower() != "other"] + others
+
+
+def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
+    """One Pareto panel per phase, side by side, every panel in the same category order (the
+    first phase's), so that a category can be followed across phases. Each panel's cumulative
+    line follows that common order; each marks its own phase's vital few."""
+    if not paretos:
+        raise ValueError("a phase Pareto chart needs at least one phase")
+    k = len(paretos)
+    tpl = cached_template(("pareto-by-phase", k), lambda: _phase_template(k))
+    order = common_order(paretos)
+    values: dict = {}
+    datasets: dict = {}
+    table: list[dict] = []
+    parts = []
+    for j, (phase, p) in enumerate(paretos):
+        counts = dict(zip((str(c) for c in p.categories), p.counts, strict=True))
+        total = float(p.total)
+        rows = _pareto_rows(order, [counts.get(c, 0.0) for c in order], total, set(p.vital_few))
+        datasets[f"p{j}_bars"] = rows
+        datasets[f"p{j}_threshold"] = [
+            {"cumulative": float(p.threshold), "text": f"{fmt(p.threshold)}%"}
+        ]
+        values[f"p{j}_order"] = order
+        values[f"p{j}_total"] = _domain_total(total)
+        values[f"p{j}_panel_title"] = f"{phase} (total {fmt(total, 4)})"
+        for r in rows:
+            table.append(
+                {
+                    "phase": phase,
+                    "category": r["category"],
+                    "count": r["count"],
+                    "percent": r["percent"],
+                    "cumulative percent": r["cumulative"],
+                    "vital few": "yes" if r["group"] == VITAL_LABEL else "no",
+                }
+            )
+        top = order[max(range(len(order)), key=lambda i: rows[i]["count"])] if order else ""
+        parts.append(f"{phase}: total {fmt(total, 4)}, largest {top}")
+    sub = [
+        f"categories in the order of {paretos[0][0]}; each panel's right axis puts 100% at its own total",
+    ]
+    spec = make_spec(tpl, values, datasets, "Pareto charts by phase", sub)
+    summary = (
+        f"Pareto charts of {plural(k, 'phase')} in one category order \u2014 "
+        + "; ".join(parts)
+        + "."
+    )
+    return ChartSpec(
+        spec=spec,
+        table=table,
+        columns=("phase", "category", "count", "percent", "cumulative percent", "vital few"),
+        summary=summary,
+    )

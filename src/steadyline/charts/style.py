@@ -1,0 +1,138 @@
+"""The look of every chart, defined once: palette, marker shapes, fonts and the Vega-Lite config.
+
+Palette. The colours are our own choice. Every pair of colours that meets on one chart is meant to
+differ in CIE L* (lightness) by at least 15, so that the pair stays apart in greyscale prints and
+for every kind of colour-vision deficiency (they change hue, not lightness, to a first
+approximation). How it was checked: tests/charts/test_charts_style.py computes L* from the sRGB
+hex codes with the sRGB transfer function (IEC 61966-2-1) and the CIE 1976 L* formula, and asserts
+the differences for the pairs listed in ``CONTRASTING_PAIRS``. Colour never carries meaning alone:
+signal points also change shape and size, limits are dashed, the vital few also differ in opacity,
+and every marked thing is named in a legend or a label.
+"""
+
+from __future__ import annotations
+
+# --- colours --------------------------------------------------------------------------------------
+INK = "#262626"  # text, axes, medians (L* 15)
+DATA = "#1f4e79"  # measured values: lines, points, main bars (L* 32)
+SIGNAL = "#e08a00"  # points taking part in a signal (L* 65)
+CENTRE = "#777777"  # centre line, solid (L* 50)
+LIMIT = "#777777"  # control limits, dashed (L* 50)
+EVENT = "#7b5aa6"  # event rules, dotted (L* 45)
+SPEC = "#9a3412"  # specification limits on a histogram, dashed (L* 37)
+TARGET = INK  # target on a histogram, dotted
+HIST_BAR = "#8fb3d9"  # histogram bars (L* 72)
+BOX_FILL = "#8fb3d9"  # box between the quartiles (L* 72)
+CURVE = "#c46a00"  # fitted normal curve, cumulative-percentage line (L* 54)
+VITAL = DATA  # vital-few bars on a Pareto chart, full opacity (L* 32)
+REMAINING = "#a9c6e4"  # remaining bars on a Pareto chart, lighter and translucent (L* 79)
+BAND_FILLS = ("#eef3f8", "#f7f7f7")  # alternating phase backgrounds (L* 96, 97)
+GRID = "#e3e3e3"
+
+PALETTE = {
+    "ink": INK,
+    "data": DATA,
+    "signal": SIGNAL,
+    "centre": CENTRE,
+    "limit": LIMIT,
+    "event": EVENT,
+    "spec": SPEC,
+    "hist_bar": HIST_BAR,
+    "box_fill": BOX_FILL,
+    "curve": CURVE,
+    "vital": VITAL,
+    "remaining": REMAINING,
+}
+
+# Pairs that are drawn on top of or next to each other (checked for lightness difference >= 15).
+CONTRASTING_PAIRS = (
+    ("data", "signal"),
+    ("data", "limit"),
+    ("signal", "limit"),
+    ("hist_bar", "spec"),
+    ("hist_bar", "curve"),
+    ("hist_bar", "ink"),
+    ("box_fill", "ink"),
+    ("box_fill", "data"),
+    ("vital", "remaining"),
+    ("vital", "curve"),
+    ("remaining", "curve"),
+)
+
+# --- marker shapes (Vega-Lite shape names) --------------------------------------------------------
+SHAPE_POINT = "circle"
+SHAPE_SIGNAL = "diamond"
+SHAPE_OUTLIER = "circle"
+SHAPE_FAR_OUT = "triangle-up"
+SHAPE_MEAN = "cross"
+SIZE_POINT = 28
+SIZE_SIGNAL = 90
+
+# Stroke dash patterns.
+DASH_LIMIT = [6, 4]
+DASH_EVENT = [2, 3]
+DASH_TARGET = [2, 2]
+DASH_REFERENCE = [4, 3]
+
+# --- type -----------------------------------------------------------------------------------------
+# System fonts only: nothing is fetched, every platform finds one of these.
+FONT = (
+    'system-ui, -apple-system, "Segoe UI", Roboto, "Noto Sans", "Liberation Sans", '
+    "Helvetica, Arial, sans-serif"
+)
+FONT_SIZE = 12
+TITLE_SIZE = 14
+
+# Default heights (width follows the page: "container").
+HEIGHT_MAIN = 260
+HEIGHT_SECONDARY = 130
+HEIGHT_DISTRIBUTION = 240
+PANEL_STEP = 22  # px per category in side-by-side Pareto panels
+
+
+def vega_config() -> dict:
+    """The one Vega-Lite config shared by every chart (a fresh dict each call)."""
+    return {
+        "font": FONT,
+        "background": "#ffffff",
+        "padding": 8,
+        "view": {"stroke": None, "continuousHeight": HEIGHT_MAIN},
+        "title": {
+            "anchor": "start",
+            "font": FONT,
+            "fontSize": TITLE_SIZE,
+            "fontWeight": 600,
+            "color": INK,
+            "subtitleFont": FONT,
+            "subtitleFontSize": FONT_SIZE - 1,
+            "subtitleColor": "#4a4a4a",
+            "offset": 8,
+        },
+        "axis": {
+            "labelFont": FONT,
+            "titleFont": FONT,
+            "labelFontSize": FONT_SIZE - 1,
+            "titleFontSize": FONT_SIZE,
+            "titleFontWeight": 500,
+            "labelColor": INK,
+            "titleColor": INK,
+            "domainColor": "#8a8a8a",
+            "tickColor": "#8a8a8a",
+            "gridColor": GRID,
+        },
+        "legend": {
+            "labelFont": FONT,
+            "titleFont": FONT,
+            "labelFontSize": FONT_SIZE - 1,
+            "titleFontSize": FONT_SIZE - 1,
+            "labelColor": INK,
+            "titleColor": INK,
+            "orient": "bottom",
+            "direction": "horizontal",
+        },
+        "header": {"labelFont": FONT, "titleFont": FONT},
+        "text": {"font": FONT, "fontSize": FONT_SIZE - 1, "color": INK},
+        "line": {"strokeWidth": 1.5},
+        "point": {"filled": True},
+        "range": {"category": [DATA, CURVE, EVENT, SPEC, "#4d8f2a", "#8a8a8a"]},
+    }
