@@ -1,0 +1,334 @@
+"""Signal (special-cause) rules applied to any :class:`ControlChart`.
+
+Rule sets and their sources:
+
+- ``"western-electric"`` (the default): Western Electric, *Statistical Quality Control Handbook*
+  (1956), from memory -- a point beyond the limits; 2 of 3 beyond 2σ on one side; 4 of 5 beyond
+  1σ on one side; 8 in a row on one side of the centre line.
+- ``"nelson"``: Nelson, L.S. (1984) "The Shewhart control chart -- tests for special causes",
+  *Journal of Quality Technology* 16(4):237-239, from memory -- the four above with the run
+  lengthened to 9, plus 6 in a row steadily rising or falling, 14 alternating up and down,
+  15 in a row within 1σ, and 8 in a row beyond 1σ.
+- ``"limits-only"``: only the point-beyond-the-limits test.
+
+Zones are measured per point as z = (value - centre) / sigma, using the chart's own per-point
+centre and sigma, so stepped limits (variable n, per-phase limits) work unchanged. The
+beyond-limits test compares with the chart's drawn limits (which may be truncated at 0 or 1).
+
+Conventions (explicit, see the constants below):
+
+- "beyond kσ" is strict: |z| > k. A point exactly at 2σ is not beyond 2σ; "within 1σ" is
+  |z| <= 1.
+- A point exactly on the centre line is on neither side: it breaks a run on one side.
+- Equal consecutive values (ties) break a steady rise or fall and an up-and-down alternation.
+- Points whose value, centre or sigma is nan (no limits, dropped points, the first moving
+  range) are skipped: they are left out of the sequence and patterns join across them.
+- Patterns never span a change of stage; each stage is examined on its own.
+- The "within 1σ" and "beyond 1σ" runs of the Nelson set count points on either side of the
+  centre line; they do not require both sides to appear.
+- Overlapping detections of the same rule and side are merged into one signal whose indices
+  are all the points taking part (e.g. a run of 11 on one side is one signal of 11 points).
+  For the "k of m" rules the indices are the points beyond the zone, not the whole window.
+- Dispersion charts (mR, R, S, the chart's ``secondary``) get only the beyond-limits test:
+  their plotted statistic is skewed, and many authors apply only the beyond-limits test to R,
+  S and mR charts (from memory; see also /work/shared/METHODS.md section 3).
+- Attribute charts (p, np, c, u, Laney) get the full rule set. The zone tests assume a roughly
+  normal plotted statistic, which holds when the expected count per point is not small; this
+  is our choice, stated here so that a page can say it.
+- With zero sigma (collapsed limits) every point off the centre line counts as beyond every
+  zone.
+
+Example
+-------
+>>> import numpy as np
+>>> from steadyline.stats.control import individuals
+>>> x = np.r_[np.tile([9.0, 11.0], 10), np.full(8, 10.5)]
+>>> [s.rule for s in detect_signals(individuals(x))]
+['run-of-8-one-side']
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+
+import numpy as np
+
+from steadyline.stats.results import ControlChart, Signal, StatsError
+
+DEFAULT_RULE_SET = "western-electric"
+
+# Conventions, as constants so that pages and tests can refer to them.
+ON_CENTRE_BREAKS_RUN = True
+TIES_BREAK_TREND = True
+BEYOND_IS_STRICT = True
+NAN_POINTS_SKIPPED = True
+PATTERNS_SPAN_STAGES = False
+DISPERSION_CHART_RULES = ("beyond-limits",)
+
+
+@dataclass(frozen=True)
+class _Rule:
+    key: str
+    description: str
+    test: str  # "limits", "k-of-m", "run-side", "trend", "alternate", "within", "beyond-all"
+    length: int = 1  # points in the pattern (m for k-of-m)
+    count: int = 1  # k for k-of-m
+    zone: float = 0.0  # sigma multiple for zone tests
+
+
+_RULES = {
+    r.key: r
+    for r in (
+        _Rule("beyond-limits", "a point outside the control limits", "limits"),
+        _Rule(
+            "two-of-three-beyond-2-sigma",
+            "2 of 3 points in a row more than 2σ from the centre line, on the same side",
+            "k-of-m",
+            length=3,
+            count=2,
+            zone=2.0,
+        ),
+        _Rule(
+            "four-of-five-beyond-1-sigma",
+            "4 of 5 points in a row more than 1σ from the centre line, on the same side",
+            "k-of-m",
+            length=5,
+            count=4,
+            zone=1.0,
+        ),
+        _Rule(
+            "run-of-8-one-side",
+            "8 points in a row on the same side of the centre line",
+            "run-side",
+            length=8,
+        ),
+        _Rule(
+            "run-of-9-one-side",
+            "9 points in a row on the same side of the centre line",
+            "run-side",
+            length=9,
+        ),
+        _Rule(
+            "trend-of-6",
+            "6 points in a row, each higher than the one before (or each lower)",
+            "trend",
+            length=6,
+        ),
+        _Rule(
+            "alternating-14",
+            "14 points in a row that go up and down in turn",
+            "alternate",
+            length=14,
+        ),
+        _Rule(
+            "hugging-centre-15",
+            "15 points in a row within 1σ of the centre line (limits may be too wide)",
+            "within",
+            length=15,
+            zone=1.0,
+        ),
+        _Rule(
+            "avoiding-centre-8",
+            "8 points in a row more than 1σ from the centre line, none close to it",
+            "beyond-all",
+            length=8,
+            zone=1.0,
+        ),
+    )
+}
+
+_SETS: dict[str, tuple[str, ...]] = {
+    "western-electric": (
+        "beyond-limits",
+        "two-of-three-beyond-2-sigma",
+        "four-of-five-beyond-1-sigma",
+        "run-of-8-one-side",
+    ),
+    "nelson": (
+        "beyond-limits",
+        "run-of-9-one-side",
+        "trend-of-6",
+        "alternating-14",
+        "two-of-three-beyond-2-sigma",
+        "four-of-five-beyond-1-sigma",
+        "hugging-centre-15",
+        "avoiding-centre-8",
+    ),
+    "limits-only": ("beyond-limits",),
+}
+
+RULE_SETS: dict[str, tuple[tuple[str, str], ...]] = {
+    name: tuple((key, _RULES[key].description) for key in keys) for name, keys in _SETS.items()
+}
+"""Rule set name -> ((rule key, description), ...), in the order the rules are applied."""
+
+RULE_SET_SOURCES: dict[str, str] = {
+    "western-electric": "Western Electric, Statistical Quality Control Handbook (1956)",
+    "nelson": "Nelson (1984), Journal of Quality Technology 16(4):237-239",
+    "limits-only": "Shewhart's 3-sigma limits alone",
+}
+
+
+def default_rule_set() -> str:
+    """The rule set used when none is chosen: ``"western-electric"``."""
+    return DEFAULT_RULE_SET
+
+
+def rule_description(key: str) -> str:
+    """Plain-words description of a rule key, e.g. for a legend."""
+    try:
+        return _RULES[key].description
+    except KeyError:
+        raise StatsError(f"unknown rule {key!r}; known rules: {', '.join(_RULES)}") from None
+
+
+# --------------------------------------------------------------------------------------------
+# pattern finders on one clean segment (no nan), returning (indices into segment, side)
+
+
+def _merge(found: list[tuple[set[int], str | None]]) -> list[tuple[list[int], str | None]]:
+    """Merge detections of the same side whose index sets share a point."""
+    merged: list[tuple[set[int], str | None]] = []
+    for idx, side in found:
+        joined = set(idx)
+        keep = []
+        for other, other_side in merged:
+            if other_side == side and other & joined:
+                joined |= other
+            else:
+                keep.append((other, other_side))
+        keep.append((joined, side))
+        merged = keep
+    merged.sort(key=lambda item: min(item[0]))
+    return [(sorted(i), s) for i, s in merged]
+
+
+def _runs(flags: np.ndarray, min_len: int) -> Iterator[tuple[int, int]]:
+    """Maximal runs of True of at least ``min_len``: (start, stop) half-open."""
+    start = None
+    for i, f in enumerate(list(flags) + [False]):
+        if f and start is None:
+            start = i
+        elif not f and start is not None:
+            if i - start >= min_len:
+                yield start, i
+            start = None
+
+
+def _find(
+    rule: _Rule, v: np.ndarray, z: np.ndarray, lo: np.ndarray, hi: np.ndarray
+) -> list[tuple[list[int], str | None]]:
+    n = v.size
+    out: list[tuple[set[int], str | None]] = []
+    if rule.test == "limits":
+        for i in range(n):
+            if not np.isnan(hi[i]) and v[i] > hi[i]:
+                out.append(({i}, "above"))
+            elif not np.isnan(lo[i]) and v[i] < lo[i]:
+                out.append(({i}, "below"))
+        return [(sorted(i), s) for i, s in out]
+    if rule.test == "k-of-m":
+        for side, flags in (("above", z > rule.zone), ("below", z < -rule.zone)):
+            for s in range(0, n - rule.length + 1):
+                window = flags[s : s + rule.length]
+                if window.sum() >= rule.count:
+                    out.append(({s + int(j) for j in np.flatnonzero(window)}, side))
+        return _merge(out)
+    if rule.test == "run-side":
+        res = []
+        for side, flags in (("above", z > 0), ("below", z < 0)):
+            res += [(list(range(a, b)), side) for a, b in _runs(flags, rule.length)]
+        return res
+    if rule.test in ("trend", "alternate"):
+        if n < 2:
+            return []
+        d = np.diff(v)
+        res = []
+        if rule.test == "trend":
+            for side, flags in (("up", d > 0), ("down", d < 0)):
+                res += [(list(range(a, b + 1)), side) for a, b in _runs(flags, rule.length - 1)]
+            return res
+        # alternation: consecutive differences of opposite, non-zero sign
+        if n < 3:
+            return []
+        flags = (d[:-1] * d[1:]) < 0  # flag j: points j, j+1, j+2 zig-zag
+        return [(list(range(a, b + 2)), None) for a, b in _runs(flags, rule.length - 2)]
+    if rule.test == "within":
+        return [(list(range(a, b)), None) for a, b in _runs(np.abs(z) <= rule.zone, rule.length)]
+    if rule.test == "beyond-all":
+        return [(list(range(a, b)), None) for a, b in _runs(np.abs(z) > rule.zone, rule.length)]
+    raise AssertionError(rule.test)  # pragma: no cover
+
+
+def _zscores(chart: ControlChart) -> np.ndarray:
+    v = np.asarray(chart.values, dtype=float)
+    c = np.asarray(chart.centre, dtype=float)
+    s = np.asarray(chart.sigma, dtype=float)
+    diff = v - c
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = np.where(s > 0, diff / np.where(s > 0, s, 1.0), np.sign(diff) * np.inf)
+    z = np.where(diff == 0, 0.0, z)
+    return z
+
+
+def _chart_signals(
+    chart: ControlChart, keys: tuple[str, ...], which: str, only_stage: int | None
+) -> list[Signal]:
+    v = np.asarray(chart.values, dtype=float)
+    c = np.asarray(chart.centre, dtype=float)
+    s = np.asarray(chart.sigma, dtype=float)
+    lo = np.asarray(chart.lower, dtype=float)
+    hi = np.asarray(chart.upper, dtype=float)
+    stage = np.asarray(chart.stage, dtype=int)
+    z = _zscores(chart)
+    ok = ~(np.isnan(v) | np.isnan(c) | np.isnan(s))
+    signals: list[Signal] = []
+    stages = sorted(set(stage.tolist())) if only_stage is None else [only_stage]
+    # a stage is a block of consecutive points with the same number; split at every change
+    change = np.concatenate([[0], np.cumsum(stage[1:] != stage[:-1])]) if v.size else stage
+    for block in sorted(set(change.tolist())):
+        in_block = change == block
+        if int(stage[in_block][0]) not in stages:
+            continue
+        pos = np.flatnonzero(in_block & ok)
+        if pos.size == 0:
+            continue
+        for key in keys:
+            rule = _RULES[key]
+            for idx, side in _find(rule, v[pos], z[pos], lo[pos], hi[pos]):
+                signals.append(
+                    Signal(
+                        rule=key,
+                        description=rule.description,
+                        indices=tuple(int(pos[i]) for i in idx),
+                        side=side,
+                        chart=which,
+                    )
+                )
+    order = {k: i for i, k in enumerate(keys)}
+    signals.sort(key=lambda g: (g.indices[0], order[g.rule], g.side or ""))
+    return signals
+
+
+def detect_signals(
+    chart: ControlChart,
+    rule_set: str = DEFAULT_RULE_SET,
+    only_stage: int | None = None,
+) -> tuple[Signal, ...]:
+    """All signals of ``rule_set`` on ``chart`` and (beyond-limits only) on its secondary chart.
+
+    ``only_stage`` restricts the search to the points of one stage. Signals are sorted by chart
+    ("main" first), then by their first point.
+
+    >>> from steadyline.stats.control import c_chart
+    >>> [(s.rule, s.indices, s.side) for s in detect_signals(c_chart([3, 4, 5, 4, 3, 20]))]
+    [('beyond-limits', (5,), 'above')]
+    """
+    if rule_set not in _SETS:
+        raise StatsError(f"unknown rule set {rule_set!r}; choose one of {', '.join(_SETS)}")
+    main = _chart_signals(chart, _SETS[rule_set], "main", only_stage)
+    second: list[Signal] = []
+    if chart.secondary is not None:
+        second = _chart_signals(chart.secondary, DISPERSION_CHART_RULES, "secondary", only_stage)
+    return tuple(main + second)
