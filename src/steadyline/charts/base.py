@@ -188,7 +188,8 @@ def with_unit(value_text: str, unit: str) -> str:
 def titled(name: str, unit: str) -> str:
     """'Lead time (hours)'; the unit alone or the name alone when one is missing."""
     if name and unit:
-        return f"{name} ({unit})"
+        # "Moving range (mR), hours" rather than two bracketed parts in a row
+        return f"{name}, {unit}" if name.endswith(")") else f"{name} ({unit})"
     return name or unit
 
 
@@ -219,6 +220,8 @@ def parse_time(text: str) -> datetime:
 def time_text(text: str) -> str:
     """The x value as written into a spec: 'YYYY-MM-DD' as is (browsers read it as UTC), any
     datetime as UTC with an explicit 'Z' (a naive datetime would be read as local time)."""
+    if not isinstance(text, str):
+        raise TypeError(f"x values and event dates must be ISO strings, got {type(text).__name__}")
     s = text.strip()
     if _DATE_RE.match(s):
         return s
@@ -331,7 +334,9 @@ def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
     if len(runs) < 2:
         # one named phase: label it, no shading needed
         a, b, name = runs[0]
-        return [{"x": xa.half_before(a), "x2": xa.half_after(b), "stage": name, "fill": "#ffffff"}]
+        return [
+            {"x": xa.half_before(a), "x2": xa.half_after(b), "stage": name, "fill": style.WHITE}
+        ]
     rows = []
     for k, (a, b, name) in enumerate(runs):
         rows.append(

@@ -36,7 +36,7 @@ def _histogram_template(curve: bool) -> dict:
     x_scale = alt.Scale(zero=False, nice=False)
     bars = (
         alt.Chart(alt.NamedData("bins"))
-        .mark_bar(color=style.HIST_BAR, stroke="#ffffff", strokeWidth=1)
+        .mark_bar(color=style.HIST_BAR, stroke=style.WHITE, strokeWidth=1)
         .encode(
             x=alt.X("start:Q", scale=x_scale, axis=x_axis),
             x2="end",
@@ -243,7 +243,7 @@ def _box_template() -> dict:
             ),
             fill=alt.Fill(
                 "kind:N",
-                scale=alt.Scale(domain=_MARK_KINDS, range=[style.INK, "#ffffff", style.SIGNAL]),
+                scale=alt.Scale(domain=_MARK_KINDS, range=[style.INK, style.WHITE, style.SIGNAL]),
                 legend=alt.Legend(title=None),
             ),
             tooltip=[

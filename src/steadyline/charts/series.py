@@ -47,7 +47,7 @@ _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray ru
 # ------------------------------------------------------------------------------------------------
 
 
-def _value_layers(alt, is_time: bool, prefix: str, y_slot: str) -> list:
+def _value_layers(alt, is_time: bool, prefix: str, y_slot: str, with_limits: bool) -> list:
     """Line broken at segment changes and gaps, plus points whose shape marks signals."""
     base = alt.Chart(alt.NamedData(f"{prefix}points"))
     x = x_encoding(alt, is_time)
@@ -75,7 +75,14 @@ def _value_layers(alt, is_time: bool, prefix: str, y_slot: str) -> list:
             alt.Tooltip("label:N", title="date" if is_time else "point"),
             alt.Tooltip("value:Q", title="value", format=",.4~g"),
             alt.Tooltip("stage:N", title="phase"),
-            alt.Tooltip("info:N", title="limits"),
+            *(
+                [
+                    alt.Tooltip("info:N", title="limits"),
+                    alt.Tooltip("fitted:N", title="used for limits"),
+                ]
+                if with_limits
+                else []
+            ),
             alt.Tooltip("signals:N", title="signals"),
         ],
     )
@@ -117,7 +124,7 @@ def _series_view(alt, is_time: bool, prefix: str, y_slot: str, height: int, refs
         layers += _reference_layers(alt, is_time, prefix, y_slot)
     else:
         layers += _median_layers(alt, is_time, y_slot)
-    layers += _value_layers(alt, is_time, prefix, y_slot)
+    layers += _value_layers(alt, is_time, prefix, y_slot, with_limits=refs == "limits")
     return alt.layer(*layers).properties(width="container", height=height)
 
 
@@ -177,6 +184,7 @@ def _point_rows(
     marked: dict[int, list[str]],
     offset: int = 0,
     info: Sequence[str] | None = None,
+    fitted: Sequence[bool] | None = None,
 ) -> list[dict]:
     """Rows for the line and points; ``line`` numbers the pieces of the broken line."""
     rows = []
@@ -195,18 +203,20 @@ def _point_rows(
         prev_seg = seg
         prev_missing = False
         sig = marked.get(i)
-        rows.append(
-            {
-                "x": xa.at(i),
-                "label": ctx.x[i],
-                "value": f,
-                "stage": ctx.stage[i],
-                "line": group,
-                "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
-                "signals": "; ".join(sig) if sig else "",
-                "info": info[k] if info is not None else "",
-            }
-        )
+        row = {
+            "x": xa.at(i),
+            "label": ctx.x[i],
+            "value": f,
+            "stage": ctx.stage[i],
+            "line": group,
+            "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
+            "signals": "; ".join(sig) if sig else "",
+        }
+        if info is not None:
+            row["info"] = info[k]
+        if fitted is not None:
+            row["fitted"] = "yes" if fitted[k] else "no"
+        rows.append(row)
     return rows
 
 
@@ -381,7 +391,9 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     marked = _signal_text(main_signals, n)
     limits, labels = _limit_rows(xa, chart, 0)
     datasets = {
-        "points": _point_rows(xa, ctx, chart.values, marked, info=_limits_info(chart)),
+        "points": _point_rows(
+            xa, ctx, chart.values, marked, info=_limits_info(chart), fitted=chart.fitted
+        ),
         "limits": limits,
         "labels": labels,
         "bands": band_rows(xa, ctx.stage),
@@ -395,7 +407,15 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
         sec_marked = _signal_text(sec_signals, n, offset)
         s_limits, s_labels = _limit_rows(xa, sec, offset)
         datasets["secondary_points"] = _point_rows(
-            xa, ctx, sec.values, sec_marked, offset=offset, info=_limits_info(sec)
+            xa,
+            ctx,
+            sec.values,
+            sec_marked,
+            offset=offset,
+            info=_limits_info(sec),
+            fitted=np.asarray(sec.fitted, dtype=bool)
+            if len(sec.fitted) == len(sec.values)
+            else np.asarray(chart.fitted, dtype=bool)[offset:],
         )
         datasets["secondary_limits"] = s_limits
         datasets["secondary_labels"] = s_labels

@@ -28,6 +28,7 @@ VITAL = DATA  # vital-few bars on a Pareto chart, full opacity (L* 32)
 REMAINING = "#a9c6e4"  # remaining bars on a Pareto chart, lighter and translucent (L* 79)
 BAND_FILLS = ("#eef3f8", "#f7f7f7")  # alternating phase backgrounds (L* 96, 97)
 GRID = "#e3e3e3"
+WHITE = "#ffffff"
 
 PALETTE = {
     "ink": INK,

@@ -1,0 +1,321 @@
+"""Hand-built statistics results for the chart tests (the chart package only reads them)."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from steadyline.charts import SeriesContext
+from steadyline.stats.results import (
+    BoxSummary,
+    ControlChart,
+    Histogram,
+    Pareto,
+    RunChartAnalysis,
+    Signal,
+)
+
+N = 30
+
+
+def weekly_dates(n: int) -> tuple[str, ...]:
+    days = np.datetime64("2026-01-05") + 7 * np.arange(n)
+    return tuple(str(d) for d in days)
+
+
+def make_ctx(n: int = N, *, time: bool = True, events=(("2026-03-30", "new intake form"),)):
+    stage = tuple("Baseline" if i < 20 else "After" for i in range(n))
+    segment = tuple(0 if i < 12 else 1 for i in range(n))
+    x = weekly_dates(n) if time else tuple(f"Lot {i + 1}" for i in range(n))
+    return SeriesContext(
+        x=x,
+        x_is_time=time,
+        stage=stage,
+        segment=segment,
+        unit="hours",
+        metric_name="Lead time",
+        events=events if time else (),
+    )
+
+
+def make_values(n: int = N) -> np.ndarray:
+    rng = np.random.default_rng(7)
+    v = rng.normal(30.0, 4.0, n)
+    v[5] = np.nan  # a missing week
+    v[25] = 52.0
+    return v
+
+
+def make_individuals(n: int = N, *, secondary: bool = True) -> ControlChart:
+    v = make_values(n)
+    centre = np.full(n, 30.0)
+    upper = np.full(n, 44.4)
+    lower = np.full(n, 15.6)
+    lower[20:] = np.nan  # no LCL after the change: nothing may be drawn there
+    fitted = np.arange(n) < 20
+    sec = None
+    if secondary:
+        mr = np.abs(np.diff(v))
+        sec = ControlChart(
+            kind="moving-range",
+            label="Moving range (mR)",
+            values=mr,
+            centre=np.full(n - 1, 5.4),
+            lower=np.zeros(n - 1),
+            upper=np.full(n - 1, 17.6),
+            sigma=np.full(n - 1, np.nan),
+            process_sigma=None,
+            sigma_method="",
+            fitted=fitted[1:],
+            stage=np.zeros(n - 1, dtype=int),
+        )
+    return ControlChart(
+        kind="individuals",
+        label="Individuals (X)",
+        values=v,
+        centre=centre,
+        lower=lower,
+        upper=upper,
+        sigma=np.full(n, 4.8),
+        process_sigma=4.8,
+        sigma_method="average moving range / d2(2)",
+        fitted=fitted,
+        stage=(np.arange(n) >= 20).astype(int),
+        secondary=sec,
+    )
+
+
+def make_p_chart(n: int = N) -> ControlChart:
+    sizes = np.array([50 + 10 * (i % 4) for i in range(n)], dtype=float)
+    pbar = 0.12
+    sd = np.sqrt(pbar * (1 - pbar) / sizes)
+    rng = np.random.default_rng(3)
+    p = rng.binomial(sizes.astype(int), pbar) / sizes
+    return ControlChart(
+        kind="p",
+        label="Proportion (p)",
+        values=p,
+        centre=np.full(n, pbar),
+        lower=np.maximum(pbar - 3 * sd, 0.0),
+        upper=pbar + 3 * sd,
+        sigma=sd,
+        process_sigma=None,
+        sigma_method="binomial, per subgroup size",
+        fitted=np.ones(n, dtype=bool),
+        stage=np.zeros(n, dtype=int),
+        sizes=sizes,
+    )
+
+
+MAIN_SIGNALS = (
+    Signal("beyond-limits", "beyond the 3σ limits", (25,), "above"),
+    Signal("long-run-one-side", "8 in a row on one side of the centre line", tuple(range(8, 16))),
+    Signal(
+        "beyond-limits", "beyond the upper limit of the moving range", (24,), "above", "secondary"
+    ),
+)
+
+
+def make_run_analysis(n: int = N) -> RunChartAnalysis:
+    return RunChartAnalysis(
+        rule_set="anhoj",
+        median=31.24,
+        n=n,
+        n_useful=n - 1,
+        longest_run=9,
+        longest_run_limit=8,
+        crossings=8,
+        crossings_limit=10,
+        runs=9,
+        runs_limits=None,
+        signals=(
+            Signal("long-run", "a run of 9 on one side of the median", tuple(range(20, 29))),
+            Signal("few-crossings", "fewer crossings of the median than expected", tuple(range(n))),
+        ),
+    )
+
+
+def make_histogram() -> Histogram:
+    return Histogram(
+        rule="fd",
+        rule_label="Freedman–Diaconis",
+        edges=(10.0, 15.0, 20.0, 25.0, 30.0, 35.0, 40.0),
+        counts=(2, 8, 15, 12, 5, 1),
+        bin_width=5.0,
+        n=43,
+        mean=23.5,
+        std=6.2,
+        below_range=1,
+    )
+
+
+LABEL7 = "Hyndman & Fan type 7 (linear interpolation)"
+
+
+def make_boxes() -> list[tuple[str, BoxSummary]]:
+    b1 = BoxSummary(
+        method="linear",
+        method_label=LABEL7,
+        n=40,
+        mean=25.0,
+        q1=17.0,
+        median=22.0,
+        q3=27.0,
+        iqr=10.0,
+        lower_fence=2.0,
+        upper_fence=42.0,
+        whisker_low=9.0,
+        whisker_high=41.0,
+        outlier_indices=(3, 7, 9),
+        outlier_values=(1.0, 44.0, 60.0),
+        far_out_indices=(9,),
+        minimum=1.0,
+        maximum=60.0,
+    )
+    b2 = BoxSummary(
+        method="linear",
+        method_label=LABEL7,
+        n=30,
+        mean=20.0,
+        q1=15.0,
+        median=19.0,
+        q3=22.0,
+        iqr=7.0,
+        lower_fence=4.5,
+        upper_fence=32.5,
+        whisker_low=10.0,
+        whisker_high=30.0,
+        outlier_indices=(),
+        outlier_values=(),
+        far_out_indices=(),
+        minimum=10.0,
+        maximum=30.0,
+    )
+    return [("Baseline", b1), ("After", b2)]
+
+
+def make_pareto() -> Pareto:
+    return Pareto(
+        categories=("Missing part", "Wrong label", "Damaged", "Late", "other"),
+        counts=(50.0, 30.0, 10.0, 6.0, 4.0),
+        percent=(50.0, 30.0, 10.0, 6.0, 4.0),
+        cumulative_percent=(50.0, 80.0, 90.0, 96.0, 100.0),
+        total=100.0,
+        vital_few=("Missing part", "Wrong label"),
+    )
+
+
+def make_pareto_after() -> Pareto:
+    return Pareto(
+        categories=("Wrong label", "Missing part", "Scratched", "Damaged"),
+        counts=(20.0, 10.0, 8.0, 2.0),
+        percent=(50.0, 25.0, 20.0, 5.0),
+        cumulative_percent=(50.0, 75.0, 95.0, 100.0),
+        total=40.0,
+        vital_few=("Wrong label", "Missing part", "Scratched"),
+    )
+
+
+# ------------------------------------------------------------------------------------------------
+# Walking a Vega-Lite spec
+# ------------------------------------------------------------------------------------------------
+
+_CHANNEL_SKIP = {"tooltip"}
+
+
+def _field_defs(encoding: dict):
+    for channel, d in encoding.items():
+        defs = d if isinstance(d, list) else [d]
+        for fd in defs:
+            if not isinstance(fd, dict):
+                continue
+            if "field" in fd:
+                yield channel, fd["field"]
+            cond = fd.get("condition")
+            for c in cond if isinstance(cond, list) else [cond]:
+                if isinstance(c, dict) and "field" in c:
+                    yield channel, c["field"]
+
+
+def unit_views(spec: dict, data_name: str | None = None):
+    """Every unit view (one with a mark) with the name of the dataset it draws from."""
+    if isinstance(spec.get("data"), dict) and "name" in spec["data"]:
+        data_name = spec["data"]["name"]
+    if "mark" in spec:
+        yield spec, data_name
+    for key in ("layer", "vconcat", "hconcat", "concat"):
+        for sub in spec.get(key, []):
+            yield from unit_views(sub, data_name)
+
+
+def missing_fields(spec: dict) -> list[str]:
+    """Fields used by an encoding but absent from a row of its dataset, and datasets used but
+    not given (vl-convert only warns about both and draws an empty chart)."""
+    problems = []
+    datasets = spec.get("datasets", {})
+    for view, name in unit_views(spec):
+        if name is None:
+            problems.append(f"a {view['mark']} view has no data")
+            continue
+        if name not in datasets:
+            problems.append(f"dataset {name!r} is used but not given")
+            continue
+        computed = {t["as"] for t in view.get("transform", []) if "as" in t}
+        for channel, field in _field_defs(view.get("encoding", {})):
+            if field in computed:
+                continue
+            for row in datasets[name]:
+                if field not in row:
+                    problems.append(f"{name}: row without field {field!r} ({channel})")
+                    break
+    return problems
+
+
+def datasets_without_rows(spec: dict) -> set[str]:
+    return {k for k, v in spec.get("datasets", {}).items() if not v}
+
+
+def walk_values(node):
+    """Every scalar in a JSON-like tree."""
+    if isinstance(node, dict):
+        for v in node.values():
+            yield from walk_values(v)
+    elif isinstance(node, list | tuple):
+        for v in node:
+            yield from walk_values(v)
+    else:
+        yield node
+
+
+def all_chart_specs():
+    """One spec of every display and variant, for the compile / render / JSON checks."""
+    from steadyline import charts
+
+    ctx = make_ctx()
+    ctx_labels = make_ctx(time=False)
+    out = [
+        ("run-chart time", charts.run_chart(ctx, make_values(), make_run_analysis())),
+        ("run-chart labels", charts.run_chart(ctx_labels, make_values(), make_run_analysis())),
+        ("control-chart X-mR", charts.control_chart(ctx, make_individuals(), MAIN_SIGNALS)),
+        (
+            "control-chart labels",
+            charts.control_chart(ctx_labels, make_individuals(), MAIN_SIGNALS),
+        ),
+        ("control-chart p", charts.control_chart(ctx, make_p_chart(), ())),
+        (
+            "histogram curve",
+            charts.histogram_chart(
+                make_histogram(), unit="hours", lsl=12, usl=38, target=24, normal_curve=True
+            ),
+        ),
+        ("histogram plain", charts.histogram_chart(make_histogram(), unit="hours")),
+        ("box-plot", charts.box_chart(make_boxes(), unit="hours")),
+        ("column-chart", charts.column_chart(["Mon", "Tue", "Wed"], [5, 0, 12], unit="orders")),
+        ("pareto", charts.pareto_chart(make_pareto())),
+        (
+            "pareto-by-phase",
+            charts.phase_pareto_chart(
+                [("Baseline", make_pareto()), ("After", make_pareto_after())]
+            ),
+        ),
+    ]
+    return out
