@@ -54,6 +54,7 @@ class MetricData:
     kind: str
     points: pd.DataFrame
     subgroups: list[np.ndarray] | None = None
+    values: pd.DataFrame | None = None  # individual values (value, stage) for distributions
     raw_rows: int = 0
     problems: list[Problem] = field(default_factory=list)  # warnings only
 
@@ -389,6 +390,10 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
                           problems=[p for p in out.problems if p.severity != "error"])
 
     subgroups = None
+    values = None
+    if kind in ("continuous", "subgroups"):
+        values = pd.DataFrame({"value": frame["value"].to_numpy(dtype=float),
+                               "stage": assign_stage(frame["t"], spec.baseline, spec.after)})
     if kind == "subgroups":
         pts, subgroups = _subgroups(frame, spec, out)
     elif spec.rollup is not None:
@@ -416,7 +421,7 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     pts["stage"] = assign_stage(pts["period"], spec.baseline, spec.after)
     pts = pts.reset_index(drop=True)
     out.raise_if_failed()
-    return MetricData(spec, kind, pts, subgroups=subgroups, raw_rows=raw_rows,
+    return MetricData(spec, kind, pts, subgroups=subgroups, values=values, raw_rows=raw_rows,
                       problems=[p for p in out.problems if p.severity != "error"])
 
 

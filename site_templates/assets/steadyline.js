@@ -1,0 +1,101 @@
+/* steadyline page script: draws the charts, filters the index, reloads live pages.
+   Served from the site itself (Content-Security-Policy: script-src 'self'); no inline code,
+   no eval: vega-embed runs with its expression interpreter (ast: true). */
+(function () {
+  "use strict";
+
+  function drawCharts() {
+    var blocks = document.querySelectorAll("script.chart-spec");
+    if (!blocks.length || typeof window.vegaEmbed !== "function") { return Promise.resolve([]); }
+    var jobs = [];
+    blocks.forEach(function (block) {
+      var target = document.getElementById(block.id.replace(/-spec$/, ""));
+      if (!target) { return; }
+      var spec;
+      try { spec = JSON.parse(block.textContent); } catch (e) {
+        target.setAttribute("data-render", "error");
+        target.textContent = "This chart's description could not be read.";
+        return;
+      }
+      var job = window.vegaEmbed(target, spec, {
+        ast: true,                      // expression interpreter: works without 'unsafe-eval'
+        renderer: "svg",
+        actions: { export: true, source: false, compiled: false, editor: false },
+        downloadFileName: block.id.replace(/-spec$/, ""),
+        i18n: { SVG_ACTION: "Save as SVG", PNG_ACTION: "Save as PNG" }
+      }).then(function (result) {
+        target.setAttribute("data-render", "done");
+        return result;
+      }, function (err) {
+        target.setAttribute("data-render", "error");
+        var p = document.createElement("p");
+        p.className = "render-error";
+        p.textContent = "This chart could not be drawn: " + (err && err.message ? err.message : err);
+        target.appendChild(p);
+        throw err;
+      });
+      jobs.push(job);
+    });
+    window.steadylineCharts = Promise.allSettled(jobs);
+    return window.steadylineCharts;
+  }
+
+  function setupFilters() {
+    var list = document.getElementById("project-list");
+    if (!list) { return; }
+    var text = document.getElementById("f-text");
+    var phase = document.getElementById("f-phase");
+    var owner = document.getElementById("f-owner");
+    var tag = document.getElementById("f-tag");
+    var count = document.getElementById("f-count");
+    var empty = document.getElementById("f-empty");
+    var cards = Array.prototype.slice.call(list.querySelectorAll("li.card"));
+    function norm(s) { return (s || "").toLowerCase().normalize("NFKD").replace(/[\u0300-\u036f]/g, ""); }
+    function apply() {
+      var words = norm(text.value).split(/\s+/).filter(Boolean);
+      var shown = 0;
+      cards.forEach(function (card) {
+        var ok = (!phase.value || card.dataset.phase === phase.value) &&
+                 (!owner.value || card.dataset.owner === owner.value) &&
+                 (!tag.value || card.dataset.tags.split("|").indexOf(tag.value) >= 0);
+        if (ok && words.length) {
+          var hay = norm(card.dataset.text);
+          ok = words.every(function (w) { return hay.indexOf(w) >= 0; });
+        }
+        card.hidden = !ok;
+        if (ok) { shown += 1; }
+      });
+      count.textContent = shown + " shown";
+      empty.hidden = shown !== 0;
+    }
+    [text, phase, owner, tag].forEach(function (el) {
+      el.addEventListener("input", apply);
+      el.addEventListener("change", apply);
+    });
+    document.getElementById("filters").addEventListener("submit", function (e) { e.preventDefault(); });
+    apply();
+  }
+
+  /* Live reload, only on pages built by `steadyline watch` (they carry <meta name="steadyline-live">):
+     poll the small state file the watcher rewrites and reload when this page's stamp changes. */
+  function setupLive() {
+    var meta = document.querySelector('meta[name="steadyline-live"]');
+    if (!meta) { return; }
+    var parts = meta.getAttribute("content").split(" ");
+    var stateUrl = parts[0], key = parts[1], seen = null;
+    function poll() {
+      fetch(stateUrl + "?t=" + Date.now(), { cache: "no-store" }).then(function (r) {
+        return r.ok ? r.json() : null;
+      }).then(function (state) {
+        if (!state) { return; }
+        var stamp = state[key];
+        if (seen === null) { seen = stamp; } else if (stamp !== seen) { window.location.reload(); }
+      }).catch(function () { /* server restarting: try again */ });
+    }
+    poll();
+    window.setInterval(poll, 700);
+  }
+
+  function start() { drawCharts(); setupFilters(); setupLive(); }
+  if (document.readyState === "loading") { document.addEventListener("DOMContentLoaded", start); } else { start(); }
+})();

@@ -1,0 +1,170 @@
+"""Plain-language reading of the statistics: which points signal, and the rules of thumb.
+
+Pure functions: results in, sentences out. The thresholds below are rules of thumb of the trade;
+where no published source fixes the number it is marked "common practice", where it was
+recalled from a textbook it is marked "from memory".
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from .stats.results import Capability, ControlChart, Pareto, RunChartAnalysis, Signal
+
+# Rules of thumb ---------------------------------------------------------------------------------
+# A run chart wants 24 or more points for a baseline (common practice; no single source fixes it).
+RUN_CHART_MIN_POINTS = 24
+# A histogram wants 30 or more values, better 50-100 (common practice; Montgomery and the quality
+# handbooks give similar guidance, from memory).
+HISTOGRAM_MIN_POINTS = 30
+# A column chart reads well with at most 7 categories; collapse the rest (common practice).
+COLUMN_MAX_CATEGORIES = 7
+# Trial control limits want 20 to 25 subgroups or points (Montgomery, ch. 6, from memory).
+CONTROL_MIN_FIT_POINTS = 20
+# A box plot of fewer than 5 values says little beyond the values themselves (common practice).
+BOX_MIN_POINTS = 5
+MAX_DATES_LISTED = 6
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One sentence under a chart. kind: "signal" (with a marker shape) or "clear"."""
+
+    kind: str
+    marker: str
+    text: str
+
+
+SIGNAL_MARKER = "◆"  # the same diamond the charts use for signal points
+CLEAR_MARKER = "●"
+
+
+def list_dates(labels: Sequence[str]) -> str:
+    labels = list(dict.fromkeys(labels))
+    if len(labels) <= MAX_DATES_LISTED:
+        if len(labels) == 1:
+            return labels[0]
+        return ", ".join(labels[:-1]) + " and " + labels[-1]
+    return ", ".join(labels[:MAX_DATES_LISTED]) + f" and {len(labels) - MAX_DATES_LISTED} more"
+
+
+def signal_sentence(sig: Signal, x: Sequence[str], what: str = "point") -> str:
+    n = len(sig.indices)
+    dates = list_dates([x[i] for i in sig.indices])
+    side = {"above": " (above the centre line)", "below": " (below the centre line)",
+            "up": " (rising)", "down": " (falling)"}.get(sig.side or "", "")
+    chart = "" if sig.chart == "main" else " on the dispersion chart"
+    plural = what if n == 1 else what + "s"
+    return f"{sig.description}{side}{chart}: {n} {plural}, {dates}."
+
+
+def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence[str],
+                     rules_label: str) -> list[Finding]:
+    if not signals:
+        return [Finding("clear", CLEAR_MARKER,
+                        f"No point signals by the {rules_label}: the chart shows only routine "
+                        "variation against these limits.")]
+    return [Finding("signal", SIGNAL_MARKER, signal_sentence(s, x)) for s in signals]
+
+
+def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
+    out = [Finding("signal", SIGNAL_MARKER, signal_sentence(s, x)) for s in run.signals]
+    if not out:
+        out.append(Finding("clear", CLEAR_MARKER, f"No non-random pattern by the {rules_label}."))
+    return out
+
+
+def run_cautions(run: RunChartAnalysis) -> list[str]:
+    out = list(run.notes)
+    if run.n < RUN_CHART_MIN_POINTS:
+        out.append(f"Only {run.n} points: a run chart wants {RUN_CHART_MIN_POINTS} or more before "
+                   "its rules are read with confidence (common practice).")
+    return out
+
+
+def control_cautions(chart: ControlChart) -> list[str]:
+    out = list(chart.notes)
+    fitted = int(chart.fitted.sum())
+    if fitted < CONTROL_MIN_FIT_POINTS:
+        out.append(f"The limits rest on {fitted} points; with fewer than "
+                   f"{CONTROL_MIN_FIT_POINTS} treat them as trial limits and recompute as data "
+                   "comes in.")
+    if chart.secondary is not None:
+        out.extend(n for n in chart.secondary.notes if n not in out)
+    return out
+
+
+def histogram_cautions(n: int) -> list[str]:
+    if n < HISTOGRAM_MIN_POINTS:
+        return [f"Only {n} values: a histogram wants {HISTOGRAM_MIN_POINTS} or more before its "
+                "shape means much (common practice)."]
+    return []
+
+
+def box_cautions(n: int) -> list[str]:
+    if n < BOX_MIN_POINTS:
+        return [f"Only {n} values: with fewer than {BOX_MIN_POINTS} the box adds little to the "
+                "values themselves (common practice)."]
+    return []
+
+
+def column_cautions(n_categories: int) -> list[str]:
+    if n_categories > COLUMN_MAX_CATEGORIES:
+        return [f"{n_categories} categories: more than {COLUMN_MAX_CATEGORIES} bars are hard to "
+                "compare; consider merging the small ones (common practice)."]
+    return []
+
+
+def bar_axis_cautions(spec: dict) -> list[str]:
+    """Warn when a bar chart's numeric axis does not start at zero (bar length encodes value)."""
+    bad = []
+
+    def walk(node):
+        if isinstance(node, dict):
+            mark = node.get("mark")
+            mtype = mark.get("type") if isinstance(mark, dict) else mark
+            if mtype == "bar":
+                for ch in ("x", "y"):
+                    enc = node.get("encoding", {}).get(ch, {})
+                    scale = enc.get("scale", {}) if isinstance(enc, dict) else {}
+                    dom = scale.get("domain") if isinstance(scale, dict) else None
+                    if (isinstance(dom, list) and dom and isinstance(dom[0], int | float)
+                            and dom[0] > 0) or scale.get("zero") is False:
+                        bad.append(ch)
+            for v in node.values():
+                walk(v)
+        elif isinstance(node, list):
+            for v in node:
+                walk(v)
+
+    walk(spec)
+    if bad:
+        return ["The numeric axis of the bars does not start at zero, so bar lengths exaggerate "
+                "differences (Few, Show Me the Numbers, from memory)."]
+    return []
+
+
+def pareto_findings(p: Pareto) -> list[Finding]:
+    k, n = len(p.vital_few), len(p.categories)
+    share = p.cumulative_percent[k - 1] if k else 0.0
+    text = (f"{k} of {n} categories ({', '.join(p.vital_few)}) make up {share:.0f}% of the "
+            f"total of {p.total:g}.")
+    return [Finding("signal" if k and k <= n / 2 else "clear", SIGNAL_MARKER if k <= n / 2
+                    else CLEAR_MARKER, text)]
+
+
+def pareto_cautions(p: Pareto) -> list[str]:
+    k, n = len(p.vital_few), len(p.categories)
+    if n >= 3 and k > n / 2:
+        return ["No clear vital few: it takes more than half of the categories to reach "
+                f"{p.threshold:.0f}% (the 80/20 split is a heuristic, not a law; common "
+                "practice)."]
+    return []
+
+
+def capability_verdict(c: Capability) -> str:
+    if c.trustworthy:
+        return ("The indices can be read: the process is stable on its chart and its values are "
+                "consistent with a normal distribution.")
+    return "Do not rely on these indices yet."

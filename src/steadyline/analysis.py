@@ -1,0 +1,261 @@
+"""One metric's data -> every statistic its displays need.
+
+This is the seam between loading (pandas frames) and the pure statistics (arrays in, results
+out). It decides which displays fit the metric's data type, calls the statistics, and keeps each
+failure of a single display as a plain sentence instead of failing the whole metric.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .config import MetricSpec
+from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, MetricData
+from .stats import capability as cap_mod
+from .stats import choice as choice_mod
+from .stats import compare as compare_mod
+from .stats import control, distribution, pareto, rules, runs
+from .stats.results import (
+    BoxSummary,
+    Capability,
+    ChartChoice,
+    Comparison,
+    ControlChart,
+    Histogram,
+    NormalityTest,
+    Pareto,
+    RunChartAnalysis,
+    Signal,
+    StatsError,
+)
+
+# Fewer than this many points in the after phase: its own limits are not drawn on the history
+# page (Montgomery ch. 6 wants 20-25 subgroups for trial limits, from memory; we accept 12 for a
+# first look at the new process, common practice).
+AFTER_OWN_LIMITS_MIN = 12
+
+
+@dataclass
+class MetricAnalysis:
+    data: MetricData
+    x: tuple[str, ...] = ()
+    stage_names: tuple[str, ...] = ()
+    run: RunChartAnalysis | None = None
+    choice: ChartChoice | None = None
+    control: ControlChart | None = None
+    signals: tuple[Signal, ...] = ()
+    after_limits: ControlChart | None = None  # per-phase limits, for the history page
+    box: BoxSummary | None = None
+    histogram: Histogram | None = None
+    normality: NormalityTest | None = None
+    capability: Capability | None = None
+    pareto: Pareto | None = None
+    column: tuple[tuple[str, ...], tuple[float, ...]] | None = None
+    comparison: Comparison | None = None
+    after_shift: RunChartAnalysis | None = None
+    phase_boxes: list[tuple[str, BoxSummary]] = field(default_factory=list)
+    phase_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
+    phase_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
+    failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
+
+    @property
+    def spec(self) -> MetricSpec:
+        return self.data.spec
+
+    @property
+    def has_after(self) -> bool:
+        return bool((self.data.points["stage"] == STAGE_AFTER).any())
+
+
+def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):
+    try:
+        return fn(*args, **kwargs)
+    except StatsError as e:
+        result.failures.append((display, str(e)))
+        return None
+
+
+def _control(kind: str, data: MetricData, stage: np.ndarray, limits: str) -> ControlChart:
+    pts = data.points
+    if kind == "xmr":
+        return control.individuals(pts["value"].to_numpy(float), stage=stage, limits=limits)
+    if kind in ("xbar-r", "xbar-s"):
+        fn = control.xbar_r if kind == "xbar-r" else control.xbar_s
+        return fn(data.subgroups, stage=stage, limits=limits)
+    counts = pts["count"].to_numpy(float)
+    sizes = pts["size"].to_numpy(float)
+    fns = {"p": control.p_chart, "laney-p": control.laney_p, "u": control.u_chart,
+           "laney-u": control.laney_u}
+    if kind in fns:
+        return fns[kind](counts, sizes, stage=stage, limits=limits)
+    if kind == "np":
+        return control.np_chart(counts, sizes, stage=stage, limits=limits)
+    if kind == "c":
+        return control.c_chart(counts, stage=stage, limits=limits)
+    raise StatsError(f"unknown chart {kind!r}")
+
+
+def _choose(data: MetricData) -> ChartChoice:
+    spec = data.spec
+    override = None if spec.chart == "auto" else spec.chart
+    pts = data.points
+    if data.kind == "continuous":
+        return choice_mod.choose_chart("continuous", override=override)
+    if data.kind == "subgroups":
+        sizes = [len(g) for g in data.subgroups or []]
+        return choice_mod.choose_chart("continuous", subgroup_sizes=sizes, override=override)
+    return choice_mod.choose_chart(data.kind, sizes=pts["size"].to_numpy(float),
+                                   counts=pts["count"].to_numpy(float), override=override)
+
+
+def analyse(data: MetricData) -> MetricAnalysis:
+    """Every statistic that fits the metric's data."""
+    spec = data.spec
+    res = MetricAnalysis(data)
+    pts = data.points
+    if data.kind == "categories":
+        _categories(res)
+        return res
+    stage = pts["stage"].to_numpy(int)
+    res.x = tuple(pts["label"].astype(str))
+    res.stage_names = tuple(STAGE_NAMES[int(s)] for s in stage)
+    values = pts["value"].to_numpy(float)
+    base = stage == STAGE_BASELINE
+
+    # Run chart: the median of the baseline is the centre line carried over later points.
+    base_vals = values[base] if base.any() else values
+    res.run = _try(res, "run chart", runs.analyse_runs, values, spec.run_rules,
+                   median=float(np.median(base_vals)) if len(base_vals) else None)
+
+    # Control chart.
+    res.choice = _try(res, "control chart", _choose, data)
+    if res.choice is not None:
+        res.control = _try(res, "control chart", _control, res.choice.kind, data, stage,
+                           spec.limits)
+        if res.control is not None:
+            res.signals = tuple(rules.detect_signals(res.control, spec.signal_rules))
+            if res.has_after and int((stage == STAGE_AFTER).sum()) >= AFTER_OWN_LIMITS_MIN:
+                res.after_limits = _try(res, "history", _control, res.choice.kind, data, stage,
+                                        "per-phase")
+
+    # Distribution displays on individual values (continuous and subgrouped data).
+    if data.values is not None and len(data.values):
+        vals = data.values["value"].to_numpy(float)
+        vstage = data.values["stage"].to_numpy(int)
+        vbase = vals[vstage == STAGE_BASELINE] if (vstage == STAGE_BASELINE).any() else vals
+        res.box = _try(res, "box plot", distribution.box_summary, vbase, spec.quartiles)
+        res.histogram = _try(res, "histogram", distribution.histogram, vbase, spec.bins)
+        if len(vbase) >= distribution.AD_MIN_POINTS:
+            res.normality = _try(res, "capability", distribution.anderson_darling, vbase)
+        if spec.spec_lower is not None or spec.spec_upper is not None:
+            res.capability = _capability(res, vbase, STAGE_BASELINE)
+        for st in (STAGE_BASELINE, STAGE_AFTER):
+            sel = vals[vstage == st]
+            if len(sel) == 0:
+                continue
+            name = STAGE_NAMES[st]
+            b = _try(res, "history", distribution.box_summary, sel, spec.quartiles)
+            if b is not None:
+                res.phase_boxes.append((name, b))
+            h = _try(res, "history", distribution.histogram, sel,
+                     res.histogram.edges if res.histogram is not None else spec.bins)
+            c = (_capability(res, sel, st) if (spec.spec_lower is not None
+                                                or spec.spec_upper is not None) else None)
+            if h is not None:
+                res.phase_histograms.append((name, h, c))
+
+    # Before / after.
+    if res.has_after and base.any():
+        after = stage == STAGE_AFTER
+        dtype = {"continuous": "continuous", "subgroups": "continuous",
+                 "defectives": "defectives", "defects": "defects"}[data.kind]
+        if data.kind in ("continuous", "subgroups") and data.values is not None:
+            vv, vs = data.values["value"].to_numpy(float), data.values["stage"].to_numpy(int)
+            b_arr, a_arr, bs, as_ = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
+        else:
+            b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
+            bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
+        res.comparison = _try(res, "comparison", compare_mod.compare, b_arr, a_arr, dtype,
+                              spec.better, baseline_sizes=bs, after_sizes=as_,
+                              target=spec.target, metric=spec.name, unit=spec.unit)
+        if res.run is not None:
+            res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
+                                   res.run.median, spec.run_rules)
+    return res
+
+
+def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
+    """Within-subgroup sigma of the individual values, from the chart fitted on that stage."""
+    chart = res.control if stage == STAGE_BASELINE else res.after_limits
+    if chart is None or chart.process_sigma is None:
+        return None
+    if res.data.spec.rollup is not None:
+        return None  # sigma of rolled-up means is not the sigma of single values
+    if stage == STAGE_BASELINE:
+        return chart.process_sigma
+    # per-phase chart: process_sigma is the baseline's; recompute from the after stage alone
+    data = res.data
+    st = data.points["stage"].to_numpy(int)
+    sel = st == stage
+    if sel.sum() < 2:
+        return None
+    try:
+        sub = _control(res.choice.kind if res.choice else "xmr",
+                       _subset(data, sel), np.zeros(int(sel.sum()), dtype=int), "baseline")
+    except StatsError:
+        return None
+    return sub.process_sigma
+
+
+def _subset(data: MetricData, sel: np.ndarray) -> MetricData:
+    pts = data.points[sel].reset_index(drop=True)
+    groups = [g for g, s in zip(data.subgroups, sel, strict=True) if s] if data.subgroups else None
+    return MetricData(data.spec, data.kind, pts, subgroups=groups)
+
+
+def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int) -> Capability | None:
+    spec = res.data.spec
+    chart = res.control
+    stable, reason = True, None
+    if chart is not None and stage == STAGE_BASELINE:
+        st = chart.stage
+        own = [s for s in res.signals if any(st[i] == stage for i in s.indices)]
+        if own:
+            stable = False
+            reason = (f"The control chart shows {len(own)} signal"
+                      f"{'' if len(own) == 1 else 's'} in this period, so the process is not "
+                      "stable and its future output cannot be predicted from these figures.")
+    if res.data.spec.rollup is not None:
+        extra = ("The data are rolled up into periods, so the within-subgroup sigma of single "
+                 "values is not known; only Pp and Ppk (overall sigma) are given.")
+        reason = extra if reason is None else reason + " " + extra
+    normality = None
+    if len(vals) >= distribution.AD_MIN_POINTS:
+        normality = _try(res, "capability", distribution.anderson_darling, vals)
+    return _try(res, "capability", cap_mod.capability, vals, _sigma_within(res, stage),
+                lsl=spec.spec_lower, usl=spec.spec_upper, target=spec.target, stable=stable,
+                normality=normality, unstable_reason=reason)
+
+
+def _categories(res: MetricAnalysis) -> None:
+    data = res.data
+    pts = data.points
+    cats = pts["category"].astype(str).to_numpy()
+    weights = pts["weight"].to_numpy(float)
+    res.pareto = _try(res, "Pareto chart", pareto.pareto, cats, weights)
+    if res.pareto is not None:
+        # The column chart keeps the categories in their own (alphabetical) order, so that it
+        # reads differently from the Pareto; counts come from the same tally.
+        tally = dict(zip(res.pareto.categories, res.pareto.counts, strict=True))
+        names = tuple(sorted(tally, key=str.casefold))
+        res.column = (names, tuple(float(tally[n]) for n in names))
+        stage = pts["stage"].to_numpy(int)
+        if (stage == STAGE_AFTER).any() and (stage == STAGE_BASELINE).any():
+            order = res.pareto.categories
+            for st in (STAGE_BASELINE, STAGE_AFTER):
+                sel = stage == st
+                p = _try(res, "history", pareto.pareto_in_order, cats[sel], weights[sel], order)
+                if p is not None:
+                    res.phase_paretos.append((STAGE_NAMES[st], p))

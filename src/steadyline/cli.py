@@ -1,0 +1,152 @@
+"""The command line: build, check, watch.
+
+This is the one place that turns our errors into exit codes:
+  0  everything built / no errors (warnings may have been printed);
+  1  a project has errors (it is shown as a notice on the site; the rest was published);
+  2  the command could not run at all (bad arguments, missing projects folder, output folder
+     not writable).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import traceback
+from pathlib import Path
+
+from . import __version__
+from .errors import Problem, SteadylineError
+
+
+def _print_problems(problems: list[Problem], stream=sys.stderr) -> None:
+    seen = set()
+    for p in sorted(problems, key=lambda p: (p.path, p.line or 0, p.where, p.message)):
+        line = p.format()
+        if line not in seen:
+            seen.add(line)
+            print(line, file=stream)
+
+
+def _progress(total: int, enabled: bool):
+    """A progress bar on a terminal; silent in CI or when output is not a terminal."""
+    if not enabled or total < 2:
+        return None, lambda slug: None
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
+
+    prog = Progress(TextColumn("building"), BarColumn(), MofNCompleteColumn(),
+                    TextColumn("{task.description}"), transient=True)
+    task = prog.add_task("", total=total)
+    return prog, lambda slug: prog.update(task, advance=1, description=slug)
+
+
+def _show_progress(args) -> bool:
+    return (not args.quiet and sys.stderr.isatty() and not os.environ.get("CI"))
+
+
+def cmd_build(args) -> int:
+    from .config import discover
+    from .site.build import BuildOptions, build
+
+    projects = Path(args.projects_dir)
+    out = Path(args.out)
+    total = len(discover(projects)) if projects.is_dir() else 0
+    prog, cb = _progress(total, _show_progress(args))
+    opts = BuildOptions(projects, out, force=args.force, jobs=args.jobs, debug=args.debug)
+    if prog is not None:
+        with prog:
+            report = build(opts, cb)
+    else:
+        report = build(opts, cb)
+    _print_problems(report.problems)
+    if not args.quiet:
+        state = "published" if report.written else "unchanged, nothing written"
+        print(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+              f"{len(report.broken)} with errors; site {state} at {out}", file=sys.stderr)
+    if args.strict and any(p.severity == "warning" for p in report.problems):
+        return 1
+    return 0 if report.ok else 1
+
+
+def cmd_check(args) -> int:
+    from .site.build import check
+
+    problems = check(Path(args.projects_dir))
+    _print_problems(problems, sys.stdout)
+    errors = sum(p.severity == "error" for p in problems)
+    warnings = len(problems) - errors
+    if not args.quiet:
+        print(f"steadyline check: {errors} error{'s' if errors != 1 else ''}, {warnings} "
+              f"warning{'s' if warnings != 1 else ''}", file=sys.stderr)
+    if errors or (args.strict and warnings):
+        return 1
+    return 0
+
+
+def cmd_watch(args) -> int:
+    from .watch import watch
+
+    return watch(Path(args.projects_dir), Path(args.out), port=args.port, serve=not args.no_serve,
+                 jobs=args.jobs, debug=args.debug, quiet=args.quiet)
+
+
+def parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="steadyline",
+        description="Build a static site of baseline and before/after displays from project "
+                    "folders of CSV files and a project.toml each.")
+    p.add_argument("--version", action="version", version=f"steadyline {__version__}")
+    sub = p.add_subparsers(dest="command", required=True)
+
+    def common(sp, out=True):
+        sp.add_argument("projects_dir", nargs="?", default="projects",
+                        help="the portfolio folder with one sub-folder per project "
+                             "(default: projects)")
+        if out:
+            sp.add_argument("--out", default="site", help="output folder (default: site)")
+            sp.add_argument("--jobs", type=int, default=None,
+                            help="projects built in parallel (default: number of cores)")
+        sp.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+        sp.add_argument("--quiet", action="store_true", help="print only problems")
+
+    b = sub.add_parser("build", help="build the static site")
+    common(b)
+    b.add_argument("--force", action="store_true",
+                   help="rebuild every project, even those whose inputs did not change")
+    b.add_argument("--strict", action="store_true", help="exit 1 on warnings too")
+    b.set_defaults(func=cmd_build)
+
+    c = sub.add_parser("check", help="validate every project without writing anything")
+    common(c, out=False)
+    c.add_argument("--strict", action="store_true", help="exit 1 on warnings too")
+    c.set_defaults(func=cmd_check)
+
+    w = sub.add_parser("watch", help="build, serve on 127.0.0.1 and rebuild on every change")
+    common(w)
+    w.add_argument("--port", type=int, default=8000, help="port on 127.0.0.1 (default: 8000)")
+    w.add_argument("--no-serve", action="store_true", help="only rebuild; do not serve")
+    w.set_defaults(func=cmd_watch)
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = parser().parse_args(argv)
+    try:
+        return args.func(args)
+    except SteadylineError as e:
+        print(f"steadyline: {e}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("steadyline: interrupted; the published site was left as it was", file=sys.stderr)
+        return 130
+    except Exception as e:  # the one catch-all
+        if getattr(args, "debug", False):
+            traceback.print_exc()
+        else:
+            print(f"steadyline: internal error: {type(e).__name__}: {e} (run with --debug for "
+                  "the traceback)", file=sys.stderr)
+        return 2
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

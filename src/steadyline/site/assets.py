@@ -1,0 +1,54 @@
+"""Static assets of the site: the offline Vega bundle, our stylesheet and script, licences.
+
+The Vega, Vega-Lite and vega-embed JavaScript comes from vl-convert-python's bundled copy, so the
+site needs no network: it is written once under assets/ and shared by every page.
+"""
+
+from __future__ import annotations
+
+import functools
+import hashlib
+import shutil
+from pathlib import Path
+
+from .templates import templates_dir
+
+VEGA_BUNDLE = "vega-bundle.js"
+LICENCES = "THIRD-PARTY-LICENCES.txt"
+
+
+@functools.lru_cache(maxsize=1)
+def vega_bundle() -> str:
+    import vl_convert
+
+    return vl_convert.javascript_bundle()
+
+
+def asset_files() -> dict[str, bytes]:
+    """Every file under assets/, name -> bytes (deterministic)."""
+    src = templates_dir() / "assets"
+    files = {p.relative_to(src).as_posix(): p.read_bytes() for p in sorted(src.rglob("*"))
+             if p.is_file()}
+    files[VEGA_BUNDLE] = vega_bundle().encode("utf-8")
+    return files
+
+
+def assets_fingerprint() -> str:
+    h = hashlib.sha256()
+    for name, data in sorted(asset_files().items()):
+        h.update(name.encode())
+        h.update(hashlib.sha256(data).digest())
+    return h.hexdigest()
+
+
+def write_assets(out: Path) -> None:
+    dest = out / "assets"
+    dest.mkdir(parents=True, exist_ok=True)
+    for name, data in asset_files().items():
+        p = dest / name
+        p.parent.mkdir(parents=True, exist_ok=True)
+        p.write_bytes(data)
+
+
+def copy_tree(src: Path, dst: Path) -> None:
+    shutil.copytree(src, dst, dirs_exist_ok=True)

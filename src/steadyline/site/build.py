@@ -1,0 +1,234 @@
+"""The build as named stages.
+
+1. settings  - read portfolio.toml (defaults when absent);
+2. discover  - list project folders;
+3. plan      - hash each project's inputs (files, tool version, templates, settings) and decide
+               which projects must be rebuilt: a project whose hash matches the published site's
+               manifest is reused as it is;
+4. compute   - build the changed projects in memory (a process pool when there are several);
+               nothing is written yet, so a failure here leaves the published site untouched;
+5. index     - render the index from every project's entry (always, since it lists them all);
+6. stage     - write new files and hard-link reused ones into a staging folder beside the output;
+7. publish   - swap the staging folder in atomically.
+
+Gathering everything before writing anything is what keeps a half-written site from ever being
+published. When nothing changed at all, nothing is written (a site kept in a repository does
+not churn).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import sys
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, field
+from multiprocessing import get_context
+from pathlib import Path
+
+from .. import __version__
+from ..config import PHASES, PortfolioSettings, discover, load_portfolio
+from ..errors import BuildError, Problem
+from .assets import asset_files
+from .project import ProjectOutcome, build_project, error_outcome, input_hash, page_context
+from .publish import clean_stale, link_or_copy, publish, staging_dir, write_files
+from .serialise import dumps
+from .templates import render, templates_fingerprint
+
+MANIFEST = ".steadyline-manifest.json"
+LIVE_STATE = "live-state.json"
+
+
+@dataclass
+class BuildOptions:
+    projects_dir: Path
+    out: Path
+    force: bool = False
+    jobs: int | None = None
+    live: bool = False  # pages poll live-state.json and reload (watch mode)
+    progress: bool = False
+    debug: bool = False
+    only: set[str] | None = None  # watch mode: rebuild only these slugs (others reused)
+
+
+@dataclass
+class BuildReport:
+    built: list[str] = field(default_factory=list)
+    reused: list[str] = field(default_factory=list)
+    broken: list[str] = field(default_factory=list)
+    problems: list[Problem] = field(default_factory=list)
+    written: bool = False
+    stamps: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def ok(self) -> bool:
+        return not self.broken
+
+
+def _settings_key(settings: PortfolioSettings, live: bool) -> str:
+    return json.dumps([__version__, templates_fingerprint(), repr(settings), live])
+
+
+def _read_manifest(out: Path) -> dict:
+    try:
+        data = json.loads((out / MANIFEST).read_text(encoding="utf-8"))
+        return data if data.get("version") == __version__ else {}
+    except (OSError, ValueError):
+        return {}
+
+
+def _worker(args) -> ProjectOutcome:
+    folder, root, settings, live, debug = args
+    return build_project(folder, root, settings, live=live, debug=debug)
+
+
+def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
+    if jobs <= 1 or len(tasks) <= 2:
+        results = []
+        for t in tasks:
+            results.append(_worker(t))
+            progress(t[0].name)
+        return results
+    # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
+    with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
+        results = []
+        for r in pool.map(_worker, tasks, chunksize=max(1, len(tasks) // (jobs * 8))):
+            results.append(r)
+            progress(r.slug)
+        return results
+
+
+def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> bytes:
+    order = {p: i for i, p in enumerate(PHASES)}
+    entries = sorted(entries, key=lambda e: (not e["broken"], order.get(e["phase"], -1),
+                                             e["title"].casefold(), e["slug"]))
+    # Broken first (they need attention), then by phase from define to control, then by title.
+    ok = [e for e in entries if not e["broken"]]
+    ctx = page_context("", settings, f"{LIVE_STATE} __index__" if live else None)
+    html = render("index.html", projects=entries, broken=len(entries) - len(ok),
+                  phases=[p for p in PHASES if any(e["phase"] == p for e in ok)],
+                  owners=sorted({e["owner"] for e in ok}, key=str.casefold),
+                  tags=sorted({t for e in ok for t in e["tags"]}, key=str.casefold), **ctx)
+    return html.encode()
+
+
+def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
+    root = opts.projects_dir
+    out = opts.out
+    report = BuildReport()
+    if not root.is_dir():
+        raise BuildError(f"{root}: the projects folder does not exist")
+    if out.resolve() == root.resolve() or root.resolve() in out.resolve().parents:
+        raise BuildError(f"{out}: the output folder must not be inside the projects folder")
+
+    # 1-2. settings and discovery
+    settings, portfolio_problems = load_portfolio(root)
+    report.problems.extend(portfolio_problems)
+    folders = discover(root)
+
+    # 3. plan
+    manifest = {} if opts.force else _read_manifest(out)
+    old = manifest.get("projects", {})
+    key = _settings_key(settings, opts.live)
+    hashes = {f.name: input_hash(f, key) for f in folders}
+    todo, reuse = [], []
+    for f in folders:
+        prev = old.get(f.name)
+        fresh = (prev is not None and prev["hash"] == hashes[f.name]
+                 and (opts.only is None or f.name not in opts.only)
+                 and all((out / "projects" / f.name / n).is_file() for n in prev["files"]))
+        (reuse if fresh else todo).append(f)
+
+    # 4. compute
+    jobs = opts.jobs or os.cpu_count() or 1
+    live = LIVE_STATE if opts.live else None
+    progress = progress_cb or (lambda slug: None)
+    tasks = [(f, root, settings, live, opts.debug) for f in todo]
+    outcomes = compute(tasks, jobs, progress)
+    if any(p.severity == "error" for p in portfolio_problems):
+        # A broken portfolio.toml: its defaults are used and every project says so.
+        for o in outcomes:
+            o.problems = portfolio_problems + o.problems
+
+    entries: dict[str, dict] = {}
+    files_of: dict[str, list[str]] = {}
+    for o in outcomes:
+        entries[o.slug] = o.entry
+        files_of[o.slug] = sorted(o.files)
+        report.problems.extend(o.problems)
+        (report.built if o.ok else report.broken).append(o.slug)
+    for f in reuse:
+        prev = old[f.name]
+        entries[f.name] = prev["entry"]
+        files_of[f.name] = prev["files"]
+        report.reused.append(f.name)
+        if prev["entry"].get("broken"):
+            report.broken.append(f.name)
+            report.problems.extend(Problem(**p) for p in prev.get("problems", []))
+
+    # 5. index and manifest
+    index = index_page(list(entries.values()), settings, opts.live)
+    problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
+    new_manifest = {
+        "version": __version__,
+        "projects": {
+            slug: {"hash": hashes[slug], "files": files_of[slug], "entry": entries[slug],
+                   "problems": problems_of.get(slug, old.get(slug, {}).get("problems", []))}
+            for slug in sorted(entries)
+        },
+    }
+    manifest_bytes = (dumps(new_manifest) + "\n").encode()
+    report.stamps = {slug: hashes[slug][:16] for slug in entries}
+    report.stamps["__index__"] = __import__("hashlib").sha256(index).hexdigest()[:16]
+
+    unchanged = (not outcomes and out.is_dir()
+                 and _same(out / "index.html", index) and _same(out / MANIFEST, manifest_bytes))
+    if unchanged:
+        return report
+
+    # 6. stage
+    clean_stale(out)
+    staged = staging_dir(out)
+    try:
+        staged.mkdir(parents=True)
+        write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
+        write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
+        if opts.live:
+            write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
+                                              + "\n").encode()})
+        for o in outcomes:
+            write_files(staged / "projects" / o.slug, o.files)
+        for f in reuse:
+            for name in files_of[f.name]:
+                link_or_copy(out / "projects" / f.name / name, staged / "projects" / f.name / name)
+        # 7. publish
+        publish(staged, out)
+    except BaseException:
+        import shutil
+
+        shutil.rmtree(staged, ignore_errors=True)
+        raise
+    report.written = True
+    return report
+
+
+def _same(path: Path, data: bytes) -> bool:
+    try:
+        return path.read_bytes() == data
+    except OSError:
+        return False
+
+
+def check(projects_dir: Path) -> list[Problem]:
+    """Validate every project (metadata, data, statistics) without writing anything."""
+    if not projects_dir.is_dir():
+        raise BuildError(f"{projects_dir}: the projects folder does not exist")
+    settings, problems = load_portfolio(projects_dir)
+    problems = list(problems)
+    for folder in discover(projects_dir):
+        o = build_project(folder, projects_dir, settings)
+        problems.extend(o.problems)
+    return problems
+
+
+__all__ = ["BuildOptions", "BuildReport", "build", "check", "error_outcome", "sys"]

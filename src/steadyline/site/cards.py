@@ -1,0 +1,153 @@
+"""Display cards shared by the project and history pages: chart + sentences + downloads."""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import numpy as np
+from markupsafe import Markup
+
+from .. import advice
+from ..analysis import MetricAnalysis
+from ..charts import ChartSpec, SeriesContext
+from ..config import ProjectSpec
+from ..stats.compare import format_p_value
+from .serialise import dumps, script_json
+
+# --------------------------------------------------------------------------------------- helpers
+
+
+def fmt(v: float | None, unit: str = "", digits: int = 4) -> str:
+    if v is None or not np.isfinite(v):
+        return "—"
+    a = abs(v)
+    text = f"{v:.{digits}g}" if a >= 1e-3 or a == 0 else f"{v:.3g}"
+    if "e" in text:
+        text = f"{v:,.0f}" if a >= 1 else f"{v:.2e}"
+    return f"{text} {unit}".strip()
+
+
+def pct(v: float | None) -> str:
+    return "—" if v is None or not np.isfinite(v) else f"{100 * v:.2f}%"
+
+
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+def safe_cell(v) -> str:
+    """A CSV cell that a spreadsheet will not run as a formula; numbers stay unchanged."""
+    if v is None:
+        return ""
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int | float | np.integer | np.floating):
+        f = float(v)
+        return "" if not np.isfinite(f) else (str(int(f)) if f.is_integer() and abs(f) < 1e15
+                                               else repr(f))
+    s = str(v)
+    if s.startswith(_FORMULA_START):
+        try:
+            float(s)
+            return s  # a plain signed number
+        except ValueError:
+            return "'" + s
+    return s
+
+
+def table_csv(chart: ChartSpec) -> bytes:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow([safe_cell(c) for c in chart.columns])
+    for row in chart.table:
+        w.writerow([safe_cell(row.get(c)) for c in chart.columns])
+    return buf.getvalue().encode("utf-8")
+
+
+def _cell(v) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, float | np.floating):
+        return fmt(float(v), digits=6)
+    return str(v)
+
+
+class Displays:
+    """Collects a metric's display cards and their download files."""
+
+    def __init__(self, slug: str, metric_id: str, files: dict[str, bytes], prefix: str = ""):
+        self.slug, self.metric_id, self.files = slug, metric_id, files
+        self.prefix = prefix
+        self.cards: list[dict] = []
+
+    def add(self, key: str, title: str, chart: ChartSpec, findings=(), cautions=(),
+            method: str = "") -> dict:
+        base = f"{self.prefix}{self.metric_id}-{key}"
+        data_name = f"data/{base}.csv"
+        spec_name = f"data/{base}.vl.json"
+        self.files[data_name] = table_csv(chart)
+        self.files[spec_name] = (dumps(chart.spec, indent=1) + "\n").encode()
+        cautions = list(cautions) + advice.bar_axis_cautions(chart.spec)
+        card = {
+            "key": key, "title": title, "anchor": base, "chart_id": f"chart-{base}",
+            # script_json leaves no '<', '>' or '&', so the JSON cannot end its script element
+            "spec_json": Markup(script_json(chart.spec)),
+            "summary": chart.summary,
+            "findings": [f.__dict__ for f in findings], "cautions": list(dict.fromkeys(cautions)),
+            "method": method, "csv_href": data_name, "spec_href": spec_name,
+            "table": {"columns": list(chart.columns),
+                      "rows": [[_cell(r.get(c)) for c in chart.columns] for r in chart.table]},
+        }
+        self.cards.append(card)
+        return card
+
+
+def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
+    pts = a.data.points
+    return SeriesContext(
+        x=tuple(pts["period"].dt.strftime("%Y-%m-%dT%H:%M:%S").str.replace("T00:00:00", "",
+                                                                            regex=False)),
+        x_is_time=True,
+        stage=a.stage_names,
+        segment=tuple(int(s) for s in pts["segment"]),
+        unit=a.spec.unit,
+        metric_name=a.spec.name,
+        events=tuple((e.date.isoformat(), e.label) for e in spec.events),
+    )
+
+
+def signals_json(signals, x) -> list[dict]:
+    return [{"rule": s.rule, "description": s.description, "indices": list(s.indices),
+             "dates": [x[i] for i in s.indices], "side": s.side, "chart": s.chart}
+            for s in signals]
+
+
+def capability_rows(c, unit: str) -> list[tuple[str, str, str]]:
+    rows = [
+        ("Cp", fmt(c.cp, digits=3), "spread of the specification over 6 within-subgroup sigma"),
+        ("Cpk", fmt(c.cpk, digits=3), "distance of the mean to the nearer limit, in 3 within sigma"),
+    ]
+    if c.cpk_ci is not None:
+        rows.append(("Cpk, 95% interval", f"{fmt(c.cpk_ci[0], digits=3)} to "
+                     f"{fmt(c.cpk_ci[1], digits=3)}", "Bissell (1990) approximation"))
+    rows += [
+        ("Pp", fmt(c.pp, digits=3), "as Cp, with the overall standard deviation"),
+        ("Ppk", fmt(c.ppk, digits=3), "as Cpk, with the overall standard deviation"),
+        ("Mean", fmt(c.mean, unit), f"of {c.n} values"),
+        ("Sigma within", fmt(c.sigma_within, unit), "from the control chart"),
+        ("Sigma overall", fmt(c.sigma_overall, unit), "sample standard deviation"),
+        ("Expected out of spec (within)", fmt(c.ppm_expected_within, "ppm"),
+         "under a normal model"),
+        ("Expected out of spec (overall)", fmt(c.ppm_expected_overall, "ppm"),
+         "under a normal model"),
+        ("Observed out of spec", fmt(c.ppm_observed, "ppm"), "counted in the data"),
+    ]
+    if c.normality is not None:
+        n = c.normality
+        rows.append(("Anderson–Darling A²", fmt(n.statistic, digits=3),
+                     f"p = {format_p_value(n.p_value)}: "
+                     + ("consistent with a normal distribution" if n.normal_at_5pct
+                        else "not consistent with a normal distribution at the 5% level")))
+    return rows
+
+

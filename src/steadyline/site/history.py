@@ -1,0 +1,115 @@
+"""The history page of a project: its phases, its events, and before/after for every metric."""
+
+from __future__ import annotations
+
+from ..analysis import MetricAnalysis
+from ..charts import box_chart, control_chart, histogram_chart, phase_pareto_chart
+from ..config import PHASES, ProjectSpec
+from ..stats.compare import format_p_value
+from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
+from .serialise import plain
+from .templates import render
+
+MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
+                "rate": "Rate"}
+
+
+def timeline(spec: ProjectSpec) -> list[dict]:
+    reached = dict(spec.phase_dates)
+    current = PHASES.index(spec.phase)
+    out = []
+    for i, ph in enumerate(PHASES):
+        out.append({"phase": ph, "label": ph.capitalize(),
+                    "date": reached[ph].isoformat() if ph in reached else "",
+                    "state": "current" if i == current else ("reached" if i < current
+                                                             else "ahead")})
+    return out
+
+
+def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
+    c = a.comparison
+    if c is None:
+        return []
+    unit = a.spec.unit
+    show = pct if c.measure == "proportion" else (lambda v: fmt(v, unit, 4))
+    change = pct(c.change) if c.measure == "proportion" else fmt(c.change, unit, 4)
+    rows = [
+        (f"{MEASURE_TEXT.get(c.measure, c.measure)}, baseline", show(c.baseline),
+         f"{c.n_baseline} {'values' if c.measure in ('mean', 'median') else 'periods'}"),
+        (f"{MEASURE_TEXT.get(c.measure, c.measure)}, after", show(c.after),
+         f"{c.n_after} {'values' if c.measure in ('mean', 'median') else 'periods'}"),
+        ("Change", change + (f" ({c.percent_change:+.1f}%)" if c.percent_change is not None
+                             else ""),
+         {True: "in the better direction", False: "in the worse direction",
+          None: "direction not judged"}[c.improved]),
+        ("Test", c.test, f"p = {format_p_value(c.p_value)}"),
+    ]
+    if a.after_shift is not None:
+        sh = a.after_shift
+        rows.append(("Sustained shift", "yes" if sh.signals else "no",
+                     f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
+                     f" by the {sh.rule_set.capitalize()} rules"))
+    return rows
+
+
+def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[str, bytes],
+                 ctx: dict, project_ctx: dict) -> tuple[str, list[dict]]:
+    sections, results = [], []
+    for a in analyses:
+        m = a.spec
+        d = Displays(spec.slug, m.id, files, prefix="history-")
+        result: dict = {"id": m.id, "name": m.name}
+        if a.control is not None and a.data.kind != "categories":
+            sctx = series_context(a, spec)
+            staged = a.after_limits or a.control
+            own = a.after_limits is not None
+            from ..stats import rules
+
+            sigs = tuple(rules.detect_signals(staged, m.signal_rules)) if own else a.signals
+            chart = control_chart(sctx, staged, sigs)
+            d.add("staged-control", "Control chart by phase", chart,
+                  method=("Each phase with its own limits, drawn as steps; the baseline limits "
+                          "are those of the project page." if own else
+                          "Baseline limits carried forward over the later points, so the after "
+                          "data is judged against the old process (the after phase has too few "
+                          "points for limits of its own)."))
+            result["staged_control_chart"] = {"own_after_limits": own, "chart": plain(staged),
+                                              "signals": signals_json(sigs, a.x)}
+        if len(a.phase_boxes) > 1:
+            chart = box_chart(a.phase_boxes, unit=m.unit)
+            d.add("phase-box", "Box plots by phase", chart,
+                  method="Both phases on one scale; quartiles by "
+                         f"{a.phase_boxes[0][1].method_label}.")
+            result["box_plots"] = {name: plain(b) for name, b in a.phase_boxes}
+        caps = []
+        for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
+            chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
+                                    target=m.target, title=f"{m.name}, {name.lower()}")
+            key = f"histogram-{name.lower().replace(' ', '-')}"
+            d.add(key, f"Histogram, {name.lower()}", chart,
+                  method="Same bin edges in every phase.")
+            if c is not None:
+                caps.append({"phase": name, "rows": capability_rows(c, m.unit),
+                             "trustworthy": c.trustworthy, "reasons": list(c.reasons)})
+        if len(a.phase_histograms) > 1:
+            result["histograms"] = {name: plain(h) for name, h, _ in a.phase_histograms}
+            result["capability"] = {name: plain(c) for name, _, c in a.phase_histograms if c}
+        if len(a.phase_paretos) > 1:
+            chart = phase_pareto_chart(a.phase_paretos)
+            d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
+                  method="Categories keep the baseline's order in every phase, so shrinking "
+                         "bars show which causes the improvement removed.")
+            result["paretos"] = {name: plain(p) for name, p in a.phase_paretos}
+        if a.comparison is not None:
+            result["comparison"] = plain(a.comparison)
+        if a.after_shift is not None:
+            result["sustained_shift"] = bool(a.after_shift.signals)
+        sections.append({"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
+                         "comparison": comparison_rows(a),
+                         "sentence": a.comparison.sentence if a.comparison else "",
+                         "improved": a.comparison.improved if a.comparison else None,
+                         "capabilities": caps})
+        results.append(result)
+    html = render("history.html", project=project_ctx, timeline=timeline(spec),
+                  metrics=sections, **ctx)
+    return html, results

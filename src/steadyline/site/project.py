@@ -1,0 +1,436 @@
+"""Build one project: load, analyse, compose charts and pages, all in memory.
+
+:func:`build_project` gathers and computes everything for a project before any byte is written,
+and returns the files as a name -> bytes mapping plus the entry the index page needs. A project
+whose files have errors returns an error page instead; the rest of the site is unaffected.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import subprocess
+import traceback
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .. import __version__, advice
+from ..analysis import MetricAnalysis, analyse
+from ..charts import (
+    box_chart,
+    column_chart,
+    control_chart,
+    histogram_chart,
+    pareto_chart,
+    run_chart,
+)
+from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
+from ..errors import Problem, ProjectError, rel
+from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
+from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
+from .cards import (
+    Displays,
+    capability_rows,
+    fmt,
+    pct,
+    series_context,
+    signals_json,
+)
+from .history import history_page
+from .notes import render_notes
+from .serialise import dumps, plain
+from .templates import render
+
+CSP = ("default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "
+       "img-src 'self' data: blob:; connect-src 'self'; font-src 'self'; "
+       "base-uri 'none'; form-action 'none'; object-src 'none'")
+RESULTS_SCHEMA = "steadyline-results/1"
+SIGNAL_RULE_LABELS = {
+    "western-electric": "Western Electric zone rules",
+    "nelson": "Nelson rules",
+}
+DATA_TEXT = {
+    "continuous": "single measured values",
+    "subgroups": "measured values in subgroups",
+    "defectives": "defective items out of items checked",
+    "defects": "defects counted over an area of opportunity",
+    "categories": "one category per row",
+}
+BETTER_TEXT = {"lower": "lower values", "higher": "higher values",
+               "target": "values close to the target"}
+PHASE_LABEL = {p: p.capitalize() for p in PHASES}
+
+
+@dataclass
+class ProjectOutcome:
+    slug: str
+    ok: bool
+    files: dict[str, bytes] = field(default_factory=dict)
+    entry: dict = field(default_factory=dict)
+    problems: list[Problem] = field(default_factory=list)  # errors and warnings, for the terminal
+
+
+def page_context(root: str, settings: PortfolioSettings, live: str | None) -> dict:
+    return {"root": root, "portfolio_title": settings.title, "version": __version__,
+            "csp": CSP, "live": live}
+
+
+def build_project(folder: Path, root: Path, settings: PortfolioSettings,
+                  live: str | None = None, debug: bool = False) -> ProjectOutcome:
+    """Everything for one project, in memory. Never raises for bad input."""
+    slug = folder.name
+    try:
+        spec, warnings = load_project(folder, root, settings)
+        return _build_ok(spec, warnings, root, settings, live)
+    except ProjectError as e:
+        return error_outcome(slug, e.problems, settings, live)
+    except Exception as e:  # a bug of ours: still publish the rest of the site
+        detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
+        prob = Problem(rel(folder, root), None, "", "internal error while building this "
+                       f"project ({detail.strip()}); please report it (run with --debug for "
+                       "the traceback)")
+        return error_outcome(slug, [prob], settings, live)
+
+
+def error_outcome(slug: str, problems: list[Problem], settings: PortfolioSettings,
+                  live: str | None) -> ProjectOutcome:
+    ctx = page_context("../../", settings, live and f"../../{live} {slug}")
+    html = render("error.html", slug=slug, title=f"{slug}: not built", problems=[
+        {"severity": p.severity, "text": p.format()} for p in problems], **ctx)
+    entry = {"slug": slug, "title": slug, "broken": True, "href": f"projects/{slug}/index.html",
+             "problem_count": sum(p.severity == "error" for p in problems), "phase": "",
+             "owner": "", "tags": [], "search_text": slug}
+    return ProjectOutcome(slug, False, {"index.html": html.encode()}, entry, problems)
+
+
+def periods_text(a: MetricAnalysis) -> str:
+    m = a.spec
+    if m.baseline is None:
+        return "no baseline period set: all data is treated as baseline"
+    text = f"baseline {m.baseline.label()}"
+    if m.after:
+        text += f"; after {m.after.label()}"
+    return text
+
+
+def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes],
+                   metric_problems: list[Problem]) -> tuple[dict, dict]:
+    """The page section and the results.json entry of one metric."""
+    m = a.spec
+    d = Displays(spec.slug, m.id, files)
+    unit = m.unit
+    signal_label = SIGNAL_RULE_LABELS[m.signal_rules]
+    run_label = RUN_RULE_LABELS.get(m.run_rules, m.run_rules)
+    result: dict = {
+        "id": m.id, "name": m.name, "unit": unit, "type": m.type, "effective_type": a.data.kind,
+        "better": m.better, "file": m.file_rel, "rows_read": a.data.raw_rows,
+        "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper, "target": m.target},
+        "periods": {"baseline": m.baseline and [m.baseline.start, m.baseline.end],
+                    "after": m.after and [m.after.start, m.after.end]},
+        "rules": {"signal_rules": m.signal_rules, "run_rules": m.run_rules,
+                  "limits": m.limits, "quartiles": m.quartiles,
+                  "bins": list(m.bins) if isinstance(m.bins, tuple) else m.bins},
+    }
+    open_signals = 0
+    if a.data.kind != "categories":
+        ctx = series_context(a, spec)
+        pts = a.data.points
+        result["points"] = {"label": list(a.x), "period": list(ctx.x),
+                            "value": pts["value"].to_numpy(float),
+                            "stage": [s for s in a.stage_names]}
+        if a.run is not None:
+            chart = run_chart(ctx, pts["value"].to_numpy(float), a.run)
+            d.add("run", "Run chart with median", chart,
+                  advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
+                  f"Median of the baseline as centre line; rules: {run_label}.")
+            result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
+            open_signals += len(a.run.signals)
+        if a.control is not None:
+            chart = control_chart(ctx, a.control, a.signals)
+            title = f"Control chart: {a.control.label}"
+            if a.control.secondary is not None:
+                title += f" with {a.control.secondary.label}"
+            d.add("control", title, chart,
+                  advice.control_findings(a.control, a.signals, a.x, signal_label),
+                  advice.control_cautions(a.control),
+                  f"{a.choice.reason if a.choice else ''} Sigma: {a.control.sigma_method}. "
+                  f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
+                  f"; rules: {signal_label}.")
+            result["control_chart"] = {
+                "choice": plain(a.choice), "chart": plain(a.control),
+                "signals": signals_json(a.signals, a.x)}
+            open_signals += len(a.signals)
+    if a.histogram is not None:
+        chart = histogram_chart(a.histogram, unit=unit, lsl=m.spec_lower, usl=m.spec_upper,
+                                target=m.target, normal_curve=m.normal_curve,
+                                title=f"{m.name}, baseline")
+        d.add("histogram", "Histogram of the baseline", chart,
+              cautions=advice.histogram_cautions(a.histogram.n),
+              method=f"Bins by the {a.histogram.rule_label} rule.")
+        result["histogram"] = plain(a.histogram)
+    if a.box is not None:
+        chart = box_chart([("Baseline", a.box)], unit=unit)
+        d.add("box", "Box plot of the baseline", chart, cautions=advice.box_cautions(a.box.n),
+              method=f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
+                     "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
+        result["box_plot"] = plain(a.box)
+    if a.pareto is not None:
+        chart = pareto_chart(a.pareto)
+        d.add("pareto", "Pareto chart", chart, advice.pareto_findings(a.pareto),
+              advice.pareto_cautions(a.pareto),
+              "Bars in descending order; the line is the cumulative percentage on the right "
+              "axis, whose 100% sits level with the total on the left axis.")
+        result["pareto"] = plain(a.pareto)
+    if a.column is not None:
+        chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
+        d.add("column", "Column chart by category", chart,
+              cautions=advice.column_cautions(len(a.column[0])),
+              method="Categories in alphabetical order; the count axis starts at zero.")
+        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1])}
+    cap = None
+    if a.capability is not None:
+        c = a.capability
+        cap = {"trustworthy": c.trustworthy, "verdict": advice.capability_verdict(c),
+               "reasons": list(c.reasons), "rows": capability_rows(c, unit)}
+        result["capability"] = plain(c)
+    if a.normality is not None:
+        result["normality"] = plain(a.normality)
+    if a.comparison is not None:
+        result["comparison"] = plain(a.comparison)
+    if a.after_shift is not None:
+        result["after_shift"] = plain(a.after_shift) | {
+            "signals": signals_json(a.after_shift.signals, _after_labels(a))}
+    warnings = [c for card in d.cards for c in card["cautions"]]
+    warnings += [f"{disp}: {msg}" for disp, msg in a.failures]
+    result["warnings"] = warnings
+    result["failures"] = [{"display": disp, "message": msg} for disp, msg in a.failures]
+    section = {
+        "id": m.id, "name": m.name, "unit": unit,
+        "data_text": f"{DATA_TEXT[m.type]} from {Path(m.file_rel).name} "
+                     f"({a.data.raw_rows} rows{_rollup_text(m)})",
+        "choice": a.choice.reason if a.choice else "",
+        "periods_text": periods_text(a),
+        "better_text": BETTER_TEXT[m.better] + (f" (target {fmt(m.target, unit)})"
+                                                 if m.target is not None else ""),
+        "spec_text": spec_text(m),
+        "rules_text": (f"{signal_label} on the control chart; {run_label} on the run chart"
+                       if a.data.kind != "categories" else "Pareto: the vital few reach 80%"),
+        "displays": d.cards, "capability": cap, "open_signals": open_signals,
+        "problems": [{"severity": "warning", "text": f"{disp}: {msg}"}
+                     for disp, msg in a.failures] + [
+            {"severity": p.severity, "text": p.format()} for p in metric_problems],
+    }
+    result["open_signals"] = open_signals
+    return section, result
+
+
+def _after_labels(a: MetricAnalysis) -> tuple[str, ...]:
+    st = a.data.points["stage"].to_numpy(int)
+    return tuple(x for x, s in zip(a.x, st, strict=True) if s == STAGE_AFTER)
+
+
+def _rollup_text(m) -> str:
+    if m.rollup is None:
+        return ""
+    return f", rolled up by {m.rollup.period} with the {m.rollup.statistic}"
+
+
+def spec_text(m) -> str:
+    parts = []
+    if m.spec_lower is not None:
+        parts.append(f"lower {fmt(m.spec_lower, m.unit)}")
+    if m.spec_upper is not None:
+        parts.append(f"upper {fmt(m.spec_upper, m.unit)}")
+    if m.target is not None:
+        parts.append(f"target {fmt(m.target, m.unit)}")
+    return ", ".join(parts)
+
+
+# ----------------------------------------------------------------------------- provenance
+
+
+def provenance(spec: ProjectSpec, root: Path) -> list[dict]:
+    files = sorted({spec.meta_path} | {m.file for m in spec.metrics}
+                   | ({spec.notes_path} if spec.notes_path else set()))
+    dates = _git_dates(spec.folder)
+    out = []
+    for f in files:
+        key = f.resolve()
+        if key in dates:
+            out.append({"file": rel(f, root), "changed": dates[key], "how": "last commit"})
+        else:
+            import datetime as dt
+
+            ts = dt.datetime.fromtimestamp(f.stat().st_mtime, dt.UTC)
+            out.append({"file": rel(f, root), "changed": ts.strftime("%Y-%m-%d %H:%M UTC"),
+                        "how": "file modification time"})
+    return out
+
+
+def _git_dates(folder: Path) -> dict[Path, str]:
+    try:
+        top = subprocess.run(["git", "rev-parse", "--show-toplevel"], cwd=folder,
+                             capture_output=True, text=True, timeout=10)
+        if top.returncode != 0:
+            return {}
+        log = subprocess.run(["git", "log", "--format=>%cI", "--name-only", "--", "."],
+                             cwd=folder, capture_output=True, text=True, timeout=30)
+        status = subprocess.run(["git", "status", "--porcelain", "--", "."], cwd=folder,
+                                capture_output=True, text=True, timeout=10)
+    except (OSError, subprocess.TimeoutExpired):
+        return {}
+    dirty = {(Path(top.stdout.strip()) / line[3:].strip()).resolve()
+             for line in status.stdout.splitlines() if len(line) > 3}
+    gitroot = Path(top.stdout.strip())
+    dates: dict[Path, str] = {}
+    current = None
+    for line in log.stdout.splitlines():
+        if line.startswith(">"):
+            current = line[1:].replace("T", " ")[:16] + " " + line[20:].strip()[-6:]
+            current = line[1:]
+        elif line.strip() and current:
+            p = (gitroot / line.strip()).resolve()
+            dates.setdefault(p, current)
+    return {p: d for p, d in dates.items() if p not in dirty}
+
+
+# ----------------------------------------------------------------------------- the project
+
+
+def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
+              settings: PortfolioSettings, live: str | None) -> ProjectOutcome:
+    files: dict[str, bytes] = {}
+    problems: list[Problem] = list(warnings)
+    analyses: list[MetricAnalysis] = []
+    errors: list[Problem] = []
+    for m in spec.metrics:
+        try:
+            data = load_metric(m, settings)
+        except ProjectError as e:
+            errors.extend(e.problems)
+            continue
+        problems.extend(data.problems)
+        analyses.append(analyse(data))
+    if errors:
+        raise ProjectError(errors + problems)
+    sections, results = [], []
+    for a in analyses:
+        mp = [p for p in problems if p.path == a.spec.file_rel]
+        section, result = metric_section(a, spec, files, mp)
+        sections.append(section)
+        results.append(result)
+    notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
+    prov = provenance(spec, root)
+    has_history = any(a.has_after or a.phase_paretos for a in analyses)
+    ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
+    project_ctx = project_view(spec)
+    page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
+    html = render("project.html", project=project_ctx, metrics=sections, notes_html=notes_html,
+                  provenance=prov, warnings=page_warnings, has_history=has_history, **ctx)
+    files["index.html"] = html.encode()
+    history = None
+    if has_history:
+        history_html, history_results = history_page(spec, analyses, files, ctx, project_ctx)
+        files["history.html"] = history_html.encode()
+        history = history_results
+    doc = {
+        "schema": RESULTS_SCHEMA, "tool_version": __version__,
+        "project": {"slug": spec.slug, "title": spec.title, "owner": spec.owner,
+                    "phase": spec.phase, "problem": spec.problem, "tags": list(spec.tags),
+                    "safety_related": spec.safety_related,
+                    "phase_dates": dict(spec.phase_dates),
+                    "events": [{"date": e.date, "label": e.label} for e in spec.events]},
+        "metrics": results,
+        "history": history,
+        "input_notes": [p.format() for p in problems],
+        "provenance": prov,
+    }
+    files["results.json"] = (dumps(doc) + "\n").encode()
+    entry = index_entry(spec, analyses, sections, problems, has_history)
+    return ProjectOutcome(spec.slug, True, files, entry, problems)
+
+
+def project_view(spec: ProjectSpec) -> dict:
+    return {"slug": spec.slug, "title": spec.title, "owner": spec.owner, "phase": spec.phase,
+            "phase_label": PHASE_LABEL[spec.phase], "problem": spec.problem,
+            "tags": list(spec.tags), "safety_related": spec.safety_related,
+            "phase_dates": [(p, d.isoformat()) for p, d in spec.phase_dates],
+            "events": [{"date": e.date.isoformat(), "label": e.label} for e in spec.events]}
+
+
+def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: list[dict],
+                problems: list[Problem], has_history: bool) -> dict:
+    head = next((a for a in analyses if a.spec.id == spec.headline.id), None)
+    headline = None
+    if head is not None:
+        headline = {"name": head.spec.name, "text": headline_text(head), "spark": "",
+                    "spark_split": ""}
+        if head.data.kind != "categories":
+            headline["spark"], headline["spark_split"] = sparkline(head)
+    signals = sum(s["open_signals"] for s in sections)
+    warnings = sum(len(c["cautions"]) for s in sections for c in s["displays"])
+    warnings += sum(1 for p in problems if p.severity == "warning")
+    text = " ".join([spec.title, spec.owner, spec.phase, spec.problem, *spec.tags,
+                     *(a.spec.name for a in analyses)])
+    return {"slug": spec.slug, "title": spec.title, "owner": spec.owner, "phase": spec.phase,
+            "phase_label": PHASE_LABEL[spec.phase], "tags": list(spec.tags),
+            "href": f"projects/{spec.slug}/index.html",
+            "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
+            "headline": headline, "signals": signals, "warnings": warnings,
+            "search_text": text, "broken": False, "problem_count": 0}
+
+
+def headline_text(a: MetricAnalysis) -> str:
+    c = a.comparison
+    unit = a.spec.unit
+    if c is not None:
+        if c.measure in ("proportion",):
+            b, f = pct(c.baseline), pct(c.after)
+        else:
+            b, f = fmt(c.baseline, unit, 3), fmt(c.after, unit, 3)
+        change = "no change"
+        if c.percent_change is not None and c.percent_change != 0:
+            change = f"{'down' if c.change < 0 else 'up'} {abs(c.percent_change):.0f}%"
+        verdict = {True: "better", False: "worse", None: "direction not judged"}[c.improved]
+        sig = ("" if c.p_value is None else
+               ("; unlikely to be chance" if c.p_value < 0.05 else "; could be chance"))
+        return f"{c.measure.capitalize()} {b} → {f}: {change}, {verdict}{sig}."
+    if a.pareto is not None:
+        return (f"{len(a.pareto.vital_few)} of {len(a.pareto.categories)} categories make up "
+                f"{a.pareto.threshold:.0f}% of {a.pareto.total:g}.")
+    if a.run is not None:
+        return f"Baseline median {fmt(a.run.median, unit, 3)}; no after period yet."
+    return "No summary available."
+
+
+def sparkline(a: MetricAnalysis) -> tuple[str, str]:
+    v = a.data.points["value"].to_numpy(float)
+    ok = np.isfinite(v)
+    if ok.sum() < 2:
+        return "", ""
+    lo, hi = float(np.nanmin(v)), float(np.nanmax(v))
+    span = hi - lo or 1.0
+    n = len(v)
+    xs = np.linspace(1, 119, n)
+    ys = 30 - (v - lo) / span * 28
+    pts = " ".join(f"{x:.1f},{y:.1f}" for x, y, k in zip(xs, ys, ok, strict=True) if k)
+    st = a.data.points["stage"].to_numpy(int)
+    split = ""
+    if (st == STAGE_AFTER).any():
+        split = f"{xs[int(np.argmax(st == STAGE_AFTER))]:.1f}"
+    return pts, split
+
+
+def input_hash(folder: Path, extra: str) -> str:
+    """A content hash of every file of the project folder plus *extra* (tool, templates)."""
+    h = hashlib.sha256(extra.encode())
+    for p in sorted(folder.rglob("*")):
+        if p.is_file() and not p.name.startswith("."):
+            h.update(p.relative_to(folder).as_posix().encode())
+            with open(p, "rb") as fh:
+                h.update(hashlib.file_digest(fh, "sha256").digest())
+    return h.hexdigest()
+
+
+__all__ = ["ProjectOutcome", "build_project", "error_outcome", "input_hash", "STAGE_BASELINE"]

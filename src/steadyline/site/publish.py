@@ -1,0 +1,105 @@
+"""Writing the site: staged in a temporary folder beside the output, swapped in at the end.
+
+A build never writes into the published folder. It fills ``<out>.staging-<pid>`` and then
+exchanges it with ``<out>`` in one atomic step (Linux ``renameat2(RENAME_EXCHANGE)``), so a
+crash, Ctrl-C or kill at any moment leaves the previously published site exactly as it was,
+and a reader never sees a mix of old and new pages. Where the exchange is not available the
+fallback is two renames, with the old site kept aside until the new one is in place.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import ctypes.util
+import errno
+import os
+import shutil
+from pathlib import Path
+
+_RENAME_EXCHANGE = 2
+_AT_FDCWD = -100
+
+
+def _renameat2():
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
+        fn = libc.renameat2
+    except (OSError, AttributeError):
+        return None
+    fn.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint]
+    fn.restype = ctypes.c_int
+    return fn
+
+
+_EXCHANGE = _renameat2()
+
+
+def exchange(a: Path, b: Path) -> bool:
+    """Atomically swap two existing paths. False when the system cannot do it."""
+    if _EXCHANGE is None:
+        return False
+    rc = _EXCHANGE(_AT_FDCWD, os.fsencode(str(a)), _AT_FDCWD, os.fsencode(str(b)),
+                   _RENAME_EXCHANGE)
+    if rc == 0:
+        return True
+    err = ctypes.get_errno()
+    if err in (errno.ENOSYS, errno.EINVAL, errno.ENOTSUP if hasattr(errno, "ENOTSUP") else 95):
+        return False
+    raise OSError(err, os.strerror(err), str(a))
+
+
+def staging_dir(out: Path) -> Path:
+    return out.parent / f".{out.name}.staging-{os.getpid()}"
+
+
+def clean_stale(out: Path) -> None:
+    """Remove staging and retired folders left by builds that were killed."""
+    for p in out.parent.glob(f".{out.name}.staging-*"):
+        shutil.rmtree(p, ignore_errors=True)
+    for p in out.parent.glob(f".{out.name}.retired-*"):
+        shutil.rmtree(p, ignore_errors=True)
+
+
+def publish(staged: Path, out: Path) -> None:
+    """Make *staged* the published site at *out*, atomically."""
+    _fsync_tree(staged)
+    if not out.exists():
+        os.rename(staged, out)
+        return
+    if exchange(staged, out):
+        shutil.rmtree(staged, ignore_errors=True)  # now holds the previous site
+        return
+    retired = out.parent / f".{out.name}.retired-{os.getpid()}"
+    os.rename(out, retired)
+    os.rename(staged, out)
+    shutil.rmtree(retired, ignore_errors=True)
+
+
+def _fsync_tree(root: Path) -> None:
+    """Flush file contents before the swap, so the swap never publishes empty files."""
+    for dirpath, _dirs, files in os.walk(root):
+        for f in files:
+            try:
+                fd = os.open(os.path.join(dirpath, f), os.O_RDONLY)
+            except OSError:
+                continue
+            try:
+                os.fsync(fd)
+            finally:
+                os.close(fd)
+
+
+def write_files(root: Path, files: dict[str, bytes]) -> None:
+    for name, data in sorted(files.items()):
+        p = root / name
+        p.parent.mkdir(parents=True, exist_ok=True)
+        p.write_bytes(data)
+
+
+def link_or_copy(src: Path, dst: Path) -> None:
+    """Reuse an unchanged published file in the staging folder (hard link when possible)."""
+    dst.parent.mkdir(parents=True, exist_ok=True)
+    try:
+        os.link(src, dst)
+    except OSError:
+        shutil.copy2(src, dst)

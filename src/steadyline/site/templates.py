@@ -1,0 +1,53 @@
+"""Finding and rendering the Jinja2 templates.
+
+In a source checkout the templates live at the top of the repository (site_templates/); an
+installed package carries a copy inside itself (see setup.py). Autoescaping is on for every
+template, so text from metadata files, CSV cells and category names is always escaped.
+"""
+
+from __future__ import annotations
+
+import functools
+import hashlib
+from pathlib import Path
+
+import jinja2
+
+
+def templates_dir() -> Path:
+    here = Path(__file__).resolve().parent.parent  # src/steadyline
+    packaged = here / "site_templates"
+    if packaged.is_dir():
+        return packaged
+    checkout = here.parent.parent / "site_templates"
+    if checkout.is_dir():
+        return checkout
+    raise FileNotFoundError("steadyline's site_templates folder is missing from the installation")
+
+
+@functools.lru_cache(maxsize=1)
+def environment() -> jinja2.Environment:
+    return jinja2.Environment(
+        loader=jinja2.FileSystemLoader(str(templates_dir())),
+        autoescape=True,
+        undefined=jinja2.StrictUndefined,
+        trim_blocks=False,
+        lstrip_blocks=False,
+        keep_trailing_newline=True,
+    )
+
+
+def render(name: str, **context) -> str:
+    return environment().get_template(name).render(**context)
+
+
+@functools.lru_cache(maxsize=1)
+def templates_fingerprint() -> str:
+    """A hash of every template and asset file, part of each project's input hash."""
+    h = hashlib.sha256()
+    root = templates_dir()
+    for p in sorted(root.rglob("*")):
+        if p.is_file():
+            h.update(p.relative_to(root).as_posix().encode())
+            h.update(hashlib.sha256(p.read_bytes()).digest())
+    return h.hexdigest()
