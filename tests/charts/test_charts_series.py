@@ -1,0 +1,261 @@
+"""Run and control charts: what is drawn, where, and how it is labelled."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from chart_fixtures import (
+    MAIN_SIGNALS,
+    N,
+    make_ctx,
+    make_individuals,
+    make_p_chart,
+    make_run_analysis,
+    make_values,
+    missing_fields,
+    unit_views,
+)
+
+from steadyline.charts import SeriesContext, control_chart, run_chart
+from steadyline.charts.base import fmt, time_text
+from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
+
+
+def _by_kind(rows, kind):
+    return [r for r in rows if r["kind"] == kind]
+
+
+# --- control chart --------------------------------------------------------------------------
+
+
+def test_limits_are_per_point_steps_and_absent_where_nan():
+    cc = make_individuals()
+    spec = control_chart(make_ctx(), cc, MAIN_SIGNALS).spec
+    rows = spec["datasets"]["limits"]
+    assert [r["y"] for r in _by_kind(rows, "UCL")] == [44.4] * N
+    assert [r["y"] for r in _by_kind(rows, "centre line")] == [30.0] * N
+    # LCL is nan from point 20 on: exactly 20 segments, none after the change
+    lcl = _by_kind(rows, "LCL")
+    assert len(lcl) == 20
+    assert (
+        lcl[-1]["x2"] == "2026-05-21T12:00:00Z"
+    )  # midway between the last baseline week and the next
+    # each step spans from the midpoint before its point to the midpoint after it
+    ucl = _by_kind(rows, "UCL")
+    assert ucl[1]["x"] == "2026-01-08T12:00:00Z" and ucl[1]["x2"] == "2026-01-15T12:00:00Z"
+    assert ucl[0]["x"] == "2026-01-05"
+    # right-end labels carry the values
+    labels = {r["kind"]: r["text"] for r in spec["datasets"]["labels"]}
+    assert labels == {"centre line": "CL 30", "UCL": "UCL 44.4", "LCL": "LCL 15.6"}
+    assert all(r["x"] == "2026-07-27" for r in spec["datasets"]["labels"])  # the last date
+
+
+def test_stepped_p_limits_follow_every_point():
+    cc = make_p_chart()
+    spec = control_chart(make_ctx(), cc, ()).spec
+    ucl = [r["y"] for r in _by_kind(spec["datasets"]["limits"], "UCL")]
+    np.testing.assert_allclose(ucl, cc.upper)
+    assert len(set(np.round(ucl, 12))) == 4  # four subgroup sizes, four limit levels
+    # a p chart's axis is in proportions, not in the metric's unit
+    assert "Proportion (p)" in _y_titles(spec)
+
+
+def _y_titles(spec):
+    titles = set()
+    for view, _ in unit_views(spec):
+        y = view.get("encoding", {}).get("y", {})
+        if "axis" in y and y["axis"] and "title" in y["axis"]:
+            titles.add(y["axis"]["title"])
+    return titles
+
+
+def test_signal_points_marked_by_shape_size_and_colour_with_rule_in_tooltip():
+    spec = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS).spec
+    pts = {r["label"]: r for r in spec["datasets"]["points"]}
+    x = make_ctx().x
+    assert pts[x[25]]["marker"] == MARK_SIGNAL
+    assert pts[x[25]]["signals"] == "beyond the 3σ limits"
+    assert pts[x[10]]["signals"] == "8 in a row on one side of the centre line"
+    assert pts[x[2]]["marker"] == MARK_ORDINARY and pts[x[2]]["signals"] == ""
+    # the secondary signal lands on the mR chart, at the mR point of x[24]: index 24 -> x[25]
+    sec = {r["label"]: r for r in spec["datasets"]["secondary_points"]}
+    assert sec[x[25]]["marker"] == MARK_SIGNAL
+    assert pts[x[24]]["marker"] == MARK_ORDINARY
+    # the point layer maps the marker to a different shape AND colour AND size
+    view = next(v for v, d in unit_views(spec) if d == "points" and v["mark"]["type"] == "point")
+    enc = view["encoding"]
+    assert enc["shape"]["scale"]["domain"] == [MARK_ORDINARY, MARK_SIGNAL]
+    shapes = enc["shape"]["scale"]["range"]
+    colours = enc["color"]["scale"]["range"]
+    assert shapes[0] != shapes[1] and colours[0] != colours[1]
+    assert "condition" in enc["size"]
+    assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "label", "value"}
+
+
+def test_fitted_points_named_in_subtitle_and_tooltip():
+    cs = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
+    sub = cs.spec["title"]["subtitle"]
+    assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
+    pts = cs.spec["datasets"]["points"]
+    assert {r["fitted"] for r in pts[:19]} == {"yes"}
+    assert {r["fitted"] for r in pts[-5:]} == {"no"}
+    assert [r["used for limits"] for r in cs.table].count("yes") == 20
+
+
+def test_all_points_fitted_sentence():
+    cs = control_chart(make_ctx(), make_p_chart(), ())
+    assert cs.spec["title"]["subtitle"][0].startswith("limits from all 30 points")
+
+
+def test_lines_break_at_segments_and_gaps():
+    spec = control_chart(make_ctx(), make_individuals(), ()).spec
+    pts = spec["datasets"]["points"]
+    assert len(pts) == N - 1  # the nan at point 5 is not plotted
+    groups = {}
+    for r in pts:
+        groups.setdefault(r["line"], []).append(r["label"])
+    x = make_ctx().x
+    # pieces: 0..4 | 6..11 (after the gap) | 12.. (new segment)
+    assert groups[0] == list(x[0:5])
+    assert groups[1] == list(x[6:12])
+    assert groups[2] == list(x[12:])
+    line_view = next(
+        v for v, d in unit_views(spec) if d == "points" and v["mark"]["type"] == "line"
+    )
+    assert line_view["encoding"]["detail"]["field"] == "line"
+
+
+def test_secondary_is_beneath_with_its_own_limits():
+    cs = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
+    spec = cs.spec
+    assert len(spec["vconcat"]) == 2
+    labels = {r["kind"]: r["text"] for r in spec["datasets"]["secondary_labels"]}
+    assert labels == {"centre line": "CL 5.40", "UCL": "UCL 17.6", "LCL": "LCL 0"}
+    assert "mR UCL" in cs.columns
+    assert cs.table[0]["mR"] is None  # the first point has no moving range
+    np.testing.assert_allclose(
+        [r["mR"] for r in cs.table[1:] if r["mR"] is not None],
+        [v for v in np.abs(np.diff(make_values())) if np.isfinite(v)],
+    )
+    # without a secondary chart there is a single layered view
+    single = control_chart(make_ctx(), make_individuals(secondary=False), ()).spec
+    assert "vconcat" not in single and "layer" in single
+
+
+def test_phases_and_events_drawn():
+    spec = control_chart(make_ctx(), make_individuals(), ()).spec
+    bands = spec["datasets"]["bands"]
+    assert [b["stage"] for b in bands] == ["Baseline", "After"]
+    assert bands[0]["fill"] != bands[1]["fill"]
+    assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
+    assert spec["datasets"]["events"] == [
+        {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30"}
+    ]
+
+
+def test_events_outside_the_series_are_left_out():
+    ctx = make_ctx(events=(("2025-01-01", "long ago"), ("2026-02-02", "inside")))
+    spec = control_chart(ctx, make_individuals(), ()).spec
+    assert [e["label"] for e in spec["datasets"]["events"]] == ["inside"]
+
+
+def test_label_axis_for_non_time_series():
+    ctx = make_ctx(time=False)
+    spec = control_chart(ctx, make_individuals(), ()).spec
+    assert spec["datasets"]["points"][0]["x"] == 0
+    x_enc = spec["vconcat"][0]["layer"][0]["encoding"]["x"]
+    assert x_enc["type"] == "quantitative"
+    assert '"Lot 1"' in x_enc["axis"]["labelExpr"]
+    assert x_enc["axis"]["values"] == list(range(N))
+    assert spec["datasets"]["events"] == []
+
+
+def test_time_axis_is_utc_and_dates_are_iso_strings():
+    spec = control_chart(make_ctx(), make_individuals(), ()).spec
+    x_enc = spec["vconcat"][0]["layer"][0]["encoding"]["x"]
+    assert x_enc["type"] == "temporal" and x_enc["scale"]["type"] == "utc"
+    assert spec["datasets"]["points"][0]["x"] == "2026-01-05"
+
+
+def test_time_text_writes_utc():
+    assert time_text("2026-01-05") == "2026-01-05"
+    assert time_text("2026-01-05T08:30:00") == "2026-01-05T08:30:00Z"  # naive read as UTC
+    assert time_text("2026-01-05T08:30:00+02:00") == "2026-01-05T06:30:00Z"
+    with pytest.raises(TypeError):
+        time_text(np.datetime64("2026-01-05").astype(object))  # a date object
+
+
+def test_lengths_are_checked():
+    ctx = make_ctx(n=10)
+    with pytest.raises(ValueError, match="points"):
+        control_chart(ctx, make_individuals(), ())
+    with pytest.raises(ValueError):
+        SeriesContext(x=("a",), x_is_time=False, stage=(), segment=(0,), unit="", metric_name="m")
+
+
+def test_control_chart_table():
+    cs = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
+    assert cs.columns[:8] == (
+        "date",
+        "phase",
+        "value",
+        "centre line",
+        "LCL",
+        "UCL",
+        "used for limits",
+        "signals",
+    )
+    assert cs.table[5]["value"] is None
+    assert cs.table[25]["LCL"] is None and cs.table[0]["LCL"] == 15.6
+    assert "beyond the upper limit of the moving range" in cs.table[25]["signals"]
+    assert "3 signals" in cs.summary
+
+
+# --- run chart ------------------------------------------------------------------------------
+
+
+def test_run_chart_median_label_and_signal_points():
+    cs = run_chart(make_ctx(), make_values(), make_run_analysis())
+    spec = cs.spec
+    assert spec["datasets"]["centre"] == [
+        {"y": 31.24, "x": "2026-07-27", "text": "median 31.2 hours"}
+    ]
+    pts = {r["label"]: r for r in spec["datasets"]["points"]}
+    x = make_ctx().x
+    assert pts[x[21]]["marker"] == MARK_SIGNAL
+    assert pts[x[21]]["signals"] == "a run of 9 on one side of the median"
+    # the crossings signal spans the whole series: named in the subtitle, not marked per point
+    assert pts[x[2]]["marker"] == MARK_ORDINARY
+    sub = " ".join(spec["title"]["subtitle"])
+    assert "Anhøj rules" in sub and "fewer crossings of the median than expected" in sub
+    assert "8 crossings (signal below 10)" in sub
+    assert [b["stage"] for b in spec["datasets"]["bands"]] == ["Baseline", "After"]
+    assert missing_fields(spec) == []
+    assert cs.columns == ("date", "phase", "value", "median", "signals")
+    assert cs.table[2]["signals"] == "fewer crossings of the median than expected"
+
+
+def test_run_chart_without_phases_has_no_bands():
+    ctx = SeriesContext(
+        x=make_ctx().x,
+        x_is_time=True,
+        stage=("",) * N,
+        segment=(0,) * N,
+        unit="",
+        metric_name="Calls",
+    )
+    cs = run_chart(ctx, make_values(), make_run_analysis())
+    assert cs.spec["datasets"]["bands"] == []
+    assert "phase" not in cs.columns
+    assert cs.spec["datasets"]["centre"][0]["text"] == "median 31.2"
+
+
+def test_number_format_for_labels():
+    # common practice: three significant digits, whole numbers shown whole
+    assert fmt(44.444) == "44.4"
+    assert fmt(31.26) == "31.3"
+    assert fmt(0.012345) == "0.0123"
+    assert fmt(30.0) == "30"
+    assert fmt(123456.7) == "123,457"
+    assert fmt(float("nan")) == "n/a"
+    assert fmt(-0.0001) == "-0.000100"
