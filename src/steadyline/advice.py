@@ -50,26 +50,60 @@ def list_dates(labels: Sequence[str]) -> str:
 
 
 def signal_sentence(sig: Signal, x: Sequence[str], what: str = "point") -> str:
-    n = len(sig.indices)
-    dates = list_dates([x[i] for i in sig.indices])
-    side = {"above": " (above the centre line)", "below": " (below the centre line)",
-            "up": " (rising)", "down": " (falling)"}.get(sig.side or "", "")
+    return group_sentence([sig], x, what)
+
+
+def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point",
+                   phase: str = "") -> str:
+    """One sentence for every occurrence of one rule (on one chart, in one phase)."""
+    sig = group[0]
+    points = sorted({i for s in group for i in s.indices})
+    dates = list_dates([x[i] for i in points])
+    sides = {s.side for s in group if s.side}
+    side = ""
+    if len(sides) == 1:
+        side = {"above": " (above the centre line)", "below": " (below the centre line)",
+                "up": " (rising)", "down": " (falling)"}.get(sides.pop(), "")
     chart = "" if sig.chart == "main" else " on the dispersion chart"
-    plural = what if n == 1 else what + "s"
-    return f"{sig.description}{side}{chart}: {n} {plural}, {dates}."
+    times = "" if len(group) == 1 else f"{len(group)} times, "
+    plural = what if len(points) == 1 else what + "s"
+    lead = f"{phase}: " if phase else ""
+    return f"{lead}{sig.description}{side}{chart}: {times}{len(points)} {plural}, {dates}."
+
+
+def _grouped(signals: Sequence[Signal], stage_names: Sequence[str] | None):
+    groups: dict[tuple, list[Signal]] = {}
+    for s in signals:
+        phase = stage_names[s.indices[0]] if stage_names and s.indices else ""
+        groups.setdefault((phase, s.chart, s.rule, s.description), []).append(s)
+    return groups
 
 
 def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence[str],
-                     rules_label: str) -> list[Finding]:
+                     rules_label: str, stage_names: Sequence[str] | None = None) -> list[Finding]:
     if not signals:
         return [Finding("clear", CLEAR_MARKER,
                         f"No point signals by the {rules_label}: the chart shows only routine "
                         "variation against these limits.")]
-    return [Finding("signal", SIGNAL_MARKER, signal_sentence(s, x)) for s in signals]
+    out = []
+    groups = _grouped(signals, stage_names)
+    phases = sorted({k[0] for k in groups if k[0] and k[0] != "Baseline"})
+    for ph in phases:
+        n = sum(len(v) for k, v in groups.items() if k[0] == ph)
+        out.append(Finding("signal", SIGNAL_MARKER,
+                           f"{ph}: {n} signal{'s' if n != 1 else ''} against limits computed "
+                           "from the baseline, so these points no longer behave like the "
+                           "baseline process; check whether the change is the intended one."))
+    multi = len({k[0] for k in groups}) > 1
+    for (phase, _c, _r, _d), group in groups.items():
+        out.append(Finding("signal", SIGNAL_MARKER,
+                           group_sentence(group, x, phase=phase if multi else "")))
+    return out
 
 
 def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
-    out = [Finding("signal", SIGNAL_MARKER, signal_sentence(s, x)) for s in run.signals]
+    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x))
+           for g in _grouped(run.signals, None).values()]
     if not out:
         out.append(Finding("clear", CLEAR_MARKER, f"No non-random pattern by the {rules_label}."))
     return out

@@ -298,7 +298,7 @@ def _segments_for_periods(starts: pd.Series, period: str) -> np.ndarray:
 
 def _labels(t: pd.Series) -> pd.Series:
     has_time = (t.dt.normalize() != t).any()
-    return t.dt.strftime("%Y-%m-%dT%H:%M:%S" if has_time else "%Y-%m-%d")
+    return t.dt.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d")
 
 
 def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> MetricData:

@@ -8,12 +8,11 @@ import io
 import numpy as np
 from markupsafe import Markup
 
-from .. import advice
 from ..analysis import MetricAnalysis
 from ..charts import ChartSpec, SeriesContext
 from ..config import ProjectSpec
 from ..stats.compare import format_p_value
-from .serialise import dumps, script_json
+from .serialise import compact, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
 
@@ -86,12 +85,12 @@ class Displays:
         data_name = f"data/{base}.csv"
         spec_name = f"data/{base}.vl.json"
         self.files[data_name] = table_csv(chart)
-        self.files[spec_name] = (dumps(chart.spec, indent=1) + "\n").encode()
-        cautions = list(cautions) + advice.bar_axis_cautions(chart.spec)
+        text = compact(chart.spec)  # chart specs are plain JSON already (charts package)
+        self.files[spec_name] = (text + "\n").encode()
         card = {
             "key": key, "title": title, "anchor": base, "chart_id": f"chart-{base}",
             # script_json leaves no '<', '>' or '&', so the JSON cannot end its script element
-            "spec_json": Markup(script_json(chart.spec)),
+            "spec_json": Markup(escape_for_script(text)),
             "summary": chart.summary,
             "findings": [f.__dict__ for f in findings], "cautions": list(dict.fromkeys(cautions)),
             "method": method, "csv_href": data_name, "spec_href": spec_name,

@@ -152,7 +152,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             if a.control.secondary is not None:
                 title += f" with {a.control.secondary.label}"
             d.add("control", title, chart,
-                  advice.control_findings(a.control, a.signals, a.x, signal_label),
+                  advice.control_findings(a.control, a.signals, a.x, signal_label, a.stage_names),
                   advice.control_cautions(a.control),
                   f"{a.choice.reason if a.choice else ''} Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
@@ -178,14 +178,15 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     if a.pareto is not None:
         chart = pareto_chart(a.pareto)
         d.add("pareto", "Pareto chart", chart, advice.pareto_findings(a.pareto),
-              advice.pareto_cautions(a.pareto),
+              advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
         result["pareto"] = plain(a.pareto)
     if a.column is not None:
         chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
         d.add("column", "Column chart by category", chart,
-              cautions=advice.column_cautions(len(a.column[0])),
+              cautions=advice.column_cautions(len(a.column[0]))
+              + advice.bar_axis_cautions(chart.spec),
               method="Categories in alphabetical order; the count axis starts at zero.")
         result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1])}
     cap = None

@@ -64,12 +64,22 @@ def dumps(obj: Any, *, indent: int | None = 1) -> str:
                       allow_nan=False, separators=(",", ": ") if indent else (",", ":"))
 
 
+def compact(spec: dict) -> str:
+    """Compact, sorted JSON of an already JSON-able dict (chart specs), NaN refused."""
+    return json.dumps(spec, sort_keys=True, ensure_ascii=False, allow_nan=False,
+                      separators=(",", ":"))
+
+
 def script_json(obj: Any) -> str:
     """JSON for a <script type="application/json"> block: cannot close the tag or open a comment.
 
     '<', '>' and '&' are written as unicode escapes, which JSON.parse reads back unchanged.
     """
-    text = json.dumps(plain(obj), sort_keys=True, ensure_ascii=False, allow_nan=False,
-                      separators=(",", ":"))
+    return escape_for_script(json.dumps(plain(obj), sort_keys=True, ensure_ascii=False,
+                                        allow_nan=False, separators=(",", ":")))
+
+
+def escape_for_script(text: str) -> str:
+    """Make JSON text safe inside a script element."""
     return (text.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
             .replace("\u2028", "\\u2028").replace("\u2029", "\\u2029"))
