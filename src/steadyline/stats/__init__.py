@@ -1,0 +1,62 @@
+"""Pure statistics for improvement work: arrays in, frozen results out.
+
+Usable from a notebook without the site::
+
+    >>> from steadyline import stats
+    >>> chart = stats.individuals([10.0, 12.0, 11.0, 13.0])
+    >>> round(float(chart.upper[0]), 3)
+    15.931
+
+Nothing in this package reads files, draws charts or logs; it imports no other part of
+steadyline. Every function raises :class:`StatsError` with a message that states the
+requirement when its input cannot give a result.
+"""
+
+from .capability import bissell_interval, capability
+from .choice import choose_chart
+from .compare import compare, format_p_value
+from .constants import c4, d2, d3, factor_table, factors
+from .control import (
+    c_chart,
+    individuals,
+    laney_p,
+    laney_u,
+    np_chart,
+    p_chart,
+    u_chart,
+    xbar_r,
+    xbar_s,
+)
+from .distribution import (
+    QUARTILE_METHODS,
+    anderson_darling,
+    box_summary,
+    histogram,
+    normal_curve,
+)
+from .pareto import pareto, pareto_in_order
+from .results import (
+    BoxSummary,
+    Capability,
+    ChartChoice,
+    Comparison,
+    ControlChart,
+    Histogram,
+    NormalityTest,
+    Pareto,
+    RunChartAnalysis,
+    Signal,
+    StatsError,
+)
+from .rules import detect_signals
+from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
+
+__all__ = [
+    "BoxSummary", "Capability", "ChartChoice", "Comparison", "ControlChart", "Histogram",
+    "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
+    "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
+    "c4", "c_chart", "capability", "choose_chart", "compare", "d2", "d3", "detect_signals",
+    "factor_table", "factors", "format_p_value", "histogram", "individuals", "laney_p",
+    "laney_u", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
+    "perla_runs_limits", "shift_against", "u_chart", "xbar_r", "xbar_s",
+]
