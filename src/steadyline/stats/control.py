@@ -221,6 +221,19 @@ def _base_result(groups: list[_Group]) -> Any:
     return None  # pragma: no cover - _fit_groups guarantees one
 
 
+def _mean(values: np.ndarray, weights: np.ndarray | None = None) -> float:
+    """Mean that returns the common value exactly when all values are equal.
+
+    Floating-point summation can put the mean of identical values a hair away from them, which
+    would make every point of a zero-sigma chart fall "beyond" the collapsed limits.
+    """
+    if values.size and np.all(values == values[0]):
+        return float(values[0])
+    if weights is None:
+        return float(np.mean(values))
+    return float(np.sum(weights * values) / np.sum(weights))
+
+
 def _positions(mask: np.ndarray) -> str:
     idx = np.flatnonzero(mask).tolist()
     shown = ", ".join(str(i) for i in idx[:10])
@@ -282,7 +295,7 @@ def individuals(
             )
         mr_bar = float(np.mean(np.abs(x[b] - x[a])))
         mr_fitted[b] = True
-        return _XmrFit(float(np.mean(x[mask])), mr_bar, mr_bar / d2(2), int(a.size))
+        return _XmrFit(_mean(x[mask]), mr_bar, mr_bar / d2(2), int(a.size))
 
     groups = _fit_groups(st, limits, np.ones(m, dtype=bool), fit, notes)
     notes += _zero_sigma_note(groups, lambda r: r.sigma, "average moving range")
@@ -408,7 +421,7 @@ def _subgroup_chart(
         use = mask & multi
         if not use.any():
             raise _TooFew("has no subgroup of two or more values to estimate sigma from")
-        grand = float(np.sum(n[mask] * means[mask]) / np.sum(n[mask]))
+        grand = _mean(means[mask], n[mask])
         sizes = n[use].astype(int)
         constant = np.unique(sizes).size == 1
         if spread == "range":
@@ -796,7 +809,7 @@ def _count_chart(
         if not mask.any():
             raise _TooFew("has no points")
         if kind == "c":
-            cbar = float(d[mask].mean())
+            cbar = _mean(d[mask])
             return _CountFit(cbar, math.sqrt(cbar))
         assert size is not None
         pbar = float(d[mask].sum() / (size * mask.sum()))
