@@ -28,22 +28,19 @@ def _by_kind(rows, kind):
 # --- control chart --------------------------------------------------------------------------
 
 
-def test_limits_are_per_point_steps_and_absent_where_nan():
+def test_limits_are_steps_and_absent_where_nan():
     cc = make_individuals()
     spec = control_chart(make_ctx(), cc, MAIN_SIGNALS).spec
     rows = spec["datasets"]["limits"]
-    assert [r["y"] for r in _by_kind(rows, "UCL")] == [44.4] * N
-    assert [r["y"] for r in _by_kind(rows, "centre line")] == [30.0] * N
-    # LCL is nan from point 20 on: exactly 20 segments, none after the change
-    lcl = _by_kind(rows, "LCL")
-    assert len(lcl) == 20
-    assert (
-        lcl[-1]["x2"] == "2026-05-21T12:00:00Z"
-    )  # midway between the last baseline week and the next
-    # each step spans from the midpoint before its point to the midpoint after it
+    # constant limits: one segment over the whole series, from the first to the last point
     ucl = _by_kind(rows, "UCL")
-    assert ucl[1]["x"] == "2026-01-08T12:00:00Z" and ucl[1]["x2"] == "2026-01-15T12:00:00Z"
-    assert ucl[0]["x"] == "2026-01-05"
+    assert [(r["x"], r["x2"], r["y"]) for r in ucl] == [("2026-01-05", "2026-07-27", 44.4)]
+    assert [r["y"] for r in _by_kind(rows, "centre line")] == [30.0]
+    # LCL is nan from point 20 on: it stops midway between the last baseline week and the next
+    lcl = _by_kind(rows, "LCL")
+    assert [(r["x"], r["x2"], r["y"]) for r in lcl] == [
+        ("2026-01-05", "2026-05-21T12:00:00Z", 15.6)
+    ]
     # right-end labels carry the values
     labels = {r["kind"]: r["text"] for r in spec["datasets"]["labels"]}
     assert labels == {"centre line": "CL 30", "UCL": "UCL 44.4", "LCL": "LCL 15.6"}
@@ -53,9 +50,13 @@ def test_limits_are_per_point_steps_and_absent_where_nan():
 def test_stepped_p_limits_follow_every_point():
     cc = make_p_chart()
     spec = control_chart(make_ctx(), cc, ()).spec
-    ucl = [r["y"] for r in _by_kind(spec["datasets"]["limits"], "UCL")]
-    np.testing.assert_allclose(ucl, cc.upper)
-    assert len(set(np.round(ucl, 12))) == 4  # four subgroup sizes, four limit levels
+    rows = _by_kind(spec["datasets"]["limits"], "UCL")
+    np.testing.assert_allclose([r["y"] for r in rows], cc.upper)  # sizes change at every point
+    # each step spans from the midpoint before its point to the midpoint after it
+    assert rows[0]["x"] == "2026-01-05" and rows[0]["x2"] == "2026-01-08T12:00:00Z"
+    assert rows[1]["x"] == "2026-01-08T12:00:00Z" and rows[1]["x2"] == "2026-01-15T12:00:00Z"
+    assert rows[-1]["x2"] == "2026-07-27"
+    assert len({round(r["y"], 12) for r in rows}) == 4  # four subgroup sizes, four limit levels
     # a p chart's axis is in proportions, not in the metric's unit
     assert "Proportion (p)" in _y_titles(spec)
 
@@ -259,3 +260,17 @@ def test_number_format_for_labels():
     assert fmt(123456.7) == "123,457"
     assert fmt(float("nan")) == "n/a"
     assert fmt(-0.0001) == "-0.000100"
+
+
+def test_per_phase_limits_step_at_the_phase_change():
+    cc = make_individuals(secondary=False)
+    upper = cc.upper.copy()
+    upper[20:] = 40.0  # limits recomputed for the After phase
+    cc2 = type(cc)(**{**cc.__dict__, "upper": upper})
+    rows = _by_kind(control_chart(make_ctx(), cc2, ()).spec["datasets"]["limits"], "UCL")
+    assert [(r["x"], r["x2"], r["y"]) for r in rows] == [
+        ("2026-01-05", "2026-05-21T12:00:00Z", 44.4),
+        ("2026-05-21T12:00:00Z", "2026-07-27", 40.0),
+    ]
+    labels = control_chart(make_ctx(), cc2, ()).spec["datasets"]["labels"]
+    assert {r["kind"]: r["text"] for r in labels}["UCL"] == "UCL 40"  # the current limit

@@ -121,3 +121,11 @@ def test_deterministic_across_processes():
     ).stdout
     here = json.dumps([c.spec for _, c in SPECS], sort_keys=True, allow_nan=False)
     assert out.strip() == here
+
+
+def test_field_checker_catches_a_missing_field_and_dataset():
+    spec = json.loads(json.dumps(dict(SPECS)["control-chart X-mR"].spec))
+    del spec["datasets"]["limits"][0]["x2"]
+    assert any("x2" in p for p in missing_fields(spec))
+    del spec["datasets"]["labels"]
+    assert any("'labels'" in p for p in missing_fields(spec))

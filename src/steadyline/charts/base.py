@@ -11,11 +11,14 @@ and the data rows attached under ``datasets``.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from collections.abc import Callable, Hashable, Sequence
 from dataclasses import dataclass
 from datetime import UTC, date, datetime
+
+import numpy as np
 
 from . import style
 
@@ -158,6 +161,15 @@ def num(v) -> float | None:
     return f if math.isfinite(f) else None
 
 
+def num_list(values) -> list[float | None]:
+    """Plain floats with None for missing / nan / inf, for a whole array at once."""
+    arr = np.asarray(values, dtype=float).ravel()
+    out = arr.tolist()
+    for i in np.flatnonzero(~np.isfinite(arr)).tolist():
+        out[i] = None
+    return out
+
+
 def fmt(v, sig: int = 3) -> str:
     """A number for labels: about ``sig`` significant digits, integer part always whole."""
     f = num(v)
@@ -235,6 +247,12 @@ def utc_text(d: datetime) -> str:
     return d.strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
+@functools.lru_cache(maxsize=32)
+def x_axis(ctx: SeriesContext) -> XAxis:
+    """The x positions of a series, shared by the charts of one metric (computed once)."""
+    return XAxis(ctx)
+
+
 class XAxis:
     """Positions along the x axis of a series chart.
 
@@ -246,6 +264,7 @@ class XAxis:
         self.ctx = ctx
         self.n = len(ctx.x)
         self.is_time = ctx.x_is_time
+        self._mids: list | None = None
         if self.is_time:
             self.pos = [time_text(s) for s in ctx.x]
             self._dt = [parse_time(s) for s in ctx.x]
@@ -256,19 +275,28 @@ class XAxis:
     def at(self, i: int):
         return self.pos[i]
 
+    def _midpoints(self) -> list:
+        """mids[i]: halfway between point i-1 and point i; mids[0] and mids[n] are the ends."""
+        if self._mids is None:
+            n = self.n
+            if self.is_time:
+                dt = self._dt
+                mids = [self.pos[0]] if n else []
+                mids += [utc_text(dt[i - 1] + (dt[i] - dt[i - 1]) / 2) for i in range(1, n)]
+                if n:
+                    mids.append(self.pos[n - 1])
+            else:
+                mids = [i - 0.5 for i in range(n + 1)]
+            self._mids = mids
+        return self._mids
+
     def half_before(self, i: int):
-        """Position halfway between point i-1 and point i (point i itself for the first)."""
-        if i <= 0:
-            return self.pos[0] if self.is_time else -0.5
-        if self.is_time:
-            a, b = self._dt[i - 1], self._dt[i]
-            return utc_text(a + (b - a) / 2)
-        return i - 0.5
+        """Position halfway between point i-1 and point i (the first point: its own place)."""
+        return self._midpoints()[max(0, min(i, self.n))]
 
     def half_after(self, i: int):
-        if i >= self.n - 1:
-            return self.pos[self.n - 1] if self.is_time else self.n - 0.5
-        return self.half_before(i + 1)
+        """Position halfway between point i and point i+1 (the last point: its own place)."""
+        return self._midpoints()[max(0, min(i + 1, self.n))]
 
     def axis_values(self) -> dict:
         """Placeholder values for a label axis (non-time series)."""

@@ -21,11 +21,13 @@ from .base import (
     fmt,
     make_spec,
     num,
+    num_list,
     plural,
     slot,
     stage_runs,
     titled,
     with_unit,
+    x_axis,
     x_encoding,
 )
 
@@ -191,9 +193,8 @@ def _point_rows(
     group = 0
     prev_seg = None
     prev_missing = True
-    for k, v in enumerate(values):
+    for k, f in enumerate(num_list(values)):
         i = k + offset
-        f = num(v)
         seg = ctx.segment[i]
         if f is None:
             prev_missing = True
@@ -230,34 +231,54 @@ def _limit_rows(xa: XAxis, chart: ControlChart, offset: int) -> tuple[list[dict]
         return rows, labels
     x_end = xa.at(m - 1 + offset)
     for kind in _LIMIT_KINDS:
-        arr = arrays[kind]
-        last = None
-        for k in range(m):
-            f = num(arr[k])
+        ys = num_list(arrays[kind])
+        # one segment per run of equal values: constant limits give one row per phase,
+        # stepped limits one row per point; a nan ends a run and draws nothing
+        k = 0
+        while k < m:
+            f = ys[k]
             if f is None:
+                k += 1
                 continue
-            i = k + offset
-            text = f"{_LIMIT_SHORT[kind]} {fmt(f)}"
+            j = k
+            while j + 1 < m and ys[j + 1] == f:
+                j += 1
             rows.append(
-                {"x": xa.half_before(i), "x2": xa.half_after(i), "y": f, "kind": kind, "text": text}
+                {
+                    "x": xa.half_before(k + offset),
+                    "x2": xa.half_after(j + offset),
+                    "y": f,
+                    "kind": kind,
+                    "text": f"{_LIMIT_SHORT[kind]} {fmt(f)}",
+                }
             )
-            last = (f, text)
+            k = j + 1
+        last = next((y for y in reversed(ys) if y is not None), None)
         if last is not None:
-            labels.append({"x": x_end, "y": last[0], "text": last[1], "kind": kind})
+            labels.append(
+                {"x": x_end, "y": last, "text": f"{_LIMIT_SHORT[kind]} {fmt(last)}", "kind": kind}
+            )
     return rows, labels
 
 
 def _limits_info(chart: ControlChart) -> list[str]:
     out = []
-    for lo, c, hi in zip(chart.lower, chart.centre, chart.upper, strict=True):
+    memo: dict[tuple, str] = {}
+    lows, centres, highs = num_list(chart.lower), num_list(chart.centre), num_list(chart.upper)
+    for key in zip(lows, centres, highs, strict=True):
+        if key in memo:
+            out.append(memo[key])
+            continue
+        lo, c, hi = key
         parts = []
-        if num(lo) is not None:
+        if lo is not None:
             parts.append(f"LCL {fmt(lo)}")
-        if num(c) is not None:
+        if c is not None:
             parts.append(f"CL {fmt(c)}")
-        if num(hi) is not None:
+        if hi is not None:
             parts.append(f"UCL {fmt(hi)}")
-        out.append(", ".join(parts))
+        memo[key] = ", ".join(parts)
+        out.append(memo[key])
     return out
 
 
@@ -305,7 +326,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     vals = list(values)
     n = len(ctx.x)
     _check_len("values", vals, n)
-    xa = XAxis(ctx)
+    xa = x_axis(ctx)
     tpl = cached_template(("run-chart", ctx.x_is_time), lambda: _run_template(ctx.x_is_time))
 
     # Mark points of pattern signals; a signal spanning every point (too few / too many
@@ -379,7 +400,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
             )
         for name in ("centre", "lower", "upper"):
             _check_len(f"chart.secondary.{name}", getattr(sec, name), len(sec.values))
-    xa = XAxis(ctx)
+    xa = x_axis(ctx)
     is_time = ctx.x_is_time
     has_sec = sec is not None
     tpl = cached_template(
@@ -448,26 +469,31 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     columns += ["value", "centre line", "LCL", "UCL", "used for limits", "signals"]
     if sec is not None:
         columns += [abbr, f"{abbr} centre line", f"{abbr} LCL", f"{abbr} UCL"]
+    cols: dict[str, list] = {}
+    if chart.sizes is not None:
+        cols["subgroup size"] = num_list(chart.sizes)
+    cols["value"] = num_list(chart.values)
+    cols["centre line"] = num_list(chart.centre)
+    cols["LCL"] = num_list(chart.lower)
+    cols["UCL"] = num_list(chart.upper)
+    if sec is not None:
+        pad = [None] * offset
+        cols[abbr] = pad + num_list(sec.values)
+        cols[f"{abbr} centre line"] = pad + num_list(sec.centre)
+        cols[f"{abbr} LCL"] = pad + num_list(sec.lower)
+        cols[f"{abbr} UCL"] = pad + num_list(sec.upper)
     table = []
     for i in range(n):
         row: dict = {x_col: ctx.x[i]}
-        if has_stage:
-            row["phase"] = ctx.stage[i]
-        if chart.sizes is not None:
-            row["subgroup size"] = num(chart.sizes[i])
-        row["value"] = num(chart.values[i])
-        row["centre line"] = num(chart.centre[i])
-        row["LCL"] = num(chart.lower[i])
-        row["UCL"] = num(chart.upper[i])
-        row["used for limits"] = "yes" if fitted[i] else "no"
-        row["signals"] = "; ".join(marked.get(i, []) + sec_marked.get(i, []))
-        if sec is not None:
-            k = i - offset
-            ok = 0 <= k < len(sec.values)
-            row[abbr] = num(sec.values[k]) if ok else None
-            row[f"{abbr} centre line"] = num(sec.centre[k]) if ok else None
-            row[f"{abbr} LCL"] = num(sec.lower[k]) if ok else None
-            row[f"{abbr} UCL"] = num(sec.upper[k]) if ok else None
+        for name in columns[1:]:
+            if name == "phase":
+                row[name] = ctx.stage[i]
+            elif name == "used for limits":
+                row[name] = "yes" if fitted[i] else "no"
+            elif name == "signals":
+                row[name] = "; ".join(marked.get(i, []) + sec_marked.get(i, []))
+            else:
+                row[name] = cols[name][i]
         table.append(row)
 
     last = {lab["kind"]: lab["text"] for lab in labels}

@@ -16,8 +16,8 @@ from __future__ import annotations
 INK = "#262626"  # text, axes, medians (L* 15)
 DATA = "#1f4e79"  # measured values: lines, points, main bars (L* 32)
 SIGNAL = "#e08a00"  # points taking part in a signal (L* 65)
-CENTRE = "#777777"  # centre line, solid (L* 50)
-LIMIT = "#777777"  # control limits, dashed (L* 50)
+CENTRE = "#707070"  # centre line, solid (L* 47)
+LIMIT = "#707070"  # control limits, dashed (L* 47)
 EVENT = "#7b5aa6"  # event rules, dotted (L* 45)
 SPEC = "#9a3412"  # specification limits on a histogram, dashed (L* 37)
 TARGET = INK  # target on a histogram, dotted
