@@ -107,20 +107,36 @@ def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
         return None
 
 
+def _size_text(size: float) -> str:
+    mb = size / 1024 / 1024
+    return f"{mb:.0f} MB" if mb >= 10 else f"{mb:.3g} MB" if mb >= 0.01 else f"{size:,.0f} bytes"
+
+
 def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd.DataFrame | None:
+    """The file as a table of stripped text cells, indexed by physical line number.
+
+    Python's csv module is used (not pandas' reader) because it reports the physical line each
+    record starts on, also when a quoted cell spans several lines, and so lets every message
+    name the right line; rows with too few fields are refused like rows with too many.
+    """
     path = spec.file
     try:
         size = path.stat().st_size
     except OSError as e:
         out.add(None, "", f"cannot read the file: {e.strerror}")
         return None
-    if size > settings.max_file_mb * 1024 * 1024:
-        out.add(None, "", f"the file is {size / 1024 / 1024:.0f} MB, over the limit of "
-                f"{settings.max_file_mb:g} MB; roll the data up before committing it, or raise "
-                "max_file_mb in portfolio.toml")
+    limit = settings.max_file_mb * 1024 * 1024
+    if size > limit:
+        out.add(None, "", f"the file is {_size_text(size)}, over the limit of "
+                f"{settings.max_file_mb:g} MB (max_file_mb in portfolio.toml); roll the data up "
+                "before committing it, or raise max_file_mb")
         return None
-    with open(path, "rb") as fh:  # read-only: input files are never opened for writing
-        raw = fh.read()
+    try:
+        with open(path, "rb") as fh:  # read-only: input files are never opened for writing
+            raw = fh.read()
+    except OSError as e:
+        out.add(None, "", f"cannot read the file: {e.strerror}")
+        return None
     text = _decode(raw, spec.csv.encoding, out)
     if text is None:
         return None
@@ -128,30 +144,62 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd
         out.add(None, "", "the file is empty; it needs a header line and data rows")
         return None
     delim = spec.csv.delimiter
-    first = text.splitlines()[0]
-    header = next(csv.reader([first], delimiter=delim))
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delim, strict=True)
+    records: list[tuple[int, list[str]]] = []
+    last = 0
+    try:
+        for row in reader:
+            first_line, last = last + 1, reader.line_num
+            if not row or (len(row) == 1 and not row[0].strip()):
+                continue  # a blank line
+            records.append((first_line, row))
+    except csv.Error as e:
+        where = last + 1
+        msg = str(e)
+        if "end of data" in msg or "EOF" in msg:
+            msg = ("a quoted cell is never closed; check the quote marks (\") from this line "
+                   "on")
+        elif "expected" in msg and "after" in msg:
+            msg = (f"a quote mark (\") inside a cell must be doubled (\"\"), or the whole cell "
+                   f"quoted ({msg})")
+        out.add(where, "", f"the file cannot be read as CSV: {msg}")
+        return None
+    if not records:
+        out.add(None, "", "the file is empty; it needs a header line and data rows")
+        return None
+    header_line, header = records[0]
     header = [h.strip() for h in header]
+    # Spreadsheets often add empty columns at the right: drop unnamed trailing columns whose
+    # cells are all blank.
+    width = len(header)
+    while width > 1 and header[width - 1] == "" and all(
+            len(r) < width or not r[width - 1].strip() for _, r in records[1:]):
+        width -= 1
+    header = header[:width]
     dup = sorted({h for h in header if header.count(h) > 1})
     if dup:
-        out.add(1, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} appear more "
-                "than once; give each column its own name")
+        out.add(header_line, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
+                "appear more than once; give each column its own name")
         return None
-    try:
-        df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
-                         skipinitialspace=True, engine="c")
-    except pd.errors.ParserError as e:
-        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(e))
-        if m:
-            out.add(int(m.group(2)), "", f"this row has {m.group(3)} fields but the header has "
-                    f"{m.group(1)}; check for a stray delimiter or a missing quote")
-        else:
-            out.add(None, "", f"the file cannot be read as CSV: {e}")
+    body = []
+    ragged: dict[tuple[int, int], list[int]] = {}
+    for line, row in records[1:]:
+        if len(row) > width and not any(c.strip() for c in row[width:]):
+            row = row[:width]  # empty trailing cells of the dropped empty columns
+        if len(row) != width:
+            ragged.setdefault((len(row), width), []).append(line)
+            continue
+        body.append((line, [c.strip() for c in row]))
+    for (got, want), lines in sorted(ragged.items(), key=lambda kv: kv[1][0]):
+        out.rows(lines, "", f"this row has {got} field{'s' if got != 1 else ''} but the header "
+                 f"has {want}; check for a stray or missing delimiter ({delim!r}) or quote mark")
+    if ragged:
         return None
-    df.columns = [str(c).strip() for c in df.columns]
-    if len(df) == 0:
-        out.add(1, "", "the file has a header but no data rows")
+    if not body:
+        out.add(header_line, "", "the file has a header but no data rows")
         return None
-    df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
+    df = pd.DataFrame([r for _, r in body], columns=header, dtype=str)
+    df.index = np.array([line for line, _ in body])  # physical line numbers (header = line 1)
     return df
 
 
@@ -175,31 +223,97 @@ def _require_column(df: pd.DataFrame, key: str, col: str | None, spec: MetricSpe
     return False
 
 
+_NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+_INFINITY_RE = re.compile(r"^[+-]?inf(?:inity)?$", re.IGNORECASE)
+_THOUSANDS_RE = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+(?:,\d*)?$")
+_MISSING_WORDS = {"nan", "na", "n/a", "#n/a", "null", "none", "-", "--", "?", "missing"}
+
+
+def _to_float(cell: str, decimal: str) -> float | None:
+    """A cell as a float (inf allowed, reported by the caller), or None when it is no number."""
+    if decimal == ",":
+        if _THOUSANDS_RE.match(cell):
+            cell = cell.replace(".", "")
+        elif "." in cell:
+            return None
+        cell = cell.replace(",", ".")
+    if _NUMBER_RE.match(cell):
+        return float(cell)
+    if _INFINITY_RE.match(cell):
+        return float(cell)
+    return None
+
+
+def _why_not_number(cell: str, what: str, decimal: str) -> str:
+    text = f"{cell!r} is not {what}"
+    if cell.lower() in _MISSING_WORDS:
+        return text + "; leave the cell blank for a missing value"
+    if decimal == "." and re.match(r"^[+-]?\d*,\d+$", cell):
+        return (text + "; for decimal commas set [metric.csv] decimal = \",\" and "
+                "delimiter = \";\"")
+    if decimal == "," and "." in cell:
+        return text + "; the metric declares decimal commas (decimal = \",\"): write 1,5 not 1.5"
+    return text
+
+
 def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, integer=False,
              minimum: float | None = None, what="a number") -> pd.Series:
     s = df[col].str.strip()
-    if spec.csv.decimal == ",":
-        s = s.str.replace(".", "", regex=False).str.replace(",", ".", regex=False)
-    num = pd.to_numeric(s, errors="coerce")
+    dec = spec.csv.decimal
+    table = {u: _to_float(u, dec) for u in pd.unique(s) if u != ""}
+    num = pd.Series([np.nan if c == "" or table[c] is None else table[c] for c in s],
+                    index=df.index, dtype=float)
     blank = s == ""
-    bad = num.isna() & ~blank
+    bad = s.map(lambda c: c != "" and table[c] is None).astype(bool)
     out.rows(list(df.index[bad]), f"column '{col}'",
-             f"{df[col][bad].iloc[0]!r} is not {what}" if bad.any() else "")
-    nonfinite = np.isinf(num.to_numpy(dtype=float, na_value=np.nan))
-    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite; write a "
-             "finite number or leave the row out")
-    num = num.where(~np.isinf(num.astype(float)))
+             _why_not_number(s[bad].iloc[0], what, dec) if bad.any() else "")
+    nonfinite = np.isinf(num.to_numpy())
+    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite (or too large "
+             "to hold); write a finite number or leave the cell blank")
+    num = num.where(~nonfinite)
     out.rows(list(df.index[blank]), f"column '{col}'", "blank cell; the row is left out",
              severity="warning")
     if integer:
         frac = num.notna() & (num != np.floor(num))
-        out.rows(list(df.index[frac]), f"column '{col}'", "expected a whole number")
+        out.rows(list(df.index[frac]), f"column '{col}'",
+                 f"expected a whole number, got {s[frac].iloc[0]!r}" if frac.any() else "")
     if minimum is not None:
         low = num.notna() & (num < minimum)
         out.rows(list(df.index[low]), f"column '{col}'",
                  f"{num[low].iloc[0]:g} is below {minimum:g}; counts cannot be negative"
                  if low.any() else "")
-    return num.astype(float)
+    return num
+
+
+# Times are kept as nanosecond timestamps, which cover the years 1677 to 2262; dates outside a
+# slightly narrower window are refused with a message instead of overflowing.
+_EARLIEST, _LATEST = pd.Timestamp("1678-01-01"), pd.Timestamp("2261-12-31")
+
+
+def _in_range(t: pd.Series) -> tuple[pd.Series, pd.Series]:
+    """(t as datetime64[ns] with out-of-range times as NaT, mask of the out-of-range times)."""
+    if len(t) and t.dt.tz is not None:
+        t = t.dt.tz_localize(None)
+    far = t.notna() & ((t < _EARLIEST) | (t > _LATEST))
+    return t.where(~far).astype("datetime64[ns]"), far
+
+
+def _parse(s: pd.Series, **kw) -> pd.Series:
+    try:
+        t = pd.to_datetime(s, errors="coerce", **kw)
+    except (ValueError, OverflowError, TypeError):  # unparseable as a whole: one by one
+        t = pd.Series([_parse_one(x, kw) for x in s], index=s.index, dtype=object)
+        t = pd.to_datetime(t, errors="coerce", utc=True)
+    if t.dtype == object:  # several UTC offsets from a %z format: make them comparable
+        t = pd.to_datetime(t, errors="coerce", utc=True)
+    return t
+
+
+def _parse_one(x, kw):
+    try:
+        return pd.to_datetime(x, errors="coerce", **kw)
+    except (ValueError, OverflowError, TypeError):
+        return pd.NaT
 
 
 def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
@@ -208,10 +322,15 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
     tz = spec.csv.timezone
+    t = pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
+    far = pd.Series(False, index=df.index)
     if spec.csv.date_format:
-        t = pd.to_datetime(s.where(~blank), format=spec.csv.date_format, errors="coerce")
-        if tz:
-            t = t.dt.tz_localize(tz, ambiguous="NaT", nonexistent="NaT").dt.tz_localize(None)
+        parsed = _parse(s.where(~blank), format=spec.csv.date_format)
+        # Plain times are wall-clock times of the metric's zone already: kept as they are.
+        if len(parsed) and parsed.dt.tz is not None:  # the format has %z
+            parsed = parsed.dt.tz_convert(tz or "UTC")
+        t, far_ = _in_range(parsed)
+        far |= far_
         expected = f"a date in the format {spec.csv.date_format!r}"
     else:
         aware = s.str.contains(_OFFSET_RE) & ~blank
@@ -222,20 +341,27 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
                     "the file mixes times with and without a UTC offset; write every time the "
                     "same way, or set [metric.csv] timezone to say which zone the plain times "
                     "are in")
-            return pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
-        t = pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
+            return t
         zone = tz or "UTC"
         if aware.any():
-            ta = pd.to_datetime(s[aware], format="ISO8601", utc=True, errors="coerce")
-            t[aware] = ta.dt.tz_convert(zone).dt.tz_localize(None)
+            ta = _parse(s[aware], format="ISO8601", utc=True)
+            ta, far_a = _in_range(ta)  # UTC wall-clock, range-checked before conversion
+            ta = ta.dt.tz_localize("UTC").dt.tz_convert(zone)
+            ta, far_b = _in_range(ta)
+            t[aware] = ta
+            far[aware] = far_a | far_b
         naive = ~aware & ~blank
         if naive.any():
-            tn = pd.to_datetime(s[naive], format="ISO8601", errors="coerce")
+            tn, far_n = _in_range(_parse(s[naive], format="ISO8601"))
             t[naive] = tn
+            far[naive] = far_n
         expected = "an ISO 8601 date like 2026-03-31 (or set [metric.csv] date_format)"
-    bad = t.isna() & ~blank
+    out.rows(list(df.index[far]), f"column '{col}'",
+             f"{df[col][far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
+             "charted; check the date" if far.any() else "")
+    bad = t.isna() & ~blank & ~far
     out.rows(list(df.index[bad]), f"column '{col}'",
-             f"{df[col][bad].iloc[0]!r} is not {expected}" if bad.any() else "")
+             f"{df[col][bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "")
     return t.astype("datetime64[ns]")
 
 
@@ -368,7 +494,8 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
         frame = frame[~zero]
     out.raise_if_failed()
     if len(frame) == 0:
-        out.add(None, "", "no usable data rows are left after leaving out blank cells")
+        out.add(None, "", "no usable data rows are left after leaving out blank cells and rows "
+                "with nothing checked; see the warnings")
         out.raise_if_failed()
 
     if "t" in frame:
