@@ -25,6 +25,14 @@ def _by_kind(rows, kind):
     return [r for r in rows if r["kind"] == kind]
 
 
+def _pieces(rows, kind):
+    """A limit's step line as {part: [(x, y), ...]} in drawing order."""
+    out = {}
+    for r in sorted(_by_kind(rows, kind), key=lambda r: r["order"]):
+        out.setdefault(r["part"], []).append((r["x"], r["y"]))
+    return list(out.values())
+
+
 # --- control chart --------------------------------------------------------------------------
 
 
@@ -32,15 +40,11 @@ def test_limits_are_steps_and_absent_where_nan():
     cc = make_individuals()
     spec = control_chart(make_ctx(), cc, MAIN_SIGNALS).spec
     rows = spec["datasets"]["limits"]
-    # constant limits: one segment over the whole series, from the first to the last point
-    ucl = _by_kind(rows, "UCL")
-    assert [(r["x"], r["x2"], r["y"]) for r in ucl] == [("2026-01-05", "2026-07-27", 44.4)]
-    assert [r["y"] for r in _by_kind(rows, "centre line")] == [30.0]
+    # constant limits: one horizontal line over the whole series, first to last point
+    assert _pieces(rows, "UCL") == [[("2026-01-05", 44.4), ("2026-07-27", 44.4)]]
+    assert _pieces(rows, "centre line") == [[("2026-01-05", 30.0), ("2026-07-27", 30.0)]]
     # LCL is nan from point 20 on: it stops midway between the last baseline week and the next
-    lcl = _by_kind(rows, "LCL")
-    assert [(r["x"], r["x2"], r["y"]) for r in lcl] == [
-        ("2026-01-05", "2026-05-21T12:00:00Z", 15.6)
-    ]
+    assert _pieces(rows, "LCL") == [[("2026-01-05", 15.6), ("2026-05-21T12:00:00Z", 15.6)]]
     # right-end labels carry the values
     labels = {r["kind"]: r["text"] for r in spec["datasets"]["labels"]}
     assert labels == {"centre line": "CL 30", "UCL": "UCL 44.4", "LCL": "LCL 15.6"}
@@ -50,13 +54,17 @@ def test_limits_are_steps_and_absent_where_nan():
 def test_stepped_p_limits_follow_every_point():
     cc = make_p_chart()
     spec = control_chart(make_ctx(), cc, ()).spec
-    rows = _by_kind(spec["datasets"]["limits"], "UCL")
-    np.testing.assert_allclose([r["y"] for r in rows], cc.upper)  # sizes change at every point
-    # each step spans from the midpoint before its point to the midpoint after it
-    assert rows[0]["x"] == "2026-01-05" and rows[0]["x2"] == "2026-01-08T12:00:00Z"
-    assert rows[1]["x"] == "2026-01-08T12:00:00Z" and rows[1]["x2"] == "2026-01-15T12:00:00Z"
-    assert rows[-1]["x2"] == "2026-07-27"
-    assert len({round(r["y"], 12) for r in rows}) == 4  # four subgroup sizes, four limit levels
+    (line,) = _pieces(spec["datasets"]["limits"], "UCL")
+    # sizes change at every point: one horizontal step per point, joined by vertical steps
+    np.testing.assert_allclose([y for _, y in line], np.repeat(cc.upper, 2))
+    assert [x for x, _ in line[:4]] == [
+        "2026-01-05",
+        "2026-01-08T12:00:00Z",
+        "2026-01-08T12:00:00Z",
+        "2026-01-15T12:00:00Z",
+    ]
+    assert line[-1][0] == "2026-07-27"
+    assert len({round(y, 12) for _, y in line}) == 4  # four subgroup sizes, four levels
     # a p chart's axis is in proportions, not in the metric's unit
     assert "Proportion (p)" in _y_titles(spec)
 
@@ -267,10 +275,14 @@ def test_per_phase_limits_step_at_the_phase_change():
     upper = cc.upper.copy()
     upper[20:] = 40.0  # limits recomputed for the After phase
     cc2 = type(cc)(**{**cc.__dict__, "upper": upper})
-    rows = _by_kind(control_chart(make_ctx(), cc2, ()).spec["datasets"]["limits"], "UCL")
-    assert [(r["x"], r["x2"], r["y"]) for r in rows] == [
-        ("2026-01-05", "2026-05-21T12:00:00Z", 44.4),
-        ("2026-05-21T12:00:00Z", "2026-07-27", 40.0),
+    rows = control_chart(make_ctx(), cc2, ()).spec["datasets"]["limits"]
+    assert _pieces(rows, "UCL") == [
+        [
+            ("2026-01-05", 44.4),
+            ("2026-05-21T12:00:00Z", 44.4),
+            ("2026-05-21T12:00:00Z", 40.0),
+            ("2026-07-27", 40.0),
+        ]
     ]
     labels = control_chart(make_ctx(), cc2, ()).spec["datasets"]["labels"]
     assert {r["kind"]: r["text"] for r in labels}["UCL"] == "UCL 40"  # the current limit

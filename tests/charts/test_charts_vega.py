@@ -125,7 +125,17 @@ def test_deterministic_across_processes():
 
 def test_field_checker_catches_a_missing_field_and_dataset():
     spec = json.loads(json.dumps(dict(SPECS)["control-chart X-mR"].spec))
-    del spec["datasets"]["limits"][0]["x2"]
-    assert any("x2" in p for p in missing_fields(spec))
+    del spec["datasets"]["limits"][0]["part"]
+    assert any("part" in p for p in missing_fields(spec))
     del spec["datasets"]["labels"]
     assert any("'labels'" in p for p in missing_fields(spec))
+
+
+@pytest.mark.parametrize(("name", "chart"), SPECS, ids=IDS)
+def test_compiles_without_warnings(name, chart, capfd):
+    # the compiler's warnings (conflicting scales, dropped channels, unknown fields) are printed
+    # by vl-convert on the process's stderr
+    capfd.readouterr()
+    vlc.vegalite_to_vega(chart.spec, show_warnings=True)
+    err = capfd.readouterr().err
+    assert "WARN" not in err, err

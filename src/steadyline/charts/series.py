@@ -97,11 +97,12 @@ def _reference_layers(alt, is_time: bool, prefix: str, y_slot: str) -> list:
     x = x_encoding(alt, is_time)
     segs = (
         alt.Chart(alt.NamedData(f"{prefix}limits"))
-        .mark_rule(strokeWidth=1.4, color=style.LIMIT)
+        .mark_line(strokeWidth=1.4, color=style.LIMIT)
         .encode(
             x=x,
-            x2="x2",
             y=y,
+            detail="part:N",
+            order="order:Q",
             strokeDash=alt.StrokeDash(
                 "kind:N",
                 scale=alt.Scale(
@@ -222,7 +223,7 @@ def _point_rows(
 
 
 def _limit_rows(xa: XAxis, chart: ControlChart, offset: int) -> tuple[list[dict], list[dict]]:
-    """Per-point horizontal segments of CL/UCL/LCL, and the end labels ("UCL 44.4")."""
+    """Step lines of CL/UCL/LCL as vertices, and the end labels ("UCL 44.4")."""
     rows: list[dict] = []
     labels: list[dict] = []
     arrays = {"centre line": chart.centre, "UCL": chart.upper, "LCL": chart.lower}
@@ -232,26 +233,28 @@ def _limit_rows(xa: XAxis, chart: ControlChart, offset: int) -> tuple[list[dict]
     x_end = xa.at(m - 1 + offset)
     for kind in _LIMIT_KINDS:
         ys = num_list(arrays[kind])
-        # one segment per run of equal values: constant limits give one row per phase,
-        # stepped limits one row per point; a nan ends a run and draws nothing
+        # A step line: each run of equal values is one horizontal piece from the midpoint
+        # before its first point to the midpoint after its last; consecutive pieces join with a
+        # vertical step (stepped p/u limits, limits recomputed per phase). A nan ends the line
+        # and draws nothing until the next finite value.
+        part = 0
         k = 0
         while k < m:
             f = ys[k]
             if f is None:
+                if k > 0 and ys[k - 1] is not None:
+                    part += 1
                 k += 1
                 continue
             j = k
             while j + 1 < m and ys[j + 1] == f:
                 j += 1
-            rows.append(
-                {
-                    "x": xa.half_before(k + offset),
-                    "x2": xa.half_after(j + offset),
-                    "y": f,
-                    "kind": kind,
-                    "text": f"{_LIMIT_SHORT[kind]} {fmt(f)}",
-                }
-            )
+            text = f"{_LIMIT_SHORT[kind]} {fmt(f)}"
+            key = f"{kind} {part}"
+            for x in (xa.half_before(k + offset), xa.half_after(j + offset)):
+                rows.append(
+                    {"x": x, "y": f, "kind": kind, "part": key, "order": len(rows), "text": text}
+                )
             k = j + 1
         last = next((y for y in reversed(ys) if y is not None), None)
         if last is not None:
