@@ -467,7 +467,11 @@ def load_project(folder: Path, root: Path | None = None,
         else:
             notes_path = p
     elif (folder / NOTES_DEFAULT).is_file():
-        notes_path = folder / NOTES_DEFAULT
+        if _inside(folder / NOTES_DEFAULT, folder):
+            notes_path = folder / NOTES_DEFAULT
+        else:
+            ck.add("notes", f"the notes file {NOTES_DEFAULT!r} points outside the project folder "
+                   "(a link); keep notes inside it")
     safety = r.boolean("safety_related")
 
     phase_dates: list[tuple[str, dt.date]] = []
@@ -587,7 +591,8 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         cr = _Reader(ck, ct, prefix + "csv.", table="metric", index=i, sub="csv")
         delim = cr.text("delimiter", default=",")
         if delim is not None and len(delim) != 1:
-            ck.add(f"{prefix}csv.delimiter", f"expected one character, got {delim!r}")
+            ck.add(f"{prefix}csv.delimiter", f"expected one character, got {delim!r}",
+                   cr._line("delimiter"))
             delim = ","
         dec = cr.choice("decimal", (".", ","), default=".")
         enc = cr.text("encoding", default="utf-8")
@@ -596,7 +601,8 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
 
             codecs.lookup(enc)
         except LookupError:
-            ck.add(f"{prefix}csv.encoding", f"unknown text encoding {enc!r}; try utf-8 or latin-1")
+            ck.add(f"{prefix}csv.encoding", f"unknown text encoding {enc!r}; try utf-8 or latin-1",
+                   cr._line("encoding"))
             enc = "utf-8"
         tz = cr.text("timezone")
         if tz is not None:
@@ -606,11 +612,11 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
                 zoneinfo.ZoneInfo(tz)
             except (zoneinfo.ZoneInfoNotFoundError, ValueError):
                 ck.add(f"{prefix}csv.timezone", f"unknown time zone {tz!r}; use a name like "
-                       "'Europe/Berlin' or 'UTC'")
+                       "'Europe/Berlin' or 'UTC'", cr._line("timezone"))
                 tz = None
         if delim == dec:
             ck.add(f"{prefix}csv", "the delimiter and the decimal mark are the same character; "
-                   "files with decimal commas use delimiter = \";\"")
+                   "files with decimal commas use delimiter = \";\"", cr._line("decimal"))
         csv = CsvOptions(delim or ",", dec or ".", enc or "utf-8", cr.text("date_format"), tz)
 
     bins: str | tuple[float, ...] = settings.bins
