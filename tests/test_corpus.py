@@ -327,9 +327,13 @@ CASES = [
                    data=_attr_csv([(1,), (0,), (2,)], header="date,ok")),
          [r"^p/data\.csv:4: column 'ok': expected 0 \(fine\) or 1 \(defective\)"], 1),
     # --- degenerate but valid data: the project builds (what the page says is tested in
-    #     test_hostile / test_degenerate builds; here: no error, no traceback)
-    Case("single-row", portfolio(data=_rows([("2026-01-05", "4.2")])), [], 0),
-    Case("constant-data", portfolio(data=good_csv(values=[5.0] * 30)), [], 0),
+    #     the build tests at the end of this file; here: no error, no traceback, statistics that could not be
+    #     computed are warnings)
+    Case("single-row", portfolio(data=_rows([("2026-01-05", "4.2")])),
+         [r"^p/data\.csv: warning: metric 'm', control chart: an individuals chart requires at "
+          r"least two data points, got 1"], 0),
+    Case("constant-data", portfolio(data=good_csv(values=[5.0] * 30)),
+         [r"^p/data\.csv: warning: metric 'm', .*standard deviation is zero"], 0),
     Case("all-on-median", portfolio(data=good_csv(values=[5.0] * 15 + [4.0, 6.0] * 7 + [5.0])),
          [], 0),
     Case("too-many-categories",

@@ -349,7 +349,10 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     }
     files["results.json"] = (dumps(doc) + "\n").encode()
     entry = index_entry(spec, analyses, sections, problems, has_history)
-    return ProjectOutcome(spec.slug, True, files, entry, problems)
+    # Displays the statistics could not draw are warnings for `check` and the terminal too.
+    stats_notes = [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
+                   for a in analyses for disp, msg in dict.fromkeys(a.failures)]
+    return ProjectOutcome(spec.slug, True, files, entry, problems + stats_notes)
 
 
 def project_view(spec: ProjectSpec) -> dict:
