@@ -13,10 +13,11 @@ import numpy as np
 
 from .config import MetricSpec
 from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, MetricData
-from .stats import capability as cap_mod
-from .stats import choice as choice_mod
-from .stats import compare as compare_mod
-from .stats import control, distribution, pareto, rules, runs
+from .stats import control, distribution, rules, runs
+from .stats.capability import capability as capability_of
+from .stats.choice import choose_chart
+from .stats.compare import compare
+from .stats.pareto import pareto, pareto_in_order
 from .stats.results import (
     BoxSummary,
     Capability,
@@ -102,11 +103,11 @@ def _choose(data: MetricData) -> ChartChoice:
     override = None if spec.chart == "auto" else spec.chart
     pts = data.points
     if data.kind == "continuous":
-        return choice_mod.choose_chart("continuous", override=override)
+        return choose_chart("continuous", override=override)
     if data.kind == "subgroups":
         sizes = [len(g) for g in data.subgroups or []]
-        return choice_mod.choose_chart("continuous", subgroup_sizes=sizes, override=override)
-    return choice_mod.choose_chart(data.kind, sizes=pts["size"].to_numpy(float),
+        return choose_chart("continuous", subgroup_sizes=sizes, override=override)
+    return choose_chart(data.kind, sizes=pts["size"].to_numpy(float),
                                    counts=pts["count"].to_numpy(float), override=override)
 
 
@@ -177,7 +178,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
         else:
             b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
-        res.comparison = _try(res, "comparison", compare_mod.compare, b_arr, a_arr, dtype,
+        res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
                               spec.better, baseline_sizes=bs, after_sizes=as_,
                               target=spec.target, metric=spec.name, unit=spec.unit)
         if res.run is not None:
@@ -234,7 +235,7 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int) -> Capability
     normality = None
     if len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
-    return _try(res, "capability", cap_mod.capability, vals, _sigma_within(res, stage),
+    return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),
                 lsl=spec.spec_lower, usl=spec.spec_upper, target=spec.target, stable=stable,
                 normality=normality, unstable_reason=reason)
 
@@ -244,7 +245,7 @@ def _categories(res: MetricAnalysis) -> None:
     pts = data.points
     cats = pts["category"].astype(str).to_numpy()
     weights = pts["weight"].to_numpy(float)
-    res.pareto = _try(res, "Pareto chart", pareto.pareto, cats, weights)
+    res.pareto = _try(res, "Pareto chart", pareto, cats, weights)
     if res.pareto is not None:
         # The column chart keeps the categories in their own (alphabetical) order, so that it
         # reads differently from the Pareto; counts come from the same tally.
@@ -256,6 +257,6 @@ def _categories(res: MetricAnalysis) -> None:
             order = res.pareto.categories
             for st in (STAGE_BASELINE, STAGE_AFTER):
                 sel = stage == st
-                p = _try(res, "history", pareto.pareto_in_order, cats[sel], weights[sel], order)
+                p = _try(res, "history", pareto_in_order, cats[sel], weights[sel], order)
                 if p is not None:
                     res.phase_paretos.append((STAGE_NAMES[st], p))

@@ -19,7 +19,8 @@ from . import __version__
 from .errors import Problem, SteadylineError
 
 
-def _print_problems(problems: list[Problem], stream=sys.stderr) -> None:
+def _print_problems(problems: list[Problem], stream=None) -> None:
+    stream = stream or sys.stderr
     seen = set()
     for p in sorted(problems, key=lambda p: (p.path, p.line or 0, p.where, p.message)):
         line = p.format()

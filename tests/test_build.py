@@ -1,0 +1,246 @@
+"""The build pipeline end to end: outputs, determinism, incremental builds, atomic publish."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import random
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from steadyline.cli import main
+from steadyline.site.build import MANIFEST, BuildOptions, build
+
+REPO = Path(__file__).resolve().parent.parent
+DEMO = REPO / "projects"
+SMALL = ("order-picking-errors", "frame-dropout-alignment", "customer-returns")
+
+
+def tree_hashes(root: Path) -> dict[str, str]:
+    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in sorted(root.rglob("*")) if p.is_file()}
+
+
+def copy_projects(dst: Path, slugs=SMALL) -> Path:
+    dst.mkdir(parents=True, exist_ok=True)
+    shutil.copy(DEMO / "portfolio.toml", dst / "portfolio.toml")
+    for s in slugs:
+        shutil.copytree(DEMO / s, dst / s)
+    return dst
+
+
+@pytest.fixture(scope="session")
+def demo_site(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("demo") / "site"
+    report = build(BuildOptions(DEMO, out, jobs=2))
+    assert report.ok, [p.format() for p in report.problems]
+    return out
+
+
+def _no_nan(text: str):
+    def bad(c):
+        raise AssertionError(f"non-JSON constant {c} in results.json")
+
+    return json.loads(text, parse_constant=bad)
+
+
+def test_demo_has_index_page_and_results_per_project(demo_site: Path):
+    slugs = sorted(p.name for p in DEMO.iterdir() if p.is_dir())
+    assert (demo_site / "index.html").is_file()
+    for slug in slugs:
+        page = demo_site / "projects" / slug / "index.html"
+        assert page.is_file(), slug
+        doc = _no_nan((demo_site / "projects" / slug / "results.json").read_text("utf-8"))
+        assert doc["schema"] == "steadyline-results/1"
+        assert doc["project"]["slug"] == slug
+        index = (demo_site / "index.html").read_text("utf-8")
+        assert f'href="projects/{slug}/index.html"' in index
+
+
+def test_all_six_display_families_across_the_demo(demo_site: Path):
+    seen_keys, seen_cards = set(), set()
+    for res in (demo_site / "projects").glob("*/results.json"):
+        for m in json.loads(res.read_text("utf-8"))["metrics"]:
+            seen_keys |= set(m)
+    for page in (demo_site / "projects").glob("*/index.html"):
+        text = page.read_text("utf-8")
+        for key in ("run", "control", "histogram", "box", "column", "pareto"):
+            if f'data-display="{key}"' in text:
+                seen_cards.add(key)
+    assert {"run_chart", "control_chart", "histogram", "box_plot", "column_chart",
+            "pareto"} <= seen_keys
+    assert seen_cards == {"run", "control", "histogram", "box", "column", "pareto"}
+
+
+def test_every_chart_kind_of_the_family_is_used_by_the_demo(demo_site: Path):
+    kinds = set()
+    for res in (demo_site / "projects").glob("*/results.json"):
+        for m in json.loads(res.read_text("utf-8"))["metrics"]:
+            if "control_chart" in m:
+                kinds.add(m["control_chart"]["choice"]["kind"])
+    assert {"xmr", "xbar-r", "xbar-s", "p", "u", "c", "laney-p"} <= kinds
+
+
+def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
+    for page in demo_site.rglob("*.html"):
+        text = page.read_text("utf-8")
+        import html
+
+        assert "Content-Security-Policy" in text, page
+        assert "script-src 'self';" in html.unescape(text), page
+        for attr in ('src="http', "src='http", 'href="//', "src=\"//", "@import"):
+            assert attr not in text, (page, attr)
+        # Only the site's own scripts and JSON data blocks: no inline code.
+        import re
+
+        for tag in re.findall(r"<script\b[^>]*>", text):
+            assert 'src="' in tag or 'type="application/json"' in tag, (page, tag)
+
+
+def test_the_safety_caution_is_on_safety_related_projects(demo_site: Path):
+    for proj in DEMO.iterdir():
+        toml = proj / "project.toml"
+        if not toml.is_file():
+            continue
+        page = (demo_site / "projects" / proj.name / "index.html").read_text("utf-8")
+        is_safety = "safety_related = true" in toml.read_text("utf-8")
+        assert ("Before acting on these charts" in page) == is_safety, proj.name
+
+
+def test_two_builds_of_the_same_input_are_byte_identical(demo_site: Path, tmp_path: Path):
+    again = tmp_path / "again"
+    build(BuildOptions(DEMO, again, jobs=1, force=True))
+    assert tree_hashes(again) == tree_hashes(demo_site)
+
+
+def test_a_rebuild_with_no_change_writes_nothing(tmp_path: Path):
+    projects = copy_projects(tmp_path / "projects")
+    out = tmp_path / "site"
+    first = build(BuildOptions(projects, out, jobs=1))
+    assert first.written and sorted(first.built) == sorted(SMALL)
+    before = tree_hashes(out)
+    stamp = (out / "index.html").stat().st_mtime_ns
+    second = build(BuildOptions(projects, out, jobs=1))
+    assert not second.written and second.built == [] and sorted(second.reused) == sorted(SMALL)
+    assert tree_hashes(out) == before
+    assert (out / "index.html").stat().st_mtime_ns == stamp
+
+
+def test_a_changed_csv_rebuilds_only_its_project(tmp_path: Path):
+    projects = copy_projects(tmp_path / "projects")
+    out = tmp_path / "site"
+    build(BuildOptions(projects, out, jobs=1))
+    before = tree_hashes(out)
+    csv = projects / "order-picking-errors" / "picking_audit.csv"
+    lines = csv.read_text("utf-8").splitlines()
+    lines[5] = lines[5].rsplit(",", 1)[0] + "," + str(int(lines[5].rsplit(",", 1)[1]) + 1)
+    csv.write_text("\n".join(lines) + "\n", "utf-8")
+    report = build(BuildOptions(projects, out, jobs=1))
+    assert report.built == ["order-picking-errors"]
+    assert sorted(report.reused) == sorted(s for s in SMALL if s != "order-picking-errors")
+    after = tree_hashes(out)
+    changed = {k for k in after if before.get(k) != after[k]}
+    assert "projects/order-picking-errors/results.json" in changed
+    assert not any(k.startswith("projects/customer-returns/") for k in changed)
+    manifest = json.loads((out / MANIFEST).read_text("utf-8"))
+    assert set(manifest["projects"]) == set(SMALL)
+
+
+def test_force_rebuilds_everything(tmp_path: Path):
+    projects = copy_projects(tmp_path / "projects", SMALL[:2])
+    out = tmp_path / "site"
+    build(BuildOptions(projects, out, jobs=1))
+    report = build(BuildOptions(projects, out, jobs=1, force=True))
+    assert sorted(report.built) == sorted(SMALL[:2]) and report.reused == []
+
+
+def test_a_broken_project_is_a_notice_and_the_rest_still_builds(tmp_path: Path, capsys):
+    projects = copy_projects(tmp_path / "projects", SMALL[:2])
+    toml = projects / "frame-dropout-alignment" / "project.toml"
+    toml.write_text(toml.read_text("utf-8").replace('type = "continuous"', 'type = "continous"'),
+                    "utf-8")
+    out = tmp_path / "site"
+    code = main(["build", str(projects), "--out", str(out), "--jobs", "1", "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 1
+    assert "frame-dropout-alignment/project.toml:" in err and "did you mean 'continuous'" in err
+    broken = (out / "projects" / "frame-dropout-alignment" / "index.html").read_text("utf-8")
+    assert "could not be built" in broken and "did you mean" in broken
+    assert (out / "projects" / "order-picking-errors" / "results.json").is_file()
+    index = (out / "index.html").read_text("utf-8")
+    assert "card-broken" in index and "Not built" in index
+
+
+def test_check_reports_file_and_key_and_exits_nonzero(tmp_path: Path, capsys):
+    projects = copy_projects(tmp_path / "projects", SMALL[:1])
+    toml = projects / SMALL[0] / "project.toml"
+    toml.write_text(toml.read_text("utf-8") + "\nowner_email = 'x'\n", "utf-8")
+    before = tree_hashes(projects)
+    assert main(["check", str(projects), "--quiet"]) == 1
+    out = capsys.readouterr().out
+    assert f"{SMALL[0]}/project.toml:" in out and "owner_email" in out and "unknown key" in out
+    assert tree_hashes(projects) == before  # check writes nothing
+    assert not (tmp_path / "site").exists()
+
+
+def test_check_passes_on_the_demo(capsys):
+    assert main(["check", str(DEMO), "--quiet"]) == 0
+
+
+@pytest.mark.slow
+def test_a_killed_build_leaves_the_published_site_whole(tmp_path: Path):
+    """Kill a real build process at random moments: the site is always the old or the new one."""
+    projects = copy_projects(tmp_path / "projects")
+    out = tmp_path / "site"
+    build(BuildOptions(projects, out, jobs=1))
+    old = tree_hashes(out)
+    csv = projects / "customer-returns" / "returns_weekly.csv"
+    text = csv.read_text("utf-8")
+    old_mtime = csv.stat().st_mtime_ns  # provenance shows modification times outside git
+    lines = text.splitlines()
+    lines[3] = lines[3].rsplit(",", 1)[0] + ",1"
+
+    def save(content: str, mtime: int):
+        csv.write_text(content, "utf-8")
+        os.utime(csv, ns=(mtime, mtime))
+
+    new_mtime = old_mtime + 10**9
+    save("\n".join(lines) + "\n", new_mtime)
+    reference = tmp_path / "reference"
+    build(BuildOptions(projects, reference, jobs=1, force=True))
+    new = tree_hashes(reference)
+    assert new != old
+    env = dict(os.environ, PYTHONPATH=str(REPO / "src"))
+    cmd = [sys.executable, "-m", "steadyline", "build", str(projects), "--out", str(out),
+           "--jobs", "1", "--force", "--quiet"]
+    # A full build takes a few seconds; kill at random points through it.
+    t0 = time.monotonic()
+    subprocess.run(cmd, env=env, check=True)
+    full = time.monotonic() - t0
+    build(BuildOptions(projects, out, jobs=1, force=True))  # ensure 'new' is published again
+    rng = random.Random(20261202)
+    outcomes = []
+    for _ in range(6):
+        # restore the old site, then kill a build that would publish the new one
+        shutil.rmtree(out)
+        shutil.copytree(reference, out, symlinks=True)
+        save(text, old_mtime)
+        build(BuildOptions(projects, out, jobs=1, force=True))
+        assert tree_hashes(out) == old
+        save("\n".join(lines) + "\n", new_mtime)
+        proc = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL,
+                                stderr=subprocess.DEVNULL)
+        time.sleep(rng.uniform(0.2, full * 1.1))
+        proc.send_signal(signal.SIGKILL)
+        proc.wait()
+        now = tree_hashes(out)
+        assert now in (old, new), "a killed build left a mixed or damaged site"
+        outcomes.append("new" if now == new else "old")
+    print("killed build outcomes:", outcomes)
