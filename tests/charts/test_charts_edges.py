@@ -1,0 +1,89 @@
+"""Degenerate inputs still give valid, plain-JSON specs (or a clear error)."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+import vl_convert as vlc
+from chart_fixtures import make_individuals, make_run_analysis, missing_fields
+
+from steadyline.charts import (
+    SeriesContext,
+    column_chart,
+    control_chart,
+    histogram_chart,
+    pareto_chart,
+    run_chart,
+)
+from steadyline.stats.results import Histogram, Pareto
+
+
+def _ok(cs):
+    json.dumps(cs.spec, allow_nan=False)
+    json.dumps(cs.table, allow_nan=False)
+    vlc.vegalite_to_vega(cs.spec)
+    assert missing_fields(cs.spec) == []
+
+
+def _ctx(n, **kw):
+    base = dict(
+        x=tuple(f"2026-02-{d + 1:02d}T08:00:00+01:00" for d in range(n)),
+        x_is_time=True,
+        stage=("",) * n,
+        segment=(0,) * n,
+        unit="%",
+        metric_name="First-pass yield",
+    )
+    base.update(kw)
+    return SeriesContext(**base)
+
+
+def test_all_values_missing():
+    cc = make_individuals(n=4, secondary=False)
+    cc.values[:] = np.nan
+    cc.centre[:] = np.nan
+    cc.upper[:] = np.inf
+    cc.lower[:] = -np.inf
+    cs = control_chart(_ctx(4), cc, ())
+    _ok(cs)
+    assert cs.spec["datasets"]["points"] == [] and cs.spec["datasets"]["limits"] == []
+    assert cs.table[0]["UCL"] is None
+
+
+def test_datetimes_with_offsets_become_utc():
+    cc = make_individuals(n=3, secondary=False)
+    cs = control_chart(_ctx(3), cc, ())
+    _ok(cs)
+    assert cs.spec["datasets"]["points"][0]["x"] == "2026-02-01T07:00:00Z"
+    assert cs.spec["datasets"]["points"][0]["label"] == "2026-02-01T08:00:00+01:00"
+
+
+def test_run_chart_of_one_point_and_percent_unit():
+    an = make_run_analysis(1)
+    cs = run_chart(_ctx(1), [97.5], an)
+    _ok(cs)
+    assert cs.spec["datasets"]["centre"][0]["text"] == "median 31.2%"
+
+
+def test_bad_date_is_an_error():
+    with pytest.raises(ValueError):
+        control_chart(
+            _ctx(2, x=("2026-02-01", "not a date")), make_individuals(2, secondary=False), ()
+        )
+
+
+def test_empty_and_zero_categories():
+    _ok(column_chart([], [], unit="count"))
+    p = Pareto(("a", "b"), (0.0, 0.0), (np.nan, np.nan), (np.nan, np.nan), 0.0, ())
+    cs = pareto_chart(p)
+    _ok(cs)
+    assert cs.table[0]["percent"] is None
+
+
+def test_empty_histogram_bins():
+    h = Histogram("sturges", "Sturges", (0.0, 1.0, 2.0), (0, 0), 1.0, 0, float("nan"), float("nan"))
+    cs = histogram_chart(h, unit="", normal_curve=True)
+    _ok(cs)
+    assert "curve" not in cs.spec["datasets"]
