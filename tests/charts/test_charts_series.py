@@ -286,3 +286,14 @@ def test_per_phase_limits_step_at_the_phase_change():
     ]
     labels = control_chart(make_ctx(), cc2, ()).spec["datasets"]["labels"]
     assert {r["kind"]: r["text"] for r in labels}["UCL"] == "UCL 40"  # the current limit
+
+
+def test_subtitle_lists_at_most_two_kinds_of_signal():
+    from steadyline.stats.results import Signal
+
+    sigs = MAIN_SIGNALS + (Signal("trend", "6 in a row rising", (1, 2, 3, 4, 5, 6), "up"),)
+    cs = control_chart(make_ctx(), make_individuals(), sigs)
+    line = cs.spec["title"]["subtitle"][1]
+    assert line.startswith("4 signals: beyond the 3σ limits; 8 in a row")
+    assert line.endswith("and 2 more kinds (see the data table)")
+    assert "6 in a row rising" in cs.summary  # the summary names them all

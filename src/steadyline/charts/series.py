@@ -304,13 +304,17 @@ def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
     return "limits from " + "; ".join(parts)
 
 
-def _signals_sentence(signals: Sequence[Signal]) -> str:
+def _signals_sentence(signals: Sequence[Signal], max_kinds: int | None = None) -> str:
+    """'3 signals: beyond the limits (2); 8 in a row ...', listing at most ``max_kinds`` kinds."""
     if not signals:
         return "no signals"
     counts: dict[str, int] = {}
     for s in signals:
         counts[s.description] = counts.get(s.description, 0) + 1
     parts = [f"{d} ({c})" if c > 1 else d for d, c in counts.items()]
+    if max_kinds is not None and len(parts) > max_kinds:
+        rest = len(parts) - max_kinds
+        parts = parts[:max_kinds] + [f"and {plural(rest, 'more kind')} (see the data table)"]
     return f"{plural(len(signals), 'signal')}: " + "; ".join(parts)
 
 
@@ -363,7 +367,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         facts.append(f"{analysis.runs} runs (expected {lo + 1} to {hi - 1})")
     subtitle = [
         f"{rules}: " + ", ".join(facts),
-        _signals_sentence(analysis.signals),
+        _signals_sentence(analysis.signals, max_kinds=2),
         *analysis.notes,
     ]
     spec = make_spec(tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle)
@@ -452,7 +456,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
         _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
         if chart.sigma_method
         else _fitted_sentence(ctx, chart.fitted),
-        _signals_sentence(signals),
+        _signals_sentence(signals, max_kinds=2),
         *chart.notes,
     ]
     if sec is not None:
