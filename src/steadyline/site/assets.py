@@ -33,11 +33,17 @@ def asset_files() -> dict[str, bytes]:
     return files
 
 
-def assets_fingerprint() -> str:
-    h = hashlib.sha256()
-    for name, data in sorted(asset_files().items()):
-        h.update(name.encode())
-        h.update(hashlib.sha256(data).digest())
+def assets_key() -> str:
+    """Identifies the assets without building the Vega bundle (which takes seconds): the
+    bundle depends only on the vl-convert version, our own files on their content."""
+    import vl_convert
+
+    h = hashlib.sha256(f"vl-convert {vl_convert.__version__}".encode())
+    src = templates_dir() / "assets"
+    for p in sorted(src.rglob("*")):
+        if p.is_file():
+            h.update(p.relative_to(src).as_posix().encode())
+            h.update(hashlib.sha256(p.read_bytes()).digest())
     return h.hexdigest()
 
 

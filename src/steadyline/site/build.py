@@ -29,7 +29,7 @@ from pathlib import Path
 from .. import __version__
 from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
-from .assets import asset_files
+from .assets import asset_files, assets_key
 from .project import ProjectOutcome, build_project, error_outcome, input_hash, page_context
 from .publish import clean_stale, link_or_copy, publish, staging_dir, write_files
 from .serialise import dumps
@@ -169,8 +169,10 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     # 5. index and manifest
     index = index_page(list(entries.values()), settings, opts.live)
     problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
+    akey = assets_key()
     new_manifest = {
         "version": __version__,
+        "assets": akey,
         "projects": {
             slug: {"hash": hashes[slug], "files": files_of[slug], "entry": entries[slug],
                    "problems": problems_of.get(slug, old.get(slug, {}).get("problems", []))}
@@ -191,7 +193,14 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     staged = staging_dir(out)
     try:
         staged.mkdir(parents=True)
-        write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
+        old_assets = out / "assets"
+        if manifest.get("assets") == akey and old_assets.is_dir():
+            # Same assets as published: reuse them instead of rebuilding the Vega bundle.
+            for p in sorted(old_assets.rglob("*")):
+                if p.is_file():
+                    link_or_copy(p, staged / "assets" / p.relative_to(old_assets))
+        else:
+            write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
         write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
         if opts.live:
             write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)

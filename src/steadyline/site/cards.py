@@ -71,6 +71,11 @@ def _cell(v) -> str:
     return str(v)
 
 
+# The page shows at most this many rows of a chart's data table; the CSV download has them all,
+# so that a page's weight does not grow with the data.
+TABLE_ROWS_SHOWN = 200
+
+
 class Displays:
     """Collects a metric's display cards and their download files."""
 
@@ -94,8 +99,9 @@ class Displays:
             "summary": chart.summary,
             "findings": [f.__dict__ for f in findings], "cautions": list(dict.fromkeys(cautions)),
             "method": method, "csv_href": data_name, "spec_href": spec_name,
-            "table": {"columns": list(chart.columns),
-                      "rows": [[_cell(r.get(c)) for c in chart.columns] for r in chart.table]},
+            "table": {"columns": list(chart.columns), "total": len(chart.table),
+                      "rows": [[_cell(r.get(c)) for c in chart.columns]
+                               for r in chart.table[:TABLE_ROWS_SHOWN]]},
         }
         self.cards.append(card)
         return card
