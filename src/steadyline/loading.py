@@ -395,7 +395,7 @@ def period_start(t: pd.Series, period: str) -> pd.Series:
     if period == "day":
         return d
     if period == "week":  # ISO weeks start on Monday
-        return d - pd.to_timedelta(d.dt.weekday, unit="D")
+        return d - pd.to_timedelta(d.dt.day_of_week, unit="D")
     if period == "month":
         return d.dt.to_period("M").dt.start_time
     return d.dt.to_period("Q").dt.start_time
