@@ -621,8 +621,6 @@ def test_zero_sigma_chart_in_results(degenerate_site):
     assert any("is zero" in n for n in chart["notes"])
 
 
-@pytest.mark.xfail(strict=True, reason="stats/control.py _positions counts subgroups from 0 in a "
-                   "sentence shown to readers (the 2nd and 5th subgroup read as '1, 4')")
 def test_single_value_subgroups_are_counted_from_one(degenerate_site):
     site, _ = degenerate_site
     page = (site / "projects" / "xbar-single-value-subgroups" / "index.html").read_text()

@@ -235,7 +235,8 @@ def _mean(values: np.ndarray, weights: np.ndarray | None = None) -> float:
 
 
 def _positions(mask: np.ndarray) -> str:
-    idx = np.flatnonzero(mask).tolist()
+    """Positions for sentences read by people: counted from 1 (the first subgroup is 1)."""
+    idx = (np.flatnonzero(mask) + 1).tolist()
     shown = ", ".join(str(i) for i in idx[:10])
     return shown + (", ..." if len(idx) > 10 else "")
 
