@@ -9,8 +9,18 @@ is the one place that turns them into exit codes.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from pathlib import Path
+
+# Characters that could move the cursor, clear or retitle a terminal, or reorder the text of a
+# line (bidirectional controls) when a message quotes a user's file: shown as escapes instead.
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _visible(text: str) -> str:
+    return _CONTROL.sub(lambda m: f"\\x{ord(m.group()):02x}" if ord(m.group()) < 256
+                        else f"\\u{ord(m.group()):04x}", text)
 
 
 @dataclass(frozen=True, order=True)
@@ -34,7 +44,7 @@ class Problem:
         loc = self.path if self.line is None else f"{self.path}:{self.line}"
         where = f" {self.where}:" if self.where else ""
         tag = "" if self.severity == "error" else f" {self.severity}:"
-        return f"{loc}:{tag}{where} {self.message}"
+        return _visible(f"{loc}:{tag}{where} {self.message}")
 
     def __str__(self) -> str:  # pragma: no cover - convenience
         return self.format()

@@ -123,3 +123,85 @@ def tree_hashes(root: Path) -> dict[str, str]:
         elif p.is_dir():
             out[key] = "dir"
     return out
+
+
+# ----------------------------------------------------------------------------- hostile content
+# Strings that would run script if any page, chart or download let them through. Those that
+# would run set window.__pwned (or call alert), which the browser test watches for.
+
+PAYLOADS = [
+    "<script>window.__pwned=1;alert(1)</script>",
+    '"><img src=x onerror="window.__pwned=2;alert(1)">',
+    "</script><script>window.__pwned=3;alert(1)</script>",
+    "'><svg onload=window.__pwned=4>",
+    "<!--<script>window.__pwned=5</script>-->",
+    "javascript:window.__pwned=6",
+    "{{7*7}}${window.__pwned=7}",
+    "<iframe src=javascript:alert(1)>",
+    "a\u2028</script>\u2029<b>x",
+]
+# Cells a spreadsheet would run as a formula when the CSV download is opened.
+FORMULAS = ["=HYPERLINK(\"http://x\",\"y\")", "+SUM(1,2)", "-2+3", "@cmd", "=1+1"]
+
+HOSTILE_NOTES = """# Notes <script>window.__pwned=10;alert(1)</script>
+
+[click me](javascript:window.__pwned=11) and [ok link](https://example.invalid/page)
+and <a href="jAvAsCrIpT:window.__pwned=12">mixed case</a>
+and <a href=" javascript:window.__pwned=13">leading space</a>
+
+<img src=x onerror="window.__pwned=14">
+
+<svg xmlns="http://www.w3.org/2000/svg"><script>window.__pwned=15</script>
+<circle onload="window.__pwned=16" r="4"/></svg>
+
+<iframe src="data:text/html,<script>parent.__pwned=17</script>"></iframe>
+
+<style>body { background: url(javascript:alert(1)) }</style>
+<form action="javascript:alert(1)"><button formaction="javascript:alert(1)">go</button></form>
+<object data="javascript:alert(1)"></object><embed src="javascript:alert(1)">
+<math><mi xlink:href="javascript:alert(1)">x</mi></math>
+<p style="background:url(javascript:alert(1))" onclick="alert(1)">styled</p>
+<details open ontoggle="window.__pwned=18">t</details>
+"""
+
+
+def hostile_portfolio() -> dict:
+    """A portfolio whose every free-text field, category and label is a payload."""
+    p = PAYLOADS
+    categories = p + FORMULAS
+    cat_rows = "".join(f"{d},{_csv_quote(c)},{i % 3 + 1}\n" for i, (d, c) in
+                       enumerate(zip(dates(3 * len(categories)), categories * 3, strict=True)))
+    values = [-3.5, 2.25, -0.5, 1.0, 3.75, -1.25] * 5
+    top = {"title": p[0], "owner": p[1], "problem": p[2], "tags": [p[3], p[4], p[6]]}
+    events = "\n".join(f'[[event]]\ndate = 2026-01-{10 + i}\nlabel = {json.dumps(s)}'
+                       for i, s in enumerate(p[:4]))
+    sub_rows = "".join(f"{d},{_csv_quote(p[i % len(p)])},{v}\n"
+                       for i, (d, v) in enumerate(zip(dates(30), values, strict=True)))
+    return {
+        "portfolio.toml": f"title = {json.dumps(p[2])}\n",
+        "evil/project.toml": meta(
+            top=top, metric={"name": p[1], "unit": p[0], "file": "values.csv"},
+            extra=events + "\n",
+            more_metrics=[
+                {"id": "reasons", "name": p[2], "file": "reasons.csv", "type": "categories",
+                 "category": "reason", "count": "n", "better": "lower", "unit": p[5]},
+                {"id": "batches", "name": p[3], "file": "batches.csv", "type": "subgroups",
+                 "time": "date", "subgroup": "batch", "value": "value", "better": "target",
+                 "target": 0.0},
+            ]),
+        "evil/values.csv": "date,value\n" + "".join(
+            f"{d},{v}\n" for d, v in zip(dates(30), values, strict=True)),
+        "evil/reasons.csv": "date,reason,n\n" + cat_rows,
+        "evil/batches.csv": "date,batch,value\n" + sub_rows,
+        "evil/notes.md": HOSTILE_NOTES,
+        # a broken project: the payloads reach the error page through the problem messages
+        "broken/project.toml": meta(top={"title": p[1]},
+                                    metric={"value": p[0], "name": p[2]}),
+        "broken/data.csv": f"date,{_csv_quote(p[1])}\n2026-01-05,{_csv_quote(p[2])}\n",
+        "broken2/project.toml": meta(),
+        "broken2/data.csv": f"date,value\n2026-01-05,{_csv_quote(p[0])}\n{_csv_quote(p[3])},1\n",
+    }
+
+
+def _csv_quote(s: str) -> str:
+    return '"' + s.replace('"', '""') + '"'
