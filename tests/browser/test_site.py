@@ -55,6 +55,7 @@ async () => {
       render: c.getAttribute('data-render'),
       drawn: drawn ? drawn.tagName.toLowerCase() : null,
       width: box ? box.width : 0,
+      right: box ? box.right + window.scrollX : 0,
       height: box ? box.height : 0,
       marks: drawn ? drawn.querySelectorAll('path, line, rect, circle, text').length : 0,
       error: err ? err.textContent : null,
@@ -68,6 +69,11 @@ async () => {
     charts: charts,
     csp: window.__cspViolations || ['(CSP listener missing)'],
     cspMeta: (document.querySelector('meta[http-equiv="Content-Security-Policy"]') || {}).content || null,
+    scrollWidth: document.documentElement.scrollWidth,
+    clientWidth: document.documentElement.clientWidth,
+    wideCharts: charts.filter(function (c) {
+      return c.right > document.documentElement.clientWidth + 0.5;
+    }).map(function (c) { return c.id + ' (right edge at ' + Math.round(c.right) + ' px)'; }),
   };
 }
 """
@@ -276,6 +282,21 @@ def test_every_local_link_and_resource_resolves(built_site, site_url):
                 broken.append(f"{path}: {ref} -> HTTP {checked[url]}")
     assert checked, "no local links found at all"
     assert not broken, "broken local links:\n" + "\n".join(sorted(broken))
+
+
+def test_no_page_scrolls_sideways(visits):
+    """At a 1280 px wide window nothing, charts included, is wider than the page."""
+    wide = []
+    for path, visit in visits.items():
+        st = visit.state
+        if st is None:
+            wide.append(f"{path}: not visited: {visit.problems}")
+        elif st["scrollWidth"] > st["clientWidth"]:
+            wide.append(
+                f"{path}: {st['scrollWidth']} px wide in a {st['clientWidth']} px window; "
+                f"charts past the edge: {', '.join(st['wideCharts']) or 'none'}"
+            )
+    assert not wide, "\n".join(wide)
 
 
 # --------------------------------------------------------------------------------------------
@@ -487,11 +508,19 @@ def test_chart_downloads_match_the_page(visits):
                 problems.append(f"{where}: CSV header {rows[:1]} != table header {f['header']}")
                 continue
             body = rows[1:]
-            if len(body) != len(f["rows"]):
-                problems.append(f"{where}: {len(body)} CSV rows but {len(f['rows'])} table rows")
-            m = re.search(r"\((\d+) rows?\)", f["summary"] or "")
-            if not m or int(m.group(1)) != len(body):
-                problems.append(f"{where}: table summary {f['summary']!r} but {len(body)} CSV rows")
+            # "(N rows)", or for long tables "(N rows; the first K shown, all in the CSV download)"
+            summary = f["summary"] or ""
+            total = re.search(r"\((\d+) rows?\b", summary)
+            first = re.search(r"the first (\d+) shown", summary)
+            if not total or int(total.group(1)) != len(body):
+                problems.append(f"{where}: table summary {summary!r} but {len(body)} CSV rows")
+            n_shown = int(first.group(1)) if first else len(body)
+            if first and not n_shown < len(body):
+                problems.append(f"{where}: summary says only {n_shown} shown of {len(body)}")
+            if len(f["rows"]) != n_shown:
+                problems.append(
+                    f"{where}: {len(f['rows'])} table rows, expected {n_shown} of {len(body)} CSV rows"
+                )
             for i, (got, shown) in enumerate(zip(body, f["rows"], strict=False)):
                 if len(got) != len(shown) or not all(map(same_cell, got, shown)):
                     problems.append(f"{where}: row {i + 1} differs: CSV {got} vs table {shown}")
