@@ -365,6 +365,17 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
     return t.astype("datetime64[ns]")
 
 
+# Line and paragraph separators, tabs and other control characters in a label become one space:
+# a category name is one line of text, and Vega's expression parser refuses a raw U+2028 in
+# the explicit sort orders Vega-Lite compiles category names into.
+_LABEL_SPACE = re.compile(r"[\s\x00-\x1f\x7f-\x9f\u2028\u2029]+")
+
+
+def clean_label(text: str) -> str:
+    """A category or subgroup name as shown: control characters and runs of space -> one space."""
+    return _LABEL_SPACE.sub(" ", text).strip()
+
+
 def assign_stage(times: pd.Series, baseline: Period | None, after: Period | None) -> np.ndarray:
     """Stage of each time: 0 baseline, 1 after, 2 between / outside both periods.
 
@@ -452,7 +463,7 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     if spec.time is not None:
         frame["t"] = _times(df, spec.time, spec, out)
     if kind == "categories":
-        cat = df[spec.category].str.strip()
+        cat = df[spec.category].map(clean_label)
         blank = cat == ""
         out.rows(list(df.index[blank]), f"column '{spec.category}'",
                  "blank category; counted as '(blank)'", severity="warning")
@@ -469,7 +480,7 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
         if spec.value is not None:
             frame["value"] = _numbers(df, spec.value, spec, out)
         if spec.subgroup is not None:
-            frame["subgroup"] = df[spec.subgroup].str.strip()
+            frame["subgroup"] = df[spec.subgroup].map(clean_label)
         if spec.count is not None:
             frame["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
                                       what="a count")
