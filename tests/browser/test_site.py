@@ -212,7 +212,7 @@ def screenshot_pages(built_site: Path) -> dict[str, str]:
 
 
 @pytest.fixture(scope="module")
-def visits(built_site, site_url, browser_context, artifacts_dir) -> dict[str, Visit]:
+def visits(browser_context, built_site, site_url, artifacts_dir) -> dict[str, Visit]:
     """Every page visited once: charts awaited, downloads fetched, chosen pages photographed."""
     shots = screenshot_pages(built_site)
     out = {}
@@ -248,7 +248,7 @@ def test_site_has_a_page_for_every_project(built_site):
     assert any(p.endswith("/history.html") for p in pages), "no before/after page in the demo"
 
 
-def test_every_page_draws_its_charts_cleanly(built_site, visits):
+def test_every_page_draws_its_charts_cleanly(visits):
     problems = []
     for path, visit in visits.items():
         found = list(visit.problems)
@@ -324,7 +324,7 @@ def fold(s: str) -> str:
     ).lower()
 
 
-def test_index_filters(site_url, browser_context):
+def test_index_filters(browser_context, site_url):
     page, watch = open_page(browser_context, site_url, "index.html")
     try:
         cards = page.evaluate(CARD_STATE)
@@ -537,7 +537,7 @@ def test_chart_downloads_match_the_page(visits):
 # (d) screenshots for a human
 
 
-def test_screenshots(built_site, visits, artifacts_dir):
+def test_screenshots(visits, built_site, artifacts_dir):
     shots = screenshot_pages(built_site)
     for path, name in shots.items():
         target = visits[path].screenshot
