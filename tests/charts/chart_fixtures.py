@@ -85,6 +85,44 @@ def make_individuals(n: int = N, *, secondary: bool = True) -> ControlChart:
     )
 
 
+def make_individuals_per_phase(n: int = N) -> ControlChart:
+    """The same values with limits of their own for the after phase (points 20 on)."""
+    base = make_individuals(n)
+    after = np.arange(n) >= 20
+    centre = np.where(after, 31.0, 30.0)
+    upper = np.where(after, 41.0, 44.4)
+    lower = np.where(after, 21.0, 15.6)
+    sec = base.secondary
+    sec_after = after[1:]
+    own_sec = ControlChart(
+        kind=sec.kind,
+        label=sec.label,
+        values=sec.values,
+        centre=np.where(sec_after, 3.8, 5.4),
+        lower=np.zeros(n - 1),
+        upper=np.where(sec_after, 12.3, 17.6),
+        sigma=sec.sigma,
+        process_sigma=None,
+        sigma_method="",
+        fitted=np.ones(n - 1, dtype=bool),
+        stage=sec_after.astype(int),
+    )
+    return ControlChart(
+        kind=base.kind,
+        label=base.label,
+        values=base.values,
+        centre=centre,
+        lower=lower,
+        upper=upper,
+        sigma=base.sigma,
+        process_sigma=base.process_sigma,
+        sigma_method=base.sigma_method,
+        fitted=np.ones(n, dtype=bool),
+        stage=after.astype(int),
+        secondary=own_sec,
+    )
+
+
 def make_p_chart(n: int = N) -> ControlChart:
     sizes = np.array([50 + 10 * (i % 4) for i in range(n)], dtype=float)
     pbar = 0.12
@@ -248,9 +286,20 @@ def unit_views(spec: dict, data_name: str | None = None):
             yield from unit_views(sub, data_name)
 
 
+def _kept(row: dict, transforms: list) -> bool:
+    """Whether a row passes the view's validity filters ({"filter": {"field", "valid": true}})."""
+    for t in transforms:
+        f = t.get("filter")
+        if isinstance(f, dict) and f.get("valid") is True and row.get(f["field"]) is None:
+            return False
+    return True
+
+
 def missing_fields(spec: dict) -> list[str]:
     """Fields used by an encoding but absent from a row of its dataset, and datasets used but
-    not given (vl-convert only warns about both and draws an empty chart)."""
+    not given (vl-convert only warns about both and draws an empty chart). Rows dropped by a
+    validity filter are skipped; fields from a lookup must be in every row of the looked-up
+    dataset, and its key in every row of both."""
     problems = []
     datasets = spec.get("datasets", {})
     for view, name in unit_views(spec):
@@ -260,15 +309,66 @@ def missing_fields(spec: dict) -> list[str]:
         if name not in datasets:
             problems.append(f"dataset {name!r} is used but not given")
             continue
-        computed = {t["as"] for t in view.get("transform", []) if "as" in t}
+        transforms = view.get("transform", [])
+        rows = [r for r in datasets[name] if _kept(r, transforms)]
+        computed = {t["as"] for t in transforms if "as" in t}
+        for t in transforms:
+            if "lookup" not in t:
+                continue
+            src = t["from"]["data"]["name"]
+            if src not in datasets:
+                problems.append(f"lookup dataset {src!r} is used but not given")
+                continue
+            for r in rows:
+                if t["lookup"] not in r:
+                    problems.append(f"{name}: row without lookup key {t['lookup']!r}")
+                    break
+            keys = {r.get(t["from"]["key"]) for r in datasets[src]}
+            if not {r[t["lookup"]] for r in rows if t["lookup"] in r} <= keys:
+                problems.append(f"{name}: lookup key {t['lookup']!r} not found in {src!r}")
+            for f in t["from"]["fields"]:
+                if any(f not in r for r in datasets[src]):
+                    problems.append(f"{src}: row without looked-up field {f!r}")
+                computed.add(f)
         for channel, field in _field_defs(view.get("encoding", {})):
             if field in computed:
                 continue
-            for row in datasets[name]:
+            for row in rows:
                 if field not in row:
                     problems.append(f"{name}: row without field {field!r} ({channel})")
                     break
     return problems
+
+
+def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict]:
+    """The points of a series chart as its point view sees them (after its validity filter,
+    lookup and calculations), with readable names: label, value, line, stage, info, fitted,
+    marker, signals. Mirrors the transforms written by charts.series."""
+    from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
+
+    d = spec["datasets"]
+    info = {r["k"]: r for r in d[f"{prefix}point_info"]}
+    out = []
+    for r in d[f"{prefix}points"]:
+        v = r.get(f"v{suffix}")
+        if v is None:
+            continue
+        k = info[r[f"k{suffix}"]]
+        sig = r.get(f"s{suffix}")
+        row = {
+            "x": r["x"],
+            "label": r.get("label", r["x"]),
+            "value": v,
+            "line": r[f"g{suffix}"],
+            "stage": k["stage"],
+            "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
+            "signals": sig or "",
+        }
+        for f in ("info", "fitted"):
+            if f in k:
+                row[f] = k[f]
+        out.append(row)
+    return out
 
 
 def datasets_without_rows(spec: dict) -> set[str]:
@@ -312,6 +412,22 @@ def all_chart_specs():
         ("box-plot", charts.box_chart(make_boxes(), unit="hours")),
         ("column-chart", charts.column_chart(["Mon", "Tue", "Wed"], [5, 0, 12], unit="orders")),
         ("pareto", charts.pareto_chart(make_pareto())),
+        (
+            "staged-control-chart own",
+            charts.staged_control_chart(
+                ctx, make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+            ),
+        ),
+        (
+            "staged-control-chart carried",
+            charts.staged_control_chart(ctx, make_individuals(), None, MAIN_SIGNALS),
+        ),
+        (
+            "staged-control-chart labels",
+            charts.staged_control_chart(
+                ctx_labels, make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+            ),
+        ),
         (
             "pareto-by-phase",
             charts.phase_pareto_chart(

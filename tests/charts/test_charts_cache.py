@@ -55,7 +55,7 @@ def test_different_data_gives_different_specs_from_one_template():
     cc2 = make_individuals()
     cc2.values[0] = 99.0
     b = control_chart(ctx, cc2, ()).spec
-    assert a["datasets"]["points"][0]["value"] != b["datasets"]["points"][0]["value"]
+    assert a["datasets"]["points"][0]["v"] != b["datasets"]["points"][0]["v"]
     a["datasets"] = b["datasets"] = None
     assert _dump(a) == _dump(b)  # same template, only the data differ
 

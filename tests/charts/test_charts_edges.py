@@ -7,7 +7,7 @@ import json
 import numpy as np
 import pytest
 import vl_convert as vlc
-from chart_fixtures import make_individuals, make_run_analysis, missing_fields
+from chart_fixtures import make_individuals, make_run_analysis, missing_fields, unit_views
 
 from steadyline.charts import (
     SeriesContext,
@@ -57,7 +57,16 @@ def test_datetimes_with_offsets_become_utc():
     cs = control_chart(_ctx(3), cc, ())
     _ok(cs)
     assert cs.spec["datasets"]["points"][0]["x"] == "2026-02-01T07:00:00Z"
-    assert cs.spec["datasets"]["points"][0]["label"] == "2026-02-01T08:00:00+01:00"
+    # the tooltip shows the UTC time to the minute (the positions have no seconds)
+    assert cs.spec["datasets"]["points"][0]["x"] == "2026-02-01T07:00:00Z"
+    tip = next(
+        t
+        for v, _ in unit_views(cs.spec)
+        if v["mark"]["type"] == "point"
+        for t in v["encoding"]["tooltip"]
+        if t["field"] == "x"
+    )
+    assert tip["format"] == "%Y-%m-%d %H:%M" and tip["formatType"] == "utc"
 
 
 def test_run_chart_of_one_point_and_percent_unit():

@@ -13,6 +13,7 @@ from chart_fixtures import (
     make_run_analysis,
     make_values,
     missing_fields,
+    resolved_points,
     unit_views,
 )
 
@@ -56,7 +57,8 @@ def test_stepped_p_limits_follow_every_point():
     spec = control_chart(make_ctx(), cc, ()).spec
     (line,) = _pieces(spec["datasets"]["limits"], "UCL")
     # sizes change at every point: one horizontal step per point, joined by vertical steps
-    np.testing.assert_allclose([y for _, y in line], np.repeat(cc.upper, 2))
+    # data rows carry 6 significant digits (display precision; the table keeps full precision)
+    np.testing.assert_allclose([y for _, y in line], np.repeat(cc.upper, 2), rtol=5e-6)
     assert [x for x, _ in line[:4]] == [
         "2026-01-05",
         "2026-01-08T12:00:00Z",
@@ -80,14 +82,14 @@ def _y_titles(spec):
 
 def test_signal_points_marked_by_shape_size_and_colour_with_rule_in_tooltip():
     spec = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS).spec
-    pts = {r["label"]: r for r in spec["datasets"]["points"]}
+    pts = {r["label"]: r for r in resolved_points(spec)}
     x = make_ctx().x
     assert pts[x[25]]["marker"] == MARK_SIGNAL
     assert pts[x[25]]["signals"] == "beyond the 3σ limits"
     assert pts[x[10]]["signals"] == "8 in a row on one side of the centre line"
     assert pts[x[2]]["marker"] == MARK_ORDINARY and pts[x[2]]["signals"] == ""
     # the secondary signal lands on the mR chart, at the mR point of x[24]: index 24 -> x[25]
-    sec = {r["label"]: r for r in spec["datasets"]["secondary_points"]}
+    sec = {r["label"]: r for r in resolved_points(spec, "2")}
     assert sec[x[25]]["marker"] == MARK_SIGNAL
     assert pts[x[24]]["marker"] == MARK_ORDINARY
     # the point layer maps the marker to a different shape AND colour AND size
@@ -98,14 +100,21 @@ def test_signal_points_marked_by_shape_size_and_colour_with_rule_in_tooltip():
     colours = enc["color"]["scale"]["range"]
     assert shapes[0] != shapes[1] and colours[0] != colours[1]
     assert "condition" in enc["size"]
-    assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "label", "value"}
+    assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "x", "v", "info"}
+    # the marker and the signal text are computed in the view from the short row fields
+    calcs = {t["as"]: t["calculate"] for t in view["transform"] if "calculate" in t}
+    assert calcs["marker"] == f"datum.s ? '{MARK_SIGNAL}' : '{MARK_ORDINARY}'"
+    assert calcs["signals"] == "datum.s || 'none'"
+    # rows carry the signal text only where there is one
+    rows = spec["datasets"]["points"]
+    assert sum("s" in r for r in rows) == 9 and sum("s2" in r for r in rows) == 1
 
 
 def test_fitted_points_named_in_subtitle_and_tooltip():
     cs = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
     sub = cs.spec["title"]["subtitle"]
     assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
-    pts = cs.spec["datasets"]["points"]
+    pts = resolved_points(cs.spec)
     assert {r["fitted"] for r in pts[:19]} == {"yes"}
     assert {r["fitted"] for r in pts[-5:]} == {"no"}
     assert [r["used for limits"] for r in cs.table].count("yes") == 20
@@ -118,7 +127,7 @@ def test_all_points_fitted_sentence():
 
 def test_lines_break_at_segments_and_gaps():
     spec = control_chart(make_ctx(), make_individuals(), ()).spec
-    pts = spec["datasets"]["points"]
+    pts = resolved_points(spec)
     assert len(pts) == N - 1  # the nan at point 5 is not plotted
     groups = {}
     for r in pts:
@@ -131,7 +140,7 @@ def test_lines_break_at_segments_and_gaps():
     line_view = next(
         v for v, d in unit_views(spec) if d == "points" and v["mark"]["type"] == "line"
     )
-    assert line_view["encoding"]["detail"]["field"] == "line"
+    assert line_view["encoding"]["detail"]["field"] == "g"
 
 
 def test_secondary_is_beneath_with_its_own_limits():
@@ -229,7 +238,7 @@ def test_run_chart_median_label_and_signal_points():
     assert spec["datasets"]["centre"] == [
         {"y": 31.24, "x": "2026-07-27", "text": "median 31.2 hours"}
     ]
-    pts = {r["label"]: r for r in spec["datasets"]["points"]}
+    pts = {r["label"]: r for r in resolved_points(spec)}
     x = make_ctx().x
     assert pts[x[21]]["marker"] == MARK_SIGNAL
     assert pts[x[21]]["signals"] == "a run of 9 on one side of the median"

@@ -25,6 +25,7 @@ EXPECTED_DISPLAY = {
     "column-chart": "column-chart",
     "pareto": "pareto",
     "pareto-by-phase": "pareto-by-phase",
+    "staged-control-chart": "staged-control-chart",
 }
 
 

@@ -7,7 +7,7 @@ import json
 import numpy as np
 import pytest
 import vl_convert as vlc
-from chart_fixtures import missing_fields
+from chart_fixtures import missing_fields, resolved_points
 
 from steadyline import charts
 from steadyline.stats import control, distribution, rules, runs
@@ -49,7 +49,7 @@ def test_nile_end_to_end(nile):
     cs = charts.control_chart(ctx, cc, sigs)
     _ok(cs)
     # the well-known drop in flow around 1898 shows as signals after the change
-    assert any(r["marker"] != "point" for r in cs.spec["datasets"]["points"])
+    assert any(r["marker"] != "point" for r in resolved_points(cs.spec))
     assert cs.spec["title"]["subtitle"][0].startswith("limits from Before 1899, 1871-01-01")
 
     an = runs.analyse_runs(flow)

@@ -2,13 +2,14 @@
 
 Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 ``usermeta.steadyline.display`` naming the display: "run-chart", "control-chart",
-"histogram", "box-plot", "column-chart", "pareto", "pareto-by-phase".
+"histogram", "box-plot", "column-chart", "pareto", "pareto-by-phase",
+"staged-control-chart".
 """
 
 from .base import ChartSpec, SeriesContext, clear_template_cache
 from .categorical import column_chart, pareto_chart, phase_pareto_chart
 from .distribution import box_chart, histogram_chart
-from .series import control_chart, run_chart
+from .series import control_chart, run_chart, staged_control_chart
 
 __all__ = [
     "ChartSpec",
@@ -21,4 +22,5 @@ __all__ = [
     "pareto_chart",
     "phase_pareto_chart",
     "run_chart",
+    "staged_control_chart",
 ]

@@ -20,7 +20,7 @@ from datetime import UTC, date, datetime
 
 import numpy as np
 
-from . import style
+from . import style, vl
 
 
 @dataclass(frozen=True)
@@ -119,12 +119,12 @@ def fill(node, values: dict):
     return node
 
 
-def finish_template(chart, display: str) -> dict:
-    """Altair chart -> template dict with our shared config and the display name in usermeta."""
-    spec = chart.to_dict()
+def finish_template(chart: dict, display: str) -> dict:
+    """A template: the composed view (plain dict) with the schema, our shared config and the
+    display name in usermeta."""
+    spec = {"$schema": vl.SCHEMA, **chart}
     spec["config"] = style.vega_config()
     spec["usermeta"] = {"steadyline": {"display": display}}
-    spec.pop("datasets", None)
     return spec
 
 
@@ -168,6 +168,23 @@ def num_list(values) -> list[float | None]:
     for i in np.flatnonzero(~np.isfinite(arr)).tolist():
         out[i] = None
     return out
+
+
+def _round6(f: float) -> float | int:
+    r = float(f"{f:.6g}")
+    return int(r) if r.is_integer() and abs(r) < 1e15 else r
+
+
+def disp(v) -> float | int | None:
+    """A number as written into a spec's data rows: about 6 significant digits (what is drawn
+    and shown in tooltips; results.json and the CSV keep full precision), None when missing."""
+    f = num(v)
+    return None if f is None else _round6(f)
+
+
+def disp_list(values) -> list:
+    """:func:`disp` for a whole array."""
+    return [None if f is None else _round6(f) for f in num_list(values)]
 
 
 def fmt(v, sig: int = 3) -> str:
@@ -322,24 +339,24 @@ def _js_list(items: list[str]) -> str:
     return json.dumps(items, ensure_ascii=True)
 
 
-def x_encoding(alt, is_time: bool, field: str = "x", title: str | None = None):
+def x_encoding(is_time: bool, field: str = "x", title: str | None = None) -> dict:
     """The shared x channel of series charts (temporal UTC or indexed with label axis)."""
     if is_time:
-        return alt.X(
+        return vl.field(
             f"{field}:T",
-            scale=alt.Scale(type="utc"),
-            axis=alt.Axis(title=title, labelOverlap=True, grid=False),
+            scale={"type": "utc"},
+            axis={"title": title, "labelOverlap": True, "grid": False},
         )
-    return alt.X(
+    return vl.field(
         f"{field}:Q",
-        scale=alt.Scale(zero=False, nice=False),
-        axis=alt.Axis(
-            title=title,
-            values=list_slot("x_values"),
-            labelExpr=slot("x_label_expr"),
-            labelOverlap=True,
-            grid=False,
-        ),
+        scale={"zero": False, "nice": False},
+        axis={
+            "title": title,
+            "values": list_slot("x_values"),
+            "labelExpr": slot("x_label_expr"),
+            "labelOverlap": True,
+            "grid": False,
+        },
     )
 
 
@@ -387,33 +404,45 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     return rows
 
 
-def band_layers(alt, is_time: bool) -> list:
+def band_layers(is_time: bool) -> list[dict]:
     """Phase background bands with their names at the top left."""
-    base = alt.Chart(alt.NamedData("bands"))
-    x = x_encoding(alt, is_time)
-    rect = base.mark_rect(opacity=1).encode(
-        x=x,
-        x2="x2",
-        fill=alt.Fill("fill:N", scale=None),
-        tooltip=[alt.Tooltip("stage:N", title="phase")],
+    x = x_encoding(is_time)
+    rect = vl.view(
+        "bands",
+        vl.mark("rect", opacity=1),
+        {
+            "x": x,
+            "x2": {"field": "x2"},
+            "fill": vl.field("fill:N", scale=None),
+            "tooltip": [vl.tip("stage:N", "phase")],
+        },
     )
-    label = base.mark_text(align="left", baseline="top", dx=3, dy=2, fontWeight=600).encode(
-        x=x, y=alt.value(0), text="stage:N"
+    label = vl.view(
+        "bands",
+        vl.mark("text", align="left", baseline="top", dx=3, dy=2, fontWeight=600),
+        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("stage:N")},
     )
     return [rect, label]
 
 
-def event_layers(alt, is_time: bool) -> list:
+def event_layers(is_time: bool) -> list[dict]:
     """Events as dotted vertical rules labelled near the top (time-based series only)."""
     if not is_time:
         return []
-    base = alt.Chart(alt.NamedData("events"))
-    x = x_encoding(alt, is_time)
-    rule = base.mark_rule(color=style.EVENT, strokeDash=style.DASH_EVENT, strokeWidth=1.5).encode(
-        x=x,
-        tooltip=[alt.Tooltip("when:N", title="date"), alt.Tooltip("label:N", title="event")],
+    rule = vl.view(
+        "events",
+        vl.mark("rule", color=style.EVENT, strokeDash=list(style.DASH_EVENT), strokeWidth=1.5),
+        {
+            "x": x_encoding(is_time),
+            "tooltip": [vl.tip("when:N", "date"), vl.tip("label:N", "event")],
+        },
     )
-    label = base.mark_text(
-        align="left", baseline="top", dx=3, dy=16, color=style.EVENT, fontStyle="italic"
-    ).encode(x=x, y=alt.value(0), text="label:N")
+    label = vl.view(
+        "events",
+        vl.mark(
+            "text", align="left", baseline="top", dx=3, dy=16, color=style.EVENT,
+            fontStyle="italic",
+        ),
+        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N")},
+    )
     return [rule, label]

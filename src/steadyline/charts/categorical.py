@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from ..stats.results import Pareto
-from . import style
+from . import style, vl
 from .base import (
     ChartSpec,
     cached_template,
@@ -24,11 +24,11 @@ REST_LABEL = "remaining categories"
 _GROUPS = [VITAL_LABEL, REST_LABEL]
 
 
-def _category_x(alt, order_slot: str = "order"):
-    return alt.X(
+def _category_x(order_slot: str = "order") -> dict:
+    return vl.field(
         "category:N",
         sort=list_slot(order_slot),
-        axis=alt.Axis(title=None, labelAngle=-35, labelLimit=140),
+        axis={"title": None, "labelAngle": -35, "labelLimit": 140},
     )
 
 
@@ -38,22 +38,29 @@ def _category_x(alt, order_slot: str = "order"):
 
 
 def _column_template() -> dict:
-    import altair as alt
+    def y() -> dict:
+        return vl.field(
+            "count:Q", scale={"zero": True, "domainMin": 0}, axis={"title": slot("y_title")}
+        )
 
-    base = alt.Chart(alt.NamedData("bars"))
-    y = alt.Y(
-        "count:Q", scale=alt.Scale(zero=True, domainMin=0), axis=alt.Axis(title=slot("y_title"))
+    bars = vl.view(
+        "bars",
+        vl.mark("bar", color=style.DATA),
+        {
+            "x": _category_x(),
+            "y": y(),
+            "tooltip": [
+                vl.tip("category:N", "category"),
+                vl.tip("count:Q", slot("y_title"), ",.4~g"),
+            ],
+        },
     )
-    bars = base.mark_bar(color=style.DATA).encode(
-        x=_category_x(alt),
-        y=y,
-        tooltip=[
-            alt.Tooltip("category:N", title="category"),
-            alt.Tooltip("count:Q", title=slot("y_title"), format=",.4~g"),
-        ],
+    labels = vl.view(
+        "bars",
+        vl.mark("text", baseline="bottom", dy=-3),
+        {"x": _category_x(), "y": y(), "text": vl.field("text:N")},
     )
-    labels = base.mark_text(baseline="bottom", dy=-3).encode(x=_category_x(alt), y=y, text="text:N")
-    chart = alt.layer(bars, labels).properties(width="container", height=style.HEIGHT_DISTRIBUTION)
+    chart = vl.layer(bars, labels, width="container", height=style.HEIGHT_DISTRIBUTION)
     return finish_template(chart, "column-chart")
 
 
@@ -91,78 +98,101 @@ def column_chart(
 # ------------------------------------------------------------------------------------------------
 
 
-def _pareto_view(alt, prefix: str = "", panel_title: bool = False):
+def _pareto_view(prefix: str = "", panel_title: bool = False) -> dict:
     """Bars on the left axis [0, total] and the cumulative percentage on the right axis [0, 100]:
     with both domains fixed, 100 % sits exactly at the total."""
-    x = _category_x(alt, f"{prefix}order")
-    bars_data = alt.Chart(alt.NamedData(f"{prefix}bars"))
-    y_count = alt.Y(
-        "count:Q",
-        scale=alt.Scale(domain=[0, slot(f"{prefix}total")], nice=False, zero=True),
-        axis=alt.Axis(title="count", orient="left"),
+    bars_data = f"{prefix}bars"
+
+    def x() -> dict:
+        return _category_x(f"{prefix}order")
+
+    def y_count() -> dict:
+        return vl.field(
+            "count:Q",
+            scale={"domain": [0, slot(f"{prefix}total")], "nice": False, "zero": True},
+            axis={"title": "count", "orient": "left"},
+        )
+
+    def y_pct() -> dict:
+        return vl.field(
+            "cumulative:Q",
+            scale={"domain": [0, 100], "nice": False, "zero": True},
+            axis={
+                "title": "cumulative %",
+                "orient": "right",
+                "values": [0, 20, 40, 60, 80, 100],
+                "labelExpr": "datum.value + '%'",
+                "grid": False,
+            },
+        )
+
+    def thr_y() -> dict:
+        return vl.field("cumulative:Q", scale={"domain": [0, 100], "nice": False, "zero": True})
+
+    def bar_tip() -> list[dict]:
+        return [
+            vl.tip("category:N", "category"),
+            vl.tip("count:Q", "count", ",.4~g"),
+            vl.tip("percent:Q", "percent", ".1f"),
+            vl.tip("cumulative:Q", "cumulative percent", ".1f"),
+            vl.tip("group:N", "group"),
+        ]
+
+    bars = vl.view(
+        bars_data,
+        vl.mark("bar", stroke=style.INK, strokeWidth=0.6),
+        {
+            "x": x(),
+            "y": y_count(),
+            "fill": vl.field(
+                "group:O",
+                sort=list(_GROUPS),
+                scale={"domain": list(_GROUPS), "range": [style.VITAL, style.REMAINING]},
+                legend={"title": None},
+            ),
+            "opacity": vl.field(
+                "group:O",
+                sort=list(_GROUPS),
+                scale={"domain": list(_GROUPS), "range": [1.0, 0.6]},
+                legend={"title": None},
+            ),
+            "tooltip": bar_tip(),
+        },
     )
-    bar_tip = [
-        alt.Tooltip("category:N", title="category"),
-        alt.Tooltip("count:Q", title="count", format=",.4~g"),
-        alt.Tooltip("percent:Q", title="percent", format=".1f"),
-        alt.Tooltip("cumulative:Q", title="cumulative percent", format=".1f"),
-        alt.Tooltip("group:N", title="group"),
-    ]
-    bars = bars_data.mark_bar(stroke=style.INK, strokeWidth=0.6).encode(
-        x=x,
-        y=y_count,
-        fill=alt.Fill(
-            "group:O",
-            sort=_GROUPS,
-            scale=alt.Scale(domain=_GROUPS, range=[style.VITAL, style.REMAINING]),
-            legend=alt.Legend(title=None),
-        ),
-        opacity=alt.Opacity(
-            "group:O",
-            sort=_GROUPS,
-            scale=alt.Scale(domain=_GROUPS, range=[1.0, 0.6]),
-            legend=alt.Legend(title=None),
-        ),
-        tooltip=bar_tip,
+    bar_text = vl.view(
+        bars_data,
+        vl.mark("text", baseline="bottom", dy=-2, fontSize=10),
+        {"x": x(), "y": y_count(), "text": vl.field("text:N")},
     )
-    bar_text = bars_data.mark_text(baseline="bottom", dy=-2, fontSize=10).encode(
-        x=x, y=y_count, text="text:N"
+    line = vl.view(
+        bars_data, vl.mark("line", color=style.CURVE, strokeWidth=2), {"x": x(), "y": y_pct()}
     )
-    y_pct = alt.Y(
-        "cumulative:Q",
-        scale=alt.Scale(domain=[0, 100], nice=False, zero=True),
-        axis=alt.Axis(
-            title="cumulative %",
-            orient="right",
-            values=[0, 20, 40, 60, 80, 100],
-            labelExpr="datum.value + '%'",
-            grid=False,
-        ),
+    pts = vl.view(
+        bars_data,
+        vl.mark("point", color=style.CURVE, filled=True, size=36, opacity=1),
+        {"x": x(), "y": y_pct(), "tooltip": bar_tip()},
     )
-    line = bars_data.mark_line(color=style.CURVE, strokeWidth=2).encode(x=x, y=y_pct)
-    pts = bars_data.mark_point(color=style.CURVE, filled=True, size=36, opacity=1).encode(
-        x=x, y=y_pct, tooltip=bar_tip
+    thr = vl.view(
+        f"{prefix}threshold",
+        vl.mark("rule", color=style.INK, strokeDash=list(style.DASH_REFERENCE), strokeWidth=1),
+        {"y": thr_y(), "tooltip": [vl.tip("text:N", "reference")]},
     )
-    thr_data = alt.Chart(alt.NamedData(f"{prefix}threshold"))
-    thr_y = alt.Y("cumulative:Q", scale=alt.Scale(domain=[0, 100], nice=False, zero=True))
-    thr = thr_data.mark_rule(
-        color=style.INK, strokeDash=style.DASH_REFERENCE, strokeWidth=1
-    ).encode(y=thr_y, tooltip=[alt.Tooltip("text:N", title="reference")])
-    thr_text = thr_data.mark_text(align="left", baseline="bottom", dy=-2, dx=2).encode(
-        x=alt.value(0), y=thr_y, text="text:N"
+    thr_text = vl.view(
+        f"{prefix}threshold",
+        vl.mark("text", align="left", baseline="bottom", dy=-2, dx=2),
+        {"x": {"value": 0}, "y": thr_y(), "text": vl.field("text:N")},
     )
-    left = alt.layer(bars, bar_text)
-    right = alt.layer(line, pts, thr, thr_text)
-    view = alt.layer(left, right).resolve_scale(y="independent")
+    left = vl.layer(bars, bar_text)
+    right = vl.layer(line, pts, thr, thr_text)
+    view = vl.layer(left, right, resolve={"scale": {"y": "independent"}})
     if panel_title:
-        view = view.properties(title=slot(f"{prefix}panel_title"))
+        view["title"] = slot(f"{prefix}panel_title")
     return view
 
 
 def _pareto_template() -> dict:
-    import altair as alt
-
-    chart = _pareto_view(alt).properties(width="container", height=style.HEIGHT_DISTRIBUTION)
+    chart = _pareto_view()
+    chart.update(width="container", height=style.HEIGHT_DISTRIBUTION)
     return finish_template(chart, "pareto")
 
 
@@ -251,15 +281,16 @@ def pareto_chart(p: Pareto) -> ChartSpec:
 
 
 def _phase_template(k: int) -> dict:
-    import altair as alt
-
-    panels = [
-        _pareto_view(alt, prefix=f"p{j}_", panel_title=True).properties(
-            width=alt.Step(style.PANEL_STEP), height=style.HEIGHT_DISTRIBUTION
-        )
-        for j in range(k)
-    ]
-    chart = alt.hconcat(*panels, spacing=24).resolve_scale(fill="shared", opacity="shared")
+    panels = []
+    for j in range(k):
+        panel = _pareto_view(prefix=f"p{j}_", panel_title=True)
+        panel.update(width={"step": style.PANEL_STEP}, height=style.HEIGHT_DISTRIBUTION)
+        panels.append(panel)
+    chart = {
+        "hconcat": panels,
+        "spacing": 24,
+        "resolve": {"scale": {"fill": "shared", "opacity": "shared"}},
+    }
     return finish_template(chart, "pareto-by-phase")
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from ..stats.results import BoxSummary, Histogram, StatsError
-from . import style
+from . import style, vl
 from .base import (
     ChartSpec,
     cached_template,
@@ -29,61 +29,73 @@ _MARK_KINDS = ["mean", "outlier (beyond 1.5 \u00d7 IQR)", "far out (beyond 3 \u0
 
 
 def _histogram_template(curve: bool) -> dict:
-    import altair as alt
-
-    x_axis = alt.Axis(title=slot("x_title"))
-    y_axis = alt.Axis(title="count", tickMinStep=1)
-    x_scale = alt.Scale(zero=False, nice=False)
-    bars = (
-        alt.Chart(alt.NamedData("bins"))
-        .mark_bar(color=style.HIST_BAR, stroke=style.WHITE, strokeWidth=1)
-        .encode(
-            x=alt.X("start:Q", scale=x_scale, axis=x_axis),
-            x2="end",
-            y=alt.Y("count:Q", axis=y_axis, scale=alt.Scale(zero=True)),
-            y2=alt.datum(0),
-            tooltip=[
-                alt.Tooltip("range:N", title="bin"),
-                alt.Tooltip("count:Q", title="count"),
-            ],
+    def x(name: str) -> dict:
+        return vl.field(
+            f"{name}:Q", scale={"zero": False, "nice": False}, axis={"title": slot("x_title")}
         )
-    )
-    refs = alt.Chart(alt.NamedData("refs"))
-    ref_colour = alt.Color(
-        "kind:N",
-        scale=alt.Scale(domain=_REF_KINDS, range=[style.SPEC, style.SPEC, style.TARGET]),
-        legend=None,
-    )
-    rules = refs.mark_rule(strokeWidth=2).encode(
-        x=alt.X("value:Q", scale=x_scale, axis=x_axis),
-        color=ref_colour,
-        strokeDash=alt.StrokeDash(
+
+    def y(name: str) -> dict:
+        return vl.field(
+            f"{name}:Q", axis={"title": "count", "tickMinStep": 1}, scale={"zero": True}
+        )
+
+    def ref_colour() -> dict:
+        return vl.field(
             "kind:N",
-            scale=alt.Scale(
-                domain=_REF_KINDS, range=[style.DASH_LIMIT, style.DASH_LIMIT, style.DASH_TARGET]
-            ),
+            scale={"domain": list(_REF_KINDS), "range": [style.SPEC, style.SPEC, style.TARGET]},
             legend=None,
-        ),
-        tooltip=[alt.Tooltip("text:N", title="reference")],
+        )
+
+    bars = vl.view(
+        "bins",
+        vl.mark("bar", color=style.HIST_BAR, stroke=style.WHITE, strokeWidth=1),
+        {
+            "x": x("start"),
+            "x2": {"field": "end"},
+            "y": y("count"),
+            "y2": {"datum": 0},
+            "tooltip": [vl.tip("range:N", "bin"), vl.tip("count:Q", "count")],
+        },
     )
-    labels = refs.mark_text(align="left", baseline="top", dx=4, fontWeight=600).encode(
-        x=alt.X("value:Q", scale=x_scale, axis=x_axis),
-        # pixel offsets from the top, staggered so that nearby labels do not overlap
-        y=alt.Y("ypx:Q", scale=None),
-        color=ref_colour,
-        text="text:N",
+    rules = vl.view(
+        "refs",
+        vl.mark("rule", strokeWidth=2),
+        {
+            "x": x("value"),
+            "color": ref_colour(),
+            "strokeDash": vl.field(
+                "kind:N",
+                scale={
+                    "domain": list(_REF_KINDS),
+                    "range": [list(style.DASH_LIMIT), list(style.DASH_LIMIT),
+                              list(style.DASH_TARGET)],
+                },
+                legend=None,
+            ),
+            "tooltip": [vl.tip("text:N", "reference")],
+        },
+    )
+    labels = vl.view(
+        "refs",
+        vl.mark("text", align="left", baseline="top", dx=4, fontWeight=600),
+        {
+            "x": x("value"),
+            # pixel offsets from the top, staggered so that nearby labels do not overlap
+            "y": vl.field("ypx:Q", scale=None),
+            "color": ref_colour(),
+            "text": vl.field("text:N"),
+        },
     )
     layers = [bars, rules, labels]
     if curve:
         layers.append(
-            alt.Chart(alt.NamedData("curve"))
-            .mark_line(color=style.CURVE, strokeWidth=2)
-            .encode(
-                x=alt.X("x:Q", scale=x_scale, axis=x_axis),
-                y=alt.Y("y:Q", axis=y_axis, scale=alt.Scale(zero=True)),
+            vl.view(
+                "curve",
+                vl.mark("line", color=style.CURVE, strokeWidth=2),
+                {"x": x("x"), "y": y("y")},
             )
         )
-    chart = alt.layer(*layers).properties(width="container", height=style.HEIGHT_DISTRIBUTION)
+    chart = vl.layer(*layers, width="container", height=style.HEIGHT_DISTRIBUTION)
     return finish_template(chart, "histogram")
 
 
@@ -188,73 +200,78 @@ def histogram_chart(
 
 
 def _box_template() -> dict:
-    import altair as alt
-
-    x = alt.X("group:N", sort=list_slot("order"), axis=alt.Axis(title=None, labelAngle=0))
-    y_axis = alt.Axis(title=slot("y_title"))
-    y_scale = alt.Scale(zero=False)
-    boxes = alt.Chart(alt.NamedData("boxes"))
-    tip = [
-        alt.Tooltip("group:N", title="group"),
-        alt.Tooltip("n:Q", title="n"),
-        alt.Tooltip("whisker_high:Q", title="upper whisker", format=",.4~g"),
-        alt.Tooltip("q3:Q", title="Q3", format=",.4~g"),
-        alt.Tooltip("median:Q", title="median", format=",.4~g"),
-        alt.Tooltip("q1:Q", title="Q1", format=",.4~g"),
-        alt.Tooltip("whisker_low:Q", title="lower whisker", format=",.4~g"),
-        alt.Tooltip("mean:Q", title="mean", format=",.4~g"),
-    ]
-    whisker = boxes.mark_rule(color=style.INK, strokeWidth=1.2).encode(
-        x=x,
-        y=alt.Y("whisker_low:Q", axis=y_axis, scale=y_scale),
-        y2="whisker_high",
-        tooltip=tip,
-    )
-    cap_lo = boxes.mark_tick(color=style.INK, size=18, thickness=1.2).encode(
-        x=x, y=alt.Y("whisker_low:Q", axis=y_axis, scale=y_scale)
-    )
-    cap_hi = boxes.mark_tick(color=style.INK, size=18, thickness=1.2).encode(
-        x=x, y=alt.Y("whisker_high:Q", axis=y_axis, scale=y_scale)
-    )
-    box = boxes.mark_bar(size=40, color=style.BOX_FILL, stroke=style.INK, strokeWidth=1).encode(
-        x=x, y=alt.Y("q1:Q", axis=y_axis, scale=y_scale), y2="q3", tooltip=tip
-    )
-    median = boxes.mark_tick(color=style.INK, size=40, thickness=2.5).encode(
-        x=x, y=alt.Y("median:Q", axis=y_axis, scale=y_scale), tooltip=tip
-    )
-    marks = (
-        alt.Chart(alt.NamedData("marks"))
-        .mark_point(opacity=1, size=50)
-        .encode(
-            x=x,
-            y=alt.Y("value:Q", axis=y_axis, scale=y_scale),
-            shape=alt.Shape(
-                "kind:N",
-                scale=alt.Scale(
-                    domain=_MARK_KINDS,
-                    range=[style.SHAPE_MEAN, style.SHAPE_OUTLIER, style.SHAPE_FAR_OUT],
-                ),
-                legend=alt.Legend(title=None),
-            ),
-            stroke=alt.Stroke(
-                "kind:N",
-                scale=alt.Scale(domain=_MARK_KINDS, range=[style.INK, style.DATA, style.SIGNAL]),
-                legend=alt.Legend(title=None),
-            ),
-            fill=alt.Fill(
-                "kind:N",
-                scale=alt.Scale(domain=_MARK_KINDS, range=[style.INK, style.WHITE, style.SIGNAL]),
-                legend=alt.Legend(title=None),
-            ),
-            tooltip=[
-                alt.Tooltip("group:N", title="group"),
-                alt.Tooltip("kind:N", title="what"),
-                alt.Tooltip("value:Q", title="value", format=",.4~g"),
-            ],
+    def x() -> dict:
+        return vl.field(
+            "group:N", sort=list_slot("order"), axis={"title": None, "labelAngle": 0}
         )
+
+    def y(name: str) -> dict:
+        return vl.field(f"{name}:Q", axis={"title": slot("y_title")}, scale={"zero": False})
+
+    def tip() -> list[dict]:
+        return [
+            vl.tip("group:N", "group"),
+            vl.tip("n:Q", "n"),
+            vl.tip("whisker_high:Q", "upper whisker", ",.4~g"),
+            vl.tip("q3:Q", "Q3", ",.4~g"),
+            vl.tip("median:Q", "median", ",.4~g"),
+            vl.tip("q1:Q", "Q1", ",.4~g"),
+            vl.tip("whisker_low:Q", "lower whisker", ",.4~g"),
+            vl.tip("mean:Q", "mean", ",.4~g"),
+        ]
+
+    whisker = vl.view(
+        "boxes",
+        vl.mark("rule", color=style.INK, strokeWidth=1.2),
+        {"x": x(), "y": y("whisker_low"), "y2": {"field": "whisker_high"}, "tooltip": tip()},
     )
-    chart = alt.layer(whisker, cap_lo, cap_hi, box, median, marks).properties(
-        width="container", height=style.HEIGHT_DISTRIBUTION
+    cap_lo = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
+        {"x": x(), "y": y("whisker_low")},
+    )
+    cap_hi = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
+        {"x": x(), "y": y("whisker_high")},
+    )
+    box = vl.view(
+        "boxes",
+        vl.mark("bar", size=40, color=style.BOX_FILL, stroke=style.INK, strokeWidth=1),
+        {"x": x(), "y": y("q1"), "y2": {"field": "q3"}, "tooltip": tip()},
+    )
+    median = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=40, thickness=2.5),
+        {"x": x(), "y": y("median"), "tooltip": tip()},
+    )
+
+    def by_kind(values: list) -> dict:
+        return vl.field(
+            "kind:N",
+            scale={"domain": list(_MARK_KINDS), "range": values},
+            legend={"title": None},
+        )
+
+    marks = vl.view(
+        "marks",
+        vl.mark("point", opacity=1, size=50),
+        {
+            "x": x(),
+            "y": y("value"),
+            "shape": by_kind([style.SHAPE_MEAN, style.SHAPE_OUTLIER, style.SHAPE_FAR_OUT]),
+            "stroke": by_kind([style.INK, style.DATA, style.SIGNAL]),
+            "fill": by_kind([style.INK, style.WHITE, style.SIGNAL]),
+            "tooltip": [
+                vl.tip("group:N", "group"),
+                vl.tip("kind:N", "what"),
+                vl.tip("value:Q", "value", ",.4~g"),
+            ],
+        },
+    )
+    chart = vl.layer(
+        whisker, cap_lo, cap_hi, box, median, marks,
+        width="container", height=style.HEIGHT_DISTRIBUTION,
     )
     return finish_template(chart, "box-plot")
 

@@ -7,7 +7,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from ..stats.results import ControlChart, RunChartAnalysis, Signal
-from . import style
+from . import style, vl
 from .base import (
     ChartSpec,
     SeriesContext,
@@ -15,6 +15,8 @@ from .base import (
     band_layers,
     band_rows,
     cached_template,
+    disp,
+    disp_list,
     event_layers,
     event_rows,
     finish_template,
@@ -47,120 +49,188 @@ _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray ru
 # ------------------------------------------------------------------------------------------------
 # Templates
 # ------------------------------------------------------------------------------------------------
+#
+# Data layout (kept small: a page embeds only what is drawn). One row per plotted position in
+# ``points``: "x", the main chart's value "v", line piece "g", key "k" into ``point_info`` and the
+# signal text "s" (on signal points only); a chart with a dispersion companion adds "v2", "g2",
+# "k2", "s2" to the same rows, so that positions are written once. ``point_info`` holds the few
+# distinct (phase, limits text, used for limits) combinations that the tooltips show. Marker and
+# tooltip fields are computed in the views from these.
+
+_SIGNAL_TEST = "datum.s{suf} ? '" + MARK_SIGNAL + "' : '" + MARK_ORDINARY + "'"
 
 
-def _value_layers(alt, is_time: bool, prefix: str, y_slot: str, with_limits: bool) -> list:
+def _y(field: str, y_slot: str) -> dict:
+    return vl.field(f"{field}:Q", scale={"zero": False}, axis={"title": slot(y_slot)})
+
+
+def _x_tip(is_time: bool) -> dict:
+    if is_time:
+        return vl.tip("x:T", "date", slot("x_format"), formatType="utc")
+    return vl.tip("label:N", "point")
+
+
+def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> list[dict]:
     """Line broken at segment changes and gaps, plus points whose shape marks signals."""
-    base = alt.Chart(alt.NamedData(f"{prefix}points"))
-    x = x_encoding(alt, is_time)
-    y = alt.Y("value:Q", scale=alt.Scale(zero=False), axis=alt.Axis(title=slot(y_slot)))
-    line = base.mark_line(color=style.DATA, strokeWidth=1.3).encode(x=x, y=y, detail="line:N")
-    points = base.mark_point(filled=True, opacity=1).encode(
-        x=x,
-        y=y,
-        shape=alt.Shape(
-            "marker:N",
-            scale=alt.Scale(domain=_MARK_DOMAIN, range=[style.SHAPE_POINT, style.SHAPE_SIGNAL]),
-            legend=alt.Legend(title=None),
-        ),
-        color=alt.Color(
-            "marker:N",
-            scale=alt.Scale(domain=_MARK_DOMAIN, range=[style.DATA, style.SIGNAL]),
-            legend=alt.Legend(title=None),
-        ),
-        size=alt.condition(
-            f"datum.marker == '{MARK_SIGNAL}'",
-            alt.value(style.SIZE_SIGNAL),
-            alt.value(style.SIZE_POINT),
-        ),
-        tooltip=[
-            alt.Tooltip("label:N", title="date" if is_time else "point"),
-            alt.Tooltip("value:Q", title="value", format=",.4~g"),
-            alt.Tooltip("stage:N", title="phase"),
-            *(
-                [
-                    alt.Tooltip("info:N", title="limits"),
-                    alt.Tooltip("fitted:N", title="used for limits"),
-                ]
-                if with_limits
-                else []
+    v = f"v{suf}"
+    valid = {"filter": {"field": v, "valid": True}}
+    fields = ["stage", "info", "fitted"] if with_limits else ["stage"]
+    line = vl.view(
+        "points",
+        vl.mark("line", color=style.DATA, strokeWidth=1.3),
+        {"x": x_encoding(is_time), "y": _y(v, y_slot), "detail": vl.field(f"g{suf}:N")},
+        transform=[valid],
+    )
+    transform = [
+        dict(valid),
+        {
+            "lookup": f"k{suf}",
+            "from": {"data": {"name": "point_info"}, "key": "k", "fields": fields},
+        },
+        {"calculate": _SIGNAL_TEST.format(suf=suf), "as": "marker"},
+        {"calculate": f"datum.s{suf} || 'none'", "as": "signals"},
+    ]
+    tooltip = [
+        _x_tip(is_time),
+        vl.tip(f"{v}:Q", "value", ",.4~g"),
+        vl.tip("stage:N", "phase"),
+    ]
+    if with_limits:
+        tooltip += [vl.tip("info:N", "limits"), vl.tip("fitted:N", "used for limits")]
+    tooltip.append(vl.tip("signals:N", "signals"))
+    points = vl.view(
+        "points",
+        vl.mark("point", filled=True, opacity=1),
+        {
+            "x": x_encoding(is_time),
+            "y": _y(v, y_slot),
+            "shape": vl.field(
+                "marker:N",
+                scale={"domain": list(_MARK_DOMAIN),
+                       "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
+                legend={"title": None},
             ),
-            alt.Tooltip("signals:N", title="signals"),
-        ],
+            "color": vl.field(
+                "marker:N",
+                scale={"domain": list(_MARK_DOMAIN), "range": [style.DATA, style.SIGNAL]},
+                legend={"title": None},
+            ),
+            "size": {
+                "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'",
+                              "value": style.SIZE_SIGNAL},
+                "value": style.SIZE_POINT,
+            },
+            "tooltip": tooltip,
+        },
+        transform=transform,
     )
     return [line, points]
 
 
-def _reference_layers(alt, is_time: bool, prefix: str, y_slot: str) -> list:
-    """Centre line and limits as per-point step segments, labelled at the right end."""
-    y = alt.Y("y:Q", scale=alt.Scale(zero=False), axis=alt.Axis(title=slot(y_slot)))
-    x = x_encoding(alt, is_time)
-    segs = (
-        alt.Chart(alt.NamedData(f"{prefix}limits"))
-        .mark_line(strokeWidth=1.4, color=style.LIMIT)
-        .encode(
-            x=x,
-            y=y,
-            detail="part:N",
-            order="order:Q",
-            strokeDash=alt.StrokeDash(
-                "kind:N",
-                scale=alt.Scale(
-                    domain=list(_LIMIT_KINDS), range=[[1, 0], style.DASH_LIMIT, style.DASH_LIMIT]
-                ),
-                legend=None,
-            ),
-            tooltip=[alt.Tooltip("text:N", title="line")],
+def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = False) -> list:
+    """Centre line and limits as per-point step segments, labelled at the right end.
+
+    Plain control chart: the centre line solid, the limits dashed, all grey. Staged chart: the
+    baseline set grey (solid centre line over the baseline, everything dashed where carried
+    forward), the after phase's own set dark and solid, its labels at the start of the phase."""
+    if staged:
+        dash = vl.field(
+            "look:N",
+            scale={"domain": ["solid", "dashed"], "range": [[1, 0], list(style.DASH_LIMIT)]},
+            legend=None,
         )
-    )
-    labels = (
-        alt.Chart(alt.NamedData(f"{prefix}labels"))
-        .mark_text(align="left", baseline="middle", dx=5, color=style.INK)
-        .encode(x=x, y=y, text="text:N")
-    )
-    return [segs, labels]
-
-
-def _series_view(alt, is_time: bool, prefix: str, y_slot: str, height: int, refs: str):
-    layers = band_layers(alt, is_time) + event_layers(alt, is_time)
-    if refs == "limits":
-        layers += _reference_layers(alt, is_time, prefix, y_slot)
+        # "stroke", not "color": the point layer's colour scale (marker) must stay its own
+        colour = {
+            "stroke": vl.field(
+                "set:N",
+                scale={"domain": ["baseline", "after"], "range": [style.LIMIT, style.OWN_LIMIT]},
+                legend=None,
+            )
+        }
+        seg_mark = vl.mark("line", strokeWidth=1.4)
     else:
-        layers += _median_layers(alt, is_time, y_slot)
-    layers += _value_layers(alt, is_time, prefix, y_slot, with_limits=refs == "limits")
-    return alt.layer(*layers).properties(width="container", height=height)
-
-
-def _median_layers(alt, is_time: bool, y_slot: str) -> list:
-    base = alt.Chart(alt.NamedData("centre"))
-    y = alt.Y("y:Q", scale=alt.Scale(zero=False), axis=alt.Axis(title=slot(y_slot)))
-    rule = base.mark_rule(color=style.CENTRE, strokeWidth=1.6).encode(
-        y=y, tooltip=[alt.Tooltip("text:N", title="centre line")]
+        dash = vl.field(
+            "kind:N",
+            scale={
+                "domain": list(_LIMIT_KINDS),
+                "range": [[1, 0], list(style.DASH_LIMIT), list(style.DASH_LIMIT)],
+            },
+            legend=None,
+        )
+        colour = {}
+        seg_mark = vl.mark("line", strokeWidth=1.4, color=style.LIMIT)
+    segs = vl.view(
+        f"{prefix}limits",
+        seg_mark,
+        {
+            "x": x_encoding(is_time),
+            "y": _y("y", y_slot),
+            "detail": vl.field("part:N"),
+            "order": vl.field("order:Q"),
+            "strokeDash": dash,
+            **colour,
+            "tooltip": [vl.tip("text:N", "line")],
+        },
     )
-    label = base.mark_text(align="left", baseline="middle", dx=5, color=style.INK).encode(
-        x=x_encoding(alt, is_time), y=y, text="text:N"
+    labels = vl.view(
+        f"{prefix}labels",
+        vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK),
+        {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
+    )
+    layers = [segs, labels]
+    if staged:
+        layers.append(
+            vl.view(
+                f"{prefix}own_labels",
+                vl.mark(
+                    "text", align="left", baseline="bottom", dx=3, dy=-2, color=style.OWN_LIMIT
+                ),
+                {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
+            )
+        )
+    return layers
+
+
+def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -> dict:
+    prefix = "secondary_" if suf else ""
+    layers = band_layers(is_time) + event_layers(is_time)
+    if refs == "limits":
+        layers += _reference_layers(is_time, prefix, y_slot)
+    elif refs == "staged":
+        layers += _reference_layers(is_time, prefix, y_slot, staged=True)
+    else:
+        layers += _median_layers(is_time, y_slot)
+    layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median")
+    return vl.layer(*layers, width="container", height=height)
+
+
+def _median_layers(is_time: bool, y_slot: str) -> list[dict]:
+    rule = vl.view(
+        "centre",
+        vl.mark("rule", color=style.CENTRE, strokeWidth=1.6),
+        {"y": _y("y", y_slot), "tooltip": [vl.tip("text:N", "centre line")]},
+    )
+    label = vl.view(
+        "centre",
+        vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK),
+        {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
     )
     return [rule, label]
 
 
 def _run_template(is_time: bool) -> dict:
-    import altair as alt
-
-    chart = _series_view(alt, is_time, "", "y_title", style.HEIGHT_MAIN, refs="median")
+    chart = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs="median")
     return finish_template(chart, "run-chart")
 
 
-def _control_template(is_time: bool, has_secondary: bool) -> dict:
-    import altair as alt
-
-    main = _series_view(alt, is_time, "", "y_title", style.HEIGHT_MAIN, refs="limits")
+def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") -> dict:
+    display = "staged-control-chart" if refs == "staged" else "control-chart"
+    main = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs=refs)
     if not has_secondary:
-        return finish_template(main, "control-chart")
-    second = _series_view(
-        alt, is_time, "secondary_", "y2_title", style.HEIGHT_SECONDARY, refs="limits"
-    )
-    chart = alt.vconcat(main, second, spacing=18).resolve_scale(x="shared")
-    return finish_template(chart, "control-chart")
+        return finish_template(main, display)
+    second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs)
+    chart = {"vconcat": [main, second], "spacing": 18, "resolve": {"scale": {"x": "shared"}}}
+    return finish_template(chart, display)
 
 
 # ------------------------------------------------------------------------------------------------
@@ -180,21 +250,58 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int
     return per_point
 
 
-def _point_rows(
-    xa: XAxis,
+def _x_format(ctx: SeriesContext) -> str:
+    """The tooltip's date format: as precise as the positions are."""
+    xs = [s.strip() for s in ctx.x]
+    if all(len(s) == 10 for s in xs):
+        return "%Y-%m-%d"
+    xa = x_axis(ctx)
+    if any(d.second or d.microsecond for d in xa._dt):
+        return "%Y-%m-%d %H:%M:%S"
+    return "%Y-%m-%d %H:%M"
+
+
+class _InfoKeys:
+    """Distinct (phase, limits text, used-for-limits) rows of ``point_info``, keyed 0, 1, ..."""
+
+    def __init__(self) -> None:
+        self.keys: dict[tuple, int] = {}
+
+    def key(self, stage: str, info: str | None = None, fitted: bool | None = None) -> int:
+        t = (stage, info, fitted)
+        k = self.keys.get(t)
+        if k is None:
+            k = self.keys[t] = len(self.keys)
+        return k
+
+    def rows(self) -> list[dict]:
+        out = []
+        for (stage, info, fitted), k in self.keys.items():
+            row: dict = {"k": k, "stage": stage}
+            if info is not None:
+                row["info"] = info
+            if fitted is not None:
+                row["fitted"] = "yes" if fitted else "no"
+            out.append(row)
+        return out
+
+
+def _series_rows(
     ctx: SeriesContext,
     values: Sequence,
     marked: dict[int, list[str]],
+    keys: _InfoKeys,
     offset: int = 0,
     info: Sequence[str] | None = None,
     fitted: Sequence[bool] | None = None,
-) -> list[dict]:
-    """Rows for the line and points; ``line`` numbers the pieces of the broken line."""
-    rows = []
+) -> dict[int, tuple]:
+    """Per plotted index: (value, line piece, info key, signal text or None). Line pieces break
+    at segment changes and at missing values."""
+    out: dict[int, tuple] = {}
     group = 0
     prev_seg = None
     prev_missing = True
-    for k, f in enumerate(num_list(values)):
+    for k, f in enumerate(disp_list(values)):
         i = k + offset
         seg = ctx.segment[i]
         if f is None:
@@ -205,34 +312,64 @@ def _point_rows(
         prev_seg = seg
         prev_missing = False
         sig = marked.get(i)
-        row = {
-            "x": xa.at(i),
-            "label": ctx.x[i],
-            "value": f,
-            "stage": ctx.stage[i],
-            "line": group,
-            "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
-            "signals": "; ".join(sig) if sig else "",
-        }
-        if info is not None:
-            row["info"] = info[k]
-        if fitted is not None:
-            row["fitted"] = "yes" if fitted[k] else "no"
+        key = keys.key(
+            ctx.stage[i],
+            info[k] if info is not None else None,
+            bool(fitted[k]) if fitted is not None else None,
+        )
+        out[i] = (f, group, key, "; ".join(sig) if sig else None)
+    return out
+
+
+def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None = None) -> list:
+    """Merge the main and the companion series into one row per position."""
+    idx = sorted(set(main) | set(second or {}))
+    rows = []
+    for i in idx:
+        row: dict = {"x": xa.at(i)}
+        if not xa.is_time:
+            row["label"] = ctx.x[i]
+        for suf, series in (("", main), ("2", second)):
+            if series is None or i not in series:
+                continue
+            v, g, k, s = series[i]
+            row[f"v{suf}"] = v
+            row[f"g{suf}"] = g
+            row[f"k{suf}"] = k
+            if s:
+                row[f"s{suf}"] = s
         rows.append(row)
     return rows
 
 
-def _limit_rows(xa: XAxis, chart: ControlChart, offset: int) -> tuple[list[dict], list[dict]]:
-    """Step lines of CL/UCL/LCL as vertices, and the end labels ("UCL 44.4")."""
+def _limit_rows(
+    xa: XAxis,
+    chart: ControlChart,
+    offset: int,
+    *,
+    drawn=None,
+    carried=None,
+    set_name: str | None = None,
+    label_prefix: str = "",
+) -> tuple[list[dict], list[dict]]:
+    """Step lines of CL/UCL/LCL as vertices, and the end labels ("UCL 44.4").
+
+    drawn:   per point whether the line is drawn there (default: everywhere).
+    carried: per point whether the limits there are carried forward from the baseline (a new
+             piece starts where this changes; carried pieces are dashed and named "baseline").
+    set_name: when given ("baseline" / "after"), rows carry "set" and "look" for the staged chart.
+    """
     rows: list[dict] = []
     labels: list[dict] = []
     arrays = {"centre line": chart.centre, "UCL": chart.upper, "LCL": chart.lower}
     m = len(chart.values)
     if m == 0:
         return rows, labels
+    on = [True] * m if drawn is None else [bool(b) for b in drawn]
+    car = [False] * m if carried is None else [bool(b) for b in carried]
     x_end = xa.at(m - 1 + offset)
     for kind in _LIMIT_KINDS:
-        ys = num_list(arrays[kind])
+        ys = [y if on[i] else None for i, y in enumerate(disp_list(arrays[kind]))]
         # A step line: each run of equal values is one horizontal piece from the midpoint
         # before its first point to the midpoint after its last; consecutive pieces join with a
         # vertical step (stepped p/u limits, limits recomputed per phase). A nan ends the line
@@ -247,20 +384,26 @@ def _limit_rows(xa: XAxis, chart: ControlChart, offset: int) -> tuple[list[dict]
                 k += 1
                 continue
             j = k
-            while j + 1 < m and ys[j + 1] == f:
+            while j + 1 < m and ys[j + 1] == f and car[j + 1] == car[k]:
                 j += 1
-            text = f"{_LIMIT_SHORT[kind]} {fmt(f)}"
-            key = f"{kind} {part}"
+            name = ("baseline " if car[k] else label_prefix) + _LIMIT_SHORT[kind]
+            text = f"{name} {fmt(f)}"
+            key = f"{set_name} {kind} {part}" if set_name else f"{kind} {part}"
             for x in (xa.half_before(k + offset), xa.half_after(j + offset)):
-                rows.append(
-                    {"x": x, "y": f, "kind": kind, "part": key, "order": len(rows), "text": text}
-                )
+                row = {"x": x, "y": f, "kind": kind, "part": key, "order": len(rows),
+                       "text": text}
+                if set_name:
+                    row["set"] = set_name
+                    row["look"] = "dashed" if car[k] or kind != "centre line" else "solid"
+                rows.append(row)
+            if set_name and j + 1 < m and ys[j + 1] is not None and car[j + 1] != car[k]:
+                part += 1
             k = j + 1
-        last = next((y for y in reversed(ys) if y is not None), None)
+        last = next(((i, y) for i, y in reversed(list(enumerate(ys))) if y is not None), None)
         if last is not None:
-            labels.append(
-                {"x": x_end, "y": last, "text": f"{_LIMIT_SHORT[kind]} {fmt(last)}", "kind": kind}
-            )
+            i, y = last
+            name = ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
+            labels.append({"x": x_end, "y": y, "text": f"{name} {fmt(y)}", "kind": kind})
     return rows, labels
 
 
@@ -340,21 +483,24 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     # crossings) is a statement about the whole series and is named in the subtitle only.
     local = [s for s in analysis.signals if 0 < len(s.indices) < n]
     marked = _signal_text(local, n)
-    points = _point_rows(xa, ctx, vals, marked)
+    keys = _InfoKeys()
+    points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys))
     median = num(analysis.median)
     median_text = "median " + with_unit(fmt(median), ctx.unit)
     centre = (
-        [{"y": median, "x": xa.at(n - 1), "text": median_text}] if median is not None and n else []
+        [{"y": disp(median), "x": xa.at(n - 1), "text": median_text}]
+        if median is not None and n
+        else []
     )
     datasets = {
         "points": points,
+        "point_info": keys.rows(),
         "centre": centre,
         "bands": band_rows(xa, ctx.stage),
         "events": event_rows(xa, ctx.events),
     }
     values_map = {"y_title": titled(ctx.metric_name, ctx.unit)}
-    if not ctx.x_is_time:
-        values_map.update(xa.axis_values())
+    values_map.update(_x_values(ctx, xa))
 
     rules = _RULE_SET_NAMES.get(analysis.rule_set, analysis.rule_set)
     facts = [median_text, f"longest run {analysis.longest_run}"]
@@ -392,11 +538,17 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
 
 
-def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Signal]) -> ChartSpec:
-    """The control chart with centre line and limits per point; its mR/R/S chart beneath."""
+def _x_values(ctx: SeriesContext, xa: XAxis) -> dict:
+    if ctx.x_is_time:
+        return {"x_format": _x_format(ctx)}
+    return xa.axis_values()
+
+
+def _check_chart(ctx: SeriesContext, chart: ControlChart, what: str = "chart") -> int:
+    """Lengths of a control chart against the series; the companion chart's offset (0 or 1)."""
     n = len(ctx.x)
     for name in ("values", "centre", "lower", "upper", "fitted"):
-        _check_len(f"chart.{name}", getattr(chart, name), n)
+        _check_len(f"{what}.{name}", getattr(chart, name), n)
     sec = chart.secondary
     offset = 0
     if sec is not None:
@@ -406,65 +558,146 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
                 f"the secondary chart has {len(sec.values)} points; expected {n} or {n - 1}"
             )
         for name in ("centre", "lower", "upper"):
-            _check_len(f"chart.secondary.{name}", getattr(sec, name), len(sec.values))
-    xa = x_axis(ctx)
-    is_time = ctx.x_is_time
-    has_sec = sec is not None
-    tpl = cached_template(
-        ("control-chart", is_time, has_sec), lambda: _control_template(is_time, has_sec)
-    )
+            _check_len(f"{what}.secondary.{name}", getattr(sec, name), len(sec.values))
+    return offset
 
+
+def _secondary_fitted(chart: ControlChart, offset: int) -> np.ndarray:
+    sec = chart.secondary
+    if len(sec.fitted) == len(sec.values):
+        return np.asarray(sec.fitted, dtype=bool)
+    return np.asarray(chart.fitted, dtype=bool)[offset:]
+
+
+def _secondary_stage(chart: ControlChart, offset: int) -> np.ndarray:
+    sec = chart.secondary
+    if len(sec.stage) == len(sec.values):
+        return np.asarray(sec.stage, dtype=int)
+    return np.asarray(chart.stage, dtype=int)[offset:]
+
+
+def _join_info(a: list[str], b: list[str | None]) -> list[str]:
+    return [x if not y else f"{x}; after: {y}" for x, y in zip(a, b, strict=True)]
+
+
+def _control_parts(
+    ctx: SeriesContext,
+    chart: ControlChart,
+    signals: Sequence[Signal],
+    offset: int,
+    own: ControlChart | None = None,
+    staged: bool = False,
+):
+    """Datasets, template values, per-point signal texts of a control chart (plain or staged)."""
+    n = len(ctx.x)
+    xa = x_axis(ctx)
+    sec = chart.secondary
     main_signals = [s for s in signals if s.chart != "secondary"]
     sec_signals = [s for s in signals if s.chart == "secondary"]
     marked = _signal_text(main_signals, n)
-    limits, labels = _limit_rows(xa, chart, 0)
-    datasets = {
-        "points": _point_rows(
-            xa, ctx, chart.values, marked, info=_limits_info(chart), fitted=chart.fitted
-        ),
-        "limits": limits,
-        "labels": labels,
-        "bands": band_rows(xa, ctx.stage),
-        "events": event_rows(xa, ctx.events),
-    }
-    unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
-    main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
-    values_map = {"y_title": titled(main_name, unit_main)}
-    sec_marked: dict[int, list[str]] = {}
+    sec_marked = _signal_text(sec_signals, n, offset) if sec is not None else {}
+    keys = _InfoKeys()
+
+    def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> list[str]:
+        info = _limits_info(c)
+        if o is None:
+            return info
+        own_info = _limits_info(o)
+        return _join_info(info, [t if st == 1 else None for t, st in zip(own_info, stage_arr,
+                                                                        strict=True)])
+
+    def carried_mask(c: ControlChart, stage_arr, fitted) -> np.ndarray | None:
+        if not staged:
+            return None
+        return (np.asarray(stage_arr, dtype=int) != 0) & ~np.asarray(fitted, dtype=bool)
+
+    set_name = "baseline" if staged else None
+    own_stage = np.asarray(own.stage, dtype=int) if own is not None else None
+    main = _series_rows(
+        ctx, chart.values, marked, keys,
+        info=info_of(chart, own, own_stage), fitted=chart.fitted,
+    )
+    limits, labels = _limit_rows(
+        xa, chart, 0, carried=carried_mask(chart, chart.stage, chart.fitted), set_name=set_name
+    )
+    datasets = {"limits": limits, "labels": labels}
+    if staged:
+        datasets["own_labels"] = []
+        if own is not None:
+            o_rows, o_labels = _own_rows(xa, own, own_stage, 0)
+            datasets["limits"] = limits + _renumber(o_rows, len(limits))
+            datasets["own_labels"] = o_labels
+    second = None
     if sec is not None:
-        sec_marked = _signal_text(sec_signals, n, offset)
-        s_limits, s_labels = _limit_rows(xa, sec, offset)
-        datasets["secondary_points"] = _point_rows(
-            xa,
-            ctx,
-            sec.values,
-            sec_marked,
-            offset=offset,
-            info=_limits_info(sec),
-            fitted=np.asarray(sec.fitted, dtype=bool)
-            if len(sec.fitted) == len(sec.values)
-            else np.asarray(chart.fitted, dtype=bool)[offset:],
+        sfit = _secondary_fitted(chart, offset)
+        sstage = _secondary_stage(chart, offset)
+        own_sec = own.secondary if own is not None else None
+        if own_sec is not None and len(own_sec.values) != len(sec.values):
+            own_sec = None
+        osstage = _secondary_stage(own, offset) if own_sec is not None else None
+        second = _series_rows(
+            ctx, sec.values, sec_marked, keys, offset=offset,
+            info=info_of(sec, own_sec, osstage), fitted=sfit,
+        )
+        s_limits, s_labels = _limit_rows(
+            xa, sec, offset, carried=carried_mask(sec, sstage, sfit), set_name=set_name
         )
         datasets["secondary_limits"] = s_limits
         datasets["secondary_labels"] = s_labels
-        values_map["y2_title"] = titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else "")
-    if not is_time:
-        values_map.update(xa.axis_values())
+        if staged:
+            datasets["secondary_own_labels"] = []
+            if own_sec is not None:
+                o_rows, o_labels = _own_rows(xa, own_sec, osstage, offset)
+                datasets["secondary_limits"] = s_limits + _renumber(o_rows, len(s_limits))
+                datasets["secondary_own_labels"] = o_labels
+    datasets["points"] = _point_rows(xa, ctx, main, second)
+    datasets["point_info"] = keys.rows()
+    datasets["bands"] = band_rows(xa, ctx.stage)
+    datasets["events"] = event_rows(xa, ctx.events)
 
-    title = f"{ctx.metric_name} \u2014 {chart.label}" + (f" and {sec.label}" if sec else "")
-    subtitle = [
-        _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
-        if chart.sigma_method
-        else _fitted_sentence(ctx, chart.fitted),
-        _signals_sentence(signals, max_kinds=2),
-        *chart.notes,
-    ]
+    unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
+    main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
+    values_map = {"y_title": titled(main_name, unit_main)}
     if sec is not None:
-        subtitle.extend(sec.notes)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle)
+        values_map["y2_title"] = titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else "")
+    values_map.update(_x_values(ctx, xa))
+    return datasets, values_map, marked, sec_marked, labels
 
-    # --- table ---
-    x_col = "date" if is_time else "point"
+
+def _renumber(rows: list[dict], start: int) -> list[dict]:
+    for k, r in enumerate(rows):
+        r["order"] = start + k
+    return rows
+
+
+def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int):
+    """The after phase's own limits (stage 1 only), solid, labelled at the phase's start."""
+    drawn = np.asarray(stage_arr, dtype=int) == 1
+    rows, _ = _limit_rows(xa, own, offset, drawn=drawn, set_name="after", label_prefix="after ")
+    for r in rows:
+        r["look"] = "solid"
+    labels = []
+    first = int(np.argmax(drawn)) if drawn.any() else None
+    if first is not None:
+        arrays = {"centre line": own.centre, "UCL": own.upper, "LCL": own.lower}
+        for kind in _LIMIT_KINDS:
+            y = disp(arrays[kind][first])
+            if y is not None:
+                labels.append(
+                    {
+                        "x": xa.half_before(first + offset),
+                        "y": y,
+                        "text": f"after {_LIMIT_SHORT[kind]} {fmt(y)}",
+                        "kind": kind,
+                    }
+                )
+    return rows, labels
+
+
+def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None):
+    n = len(ctx.x)
+    sec = chart.secondary
+    x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
     fitted = np.asarray(chart.fitted, dtype=bool)
     abbr = _SECONDARY_SHORT.get(sec.kind, sec.label) if sec is not None else ""
@@ -473,9 +706,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
         columns.append("phase")
     if chart.sizes is not None:
         columns.append("subgroup size")
-    columns += ["value", "centre line", "LCL", "UCL", "used for limits", "signals"]
-    if sec is not None:
-        columns += [abbr, f"{abbr} centre line", f"{abbr} LCL", f"{abbr} UCL"]
+    columns += ["value", "centre line", "LCL", "UCL", "used for limits"]
     cols: dict[str, list] = {}
     if chart.sizes is not None:
         cols["subgroup size"] = num_list(chart.sizes)
@@ -483,12 +714,29 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     cols["centre line"] = num_list(chart.centre)
     cols["LCL"] = num_list(chart.lower)
     cols["UCL"] = num_list(chart.upper)
+    if own is not None:
+        after = np.asarray(own.stage, dtype=int) == 1
+        for name, arr in (("centre line", own.centre), ("LCL", own.lower), ("UCL", own.upper)):
+            vals = num_list(arr)
+            cols[f"after {name}"] = [v if a else None for v, a in zip(vals, after, strict=True)]
+            columns.append(f"after {name}")
+    columns.append("signals")
     if sec is not None:
         pad = [None] * offset
+        columns += [abbr, f"{abbr} centre line", f"{abbr} LCL", f"{abbr} UCL"]
         cols[abbr] = pad + num_list(sec.values)
         cols[f"{abbr} centre line"] = pad + num_list(sec.centre)
         cols[f"{abbr} LCL"] = pad + num_list(sec.lower)
         cols[f"{abbr} UCL"] = pad + num_list(sec.upper)
+        own_sec = own.secondary if own is not None else None
+        if own_sec is not None and len(own_sec.values) == len(sec.values):
+            after = _secondary_stage(own, offset) == 1
+            for name, arr in (
+                ("centre line", own_sec.centre), ("LCL", own_sec.lower), ("UCL", own_sec.upper)
+            ):
+                vals = [v if a else None for v, a in zip(num_list(arr), after, strict=True)]
+                cols[f"after {abbr} {name}"] = pad + vals
+                columns.append(f"after {abbr} {name}")
     table = []
     for i in range(n):
         row: dict = {x_col: ctx.x[i]}
@@ -502,6 +750,33 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
             else:
                 row[name] = cols[name][i]
         table.append(row)
+    return table, tuple(columns)
+
+
+def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Signal]) -> ChartSpec:
+    """The control chart with centre line and limits per point; its mR/R/S chart beneath."""
+    n = len(ctx.x)
+    offset = _check_chart(ctx, chart)
+    sec = chart.secondary
+    is_time = ctx.x_is_time
+    has_sec = sec is not None
+    tpl = cached_template(
+        ("control-chart", is_time, has_sec), lambda: _control_template(is_time, has_sec)
+    )
+    datasets, values_map, marked, sec_marked, labels = _control_parts(ctx, chart, signals, offset)
+
+    title = f"{ctx.metric_name} \u2014 {chart.label}" + (f" and {sec.label}" if sec else "")
+    subtitle = [
+        _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
+        if chart.sigma_method
+        else _fitted_sentence(ctx, chart.fitted),
+        _signals_sentence(signals, max_kinds=2),
+        *chart.notes,
+    ]
+    if sec is not None:
+        subtitle.extend(sec.notes)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle)
+    table, columns = _control_table(ctx, chart, offset, marked, sec_marked)
 
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
@@ -510,4 +785,71 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
         + (f", {lim} (at the last point)" if lim else "")
         + f"; {_signals_sentence(signals)}."
     )
-    return ChartSpec(spec=spec, table=table, columns=tuple(columns), summary=summary)
+    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+
+
+def staged_control_chart(
+    ctx: SeriesContext,
+    carried: ControlChart,
+    own: ControlChart | None,
+    signals: Sequence[Signal],
+) -> ChartSpec:
+    """A control chart by phase: the baseline limits carried forward over the later phases
+    (dashed, labelled "baseline UCL ..."), and, when ``own`` is given, the after phase's own
+    centre line and limits drawn solid over the after phase only ("after UCL ..."). Points are
+    marked by ``signals`` (judged against the carried limits); the mR/R/S chart beneath is drawn
+    the same way."""
+    n = len(ctx.x)
+    offset = _check_chart(ctx, carried, "carried")
+    if own is not None:
+        _check_len("own.stage", own.stage, n)
+        own_offset = _check_chart(ctx, own, "own")
+        if (own.secondary is None) != (carried.secondary is None) or (
+            own.secondary is not None and own_offset != offset
+        ):
+            raise ValueError("the own-limits chart must have the same companion chart as the "
+                             "carried one")
+    sec = carried.secondary
+    is_time = ctx.x_is_time
+    has_sec = sec is not None
+    tpl = cached_template(
+        ("staged-control-chart", is_time, has_sec),
+        lambda: _control_template(is_time, has_sec, refs="staged"),
+    )
+    datasets, values_map, marked, sec_marked, labels = _control_parts(
+        ctx, carried, signals, offset, own=own, staged=True
+    )
+
+    title = f"{ctx.metric_name} \u2014 {carried.label}" + (f" and {sec.label}" if sec else "")
+    title += " by phase"
+    after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
+    first = (
+        _fitted_sentence(ctx, carried.fitted).replace("limits from", "baseline limits from", 1)
+        + ", carried forward (dashed)"
+    )
+    subtitle = [first]
+    if len(after_idx):
+        a, b = int(after_idx[0]), int(after_idx[-1])
+        subtitle.append(
+            f"after phase's own limits (solid) from {ctx.x[a]} to {ctx.x[b]} "
+            f"({plural(len(after_idx), 'point')})"
+        )
+    subtitle.append("signals judged against the baseline limits: "
+                    + _signals_sentence(signals, max_kinds=2))
+    subtitle += list(carried.notes)
+    if sec is not None:
+        subtitle.extend(sec.notes)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle)
+    table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own)
+
+    last = {lab["kind"]: lab["text"] for lab in labels}
+    lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
+    own_last = {lab["kind"]: lab["text"] for lab in datasets.get("own_labels", [])}
+    own_lim = ", ".join(own_last[k] for k in ("LCL", "centre line", "UCL") if k in own_last)
+    summary = (
+        f"{carried.label} chart of {ctx.metric_name} by phase: {plural(n, 'point')}"
+        + (f", {lim}" if lim else "")
+        + (f"; {own_lim}" if own_lim else "")
+        + f"; {_signals_sentence(signals)} against the baseline limits."
+    )
+    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)

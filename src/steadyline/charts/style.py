@@ -18,6 +18,7 @@ DATA = "#1f4e79"  # measured values: lines, points, main bars (L* 32)
 SIGNAL = "#e08a00"  # points taking part in a signal (L* 65)
 CENTRE = "#707070"  # centre line, solid (L* 47)
 LIMIT = "#707070"  # control limits, dashed (L* 47)
+OWN_LIMIT = "#262626"  # a later phase's own limits on the staged chart, solid (L* 15)
 EVENT = "#7b5aa6"  # event rules, dotted (L* 45)
 SPEC = "#9a3412"  # specification limits on a histogram, dashed (L* 37)
 TARGET = INK  # target on a histogram, dotted
@@ -36,6 +37,7 @@ PALETTE = {
     "signal": SIGNAL,
     "centre": CENTRE,
     "limit": LIMIT,
+    "own_limit": OWN_LIMIT,
     "event": EVENT,
     "spec": SPEC,
     "hist_bar": HIST_BAR,
@@ -50,6 +52,9 @@ CONTRASTING_PAIRS = (
     ("data", "signal"),
     ("data", "limit"),
     ("signal", "limit"),
+    ("own_limit", "data"),
+    ("own_limit", "signal"),
+    ("own_limit", "limit"),
     ("hist_bar", "spec"),
     ("hist_bar", "curve"),
     ("hist_bar", "ink"),
