@@ -32,6 +32,7 @@ from .errors import Problem, ProjectError
 STAGE_BASELINE, STAGE_AFTER, STAGE_OTHER = 0, 1, 2
 STAGE_NAMES = {STAGE_BASELINE: "Baseline", STAGE_AFTER: "After", STAGE_OTHER: "Between periods"}
 MAX_LISTED_ROWS = 5
+MAX_MAGNITUDE = 1e100
 _OFFSET_RE = re.compile(r"(?:Z|[+-]\d{2}:?\d{2})$")
 
 
@@ -267,9 +268,10 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
     bad = s.map(lambda c: c != "" and table[c] is None).astype(bool)
     out.rows(list(df.index[bad]), f"column '{col}'",
              _why_not_number(s[bad].iloc[0], what, dec) if bad.any() else "")
-    nonfinite = np.isinf(num.to_numpy())
-    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite (or too large "
-             "to hold); write a finite number or leave the cell blank")
+    # Beyond 1e100 no measurement is meant, and squares of such values overflow the statistics.
+    nonfinite = np.abs(num.to_numpy()) > MAX_MAGNITUDE
+    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite or too large "
+             f"(over {MAX_MAGNITUDE:g}); write a finite number or leave the cell blank")
     num = num.where(~nonfinite)
     out.rows(list(df.index[blank]), f"column '{col}'", "blank cell; the row is left out",
              severity="warning")
