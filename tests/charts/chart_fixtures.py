@@ -286,6 +286,9 @@ def unit_views(spec: dict, data_name: str | None = None):
             yield from unit_views(sub, data_name)
 
 
+_OPTIONAL_LOOKUP_FIELDS = {"signals"}
+
+
 def _kept(row: dict, transforms: list) -> bool:
     """Whether a row passes the view's validity filters ({"filter": {"field", "valid": true}})."""
     for t in transforms:
@@ -327,8 +330,14 @@ def missing_fields(spec: dict) -> list[str]:
             if not {r[t["lookup"]] for r in rows if t["lookup"] in r} <= keys:
                 problems.append(f"{name}: lookup key {t['lookup']!r} not found in {src!r}")
             for f in t["from"]["fields"]:
-                if any(f not in r for r in datasets[src]):
-                    problems.append(f"{src}: row without looked-up field {f!r}")
+                # may be left out of single rows; only "signals" may be absent from all of them
+                # (a chart without signals: the views read a missing one as none)
+                if (
+                    f not in _OPTIONAL_LOOKUP_FIELDS
+                    and datasets[src]
+                    and all(f not in r for r in datasets[src])
+                ):
+                    problems.append(f"{src}: no row has the looked-up field {f!r}")
                 computed.add(f)
         for channel, field in _field_defs(view.get("encoding", {})):
             if field in computed:
@@ -354,7 +363,7 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
         if v is None:
             continue
         k = info[r[f"k{suffix}"]]
-        sig = r.get(f"s{suffix}")
+        sig = k.get("signals")
         row = {
             "x": r["x"],
             "label": r.get("label", r["x"]),
@@ -368,6 +377,26 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
             if f in k:
                 row[f] = k[f]
         out.append(row)
+    return out
+
+
+def limit_pieces(spec: dict, kind: str, name: str = "limits") -> list[list[tuple]]:
+    """A limit's step line as drawn: per piece the path [(x, y), ...] of its "step-after"
+    vertices, vertical steps included (each vertex holds its y until the next one's x)."""
+    d = spec["datasets"]
+    parts = {r["p"]: r for r in d["limit_parts"]}
+    by_part: dict = {}
+    for r in d[name]:
+        if parts[r["p"]]["kind"] == kind:
+            by_part.setdefault(r["p"], []).append((r["x"], r["y"]))
+    out = []
+    for verts in by_part.values():
+        path = [verts[0]]
+        for (_, y0), (x1, y1) in zip(verts, verts[1:], strict=False):
+            for pt in ((x1, y0), (x1, y1)):
+                if pt != path[-1]:
+                    path.append(pt)
+        out.append(path)
     return out
 
 

@@ -12,6 +12,7 @@ from chart_fixtures import (
     make_p_chart,
     make_run_analysis,
     make_values,
+    limit_pieces,
     missing_fields,
     resolved_points,
     unit_views,
@@ -22,16 +23,9 @@ from steadyline.charts.base import fmt, time_text
 from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
 
 
-def _by_kind(rows, kind):
-    return [r for r in rows if r["kind"] == kind]
-
-
-def _pieces(rows, kind):
-    """A limit's step line as {part: [(x, y), ...]} in drawing order."""
-    out = {}
-    for r in sorted(_by_kind(rows, kind), key=lambda r: r["order"]):
-        out.setdefault(r["part"], []).append((r["x"], r["y"]))
-    return list(out.values())
+def _pieces(spec, kind, name="limits"):
+    """A limit's step line as drawn, one [(x, y), ...] path per piece."""
+    return limit_pieces(spec, kind, name)
 
 
 # --- control chart --------------------------------------------------------------------------
@@ -40,12 +34,11 @@ def _pieces(rows, kind):
 def test_limits_are_steps_and_absent_where_nan():
     cc = make_individuals()
     spec = control_chart(make_ctx(), cc, MAIN_SIGNALS).spec
-    rows = spec["datasets"]["limits"]
     # constant limits: one horizontal line over the whole series, first to last point
-    assert _pieces(rows, "UCL") == [[("2026-01-05", 44.4), ("2026-07-27", 44.4)]]
-    assert _pieces(rows, "centre line") == [[("2026-01-05", 30.0), ("2026-07-27", 30.0)]]
+    assert _pieces(spec, "UCL") == [[("2026-01-05", 44.4), ("2026-07-27", 44.4)]]
+    assert _pieces(spec, "centre line") == [[("2026-01-05", 30.0), ("2026-07-27", 30.0)]]
     # LCL is nan from point 20 on: it stops midway between the last baseline week and the next
-    assert _pieces(rows, "LCL") == [[("2026-01-05", 15.6), ("2026-05-21T12:00:00Z", 15.6)]]
+    assert _pieces(spec, "LCL") == [[("2026-01-05", 15.6), ("2026-05-21T12:00:00Z", 15.6)]]
     # right-end labels carry the values
     labels = {r["kind"]: r["text"] for r in spec["datasets"]["labels"]}
     assert labels == {"centre line": "CL 30", "UCL": "UCL 44.4", "LCL": "LCL 15.6"}
@@ -55,7 +48,7 @@ def test_limits_are_steps_and_absent_where_nan():
 def test_stepped_p_limits_follow_every_point():
     cc = make_p_chart()
     spec = control_chart(make_ctx(), cc, ()).spec
-    (line,) = _pieces(spec["datasets"]["limits"], "UCL")
+    (line,) = _pieces(spec, "UCL")
     # sizes change at every point: one horizontal step per point, joined by vertical steps
     # data rows carry 6 significant digits (display precision; the table keeps full precision)
     np.testing.assert_allclose([y for _, y in line], np.repeat(cc.upper, 2), rtol=5e-6)
@@ -103,11 +96,15 @@ def test_signal_points_marked_by_shape_size_and_colour_with_rule_in_tooltip():
     assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "x", "v", "info"}
     # the marker and the signal text are computed in the view from the short row fields
     calcs = {t["as"]: t["calculate"] for t in view["transform"] if "calculate" in t}
-    assert calcs["marker"] == f"datum.s ? '{MARK_SIGNAL}' : '{MARK_ORDINARY}'"
-    assert calcs["signals"] == "datum.s || 'none'"
-    # rows carry the signal text only where there is one
-    rows = spec["datasets"]["points"]
-    assert sum("s" in r for r in rows) == 9 and sum("s2" in r for r in rows) == 1
+    assert calcs["marker"] == f"datum.signals ? '{MARK_SIGNAL}' : '{MARK_ORDINARY}'"
+    assert calcs["signals"] == "datum.signals || 'none'"
+    # the signal text is written once per distinct combination, not per point
+    info = spec["datasets"]["point_info"]
+    assert sorted(r["signals"] for r in info if "signals" in r) == [
+        "8 in a row on one side of the centre line",
+        "beyond the 3σ limits",
+        "beyond the upper limit of the moving range",
+    ]
 
 
 def test_fitted_points_named_in_subtitle_and_tooltip():
@@ -284,8 +281,9 @@ def test_per_phase_limits_step_at_the_phase_change():
     upper = cc.upper.copy()
     upper[20:] = 40.0  # limits recomputed for the After phase
     cc2 = type(cc)(**{**cc.__dict__, "upper": upper})
-    rows = control_chart(make_ctx(), cc2, ()).spec["datasets"]["limits"]
-    assert _pieces(rows, "UCL") == [
+    spec = control_chart(make_ctx(), cc2, ()).spec
+    assert len(spec["datasets"]["limits"]) == 3 + 2 + 2  # one vertex per change and per end
+    assert _pieces(spec, "UCL") == [
         [
             ("2026-01-05", 44.4),
             ("2026-05-21T12:00:00Z", 44.4),

@@ -126,8 +126,8 @@ def test_deterministic_across_processes():
 
 def test_field_checker_catches_a_missing_field_and_dataset():
     spec = json.loads(json.dumps(dict(SPECS)["control-chart X-mR"].spec))
-    del spec["datasets"]["limits"][0]["part"]
-    assert any("part" in p for p in missing_fields(spec))
+    del spec["datasets"]["limits"][0]["p"]
+    assert any("'p'" in p for p in missing_fields(spec))
     del spec["datasets"]["labels"]
     assert any("'labels'" in p for p in missing_fields(spec))
 

@@ -51,13 +51,14 @@ _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray ru
 # ------------------------------------------------------------------------------------------------
 #
 # Data layout (kept small: a page embeds only what is drawn). One row per plotted position in
-# ``points``: "x", the main chart's value "v", line piece "g", key "k" into ``point_info`` and the
-# signal text "s" (on signal points only); a chart with a dispersion companion adds "v2", "g2",
-# "k2", "s2" to the same rows, so that positions are written once. ``point_info`` holds the few
-# distinct (phase, limits text, used for limits) combinations that the tooltips show. Marker and
-# tooltip fields are computed in the views from these.
+# ``points``: "x", the main chart's value "v", line piece "g" and key "k" into ``point_info``; a
+# chart with a dispersion companion adds "v2", "g2", "k2" to the same rows, so that positions are
+# written once. ``point_info`` holds the distinct (phase, limits text, used for limits, signals)
+# combinations that the tooltips show; the marker is computed in the view from them. Limit lines
+# are "step-after" lines with one vertex per change ("p", "x", "y"), their pieces named once in
+# ``limit_parts``.
 
-_SIGNAL_TEST = "datum.s{suf} ? '" + MARK_SIGNAL + "' : '" + MARK_ORDINARY + "'"
+_SIGNAL_TEST = "datum.signals ? '" + MARK_SIGNAL + "' : '" + MARK_ORDINARY + "'"
 
 
 def _y(field: str, y_slot: str) -> dict:
@@ -74,7 +75,7 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
     """Line broken at segment changes and gaps, plus points whose shape marks signals."""
     v = f"v{suf}"
     valid = {"filter": {"field": v, "valid": True}}
-    fields = ["stage", "info", "fitted"] if with_limits else ["stage"]
+    fields = ["stage", "info", "fitted", "signals"] if with_limits else ["stage", "signals"]
     line = vl.view(
         "points",
         vl.mark("line", color=style.DATA, strokeWidth=1.3),
@@ -87,8 +88,8 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
             "lookup": f"k{suf}",
             "from": {"data": {"name": "point_info"}, "key": "k", "fields": fields},
         },
-        {"calculate": _SIGNAL_TEST.format(suf=suf), "as": "marker"},
-        {"calculate": f"datum.s{suf} || 'none'", "as": "signals"},
+        {"calculate": _SIGNAL_TEST, "as": "marker"},
+        {"calculate": "datum.signals || 'none'", "as": "signals"},
     ]
     tooltip = [
         _x_tip(is_time),
@@ -147,7 +148,8 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
                 legend=None,
             )
         }
-        seg_mark = vl.mark("line", strokeWidth=1.4)
+        seg_mark = vl.mark("line", strokeWidth=1.4, interpolate="step-after")
+        parts_fields = ["kind", "name", "set", "look"]
     else:
         dash = vl.field(
             "kind:N",
@@ -158,19 +160,25 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
             legend=None,
         )
         colour = {}
-        seg_mark = vl.mark("line", strokeWidth=1.4, color=style.LIMIT)
+        seg_mark = vl.mark("line", strokeWidth=1.4, color=style.LIMIT, interpolate="step-after")
+        parts_fields = ["kind", "name"]
     segs = vl.view(
         f"{prefix}limits",
         seg_mark,
         {
             "x": x_encoding(is_time),
             "y": _y("y", y_slot),
-            "detail": vl.field("part:N"),
-            "order": vl.field("order:Q"),
+            "detail": vl.field("p:N"),
             "strokeDash": dash,
             **colour,
-            "tooltip": [vl.tip("text:N", "line")],
+            "tooltip": [vl.tip("name:N", "line"), vl.tip("y:Q", "value", ",.4~g")],
         },
+        transform=[
+            {
+                "lookup": "p",
+                "from": {"data": {"name": "limit_parts"}, "key": "p", "fields": parts_fields},
+            }
+        ],
     )
     labels = vl.view(
         f"{prefix}labels",
@@ -262,13 +270,14 @@ def _x_format(ctx: SeriesContext) -> str:
 
 
 class _InfoKeys:
-    """Distinct (phase, limits text, used-for-limits) rows of ``point_info``, keyed 0, 1, ..."""
+    """Distinct (phase, limits text, used-for-limits, signals) rows of ``point_info``, keyed
+    0, 1, ... in order of first use: the text a point's tooltip shows, written once."""
 
     def __init__(self) -> None:
         self.keys: dict[tuple, int] = {}
 
-    def key(self, stage: str, info: str | None = None, fitted: bool | None = None) -> int:
-        t = (stage, info, fitted)
+    def key(self, stage: str, info: str | None, fitted: bool | None, signals: str) -> int:
+        t = (stage, info, fitted, signals)
         k = self.keys.get(t)
         if k is None:
             k = self.keys[t] = len(self.keys)
@@ -276,12 +285,14 @@ class _InfoKeys:
 
     def rows(self) -> list[dict]:
         out = []
-        for (stage, info, fitted), k in self.keys.items():
+        for (stage, info, fitted, signals), k in self.keys.items():
             row: dict = {"k": k, "stage": stage}
             if info is not None:
                 row["info"] = info
             if fitted is not None:
                 row["fitted"] = "yes" if fitted else "no"
+            if signals:
+                row["signals"] = signals
             out.append(row)
         return out
 
@@ -295,8 +306,8 @@ def _series_rows(
     info: Sequence[str] | None = None,
     fitted: Sequence[bool] | None = None,
 ) -> dict[int, tuple]:
-    """Per plotted index: (value, line piece, info key, signal text or None). Line pieces break
-    at segment changes and at missing values."""
+    """Per plotted index: (value, line piece, info key). Line pieces break at segment changes
+    and at missing values."""
     out: dict[int, tuple] = {}
     group = 0
     prev_seg = None
@@ -311,13 +322,13 @@ def _series_rows(
             group += 1
         prev_seg = seg
         prev_missing = False
-        sig = marked.get(i)
         key = keys.key(
             ctx.stage[i],
             info[k] if info is not None else None,
             bool(fitted[k]) if fitted is not None else None,
+            "; ".join(marked.get(i, ())),
         )
-        out[i] = (f, group, key, "; ".join(sig) if sig else None)
+        out[i] = (f, group, key)
     return out
 
 
@@ -332,32 +343,55 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
         for suf, series in (("", main), ("2", second)):
             if series is None or i not in series:
                 continue
-            v, g, k, s = series[i]
+            v, g, k = series[i]
             row[f"v{suf}"] = v
             row[f"g{suf}"] = g
             row[f"k{suf}"] = k
-            if s:
-                row[f"s{suf}"] = s
         rows.append(row)
     return rows
+
+
+class _Parts:
+    """Pieces of the limit lines of one chart (main and companion), each named once in
+    ``limit_parts``: kind, the name its tooltip shows, and for the staged chart set and look."""
+
+    def __init__(self) -> None:
+        self.rows: list[dict] = []
+
+    def new(self, kind: str, name: str, set_name: str | None, look: str | None) -> int:
+        p = len(self.rows)
+        row = {"p": p, "kind": kind, "name": name}
+        if set_name:
+            row["set"] = set_name
+            row["look"] = look
+        self.rows.append(row)
+        return p
 
 
 def _limit_rows(
     xa: XAxis,
     chart: ControlChart,
     offset: int,
+    parts: _Parts,
     *,
     drawn=None,
     carried=None,
     set_name: str | None = None,
     label_prefix: str = "",
+    solid: bool = False,
 ) -> tuple[list[dict], list[dict]]:
-    """Step lines of CL/UCL/LCL as vertices, and the end labels ("UCL 44.4").
+    """Step lines of CL/UCL/LCL as vertices of a "step-after" line, and the end labels.
+
+    Each run of equal values is one horizontal step from the midpoint before its first point to
+    the midpoint after its last; a piece ("p") holds consecutive runs, so the line steps up or
+    down between them (stepped p/u limits, limits recomputed per phase). One vertex per run
+    start and one at the piece's end. A nan ends the piece and draws nothing until the next
+    finite value.
 
     drawn:   per point whether the line is drawn there (default: everywhere).
     carried: per point whether the limits there are carried forward from the baseline (a new
              piece starts where this changes; carried pieces are dashed and named "baseline").
-    set_name: when given ("baseline" / "after"), rows carry "set" and "look" for the staged chart.
+    set_name: when given ("baseline" / "after"), the parts carry "set" and "look" (staged chart).
     """
     rows: list[dict] = []
     labels: list[dict] = []
@@ -368,42 +402,35 @@ def _limit_rows(
     on = [True] * m if drawn is None else [bool(b) for b in drawn]
     car = [False] * m if carried is None else [bool(b) for b in carried]
     x_end = xa.at(m - 1 + offset)
+
+    def name_at(kind: str, i: int) -> str:
+        return ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
+
     for kind in _LIMIT_KINDS:
         ys = [y if on[i] else None for i, y in enumerate(disp_list(arrays[kind]))]
-        # A step line: each run of equal values is one horizontal piece from the midpoint
-        # before its first point to the midpoint after its last; consecutive pieces join with a
-        # vertical step (stepped p/u limits, limits recomputed per phase). A nan ends the line
-        # and draws nothing until the next finite value.
-        part = 0
         k = 0
         while k < m:
-            f = ys[k]
-            if f is None:
-                if k > 0 and ys[k - 1] is not None:
-                    part += 1
+            if ys[k] is None:
                 k += 1
                 continue
-            j = k
-            while j + 1 < m and ys[j + 1] == f and car[j + 1] == car[k]:
-                j += 1
-            name = ("baseline " if car[k] else label_prefix) + _LIMIT_SHORT[kind]
-            text = f"{name} {fmt(f)}"
-            key = f"{set_name} {kind} {part}" if set_name else f"{kind} {part}"
-            for x in (xa.half_before(k + offset), xa.half_after(j + offset)):
-                row = {"x": x, "y": f, "kind": kind, "part": key, "order": len(rows),
-                       "text": text}
-                if set_name:
-                    row["set"] = set_name
-                    row["look"] = "dashed" if car[k] or kind != "centre line" else "solid"
-                rows.append(row)
-            if set_name and j + 1 < m and ys[j + 1] is not None and car[j + 1] != car[k]:
-                part += 1
-            k = j + 1
+            # one piece: from k while values are finite and the carried flag is the same
+            look = "solid" if solid or (kind == "centre line" and not car[k]) else "dashed"
+            p = parts.new(kind, name_at(kind, k), set_name, look)
+            e = k
+            while e + 1 < m and ys[e + 1] is not None and car[e + 1] == car[k]:
+                e += 1
+            prev = None
+            for i in range(k, e + 1):
+                if ys[i] != prev:
+                    rows.append({"p": p, "x": xa.half_before(i + offset), "y": ys[i]})
+                    prev = ys[i]
+            rows.append({"p": p, "x": xa.half_after(e + offset), "y": ys[e]})
+            k = e + 1
         last = next(((i, y) for i, y in reversed(list(enumerate(ys))) if y is not None), None)
         if last is not None:
             i, y = last
-            name = ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
-            labels.append({"x": x_end, "y": y, "text": f"{name} {fmt(y)}", "kind": kind})
+            labels.append({"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}",
+                           "kind": kind})
     return rows, labels
 
 
@@ -597,6 +624,7 @@ def _control_parts(
     marked = _signal_text(main_signals, n)
     sec_marked = _signal_text(sec_signals, n, offset) if sec is not None else {}
     keys = _InfoKeys()
+    parts = _Parts()
 
     def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> list[str]:
         info = _limits_info(c)
@@ -618,14 +646,15 @@ def _control_parts(
         info=info_of(chart, own, own_stage), fitted=chart.fitted,
     )
     limits, labels = _limit_rows(
-        xa, chart, 0, carried=carried_mask(chart, chart.stage, chart.fitted), set_name=set_name
+        xa, chart, 0, parts, carried=carried_mask(chart, chart.stage, chart.fitted),
+        set_name=set_name,
     )
     datasets = {"limits": limits, "labels": labels}
     if staged:
         datasets["own_labels"] = []
         if own is not None:
-            o_rows, o_labels = _own_rows(xa, own, own_stage, 0)
-            datasets["limits"] = limits + _renumber(o_rows, len(limits))
+            o_rows, o_labels = _own_rows(xa, own, own_stage, 0, parts)
+            datasets["limits"] = limits + o_rows
             datasets["own_labels"] = o_labels
     second = None
     if sec is not None:
@@ -640,18 +669,19 @@ def _control_parts(
             info=info_of(sec, own_sec, osstage), fitted=sfit,
         )
         s_limits, s_labels = _limit_rows(
-            xa, sec, offset, carried=carried_mask(sec, sstage, sfit), set_name=set_name
+            xa, sec, offset, parts, carried=carried_mask(sec, sstage, sfit), set_name=set_name
         )
         datasets["secondary_limits"] = s_limits
         datasets["secondary_labels"] = s_labels
         if staged:
             datasets["secondary_own_labels"] = []
             if own_sec is not None:
-                o_rows, o_labels = _own_rows(xa, own_sec, osstage, offset)
-                datasets["secondary_limits"] = s_limits + _renumber(o_rows, len(s_limits))
+                o_rows, o_labels = _own_rows(xa, own_sec, osstage, offset, parts)
+                datasets["secondary_limits"] = s_limits + o_rows
                 datasets["secondary_own_labels"] = o_labels
     datasets["points"] = _point_rows(xa, ctx, main, second)
     datasets["point_info"] = keys.rows()
+    datasets["limit_parts"] = parts.rows
     datasets["bands"] = band_rows(xa, ctx.stage)
     datasets["events"] = event_rows(xa, ctx.events)
 
@@ -664,18 +694,12 @@ def _control_parts(
     return datasets, values_map, marked, sec_marked, labels
 
 
-def _renumber(rows: list[dict], start: int) -> list[dict]:
-    for k, r in enumerate(rows):
-        r["order"] = start + k
-    return rows
-
-
-def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int):
+def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int, parts: _Parts):
     """The after phase's own limits (stage 1 only), solid, labelled at the phase's start."""
     drawn = np.asarray(stage_arr, dtype=int) == 1
-    rows, _ = _limit_rows(xa, own, offset, drawn=drawn, set_name="after", label_prefix="after ")
-    for r in rows:
-        r["look"] = "solid"
+    rows, _ = _limit_rows(
+        xa, own, offset, parts, drawn=drawn, set_name="after", label_prefix="after ", solid=True
+    )
     labels = []
     first = int(np.argmax(drawn)) if drawn.any() else None
     if first is not None:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..analysis import MetricAnalysis
-from ..charts import box_chart, control_chart, histogram_chart, phase_pareto_chart
+from ..charts import box_chart, histogram_chart, phase_pareto_chart, staged_control_chart
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
@@ -61,20 +61,25 @@ def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[
         result: dict = {"id": m.id, "name": m.name}
         if a.control is not None and a.data.kind != "categories":
             sctx = series_context(a, spec)
-            staged = a.after_limits or a.control
             own = a.after_limits is not None
-            from ..stats import rules
-
-            sigs = tuple(rules.detect_signals(staged, m.signal_rules)) if own else a.signals
-            chart = control_chart(sctx, staged, sigs)
+            # Points are judged against the baseline limits carried forward (a.signals): the
+            # question on this page is whether the after data still fits the old process.
+            chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals)
             d.add("staged-control", "Control chart by phase", chart,
-                  method=("Each phase with its own limits, drawn as steps; the baseline limits "
-                          "are those of the project page." if own else
-                          "Baseline limits carried forward over the later points, so the after "
-                          "data is judged against the old process (the after phase has too few "
-                          "points for limits of its own)."))
-            result["staged_control_chart"] = {"own_after_limits": own, "chart": plain(staged),
-                                              "signals": signals_json(sigs, a.x)}
+                  method=("Baseline limits carried forward over the later points (dashed), and "
+                          "the after phase's own centre line and limits over the after phase "
+                          "(solid). Signals are judged against the baseline limits, so they "
+                          "show where the after data no longer fits the old process."
+                          if own else
+                          "Baseline limits carried forward over the later points (dashed); "
+                          "signals are judged against them, so they show where the after data "
+                          "no longer fits the old process. The after phase has too few points "
+                          "for limits of its own."))
+            staged = {"own_after_limits": own, "chart": plain(a.control),
+                      "signals": signals_json(a.signals, a.x)}
+            if own:
+                staged["after_chart"] = plain(a.after_limits)
+            result["staged_control_chart"] = staged
         if len(a.phase_boxes) > 1:
             chart = box_chart(a.phase_boxes, unit=m.unit)
             d.add("phase-box", "Box plots by phase", chart,
