@@ -402,6 +402,9 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
     r = _Reader(ck, data, "")
     d = PortfolioSettings()
     mb = r.number("max_file_mb")
+    if mb is not None and mb <= 0:
+        ck.add("max_file_mb", f"must be a positive number of megabytes, got {mb:g}; the default "
+               f"{d.max_file_mb:g} is used", ck.loc.line_of("max_file_mb"))
     settings = PortfolioSettings(
         title=r.text("title", default=d.title),
         signal_rules=r.choice("signal_rules", SIGNAL_RULES, d.signal_rules),
