@@ -357,6 +357,7 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
 
     d = spec["datasets"]
     info = {r["k"]: r for r in d[f"{prefix}point_info"]}
+    limits = {r["i"]: r["info"] for r in d.get("limit_info", [])}
     out = []
     for r in d[f"{prefix}points"]:
         v = r.get(f"v{suffix}")
@@ -373,9 +374,10 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
             "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
             "signals": sig or "",
         }
-        for f in ("info", "fitted"):
-            if f in k:
-                row[f] = k[f]
+        if "fitted" in k:
+            row["fitted"] = k["fitted"]
+        if f"i{suffix}" in r:
+            row["info"] = limits[r[f"i{suffix}"]]
         out.append(row)
     return out
 

@@ -7,12 +7,12 @@ import pytest
 from chart_fixtures import (
     MAIN_SIGNALS,
     N,
+    limit_pieces,
     make_ctx,
     make_individuals,
     make_p_chart,
     make_run_analysis,
     make_values,
-    limit_pieces,
     missing_fields,
     resolved_points,
     unit_views,

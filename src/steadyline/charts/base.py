@@ -440,7 +440,12 @@ def event_layers(is_time: bool) -> list[dict]:
     label = vl.view(
         "events",
         vl.mark(
-            "text", align="left", baseline="top", dx=3, dy=16, color=style.EVENT,
+            "text",
+            align="left",
+            baseline="top",
+            dx=3,
+            dy=16,
+            color=style.EVENT,
             fontStyle="italic",
         ),
         {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N")},

@@ -67,8 +67,11 @@ def _histogram_template(curve: bool) -> dict:
                 "kind:N",
                 scale={
                     "domain": list(_REF_KINDS),
-                    "range": [list(style.DASH_LIMIT), list(style.DASH_LIMIT),
-                              list(style.DASH_TARGET)],
+                    "range": [
+                        list(style.DASH_LIMIT),
+                        list(style.DASH_LIMIT),
+                        list(style.DASH_TARGET),
+                    ],
                 },
                 legend=None,
             ),
@@ -201,9 +204,7 @@ def histogram_chart(
 
 def _box_template() -> dict:
     def x() -> dict:
-        return vl.field(
-            "group:N", sort=list_slot("order"), axis={"title": None, "labelAngle": 0}
-        )
+        return vl.field("group:N", sort=list_slot("order"), axis={"title": None, "labelAngle": 0})
 
     def y(name: str) -> dict:
         return vl.field(f"{name}:Q", axis={"title": slot("y_title")}, scale={"zero": False})
@@ -270,8 +271,14 @@ def _box_template() -> dict:
         },
     )
     chart = vl.layer(
-        whisker, cap_lo, cap_hi, box, median, marks,
-        width="container", height=style.HEIGHT_DISTRIBUTION,
+        whisker,
+        cap_lo,
+        cap_hi,
+        box,
+        median,
+        marks,
+        width="container",
+        height=style.HEIGHT_DISTRIBUTION,
     )
     return finish_template(chart, "box-plot")
 

@@ -52,9 +52,10 @@ _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray ru
 #
 # Data layout (kept small: a page embeds only what is drawn). One row per plotted position in
 # ``points``: "x", the main chart's value "v", line piece "g" and key "k" into ``point_info``; a
-# chart with a dispersion companion adds "v2", "g2", "k2" to the same rows, so that positions are
-# written once. ``point_info`` holds the distinct (phase, limits text, used for limits, signals)
-# combinations that the tooltips show; the marker is computed in the view from them. Limit lines
+# control chart adds key "i" into ``limit_info`` (the limits at the point, as text); a chart with a
+# dispersion companion adds "v2", "g2", "k2", "i2" to the same rows, so that positions are written
+# once. ``point_info`` holds the distinct (phase, used for limits, signals) combinations that the
+# tooltips show; the marker is computed in the view from them. Limit lines
 # are "step-after" lines with one vertex per change ("p", "x", "y"), their pieces named once in
 # ``limit_parts``.
 
@@ -75,7 +76,7 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
     """Line broken at segment changes and gaps, plus points whose shape marks signals."""
     v = f"v{suf}"
     valid = {"filter": {"field": v, "valid": True}}
-    fields = ["stage", "info", "fitted", "signals"] if with_limits else ["stage", "signals"]
+    fields = ["stage", "fitted", "signals"] if with_limits else ["stage", "signals"]
     line = vl.view(
         "points",
         vl.mark("line", color=style.DATA, strokeWidth=1.3),
@@ -88,6 +89,16 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
             "lookup": f"k{suf}",
             "from": {"data": {"name": "point_info"}, "key": "k", "fields": fields},
         },
+        *(
+            [
+                {
+                    "lookup": f"i{suf}",
+                    "from": {"data": {"name": "limit_info"}, "key": "i", "fields": ["info"]},
+                }
+            ]
+            if with_limits
+            else []
+        ),
         {"calculate": _SIGNAL_TEST, "as": "marker"},
         {"calculate": "datum.signals || 'none'", "as": "signals"},
     ]
@@ -107,8 +118,10 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
             "y": _y(v, y_slot),
             "shape": vl.field(
                 "marker:N",
-                scale={"domain": list(_MARK_DOMAIN),
-                       "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
+                scale={
+                    "domain": list(_MARK_DOMAIN),
+                    "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL],
+                },
                 legend={"title": None},
             ),
             "color": vl.field(
@@ -117,8 +130,10 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
                 legend={"title": None},
             ),
             "size": {
-                "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'",
-                              "value": style.SIZE_SIGNAL},
+                "condition": {
+                    "test": f"datum.marker == '{MARK_SIGNAL}'",
+                    "value": style.SIZE_SIGNAL,
+                },
                 "value": style.SIZE_POINT,
             },
             "tooltip": tooltip,
@@ -269,26 +284,32 @@ def _x_format(ctx: SeriesContext) -> str:
     return "%Y-%m-%d %H:%M"
 
 
-class _InfoKeys:
-    """Distinct (phase, limits text, used-for-limits, signals) rows of ``point_info``, keyed
-    0, 1, ... in order of first use: the text a point's tooltip shows, written once."""
+class _Keys:
+    """Distinct tooltip texts of the points, each written once and keyed 0, 1, ... in order of
+    first use: ``point_info`` rows (phase, used for limits, signals) under "k" and
+    ``limit_info`` rows (the limits at the point) under "i"."""
 
     def __init__(self) -> None:
-        self.keys: dict[tuple, int] = {}
+        self.points: dict[tuple, int] = {}
+        self.limits: dict[str, int] = {}
 
-    def key(self, stage: str, info: str | None, fitted: bool | None, signals: str) -> int:
-        t = (stage, info, fitted, signals)
-        k = self.keys.get(t)
+    def key(self, stage: str, fitted: bool | None, signals: str) -> int:
+        t = (stage, fitted, signals)
+        k = self.points.get(t)
         if k is None:
-            k = self.keys[t] = len(self.keys)
+            k = self.points[t] = len(self.points)
         return k
 
-    def rows(self) -> list[dict]:
+    def info(self, text: str) -> int:
+        i = self.limits.get(text)
+        if i is None:
+            i = self.limits[text] = len(self.limits)
+        return i
+
+    def point_rows(self) -> list[dict]:
         out = []
-        for (stage, info, fitted, signals), k in self.keys.items():
+        for (stage, fitted, signals), k in self.points.items():
             row: dict = {"k": k, "stage": stage}
-            if info is not None:
-                row["info"] = info
             if fitted is not None:
                 row["fitted"] = "yes" if fitted else "no"
             if signals:
@@ -296,18 +317,21 @@ class _InfoKeys:
             out.append(row)
         return out
 
+    def limit_rows(self) -> list[dict]:
+        return [{"i": i, "info": text} for text, i in self.limits.items()]
+
 
 def _series_rows(
     ctx: SeriesContext,
     values: Sequence,
     marked: dict[int, list[str]],
-    keys: _InfoKeys,
+    keys: _Keys,
     offset: int = 0,
     info: Sequence[str] | None = None,
     fitted: Sequence[bool] | None = None,
 ) -> dict[int, tuple]:
-    """Per plotted index: (value, line piece, info key). Line pieces break at segment changes
-    and at missing values."""
+    """Per plotted index: (value, line piece, point key, limits key or None). Line pieces break
+    at segment changes and at missing values."""
     out: dict[int, tuple] = {}
     group = 0
     prev_seg = None
@@ -324,11 +348,10 @@ def _series_rows(
         prev_missing = False
         key = keys.key(
             ctx.stage[i],
-            info[k] if info is not None else None,
             bool(fitted[k]) if fitted is not None else None,
             "; ".join(marked.get(i, ())),
         )
-        out[i] = (f, group, key)
+        out[i] = (f, group, key, keys.info(info[k]) if info is not None else None)
     return out
 
 
@@ -343,10 +366,12 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
         for suf, series in (("", main), ("2", second)):
             if series is None or i not in series:
                 continue
-            v, g, k = series[i]
+            v, g, k, lim = series[i]
             row[f"v{suf}"] = v
             row[f"g{suf}"] = g
             row[f"k{suf}"] = k
+            if lim is not None:
+                row[f"i{suf}"] = lim
         rows.append(row)
     return rows
 
@@ -429,8 +454,9 @@ def _limit_rows(
         last = next(((i, y) for i, y in reversed(list(enumerate(ys))) if y is not None), None)
         if last is not None:
             i, y = last
-            labels.append({"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}",
-                           "kind": kind})
+            labels.append(
+                {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
+            )
     return rows, labels
 
 
@@ -510,7 +536,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     # crossings) is a statement about the whole series and is named in the subtitle only.
     local = [s for s in analysis.signals if 0 < len(s.indices) < n]
     marked = _signal_text(local, n)
-    keys = _InfoKeys()
+    keys = _Keys()
     points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys))
     median = num(analysis.median)
     median_text = "median " + with_unit(fmt(median), ctx.unit)
@@ -521,7 +547,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     )
     datasets = {
         "points": points,
-        "point_info": keys.rows(),
+        "point_info": keys.point_rows(),
         "centre": centre,
         "bands": band_rows(xa, ctx.stage),
         "events": event_rows(xa, ctx.events),
@@ -623,7 +649,7 @@ def _control_parts(
     sec_signals = [s for s in signals if s.chart == "secondary"]
     marked = _signal_text(main_signals, n)
     sec_marked = _signal_text(sec_signals, n, offset) if sec is not None else {}
-    keys = _InfoKeys()
+    keys = _Keys()
     parts = _Parts()
 
     def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> list[str]:
@@ -631,8 +657,9 @@ def _control_parts(
         if o is None:
             return info
         own_info = _limits_info(o)
-        return _join_info(info, [t if st == 1 else None for t, st in zip(own_info, stage_arr,
-                                                                        strict=True)])
+        return _join_info(
+            info, [t if st == 1 else None for t, st in zip(own_info, stage_arr, strict=True)]
+        )
 
     def carried_mask(c: ControlChart, stage_arr, fitted) -> np.ndarray | None:
         if not staged:
@@ -642,11 +669,19 @@ def _control_parts(
     set_name = "baseline" if staged else None
     own_stage = np.asarray(own.stage, dtype=int) if own is not None else None
     main = _series_rows(
-        ctx, chart.values, marked, keys,
-        info=info_of(chart, own, own_stage), fitted=chart.fitted,
+        ctx,
+        chart.values,
+        marked,
+        keys,
+        info=info_of(chart, own, own_stage),
+        fitted=chart.fitted,
     )
     limits, labels = _limit_rows(
-        xa, chart, 0, parts, carried=carried_mask(chart, chart.stage, chart.fitted),
+        xa,
+        chart,
+        0,
+        parts,
+        carried=carried_mask(chart, chart.stage, chart.fitted),
         set_name=set_name,
     )
     datasets = {"limits": limits, "labels": labels}
@@ -665,8 +700,13 @@ def _control_parts(
             own_sec = None
         osstage = _secondary_stage(own, offset) if own_sec is not None else None
         second = _series_rows(
-            ctx, sec.values, sec_marked, keys, offset=offset,
-            info=info_of(sec, own_sec, osstage), fitted=sfit,
+            ctx,
+            sec.values,
+            sec_marked,
+            keys,
+            offset=offset,
+            info=info_of(sec, own_sec, osstage),
+            fitted=sfit,
         )
         s_limits, s_labels = _limit_rows(
             xa, sec, offset, parts, carried=carried_mask(sec, sstage, sfit), set_name=set_name
@@ -680,7 +720,8 @@ def _control_parts(
                 datasets["secondary_limits"] = s_limits + o_rows
                 datasets["secondary_own_labels"] = o_labels
     datasets["points"] = _point_rows(xa, ctx, main, second)
-    datasets["point_info"] = keys.rows()
+    datasets["point_info"] = keys.point_rows()
+    datasets["limit_info"] = keys.limit_rows()
     datasets["limit_parts"] = parts.rows
     datasets["bands"] = band_rows(xa, ctx.stage)
     datasets["events"] = event_rows(xa, ctx.events)
@@ -756,7 +797,9 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
         if own_sec is not None and len(own_sec.values) == len(sec.values):
             after = _secondary_stage(own, offset) == 1
             for name, arr in (
-                ("centre line", own_sec.centre), ("LCL", own_sec.lower), ("UCL", own_sec.upper)
+                ("centre line", own_sec.centre),
+                ("LCL", own_sec.lower),
+                ("UCL", own_sec.upper),
             ):
                 vals = [v if a else None for v, a in zip(num_list(arr), after, strict=True)]
                 cols[f"after {abbr} {name}"] = pad + vals
@@ -831,8 +874,9 @@ def staged_control_chart(
         if (own.secondary is None) != (carried.secondary is None) or (
             own.secondary is not None and own_offset != offset
         ):
-            raise ValueError("the own-limits chart must have the same companion chart as the "
-                             "carried one")
+            raise ValueError(
+                "the own-limits chart must have the same companion chart as the carried one"
+            )
     sec = carried.secondary
     is_time = ctx.x_is_time
     has_sec = sec is not None
@@ -858,8 +902,9 @@ def staged_control_chart(
             f"after phase's own limits (solid) from {ctx.x[a]} to {ctx.x[b]} "
             f"({plural(len(after_idx), 'point')})"
         )
-    subtitle.append("signals judged against the baseline limits: "
-                    + _signals_sentence(signals, max_kinds=2))
+    subtitle.append(
+        "signals judged against the baseline limits: " + _signals_sentence(signals, max_kinds=2)
+    )
     subtitle += list(carried.notes)
     if sec is not None:
         subtitle.extend(sec.notes)
