@@ -82,6 +82,10 @@ def hostile_url(tmp_path_factory):
     thread.start()
     host, port = server.server_address[:2]
     pages = sorted(p.relative_to(root / "site").as_posix() for p in (root / "site").rglob("*.html"))
+    # a canary outside the site's pages: proves the watchers below do catch a payload that runs
+    (root / "site" / "canary.html").write_text(
+        "<!doctype html><title>c</title><script>window.__pwned=1;alert('canary')</script>"
+    )
     yield f"http://{host}:{port}/", pages
     server.shutdown()
     server.server_close()
@@ -163,7 +167,8 @@ def test_the_watchers_catch_a_payload_that_runs(chromium, hostile_url):
     seen = []
     page = ctx.new_page()
     page.on("dialog", lambda d: (seen.append(d.message), d.dismiss()))
-    page.goto(base + "canary.html")
+    response = page.goto(base + "canary.html")
+    assert response.ok, response.status
     assert seen == ["canary"]
     assert page.evaluate("() => [window.__pwned, window.__dialogs]") == [1, ["alert"]]
     ctx.close()
