@@ -206,14 +206,42 @@ def _merge(found: list[tuple[set[int], str | None]]) -> list[tuple[list[int], st
 
 def _runs(flags: np.ndarray, min_len: int) -> Iterator[tuple[int, int]]:
     """Maximal runs of True of at least ``min_len``: (start, stop) half-open."""
-    start = None
-    for i, f in enumerate(list(flags) + [False]):
-        if f and start is None:
-            start = i
-        elif not f and start is not None:
-            if i - start >= min_len:
-                yield start, i
-            start = None
+    f = np.asarray(flags, dtype=bool)
+    if f.size == 0:
+        return iter(())
+    edges = np.diff(np.concatenate([[False], f, [False]]).astype(np.int8))
+    starts = np.flatnonzero(edges == 1)
+    stops = np.flatnonzero(edges == -1)
+    keep = stops - starts >= min_len
+    return zip(starts[keep].tolist(), stops[keep].tolist(), strict=True)
+
+
+def _k_of_m(flags: np.ndarray, length: int, count: int) -> list[list[int]]:
+    """Groups of flagged points from windows of ``length`` holding ``count`` or more flags.
+
+    Detections whose flagged points overlap are merged (the same as merging every qualifying
+    window's set of flagged points when two sets share a point), in linear time.
+    """
+    n = flags.size
+    if n < length:
+        return []
+    csum = np.concatenate([[0], np.cumsum(flags, dtype=np.int64)])
+    window = csum[length:] - csum[:-length]
+    starts = np.flatnonzero(window >= count)
+    if starts.size == 0:
+        return []
+    flagged = np.flatnonzero(flags)
+    lo = flagged[np.searchsorted(flagged, starts, side="left")]
+    hi = flagged[np.searchsorted(flagged, starts + length, side="left") - 1]
+    reach = np.maximum.accumulate(hi)
+    breaks = np.flatnonzero(lo[1:] > reach[:-1]) + 1
+    group_lo = lo[np.concatenate([[0], breaks])]
+    group_hi = reach[np.concatenate([breaks - 1, [lo.size - 1]])]
+    out = []
+    for a, b in zip(group_lo.tolist(), group_hi.tolist(), strict=True):
+        i0, i1 = np.searchsorted(flagged, [a, b + 1])
+        out.append(flagged[i0:i1].tolist())
+    return out
 
 
 def _find(
@@ -222,19 +250,17 @@ def _find(
     n = v.size
     out: list[tuple[set[int], str | None]] = []
     if rule.test == "limits":
-        for i in range(n):
-            if not np.isnan(hi[i]) and v[i] > hi[i]:
-                out.append(({i}, "above"))
-            elif not np.isnan(lo[i]) and v[i] < lo[i]:
-                out.append(({i}, "below"))
-        return [(sorted(i), s) for i, s in out]
+        with np.errstate(invalid="ignore"):
+            above = ~np.isnan(hi) & (v > hi)
+            below = ~above & ~np.isnan(lo) & (v < lo)
+        hits = [(i, "above") for i in np.flatnonzero(above).tolist()]
+        hits += [(i, "below") for i in np.flatnonzero(below).tolist()]
+        return [([i], side) for i, side in sorted(hits)]
     if rule.test == "k-of-m":
         for side, flags in (("above", z > rule.zone), ("below", z < -rule.zone)):
-            for s in range(0, n - rule.length + 1):
-                window = flags[s : s + rule.length]
-                if window.sum() >= rule.count:
-                    out.append(({s + int(j) for j in np.flatnonzero(window)}, side))
-        return _merge(out)
+            out += [(set(g), side) for g in _k_of_m(flags, rule.length, rule.count)]
+        out.sort(key=lambda item: min(item[0]))
+        return [(sorted(i), s) for i, s in out]
     if rule.test == "run-side":
         res = []
         for side, flags in (("above", z > 0), ("below", z < 0)):

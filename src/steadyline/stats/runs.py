@@ -142,15 +142,42 @@ def _as_array(values: Sequence[float] | np.ndarray) -> np.ndarray:
     return x
 
 
-def _runs_of_sides(useful_idx: np.ndarray, sides: np.ndarray) -> list[tuple[int, list[int]]]:
-    """Group useful points into runs on one side; returns (side, indices) per run."""
-    runs: list[tuple[int, list[int]]] = []
-    for idx, s in zip(useful_idx.tolist(), sides.tolist(), strict=True):
-        if runs and runs[-1][0] == s:
-            runs[-1][1].append(idx)
+class _SideRuns:
+    """Runs of useful points on one side of the median, found with numpy.
+
+    Only the runs asked for (``at_least``) are turned into index lists, so a long series costs
+    little more than one pass over its points.
+    """
+
+    def __init__(self, useful_idx: np.ndarray, sides: np.ndarray):
+        self.idx = useful_idx
+        self.sides = sides
+        if sides.size:
+            starts = np.concatenate([[0], np.flatnonzero(sides[1:] != sides[:-1]) + 1])
         else:
-            runs.append((s, [idx]))
-    return runs
+            starts = np.zeros(0, dtype=int)
+        self.starts = starts
+        self.lengths = np.diff(np.concatenate([starts, [sides.size]])).astype(int)
+
+    def __len__(self) -> int:
+        return int(self.starts.size)
+
+    @property
+    def longest(self) -> int:
+        return int(self.lengths.max()) if self.lengths.size else 0
+
+    def at_least(self, k: int) -> list[tuple[int, list[int]]]:
+        """(side, indices) of every run of k or more points, in order."""
+        out = []
+        for j in np.flatnonzero(self.lengths >= k).tolist():
+            a = int(self.starts[j])
+            out.append((int(self.sides[a]), self.idx[a:a + int(self.lengths[j])].tolist()))
+        return out
+
+
+def _runs_of_sides(useful_idx: np.ndarray, sides: np.ndarray) -> _SideRuns:
+    """Group useful points into runs on one side."""
+    return _SideRuns(useful_idx, sides)
 
 
 def _trends(x: np.ndarray, min_points: int) -> list[tuple[str, list[int]]]:
@@ -239,10 +266,10 @@ def analyse_runs(
         )
     sides = np.where(x[useful_idx] > centre, 1, -1)
     runs = _runs_of_sides(useful_idx, sides)
-    longest = max((len(r[1]) for r in runs), default=0)
+    longest = runs.longest
     crossings = max(len(runs) - 1, 0)
     n_runs = len(runs)
-    all_useful = tuple(int(i) for i in useful_idx)
+    all_useful = tuple(useful_idx.tolist())
 
     if n_useful < MIN_RELIABLE_POINTS:
         notes.append(
@@ -264,7 +291,7 @@ def analyse_runs(
         else:
             longest_limit = None
         if longest_limit is not None:
-            for s, idx in runs:
+            for s, idx in runs.at_least(longest_limit + 1):
                 if len(idx) > longest_limit:
                     signals.append(
                         Signal(
@@ -290,7 +317,7 @@ def analyse_runs(
             )
     else:
         longest_limit = PERLA_SHIFT_LENGTH
-        for s, idx in runs:
+        for s, idx in runs.at_least(PERLA_SHIFT_LENGTH):
             if len(idx) >= PERLA_SHIFT_LENGTH:
                 signals.append(
                     Signal(
