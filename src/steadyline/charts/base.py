@@ -136,7 +136,8 @@ def make_spec(
     subtitle: Sequence[str] = (),
 ) -> dict:
     spec = fill(template, values)
-    spec["datasets"] = datasets
+    # display precision in the page (the table, built from the caller's rows, keeps it all)
+    spec["datasets"] = {name: [_display_row(r) for r in rows] for name, rows in datasets.items()}
     t: dict = {"text": title}
     sub = [s for s in subtitle if s]
     if sub:
@@ -180,6 +181,12 @@ def disp(v) -> float | int | None:
     and shown in tooltips; results.json and the CSV keep full precision), None when missing."""
     f = num(v)
     return None if f is None else _round6(f)
+
+
+def _display_row(row: dict) -> dict:
+    return {
+        k: (_round6(v) if isinstance(v, float) and math.isfinite(v) else v) for k, v in row.items()
+    }
 
 
 def disp_list(values) -> list:

@@ -892,8 +892,7 @@ def staged_control_chart(
     title += " by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
     first = (
-        _fitted_sentence(ctx, carried.fitted).replace("limits from", "baseline limits from", 1)
-        + ", carried forward (dashed)"
+        _fitted_sentence(ctx, carried.fitted) + ", carried forward over the later points (dashed)"
     )
     subtitle = [first]
     if len(after_idx):
