@@ -4,6 +4,18 @@
 (function () {
   "use strict";
 
+  /* Vega-Lite gives each part of a stacked (vconcat) chart the container's full width for its
+     plot and adds axes on top, so stacked charts would overflow their card: give them a width
+     that leaves room for the axes instead. */
+  function fitStacked(spec, target) {
+    if (!spec || !Array.isArray(spec.vconcat)) { return spec; }
+    var width = Math.max(240, Math.floor(target.clientWidth) - 110);
+    spec.vconcat.forEach(function (part) {
+      if (part && part.width === "container") { part.width = width; }
+    });
+    return spec;
+  }
+
   function drawCharts() {
     var blocks = document.querySelectorAll("script.chart-spec");
     if (!blocks.length || typeof window.vegaEmbed !== "function") { return Promise.resolve([]); }
@@ -17,6 +29,7 @@
         target.textContent = "This chart's description could not be read.";
         return;
       }
+      spec = fitStacked(spec, target);
       var job = window.vegaEmbed(target, spec, {
         ast: true,                      // expression interpreter: works without 'unsafe-eval'
         renderer: "svg",

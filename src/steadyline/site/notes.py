@@ -7,6 +7,7 @@ below survive, and links keep only the http(s) and mailto schemes or relative ad
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import markdown
@@ -26,10 +27,26 @@ ALLOWED_ATTRIBUTES = {
 URL_SCHEMES = {"http", "https", "mailto"}
 
 
+# Relative links that lead to something the site publishes: its pages, results and downloads,
+# and other projects' pages. A relative link to anything else (the project's raw CSV files, which
+# the site does not publish) keeps its text and loses its address, so readers meet no dead link.
+_PUBLISHED = re.compile(r"^(?:\.\./[a-z0-9][a-z0-9-]*/)?(?:index\.html|history\.html|"
+                        r"results\.json|data/[^/]+\.(?:csv|vl\.json))?(?:#[^\s]*)?$")
+
+
+def _keep_link(tag: str, attr: str, value: str) -> str | None:
+    if tag == "a" and attr == "href":
+        v = value.strip()
+        if v.startswith(("http://", "https://", "mailto:", "#")):
+            return value
+        return value if v and _PUBLISHED.match(v) else None
+    return value
+
+
 def sanitise(html: str) -> str:
     return nh3.clean(html, tags=ALLOWED_TAGS, attributes=ALLOWED_ATTRIBUTES,
                      url_schemes=URL_SCHEMES, link_rel="noopener noreferrer",
-                     strip_comments=True)
+                     strip_comments=True, attribute_filter=_keep_link)
 
 
 def render_markdown(text: str) -> str:

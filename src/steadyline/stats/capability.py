@@ -69,6 +69,8 @@ def bissell_interval(cpk: float, n: int, level: float = 0.95) -> tuple[float, fl
     if n < 2:
         raise StatsError(f"a Cpk interval needs at least two values, got {n}")
     z = float(_st.norm.ppf(0.5 + level / 2))
+    if not math.isfinite(cpk) or abs(cpk) > 1e150:
+        raise StatsError(f"a Cpk interval needs a finite, moderate Cpk, got {cpk:g}")
     half = z * math.sqrt(1.0 / (9 * n) + cpk**2 / (2 * (n - 1)))
     return cpk - half, cpk + half
 
@@ -141,7 +143,10 @@ def capability(
         outside |= x > usl
     ppm_observed = 1e6 * float(outside.sum()) / n
 
-    cpk_ci = bissell_interval(cpk, n) if cpk is not None else None
+    try:
+        cpk_ci = bissell_interval(cpk, n) if cpk is not None else None
+    except StatsError:
+        cpk_ci = None  # an absurd Cpk has no meaningful interval
 
     if not stable:
         why = f" ({unstable_reason.rstrip('.')})" if unstable_reason else ""

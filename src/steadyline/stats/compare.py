@@ -162,6 +162,8 @@ def compare(
                 statistic = p = None
             else:
                 se = math.sqrt(pooled * (1 - pooled) * (1 / eb + 1 / ea))
+                if se == 0 or not math.isfinite(se):
+                    raise StatsError("the numbers checked are too large to compare proportions")
                 statistic = (va - vb) / se
                 p = float(2 * _st.norm.sf(abs(statistic)))
         else:
