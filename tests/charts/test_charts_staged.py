@@ -125,9 +125,9 @@ def test_signals_marked_as_on_the_control_chart_and_named_in_the_subtitle():
     assert sec[make_ctx().x[25]]["marker"] == MARK_SIGNAL
     sub = staged.spec["title"]["subtitle"]
     assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
-    assert "carried forward" in sub[0]
+    assert sub[0].endswith("dashed where carried forward; signals judged against these")
     assert sub[1] == "after phase's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"
-    assert sub[2].startswith("signals judged against the baseline limits: 3 signals")
+    assert sub[2].startswith("3 signals: beyond the 3σ limits")
     # the tooltip names both sets of limits on after points
     info = resolved_points(staged.spec)[-1]["info"]
     assert info == "CL 30, UCL 44.4; after: LCL 21, CL 31, UCL 41"

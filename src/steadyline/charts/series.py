@@ -195,9 +195,16 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
             }
         ],
     )
+    # Plain chart: labels right of the plot. Staged chart: the longer "baseline UCL ..." labels
+    # sit inside the plot, right-aligned just above their lines, so the chart keeps its width.
+    label_mark = (
+        vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2, color=style.INK)
+        if staged
+        else vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK)
+    )
     labels = vl.view(
         f"{prefix}labels",
-        vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK),
+        label_mark,
         {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
     )
     layers = [segs, labels]
@@ -892,7 +899,8 @@ def staged_control_chart(
     title += " by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
     first = (
-        _fitted_sentence(ctx, carried.fitted) + ", carried forward over the later points (dashed)"
+        _fitted_sentence(ctx, carried.fitted)
+        + ", dashed where carried forward; signals judged against these"
     )
     subtitle = [first]
     if len(after_idx):
@@ -901,9 +909,7 @@ def staged_control_chart(
             f"after phase's own limits (solid) from {ctx.x[a]} to {ctx.x[b]} "
             f"({plural(len(after_idx), 'point')})"
         )
-    subtitle.append(
-        "signals judged against the baseline limits: " + _signals_sentence(signals, max_kinds=2)
-    )
+    subtitle.append(_signals_sentence(signals, max_kinds=2))
     subtitle += list(carried.notes)
     if sec is not None:
         subtitle.extend(sec.notes)
