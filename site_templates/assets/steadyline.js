@@ -9,7 +9,7 @@
      that leaves room for the axes instead. */
   function fitStacked(spec, target) {
     if (!spec || !Array.isArray(spec.vconcat)) { return spec; }
-    var width = Math.max(240, Math.floor(target.clientWidth) - 110);
+    var width = Math.max(240, Math.floor(target.clientWidth) - 150);
     spec.vconcat.forEach(function (part) {
       if (part && part.width === "container") { part.width = width; }
     });

@@ -122,6 +122,8 @@ def _fd_bins_needed(x: np.ndarray) -> int:
     if not width > 0:
         return 1
     k = (float(x.max()) - float(x.min())) / width
+    if not math.isfinite(k):  # a subnormal width: far more bins than any guard allows
+        return 10**15
     return int(min(math.ceil(k), 10**15))
 
 
