@@ -180,11 +180,18 @@ def analyse(data: MetricData) -> MetricAnalysis:
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
         res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
                               spec.better, baseline_sizes=bs, after_sizes=as_,
-                              target=spec.target, metric=spec.name, unit=spec.unit)
+                              target=spec.target, metric=_subject(spec.name, data.kind),
+                              unit=spec.unit)
         if res.run is not None:
             res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
                                    res.run.median, spec.run_rules)
     return res
+
+
+def _subject(name: str, kind: str) -> str:
+    """The metric's name as the subject of a sentence: 'the proportion of orders with …'."""
+    lowered = name[:1].lower() + name[1:] if name[1:2].islower() else name
+    return f"proportion of {lowered}" if kind == "defectives" else lowered
 
 
 def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:

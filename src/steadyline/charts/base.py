@@ -387,15 +387,20 @@ def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
         # one named phase: label it, no shading needed
         a, b, name = runs[0]
         return [
-            {"x": xa.half_before(a), "x2": xa.half_after(b), "stage": name, "fill": style.WHITE}
+            {"x": xa.half_before(a), "x2": xa.half_after(b), "stage": name, "label": name,
+             "fill": style.WHITE}
         ]
     rows = []
+    total = sum(b - a + 1 for a, b, _ in runs)
     for k, (a, b, name) in enumerate(runs):
+        # A band too narrow for its name keeps it in the tooltip only (labels would overlap).
+        wide = (b - a + 1) >= max(3, 0.1 * total)
         rows.append(
             {
                 "x": xa.half_before(a),
                 "x2": xa.half_after(b),
                 "stage": name,
+                "label": name if wide else "",
                 "fill": style.BAND_FILLS[k % 2],
             }
         )
@@ -427,7 +432,7 @@ def band_layers(is_time: bool) -> list[dict]:
     label = vl.view(
         "bands",
         vl.mark("text", align="left", baseline="top", dx=3, dy=2, fontWeight=600),
-        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("stage:N")},
+        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N")},
     )
     return [rect, label]
 

@@ -10,6 +10,7 @@ from .cards import Displays, capability_rows, fmt, pct, series_context, signals_
 from .serialise import plain
 from .templates import render
 
+RUN_RULE_NAMES = {"anhoj": "Anhøj rules", "perla": "shift, trend and runs rules"}
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
                 "rate": "Rate"}
 
@@ -42,13 +43,13 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
                              else ""),
          {True: "in the better direction", False: "in the worse direction",
           None: "direction not judged"}[c.improved]),
-        ("Test", c.test, f"p = {format_p_value(c.p_value)}"),
+        ("Test", c.test, format_p_value(c.p_value)),
     ]
     if a.after_shift is not None:
         sh = a.after_shift
         rows.append(("Sustained shift", "yes" if sh.signals else "no",
                      f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
-                     f" by the {sh.rule_set.capitalize()} rules"))
+                     f" by the {RUN_RULE_NAMES.get(sh.rule_set, sh.rule_set)}"))
     return rows
 
 

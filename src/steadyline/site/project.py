@@ -404,6 +404,14 @@ def headline_text(a: MetricAnalysis) -> str:
         return (f"{len(a.pareto.vital_few)} of {len(a.pareto.categories)} categories make up "
                 f"{a.pareto.threshold:.0f}% of {a.pareto.total:g}.")
     if a.run is not None:
+        pts = a.data.points
+        base = pts[pts["stage"] == STAGE_BASELINE] if (pts["stage"] == STAGE_BASELINE).any() else pts
+        if a.data.kind == "defectives":
+            return (f"Baseline proportion {pct(base['count'].sum() / base['size'].sum())}; "
+                    "no after period yet.")
+        if a.data.kind == "defects":
+            return (f"Baseline rate {fmt(base['count'].sum() / base['size'].sum(), unit, 3)}; "
+                    "no after period yet.")
         return f"Baseline median {fmt(a.run.median, unit, 3)}; no after period yet."
     return "No summary available."
 
