@@ -412,7 +412,10 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     rows = []
     for when, label in events:
         if xa.in_range(when):
-            rows.append({"x": time_text(when), "label": str(label), "when": str(when)})
+            # Successive events step down one line each (three levels), so that labels of
+            # events close in time do not print over each other.
+            rows.append({"x": time_text(when), "label": str(label), "when": str(when),
+                         "y": 16 + 12 * (len(rows) % 3)})
     return rows
 
 
@@ -456,10 +459,9 @@ def event_layers(is_time: bool) -> list[dict]:
             align="left",
             baseline="top",
             dx=3,
-            dy=16,
             color=style.EVENT,
             fontStyle="italic",
         ),
-        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N")},
+        {"x": x_encoding(is_time), "y": vl.field("y:Q", scale=None), "text": vl.field("label:N")},
     )
     return [rule, label]

@@ -154,7 +154,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             d.add("control", title, chart,
                   advice.control_findings(a.control, a.signals, a.x, signal_label, a.stage_names),
                   advice.control_cautions(a.control),
-                  f"{a.choice.reason if a.choice else ''} Sigma: {a.control.sigma_method}. "
+                  f"{_sentence(a.choice.reason) if a.choice else ''} "
+                  f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
                   f"; rules: {signal_label}.")
             result["control_chart"] = {
@@ -224,6 +225,15 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     result["open_signals"] = open_signals
     return section, result
+
+
+def _sentence(text: str) -> str:
+    """A phrase as a sentence: capital first letter, full stop at the end."""
+    text = text.strip()
+    if not text:
+        return text
+    text = text[0].upper() + text[1:]
+    return text if text.endswith((".", "!", "?")) else text + "."
 
 
 def _after_labels(a: MetricAnalysis) -> tuple[str, ...]:
