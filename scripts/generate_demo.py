@@ -202,7 +202,8 @@ def wheel_build_lead_time() -> dict[str, str]:
              "rollup": {"period": "day", "statistic": "mean"}},
             {"id": "lead-time-order", "name": "Lead time per order", "file": "orders.csv",
              "type": "continuous", "time": "completed", "value": "lead_time_h",
-             "unit": "hours", "better": "lower", "spec_upper": 72.0, "limits": "per-phase"},
+             "unit": "hours", "better": "lower", "spec_upper": 72.0, "limits": "per-phase",
+             "bins": [0.0, 12.0, 24.0, 36.0, 48.0, 60.0, 72.0, 84.0, 96.0, 108.0, 120.0]},
         ],
     }
     notes = """\
@@ -290,7 +291,7 @@ def spoke_tension() -> dict[str, str]:
              "file": "spoke_tension.csv", "type": "subgroups", "time": "measured",
              "value": "tension_kgf", "subgroup": "wheel_id", "unit": "kgf",
              "better": "target", "spec_lower": 110.0, "spec_upper": 130.0, "target": 120.0,
-             "headline": True, "normal_curve": True},
+             "headline": True, "normal_curve": True, "quartiles": "tukey-hinges"},
         ],
     }
     notes = """\
@@ -517,6 +518,10 @@ def wheel_truing_first_pass_yield() -> dict[str, str]:
              "type": "defectives", "time": "week_start", "count": "wheels_retrued",
              "size": "wheels_checked", "unit": "wheels", "better": "lower", "headline": True,
              "chart": "laney-p"},
+            {"id": "nipple-audit", "name": "Cracked nipples in the daily audit of 200",
+             "file": "nipple_audit.csv", "type": "defectives", "time": "audited",
+             "count": "cracked", "size": "nipples_checked", "unit": "nipples",
+             "better": "lower"},
         ],
     }
     notes = """\
@@ -544,7 +549,17 @@ than after it.
 
 Weekly counts: [truing_weekly.csv](truing_weekly.csv).
 """
-    return {"project.toml": toml_text(meta), "truing_weekly.csv":
+    audit_rng = rng_for(50)  # a stream of its own: the other files stay as they were
+    audit_rows = []
+    for day in working_days(D(2026, 1, 5), D(2026, 10, 30)):
+        p_crack = 0.03 if day < D(2026, 6, 1) else 0.015
+        audit_rows.append([day.isoformat(), "200", str(int(audit_rng.binomial(200, p_crack)))])
+    notes = notes.replace("Weekly counts:", "A sample of 200 spoke nipples is checked for "
+                          "cracks each working day:\n[nipple_audit.csv](nipple_audit.csv).\n\n"
+                          "Weekly counts:")
+    return {"project.toml": toml_text(meta),
+            "nipple_audit.csv": csv_text(["audited", "nipples_checked", "cracked"], audit_rows),
+            "truing_weekly.csv":
             csv_text(["week_start", "wheels_checked", "wheels_retrued"], rows),
             "notes.md": notes}
 
@@ -604,6 +619,10 @@ def paint_finish_defects() -> dict[str, str]:
              "file": "paint_batches.csv", "type": "defects", "time": "painted",
              "count": "defects", "size": "frames_painted", "unit": "defects per frame",
              "better": "lower", "headline": True},
+            {"id": "scanner-blemishes", "name": "Scanner blemishes per square metre",
+             "file": "paint_scanner_weekly.csv", "type": "defects", "time": "week_start",
+             "count": "blemishes", "size": "area_m2", "unit": "blemishes per m²",
+             "better": "lower"},
             {"id": "defect-types", "name": "Finish defects by type", "file": "paint_defects.csv",
              "type": "categories", "time": "found", "category": "defect_type",
              "unit": "defects", "better": "lower"},
@@ -637,7 +656,20 @@ at air handling in the booth rather than at the powder or the gun settings.
 Batch totals are in [paint_batches.csv](paint_batches.csv), single defects in
 [paint_defects.csv](paint_defects.csv).
 """
+    scan_rng = rng_for(60)  # a stream of its own: the other files stay as they were
+    scan_rows = []
+    for wk in mondays(D(2026, 1, 5), D(2026, 8, 31)):
+        rate = 0.25 if wk < D(2026, 4, 20) else 0.15
+        # week-to-week variation beyond Poisson (powder lots, humidity): Laney u' territory
+        rate *= float(np.exp(scan_rng.normal(0.0, 0.12)))
+        area = float(scan_rng.uniform(1800.0, 3200.0))
+        scan_rows.append([wk.isoformat(), f"{area:.1f}", str(int(scan_rng.poisson(rate * area)))])
+    notes = notes.replace("Batch totals are in", "The inline scanner counts small blemishes over "
+                          "the painted area each week:\n[paint_scanner_weekly.csv]"
+                          "(paint_scanner_weekly.csv).\n\nBatch totals are in")
     return {"project.toml": toml_text(meta),
+            "paint_scanner_weekly.csv": csv_text(["week_start", "area_m2", "blemishes"],
+                                                 scan_rows),
             "paint_batches.csv": csv_text(["batch_id", "painted", "frames_painted", "defects"],
                                           batch_rows),
             "paint_defects.csv": csv_text(["defect_id", "batch_id", "found", "frame_in_batch",
@@ -702,7 +734,7 @@ def customer_returns() -> dict[str, str]:
             {"id": "returns-weekly", "name": "Returned components per week",
              "file": "returns_weekly.csv", "type": "defects", "time": "week_start",
              "count": "returns", "unit": "returns per week", "better": "lower",
-             "headline": True},
+             "headline": True, "run_rules": "perla"},
             {"id": "return-reasons", "name": "Return reasons", "file": "returns.csv",
              "type": "categories", "time": "received", "category": "reason",
              "unit": "returns", "better": "lower"},

@@ -85,7 +85,21 @@ def test_every_chart_kind_of_the_family_is_used_by_the_demo(demo_site: Path):
         for m in json.loads(res.read_text("utf-8"))["metrics"]:
             if "control_chart" in m:
                 kinds.add(m["control_chart"]["choice"]["kind"])
-    assert {"xmr", "xbar-r", "xbar-s", "p", "u", "c", "laney-p"} <= kinds
+    assert kinds == {"xmr", "xbar-r", "xbar-s", "p", "np", "c", "u", "laney-p", "laney-u"}
+
+
+def test_the_demo_uses_every_setting_of_the_methods(demo_site: Path):
+    rules = set()
+    for res in (demo_site / "projects").glob("*/results.json"):
+        for m in json.loads(res.read_text("utf-8"))["metrics"]:
+            r = m["rules"]
+            rules |= {("signal", r["signal_rules"]), ("runs", r["run_rules"]),
+                      ("limits", r["limits"]), ("quartiles", r["quartiles"]),
+                      ("bins", "edges" if isinstance(r["bins"], list) else r["bins"])}
+    assert {("signal", "western-electric"), ("signal", "nelson"), ("runs", "anhoj"),
+            ("runs", "perla"), ("limits", "baseline"), ("limits", "per-phase"),
+            ("quartiles", "linear"), ("quartiles", "tukey-hinges"), ("bins", "fd"),
+            ("bins", "sturges"), ("bins", "edges")} <= rules
 
 
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):

@@ -110,7 +110,8 @@ def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> l
 
 
 def run_cautions(run: RunChartAnalysis) -> list[str]:
-    out = list(run.notes)
+    # The rule set in use is stated in the card's method line; the rest of the notes are cautions.
+    out = [n for n in run.notes if not n.startswith("Rules used:")]
     if run.n < RUN_CHART_MIN_POINTS:
         out.append(f"Only {run.n} points: a run chart wants {RUN_CHART_MIN_POINTS} or more before "
                    "its rules are read with confidence (common practice).")
