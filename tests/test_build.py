@@ -36,14 +36,6 @@ def copy_projects(dst: Path, slugs=SMALL) -> Path:
     return dst
 
 
-@pytest.fixture(scope="session")
-def demo_site(tmp_path_factory) -> Path:
-    out = tmp_path_factory.mktemp("demo") / "site"
-    report = build(BuildOptions(DEMO, out, jobs=2))
-    assert report.ok, [p.format() for p in report.problems]
-    return out
-
-
 def _no_nan(text: str):
     def bad(c):
         raise AssertionError(f"non-JSON constant {c} in results.json")
