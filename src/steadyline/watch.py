@@ -33,13 +33,12 @@ from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
 
 from .errors import BuildError, Problem, SteadylineError
+from .site.common import is_ignored
 
 QUIET_S = 0.3
 CAP_S = 3.0
 PORTFOLIO_FILE = "portfolio.toml"
 
-# Endings of the files editors and office suites write beside the real one while saving.
-_TEMP_SUFFIXES = (".swp", ".swo", ".swx", ".swpx", ".tmp", ".part", ".crdownload")
 # Event kinds that say nothing about content: reading a file (the build does it!) or touching it.
 _IGNORED_EVENT_TYPES = frozenset({"opened", "closed_no_write", "attrib"})
 
@@ -48,20 +47,7 @@ _IGNORED_EVENT_TYPES = frozenset({"opened", "closed_no_write", "attrib"})
 # pure parts
 
 
-def is_ignored(name: str) -> bool:
-    """True for a file name no rebuild should follow: hidden, swap, backup, lock or temp files.
 
-    Covers ``.#x`` (Emacs lock), ``#x#`` (Emacs auto-save), ``x~`` (backups), ``.x.swp``
-    (Vim swap), ``4913`` (Vim's write test), ``.~lock.x#`` and ``~$x`` (office locks),
-    ``x.tmp`` / ``x.part``.
-    """
-    if not name:
-        return True
-    return (name.startswith((".", "~"))
-            or name.endswith("~")
-            or (name.startswith("#") and name.endswith("#"))
-            or name.lower().endswith(_TEMP_SUFFIXES)
-            or name == "4913")
 
 
 def _parts_under(path: str | os.PathLike, root: str | os.PathLike) -> tuple[str, ...] | None:

@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import json
 import os
-import sys
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import get_context
@@ -30,7 +29,7 @@ from .. import __version__
 from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
-from .project import ProjectOutcome, build_project, error_outcome, input_hash, page_context
+from .common import ProjectOutcome, input_hash, page_context
 from .publish import clean_stale, link_or_copy, publish, staging_dir, write_files
 from .serialise import dumps
 from .templates import render, templates_fingerprint
@@ -78,6 +77,8 @@ def _read_manifest(out: Path) -> dict:
 
 
 def _worker(args) -> ProjectOutcome:
+    from .project import build_project  # the statistics stack: loaded only when needed
+
     folder, root, settings, live, debug = args
     return build_project(folder, root, settings, live=live, debug=debug)
 
@@ -179,7 +180,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
             for slug in sorted(entries)
         },
     }
-    manifest_bytes = (dumps(new_manifest) + "\n").encode()
+    manifest_bytes = (dumps(new_manifest, indent=None) + "\n").encode()
     report.stamps = {slug: hashes[slug][:16] for slug in entries}
     report.stamps["__index__"] = __import__("hashlib").sha256(index).hexdigest()[:16]
 
@@ -232,6 +233,8 @@ def check(projects_dir: Path) -> list[Problem]:
     """Validate every project (metadata, data, statistics) without writing anything."""
     if not projects_dir.is_dir():
         raise BuildError(f"{projects_dir}: the projects folder does not exist")
+    from .project import build_project
+
     settings, problems = load_portfolio(projects_dir)
     problems = list(problems)
     for folder in discover(projects_dir):
@@ -240,4 +243,4 @@ def check(projects_dir: Path) -> list[Problem]:
     return problems
 
 
-__all__ = ["BuildOptions", "BuildReport", "build", "check", "error_outcome", "sys"]
+__all__ = ["BuildOptions", "BuildReport", "build", "check"]

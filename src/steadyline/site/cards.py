@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import csv
-import io
+import math
 
 import numpy as np
+import pandas as pd
 from markupsafe import Markup
 
 from ..analysis import MetricAnalysis
@@ -35,16 +35,23 @@ def pct(v: float | None) -> str:
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
 
+def _number_cell(f: float) -> str:
+    if f != f or f in (math.inf, -math.inf):
+        return ""
+    return str(int(f)) if f.is_integer() and abs(f) < 1e15 else repr(f)
+
+
 def safe_cell(v) -> str:
     """A CSV cell that a spreadsheet will not run as a formula; numbers stay unchanged."""
+    t = type(v)
+    if t is float:  # the common case first: chart tables are mostly numbers
+        return _number_cell(v)
     if v is None:
         return ""
-    if isinstance(v, bool):
+    if t is bool or isinstance(v, np.bool_):
         return "true" if v else "false"
     if isinstance(v, int | float | np.integer | np.floating):
-        f = float(v)
-        return "" if not np.isfinite(f) else (str(int(f)) if f.is_integer() and abs(f) < 1e15
-                                               else repr(f))
+        return _number_cell(float(v))
     s = str(v)
     if s.startswith(_FORMULA_START):
         try:
@@ -56,12 +63,18 @@ def safe_cell(v) -> str:
 
 
 def table_csv(chart: ChartSpec) -> bytes:
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow([safe_cell(c) for c in chart.columns])
-    for row in chart.table:
-        w.writerow([safe_cell(row.get(c)) for c in chart.columns])
-    return buf.getvalue().encode("utf-8")
+    """The chart's table as CSV: numbers as they are, text cells made safe for spreadsheets."""
+    cols = list(chart.columns)
+    df = pd.DataFrame.from_records(chart.table, columns=cols) if chart.table else \
+        pd.DataFrame(columns=cols)
+    for c in cols:
+        kind = df[c].dtype.kind
+        if kind == "b":
+            df[c] = df[c].map({True: "true", False: "false"})
+        elif kind not in "iuf":  # text (object or string dtype): made safe cell by cell
+            df[c] = [safe_cell(v) for v in df[c]]
+    df.columns = [safe_cell(c) for c in cols]
+    return df.to_csv(index=False, lineterminator="\n").encode("utf-8")
 
 
 def _cell(v) -> str:

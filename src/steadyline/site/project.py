@@ -7,10 +7,8 @@ whose files have errors returns an error page instead; the rest of the site is u
 
 from __future__ import annotations
 
-import hashlib
 import subprocess
 import traceback
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -37,14 +35,12 @@ from .cards import (
     series_context,
     signals_json,
 )
+from .common import ProjectOutcome, input_hash, page_context
 from .history import history_page
 from .notes import render_notes
 from .serialise import dumps, plain
 from .templates import render
 
-CSP = ("default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "
-       "img-src 'self' data: blob:; connect-src 'self'; font-src 'self'; "
-       "base-uri 'none'; form-action 'none'; object-src 'none'")
 RESULTS_SCHEMA = "steadyline-results/1"
 SIGNAL_RULE_LABELS = {
     "western-electric": "Western Electric zone rules",
@@ -60,20 +56,6 @@ DATA_TEXT = {
 BETTER_TEXT = {"lower": "lower values", "higher": "higher values",
                "target": "values close to the target"}
 PHASE_LABEL = {p: p.capitalize() for p in PHASES}
-
-
-@dataclass
-class ProjectOutcome:
-    slug: str
-    ok: bool
-    files: dict[str, bytes] = field(default_factory=dict)
-    entry: dict = field(default_factory=dict)
-    problems: list[Problem] = field(default_factory=list)  # errors and warnings, for the terminal
-
-
-def page_context(root: str, settings: PortfolioSettings, live: str | None) -> dict:
-    return {"root": root, "portfolio_title": settings.title, "version": __version__,
-            "csp": CSP, "live": live}
 
 
 def build_project(folder: Path, root: Path, settings: PortfolioSettings,
@@ -357,7 +339,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
         "input_notes": [p.format() for p in problems],
         "provenance": prov,
     }
-    files["results.json"] = (dumps(doc) + "\n").encode()
+    files["results.json"] = (dumps(doc, indent=None) + "\n").encode()
     entry = index_entry(spec, analyses, sections, problems, has_history)
     # Displays the statistics could not draw are warnings for `check` and the terminal too.
     stats_notes = [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
@@ -442,17 +424,6 @@ def sparkline(a: MetricAnalysis) -> tuple[str, str]:
     if (st == STAGE_AFTER).any():
         split = f"{xs[int(np.argmax(st == STAGE_AFTER))]:.1f}"
     return pts, split
-
-
-def input_hash(folder: Path, extra: str) -> str:
-    """A content hash of every file of the project folder plus *extra* (tool, templates)."""
-    h = hashlib.sha256(extra.encode())
-    for p in sorted(folder.rglob("*")):
-        if p.is_file() and not p.name.startswith("."):
-            h.update(p.relative_to(folder).as_posix().encode())
-            with open(p, "rb") as fh:
-                h.update(hashlib.file_digest(fh, "sha256").digest())
-    return h.hexdigest()
 
 
 __all__ = ["ProjectOutcome", "build_project", "error_outcome", "input_hash", "STAGE_BASELINE"]

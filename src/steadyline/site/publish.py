@@ -79,8 +79,11 @@ def _fsync_tree(root: Path) -> None:
     """Flush file contents before the swap, so the swap never publishes empty files."""
     for dirpath, _dirs, files in os.walk(root):
         for f in files:
+            path = os.path.join(dirpath, f)
             try:
-                fd = os.open(os.path.join(dirpath, f), os.O_RDONLY)
+                if os.stat(path).st_nlink > 1:
+                    continue  # a hard link to a published file: already on disk
+                fd = os.open(path, os.O_RDONLY)
             except OSError:
                 continue
             try:

@@ -16,7 +16,6 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 SIGNIFICANT = 10
 
@@ -28,6 +27,32 @@ def _num(x: float) -> float | int | None:
         return 0.0
     r = float(f"{x:.{SIGNIFICANT}g}")
     return r
+
+
+def _array(a: np.ndarray) -> list:
+    """A numpy array as a list, floats rounded to SIGNIFICANT digits, vectorised."""
+    if a.dtype.kind == "b":
+        return a.tolist()
+    if a.dtype.kind in "iu":
+        return a.tolist()
+    if a.dtype.kind != "f":
+        return [plain(v) for v in a.tolist()]
+    x = a.astype(float)
+    finite = np.isfinite(x)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        mag = np.floor(np.log10(np.abs(x)))
+        mag = np.where(np.isfinite(mag), mag, 0.0)
+        scale = 10.0 ** (SIGNIFICANT - 1 - mag)
+        rounded = np.round(x * scale) / scale
+    # Where scaling is not exact enough (huge or tiny magnitudes), round one by one.
+    odd = finite & ~np.isfinite(rounded)
+    out = rounded.tolist()
+    for i in np.flatnonzero(odd).tolist():
+        out[i] = _num(float(x[i]))
+    if not finite.all():
+        for i in np.flatnonzero(~finite).tolist():
+            out[i] = None
+    return [0.0 if v == 0 else v for v in out] if (rounded == 0).any() else out
 
 
 def plain(obj: Any) -> Any:
@@ -45,21 +70,24 @@ def plain(obj: Any) -> Any:
     if isinstance(obj, dict):
         return {str(k): plain(v) for k, v in obj.items()}
     if isinstance(obj, np.ndarray):
-        return [plain(v) for v in obj.tolist()]
+        return _array(obj)
     if isinstance(obj, list | tuple):
+        if all(type(v) is int or type(v) is str for v in obj):
+            return list(obj)  # indices and labels: nothing to convert
         return [plain(v) for v in obj]
-    if isinstance(obj, pd.Timestamp):
-        return None if pd.isna(obj) else obj.isoformat()
+    if type(obj).__name__ == "Timestamp":  # pandas, without importing it here
+        return obj.isoformat()
     if isinstance(obj, dt.datetime | dt.date):
         return obj.isoformat()
     if isinstance(obj, Path):
         return obj.as_posix()
-    if obj is pd.NaT:
+    if type(obj).__name__ == "NaTType":
         return None
     raise TypeError(f"cannot serialise {type(obj).__name__}")
 
 
 def dumps(obj: Any, *, indent: int | None = 1) -> str:
+    # Without indent, json's C encoder does the work (several times faster than indenting).
     return json.dumps(plain(obj), sort_keys=True, indent=indent, ensure_ascii=False,
                       allow_nan=False, separators=(",", ": ") if indent else (",", ":"))
 
