@@ -20,6 +20,9 @@ from .base import (
 )
 
 _REF_KINDS = ["LSL", "USL", "target"]
+# At most this many distinct outlying values are drawn on each side of a box (the most extreme);
+# the table still counts them all.
+MAX_OUTLIERS_EACH_SIDE = 100
 _MARK_KINDS = ["mean", "outlier (beyond 1.5 \u00d7 IQR)", "far out (beyond 3 \u00d7 IQR)"]
 
 
@@ -292,6 +295,7 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSp
         raise ValueError(f"box plot group names must be distinct, got {names}")
     tpl = cached_template(("box-plot",), _box_template)
     boxes, marks, table = [], [], []
+    hidden = 0
     for name, b in groups:
         boxes.append(
             {
@@ -308,14 +312,20 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSp
         if num(b.mean) is not None:
             marks.append({"group": name, "kind": _MARK_KINDS[0], "value": num(b.mean)})
         far = set(int(i) for i in b.far_out_indices)
-        n_far = 0
-        for idx, v in zip(b.outlier_indices, b.outlier_values, strict=True):
-            is_far = int(idx) in far
-            n_far += is_far
-            if num(v) is not None:
-                marks.append(
-                    {"group": name, "kind": _MARK_KINDS[2 if is_far else 1], "value": num(v)}
-                )
+        n_far = sum(int(i) in far for i in b.outlier_indices)
+        pairs = sorted(
+            (num(v), int(idx) in far)
+            for idx, v in zip(b.outlier_indices, b.outlier_values, strict=True)
+            if num(v) is not None
+        )
+        pairs = list(dict.fromkeys(pairs))  # a value drawn twice is one mark
+        if len(pairs) > 2 * MAX_OUTLIERS_EACH_SIDE:
+            # Keep the page's weight flat in the number of rows: draw the most extreme
+            # outlying values on each side and say how many were left out.
+            hidden += len(pairs) - 2 * MAX_OUTLIERS_EACH_SIDE
+            pairs = pairs[:MAX_OUTLIERS_EACH_SIDE] + pairs[-MAX_OUTLIERS_EACH_SIDE:]
+        for v, is_far in pairs:
+            marks.append({"group": name, "kind": _MARK_KINDS[2 if is_far else 1], "value": v})
         table.append(
             {
                 "group": name,
@@ -340,6 +350,9 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSp
         "whiskers reach the most extreme values within 1.5 \u00d7 IQR of the box; "
         "points beyond are drawn one by one",
     ]
+    if hidden:
+        sub.append(f"{hidden} outlying values nearer the fences are not drawn (the most "
+                   f"extreme {MAX_OUTLIERS_EACH_SIDE} on each side are)")
     spec = make_spec(
         tpl,
         {"order": names, "y_title": unit or "value"},
