@@ -171,7 +171,9 @@ def num_list(values) -> list[float | None]:
     return out
 
 
+@functools.lru_cache(maxsize=1 << 16)
 def _round6(f: float) -> float | int:
+    # cached: limits, centre lines and repeated measurements recur many times in one chart
     r = float(f"{f:.6g}")
     return int(r) if r.is_integer() and abs(r) < 1e15 else r
 

@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
-import pandas as pd
 from markupsafe import Markup
 
 from ..analysis import MetricAnalysis
@@ -62,19 +62,21 @@ def safe_cell(v) -> str:
     return s
 
 
+_NEEDS_QUOTES = re.compile(r'[",\n\r]')
+
+
+def _csv_field(text: str) -> str:
+    return '"' + text.replace('"', '""') + '"' if _NEEDS_QUOTES.search(text) else text
+
+
 def table_csv(chart: ChartSpec) -> bytes:
-    """The chart's table as CSV: numbers as they are, text cells made safe for spreadsheets."""
+    """The chart's table as CSV (RFC 4180 quoting): numbers as they are, text cells made safe
+    for spreadsheets."""
     cols = list(chart.columns)
-    df = pd.DataFrame.from_records(chart.table, columns=cols) if chart.table else \
-        pd.DataFrame(columns=cols)
-    for c in cols:
-        kind = df[c].dtype.kind
-        if kind == "b":
-            df[c] = df[c].map({True: "true", False: "false"})
-        elif kind not in "iuf":  # text (object or string dtype): made safe cell by cell
-            df[c] = [safe_cell(v) for v in df[c]]
-    df.columns = [safe_cell(c) for c in cols]
-    return df.to_csv(index=False, lineterminator="\n").encode("utf-8")
+    lines = [",".join(_csv_field(safe_cell(c)) for c in cols)]
+    for row in chart.table:
+        lines.append(",".join(_csv_field(safe_cell(row.get(c))) for c in cols))
+    return ("\n".join(lines) + "\n").encode("utf-8")
 
 
 def _cell(v) -> str:

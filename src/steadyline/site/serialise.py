@@ -74,6 +74,8 @@ def plain(obj: Any) -> Any:
     if isinstance(obj, list | tuple):
         if all(type(v) is int or type(v) is str for v in obj):
             return list(obj)  # indices and labels: nothing to convert
+        if obj and all(type(v) is float for v in obj):
+            return _array(np.asarray(obj, dtype=float))
         return [plain(v) for v in obj]
     if type(obj).__name__ == "Timestamp":  # pandas, without importing it here
         return obj.isoformat()
