@@ -250,3 +250,36 @@ def test_a_killed_build_leaves_the_published_site_whole(tmp_path: Path):
         assert now in (old, new), "a killed build left a mixed or damaged site"
         outcomes.append("new" if now == new else "old")
     print("killed build outcomes:", outcomes)
+
+
+def test_the_demo_with_several_projects_broken_publishes_the_healthy_ones(tmp_path, capsys):
+    projects = tmp_path / "projects"
+    shutil.copytree(DEMO, projects)
+    # three projects broken three ways: a TOML syntax error, a bad CSV cell, a missing file
+    toml = projects / "spoke-tension" / "project.toml"
+    toml.write_text(toml.read_text("utf-8").replace('phase = "improve"', 'phase = improve'),
+                    "utf-8")
+    csv = projects / "order-picking-errors" / "picking_audit.csv"
+    lines = csv.read_text("utf-8").splitlines()
+    lines[7] = lines[7].rsplit(",", 1)[0] + ",twelve"
+    csv.write_text("\n".join(lines) + "\n", "utf-8")
+    (projects / "customer-returns" / "returns.csv").unlink()
+    before = tree_hashes(projects)
+    out = tmp_path / "site"
+    code = main(["build", str(projects), "--out", str(out), "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 1
+    assert "spoke-tension/project.toml:" in err
+    assert "order-picking-errors/picking_audit.csv:8:" in err and "twelve" in err
+    assert "customer-returns/project.toml:" in err and "returns.csv" in err
+    assert tree_hashes(projects) == before  # no input file was touched
+    broken = {"spoke-tension", "order-picking-errors", "customer-returns"}
+    for slug in sorted(p.name for p in DEMO.iterdir() if p.is_dir()):
+        page = (out / "projects" / slug / "index.html").read_text("utf-8")
+        if slug in broken:
+            assert "could not be built" in page, slug
+        else:
+            assert (out / "projects" / slug / "results.json").is_file(), slug
+            assert "could not be built" not in page, slug
+    index = (out / "index.html").read_text("utf-8")
+    assert index.count("card-broken") == len(broken)

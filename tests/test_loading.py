@@ -108,7 +108,7 @@ def _no_leftovers(out: Path):
 def test_failed_publish_leaves_the_site_byte_identical(tmp_path, monkeypatch):
     root, out, before = _published(tmp_path)
 
-    def boom(staged, out_):
+    def boom(staged, out_, written=None):
         raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(build_mod, "publish", boom)
@@ -142,7 +142,7 @@ def test_failed_staging_write_leaves_the_site_byte_identical(tmp_path, monkeypat
 def test_interrupted_build_leaves_the_site_byte_identical(tmp_path, monkeypatch, capsys):
     root, out, before = _published(tmp_path)
 
-    def interrupt(staged, out_):
+    def interrupt(staged, out_, written=None):
         raise KeyboardInterrupt
 
     monkeypatch.setattr(build_mod, "publish", interrupt)

@@ -30,7 +30,7 @@ from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
 from .common import ProjectOutcome, input_hash, page_context
-from .publish import clean_stale, link_or_copy, publish, staging_dir, write_files
+from .publish import clean_stale, link_tree, publish, staging_dir, write_files
 from .serialise import dumps
 from .templates import render, templates_fingerprint
 
@@ -137,7 +137,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         prev = old.get(f.name)
         fresh = (prev is not None and prev["hash"] == hashes[f.name]
                  and (opts.only is None or f.name not in opts.only)
-                 and all((out / "projects" / f.name / n).is_file() for n in prev["files"]))
+                 and _all_files(out / "projects" / f.name, prev["files"]))
         (reuse if fresh else todo).append(f)
 
     # 4. compute
@@ -194,25 +194,25 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     staged = staging_dir(out)
     try:
         staged.mkdir(parents=True)
+        written: list[str] = []
         old_assets = out / "assets"
         if manifest.get("assets") == akey and old_assets.is_dir():
             # Same assets as published: reuse them instead of rebuilding the Vega bundle.
-            for p in sorted(old_assets.rglob("*")):
-                if p.is_file():
-                    link_or_copy(p, staged / "assets" / p.relative_to(old_assets))
+            names = [p.relative_to(old_assets).as_posix() for p in sorted(old_assets.rglob("*"))
+                     if p.is_file()]
+            link_tree(old_assets, staged / "assets", names)
         else:
-            write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
-        write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
+            written += write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
+        written += write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
         if opts.live:
-            write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
-                                              + "\n").encode()})
+            written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
+                                                         + "\n").encode()})
         for o in outcomes:
-            write_files(staged / "projects" / o.slug, o.files)
+            written += write_files(staged / "projects" / o.slug, o.files)
         for f in reuse:
-            for name in files_of[f.name]:
-                link_or_copy(out / "projects" / f.name / name, staged / "projects" / f.name / name)
+            link_tree(out / "projects" / f.name, staged / "projects" / f.name, files_of[f.name])
         # 7. publish
-        publish(staged, out)
+        publish(staged, out, written)
     except BaseException:
         import shutil
 
@@ -220,6 +220,11 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         raise
     report.written = True
     return report
+
+
+def _all_files(folder: Path, names: list[str]) -> bool:
+    base = os.fspath(folder)
+    return all(os.path.isfile(os.path.join(base, n)) for n in names)
 
 
 def _same(path: Path, data: bytes) -> bool:

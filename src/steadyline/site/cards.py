@@ -10,7 +10,6 @@ from markupsafe import Markup
 
 from ..analysis import MetricAnalysis
 from ..charts import ChartSpec, SeriesContext
-from ..charts.schema import check_spec
 from ..config import ProjectSpec
 from ..stats.compare import format_p_value
 from .serialise import compact, escape_for_script
@@ -106,7 +105,6 @@ class Displays:
         data_name = f"data/{base}.csv"
         spec_name = f"data/{base}.vl.json"
         self.files[data_name] = table_csv(chart)
-        check_spec(chart.spec)  # against Altair's Vega-Lite schema, once per layout
         text = compact(chart.spec)  # chart specs are plain JSON already (charts package)
         self.files[spec_name] = (text + "\n").encode()
         card = {

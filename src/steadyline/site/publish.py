@@ -60,9 +60,16 @@ def clean_stale(out: Path) -> None:
         shutil.rmtree(p, ignore_errors=True)
 
 
-def publish(staged: Path, out: Path) -> None:
-    """Make *staged* the published site at *out*, atomically."""
-    _fsync_tree(staged)
+def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
+    """Make *staged* the published site at *out*, atomically.
+
+    *written* lists the files written anew into the staging folder: only those need flushing
+    (the rest are hard links to published files); None flushes everything.
+    """
+    if written is None:
+        _fsync_tree(staged)
+    else:
+        _fsync_files(written)
     if not out.exists():
         os.rename(staged, out)
         return
@@ -73,6 +80,18 @@ def publish(staged: Path, out: Path) -> None:
     os.rename(out, retired)
     os.rename(staged, out)
     shutil.rmtree(retired, ignore_errors=True)
+
+
+def _fsync_files(paths: list[str]) -> None:
+    for path in paths:
+        try:
+            fd = os.open(path, os.O_RDONLY)
+        except OSError:
+            continue
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
 
 
 def _fsync_tree(root: Path) -> None:
@@ -92,17 +111,34 @@ def _fsync_tree(root: Path) -> None:
                 os.close(fd)
 
 
-def write_files(root: Path, files: dict[str, bytes]) -> None:
+def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
+    """Write every file under *root*; returns the paths written."""
+    written = []
+    made: set[str] = set()
+    base = os.fspath(root)
     for name, data in sorted(files.items()):
-        p = root / name
-        p.parent.mkdir(parents=True, exist_ok=True)
-        p.write_bytes(data)
+        path = os.path.join(base, name)
+        parent = os.path.dirname(path)
+        if parent not in made:
+            os.makedirs(parent, exist_ok=True)
+            made.add(parent)
+        with open(path, "wb") as fh:
+            fh.write(data)
+        written.append(path)
+    return written
 
 
-def link_or_copy(src: Path, dst: Path) -> None:
-    """Reuse an unchanged published file in the staging folder (hard link when possible)."""
-    dst.parent.mkdir(parents=True, exist_ok=True)
-    try:
-        os.link(src, dst)
-    except OSError:
-        shutil.copy2(src, dst)
+def link_tree(src: Path, dst: Path, names: list[str]) -> None:
+    """Reuse unchanged published files in the staging folder (hard links when possible)."""
+    s, d = os.fspath(src), os.fspath(dst)
+    made: set[str] = set()
+    for name in names:
+        target = os.path.join(d, name)
+        parent = os.path.dirname(target)
+        if parent not in made:
+            os.makedirs(parent, exist_ok=True)
+            made.add(parent)
+        try:
+            os.link(os.path.join(s, name), target)
+        except OSError:
+            shutil.copy2(os.path.join(s, name), target)

@@ -27,10 +27,12 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
-from scipy import stats as _st
 
+from ._lazy import lazy
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Capability, NormalityTest, StatsError
+
+_st = lazy("scipy.stats")
 
 MIN_POINTS_FOR_CAPABILITY = 30  # common practice
 

@@ -28,10 +28,12 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
-from scipy import stats as _st
 
+from ._lazy import lazy
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Comparison, StatsError
+
+_st = lazy("scipy.stats")
 
 DATA_TYPES = ("continuous", "defectives", "defects")
 BETTER = ("lower", "higher", "target")

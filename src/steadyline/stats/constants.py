@@ -29,10 +29,12 @@ import math
 from dataclasses import dataclass
 from functools import cache
 
-from scipy import integrate
-from scipy.special import gammaln, ndtr
-
 from steadyline.stats.results import StatsError
+
+from ._lazy import lazy
+
+integrate = lazy("scipy.integrate")
+_special = lazy("scipy.special")
 
 # Integration window for the standard normal range integrals. Outside +-12 the integrands are
 # below 1e-30 for every practical n, so the window costs nothing in accuracy.
@@ -51,7 +53,7 @@ def _check_n(n: int) -> int:
 @cache
 def _d2(n: int) -> float:
     def integrand(x: float) -> float:
-        return 1.0 - ndtr(x) ** n - ndtr(-x) ** n
+        return 1.0 - _special.ndtr(x) ** n - _special.ndtr(-x) ** n
 
     value, _ = integrate.quad(integrand, -_WINDOW, _WINDOW, epsabs=1e-12, epsrel=1e-12, limit=200)
     return float(value)
@@ -60,7 +62,7 @@ def _d2(n: int) -> float:
 @cache
 def _d3(n: int) -> float:
     def integrand(y: float, x: float) -> float:
-        return 1.0 - ndtr(y) ** n - ndtr(-x) ** n + (ndtr(y) - ndtr(x)) ** n
+        return 1.0 - _special.ndtr(y) ** n - _special.ndtr(-x) ** n + (_special.ndtr(y) - _special.ndtr(x)) ** n
 
     half, _ = integrate.dblquad(
         integrand, -_WINDOW, _WINDOW, lambda x: x, _WINDOW, epsabs=1e-10, epsrel=1e-10
@@ -71,7 +73,7 @@ def _d3(n: int) -> float:
 
 @cache
 def _c4(n: int) -> float:
-    return float(math.sqrt(2.0 / (n - 1)) * math.exp(gammaln(n / 2.0) - gammaln((n - 1) / 2.0)))
+    return float(math.sqrt(2.0 / (n - 1)) * math.exp(_special.gammaln(n / 2.0) - _special.gammaln((n - 1) / 2.0)))
 
 
 def d2(n: int) -> float:

@@ -10,9 +10,11 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
-from scipy import stats as _st
 
+from ._lazy import lazy
 from .results import BoxSummary, Histogram, NormalityTest, StatsError
+
+_st = lazy("scipy.stats")
 
 # numpy quantile method names and their Hyndman & Fan (1996) types (numpy docstring), plus
 # Tukey's hinges (Tukey 1977), which are not in general any single H&F type.

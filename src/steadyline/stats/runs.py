@@ -45,9 +45,11 @@ from collections.abc import Sequence
 from functools import lru_cache
 
 import numpy as np
-from scipy import stats as _st
 
+from ._lazy import lazy
 from .results import RunChartAnalysis, Signal, StatsError
+
+_st = lazy("scipy.stats")
 
 RULE_SETS = ("anhoj", "perla")
 RULE_SET_LABELS = {
