@@ -6,7 +6,7 @@ import math
 import re
 
 import numpy as np
-from markupsafe import Markup
+from markupsafe import Markup, escape
 
 from ..analysis import MetricAnalysis
 from ..charts import ChartSpec, SeriesContext
@@ -68,13 +68,35 @@ def _csv_field(text: str) -> str:
     return '"' + text.replace('"', '""') + '"' if _NEEDS_QUOTES.search(text) else text
 
 
+def _csv_cells(values) -> list[str]:
+    """One column of a CSV table: ``_csv_field(safe_cell(v))`` for each value, with the float
+    case (most cells) written out inline: the same text, without two calls per cell."""
+    out: list[str] = []
+    add = out.append
+    for v in values:
+        if type(v) is float:
+            if v != v or v in _INFINITIES:
+                add("")
+            elif v.is_integer() and -1e15 < v < 1e15:
+                add(str(int(v)))
+            else:
+                add(repr(v))
+        else:
+            add(_csv_field(safe_cell(v)))
+    return out
+
+
+_INFINITIES = (math.inf, -math.inf)
+
+
 def table_csv(chart: ChartSpec) -> bytes:
     """The chart's table as CSV (RFC 4180 quoting): numbers as they are, text cells made safe
     for spreadsheets."""
     cols = list(chart.columns)
+    table = chart.table
+    columns = [_csv_cells([row.get(c) for row in table]) for c in cols]
     lines = [",".join(_csv_field(safe_cell(c)) for c in cols)]
-    for row in chart.table:
-        lines.append(",".join(_csv_field(safe_cell(row.get(c))) for c in cols))
+    lines += map(",".join, zip(*columns, strict=True)) if cols else [""] * len(table)
     return ("\n".join(lines) + "\n").encode("utf-8")
 
 
@@ -84,6 +106,32 @@ def _cell(v) -> str:
     if isinstance(v, float | np.floating):
         return fmt(float(v), digits=6)
     return str(v)
+
+
+def _html_cells(values) -> list[str]:
+    """One column of the page's data table as escaped cell texts (what autoescaped
+    ``{{ _cell(v) }}`` writes); numbers, formatted by :func:`fmt`, need no escaping."""
+    out: list[str] = []
+    add = out.append
+    for v in values:
+        if type(v) is float:
+            add(fmt(v, digits=6))
+        elif v is None:
+            add("")
+        else:
+            add(escape(_cell(v)))
+    return out
+
+
+def table_body(table: list[dict], columns, limit: int) -> Markup:
+    """The rows of a data table as HTML, ``<tr><td>..</td></tr>`` per row, the first ``limit``
+    rows only."""
+    rows = table[:limit]
+    cells = [_html_cells([r.get(c) for r in rows]) for c in columns]
+    if not cells:
+        return Markup("<tr></tr>" * len(rows))
+    return Markup("".join(
+        ["<tr><td>" + "</td><td>".join(r) + "</td></tr>" for r in zip(*cells, strict=True)]))
 
 
 # The page shows at most this many rows of a chart's data table; the CSV download has them all,
@@ -115,8 +163,8 @@ class Displays:
             "findings": [f.__dict__ for f in findings], "cautions": list(dict.fromkeys(cautions)),
             "method": method, "csv_href": data_name, "spec_href": spec_name,
             "table": {"columns": list(chart.columns), "total": len(chart.table),
-                      "rows": [[_cell(r.get(c)) for c in chart.columns]
-                               for r in chart.table[:TABLE_ROWS_SHOWN]]},
+                      "shown": min(len(chart.table), TABLE_ROWS_SHOWN),
+                      "body": table_body(chart.table, chart.columns, TABLE_ROWS_SHOWN)},
         }
         self.cards.append(card)
         return card
