@@ -14,7 +14,7 @@ from __future__ import annotations
 import functools
 import math
 import re
-from collections.abc import Callable, Hashable, Sequence
+from collections.abc import Callable, Collection, Hashable, Sequence
 from dataclasses import dataclass
 from datetime import UTC, date, datetime
 
@@ -134,10 +134,20 @@ def make_spec(
     datasets: dict[str, list[dict]],
     title: str,
     subtitle: Sequence[str] = (),
+    exact: Collection[str] = (),
 ) -> dict:
+    """The template filled in, with the datasets at display precision and the title.
+
+    exact: names of datasets whose rows already hold display-precision numbers (ints, strings,
+    None and floats from :func:`disp` / :func:`disp_list`); they go in as they are, since
+    rounding them again would change nothing.
+    """
     spec = fill(template, values)
     # display precision in the page (the table, built from the caller's rows, keeps it all)
-    spec["datasets"] = {name: [_display_row(r) for r in rows] for name, rows in datasets.items()}
+    spec["datasets"] = {
+        name: rows if name in exact else [_display_row(r) for r in rows]
+        for name, rows in datasets.items()
+    }
     t: dict = {"text": title}
     sub = [s for s in subtitle if s]
     if sub:

@@ -43,6 +43,9 @@ _SECONDARY_SHORT = {"moving-range": "mR", "range": "R", "stdev": "S"}
 # Charts whose plotted statistic is in the metric's own unit.
 _UNIT_KINDS = {"individuals", "xbar", "moving-range", "range", "stdev"}
 
+# Datasets built at display precision already (values from disp_list, integer or text x).
+_EXACT = ("points",)
+
 _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
 
 
@@ -343,35 +346,49 @@ def _series_rows(
     group = 0
     prev_seg = None
     prev_missing = True
+    segment, stage = ctx.segment, ctx.stage
+    fit = None if fitted is None else np.asarray(fitted, dtype=bool).tolist()
+    key_of, info_of = keys.key, keys.info
     for k, f in enumerate(disp_list(values)):
-        i = k + offset
-        seg = ctx.segment[i]
         if f is None:
             prev_missing = True
             continue
+        i = k + offset
+        seg = segment[i]
         if prev_seg is not None and (seg != prev_seg or prev_missing):
             group += 1
         prev_seg = seg
         prev_missing = False
-        key = keys.key(
-            ctx.stage[i],
-            bool(fitted[k]) if fitted is not None else None,
-            "; ".join(marked.get(i, ())),
-        )
-        out[i] = (f, group, key, keys.info(info[k]) if info is not None else None)
+        m = marked.get(i)
+        key = key_of(stage[i], None if fit is None else fit[k], "; ".join(m) if m else "")
+        out[i] = (f, group, key, None if info is None else info_of(info[k]))
     return out
 
 
 def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None = None) -> list:
     """Merge the main and the companion series into one row per position."""
-    idx = sorted(set(main) | set(second or {}))
+    at = xa.pos
+    labels = None if xa.is_time else ctx.x
     rows = []
-    for i in idx:
-        row: dict = {"x": xa.at(i)}
-        if not xa.is_time:
-            row["label"] = ctx.x[i]
+    add = rows.append
+    if not second:
+        for i, (v, g, k, lim) in main.items():  # in index order, as _series_rows made it
+            row: dict = {"x": at[i]}
+            if labels is not None:
+                row["label"] = labels[i]
+            row["v"] = v
+            row["g"] = g
+            row["k"] = k
+            if lim is not None:
+                row["i"] = lim
+            add(row)
+        return rows
+    for i in sorted(set(main) | set(second)):
+        row = {"x": at[i]}
+        if labels is not None:
+            row["label"] = labels[i]
         for suf, series in (("", main), ("2", second)):
-            if series is None or i not in series:
+            if i not in series:
                 continue
             v, g, k, lim = series[i]
             row[f"v{suf}"] = v
@@ -379,7 +396,7 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
             row[f"k{suf}"] = k
             if lim is not None:
                 row[f"i{suf}"] = lim
-        rows.append(row)
+        add(row)
     return rows
 
 
@@ -576,7 +593,10 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         _signals_sentence(analysis.signals, max_kinds=2),
         *analysis.notes,
     ]
-    spec = make_spec(tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle)
+    spec = make_spec(
+        tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
+        exact=_EXACT,
+    )
 
     x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
@@ -811,19 +831,17 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
                 vals = [v if a else None for v, a in zip(num_list(arr), after, strict=True)]
                 cols[f"after {abbr} {name}"] = pad + vals
                 columns.append(f"after {abbr} {name}")
-    table = []
-    for i in range(n):
-        row: dict = {x_col: ctx.x[i]}
-        for name in columns[1:]:
-            if name == "phase":
-                row[name] = ctx.stage[i]
-            elif name == "used for limits":
-                row[name] = "yes" if fitted[i] else "no"
-            elif name == "signals":
-                row[name] = "; ".join(marked.get(i, []) + sec_marked.get(i, []))
-            else:
-                row[name] = cols[name][i]
-        table.append(row)
+    cols[x_col] = ctx.x
+    if has_stage:
+        cols["phase"] = ctx.stage
+    cols["used for limits"] = ["yes" if f else "no" for f in fitted.tolist()]
+    cols["signals"] = [
+        "; ".join(marked.get(i, []) + sec_marked.get(i, [])) if i in marked or i in sec_marked
+        else ""
+        for i in range(n)
+    ]
+    table = [dict(zip(columns, r, strict=True))
+             for r in zip(*(cols[name] for name in columns), strict=True)]
     return table, tuple(columns)
 
 
@@ -849,7 +867,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     ]
     if sec is not None:
         subtitle.extend(sec.notes)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_EXACT)
     table, columns = _control_table(ctx, chart, offset, marked, sec_marked)
 
     last = {lab["kind"]: lab["text"] for lab in labels}
@@ -913,7 +931,7 @@ def staged_control_chart(
     subtitle += list(carried.notes)
     if sec is not None:
         subtitle.extend(sec.notes)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_EXACT)
     table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own)
 
     last = {lab["kind"]: lab["text"] for lab in labels}

@@ -18,7 +18,7 @@ from .serialise import compact, escape_for_script
 
 
 def fmt(v: float | None, unit: str = "", digits: int = 4) -> str:
-    if v is None or not np.isfinite(v):
+    if v is None or not (math.isfinite(v) if type(v) is float else np.isfinite(v)):
         return "—"
     a = abs(v)
     text = f"{v:.{digits}g}" if a >= 1e-3 or a == 0 else f"{v:.3g}"
@@ -73,6 +73,7 @@ def _csv_cells(values) -> list[str]:
     case (most cells) written out inline: the same text, without two calls per cell."""
     out: list[str] = []
     add = out.append
+    memo: dict[str, str] = {}
     for v in values:
         if type(v) is float:
             if v != v or v in _INFINITIES:
@@ -81,6 +82,11 @@ def _csv_cells(values) -> list[str]:
                 add(str(int(v)))
             else:
                 add(repr(v))
+        elif type(v) is str:  # dates, phases, "yes"/"no", signals: mostly repeated
+            t = memo.get(v)
+            if t is None:
+                t = memo[v] = _csv_field(safe_cell(v))
+            add(t)
         else:
             add(_csv_field(safe_cell(v)))
     return out
