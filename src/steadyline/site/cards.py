@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 import re
+from itertools import repeat
 
 import numpy as np
 from markupsafe import Markup, escape
@@ -68,9 +69,34 @@ def _csv_field(text: str) -> str:
     return '"' + text.replace('"', '""') + '"' if _NEEDS_QUOTES.search(text) else text
 
 
-def _csv_cells(values) -> list[str]:
+_NUMBER_TYPES = frozenset((float, type(None)))
+
+
+def _number_column(values: list) -> bool:
+    """Whether a column holds only floats and Nones, and at least one float."""
+    types = set(map(type, values))
+    return float in types and types <= _NUMBER_TYPES
+
+
+def _csv_numbers(values: list) -> list[str]:
+    """:func:`_csv_cells` for a column of floats and Nones, the texts made in bulk: repr, with
+    the whole numbers, missing and infinite values put right one by one."""
+    arr = np.array(values, dtype=float)  # None -> nan
+    out = list(map(repr, values))
+    finite = np.isfinite(arr)
+    for i in np.flatnonzero(~finite).tolist():
+        out[i] = ""
+    whole = finite & (np.floor(arr) == arr) & (np.abs(arr) < 1e15)
+    for i in np.flatnonzero(whole).tolist():
+        out[i] = str(int(values[i]))
+    return out
+
+
+def _csv_cells(values: list) -> list[str]:
     """One column of a CSV table: ``_csv_field(safe_cell(v))`` for each value, with the float
     case (most cells) written out inline: the same text, without two calls per cell."""
+    if _number_column(values):
+        return _csv_numbers(values)
     out: list[str] = []
     add = out.append
     memo: dict[str, str] = {}
@@ -100,7 +126,7 @@ def table_csv(chart: ChartSpec) -> bytes:
     for spreadsheets."""
     cols = list(chart.columns)
     table = chart.table
-    columns = [_csv_cells([row.get(c) for row in table]) for c in cols]
+    columns = [_csv_cells(list(map(dict.get, table, repeat(c)))) for c in cols]
     lines = [",".join(_csv_field(safe_cell(c)) for c in cols)]
     lines += map(",".join, zip(*columns, strict=True)) if cols else [""] * len(table)
     return ("\n".join(lines) + "\n").encode("utf-8")
@@ -114,9 +140,25 @@ def _cell(v) -> str:
     return str(v)
 
 
-def _html_cells(values) -> list[str]:
+def _html_numbers(values: list) -> list[str]:
+    """:func:`_html_cells` for a column of floats and Nones: ``fmt(v, digits=6)`` made in bulk
+    where it is plain ``.6g`` (no exponent: 0.001 <= |v| < 999999, or 0), one by one elsewhere."""
+    arr = np.array(values, dtype=float)  # None -> nan
+    out = list(map(format, arr.tolist(), repeat(".6g")))
+    a = np.abs(arr)
+    with np.errstate(invalid="ignore"):
+        odd = ~np.isfinite(arr) | ((a < 1e-3) & (a != 0)) | (a >= 999999)
+    for i in np.flatnonzero(odd).tolist():
+        v = values[i]
+        out[i] = "" if v is None else fmt(v, digits=6)
+    return out
+
+
+def _html_cells(values: list) -> list[str]:
     """One column of the page's data table as escaped cell texts (what autoescaped
     ``{{ _cell(v) }}`` writes); numbers, formatted by :func:`fmt`, need no escaping."""
+    if _number_column(values):
+        return _html_numbers(values)
     out: list[str] = []
     add = out.append
     for v in values:
@@ -133,7 +175,7 @@ def table_body(table: list[dict], columns, limit: int) -> Markup:
     """The rows of a data table as HTML, ``<tr><td>..</td></tr>`` per row, the first ``limit``
     rows only."""
     rows = table[:limit]
-    cells = [_html_cells([r.get(c) for r in rows]) for c in columns]
+    cells = [_html_cells(list(map(dict.get, rows, repeat(c)))) for c in columns]
     if not cells:
         return Markup("<tr></tr>" * len(rows))
     return Markup("".join(

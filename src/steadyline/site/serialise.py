@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import functools
 import json
 import math
 from pathlib import Path
@@ -55,9 +56,35 @@ def _array(a: np.ndarray) -> list:
     return [0.0 if v == 0 else v for v in out] if (rounded == 0).any() else out
 
 
+_PLAIN_LIST_TYPES = frozenset((int, str))
+_FLOAT_ONLY = frozenset((float,))
+
+
+@functools.cache
+def _field_names(cls: type) -> tuple[str, ...]:
+    return tuple(f.name for f in dataclasses.fields(cls))
+
+
 def plain(obj: Any) -> Any:
     """A JSON-able copy of *obj*."""
-    if obj is None or isinstance(obj, bool | str):
+    t = type(obj)
+    # the common exact types first (same results as the general checks below)
+    if t is str or obj is None or t is bool:
+        return obj
+    if t is int:
+        return obj
+    if t is float:
+        return _num(obj)
+    if t is dict:
+        return {str(k): plain(v) for k, v in obj.items()}
+    if t is list or t is tuple:
+        types = set(map(type, obj))
+        if types <= _PLAIN_LIST_TYPES:
+            return list(obj)  # indices and labels: nothing to convert
+        if types == _FLOAT_ONLY:
+            return _array(np.asarray(obj, dtype=float))
+        return [plain(v) for v in obj]
+    if isinstance(obj, bool | str):
         return obj
     if isinstance(obj, int | np.integer) and not isinstance(obj, bool):
         return int(obj)
@@ -66,7 +93,7 @@ def plain(obj: Any) -> Any:
     if isinstance(obj, np.bool_):
         return bool(obj)
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-        return {f.name: plain(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+        return {name: plain(getattr(obj, name)) for name in _field_names(t)}
     if isinstance(obj, dict):
         return {str(k): plain(v) for k, v in obj.items()}
     if isinstance(obj, np.ndarray):
