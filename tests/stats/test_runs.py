@@ -277,3 +277,26 @@ def test_all_on_median_gives_no_limits():
     res = analyse_runs([4, 4, 4, 4])
     assert res.n_useful == 0 and res.longest_run == 0 and res.signals == ()
     assert res.longest_run_limit is None
+
+
+def test_runs_limits_normal_approximation_meets_the_exact_distribution():
+    # Wald & Wolfowitz (1940) normal approximation (from memory) against the exact
+    # Swed & Eisenhart (1943) distribution where the two meet: they agree within one run.
+    from steadyline.stats import runs as runs_mod
+
+    for n in range(200, runs_mod.EXACT_RUNS_MAX + 1, 40):
+        exact = runs_mod.perla_runs_limits(n)
+        approx = runs_mod._runs_limits_normal(n, runs_mod.PERLA_RUNS_ALPHA)
+        assert abs(exact[0] - approx[0]) <= 1 and abs(exact[1] - approx[1]) <= 1, n
+
+
+def test_perla_rules_on_a_million_points_stay_fast_and_quiet():
+    import time
+
+    x = np.random.default_rng(7).normal(0, 1, 1_000_000)
+    t = time.perf_counter()
+    res = analyse_runs(x, "perla")
+    took = time.perf_counter() - t
+    print(f"\nPerla rules on 10^6 points: {took:.2f} s")
+    # random data: no runs-count signal expected at the 5% level per tail (seeded, so fixed)
+    assert not [s for s in res.signals if s.rule in ("too-few-runs", "too-many-runs")]

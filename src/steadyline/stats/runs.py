@@ -102,6 +102,24 @@ def runs_distribution(n1: int, n2: int) -> tuple[float, ...]:
     return tuple(probs)
 
 
+# Above this many points the exact distribution (big-integer binomials, O(n) terms) is replaced by
+# its normal approximation with mean 2·n1·n2/N + 1 and variance 2·n1·n2·(2·n1·n2 − N)/(N²(N − 1))
+# (Wald & Wolfowitz 1940, from memory), with a continuity correction; the tests check that both
+# agree within one run where they meet.
+EXACT_RUNS_MAX = 1000
+
+
+def _runs_limits_normal(n: int, alpha: float) -> tuple[int, int]:
+    n1, n2 = n // 2, n - n // 2
+    mean = 2.0 * n1 * n2 / n + 1.0
+    var = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0))
+    sd = math.sqrt(var)
+    z = float(_st.norm.ppf(1.0 - alpha))
+    low = max(1, math.floor(mean - 0.5 - z * sd))
+    high = min(n + 1, math.ceil(mean + 0.5 + z * sd))
+    return low, high
+
+
 def perla_runs_limits(n: int, alpha: float = PERLA_RUNS_ALPHA) -> tuple[int, int]:
     """Runs-count limits for ``n`` points not on the median, ``alpha`` in each tail.
 
@@ -114,6 +132,8 @@ def perla_runs_limits(n: int, alpha: float = PERLA_RUNS_ALPHA) -> tuple[int, int
     n = int(n)
     if n < 2:
         raise StatsError(f"the runs-count limits need at least two points off the median, got {n}")
+    if n > EXACT_RUNS_MAX:
+        return _runs_limits_normal(n, alpha)
     probs = runs_distribution(n // 2, n - n // 2)
     eps = 1e-12
     low = 1
@@ -186,45 +206,33 @@ def _trends(x: np.ndarray, min_points: int) -> list[tuple[str, list[int]]]:
     """Trends of at least ``min_points`` distinct successive values all rising or all falling.
 
     Missing values break a trend. Successive equal values count once and do not break it.
-    Returns (direction, indices from first to last point inclusive)."""
+    Returns (direction, indices from first to last point inclusive). Vectorised: only the
+    trends found are turned into index lists.
+    """
     found: list[tuple[str, list[int]]] = []
-    # Split into stretches without missing values.
     finite = np.isfinite(x)
-    start = 0
-    n = len(x)
-    while start < n:
-        if not finite[start]:
-            start += 1
+    edges = np.diff(np.concatenate([[0], finite.astype(np.int8), [0]]))
+    for a, b in zip(np.flatnonzero(edges == 1).tolist(), np.flatnonzero(edges == -1).tolist(),
+                    strict=True):
+        seg = x[a:b]
+        if seg.size < 2:
             continue
-        stop = start
-        while stop < n and finite[stop]:
-            stop += 1
-        seg = list(range(start, stop))
-        # Collapse equal successive values: keep (first index, last index, value).
-        groups: list[list[int]] = []
-        for i in seg:
-            if groups and x[i] == x[groups[-1][0]]:
-                groups[-1].append(i)
-            else:
-                groups.append([i])
-        vals = [x[g[0]] for g in groups]
-        m = len(groups)
-        if m >= 2:
-            # maximal monotone stretches of group steps
-            j = 0
-            while j < m - 1:
-                up = vals[j + 1] > vals[j]
-                k = j + 1
-                while k < m - 1 and (vals[k + 1] > vals[k]) == up:
-                    k += 1
-                # groups j..k form a monotone stretch of k-j+1 distinct values
-                if k - j + 1 >= min_points:
-                    # From the last repeat of the first value to the first repeat of the last
-                    # value would be stricter; we include all repeats inside the span only.
-                    idx = list(range(groups[j][-1], groups[k][0] + 1))
-                    found.append(("up" if up else "down", idx))
-                j = k
-        start = stop
+        # groups of equal successive values: first and last index of each
+        first = np.flatnonzero(np.concatenate([[True], seg[1:] != seg[:-1]])) + a
+        last = np.concatenate([first[1:] - 1, [b - 1]])
+        vals = x[first]
+        m = vals.size
+        if m < 2:
+            continue
+        up = vals[1:] > vals[:-1]  # one step between successive groups
+        change = np.flatnonzero(up[1:] != up[:-1]) + 1
+        run_start = np.concatenate([[0], change])
+        run_stop = np.concatenate([change, [m - 1]])  # steps [start, stop) join groups start..stop
+        keep = np.flatnonzero(run_stop - run_start + 1 >= min_points)
+        for r in keep.tolist():
+            j, k = int(run_start[r]), int(run_stop[r])
+            # From the last repeat of the first value to the first repeat of the last value.
+            found.append(("up" if up[j] else "down", list(range(int(last[j]), int(first[k]) + 1))))
     return found
 
 
