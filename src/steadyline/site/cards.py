@@ -159,6 +159,10 @@ def _html_cells(values: list) -> list[str]:
     ``{{ _cell(v) }}`` writes); numbers, formatted by :func:`fmt`, need no escaping."""
     if _number_column(values):
         return _html_numbers(values)
+    if set(map(type, values)) == _STR_ONLY:  # dates, labels, phases, signals
+        if _HTML_SPECIAL.search("".join(values)) is None:
+            return values  # nothing to escape
+        return [str(escape(v)) for v in values]
     out: list[str] = []
     add = out.append
     for v in values:
@@ -169,6 +173,11 @@ def _html_cells(values: list) -> list[str]:
         else:
             add(escape(_cell(v)))
     return out
+
+
+_STR_ONLY = frozenset((str,))
+# the characters markupsafe.escape replaces
+_HTML_SPECIAL = re.compile("[&<>\"']")
 
 
 def table_body(table: list[dict], columns, limit: int) -> Markup:
