@@ -273,13 +273,17 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 
 def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
     per_point: dict[int, list[str]] = {}
+    get = per_point.get
     for s in signals:
+        d = s.description
         for i in s.indices:
             j = int(i) + offset
             if 0 <= j < n:
-                per_point.setdefault(j, [])
-                if s.description not in per_point[j]:
-                    per_point[j].append(s.description)
+                texts = get(j)
+                if texts is None:
+                    per_point[j] = [d]
+                elif d not in texts:
+                    texts.append(d)
     return per_point
 
 
@@ -456,7 +460,9 @@ def _limit_rows(
         return ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
 
     for kind in _LIMIT_KINDS:
-        ys = [y if on[i] else None for i, y in enumerate(disp_list(arrays[kind]))]
+        ys = disp_list(arrays[kind])
+        if drawn is not None:
+            ys = [y if o else None for y, o in zip(ys, on, strict=False)]
         k = 0
         while k < m:
             if ys[k] is None:
@@ -475,9 +481,11 @@ def _limit_rows(
                     prev = ys[i]
             rows.append({"p": p, "x": xa.half_after(e + offset), "y": ys[e]})
             k = e + 1
-        last = next(((i, y) for i, y in reversed(list(enumerate(ys))) if y is not None), None)
-        if last is not None:
-            i, y = last
+        i = m - 1
+        while i >= 0 and ys[i] is None:
+            i -= 1
+        if i >= 0:
+            y = ys[i]
             labels.append(
                 {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
             )

@@ -3,7 +3,13 @@
 from __future__ import annotations
 
 from ..analysis import MetricAnalysis
-from ..charts import box_chart, histogram_chart, phase_pareto_chart, staged_control_chart
+from ..charts import (
+    SeriesContext,
+    box_chart,
+    histogram_chart,
+    phase_pareto_chart,
+    staged_control_chart,
+)
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
@@ -54,14 +60,17 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
 
 
 def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[str, bytes],
-                 ctx: dict, project_ctx: dict) -> tuple[str, list[dict]]:
+                 ctx: dict, project_ctx: dict,
+                 contexts: dict[int, SeriesContext] | None = None) -> tuple[str, list[dict]]:
+    """The history page and its results.json entries; ``contexts`` holds the series layouts
+    the project page made, by id() of the analysis (made again when missing)."""
     sections, results = [], []
     for a in analyses:
         m = a.spec
         d = Displays(spec.slug, m.id, files, prefix="history-")
         result: dict = {"id": m.id, "name": m.name}
         if a.control is not None and a.data.kind != "categories":
-            sctx = series_context(a, spec)
+            sctx = (contexts or {}).get(id(a)) or series_context(a, spec)
             own = a.after_limits is not None
             # Points are judged against the baseline limits carried forward (a.signals): the
             # question on this page is whether the after data still fits the old process.

@@ -16,6 +16,7 @@ import numpy as np
 from .. import __version__, advice
 from ..analysis import MetricAnalysis, analyse
 from ..charts import (
+    SeriesContext,
     box_chart,
     column_chart,
     control_chart,
@@ -97,8 +98,10 @@ def periods_text(a: MetricAnalysis) -> str:
 
 
 def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes],
-                   metric_problems: list[Problem]) -> tuple[dict, dict]:
-    """The page section and the results.json entry of one metric."""
+                   metric_problems: list[Problem],
+                   contexts: dict[int, SeriesContext] | None = None) -> tuple[dict, dict]:
+    """The page section and the results.json entry of one metric. ``contexts`` collects the
+    metric's series layout by id() of the analysis, for the history page to reuse."""
     m = a.spec
     d = Displays(spec.slug, m.id, files)
     unit = m.unit
@@ -117,6 +120,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     open_signals = 0
     if a.data.kind != "categories":
         ctx = series_context(a, spec)
+        if contexts is not None:
+            contexts[id(a)] = ctx
         pts = a.data.points
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
                             "value": pts["value"].to_numpy(float),
@@ -308,9 +313,10 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     if errors:
         raise ProjectError(errors + problems)
     sections, results = [], []
+    contexts: dict[int, SeriesContext] = {}
     for a in analyses:
         mp = [p for p in problems if p.path == a.spec.file_rel]
-        section, result = metric_section(a, spec, files, mp)
+        section, result = metric_section(a, spec, files, mp, contexts)
         sections.append(section)
         results.append(result)
     notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
@@ -324,7 +330,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     files["index.html"] = html.encode()
     history = None
     if has_history:
-        history_html, history_results = history_page(spec, analyses, files, ctx, project_ctx)
+        history_html, history_results = history_page(spec, analyses, files, ctx, project_ctx,
+                                                       contexts)
         files["history.html"] = history_html.encode()
         history = history_results
     doc = {
