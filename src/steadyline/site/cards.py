@@ -80,7 +80,13 @@ def _number_column(values: list) -> bool:
 
 def _csv_numbers(values: list) -> list[str]:
     """:func:`_csv_cells` for a column of floats and Nones, the texts made in bulk: repr, with
-    the whole numbers, missing and infinite values put right one by one."""
+    the whole numbers, missing and infinite values put right one by one. A column that repeats
+    a few values (centre line, limits) has each distinct value converted once (0.0 and -0.0,
+    merged by the set, are both written "0")."""
+    distinct = set(values)
+    if len(distinct) * 4 <= len(values):
+        text = dict(zip(distinct, _csv_numbers(list(distinct)), strict=True))
+        return [text[v] for v in values]
     arr = np.array(values, dtype=float)  # None -> nan
     out = list(map(repr, values))
     finite = np.isfinite(arr)
