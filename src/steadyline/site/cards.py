@@ -276,7 +276,7 @@ def capability_rows(c, unit: str) -> list[tuple[str, str, str]]:
     if c.normality is not None:
         n = c.normality
         rows.append(("Anderson–Darling A²", fmt(n.statistic, digits=3),
-                     f"p = {format_p_value(n.p_value)}: "
+                     f"{format_p_value(n.p_value)}: "
                      + ("consistent with a normal distribution" if n.normal_at_5pct
                         else "not consistent with a normal distribution at the 5% level")))
     return rows
