@@ -467,3 +467,18 @@ def all_chart_specs():
         ),
     ]
     return out
+
+
+def run_fresh(code: str, **env_extra: str) -> str:
+    """Run *code* in a fresh Python process (with src/ and this folder importable, the
+    folder passed as sys.argv[1]); returns what it printed."""
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    here = Path(__file__).resolve().parent
+    env = dict(os.environ, **env_extra)
+    env["PYTHONPATH"] = str(here.parents[1] / "src") + os.pathsep + env.get("PYTHONPATH", "")
+    return subprocess.run([sys.executable, "-c", code, str(here)], env=env,
+                          capture_output=True, text=True, timeout=120, check=True).stdout

@@ -3,11 +3,7 @@ after phase's own limits (solid, after phase only), signals judged against the b
 
 from __future__ import annotations
 
-import os
 import re
-import subprocess
-import sys
-from pathlib import Path
 
 import pytest
 from chart_fixtures import (
@@ -18,6 +14,7 @@ from chart_fixtures import (
     make_p_chart,
     missing_fields,
     resolved_points,
+    run_fresh,
     unit_views,
 )
 
@@ -170,17 +167,7 @@ def test_renders_with_both_sets_labelled():
         "spec = dict(all_chart_specs())['staged-control-chart own'].spec\n"
         "print(vlc.vegalite_to_svg(spec, allowed_base_urls=[]))\n"
     )
-    env = dict(os.environ, TZ="UTC")
-    src = str(Path(__file__).resolve().parents[2] / "src")
-    env["PYTHONPATH"] = src + os.pathsep + env.get("PYTHONPATH", "")
-    out = subprocess.run(
-        [sys.executable, "-c", code, str(Path(__file__).parent)],
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=120,
-        check=True,
-    ).stdout
+    out = run_fresh(code, TZ="UTC")
     texts = re.findall(r"<text[^>]*>([^<]*)</text>", out)
     for text in (
         "baseline UCL 44.4",

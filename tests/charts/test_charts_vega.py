@@ -4,16 +4,12 @@ from __future__ import annotations
 
 import json
 import math
-import os
 import re
-import subprocess
-import sys
 from datetime import date, datetime
-from pathlib import Path
 
 import pytest
 import vl_convert as vlc
-from chart_fixtures import all_chart_specs, missing_fields, unit_views, walk_values
+from chart_fixtures import all_chart_specs, missing_fields, run_fresh, unit_views, walk_values
 
 SPECS = all_chart_specs()
 IDS = [name for name, _ in SPECS]
@@ -82,17 +78,7 @@ def test_renders_to_svg():
         "spec = dict(all_chart_specs())['control-chart X-mR'].spec\n"
         "print(vlc.vegalite_to_svg(spec, allowed_base_urls=[]))\n"
     )
-    env = dict(os.environ, TZ="UTC")
-    src = str(Path(__file__).resolve().parents[2] / "src")
-    env["PYTHONPATH"] = src + os.pathsep + env.get("PYTHONPATH", "")
-    out = subprocess.run(
-        [sys.executable, "-c", code, str(Path(__file__).parent)],
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=120,
-        check=True,
-    ).stdout
+    out = run_fresh(code, TZ="UTC")
     assert out.lstrip().startswith("<svg")
     texts = re.findall(r"<text[^>]*>([^<]*)</text>", out)
     for text in ("UCL 44.4", "CL 30", "UCL 17.6", "LCL 15.6", "Baseline", "After"):
@@ -109,17 +95,7 @@ def test_deterministic_across_processes():
         "from chart_fixtures import all_chart_specs\n"
         "print(json.dumps([c.spec for _, c in all_chart_specs()], sort_keys=True, allow_nan=False))\n"
     )
-    env = dict(os.environ)
-    src = str(Path(__file__).resolve().parents[2] / "src")
-    env["PYTHONPATH"] = src + os.pathsep + env.get("PYTHONPATH", "")
-    out = subprocess.run(
-        [sys.executable, "-c", code, str(Path(__file__).parent)],
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=120,
-        check=True,
-    ).stdout
+    out = run_fresh(code)
     here = json.dumps([c.spec for _, c in SPECS], sort_keys=True, allow_nan=False)
     assert out.strip() == here
 

@@ -5,11 +5,7 @@ spawn-started worker)."""
 from __future__ import annotations
 
 import json
-import os
 import re
-import subprocess
-import sys
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -19,6 +15,7 @@ from chart_fixtures import (
     make_ctx,
     make_individuals,
     make_run_analysis,
+    run_fresh,
     walk_values,
 )
 
@@ -116,17 +113,7 @@ def test_fresh_process_composes_every_template_quickly_without_altair():
         "t = time.perf_counter(); all_chart_specs(); dt = time.perf_counter() - t\n"
         "print(len(base._TEMPLATES), dt, 'altair' in sys.modules)\n"
     )
-    env = dict(os.environ)
-    src = str(Path(__file__).resolve().parents[2] / "src")
-    env["PYTHONPATH"] = src + os.pathsep + env.get("PYTHONPATH", "")
-    out = subprocess.run(
-        [sys.executable, "-c", code, str(Path(__file__).parent)],
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=120,
-        check=True,
-    ).stdout.split()
+    out = run_fresh(code).split()
     count, seconds, altair_loaded = int(out[0]), float(out[1]), out[2] == "True"
     assert count >= 12
     assert not altair_loaded  # templates are plain dicts: no Altair composition at all

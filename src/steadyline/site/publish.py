@@ -96,19 +96,17 @@ def _fsync_files(paths: list[str]) -> None:
 
 def _fsync_tree(root: Path) -> None:
     """Flush file contents before the swap, so the swap never publishes empty files."""
+    paths = []
     for dirpath, _dirs, files in os.walk(root):
         for f in files:
             path = os.path.join(dirpath, f)
             try:
                 if os.stat(path).st_nlink > 1:
                     continue  # a hard link to a published file: already on disk
-                fd = os.open(path, os.O_RDONLY)
             except OSError:
                 continue
-            try:
-                os.fsync(fd)
-            finally:
-                os.close(fd)
+            paths.append(path)
+    _fsync_files(paths)
 
 
 def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
