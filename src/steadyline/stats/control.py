@@ -395,13 +395,23 @@ def _subgroup_chart(
     m = len(groups_data)
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
-    n = np.array([g.size for g in groups_data], dtype=float)
-    means = np.array([g.mean() for g in groups_data])
+    sizes = np.array([g.size for g in groups_data], dtype=int)
+    n = sizes.astype(float)
     multi = n >= 2
+    # Per-subgroup means, ranges and standard deviations in a few vectorised passes (one Python
+    # call per subgroup would dominate large files); subgroups are never empty (_subgroups).
+    flat = np.concatenate(groups_data) if m else np.zeros(0)
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]) if m else np.zeros(0, dtype=int)
+    means = np.add.reduceat(flat, starts) / n if m else np.zeros(0)
     if spread == "range":
-        disp = np.array([np.ptp(g) if g.size >= 2 else np.nan for g in groups_data])
+        disp = (np.maximum.reduceat(flat, starts) - np.minimum.reduceat(flat, starts)
+                if m else np.zeros(0))
     else:
-        disp = np.array([g.std(ddof=1) if g.size >= 2 else np.nan for g in groups_data])
+        dev = flat - np.repeat(means, sizes)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            disp = (np.sqrt(np.add.reduceat(dev * dev, starts) / (n - 1)) if m
+                    else np.zeros(0))
+    disp = np.where(multi, disp, np.nan)
     notes: list[str] = []
     if (~multi).any():
         what = "range" if spread == "range" else "standard deviation"
