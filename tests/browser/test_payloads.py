@@ -92,22 +92,10 @@ def hostile_url(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
-def chromium():
-    try:
-        from playwright.sync_api import sync_playwright
-    except ImportError as exc:
-        _unavailable(f"playwright is not installed ({exc})")
-    if not (os.path.isfile(CHROMIUM) and os.access(CHROMIUM, os.X_OK)):
-        _unavailable(f"no Chromium at {CHROMIUM}")
-    pw = sync_playwright().start()
-    try:
-        browser = pw.chromium.launch(executable_path=CHROMIUM, headless=True, args=ARGS)
-    except Exception as exc:  # playwright's own error type
-        pw.stop()
-        _unavailable(f"Chromium did not start: {exc}")
-    yield browser
-    browser.close()
-    pw.stop()
+def chromium(browser):
+    """The session's one Chromium (tests/browser/conftest.py): Playwright's sync API allows a
+    single running instance per thread, so every browser test shares it."""
+    return browser
 
 
 def test_no_payload_runs_on_any_page(chromium, hostile_url):
