@@ -118,6 +118,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   "bins": list(m.bins) if isinstance(m.bins, tuple) else m.bins},
     }
     open_signals = 0
+    baseline_signals = 0  # signals that start in the baseline (the rest mostly show the change)
     if a.data.kind != "categories":
         ctx = series_context(a, spec)
         if contexts is not None:
@@ -133,6 +134,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   f"Median of the baseline as centre line; rules: {run_label}.")
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
+            baseline_signals += _in_baseline(a.run.signals, a.stage_names)
         if a.control is not None:
             chart = control_chart(ctx, a.control, a.signals)
             title = f"Control chart: {a.control.label}"
@@ -149,6 +151,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                 "choice": plain(a.choice), "chart": plain(a.control),
                 "signals": signals_json(a.signals, a.x)}
             open_signals += len(a.signals)
+            baseline_signals += _in_baseline(a.signals, a.stage_names)
     if a.histogram is not None:
         chart = histogram_chart(a.histogram, unit=unit, lsl=m.spec_lower, usl=m.spec_upper,
                                 target=m.target, normal_curve=m.normal_curve,
@@ -206,6 +209,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         "rules_text": (f"{signal_label} on the control chart; {run_label} on the run chart"
                        if a.data.kind != "categories" else "Pareto: the vital few reach 80%"),
         "displays": d.cards, "capability": cap, "open_signals": open_signals,
+        "baseline_signals": baseline_signals,
         "problems": [{"severity": "warning", "text": f"{disp}: {msg}"}
                      for disp, msg in a.failures] + [
             {"severity": p.severity, "text": p.format()} for p in metric_problems],
@@ -221,6 +225,10 @@ def _sentence(text: str) -> str:
         return text
     text = text[0].upper() + text[1:]
     return text if text.endswith((".", "!", "?")) else text + "."
+
+
+def _in_baseline(signals, stage_names) -> int:
+    return sum(1 for g in signals if g.indices and stage_names[g.indices[0]] == "Baseline")
 
 
 def _after_labels(a: MetricAnalysis) -> tuple[str, ...]:
@@ -372,6 +380,7 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
         if head.data.kind != "categories":
             headline["spark"], headline["spark_split"] = sparkline(head)
     signals = sum(s["open_signals"] for s in sections)
+    baseline_signals = sum(s["baseline_signals"] for s in sections)
     warnings = sum(len(c["cautions"]) for s in sections for c in s["displays"])
     warnings += sum(1 for p in problems if p.severity == "warning")
     text = " ".join([spec.title, spec.owner, spec.phase, spec.problem, *spec.tags,
@@ -380,7 +389,7 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
             "phase_label": PHASE_LABEL[spec.phase], "tags": list(spec.tags),
             "href": f"projects/{spec.slug}/index.html",
             "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
-            "headline": headline, "signals": signals, "warnings": warnings,
+            "headline": headline, "signals": signals, "baseline_signals": baseline_signals, "warnings": warnings,
             "search_text": text, "broken": False, "problem_count": 0}
 
 
