@@ -49,10 +49,6 @@ def list_dates(labels: Sequence[str]) -> str:
     return ", ".join(labels[:MAX_DATES_LISTED]) + f" and {len(labels) - MAX_DATES_LISTED} more"
 
 
-def signal_sentence(sig: Signal, x: Sequence[str], what: str = "point") -> str:
-    return group_sentence([sig], x, what)
-
-
 def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point",
                    phase: str = "") -> str:
     """One sentence for every occurrence of one rule (on one chart, in one phase)."""

@@ -203,24 +203,9 @@ def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
         return None  # sigma of rolled-up means is not the sigma of single values
     if stage == STAGE_BASELINE:
         return chart.process_sigma
-    # per-phase chart: process_sigma is the baseline's; recompute from the after stage alone
-    data = res.data
-    st = data.points["stage"].to_numpy(int)
-    sel = st == stage
-    if sel.sum() < 2:
-        return None
-    try:
-        sub = _control(res.choice.kind if res.choice else "xmr",
-                       _subset(data, sel), np.zeros(int(sel.sum()), dtype=int), "baseline")
-    except StatsError:
-        return None
-    return sub.process_sigma
-
-
-def _subset(data: MetricData, sel: np.ndarray) -> MetricData:
-    pts = data.points[sel].reset_index(drop=True)
-    groups = [g for g, s in zip(data.subgroups, sel, strict=True) if s] if data.subgroups else None
-    return MetricData(data.spec, data.kind, pts, subgroups=groups)
+    # the per-phase chart fitted each stage on its own points and keeps each stage's sigma
+    sigma = chart.extras.get(f"process_sigma_stage_{stage}")
+    return None if sigma is None else float(sigma)
 
 
 def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int) -> Capability | None:

@@ -17,7 +17,6 @@ Time parsing (documented in the README):
 from __future__ import annotations
 
 import csv
-import datetime as dt
 import difflib
 import io
 import re
@@ -700,11 +699,3 @@ def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
     })
     pts["segment"] = 0
     return pts, values
-
-
-def describe_period(p: Period | None) -> str:
-    return p.label() if p else "all data"
-
-
-def today() -> dt.date:  # pragma: no cover - tiny seam for tests
-    return dt.date.today()

@@ -8,8 +8,6 @@ from __future__ import annotations
 
 import functools
 import hashlib
-import shutil
-from pathlib import Path
 
 from .templates import templates_dir
 
@@ -45,16 +43,3 @@ def assets_key() -> str:
             h.update(p.relative_to(src).as_posix().encode())
             h.update(hashlib.sha256(p.read_bytes()).digest())
     return h.hexdigest()
-
-
-def write_assets(out: Path) -> None:
-    dest = out / "assets"
-    dest.mkdir(parents=True, exist_ok=True)
-    for name, data in asset_files().items():
-        p = dest / name
-        p.parent.mkdir(parents=True, exist_ok=True)
-        p.write_bytes(data)
-
-
-def copy_tree(src: Path, dst: Path) -> None:
-    shutil.copytree(src, dst, dirs_exist_ok=True)

@@ -18,8 +18,10 @@ not churn).
 
 from __future__ import annotations
 
+import hashlib
 import json
 import os
+import shutil
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import get_context
@@ -182,7 +184,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     }
     manifest_bytes = (dumps(new_manifest, indent=None) + "\n").encode()
     report.stamps = {slug: hashes[slug][:16] for slug in entries}
-    report.stamps["__index__"] = __import__("hashlib").sha256(index).hexdigest()[:16]
+    report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
 
     unchanged = (not outcomes and out.is_dir()
                  and _same(out / "index.html", index) and _same(out / MANIFEST, manifest_bytes))
@@ -214,8 +216,6 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         # 7. publish
         publish(staged, out, written)
     except BaseException:
-        import shutil
-
         shutil.rmtree(staged, ignore_errors=True)
         raise
     report.written = True

@@ -220,7 +220,7 @@ class Displays:
         self.files[spec_name] = (text + "\n").encode()
         card = {
             "key": key, "title": title, "anchor": base, "chart_id": f"chart-{base}",
-            # script_json leaves no '<', '>' or '&', so the JSON cannot end its script element
+            # escape_for_script leaves no '<', '>' or '&', so the JSON cannot end its script element
             "spec_json": Markup(escape_for_script(text)),
             "summary": chart.summary,
             "findings": [f.__dict__ for f in findings], "cautions": list(dict.fromkeys(cautions)),

@@ -293,7 +293,6 @@ def _git_dates(folder: Path) -> dict[Path, str]:
     current = None
     for line in log.stdout.splitlines():
         if line.startswith(">"):
-            current = line[1:].replace("T", " ")[:16] + " " + line[20:].strip()[-6:]
             current = line[1:]
         elif line.strip() and current:
             p = (gitroot / line.strip()).resolve()

@@ -189,15 +189,6 @@ def compact(spec: dict) -> str:
                       separators=(",", ":"))
 
 
-def script_json(obj: Any) -> str:
-    """JSON for a <script type="application/json"> block: cannot close the tag or open a comment.
-
-    '<', '>' and '&' are written as unicode escapes, which JSON.parse reads back unchanged.
-    """
-    return escape_for_script(json.dumps(plain(obj), sort_keys=True, ensure_ascii=False,
-                                        allow_nan=False, separators=(",", ":")))
-
-
 def escape_for_script(text: str) -> str:
     """Make JSON text safe inside a script element."""
     return (text.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")

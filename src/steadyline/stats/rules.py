@@ -187,23 +187,6 @@ def rule_description(key: str) -> str:
 # pattern finders on one clean segment (no nan), returning (indices into segment, side)
 
 
-def _merge(found: list[tuple[set[int], str | None]]) -> list[tuple[list[int], str | None]]:
-    """Merge detections of the same side whose index sets share a point."""
-    merged: list[tuple[set[int], str | None]] = []
-    for idx, side in found:
-        joined = set(idx)
-        keep = []
-        for other, other_side in merged:
-            if other_side == side and other & joined:
-                joined |= other
-            else:
-                keep.append((other, other_side))
-        keep.append((joined, side))
-        merged = keep
-    merged.sort(key=lambda item: min(item[0]))
-    return [(sorted(i), s) for i, s in merged]
-
-
 def _runs(flags: np.ndarray, min_len: int) -> Iterator[tuple[int, int]]:
     """Maximal runs of True of at least ``min_len``: (start, stop) half-open."""
     f = np.asarray(flags, dtype=bool)
