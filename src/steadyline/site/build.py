@@ -5,13 +5,14 @@
 3. plan      - hash each project's inputs (files, tool version, templates, settings) and decide
                which projects must be rebuilt: a project whose hash matches the published site's
                manifest is reused as it is;
-4. compute   - build the changed projects in memory (a process pool when there are several);
-               nothing is written yet, so a failure here leaves the published site untouched;
+4. compute   - build the changed projects (a process pool when there are several); each worker
+               writes its project's files into a staging folder beside the output, never into
+               the published site, so a failure here leaves the published site untouched;
 5. index     - render the index from every project's entry (always, since it lists them all);
-6. stage     - write new files and hard-link reused ones into a staging folder beside the output;
-7. publish   - swap the staging folder in atomically.
+6. stage     - write the index and assets, and hard-link reused projects into the staging folder;
+7. publish   - flush the staging folder to disk and swap it in atomically.
 
-Gathering everything before writing anything is what keeps a half-written site from ever being
+Writing only into the staging folder is what keeps a half-written site from ever being
 published. When nothing changed at all, nothing is written (a site kept in a repository does
 not churn).
 """
@@ -22,6 +23,7 @@ import hashlib
 import json
 import os
 import shutil
+import threading
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import get_context
@@ -79,10 +81,17 @@ def _read_manifest(out: Path) -> dict:
 
 
 def _worker(args) -> ProjectOutcome:
+    """Build one project and write its files under *target* (in the staging folder). The
+    outcome returned carries the names of the files written, not their bytes, so that the
+    pool does not send every page back through a pipe."""
     from .project import build_project  # the statistics stack: loaded only when needed
 
-    folder, root, settings, live, debug = args
-    return build_project(folder, root, settings, live=live, debug=debug)
+    folder, root, settings, live, debug, target = args
+    outcome = build_project(folder, root, settings, live=live, debug=debug)
+    outcome.written = write_files(target, outcome.files)
+    outcome.names = sorted(outcome.files)
+    outcome.files = {}
+    return outcome
 
 
 def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
@@ -142,75 +151,79 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
                  and _all_files(out / "projects" / f.name, prev["files"]))
         (reuse if fresh else todo).append(f)
 
-    # 4. compute
+    # 4. compute, into the staging folder
     jobs = opts.jobs or os.cpu_count() or 1
     live = LIVE_STATE if opts.live else None
     progress = progress_cb or (lambda slug: None)
-    tasks = [(f, root, settings, live, opts.debug) for f in todo]
-    outcomes = compute(tasks, jobs, progress)
-    if any(p.severity == "error" for p in portfolio_problems):
-        # A broken portfolio.toml: its defaults are used and every project says so.
-        for o in outcomes:
-            o.problems = portfolio_problems + o.problems
-
-    entries: dict[str, dict] = {}
-    files_of: dict[str, list[str]] = {}
-    for o in outcomes:
-        entries[o.slug] = o.entry
-        files_of[o.slug] = sorted(o.files)
-        report.problems.extend(o.problems)
-        (report.built if o.ok else report.broken).append(o.slug)
-    for f in reuse:
-        prev = old[f.name]
-        entries[f.name] = prev["entry"]
-        files_of[f.name] = prev["files"]
-        report.reused.append(f.name)
-        if prev["entry"].get("broken"):
-            report.broken.append(f.name)
-            report.problems.extend(Problem(**p) for p in prev.get("problems", []))
-
-    # 5. index and manifest
-    index = index_page(list(entries.values()), settings, opts.live)
-    problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
     akey = assets_key()
-    new_manifest = {
-        "version": __version__,
-        "assets": akey,
-        "projects": {
-            slug: {"hash": hashes[slug], "files": files_of[slug], "entry": entries[slug],
-                   "problems": problems_of.get(slug, old.get(slug, {}).get("problems", []))}
-            for slug in sorted(entries)
-        },
-    }
-    manifest_bytes = (dumps(new_manifest, indent=None) + "\n").encode()
-    report.stamps = {slug: hashes[slug][:16] for slug in entries}
-    report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
-
-    unchanged = (not outcomes and out.is_dir()
-                 and _same(out / "index.html", index) and _same(out / MANIFEST, manifest_bytes))
-    if unchanged:
-        return report
-
-    # 6. stage
-    clean_stale(out)
+    old_assets = out / "assets"
+    reuse_assets = manifest.get("assets") == akey and old_assets.is_dir()
     staged = staging_dir(out)
-    try:
+    if todo:
+        clean_stale(out)
         staged.mkdir(parents=True)
-        written: list[str] = []
-        old_assets = out / "assets"
-        if manifest.get("assets") == akey and old_assets.is_dir():
+    try:
+        assets = _Assets(reuse_assets or not todo)  # the Vega bundle, made while workers run
+        tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name) for f in todo]
+        outcomes = compute(tasks, jobs, progress)
+        if any(p.severity == "error" for p in portfolio_problems):
+            # A broken portfolio.toml: its defaults are used and every project says so.
+            for o in outcomes:
+                o.problems = portfolio_problems + o.problems
+
+        entries: dict[str, dict] = {}
+        files_of: dict[str, list[str]] = {}
+        for o in outcomes:
+            entries[o.slug] = o.entry
+            files_of[o.slug] = o.names
+            report.problems.extend(o.problems)
+            (report.built if o.ok else report.broken).append(o.slug)
+        for f in reuse:
+            prev = old[f.name]
+            entries[f.name] = prev["entry"]
+            files_of[f.name] = prev["files"]
+            report.reused.append(f.name)
+            if prev["entry"].get("broken"):
+                report.broken.append(f.name)
+                report.problems.extend(Problem(**p) for p in prev.get("problems", []))
+
+        # 5. index and manifest
+        index = index_page(list(entries.values()), settings, opts.live)
+        problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
+        new_manifest = {
+            "version": __version__,
+            "assets": akey,
+            "projects": {
+                slug: {"hash": hashes[slug], "files": files_of[slug], "entry": entries[slug],
+                       "problems": problems_of.get(slug, old.get(slug, {}).get("problems", []))}
+                for slug in sorted(entries)
+            },
+        }
+        manifest_bytes = (dumps(new_manifest, indent=None) + "\n").encode()
+        report.stamps = {slug: hashes[slug][:16] for slug in entries}
+        report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
+
+        unchanged = (not outcomes and out.is_dir()
+                     and _same(out / "index.html", index) and _same(out / MANIFEST, manifest_bytes))
+        if unchanged:
+            return report
+
+        # 6. stage
+        if not todo:
+            clean_stale(out)
+            staged.mkdir(parents=True)
+        written: list[str] = [w for o in outcomes for w in o.written]
+        if reuse_assets:
             # Same assets as published: reuse them instead of rebuilding the Vega bundle.
             names = [p.relative_to(old_assets).as_posix() for p in sorted(old_assets.rglob("*"))
                      if p.is_file()]
             link_tree(old_assets, staged / "assets", names)
         else:
-            written += write_files(staged, {f"assets/{n}": b for n, b in asset_files().items()})
+            written += write_files(staged, {f"assets/{n}": b for n, b in assets.files().items()})
         written += write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
         if opts.live:
             written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
                                                          + "\n").encode()})
-        for o in outcomes:
-            written += write_files(staged / "projects" / o.slug, o.files)
         for f in reuse:
             link_tree(out / "projects" / f.name, staged / "projects" / f.name, files_of[f.name])
         # 7. publish
@@ -220,6 +233,34 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         raise
     report.written = True
     return report
+
+
+class _Assets:
+    """The asset files, made in a thread started now: building the Vega bundle takes about a
+    second, which overlaps with the workers instead of following them."""
+
+    def __init__(self, skip: bool):
+        self._files: dict[str, bytes] | None = None
+        self._error: BaseException | None = None
+        self._thread = None if skip else threading.Thread(target=self._make, daemon=True)
+        if self._thread is not None:
+            self._thread.start()
+
+    def _make(self) -> None:
+        try:
+            self._files = asset_files()
+        except BaseException as e:  # re-raised in the main thread by files()
+            self._error = e
+
+    def files(self) -> dict[str, bytes]:
+        if self._thread is not None:
+            self._thread.join()
+            self._thread = None
+        if self._error is not None:
+            raise self._error
+        if self._files is None:
+            self._files = asset_files()
+        return self._files
 
 
 def _all_files(folder: Path, names: list[str]) -> bool:

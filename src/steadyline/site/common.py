@@ -42,6 +42,8 @@ class ProjectOutcome:
     files: dict[str, bytes] = field(default_factory=dict)
     entry: dict = field(default_factory=dict)
     problems: list[Problem] = field(default_factory=list)  # errors and warnings, for the terminal
+    names: list[str] = field(default_factory=list)  # set by the build once files are written
+    written: list[str] = field(default_factory=list)  # their paths in the staging folder
 
 
 def page_context(root: str, settings: PortfolioSettings, live: str | None) -> dict:

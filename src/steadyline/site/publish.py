@@ -34,6 +34,36 @@ def _renameat2():
 _EXCHANGE = _renameat2()
 
 
+def _syncfs_fn():
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
+        fn = libc.syncfs
+    except (OSError, AttributeError):
+        return None
+    fn.argtypes = [ctypes.c_int]
+    fn.restype = ctypes.c_int
+    return fn
+
+
+_SYNCFS = _syncfs_fn()
+
+
+def syncfs(folder: Path) -> bool:
+    """Flush every written file of the file system holding *folder* in one call (Linux
+    ``syncfs``): far quicker than one ``fsync`` per file for thousands of files. False when
+    the system cannot do it."""
+    if _SYNCFS is None:
+        return False
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return False
+    try:
+        return _SYNCFS(fd) == 0
+    finally:
+        os.close(fd)
+
+
 def exchange(a: Path, b: Path) -> bool:
     """Atomically swap two existing paths. False when the system cannot do it."""
     if _EXCHANGE is None:
@@ -63,10 +93,14 @@ def clean_stale(out: Path) -> None:
 def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
     """Make *staged* the published site at *out*, atomically.
 
+    The staging folder's contents are flushed to disk first, so that the swap never publishes
+    empty files after a power cut: by one ``syncfs`` where the system has it, else file by file.
     *written* lists the files written anew into the staging folder: only those need flushing
     (the rest are hard links to published files); None flushes everything.
     """
-    if written is None:
+    if syncfs(staged):
+        pass
+    elif written is None:
         _fsync_tree(staged)
     else:
         _fsync_files(written)

@@ -59,6 +59,8 @@ def _array(a: np.ndarray) -> list:
 
 _PLAIN_LIST_TYPES = frozenset((int, str))
 _FLOAT_ONLY = frozenset((float,))
+_FLOAT_OR_NONE = frozenset((float, type(None)))
+_BOOL_ONLY = frozenset((bool,))
 
 
 @functools.cache
@@ -153,8 +155,10 @@ def _plain_lists(obj: Any, lists: list[str]) -> Any:
         types = set(map(type, obj))
         if types == _FLOAT_ONLY:
             return _token(_array(np.asarray(obj, dtype=float)), lists)
-        if types <= _PLAIN_LIST_TYPES:
+        if types <= _PLAIN_LIST_TYPES or types == _BOOL_ONLY:
             return list(obj)
+        if types == _FLOAT_OR_NONE:  # None -> nan -> null, as plain() writes it
+            return _token(_array(np.array(obj, dtype=float)), lists)
         return [_plain_lists(v, lists) for v in obj]
     if t is np.ndarray and obj.dtype.kind == "f":
         return _token(_array(obj), lists)
