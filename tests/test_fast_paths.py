@@ -54,3 +54,27 @@ def test_dumps_matches_plain_json_for_long_float_lists():
         assert dumps(doc, indent=None) == reference
         back = json.loads(dumps(doc, indent=None))
         assert all(x is None or math.isfinite(x) for x in back["a"])
+
+
+def test_awkward_text_check_matches_the_regular_expression():
+    # the substring checks in loading._awkward must agree with the full regular expression
+    import random
+
+    from steadyline.loading import _AWKWARD, _awkward
+
+    rng = random.Random(5)
+    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    cases = ["", "a,b\n1,2\n", "\na,b\n", " \na", "a\r\nb\r\n", "a\rb", "a\n \t\nb", "a\n\r\nb"]
+    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12)))
+              for _ in range(5000)]
+    for text in cases:
+        assert _awkward(text) == (_AWKWARD.search(text) is not None), repr(text)
+
+
+def test_plain_reader_strips_cells_like_the_careful_reader():
+    # non-breaking and other Unicode spaces around a value are stripped on the fast path too
+    from steadyline.loading import _read_plain
+
+    df = _read_plain("t,v\n2026-01-01,\u00a01.5\u2003\n2026-01-02,\x0b2\n", ",")
+    assert df is not None
+    assert df["v"].tolist() == ["1.5", "2"]

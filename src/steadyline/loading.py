@@ -113,6 +113,23 @@ def _size_text(size: float) -> str:
 
 
 _AWKWARD = re.compile(r'"|\n[ \t\r]*\n|^[ \t\r]*\n|\r(?!\n)')
+_BLANK_LINE = re.compile(r'\n[ \t\r]*\n|^[ \t\r]*\n')
+# Whitespace str.strip() removes, besides the line ends the reader consumes.
+_ASCII_SPACE = re.compile(r"[ \t\x0b\x0c\x1c-\x1f]")
+
+
+def _awkward(text: str) -> bool:
+    """``_AWKWARD.search(text)``: quote marks, blank lines or lone carriage returns, checked
+    with plain substring tests first (a regular expression scan of a large file is slow)."""
+    if '"' in text:
+        return True
+    if "\r" in text and text.count("\r") != text.count("\r\n"):
+        return True
+    if "\n\n" in text or "\n\r\n" in text or text.startswith(("\n", "\r\n")):
+        return True
+    if " " in text or "\t" in text or "\r" in text:
+        return _BLANK_LINE.search(text) is not None
+    return False
 
 
 def _complete_rows(text: str, delim: str, width: int) -> bool:
@@ -135,7 +152,7 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     careful reader below, in a fraction of the time. Anything unusual returns None, and the
     careful reader takes over (and names the lines of any problem).
     """
-    if _AWKWARD.search(text):
+    if _awkward(text):
         return None
     first = text.split("\n", 1)[0].rstrip("\r")
     header = [h.strip() for h in first.split(delim)]
@@ -148,8 +165,8 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
         return None
     if len(df) == 0 or df.isna().to_numpy().any() or not _complete_rows(text, delim, len(header)):
         return None
-    if " " in text or "\t" in text:
-        for c in df.columns:
+    if not text.isascii() or _ASCII_SPACE.search(text):
+        for c in df.columns:  # cells are stripped, as the careful reader strips them
             df[c] = df[c].str.strip()
     df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
     return df
@@ -304,7 +321,7 @@ def _why_not_number(cell: str, what: str, decimal: str) -> str:
 
 def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, integer=False,
              minimum: float | None = None, what="a number") -> pd.Series:
-    s = df[col].str.strip()
+    s = df[col]  # cells come stripped from _read_table
     dec = spec.csv.decimal
     blank = (s == "").to_numpy()
     num = pd.Series(np.nan, index=df.index, dtype=float)
@@ -390,7 +407,7 @@ def _quick_naive(s: pd.Series) -> pd.Series | None:
 
 
 def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
-    s = df[col].str.strip()
+    s = df[col]  # cells come stripped from _read_table
     blank = s == ""
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
