@@ -35,6 +35,10 @@ def test_csv_text_columns_match_the_cell_by_cell_writer():
     col = ["plain", "=1+1", "+SUM(A1)", "-3.5", "a,b", 'say "hi"', "line\nbreak", "@cmd", None,
            "2026-01-05", "", "-", "\t=1"]
     assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
+    # all-text columns take the bulk check: plain ones, and ones with a cell to quote or guard
+    for col in (["2026-01-05", "2026-01-06T10:00Z", "baseline"], ["a", "b,c"], ["a", "=x"],
+                ["a", "-1"], ["a", 'q"'], ["a", "\rb"], [""], ["a", "\t=1"]):
+        assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
 
 
 def test_html_cells_match_autoescaped_cells():
@@ -46,13 +50,18 @@ def test_html_cells_match_autoescaped_cells():
 
 
 def test_dumps_matches_plain_json_for_long_float_lists():
+    # reference: the standard library's json encoder on the plain() copy, value for value
     for seed in range(3):
         vals = [v for v in _values(seed) if v is None or isinstance(v, float)]
-        doc = {"a": vals, "b": {"c": vals[:40], "d": ["x", 1, 2.5]}, "e": np.array(vals[:64])}
+        doc = {"a": vals, "b": {"c": vals[:40], "d": ["x", 1, 2.5, "é\u2028<"]},
+               "e": np.array(vals[:64]), "f": [True, False], "ü": 2**70}
         reference = json.dumps(plain(doc), sort_keys=True, ensure_ascii=False, allow_nan=False,
                                separators=(",", ":"))
-        assert dumps(doc, indent=None) == reference
-        back = json.loads(dumps(doc, indent=None))
+        text = dumps(doc, indent=None)
+        assert json.loads(text) == json.loads(reference)
+        assert list(json.loads(text)) == sorted(json.loads(text))  # keys sorted
+        assert dumps(doc, indent=None) == text  # deterministic
+        back = json.loads(text)
         assert all(x is None or math.isfinite(x) for x in back["a"])
 
 

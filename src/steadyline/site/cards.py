@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import operator
 import re
 from itertools import repeat
 
@@ -103,6 +104,8 @@ def _csv_cells(values: list) -> list[str]:
     case (most cells) written out inline: the same text, without two calls per cell."""
     if _number_column(values):
         return _csv_numbers(values)
+    if _plain_text_column(values):
+        return values
     out: list[str] = []
     add = out.append
     memo: dict[str, str] = {}
@@ -125,6 +128,17 @@ def _csv_cells(values: list) -> list[str]:
 
 
 _INFINITIES = (math.inf, -math.inf)
+_STARTS_FORMULA = operator.methodcaller("startswith", _FORMULA_START)
+
+
+def _plain_text_column(values: list) -> bool:
+    """Whether every cell is text that goes into the CSV as it is (dates, phase names): no
+    formula start, nothing to quote. Checked in bulk instead of cell by cell."""
+    if not values or set(map(type, values)) != {str}:
+        return False
+    joined = "\x00".join(values)
+    return (not _NEEDS_QUOTES.search(joined)
+            and not any(map(_STARTS_FORMULA, values)))
 
 
 def table_csv(chart: ChartSpec) -> bytes:
