@@ -22,7 +22,7 @@ from steadyline.stats.results import Histogram, Pareto
 
 def _ok(cs):
     json.dumps(cs.spec, allow_nan=False)
-    json.dumps(cs.table, allow_nan=False)
+    json.dumps(list(cs.table), allow_nan=False)
     vlc.vegalite_to_vega(cs.spec)
     assert missing_fields(cs.spec) == []
 

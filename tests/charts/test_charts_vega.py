@@ -53,7 +53,7 @@ def test_plain_json_no_nan_no_urls(name, chart):
             assert "://" not in v or v.startswith("https://vega.github.io/schema/vega-lite/")
             assert not v.startswith("\u00a7\u00a7"), f"unfilled template placeholder {v}"
     assert '"url"' not in text
-    json.dumps(chart.table, allow_nan=False)
+    json.dumps(list(chart.table), allow_nan=False)
     for row in chart.table:
         assert tuple(row) == chart.columns
 

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from datetime import UTC, date, datetime
 
 import numpy as np
+import orjson
 
 from . import style, vl
 
@@ -53,6 +54,40 @@ class SeriesContext:
             )
 
 
+class ColumnTable(Sequence):
+    """A chart's table held column by column (how the charts build it and how the CSV writer
+    reads it); it reads as a list of row dicts, made only when asked for."""
+
+    def __init__(self, columns: Sequence[str], cols: dict[str, list]):
+        self.columns = tuple(columns)
+        self.cols = {c: cols[c] for c in self.columns}
+        lengths = {len(v) for v in self.cols.values()}
+        if len(lengths) > 1:
+            raise ValueError(f"table columns differ in length: {sorted(lengths)}")
+        self.n = lengths.pop() if lengths else 0
+        self._rows: list[dict] | None = None
+
+    def rows(self) -> list[dict]:
+        if self._rows is None:
+            self._rows = [dict(zip(self.columns, r, strict=True))
+                          for r in zip(*self.cols.values(), strict=True)]
+        return self._rows
+
+    def __len__(self) -> int:
+        return self.n
+
+    def __getitem__(self, i):
+        return self.rows()[i]
+
+    def __iter__(self):
+        return iter(self.rows())
+
+    def __eq__(self, other) -> bool:
+        return isinstance(other, Sequence) and list(self) == list(other)
+
+    __hash__ = None  # type: ignore[assignment]
+
+
 @dataclass(frozen=True)
 class ChartSpec:
     """One chart, ready to embed.
@@ -75,6 +110,10 @@ class ChartSpec:
 
 _PLACEHOLDER = "\u00a7\u00a7"  # "§§name" marks a per-metric value in a cached template
 _TEMPLATES: dict[tuple[Hashable, ...], dict] = {}
+# Per cached template (by id; the templates stay alive in _TEMPLATES): its JSON text, which
+# orjson turns back into a fresh deep copy far quicker than a Python walk, and the paths of its
+# placeholders.
+_COPIES: dict[int, tuple[bytes, list[tuple[tuple, str, bool]]]] = {}
 
 
 def slot(name: str) -> str:
@@ -93,16 +132,56 @@ def cached_template(key: tuple[Hashable, ...], build: Callable[[], dict]) -> dic
     if tpl is None:
         tpl = build()
         _TEMPLATES[key] = tpl
+        slots: list[tuple[tuple, str, bool]] = []
+        _find_slots(tpl, (), slots)
+        _COPIES[id(tpl)] = (orjson.dumps(tpl), slots)
     return tpl
 
 
 def clear_template_cache() -> None:
     """Forget every composed template (tests compare cached and fresh compositions)."""
     _TEMPLATES.clear()
+    _COPIES.clear()
+
+
+def _find_slots(node, path: tuple, out: list) -> None:
+    """(path, name, is a list slot) of every placeholder under *node*, in document order."""
+    if isinstance(node, dict):
+        for k, v in node.items():
+            _find_slots(v, (*path, k), out)
+    elif isinstance(node, list):
+        if len(node) == 1 and isinstance(node[0], str) and node[0].startswith(_PLACEHOLDER):
+            out.append((path, node[0][len(_PLACEHOLDER):], True))
+            return
+        for i, v in enumerate(node):
+            _find_slots(v, (*path, i), out)
+    elif isinstance(node, str) and node.startswith(_PLACEHOLDER):
+        out.append((path, node[len(_PLACEHOLDER):], False))
+
+
+def _slot_value(name: str, values: dict, is_list: bool):
+    if is_list and name in values and isinstance(values[name], list):
+        return list(values[name])
+    if name not in values:
+        raise KeyError(f"no value given for the template placeholder {name!r}")
+    return [values[name]] if is_list else values[name]
 
 
 def fill(node, values: dict):
     """A deep copy of a template with every placeholder replaced by ``values[name]``."""
+    cached = _COPIES.get(id(node))
+    if cached is not None:  # a cached template (alive in _TEMPLATES, so the id is its own)
+        text, slots = cached
+        copy = orjson.loads(text)
+        for path, name, is_list in slots:
+            value = _slot_value(name, values, is_list)
+            if not path:
+                return value
+            parent = copy
+            for k in path[:-1]:
+                parent = parent[k]
+            parent[path[-1]] = value
+        return copy
     if isinstance(node, dict):
         return {k: fill(v, values) for k, v in node.items()}
     if isinstance(node, list):

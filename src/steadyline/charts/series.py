@@ -10,6 +10,7 @@ from ..stats.results import ControlChart, RunChartAnalysis, Signal
 from . import style, vl
 from .base import (
     ChartSpec,
+    ColumnTable,
     SeriesContext,
     XAxis,
     band_layers,
@@ -609,16 +610,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
     all_marked = _signal_text(analysis.signals, n)
-    table = []
-    for i in range(n):
-        row = {x_col: ctx.x[i]}
-        if has_stage:
-            row["phase"] = ctx.stage[i]
-        row["value"] = num(vals[i])
-        row["median"] = median
-        row["signals"] = "; ".join(all_marked.get(i, []))
-        table.append(row)
     columns = (x_col,) + (("phase",) if has_stage else ()) + ("value", "median", "signals")
+    table = ColumnTable(columns, {
+        x_col: list(ctx.x), "phase": list(ctx.stage), "value": num_list(vals),
+        "median": [median] * n,
+        "signals": ["; ".join(all_marked[i]) if i in all_marked else "" for i in range(n)]})
     summary = (
         f"Run chart of {ctx.metric_name}: {plural(n, 'point')}, {median_text}; "
         f"{_signals_sentence(analysis.signals)}."
@@ -848,9 +844,7 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
         else ""
         for i in range(n)
     ]
-    table = [dict(zip(columns, r, strict=True))
-             for r in zip(*(cols[name] for name in columns), strict=True)]
-    return table, tuple(columns)
+    return ColumnTable(columns, cols), tuple(columns)
 
 
 def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Signal]) -> ChartSpec:

@@ -12,6 +12,7 @@ from markupsafe import Markup, escape
 
 from ..analysis import MetricAnalysis
 from ..charts import ChartSpec, SeriesContext
+from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..stats.compare import format_p_value
 from .serialise import compact, escape_for_script
@@ -146,7 +147,10 @@ def table_csv(chart: ChartSpec) -> bytes:
     for spreadsheets."""
     cols = list(chart.columns)
     table = chart.table
-    columns = [_csv_cells(list(map(dict.get, table, repeat(c)))) for c in cols]
+    if isinstance(table, ColumnTable) and table.columns == tuple(cols):
+        columns = [_csv_cells(table.cols[c]) for c in cols]
+    else:
+        columns = [_csv_cells(list(map(dict.get, table, repeat(c)))) for c in cols]
     lines = [",".join(_csv_field(safe_cell(c)) for c in cols)]
     lines += map(",".join, zip(*columns, strict=True)) if cols else [""] * len(table)
     return ("\n".join(lines) + "\n").encode("utf-8")
@@ -203,8 +207,13 @@ _HTML_SPECIAL = re.compile("[&<>\"']")
 def table_body(table: list[dict], columns, limit: int) -> Markup:
     """The rows of a data table as HTML, ``<tr><td>..</td></tr>`` per row, the first ``limit``
     rows only."""
-    rows = table[:limit]
-    cells = [_html_cells(list(map(dict.get, rows, repeat(c)))) for c in columns]
+    if isinstance(table, ColumnTable) and table.columns == tuple(columns):
+        n = min(limit, len(table))
+        cells = [_html_cells(table.cols[c][:n]) for c in columns]
+        rows = range(n)
+    else:
+        rows = table[:limit]
+        cells = [_html_cells(list(map(dict.get, rows, repeat(c)))) for c in columns]
     if not cells:
         return Markup("<tr></tr>" * len(rows))
     return Markup("".join(

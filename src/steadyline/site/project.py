@@ -257,8 +257,10 @@ def spec_text(m) -> str:
 
 
 def provenance(spec: ProjectSpec, root: Path) -> list[dict]:
+    # ordered by the name shown, whether the projects folder was given relative or absolute
     files = sorted({spec.meta_path} | {m.file for m in spec.metrics}
-                   | ({spec.notes_path} if spec.notes_path else set()))
+                   | ({spec.notes_path} if spec.notes_path else set()),
+                   key=lambda f: rel(f, root))
     dates = _git_dates(spec.folder)
     out = []
     for f in files:
