@@ -31,6 +31,15 @@ def test_csv_number_columns_match_the_cell_by_cell_writer():
         assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
 
 
+def test_csv_number_columns_match_repr_over_the_whole_float_range():
+    # reference: Python's repr (shortest round-trip digits) through the one-cell writer
+    rng = np.random.default_rng(11)
+    for _ in range(50):
+        col = (rng.normal(0, 10, 200) * 10.0 ** rng.integers(-30, 30, 200)).tolist()
+        col += [1e-5, 1e-4, 0.0001234, 123456789012345.6, 9.999999999999999e15, 1e22, 5e-324]
+        assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
+
+
 def test_csv_text_columns_match_the_cell_by_cell_writer():
     col = ["plain", "=1+1", "+SUM(A1)", "-3.5", "a,b", 'say "hi"', "line\nbreak", "@cmd", None,
            "2026-01-05", "", "-", "\t=1"]

@@ -8,6 +8,7 @@ import re
 from itertools import repeat
 
 import numpy as np
+import orjson
 from markupsafe import Markup, escape
 
 from ..analysis import MetricAnalysis
@@ -90,8 +91,16 @@ def _csv_numbers(values: list) -> list[str]:
         text = dict(zip(distinct, _csv_numbers(list(distinct)), strict=True))
         return [text[v] for v in values]
     arr = np.array(values, dtype=float)  # None -> nan
-    out = list(map(repr, values))
+    # orjson writes the same shortest digits as repr, in C; it places the decimal point or
+    # writes the exponent differently where repr writes an exponent (below 1e-4 and from 1e16
+    # on), so those cells, and any with an exponent, are put right with repr below.
+    out = orjson.dumps(values).decode("ascii")[1:-1].split(",")
     finite = np.isfinite(arr)
+    mag = np.abs(np.where(finite, arr, 1.0))
+    odd = finite & (mag != 0) & ((mag < 1e-4) | (mag >= 1e16))
+    for i in set(np.flatnonzero(odd).tolist()) | {i for i, t in enumerate(out) if "e" in t}:
+        if values[i] is not None:
+            out[i] = repr(values[i])
     for i in np.flatnonzero(~finite).tolist():
         out[i] = ""
     whole = finite & (np.floor(arr) == arr) & (np.abs(arr) < 1e15)
