@@ -355,6 +355,23 @@ def time_text(text: str) -> str:
     return utc_text(parse_time(s))
 
 
+_PLAIN_TIME = re.compile(r"\d{4}-\d{2}-\d{2}(?:[ T]\d{2}:\d{2}(?::\d{2})?)?")
+
+
+def _plain_stamps(xs: Sequence[str]) -> np.ndarray | None:
+    """The x values as datetime64[s] when every one is a plain date or a plain time to the
+    minute or second with no offset (naive values are UTC, as :func:`parse_time` takes them);
+    None otherwise (the one-by-one path handles the rest)."""
+    if not xs or not all(type(x) is str for x in xs):
+        return None
+    if not all(map(_PLAIN_TIME.fullmatch, xs)):
+        return None
+    try:
+        return np.array([x.replace(" ", "T") for x in xs], dtype="datetime64[s]")
+    except ValueError:  # e.g. 2026-02-30: the one-by-one path says what is wrong
+        return None
+
+
 def utc_text(d: datetime) -> str:
     d = d.astimezone(UTC)
     if d.microsecond:
@@ -380,12 +397,32 @@ class XAxis:
         self.n = len(ctx.x)
         self.is_time = ctx.x_is_time
         self._mids: list | None = None
+        self._stamps: np.ndarray | None = None  # whole-second UTC times, when all are plain
+        self._dts: list[datetime] | None = None
         if self.is_time:
-            self.pos = [time_text(s) for s in ctx.x]
-            self._dt = [parse_time(s) for s in ctx.x]
+            self._stamps = _plain_stamps(ctx.x)
+            if self._stamps is not None:
+                texts = np.datetime_as_string(self._stamps, unit="s").tolist()
+                self.pos = [x if _DATE_RE.match(x) else t + "Z"
+                            for x, t in zip(ctx.x, texts, strict=True)]
+            else:
+                self.pos = [time_text(s) for s in ctx.x]
+                self._dts = [parse_time(s) for s in ctx.x]  # refuses bad values now
         else:
             self.pos = list(range(self.n))
-            self._dt = None
+
+    @property
+    def _dt(self) -> list[datetime]:
+        """The positions as aware UTC datetimes (time-based series)."""
+        if self._dts is None:
+            self._dts = [parse_time(s) for s in self.ctx.x]
+        return self._dts
+
+    def has_seconds(self) -> bool:
+        """Whether any time has seconds (or finer) past the minute."""
+        if self._stamps is not None:
+            return bool((self._stamps.astype("datetime64[m]") != self._stamps).any())
+        return any(d.second or d.microsecond for d in self._dt)
 
     def at(self, i: int):
         return self.pos[i]
@@ -394,7 +431,19 @@ class XAxis:
         """mids[i]: halfway between point i-1 and point i; mids[0] and mids[n] are the ends."""
         if self._mids is None:
             n = self.n
-            if self.is_time:
+            if self.is_time and self._stamps is not None and n:
+                us = self._stamps.astype("datetime64[us]")
+                # whole seconds apart, so the half is a whole number of microseconds: the same
+                # instant datetime arithmetic gives
+                half = us[:-1] + (us[1:] - us[:-1]) // 2
+                whole = half.astype("datetime64[s]") == half
+                secs = np.datetime_as_string(half, unit="s").tolist()
+                millis = np.datetime_as_string(half, unit="ms").tolist()
+                mids = [self.pos[0]]
+                mids += [(a if w else b) + "Z"
+                         for a, b, w in zip(secs, millis, whole.tolist(), strict=True)]
+                mids.append(self.pos[n - 1])
+            elif self.is_time:
                 dt = self._dt
                 mids = [self.pos[0]] if n else []
                 mids += [utc_text(dt[i - 1] + (dt[i] - dt[i - 1]) / 2) for i in range(1, n)]
@@ -428,6 +477,9 @@ class XAxis:
             d = parse_time(when)
         except ValueError:
             return False
+        if self._stamps is not None:
+            t = np.datetime64(d.replace(tzinfo=None), "us")
+            return bool(self._stamps.min() <= t <= self._stamps.max())
         return min(self._dt) <= d <= max(self._dt)
 
 

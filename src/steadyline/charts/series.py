@@ -294,7 +294,7 @@ def _x_format(ctx: SeriesContext) -> str:
     if all(len(s) == 10 for s in xs):
         return "%Y-%m-%d"
     xa = x_axis(ctx)
-    if any(d.second or d.microsecond for d in xa._dt):
+    if xa.has_seconds():
         return "%Y-%m-%d %H:%M:%S"
     return "%Y-%m-%d %H:%M"
 
