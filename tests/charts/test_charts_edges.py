@@ -96,3 +96,34 @@ def test_empty_histogram_bins():
     cs = histogram_chart(h, unit="", normal_curve=True)
     _ok(cs)
     assert "curve" not in cs.spec["datasets"]
+
+
+def test_plain_times_take_the_bulk_path_with_the_same_positions():
+    # reference: the one-by-one path (datetime.fromisoformat and strftime from the standard
+    # library) on the same values, with one value that forces it
+    from steadyline.charts.base import XAxis, time_text, utc_text
+    from steadyline.charts.base import parse_time as pt
+
+    cases = [
+        ("2026-01-05", "2026-01-06", "2026-01-09"),
+        ("2026-01-05 06:00", "2026-01-05 06:01", "2026-01-05 07:30", "2026-01-06 00:00"),
+        ("2026-01-05T06:00:01", "2026-01-05T06:00:02", "2026-01-05T06:00:05"),
+        ("2026-01-05", "2026-01-05 06:00", "2026-01-05T06:00:07"),
+    ]
+    for xs in cases:
+        ctx = SeriesContext(x=xs, x_is_time=True, stage=("",) * len(xs),
+                            segment=(0,) * len(xs), unit="", metric_name="m")
+        xa = XAxis(ctx)
+        assert xa._stamps is not None
+        dts = [pt(s) for s in xs]
+        assert xa.pos == [time_text(s) for s in xs]
+        mids = [xa.pos[0]] + [utc_text(dts[i - 1] + (dts[i] - dts[i - 1]) / 2)
+                              for i in range(1, len(xs))] + [xa.pos[-1]]
+        assert xa._midpoints() == mids
+        assert xa.has_seconds() == any(d.second for d in dts)
+        assert xa.in_range(xs[1]) and not xa.in_range("2030-01-01")
+    odd = ("2026-01-05T06:00+02:00", "2026-01-05T07:00Z")
+    ctx = SeriesContext(x=odd, x_is_time=True, stage=("", ""), segment=(0, 0), unit="",
+                        metric_name="m")
+    xa = XAxis(ctx)
+    assert xa._stamps is None and xa.pos == ["2026-01-05T04:00:00Z", "2026-01-05T07:00:00Z"]
