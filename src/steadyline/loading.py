@@ -323,6 +323,14 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
              minimum: float | None = None, what="a number") -> pd.Series:
     s = df[col]  # cells come stripped from _read_table
     dec = spec.csv.decimal
+    if dec == ".":
+        # The common column: every cell a plain finite number within the checks below. Then
+        # there is nothing to report and pandas' parse is the answer.
+        quick = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
+        if (np.isfinite(quick).all() and not (np.abs(quick) > MAX_MAGNITUDE).any()
+                and (not integer or (quick == np.floor(quick)).all())
+                and (minimum is None or (quick >= minimum).all())):
+            return pd.Series(quick, index=df.index)
     blank = (s == "").to_numpy()
     num = pd.Series(np.nan, index=df.index, dtype=float)
     careful = ~blank
@@ -406,8 +414,27 @@ def _quick_naive(s: pd.Series) -> pd.Series | None:
     return t
 
 
+def _plain_times(s: pd.Series) -> pd.Series | None:
+    """The common time column: no blank cell, every cell a plain ISO 8601 time within the
+    charted years. Then there is nothing to report and pandas' parse is the answer; None
+    otherwise (the full checks below then run)."""
+    if (s.to_numpy() == "").any():
+        return None
+    t = _quick_naive(s)
+    if t is None:
+        return None
+    a = t.to_numpy()
+    if a.size and (a.min() < _EARLIEST.to_datetime64() or a.max() > _LATEST.to_datetime64()):
+        return None
+    return t.astype("datetime64[ns]")
+
+
 def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
     s = df[col]  # cells come stripped from _read_table
+    if not spec.csv.date_format:
+        fast = _plain_times(s)
+        if fast is not None:
+            return fast
     blank = s == ""
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
