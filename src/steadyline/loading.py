@@ -504,15 +504,18 @@ def assign_stage(times: pd.Series, baseline: Period | None, after: Period | None
 
     Without a baseline period every point is baseline. Dates are inclusive at both ends.
     """
-    d = times.dt.normalize()
     if baseline is None:
         return np.zeros(len(times), dtype=int)
+    t = times
+    if len(t) and t.dt.tz is not None:
+        t = t.dt.tz_localize(None)  # the wall-clock date in the series' own zone
+    d = t.to_numpy().astype("datetime64[D]")  # the calendar day (NaT stays NaT: no stage)
     stage = np.full(len(times), STAGE_OTHER, dtype=int)
 
     def within(p: Period) -> np.ndarray:
-        m = (d >= pd.Timestamp(p.start)).to_numpy().copy()
+        m = d >= np.datetime64(p.start, "D")
         if p.end is not None:
-            m &= (d <= pd.Timestamp(p.end)).to_numpy()
+            m &= d <= np.datetime64(p.end, "D")
         return m
 
     stage[within(baseline)] = STAGE_BASELINE
