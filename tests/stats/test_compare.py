@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import pytest
 from scipy import stats
 from statsmodels.stats.proportion import proportions_ztest
 from statsmodels.stats.rates import test_poisson_2indep as sm_poisson_2indep
 
-from steadyline.stats.compare import compare, format_p_value
+from steadyline.stats.compare import compare, format_p_value, welch_t_test
 from steadyline.stats.results import StatsError
 
 
@@ -24,6 +26,45 @@ def test_welch_when_normal():
     assert c.baseline == pytest.approx(b.mean()) and c.after == pytest.approx(a.mean())
     assert c.improved is True
     assert (c.n_baseline, c.n_after) == (40, 35)
+
+
+def _welch_cases():
+    rng = np.random.default_rng(2024)
+    for _ in range(400):
+        na, nb = (int(v) for v in rng.integers(2, 400, 2))
+        if rng.random() < 0.2:
+            na, nb = int(rng.integers(2, 6)), int(rng.integers(2, 6))
+        scale_a, scale_b = 10.0 ** rng.uniform(-4, 4, 2)
+        a = rng.normal(rng.normal(0, 3), scale_a, na)
+        b = rng.normal(rng.normal(0, 3), scale_b, nb)
+        if rng.random() < 0.3:
+            a, b = np.round(a, 1), np.round(b, 1)
+        yield a, b
+    yield np.array([1.0, 1.0, 1.0]), np.array([2.0, 2.5, 3.5])  # one phase without spread
+    yield np.array([0.0, 1e-6]), np.array([1e6, 1e6 + 1e-6, 1e6 + 2e-6])  # |t| ~ 1e12
+    yield np.arange(5000.0), np.arange(5000.0) + 1.0  # large df, tiny t
+    yield np.random.default_rng(3).normal(0, 1, 20000), np.random.default_rng(4).normal(0.05, 2, 30000)
+
+
+def test_welch_t_test_against_scipy_ttest_ind():
+    # reference: scipy.stats.ttest_ind(a, b, equal_var=False) -- statistic, df and two-sided p
+    # (p compared relatively down to 1e-300; below that both must be negligible)
+    checked = 0
+    for a, b in _welch_cases():
+        if np.std(a) == 0 and np.std(b) == 0:
+            continue
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # scipy's precision-loss notice
+            ref = stats.ttest_ind(a, b, equal_var=False)
+        t, p, df = welch_t_test(a, b)
+        assert t == pytest.approx(ref.statistic, rel=1e-12)
+        assert df == pytest.approx(ref.df, rel=1e-12)
+        if ref.pvalue > 1e-300:
+            assert p == pytest.approx(ref.pvalue, rel=1e-10), (len(a), len(b), t, df)
+            checked += 1
+        else:
+            assert p < 1e-290
+    assert checked > 350
 
 
 def test_mann_whitney_when_small_and_skewed():

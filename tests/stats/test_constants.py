@@ -12,7 +12,7 @@ import math
 
 import numpy as np
 import pytest
-from scipy import stats
+from scipy import special, stats
 
 from steadyline.stats import constants as K
 from steadyline.stats.results import StatsError
@@ -140,3 +140,73 @@ def test_invalid_sizes_raise(bad):
 def test_factor_table_covers_2_to_25():
     table = K.factor_table()
     assert [f.n for f in table] == list(range(2, 26))
+
+
+# --- the committed table (src/steadyline/stats/_constant_table.py) ---------------------------
+
+TABLE_SPREAD = [2, 3, 5, 8, 13, 21, 34, 55, 77, 89, 100]
+
+
+def _phi(x):
+    return special.ndtr(x)
+
+
+@pytest.mark.parametrize("n", TABLE_SPREAD)
+def test_table_entries_recomputed_by_the_integrals(n):
+    # reference: scipy.integrate quad / dblquad of the definitions (METHODS.md section 1),
+    # written out here independently of steadyline.stats.constants
+    from scipy import integrate
+
+    from steadyline.stats import _constant_table as T
+
+    mean, _ = integrate.quad(lambda x: 1 - _phi(x) ** n - _phi(-x) ** n, -12, 12,
+                             epsabs=1e-13, epsrel=1e-13, limit=200)
+    half, _ = integrate.dblquad(
+        lambda y, x: 1 - _phi(y) ** n - _phi(-x) ** n + (_phi(y) - _phi(x)) ** n,
+        -12, 12, lambda x: x, 12, epsabs=1e-11, epsrel=1e-11,
+    )
+    assert T.D2[n] == pytest.approx(mean, abs=1e-9)
+    assert T.D3[n] == pytest.approx(math.sqrt(2 * half - mean**2), abs=1e-9)
+    # reference: scipy.stats.chi -- c4 = E[chi(n-1)] / sqrt(n-1)
+    assert T.C4[n] == pytest.approx(stats.chi(n - 1).mean() / math.sqrt(n - 1), rel=1e-12)
+    # the functions return the table values
+    assert (K.d2(n), K.d3(n), K.c4(n)) == (T.D2[n], T.D3[n], T.C4[n])
+
+
+def test_table_covers_2_to_100_and_says_it_is_generated():
+    from steadyline.stats import _constant_table as T
+
+    assert T.TABLE_MAX_N == 100
+    for name in ("D2", "D3", "C4"):
+        assert sorted(getattr(T, name)) == list(range(2, 101)), name
+    assert "GENERATED FILE" in T.__doc__ and "scripts/make_constants.py" in T.__doc__
+
+
+def test_beyond_the_table_d2_d3_are_integrated():
+    # n = 101, 150 are integrated at run time; they continue the table smoothly (d2 rises,
+    # d3 falls with n) and agree with the range distribution (reference:
+    # scipy.stats.studentized_range with df = inf)
+    assert K.d2(100) < K.d2(101) < K.d2(150)
+    assert K.d3(100) > K.d3(101) > K.d3(150)
+    x, w = np.polynomial.legendre.leggauss(120)
+    q, w = 6.5 * (x + 1.0), 6.5 * w
+    sf = stats.studentized_range.sf(q, 150, np.inf)
+    mean = float(np.sum(w * sf))
+    second = float(np.sum(w * 2.0 * q * sf))
+    assert K.d2(150) == pytest.approx(mean, abs=1e-6)
+    assert K.d3(150) == pytest.approx(math.sqrt(second - mean**2), abs=1e-5)
+
+
+@pytest.mark.parametrize("n", [2, 3, 10, 57, 100, 101, 102, 640, 5_001, 2_000_000])
+def test_c4_recurrence(n):
+    # Gamma(x + 1) = x Gamma(x) gives c4(n) c4(n + 1) = sqrt((n - 1) / n) exactly (Abramowitz &
+    # Stegun 6.1.15); holds across the table edge and far beyond it
+    assert K.c4(n) * K.c4(n + 1) == pytest.approx(math.sqrt((n - 1) / n), rel=1e-14)
+
+
+@pytest.mark.parametrize("n", [2, 7, 30, 100, 101, 333, 1_000])
+def test_c4_closed_form_against_scipy_gammaln(n):
+    # reference: scipy.special.gammaln, the form the table was built with; the difference of two
+    # gammaln values loses about 1e-16 * n ln n, hence the tolerance
+    ref = math.sqrt(2 / (n - 1)) * math.exp(special.gammaln(n / 2) - special.gammaln((n - 1) / 2))
+    assert K._c4_closed_form(n) == pytest.approx(ref, rel=1e-14 + 5e-17 * n * math.log(n))

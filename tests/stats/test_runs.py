@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
+from steadyline.stats import runs as runs_module
 from steadyline.stats.results import StatsError
 from steadyline.stats.runs import (
     analyse_runs,
@@ -73,6 +74,35 @@ def test_anhoj_crossings_limit_is_binomial_5th_percentile(n):
         assert stats.binom.cdf(cmin - 1, n - 1, 0.5) < 0.05
     # Schilling-based longest-run limit, round(log2 n + 3) (Anhøj & Olesen 2014)
     assert anhoj_limits(n)[0] == round(math.log2(n) + 3)
+
+
+def test_anhoj_crossings_limit_equals_scipy_binom_ppf_for_every_n():
+    # reference: scipy.stats.binom.ppf(0.05, n - 1, 0.5), the definition in Anhøj & Olesen (2014);
+    # ours is exact integer arithmetic up to EXACT_CROSSINGS_MAX trials, scipy's beyond
+    n = np.arange(1, 2201)
+    ref = stats.binom.ppf(0.05, n - 1, 0.5).astype(int)
+    ours = np.array([anhoj_limits(int(k))[1] for k in n])
+    np.testing.assert_array_equal(ours, ref)
+
+
+@pytest.mark.parametrize(
+    "n", [2999, 4096, 7777, runs_module.EXACT_CROSSINGS_MAX, runs_module.EXACT_CROSSINGS_MAX + 1,
+          runs_module.EXACT_CROSSINGS_MAX + 2, 25_000, 1_000_000]
+)
+def test_anhoj_crossings_limit_equals_scipy_for_large_n(n):
+    # reference: scipy.stats.binom.ppf(0.05, n - 1, 0.5), on both sides of the switch from exact
+    # integers to scipy
+    assert anhoj_limits(n)[1] == int(stats.binom.ppf(0.05, n - 1, 0.5))
+
+
+def test_anhoj_crossings_exact_sum_is_the_binomial_tail():
+    # the integer criterion itself, against exact binomial sums (math.comb, standard library):
+    # 20 * sum_(i <= c) C(m, i) >= 2^m at c and not at c - 1
+    for n in (2, 14, 61, 300, 1001):
+        m, c = n - 1, anhoj_limits(n)[1]
+        tail = sum(math.comb(m, i) for i in range(c + 1))
+        assert 20 * tail >= 2**m
+        assert c == 0 or 20 * (tail - math.comb(m, c)) < 2**m
 
 
 def test_anhoj_limit_for_13_points_from_popular_write_up():

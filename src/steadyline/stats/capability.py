@@ -28,11 +28,9 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from ._lazy import lazy
+from . import normal
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Capability, NormalityTest, StatsError
-
-_st = lazy("scipy.stats")
 
 MIN_POINTS_FOR_CAPABILITY = 30  # common practice
 
@@ -43,9 +41,9 @@ def _ppm(mean: float, sigma: float, lsl: float | None, usl: float | None) -> flo
     total = 0.0
     if sigma > 0:
         if lsl is not None:
-            total += float(_st.norm.cdf((lsl - mean) / sigma))
+            total += normal.cdf((lsl - mean) / sigma)
         if usl is not None:
-            total += float(_st.norm.sf((usl - mean) / sigma))
+            total += normal.sf((usl - mean) / sigma)
     else:
         if lsl is not None:
             total += 1.0 if mean < lsl else (0.5 if mean == lsl else 0.0)
@@ -70,7 +68,7 @@ def bissell_interval(cpk: float, n: int, level: float = 0.95) -> tuple[float, fl
     """Approximate confidence interval for Cpk (Bissell 1990)."""
     if n < 2:
         raise StatsError(f"a Cpk interval needs at least two values, got {n}")
-    z = float(_st.norm.ppf(0.5 + level / 2))
+    z = normal.ppf(0.5 + level / 2)
     if not math.isfinite(cpk) or abs(cpk) > 1e150:
         raise StatsError(f"a Cpk interval needs a finite, moderate Cpk, got {cpk:g}")
     half = z * math.sqrt(1.0 / (9 * n) + cpk**2 / (2 * (n - 1)))

@@ -39,9 +39,7 @@ import numpy as np
 from steadyline.stats.constants import d2
 from steadyline.stats.results import ChartChoice, StatsError
 
-from ._lazy import lazy
-
-_st = lazy("scipy.stats")
+from . import normal
 
 DATA_TYPES = ("continuous", "defectives", "defects")
 CHART_KINDS = ("xmr", "xbar-r", "xbar-s", "p", "np", "c", "u", "laney-p", "laney-u")
@@ -77,7 +75,7 @@ def sigma_z_bound(m: int, level: float = OVERDISPERSION_LEVEL) -> float:
 
     Normal approximation: 1 + z_level * :func:`sigma_z_sd`. For m = 25 it is about 1.30.
     """
-    return 1.0 + float(_st.norm.ppf(level)) * sigma_z_sd(m)
+    return 1.0 + normal.ppf(level) * sigma_z_sd(m)
 
 
 def sigma_z_of(

@@ -5,6 +5,10 @@ Tests (all two-sided):
   30 values (common practice: the mean is then close to normally distributed) or passes the
   Anderson–Darling test at 5% (which needs at least 8 values); otherwise the Mann–Whitney U
   test (scipy's default exact/asymptotic choice) with the medians as the measure.
+  Welch's test is computed here (:func:`welch_t_test`, the same arithmetic as
+  ``scipy.stats.ttest_ind(equal_var=False)``, with the t tail from
+  :func:`steadyline.stats.special.t_two_sided`), so the common path needs no scipy; the
+  Mann–Whitney and exact Poisson tests import scipy.stats when used.
 - ``defectives``: two-proportion z-test with the pooled proportion, on (Σd, Σn) per phase.
   ``baseline`` / ``after`` are defective counts; ``baseline_sizes`` / ``after_sizes`` the
   numbers inspected.
@@ -29,9 +33,11 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from . import normal
 from ._lazy import lazy
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Comparison, StatsError
+from .special import t_two_sided
 
 _st = lazy("scipy.stats")
 
@@ -86,6 +92,26 @@ def _array(values: Sequence[float] | np.ndarray, what: str) -> np.ndarray:
     return x[~np.isnan(x)]
 
 
+def welch_t_test(a: np.ndarray, b: np.ndarray) -> tuple[float, float, float]:
+    """Welch's t-test of mean(a) - mean(b): returns (t, two-sided p, degrees of freedom).
+
+    t = (mean a - mean b) / sqrt(v_a/n_a + v_b/n_b) with the n - 1 variances and
+    df = (v_a/n_a + v_b/n_b)^2 / ((v_a/n_a)^2/(n_a - 1) + (v_b/n_b)^2/(n_b - 1)) (Welch 1947;
+    Satterthwaite 1946). Each phase needs at least two values and one of them some spread.
+    """
+    a = np.asarray(a, dtype=float)
+    b = np.asarray(b, dtype=float)
+    na, nb = len(a), len(b)
+    ma, mb = np.mean(a), np.mean(b)
+    # mean square about the mean times n/(n - 1), in scipy's order of operations
+    va = np.mean((a - ma) ** 2) * (np.float64(na) / (na - 1))
+    vb = np.mean((b - mb) ** 2) * (np.float64(nb) / (nb - 1))
+    vna, vnb = va / na, vb / nb
+    df = float((vna + vnb) ** 2 / (vna**2 / (na - 1) + vnb**2 / (nb - 1)))
+    t = float((ma - mb) / np.sqrt(vna + vnb))
+    return t, t_two_sided(t, df), df
+
+
 def _looks_normal(x: np.ndarray) -> bool:
     if len(x) < AD_MIN_POINTS:
         return False
@@ -134,8 +160,7 @@ def compare(
             if np.std(b) == 0 and np.std(a) == 0:
                 statistic = p = None
             else:
-                r = _st.ttest_ind(a, b, equal_var=False)
-                statistic, p = float(r.statistic), float(r.pvalue)
+                statistic, p, _ = welch_t_test(a, b)
         else:
             measure, test = "median", "Mann–Whitney U test"
             vb, va = float(np.median(b)), float(np.median(a))
@@ -167,7 +192,7 @@ def compare(
                 if se == 0 or not math.isfinite(se):
                     raise StatsError("the numbers checked are too large to compare proportions")
                 statistic = (va - vb) / se
-                p = float(2 * _st.norm.sf(abs(statistic)))
+                p = 2.0 * normal.sf(abs(statistic))
         else:
             measure, test = "rate", "exact Poisson rate test"
             total = int(round(db + da))

@@ -17,6 +17,15 @@ c4 in closed form through log-gamma. They are exact to about 1e-9, so they diffe
 printed digit from some published 3-decimal tables (which were built from rounded d2 and d3).
 Results are cached per n. Any n >= 2 is accepted; the integrals stay accurate for large n.
 
+Importing scipy.integrate and evaluating the double integral cost a noticeable part of a second,
+so d2, d3 and c4 for n = 2..100 come from ``_constant_table.py``, which
+``scripts/make_constants.py`` writes by running ``_d2_by_integral``, ``_d3_by_integral`` and
+``_c4_by_gammaln`` below; the table holds those results to full float precision, so the values
+are the same as computing them with scipy at run time. Larger n are integrated when asked for
+(scipy imported then), and c4 beyond the table uses ``math.lgamma`` through
+:func:`steadyline.stats.special.log_gamma_ratio`, which avoids subtracting two large log-gamma
+values (it agrees with the scipy form to about 1e-13 relative, the rounding of that form).
+
 Example
 -------
 >>> round(d2(2), 4), round(c4(5), 4), round(factors(5).a2, 3)
@@ -31,7 +40,9 @@ from functools import cache
 
 from steadyline.stats.results import StatsError
 
+from ._constant_table import C4, D2, D3
 from ._lazy import lazy
+from .special import log_gamma_ratio
 
 integrate = lazy("scipy.integrate")
 _special = lazy("scipy.special")
@@ -50,8 +61,9 @@ def _check_n(n: int) -> int:
     return n
 
 
-@cache
-def _d2(n: int) -> float:
+def _d2_by_integral(n: int) -> float:
+    """d2(n) by integrating 1 - Phi(x)^n - (1 - Phi(x))^n over [-12, 12] (scipy.integrate.quad)."""
+
     def integrand(x: float) -> float:
         return 1.0 - _special.ndtr(x) ** n - _special.ndtr(-x) ** n
 
@@ -59,21 +71,45 @@ def _d2(n: int) -> float:
     return float(value)
 
 
-@cache
-def _d3(n: int) -> float:
+def _d3_by_integral(n: int) -> float:
+    """d3(n) from E[R^2] by the double integral over x < y (scipy.integrate.dblquad)."""
+
     def integrand(y: float, x: float) -> float:
         return 1.0 - _special.ndtr(y) ** n - _special.ndtr(-x) ** n + (_special.ndtr(y) - _special.ndtr(x)) ** n
 
     half, _ = integrate.dblquad(
         integrand, -_WINDOW, _WINDOW, lambda x: x, _WINDOW, epsabs=1e-10, epsrel=1e-10
     )
-    mean = _d2(n)
+    mean = _d2_by_integral(n)
     return float(math.sqrt(2.0 * half - mean * mean))
+
+
+def _c4_by_gammaln(n: int) -> float:
+    """c4(n) = sqrt(2/(n-1)) Gamma(n/2) / Gamma((n-1)/2) through scipy.special.gammaln."""
+    return float(math.sqrt(2.0 / (n - 1)) * math.exp(_special.gammaln(n / 2.0) - _special.gammaln((n - 1) / 2.0)))
+
+
+@cache
+def _d2(n: int) -> float:
+    value = D2.get(n)
+    return value if value is not None else _d2_by_integral(n)
+
+
+@cache
+def _d3(n: int) -> float:
+    value = D3.get(n)
+    return value if value is not None else _d3_by_integral(n)
+
+
+def _c4_closed_form(n: int) -> float:
+    # Gamma(n/2) / Gamma((n-1)/2) = exp(ln Gamma((n-1)/2 + 1/2) - ln Gamma((n-1)/2))
+    return math.sqrt(2.0 / (n - 1)) * math.exp(log_gamma_ratio((n - 1) / 2.0, 0.5))
 
 
 @cache
 def _c4(n: int) -> float:
-    return float(math.sqrt(2.0 / (n - 1)) * math.exp(_special.gammaln(n / 2.0) - _special.gammaln((n - 1) / 2.0)))
+    value = C4.get(n)
+    return value if value is not None else _c4_closed_form(n)
 
 
 def d2(n: int) -> float:

@@ -11,10 +11,8 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from ._lazy import lazy
+from . import normal
 from .results import BoxSummary, Histogram, NormalityTest, StatsError
-
-_st = lazy("scipy.stats")
 
 # numpy quantile method names and their Hyndman & Fan (1996) types (numpy docstring), plus
 # Tukey's hinges (Tukey 1977), which are not in general any single H&F type.
@@ -212,7 +210,7 @@ def normal_curve(hist: Histogram, points: int = 200) -> tuple[np.ndarray, np.nda
     if points < 2:
         raise StatsError("a normal curve needs at least two points")
     x = np.linspace(hist.edges[0], hist.edges[-1], int(points))
-    y = hist.n * hist.bin_width * _st.norm.pdf(x, loc=hist.mean, scale=hist.std)
+    y = hist.n * hist.bin_width * normal.pdf(x, loc=hist.mean, scale=hist.std)
     return x, y
 
 
@@ -252,7 +250,7 @@ def anderson_darling(values: Sequence[float] | np.ndarray) -> NormalityTest:
         )
     z = (np.sort(x) - np.mean(x)) / s
     i = np.arange(1, n + 1)
-    a2 = -n - np.sum((2 * i - 1) * (_st.norm.logcdf(z) + _st.norm.logsf(z[::-1]))) / n
+    a2 = -n - np.sum((2 * i - 1) * (normal.logcdf(z) + normal.logsf(z[::-1]))) / n
     a2 = float(a2)
     adj = a2 * (1.0 + 0.75 / n + 2.25 / n**2)
     p = ad_p_value(adj)

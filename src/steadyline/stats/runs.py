@@ -11,7 +11,9 @@ Two rule sets are offered; the result always says which one was used.
     - Too few crossings: a signal when the number of crossings (changes of side between
       consecutive useful points) is **less than** ``scipy.stats.binom.ppf(0.05, n_useful - 1, 0.5)``,
       i.e. less than the smallest c with P(C <= c) >= 0.05 for C ~ Binomial(n_useful - 1, 1/2)
-      (R's ``qbinom(0.05, n - 1, 0.5)``).
+      (R's ``qbinom(0.05, n - 1, 0.5)``). With m = n_useful - 1 that is the smallest c with
+      20 * sum_(i <= c) C(m, i) >= 2^m, which is computed exactly in integers up to
+      m = ``EXACT_CROSSINGS_MAX`` (scipy.stats.binom above, imported then).
 
 ``"perla"`` — Perla, Provost & Murray (2011), *BMJ Qual Saf* 20:46–51.
     - Shift: 6 or more consecutive useful points on one side of the median. Points on the
@@ -46,6 +48,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from . import normal
 from ._lazy import lazy
 from .results import RunChartAnalysis, Signal, StatsError
 
@@ -61,6 +64,26 @@ PERLA_SHIFT_LENGTH = 6
 PERLA_TREND_LENGTH = 5
 PERLA_RUNS_ALPHA = 0.05  # per tail
 MIN_RELIABLE_POINTS = 10  # Perla et al. 2011 (from memory): at least 10 useful points
+# Up to this many trials (n_useful - 1) the crossings limit is found with exact integers; the
+# sum runs over about m/2 binomial coefficients of up to m bits (a few milliseconds at 10,000).
+EXACT_CROSSINGS_MAX = 10_000
+
+
+@lru_cache(maxsize=256)
+def _crossings_limit(m: int) -> int:
+    """The smallest c with P(C <= c) >= 1/20 for C ~ Binomial(m, 1/2), i.e. with
+    20 * sum_(i <= c) C(m, i) >= 2^m."""
+    if m > EXACT_CROSSINGS_MAX:
+        return int(_st.binom.ppf(0.05, m, 0.5))
+    target = 1 << m  # 2^m
+    coeff = 1  # C(m, c)
+    total = 1  # sum_(i <= c) C(m, i)
+    c = 0
+    while 20 * total < target:
+        coeff = coeff * (m - c) // (c + 1)
+        c += 1
+        total += coeff
+    return c
 
 
 def anhoj_limits(n_useful: int) -> tuple[int, int]:
@@ -73,7 +96,7 @@ def anhoj_limits(n_useful: int) -> tuple[int, int]:
     if n < 1:
         raise StatsError(f"the Anhøj limits need at least one point off the median, got {n}")
     longest = int(round(math.log2(n) + 3))
-    crossings = int(_st.binom.ppf(0.05, n - 1, 0.5))
+    crossings = _crossings_limit(n - 1)
     return longest, crossings
 
 
@@ -114,7 +137,7 @@ def _runs_limits_normal(n: int, alpha: float) -> tuple[int, int]:
     mean = 2.0 * n1 * n2 / n + 1.0
     var = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0))
     sd = math.sqrt(var)
-    z = float(_st.norm.ppf(1.0 - alpha))
+    z = normal.ppf(1.0 - alpha)
     low = max(1, math.floor(mean - 0.5 - z * sd))
     high = min(n + 1, math.ceil(mean + 0.5 + z * sd))
     return low, high

@@ -1,0 +1,79 @@
+"""Building an ordinary project must not import scipy.stats, scipy.special or scipy.integrate.
+
+Importing them costs most of a second, more than a rebuild of one project may take. The common
+statistics (normal distribution, Welch's t-test, the Anhøj crossings limit, the control-chart
+constants) are computed without scipy; tests/stats/test_normal.py, test_special.py,
+test_compare.py, test_runs.py and test_constants.py check them against scipy. This test builds
+synthetic projects with the three common metric kinds in a fresh interpreter (other tests import
+scipy freely, so it cannot run in this process) and asks which modules were loaded.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parents[2]
+
+CHILD = r"""
+import json, sys
+from pathlib import Path
+sys.path.insert(0, sys.argv[2])
+import synth  # benchmarks/synth.py: the benchmark's deterministic synthetic projects
+
+root = Path(sys.argv[1])
+for i in range(3):
+    # metrics 0, 1, 2: a continuous value rolled up by day with an upper spec limit, subgroups of
+    # 5 with both spec limits, 0/1 defectives rolled up into a daily proportion
+    synth.write_project(root / f"p{i}", i, metrics=3, rows=2000)
+
+from steadyline.config import load_portfolio
+from steadyline.site.project import build_project
+
+settings, _ = load_portfolio(root)
+report = {"projects": []}
+for i in range(3):
+    out = build_project(root / f"p{i}", root, settings)
+    results = json.loads(out.files["results.json"])
+    report["projects"].append({
+        "ok": out.ok,
+        "metrics": [
+            {"type": m["type"], "failures": m["failures"],
+             "test": (m.get("comparison") or {}).get("test"),
+             "capability": "capability" in m, "normality": "normality" in m,
+             "chart": (m.get("control_chart") or {}).get("choice", {}).get("kind")}
+            for m in results["metrics"]
+        ],
+    })
+report["loaded"] = sorted(m for m in sys.modules if m == "scipy" or m.startswith("scipy."))
+print(json.dumps(report))
+"""
+
+
+def test_common_path_imports_no_scipy(tmp_path):
+    env = dict(os.environ, PYTHONPATH=str(REPO / "src"))
+    proc = subprocess.run(
+        [sys.executable, "-c", CHILD, str(tmp_path), str(REPO / "benchmarks")],
+        env=env, capture_output=True, text=True, timeout=300, check=False,
+    )
+    assert proc.returncode == 0, proc.stderr
+    report = json.loads(proc.stdout.strip().splitlines()[-1])
+
+    # the statistics really ran: a capability study with a normality test on the measured
+    # metrics, Welch's t-test and the two-proportion z-test for the comparisons
+    for project in report["projects"]:
+        assert project["ok"]
+        kinds = [m["type"] for m in project["metrics"]]
+        assert kinds == ["continuous", "subgroups", "defectives"]
+        cont, sub, dft = project["metrics"]
+        assert all(not m["failures"] for m in project["metrics"])
+        assert cont["capability"] and cont["normality"] and cont["chart"] == "xmr"
+        assert sub["capability"] and sub["chart"] == "xbar-r"
+        assert cont["test"] == sub["test"] == "Welch's t-test"
+        assert dft["test"] == "two-proportion z-test"
+
+    loaded = set(report["loaded"])
+    assert not loaded & {"scipy.stats", "scipy.special", "scipy.integrate"}, sorted(loaded)
