@@ -371,8 +371,11 @@ def _subgroups(subgroups: Sequence[Sequence[float]]) -> list[np.ndarray]:
     for i, g in enumerate(groups):
         if g.ndim != 1 or g.size == 0:
             raise StatsError(f"every subgroup needs at least one value; subgroup {i} is empty")
-        if not np.all(np.isfinite(g)):
-            raise StatsError(f"subgroup {i} holds a value that is not a finite number")
+    finite = np.isfinite(np.concatenate(groups))  # one pass over all values
+    if not finite.all():
+        sizes = np.fromiter((g.size for g in groups), dtype=int, count=len(groups))
+        i = int(np.searchsorted(np.cumsum(sizes), int(np.argmin(finite)), side="right"))
+        raise StatsError(f"subgroup {i} holds a value that is not a finite number")
     return groups
 
 
@@ -436,7 +439,8 @@ def _subgroup_chart(
         sizes = n[use].astype(int)
         constant = np.unique(sizes).size == 1
         if spread == "range":
-            d2s = np.array([d2(int(v)) for v in sizes])
+            sizes_u, where = np.unique(sizes, return_inverse=True)
+            d2s = np.array([d2(int(v)) for v in sizes_u])[where]
             sigma = float(np.mean(disp[use] / d2s))
             bar = float(np.mean(disp[use]))
         elif constant:
@@ -467,9 +471,11 @@ def _subgroup_chart(
     def disp_point(r: _SubgroupFit, idx: np.ndarray) -> tuple:
         sizes = n[idx]
         if spread == "range":
-            cen = np.array([d2(int(v)) * r.sigma if v >= 2 else np.nan for v in sizes])
-            sig = np.array([d3(int(v)) * r.sigma if v >= 2 else np.nan for v in sizes])
-            return cen, sig
+            # d2 and d3 looked up once per distinct subgroup size
+            sizes_u, where = np.unique(sizes, return_inverse=True)
+            d2u = np.array([d2(int(v)) if v >= 2 else np.nan for v in sizes_u])
+            d3u = np.array([d3(int(v)) if v >= 2 else np.nan for v in sizes_u])
+            return d2u[where] * r.sigma, d3u[where] * r.sigma
         cen = np.where(sizes >= 2, r.spread_bar, np.nan)
         sig = np.array(
             [
