@@ -277,14 +277,13 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int
     get = per_point.get
     for s in signals:
         d = s.description
-        for i in s.indices:
-            j = int(i) + offset
-            if 0 <= j < n:
-                texts = get(j)
-                if texts is None:
-                    per_point[j] = [d]
-                elif d not in texts:
-                    texts.append(d)
+        idx = np.asarray(s.indices, dtype=np.int64) + offset
+        for j in idx[(idx >= 0) & (idx < n)].tolist():
+            texts = get(j)
+            if texts is None:
+                per_point[j] = [d]
+            elif d not in texts:
+                texts.append(d)
     return per_point
 
 

@@ -63,6 +63,9 @@ _FLOAT_OR_NONE = frozenset((float, type(None)))
 _BOOL_ONLY = frozenset((bool,))
 
 
+_DATACLASS_FIELDS: dict[type, tuple[str, ...]] = {}
+
+
 @functools.cache
 def _field_names(cls: type) -> tuple[str, ...]:
     return tuple(f.name for f in dataclasses.fields(cls))
@@ -78,6 +81,9 @@ def plain(obj: Any) -> Any:
         return obj
     if t is float:
         return _num(obj)
+    names = _DATACLASS_FIELDS.get(t)
+    if names is not None:  # a dataclass met before: its fields, without the checks below
+        return {name: plain(getattr(obj, name)) for name in names}
     if t is dict:
         return {str(k): plain(v) for k, v in obj.items()}
     if t is list or t is tuple:
@@ -96,6 +102,7 @@ def plain(obj: Any) -> Any:
     if isinstance(obj, np.bool_):
         return bool(obj)
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+        _DATACLASS_FIELDS[t] = _field_names(t)
         return {name: plain(getattr(obj, name)) for name in _field_names(t)}
     if isinstance(obj, dict):
         return {str(k): plain(v) for k, v in obj.items()}
