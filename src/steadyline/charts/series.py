@@ -346,27 +346,28 @@ def _series_rows(
 ) -> dict[int, tuple]:
     """Per plotted index: (value, line piece, point key, limits key or None). Line pieces break
     at segment changes and at missing values."""
-    out: dict[int, tuple] = {}
-    group = 0
-    prev_seg = None
-    prev_missing = True
-    segment, stage = ctx.segment, ctx.stage
+    vals = disp_list(values)
+    ks = [k for k, f in enumerate(vals) if f is not None]  # the points drawn, in order
+    if not ks:
+        return {}
+    kp = np.asarray(ks, dtype=np.int64)
+    ip = kp + offset
+    seg = np.asarray(ctx.segment, dtype=np.int64)[ip]
+    # a new piece where the segment changes or a missing value comes between
+    new = (seg[1:] != seg[:-1]) | (kp[1:] != kp[:-1] + 1)
+    groups = np.concatenate([[0], np.cumsum(new)]).tolist()
+    idx = ip.tolist()
+    stage = ctx.stage
     fit = None if fitted is None else np.asarray(fitted, dtype=bool).tolist()
     key_of, info_of = keys.key, keys.info
-    for k, f in enumerate(disp_list(values)):
-        if f is None:
-            prev_missing = True
-            continue
-        i = k + offset
-        seg = segment[i]
-        if prev_seg is not None and (seg != prev_seg or prev_missing):
-            group += 1
-        prev_seg = seg
-        prev_missing = False
-        m = marked.get(i)
-        key = key_of(stage[i], None if fit is None else fit[k], "; ".join(m) if m else "")
-        out[i] = (f, group, key, None if info is None else info_of(info[k]))
-    return out
+    point_keys = [
+        key_of(stage[i], None if fit is None else fit[k],
+               "; ".join(marked[i]) if i in marked else "")
+        for i, k in zip(idx, ks, strict=True)
+    ]
+    infos = [None] * len(ks) if info is None else [info_of(info[k]) for k in ks]
+    return {i: (vals[k], g, pk, lim) for i, k, g, pk, lim
+            in zip(idx, ks, groups, point_keys, infos, strict=True)}
 
 
 def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None = None) -> list:
