@@ -388,19 +388,21 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
                 row["i"] = lim
             add(row)
         return rows
+    get_a, get_b = main.get, second.get
     for i in sorted(set(main) | set(second)):
         row = {"x": at[i]}
         if labels is not None:
             row["label"] = labels[i]
-        for suf, series in (("", main), ("2", second)):
-            if i not in series:
-                continue
-            v, g, k, lim = series[i]
-            row[f"v{suf}"] = v
-            row[f"g{suf}"] = g
-            row[f"k{suf}"] = k
-            if lim is not None:
-                row[f"i{suf}"] = lim
+        a = get_a(i)
+        if a is not None:
+            row["v"], row["g"], row["k"] = a[0], a[1], a[2]
+            if a[3] is not None:
+                row["i"] = a[3]
+        b = get_b(i)
+        if b is not None:
+            row["v2"], row["g2"], row["k2"] = b[0], b[1], b[2]
+            if b[3] is not None:
+                row["i2"] = b[3]
         add(row)
     return rows
 
@@ -460,28 +462,30 @@ def _limit_rows(
     def name_at(kind: str, i: int) -> str:
         return ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
 
+    car_arr = np.asarray(car, dtype=bool)
     for kind in _LIMIT_KINDS:
         ys = disp_list(arrays[kind])
         if drawn is not None:
             ys = [y if o else None for y, o in zip(ys, on, strict=False)]
-        k = 0
-        while k < m:
-            if ys[k] is None:
-                k += 1
-                continue
-            # one piece: from k while values are finite and the carried flag is the same
+        # A piece runs while values are finite and the carried flag stays the same; within a
+        # piece a vertex goes where the value changes, and one more at the piece's end.
+        y = np.array([np.nan if v is None else v for v in ys], dtype=float)
+        fin = ~np.isnan(y)
+        first = np.ones(1, dtype=bool)
+        start = fin & np.concatenate([first, ~fin[:-1] | (car_arr[1:] != car_arr[:-1])])
+        change = fin & (start | np.concatenate([first, y[1:] != y[:-1]]))
+        end = fin & np.concatenate([~fin[1:] | start[1:], first])
+        vertices = np.flatnonzero(change).tolist()
+        ends = np.flatnonzero(end).tolist()
+        v = 0
+        for k, e in zip(np.flatnonzero(start).tolist(), ends, strict=True):
             look = "solid" if solid or (kind == "centre line" and not car[k]) else "dashed"
             p = parts.new(kind, name_at(kind, k), set_name, look)
-            e = k
-            while e + 1 < m and ys[e + 1] is not None and car[e + 1] == car[k]:
-                e += 1
-            prev = None
-            for i in range(k, e + 1):
-                if ys[i] != prev:
-                    rows.append({"p": p, "x": xa.half_before(i + offset), "y": ys[i]})
-                    prev = ys[i]
+            while v < len(vertices) and vertices[v] <= e:
+                i = vertices[v]
+                rows.append({"p": p, "x": xa.half_before(i + offset), "y": ys[i]})
+                v += 1
             rows.append({"p": p, "x": xa.half_after(e + offset), "y": ys[e]})
-            k = e + 1
         i = m - 1
         while i >= 0 and ys[i] is None:
             i -= 1
