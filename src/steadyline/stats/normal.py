@@ -88,6 +88,16 @@ def pdf(x, loc: float = 0.0, scale: float = 1.0) -> np.ndarray:
     return np.exp(-z**2 / 2.0) / _SQRT_2PI / scale
 
 
+_ERFC = np.frompyfunc(math.erfc, 1, 1)
+
+
+def _erfc(x: np.ndarray) -> np.ndarray:
+    """math.erfc elementwise over a float array."""
+    if x.size == 0:
+        return np.zeros(0)
+    return _ERFC(x).astype(float)
+
+
 def _logcdf1(x: float) -> float:
     if x > 0.0:
         return math.log1p(-0.5 * math.erfc(x * _SQRT1_2))
@@ -116,7 +126,17 @@ def logcdf(z) -> np.ndarray:
     a = np.asarray(z, dtype=float)
     if a.size > LOOP_MAX:
         return np.asarray(_special.log_ndtr(a), dtype=float)
-    out = np.fromiter(map(_logcdf1, a.ravel().tolist()), dtype=float, count=a.size)
+    flat = a.ravel()
+    out = np.empty(flat.shape, dtype=float)
+    # the two common branches of _logcdf1 for the whole array at once (math.erfc per value,
+    # called from numpy's loop), the far lower tail and nan one by one
+    upper = flat > 0.0
+    middle = ~upper & (flat > ASYMPTOTIC_BELOW)
+    out[upper] = np.log1p(-0.5 * _erfc(flat[upper] * _SQRT1_2))
+    out[middle] = np.log(0.5 * _erfc(-flat[middle] * _SQRT1_2))
+    rest = np.flatnonzero(~upper & ~middle)
+    if rest.size:
+        out[rest] = [_logcdf1(v) for v in flat[rest].tolist()]
     return out.reshape(a.shape)
 
 
