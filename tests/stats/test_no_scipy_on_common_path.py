@@ -1,11 +1,12 @@
 """Building an ordinary project must not import scipy.stats, scipy.special or scipy.integrate.
 
 Importing them costs most of a second, more than a rebuild of one project may take. The common
-statistics (normal distribution, Welch's t-test, the Anhøj crossings limit, the control-chart
-constants) are computed without scipy; tests/stats/test_normal.py, test_special.py,
-test_compare.py, test_runs.py and test_constants.py check them against scipy. This test builds
-synthetic projects with the three common metric kinds in a fresh interpreter (other tests import
-scipy freely, so it cannot run in this process) and asks which modules were loaded.
+statistics (normal distribution, Welch's t-test, the exact binomial test behind the Poisson rate
+comparison, the Anhøj crossings limit, the control-chart constants) are computed without scipy;
+tests/stats/test_normal.py, test_special.py, test_binomial.py, test_compare.py, test_runs.py and
+test_constants.py check them against scipy. This test builds synthetic projects with the common
+metric kinds in a fresh interpreter (other tests import scipy freely, so it cannot run in this
+process) and asks which modules were loaded.
 """
 
 from __future__ import annotations
@@ -30,12 +31,26 @@ for i in range(3):
     # 5 with both spec limits, 0/1 defectives rolled up into a daily proportion
     synth.write_project(root / f"p{i}", i, metrics=3, rows=2000)
 
+# and defect counts per week, compared by the exact Poisson rate test
+import numpy as np
+weeks = np.arange(np.datetime64("2026-01-05"), np.datetime64("2026-11-30"), np.timedelta64(7, "D"))
+counts = np.random.default_rng(1).poisson(np.where(weeks < np.datetime64("2026-06-01"), 16, 7))
+(root / "p3").mkdir()
+(root / "p3" / "defects.csv").write_text(
+    "week,defects\n" + "".join(f"{w},{c}\n" for w, c in zip(weeks, counts)), "utf-8")
+(root / "p3" / "project.toml").write_text(
+    'title = "Defects per week"\nowner = "A. Owner"\nphase = "measure"\n'
+    'problem = "Defects per week."\n\n[comparison]\nbaseline = [2026-01-05, 2026-05-25]\n'
+    'after = [2026-06-01]\n\n[[metric]]\nid = "d"\nname = "Defects per week"\n'
+    'file = "defects.csv"\ntype = "defects"\ntime = "week"\ncount = "defects"\n'
+    'better = "lower"\nrun_rules = "perla"\n', "utf-8")
+
 from steadyline.config import load_portfolio
 from steadyline.site.project import build_project
 
 settings, _ = load_portfolio(root)
 report = {"projects": []}
-for i in range(3):
+for i in range(4):
     out = build_project(root / f"p{i}", root, settings)
     results = json.loads(out.files["results.json"])
     report["projects"].append({
@@ -63,7 +78,13 @@ def test_common_path_imports_no_scipy(tmp_path):
     report = json.loads(proc.stdout.strip().splitlines()[-1])
 
     # the statistics really ran: a capability study with a normality test on the measured
-    # metrics, Welch's t-test and the two-proportion z-test for the comparisons
+    # metrics, Welch's t-test, the two-proportion z-test and the exact Poisson rate test for the
+    # comparisons
+    assert len(report["projects"]) == 4
+    defects = report["projects"].pop()
+    assert defects["ok"] and not defects["metrics"][0]["failures"]
+    assert defects["metrics"][0]["chart"] == "c"
+    assert defects["metrics"][0]["test"] == "exact Poisson rate test"
     for project in report["projects"]:
         assert project["ok"]
         kinds = [m["type"] for m in project["metrics"]]

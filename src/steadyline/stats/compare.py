@@ -7,16 +7,17 @@ Tests (all two-sided):
   test (scipy's default exact/asymptotic choice) with the medians as the measure.
   Welch's test is computed here (:func:`welch_t_test`, the same arithmetic as
   ``scipy.stats.ttest_ind(equal_var=False)``, with the t tail from
-  :func:`steadyline.stats.special.t_two_sided`), so the common path needs no scipy; the
-  Mann–Whitney and exact Poisson tests import scipy.stats when used.
+  :func:`steadyline.stats.special.t_two_sided`), so the common path needs no scipy; only the
+  Mann–Whitney test imports scipy.stats, when it is used.
 - ``defectives``: two-proportion z-test with the pooled proportion, on (Σd, Σn) per phase.
   ``baseline`` / ``after`` are defective counts; ``baseline_sizes`` / ``after_sizes`` the
   numbers inspected.
 - ``defects``: exact conditional test for two Poisson rates: given the total count C, the
   after-phase count is Binomial(C, e_after / (e_baseline + e_after)) under equal rates; the
   two-sided p-value sums the probabilities no larger than that of the observed count
-  (scipy.stats.binomtest). ``baseline_sizes`` / ``after_sizes`` are the areas of opportunity
-  (units, hours...), 1 per value when not given.
+  (as scipy.stats.binomtest; computed by :func:`steadyline.stats.binomial.two_sided_p`).
+  ``baseline_sizes`` / ``after_sizes`` are the areas of opportunity (units, hours...), 1 per
+  value when not given.
 
 ``statistic`` is signed as after minus baseline where it has a sign (t, z); for
 Mann–Whitney it is U of the after phase; for the exact rate test it is the rate ratio
@@ -33,7 +34,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from . import normal
+from . import binomial, normal
 from ._lazy import lazy
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Comparison, StatsError
@@ -201,8 +202,7 @@ def compare(
             if total == 0:
                 statistic = p = None
             else:
-                r = _st.binomtest(int(round(da)), total, ea / (eb + ea))
-                p = float(r.pvalue)
+                p = binomial.two_sided_p(int(round(da)), total, ea / (eb + ea))
                 statistic = (va / vb) if vb > 0 else None
 
     change = va - vb
