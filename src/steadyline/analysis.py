@@ -151,7 +151,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
         if len(vbase) >= distribution.AD_MIN_POINTS:
             res.normality = _try(res, "capability", distribution.anderson_darling, vbase)
         if spec.spec_lower is not None or spec.spec_upper is not None:
-            res.capability = _capability(res, vbase, STAGE_BASELINE)
+            res.capability = _capability(res, vbase, STAGE_BASELINE, res.normality)
         for st in (STAGE_BASELINE, STAGE_AFTER):
             sel = vals[vstage == st]
             if len(sel) == 0:
@@ -162,8 +162,12 @@ def analyse(data: MetricData) -> MetricAnalysis:
                 res.phase_boxes.append((name, b))
             h = _try(res, "history", distribution.histogram, sel,
                      res.histogram.edges if res.histogram is not None else spec.bins)
-            c = (_capability(res, sel, st) if (spec.spec_lower is not None
-                                                or spec.spec_upper is not None) else None)
+            if spec.spec_lower is None and spec.spec_upper is None:
+                c = None
+            elif st == STAGE_BASELINE:
+                c = res.capability  # the same values as the baseline's own capability above
+            else:
+                c = _capability(res, sel, st)
             if h is not None:
                 res.phase_histograms.append((name, h, c))
 
@@ -208,7 +212,10 @@ def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
     return None if sigma is None else float(sigma)
 
 
-def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int) -> Capability | None:
+def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
+                normality: NormalityTest | None = None) -> Capability | None:
+    """Capability of *vals*; *normality*, when given, is the Anderson–Darling result already
+    computed for these same values."""
     spec = res.data.spec
     chart = res.control
     stable, reason = True, None
@@ -224,8 +231,7 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int) -> Capability
         extra = ("The data are rolled up into periods, so the within-subgroup sigma of single "
                  "values is not known; only Pp and Ppk (overall sigma) are given.")
         reason = extra if reason is None else reason + " " + extra
-    normality = None
-    if len(vals) >= distribution.AD_MIN_POINTS:
+    if normality is None and len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
     return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),
                 lsl=spec.spec_lower, usl=spec.spec_upper, target=spec.target, stable=stable,
