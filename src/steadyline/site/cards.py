@@ -267,9 +267,10 @@ class Displays:
 
 def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
     pts = a.data.points
+    # ISO text to the second, midnight written as the date alone
+    stamps = np.datetime_as_string(pts["period"].to_numpy().astype("datetime64[s]"), unit="s")
     return SeriesContext(
-        x=tuple(pts["period"].dt.strftime("%Y-%m-%dT%H:%M:%S").str.replace("T00:00:00", "",
-                                                                            regex=False)),
+        x=tuple(t[:10] if t.endswith("T00:00:00") else t for t in stamps.tolist()),
         x_is_time=True,
         stage=a.stage_names,
         segment=tuple(int(s) for s in pts["segment"]),
