@@ -16,8 +16,8 @@ against ``scipy.stats.norm`` and ``scipy.special`` (tests/stats/test_normal.py).
 - ``logcdf(z)`` / ``logsf(z)`` on arrays: log(cdf) in the middle, ``log1p(-sf)`` above zero, and
   below ``ASYMPTOTIC_BELOW`` the asymptotic series
   ``log Phi(x) = -x^2/2 - log(-x) - log(2 pi)/2 + log(1 - 1/x^2 + 1*3/x^4 - 1*3*5/x^6 + ...)``
-  (Abramowitz & Stegun 26.2.12), where ``erfc`` would underflow. Up to ``LOOP_MAX`` values they
-  are computed one by one in Python (a few milliseconds); longer arrays call
+  (Abramowitz & Stegun 26.2.12), where ``erfc`` would underflow. Up to ``LOOP_MAX`` values
+  ``math.erfc`` is applied value by value (a few milliseconds); longer arrays call
   ``scipy.special.log_ndtr``, whose import cost is then small beside the work.
 
 Agreement with scipy is to within a few units in the last place (relative 1e-13 or better at
