@@ -35,7 +35,7 @@ from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
 from .common import ProjectOutcome, input_hash, page_context
 from .publish import clean_stale, link_tree, publish, staging_dir, write_files
-from .serialise import dumps
+from .serialise import dumps_bytes
 from .templates import render, templates_fingerprint
 
 MANIFEST = ".steadyline-manifest.json"
@@ -199,7 +199,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
                 for slug in sorted(entries)
             },
         }
-        manifest_bytes = (dumps(new_manifest, indent=None) + "\n").encode()
+        manifest_bytes = dumps_bytes(new_manifest)
         report.stamps = {slug: hashes[slug][:16] for slug in entries}
         report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
 

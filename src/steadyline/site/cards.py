@@ -16,7 +16,7 @@ from ..charts import ChartSpec, SeriesContext
 from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..stats.compare import format_p_value
-from .serialise import compact, escape_for_script
+from .serialise import compact_bytes, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
 
@@ -248,8 +248,9 @@ class Displays:
         data_name = f"data/{base}.csv"
         spec_name = f"data/{base}.vl.json"
         self.files[data_name] = table_csv(chart)
-        text = compact(chart.spec)  # chart specs are plain JSON already (charts package)
-        self.files[spec_name] = (text + "\n").encode()
+        raw = compact_bytes(chart.spec)  # chart specs are plain JSON already (charts package)
+        self.files[spec_name] = raw + b"\n"
+        text = raw.decode("utf-8")
         card = {
             "key": key, "title": title, "anchor": base, "chart_id": f"chart-{base}",
             # escape_for_script leaves no '<', '>' or '&', so the JSON cannot end its script element

@@ -39,7 +39,7 @@ from .cards import (
 from .common import ProjectOutcome, input_hash, page_context
 from .history import history_page
 from .notes import render_notes
-from .serialise import dumps, plain
+from .serialise import dumps_bytes, plain
 from .templates import render
 
 RESULTS_SCHEMA = "steadyline-results/1"
@@ -355,7 +355,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
         "input_notes": [p.format() for p in problems],
         "provenance": prov,
     }
-    files["results.json"] = (dumps(doc, indent=None) + "\n").encode()
+    files["results.json"] = dumps_bytes(doc)
     entry = index_entry(spec, analyses, sections, problems, has_history)
     # Displays the statistics could not draw are warnings for `check` and the terminal too.
     stats_notes = [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")

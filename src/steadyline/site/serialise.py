@@ -64,6 +64,8 @@ _BOOL_ONLY = frozenset((bool,))
 
 
 _DATACLASS_FIELDS: dict[type, tuple[str, ...]] = {}
+# values plain() returns unchanged: tested for inline to save a call per value
+_AS_IS = frozenset((str, int, bool, type(None)))
 
 
 @functools.cache
@@ -83,9 +85,11 @@ def plain(obj: Any) -> Any:
         return _num(obj)
     names = _DATACLASS_FIELDS.get(t)
     if names is not None:  # a dataclass met before: its fields, without the checks below
-        return {name: plain(getattr(obj, name)) for name in names}
+        return {name: v if type(v) in _AS_IS else plain(v)
+                for name, v in zip(names, map(obj.__getattribute__, names), strict=True)}
     if t is dict:
-        return {str(k): plain(v) for k, v in obj.items()}
+        return {k if type(k) is str else str(k): v if type(v) in _AS_IS else plain(v)
+                for k, v in obj.items()}
     if t is list or t is tuple:
         types = set(map(type, obj))
         if types <= _PLAIN_LIST_TYPES or types == _BOOL_ONLY:
@@ -132,20 +136,29 @@ def dumps(obj: Any, *, indent: int | None = 1) -> str:
                       allow_nan=False, separators=(",", ": ") if indent else (",", ":"))
 
 
+def dumps_bytes(obj: Any) -> bytes:
+    """:func:`dumps` without indent, as UTF-8 bytes ending in a newline (a file's content)."""
+    return _encode_bytes(plain(obj)) + b"\n"
+
+
+def _encode_bytes(data: Any) -> bytes:
+    try:
+        return orjson.dumps(data, option=orjson.OPT_SORT_KEYS)
+    except orjson.JSONEncodeError:
+        return json.dumps(data, sort_keys=True, ensure_ascii=False, allow_nan=False,
+                          separators=(",", ":")).encode("utf-8")
+
+
+def compact_bytes(spec: dict) -> bytes:
+    """Compact, sorted JSON of an already JSON-able dict (chart specs), as UTF-8 bytes."""
+    return _encode_bytes(spec)
+
+
 def _encode(data: Any) -> str:
     """Compact JSON text with sorted keys, written by orjson (several times quicker than the
     standard library's encoder on long lists of numbers); floats in their shortest exact form.
     Integers beyond 64 bits, which orjson refuses, go through the standard encoder."""
-    try:
-        return orjson.dumps(data, option=orjson.OPT_SORT_KEYS).decode("utf-8")
-    except orjson.JSONEncodeError:
-        return json.dumps(data, sort_keys=True, ensure_ascii=False, allow_nan=False,
-                          separators=(",", ":"))
-
-
-def compact(spec: dict) -> str:
-    """Compact, sorted JSON of an already JSON-able dict (chart specs)."""
-    return _encode(spec)
+    return _encode_bytes(data).decode("utf-8")
 
 
 def escape_for_script(text: str) -> str:
