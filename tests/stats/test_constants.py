@@ -200,7 +200,7 @@ def test_beyond_the_table_d2_d3_are_integrated():
 @pytest.mark.parametrize("n", [2, 3, 10, 57, 100, 101, 102, 640, 5_001, 2_000_000])
 def test_c4_recurrence(n):
     # Gamma(x + 1) = x Gamma(x) gives c4(n) c4(n + 1) = sqrt((n - 1) / n) exactly (Abramowitz &
-    # Stegun 6.1.15); holds across the table edge and far beyond it
+    # Stegun 6.1.15, from memory); holds across the table edge and far beyond it
     assert K.c4(n) * K.c4(n + 1) == pytest.approx(math.sqrt((n - 1) / n), rel=1e-14)
 
 

@@ -104,7 +104,7 @@ def test_logcdf_and_logsf_match_scipy():
         assert _close(normal.logcdf(z), special.log_ndtr(z), z)
         assert _close(normal.logsf(z), special.log_ndtr(-z), z)
     # far in the lower tail the asymptotic series is in use: log Phi(z) ~ -z^2/2 - ln(-z sqrt(2 pi))
-    # (Abramowitz & Stegun 26.2.12, leading term)
+    # (Abramowitz & Stegun 26.2.12, leading term; from memory)
     zz = np.array([-1e3, -1e5])
     lead = -zz**2 / 2 - np.log(-zz * math.sqrt(2 * math.pi))
     np.testing.assert_allclose(normal.logcdf(zz), lead, rtol=1e-6)

@@ -10,7 +10,7 @@ count, the after-phase count is binomial). The tests check every value against
   * sqrt(n / (2 pi x (n - x)))``, with ``delta`` Stirling's error term
   (:func:`steadyline.stats.special.stirling_error`) and ``D(x, M) = x ln(x / M) + M - x``
   summed as ``(x - M) v + 2x (v^3/3 + v^5/5 + ...)``, ``v = (x - M) / (x + M)``, when x is near M
-  (the series of ln((1 + v) / (1 - v)), Abramowitz & Stegun 4.1.25), so nothing cancels. It
+  (the series ln((1 + v) / (1 - v)) = 2 (v + v^3/3 + v^5/5 + ...)), so nothing cancels. It
   keeps about 1e-15 relative precision at any n, where a product of powers or a difference of
   log-gamma values loses digits as n grows.
 - Tail sums start at their inner end, whose term comes from ``pmf``, and walk outwards with the

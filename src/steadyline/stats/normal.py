@@ -7,7 +7,8 @@ against ``scipy.stats.norm`` and ``scipy.special`` (tests/stats/test_normal.py).
 
 - ``cdf(x) = erfc(-x / sqrt 2) / 2`` and ``sf(x) = erfc(x / sqrt 2) / 2``: ``math.erfc`` keeps
   its relative precision far into either tail, where ``1 - erf`` would cancel.
-- ``ppf(p)``: Wichura's algorithm AS 241 (*Applied Statistics* 37:477-484, 1988), as the standard
+- ``ppf(p)``: Wichura's algorithm AS 241 (*Applied Statistics* 37:477-484, 1988; citation from
+  memory, the algorithm's name from the standard library's documentation), as the standard
   library's ``statistics.NormalDist.inv_cdf`` implements it, followed by one Newton step on the
   smaller of p and 1 - p, which removes most of the last-digit error left by the rational
   approximation.
@@ -16,8 +17,9 @@ against ``scipy.stats.norm`` and ``scipy.special`` (tests/stats/test_normal.py).
 - ``logcdf(z)`` / ``logsf(z)`` on arrays: log(cdf) in the middle, ``log1p(-sf)`` above zero, and
   below ``ASYMPTOTIC_BELOW`` the asymptotic series
   ``log Phi(x) = -x^2/2 - log(-x) - log(2 pi)/2 + log(1 - 1/x^2 + 1*3/x^4 - 1*3*5/x^6 + ...)``
-  (Abramowitz & Stegun 26.2.12), where ``erfc`` would underflow. Up to ``LOOP_MAX`` values
-  ``math.erfc`` is applied value by value (a few milliseconds); longer arrays call
+  (Abramowitz & Stegun 26.2.12, from memory), where ``erfc`` would underflow. Up to
+  ``LOOP_MAX`` values ``math.erfc`` is applied value by value (a few milliseconds); longer
+  arrays call
   ``scipy.special.log_ndtr``, whose import cost is then small beside the work.
 
 Agreement with scipy is to within a few units in the last place near the centre; in the tails
