@@ -19,8 +19,7 @@ against ``scipy.stats.norm`` and ``scipy.special`` (tests/stats/test_normal.py).
   ``log Phi(x) = -x^2/2 - log(-x) - log(2 pi)/2 + log(1 - 1/x^2 + 1*3/x^4 - 1*3*5/x^6 + ...)``
   (Abramowitz & Stegun 26.2.12, from memory), where ``erfc`` would underflow. Up to
   ``LOOP_MAX`` values ``math.erfc`` is applied value by value (a few milliseconds); longer
-  arrays call
-  ``scipy.special.log_ndtr``, whose import cost is then small beside the work.
+  arrays call ``scipy.special.log_ndtr``, whose import cost is then small beside the work.
 
 Agreement with scipy is to within a few units in the last place near the centre; in the tails
 both are limited by the rounding of x / sqrt 2, whose effect on erfc grows like x^2, so the
