@@ -24,7 +24,7 @@ import json
 import os
 import shutil
 import threading
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from multiprocessing import get_context
 from pathlib import Path
@@ -224,8 +224,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         if opts.live:
             written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
                                                          + "\n").encode()})
-        for f in reuse:
-            link_tree(out / "projects" / f.name, staged / "projects" / f.name, files_of[f.name])
+        _link_reused(out, staged, [(f.name, files_of[f.name]) for f in reuse])
         # 7. publish
         publish(staged, out, written)
     except BaseException:
@@ -233,6 +232,21 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         raise
     report.written = True
     return report
+
+
+def _link_reused(out: Path, staged: Path, projects: list[tuple[str, list[str]]]) -> None:
+    """Hard-link the unchanged projects' files into the staging folder; a few threads at a
+    time, since each link is a system call that waits on the file system, not on Python."""
+    def one(item: tuple[str, list[str]]) -> None:
+        name, files = item
+        link_tree(out / "projects" / name, staged / "projects" / name, files)
+
+    if len(projects) < 16:
+        for item in projects:
+            one(item)
+        return
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        list(pool.map(one, projects))  # list(): re-raises the first error
 
 
 class _Assets:

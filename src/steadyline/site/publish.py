@@ -14,6 +14,9 @@ import ctypes.util
 import errno
 import os
 import shutil
+import subprocess
+import threading
+import time
 from pathlib import Path
 
 _RENAME_EXCHANGE = 2
@@ -83,11 +86,34 @@ def staging_dir(out: Path) -> Path:
 
 
 def clean_stale(out: Path) -> None:
-    """Remove staging and retired folders left by builds that were killed."""
+    """Remove staging and retired folders left by builds that were killed (retired ones in
+    the background, see :func:`discard`)."""
     for p in out.parent.glob(f".{out.name}.staging-*"):
         shutil.rmtree(p, ignore_errors=True)
     for p in out.parent.glob(f".{out.name}.retired-*"):
-        shutil.rmtree(p, ignore_errors=True)
+        discard(p)
+
+
+def discard(folder: Path) -> None:
+    """Delete a folder nobody reads any more (a previous version of the site) without waiting:
+    unlinking thousands of files takes a noticeable part of a second, and the new site is
+    already published. A detached ``rm -rf`` does it where there is one, else a thread. What
+    is left if that is cut short carries a ``.retired-`` name and goes at the next build."""
+    rm = shutil.which("rm") if os.name == "posix" else None
+    if rm is not None:
+        try:
+            subprocess.Popen([rm, "-rf", "--", os.fspath(folder)], stdin=subprocess.DEVNULL,
+                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                             start_new_session=True, close_fds=True)
+            return
+        except OSError:
+            pass
+    threading.Thread(target=shutil.rmtree, args=(folder,), kwargs={"ignore_errors": True},
+                     daemon=True).start()
+
+
+def _retired_name(out: Path) -> Path:
+    return out.parent / f".{out.name}.retired-{os.getpid()}-{time.monotonic_ns()}"
 
 
 def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
@@ -108,12 +134,14 @@ def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
         os.rename(staged, out)
         return
     if exchange(staged, out):
-        shutil.rmtree(staged, ignore_errors=True)  # now holds the previous site
+        retired = _retired_name(out)
+        os.rename(staged, retired)  # now holds the previous site
+        discard(retired)
         return
-    retired = out.parent / f".{out.name}.retired-{os.getpid()}"
+    retired = _retired_name(out)
     os.rename(out, retired)
     os.rename(staged, out)
-    shutil.rmtree(retired, ignore_errors=True)
+    discard(retired)
 
 
 def _fsync_files(paths: list[str]) -> None:
