@@ -67,7 +67,11 @@ class MetricAnalysis:
 
     @property
     def has_after(self) -> bool:
-        return bool((self.data.points["stage"] == STAGE_AFTER).any())
+        flag = self.__dict__.get("_has_after")
+        if flag is None:  # the data never change once loaded: worked out once
+            flag = self.__dict__["_has_after"] = bool(
+                (self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
+        return flag
 
 
 def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):

@@ -16,7 +16,7 @@ from ..charts import ChartSpec, SeriesContext
 from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..stats.compare import format_p_value
-from .serialise import compact_bytes, escape_for_script
+from .serialise import Plain, compact_bytes, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
 
@@ -282,9 +282,13 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
 
 
 def signals_json(signals, x) -> list[dict]:
-    return [{"rule": s.rule, "description": s.description, "indices": list(s.indices),
-             "dates": [x[i] for i in s.indices], "side": s.side, "chart": s.chart}
-            for s in signals]
+    out = []
+    for s in signals:
+        idx = list(map(int, s.indices))
+        out.append(Plain(rule=str(s.rule), description=str(s.description), indices=idx,
+                         dates=[str(x[i]) for i in idx], side=s.side and str(s.side),
+                         chart=str(s.chart)))
+    return out
 
 
 def capability_rows(c, unit: str) -> list[tuple[str, str, str]]:

@@ -63,7 +63,13 @@ _FLOAT_OR_NONE = frozenset((float, type(None)))
 _BOOL_ONLY = frozenset((bool,))
 
 
+class Plain(dict):
+    """A dict its maker built in JSON form already (strings, ints, None, lists of those):
+    :func:`plain` passes it through without looking inside."""
+
+
 _DATACLASS_FIELDS: dict[type, tuple[str, ...]] = {}
+_PLAIN_ONLY = frozenset((Plain,))
 # values plain() returns unchanged: tested for inline to save a call per value
 _AS_IS = frozenset((str, int, bool, type(None)))
 
@@ -83,6 +89,8 @@ def plain(obj: Any) -> Any:
         return obj
     if t is float:
         return _num(obj)
+    if t is Plain:
+        return obj
     names = _DATACLASS_FIELDS.get(t)
     if names is not None:  # a dataclass met before: its fields, without the checks below
         return {name: v if type(v) in _AS_IS else plain(v)
@@ -92,8 +100,8 @@ def plain(obj: Any) -> Any:
                 for k, v in obj.items()}
     if t is list or t is tuple:
         types = set(map(type, obj))
-        if types <= _PLAIN_LIST_TYPES or types == _BOOL_ONLY:
-            return list(obj)  # indices, labels and flags: nothing to convert
+        if types <= _PLAIN_LIST_TYPES or types == _BOOL_ONLY or types == _PLAIN_ONLY:
+            return list(obj)  # indices, labels, flags, ready-made rows: nothing to convert
         if types == _FLOAT_ONLY or types == _FLOAT_OR_NONE:  # None -> nan -> null
             return _array(np.array(obj, dtype=float))
         return [plain(v) for v in obj]
