@@ -96,3 +96,22 @@ def test_plain_reader_strips_cells_like_the_careful_reader():
     df = _read_plain("t,v\n2026-01-01,\u00a01.5\u2003\n2026-01-02,\x0b2\n", ",")
     assert df is not None
     assert df["v"].tolist() == ["1.5", "2"]
+
+
+def test_display_rounding_in_bulk_matches_the_text_rounding():
+    # reference: float(f"{x:.6g}") (Python's correctly rounded formatting), value by value,
+    # over decimal data, 7-digit values ending in 5 (ties) and the whole exponent range
+    from steadyline.charts.base import _round6, _round6_array
+
+    rng = np.random.default_rng(21)
+    arrays = [rng.normal(0, 1, 3000) * 10.0 ** rng.integers(-30, 30, 3000),
+              np.round(rng.normal(20, 3, 3000), 4),
+              (rng.integers(1, 10**7, 3000) + 0.5) / 10.0 ** rng.integers(0, 9, 3000),
+              rng.integers(-10**9, 10**9, 3000).astype(float),
+              10.0 ** rng.integers(-20, 20, 3000) * (1 + rng.choice([-1e-16, 0, 5e-7], 3000))]
+    for a in arrays:
+        a[:6] = [0.0, -0.0, np.nan, np.inf, -np.inf, 1e300]
+        got = _round6_array(a)
+        want = [None if not math.isfinite(v) else _round6(float(v)) for v in a]
+        assert got == want
+        assert [type(g) for g in got] == [type(w) for w in want]

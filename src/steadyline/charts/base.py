@@ -281,8 +281,52 @@ def _display_row(row: dict) -> dict:
 
 
 def disp_list(values) -> list:
-    """:func:`disp` for a whole array."""
-    return [None if f is None else _round6(f) for f in num_list(values)]
+    """:func:`disp` for a whole array, computed with numpy: the same numbers as
+    :func:`_round6` value by value (see :func:`_round6_array`)."""
+    arr = np.asarray(values, dtype=float).ravel()
+    if arr.size < 16:
+        return [None if f is None else _round6(f) for f in num_list(arr)]
+    return _round6_array(arr)
+
+
+_POW10 = 10.0 ** np.arange(23)  # exact in binary floating point
+
+
+def _round6_array(arr: np.ndarray) -> list:
+    """[_round6(x) or None] for a float array, without formatting each value as text.
+
+    A value x with decimal exponent e = floor(log10 |x|) is scaled to q = x * 10^(5 - e) (or
+    x / 10^(e - 5)), both exact powers of ten, so q carries one rounding; k = rint(q) has the
+    6 significant digits, and k / 10^(5 - e) (or k * 10^(e - 5)) is the double nearest that
+    decimal, which is what float(f"{x:.6g}") gives. Where the single rounding could matter (q
+    within 1e-6 of a half, or k not of six digits because log10 was off at a power of ten, or
+    a magnitude beyond the exact powers) the value goes through _round6 itself.
+    """
+    finite = np.isfinite(arr)
+    x = np.where(finite, arr, 0.0)
+    ax = np.abs(x)
+    nonzero = ax > 0
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        e = np.floor(np.log10(np.where(nonzero, ax, 1.0))).astype(np.int64)
+        up = 5 - e  # decimal places to keep
+        ok = nonzero & (up >= -22) & (up <= 22)
+        p = _POW10[np.clip(np.abs(up), 0, 22)]
+        q = np.where(up >= 0, x * p, x / p)
+        k = np.rint(q)
+        r = np.where(up >= 0, k / p, k * p)
+        near_half = np.abs(np.abs(q - np.trunc(q)) - 0.5) < 1e-6
+        six = (np.abs(k) >= 1e5) & (np.abs(k) < 1e6)
+    slow = finite & nonzero & ~(ok & six & ~near_half)
+    r = np.where(nonzero, r, 0.0)
+    out = r.tolist()
+    whole = finite & (np.floor(r) == r) & (np.abs(r) < 1e15)
+    for i in np.flatnonzero(whole).tolist():
+        out[i] = int(out[i])
+    for i in np.flatnonzero(slow).tolist():
+        out[i] = _round6(float(arr[i]))
+    for i in np.flatnonzero(~finite).tolist():
+        out[i] = None
+    return out
 
 
 def fmt(v, sig: int = 3) -> str:
