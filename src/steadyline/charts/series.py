@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -498,24 +499,24 @@ def _limit_rows(
 
 
 def _limits_info(chart: ControlChart) -> list[str]:
-    out = []
-    memo: dict[tuple, str] = {}
-    lows, centres, highs = num_list(chart.lower), num_list(chart.centre), num_list(chart.upper)
-    for key in zip(lows, centres, highs, strict=True):
-        if key in memo:
-            out.append(memo[key])
-            continue
-        lo, c, hi = key
+    """Per point, the limits there as text ("LCL 1.2, CL 3.4, UCL 5.6"), each distinct
+    combination written once."""
+    cols = [np.asarray(a, dtype=float).ravel() for a in (chart.lower, chart.centre, chart.upper)]
+    if len(cols[0]) == 0:
+        return []
+    grid = np.column_stack([np.where(np.isfinite(c), c, np.inf) for c in cols])  # inf: none
+    combos, where = np.unique(grid, axis=0, return_inverse=True)
+    texts = []
+    for lo, c, hi in combos.tolist():
         parts = []
-        if lo is not None:
+        if lo != math.inf:
             parts.append(f"LCL {fmt(lo)}")
-        if c is not None:
+        if c != math.inf:
             parts.append(f"CL {fmt(c)}")
-        if hi is not None:
+        if hi != math.inf:
             parts.append(f"UCL {fmt(hi)}")
-        memo[key] = ", ".join(parts)
-        out.append(memo[key])
-    return out
+        texts.append(", ".join(parts))
+    return [texts[j] for j in where.ravel().tolist()]
 
 
 def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:

@@ -361,6 +361,9 @@ def individuals(
 def _subgroups(subgroups: Sequence[Sequence[float]]) -> list[np.ndarray]:
     if isinstance(subgroups, np.ndarray) and subgroups.ndim == 2:
         groups = [np.asarray(r, dtype=float) for r in subgroups]
+    elif isinstance(subgroups, list) and all(
+            type(g) is np.ndarray and g.dtype == np.float64 and g.ndim == 1 for g in subgroups):
+        groups = subgroups  # already float arrays (as the loader makes them)
     else:
         try:
             groups = [np.atleast_1d(np.asarray(g, dtype=float)) for g in subgroups]
@@ -368,9 +371,9 @@ def _subgroups(subgroups: Sequence[Sequence[float]]) -> list[np.ndarray]:
             raise StatsError("subgroups must be a list of sequences of numbers") from exc
     if not groups:
         raise StatsError("subgroup charts need at least one subgroup, got none")
-    for i, g in enumerate(groups):
-        if g.ndim != 1 or g.size == 0:
-            raise StatsError(f"every subgroup needs at least one value; subgroup {i} is empty")
+    bad = [i for i, g in enumerate(groups) if g.ndim != 1 or g.size == 0]
+    if bad:
+        raise StatsError(f"every subgroup needs at least one value; subgroup {bad[0]} is empty")
     finite = np.isfinite(np.concatenate(groups))  # one pass over all values
     if not finite.all():
         sizes = np.fromiter((g.size for g in groups), dtype=int, count=len(groups))
