@@ -104,7 +104,9 @@ def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
     # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
     with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
         results = []
-        for r in pool.map(_worker, tasks, chunksize=max(1, len(tasks) // (jobs * 8))):
+        # one project per task: the outcomes are small (the files are written by the worker),
+        # and small tasks leave no worker idle at the end while another finishes a batch
+        for r in pool.map(_worker, tasks, chunksize=1):
             results.append(r)
             progress(r.slug)
         return results
