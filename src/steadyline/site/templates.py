@@ -25,10 +25,21 @@ def templates_dir() -> Path:
     raise FileNotFoundError("steadyline's site_templates folder is missing from the installation")
 
 
+def _bytecode_cache() -> jinja2.BytecodeCache | None:
+    """Compiled templates kept between runs (Jinja2's own cache in a per-user folder of the
+    system's temporary directory, keyed by each template's source), so that a rebuild in a
+    fresh process does not compile every template again. None where it cannot be set up."""
+    try:
+        return jinja2.FileSystemBytecodeCache(pattern="__steadyline_%s.cache")
+    except OSError:
+        return None
+
+
 @functools.lru_cache(maxsize=1)
 def environment() -> jinja2.Environment:
     return jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(templates_dir())),
+        bytecode_cache=_bytecode_cache(),
         autoescape=True,
         undefined=jinja2.StrictUndefined,
         trim_blocks=False,
