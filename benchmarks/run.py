@@ -37,7 +37,10 @@ sys.path.insert(0, str(HERE))
 
 import synth  # noqa: E402
 
-ENV = dict(os.environ, PYTHONPATH=str(REPO / "src"), CI="1")
+# Commands run as on an ordinary installation: Python caches compiled modules (a shell that
+# sets PYTHONDONTWRITEBYTECODE would otherwise make every fresh process compile them again).
+ENV = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
+ENV.update(PYTHONPATH=str(REPO / "src"), CI="1")
 
 
 def run(cmd: list[str]) -> float:

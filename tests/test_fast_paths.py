@@ -115,3 +115,19 @@ def test_display_rounding_in_bulk_matches_the_text_rounding():
         want = [None if not math.isfinite(v) else _round6(float(v)) for v in a]
         assert got == want
         assert [type(g) for g in got] == [type(w) for w in want]
+
+
+def test_vega_bundle_cache_gives_the_bundle_vl_convert_makes(tmp_path, monkeypatch):
+    # reference: vl_convert.javascript_bundle() itself
+    import vl_convert
+
+    from steadyline.site import assets
+
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path))
+    assets.vega_bundle.cache_clear()
+    first = assets.vega_bundle()  # made and stored
+    stored = list((tmp_path / "steadyline").iterdir())
+    assert len(stored) == 1 and vl_convert.__version__ in stored[0].name
+    assets.vega_bundle.cache_clear()
+    assert assets.vega_bundle() == first == vl_convert.javascript_bundle()  # read back
+    assets.vega_bundle.cache_clear()

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import functools
 import hashlib
+import os
+from pathlib import Path
 
 from .templates import templates_dir
 
@@ -17,9 +19,30 @@ LICENCES = "THIRD-PARTY-LICENCES.txt"
 
 @functools.lru_cache(maxsize=1)
 def vega_bundle() -> str:
+    """The Vega, Vega-Lite and vega-embed JavaScript, from vl-convert. Making it takes about a
+    second, so a copy is kept in the user's cache folder, named by the vl-convert version it
+    came from (a cache that cannot be read or written is simply not used)."""
     import vl_convert
 
-    return vl_convert.javascript_bundle()
+    cache = _cache_dir() / f"vega-bundle-vl-convert-{vl_convert.__version__}.js"
+    try:
+        return cache.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        pass
+    text = vl_convert.javascript_bundle()
+    try:
+        cache.parent.mkdir(parents=True, exist_ok=True)
+        tmp = cache.with_name(f".{cache.name}.{os.getpid()}.tmp")
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, cache)  # whole or not at all, also with builds running side by side
+    except OSError:
+        pass
+    return text
+
+
+def _cache_dir() -> Path:
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "steadyline"
 
 
 def asset_files() -> dict[str, bytes]:
