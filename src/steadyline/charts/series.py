@@ -48,6 +48,13 @@ _UNIT_KINDS = {"individuals", "xbar", "moving-range", "range", "stdev"}
 # Datasets built at display precision already (values from disp_list, integer or text x).
 _EXACT = ("points",)
 
+
+def _exact(ctx: SeriesContext, datasets: dict) -> tuple[str, ...]:
+    """Datasets already at display precision. On a time axis every dataset of a series chart
+    is (values from disp/disp_list, positions as text); on a point-number axis the limit
+    lines' and labels' positions are plain floats and are rounded with the rest."""
+    return tuple(datasets) if ctx.x_is_time else _EXACT
+
 _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
 
 
@@ -609,7 +616,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     ]
     spec = make_spec(
         tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
-        exact=_EXACT,
+        exact=_exact(ctx, datasets),
     )
 
     x_col = "date" if ctx.x_is_time else "point"
@@ -874,7 +881,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     ]
     if sec is not None:
         subtitle.extend(sec.notes)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_EXACT)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
     table, columns = _control_table(ctx, chart, offset, marked, sec_marked)
 
     last = {lab["kind"]: lab["text"] for lab in labels}
@@ -938,7 +945,7 @@ def staged_control_chart(
     subtitle += list(carried.notes)
     if sec is not None:
         subtitle.extend(sec.notes)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_EXACT)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
     table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own)
 
     last = {lab["kind"]: lab["text"] for lab in labels}
