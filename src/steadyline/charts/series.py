@@ -382,6 +382,24 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
     """Merge the main and the companion series into one row per position."""
     at = xa.pos
     labels = None if xa.is_time else ctx.x
+    if labels is None and _uniform(main) and (not second or (_uniform(second)
+                                                              and second.keys() == main.keys())):
+        # the common shapes, one dict display per row: a time axis, every point with its
+        # limits key (or none without), the companion (if any) at the same positions
+        idx = list(main)  # in index order, as _series_rows made it
+        xs = [at[i] for i in idx]
+        v, g, k, lim = zip(*main.values(), strict=True) if idx else ((), (), (), ())
+        with_i = bool(idx) and lim[0] is not None
+        if not second:
+            if with_i:
+                return [{"x": a, "v": b, "g": c, "k": d, "i": e}
+                        for a, b, c, d, e in zip(xs, v, g, k, lim, strict=True)]
+            return [{"x": a, "v": b, "g": c, "k": d} for a, b, c, d in zip(xs, v, g, k, strict=True)]
+        v2, g2, k2, lim2 = zip(*(second[i] for i in idx), strict=True)
+        if with_i and lim2[0] is not None:
+            return [{"x": a, "v": b, "g": c, "k": d, "i": e, "v2": b2, "g2": c2, "k2": d2, "i2": e2}
+                    for a, b, c, d, e, b2, c2, d2, e2
+                    in zip(xs, v, g, k, lim, v2, g2, k2, lim2, strict=True)]
     rows = []
     add = rows.append
     if not second:
@@ -413,6 +431,14 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None =
                 row["i2"] = b[3]
         add(row)
     return rows
+
+
+def _uniform(series: dict) -> bool:
+    """Whether every point of a series has a limits key, or none has."""
+    if not series:
+        return True
+    has = [t[3] is not None for t in series.values()]
+    return all(has) or not any(has)
 
 
 class _Parts:
