@@ -19,6 +19,7 @@ not churn).
 
 from __future__ import annotations
 
+import gc
 import hashlib
 import json
 import os
@@ -86,12 +87,31 @@ def _worker(args) -> ProjectOutcome:
     pool does not send every page back through a pipe."""
     from .project import build_project  # the statistics stack: loaded only when needed
 
+    _tune_gc()
     folder, root, settings, live, debug, target = args
     outcome = build_project(folder, root, settings, live=live, debug=debug)
     outcome.written = write_files(target, outcome.files)
     outcome.names = sorted(outcome.files)
     outcome.files = {}
     return outcome
+
+
+_GC_TUNED = False
+
+
+def _tune_gc() -> None:
+    """Once per process, before the first project: move what is loaded so far out of the
+    cyclic garbage collector's sight and let it run less often. A project allocates hundreds
+    of thousands of small, acyclic objects (chart rows, table cells), and with the default
+    threshold the collector would walk the whole heap again and again; this saves about a
+    tenth of a project's time. Memory is still freed as usual by reference counting."""
+    global _GC_TUNED
+    if _GC_TUNED:
+        return
+    _GC_TUNED = True
+    gc.collect()
+    gc.freeze()
+    gc.set_threshold(50_000, 20, 100)
 
 
 def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
