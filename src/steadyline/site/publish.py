@@ -49,6 +49,8 @@ def _syncfs_fn():
 
 
 _SYNCFS = _syncfs_fn()
+# Up to this many new files are flushed one by one; more, by one syncfs.
+FSYNC_EACH_MAX = 400
 
 
 def syncfs(folder: Path) -> bool:
@@ -120,11 +122,15 @@ def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
     """Make *staged* the published site at *out*, atomically.
 
     The staging folder's contents are flushed to disk first, so that the swap never publishes
-    empty files after a power cut: by one ``syncfs`` where the system has it, else file by file.
+    empty files after a power cut: file by file when few were written (``syncfs`` would also
+    wait for every other program's pending writes), else by one ``syncfs`` where the system
+    has it.
     *written* lists the files written anew into the staging folder: only those need flushing
     (the rest are hard links to published files); None flushes everything.
     """
-    if syncfs(staged):
+    if written is not None and len(written) <= FSYNC_EACH_MAX:
+        _fsync_files(written)  # a few files: flush just those, whatever else is pending
+    elif syncfs(staged):
         pass
     elif written is None:
         _fsync_tree(staged)
