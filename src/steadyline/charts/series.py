@@ -538,18 +538,26 @@ def _limits_info(chart: ControlChart) -> list[str]:
     if len(cols[0]) == 0:
         return []
     grid = np.column_stack([np.where(np.isfinite(c), c, np.inf) for c in cols])  # inf: none
-    combos, where = np.unique(grid, axis=0, return_inverse=True)
+    # limits mostly hold steady over runs of points: a text per run (one per distinct
+    # combination), repeated over the run
+    starts = np.flatnonzero(np.concatenate([[True], (grid[1:] != grid[:-1]).any(axis=1)]))
+    memo: dict[tuple, str] = {}
     texts = []
-    for lo, c, hi in combos.tolist():
-        parts = []
-        if lo != math.inf:
-            parts.append(f"LCL {fmt(lo)}")
-        if c != math.inf:
-            parts.append(f"CL {fmt(c)}")
-        if hi != math.inf:
-            parts.append(f"UCL {fmt(hi)}")
-        texts.append(", ".join(parts))
-    return [texts[j] for j in where.ravel().tolist()]
+    for key in map(tuple, grid[starts].tolist()):
+        text = memo.get(key)
+        if text is None:
+            lo, c, hi = key
+            parts = []
+            if lo != math.inf:
+                parts.append(f"LCL {fmt(lo)}")
+            if c != math.inf:
+                parts.append(f"CL {fmt(c)}")
+            if hi != math.inf:
+                parts.append(f"UCL {fmt(hi)}")
+            text = memo[key] = ", ".join(parts)
+        texts.append(text)
+    lengths = np.diff(np.concatenate([starts, [len(grid)]]))
+    return [t for t, k in zip(texts, lengths.tolist(), strict=True) for _ in range(k)]
 
 
 def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
