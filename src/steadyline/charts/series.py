@@ -658,7 +658,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     all_marked = _signal_text(analysis.signals, n)
     columns = (x_col,) + (("phase",) if has_stage else ()) + ("value", "median", "signals")
     table = ColumnTable(columns, {
-        x_col: list(ctx.x), "phase": list(ctx.stage), "value": num_list(vals),
+        x_col: ctx.x, "phase": ctx.stage, "value": num_list(vals),
         "median": [median] * n,
         "signals": ["; ".join(all_marked[i]) if i in all_marked else "" for i in range(n)]})
     summary = (

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import math
 import operator
 import re
@@ -141,9 +142,21 @@ _INFINITIES = (math.inf, -math.inf)
 _STARTS_FORMULA = operator.methodcaller("startswith", _FORMULA_START)
 
 
-def _plain_text_column(values: list) -> bool:
+def _plain_text_column(values) -> bool:
     """Whether every cell is text that goes into the CSV as it is (dates, phase names): no
-    formula start, nothing to quote. Checked in bulk instead of cell by cell."""
+    formula start, nothing to quote. Checked in bulk instead of cell by cell; a tuple (the
+    dates of a series, shared by its charts' tables) is checked once."""
+    if type(values) is tuple:
+        return _plain_text_tuple(values)
+    return _plain_text_check(values)
+
+
+@functools.lru_cache(maxsize=32)
+def _plain_text_tuple(values: tuple) -> bool:
+    return _plain_text_check(values)
+
+
+def _plain_text_check(values) -> bool:
     if not values or set(map(type, values)) != {str}:
         return False
     joined = "\x00".join(values)
