@@ -72,7 +72,7 @@ def cmd_build(args) -> int:
 def cmd_check(args) -> int:
     from .site.build import check
 
-    problems = check(Path(args.projects_dir))
+    problems = check(Path(args.projects_dir), debug=args.debug)
     _print_problems(problems, sys.stdout)
     errors = sum(p.severity == "error" for p in problems)
     warnings = len(problems) - errors

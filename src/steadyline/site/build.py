@@ -311,17 +311,30 @@ def _same(path: Path, data: bytes) -> bool:
         return False
 
 
-def check(projects_dir: Path) -> list[Problem]:
-    """Validate every project (metadata, data, statistics) without writing anything."""
+def _check_worker(args) -> list[Problem]:
+    from .project import check_project
+
+    _tune_gc()
+    folder, root, settings, debug = args
+    return check_project(folder, root, settings, debug=debug)
+
+
+def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> list[Problem]:
+    """Validate every project (metadata, data, statistics) without drawing or writing
+    anything: the problems a build would report, in the same order."""
     if not projects_dir.is_dir():
         raise BuildError(f"{projects_dir}: the projects folder does not exist")
-    from .project import build_project
-
     settings, problems = load_portfolio(projects_dir)
     problems = list(problems)
-    for folder in discover(projects_dir):
-        o = build_project(folder, projects_dir, settings)
-        problems.extend(o.problems)
+    tasks = [(f, projects_dir, settings, debug) for f in discover(projects_dir)]
+    jobs = jobs or os.cpu_count() or 1
+    if jobs <= 1 or len(tasks) <= 2:
+        found = [_check_worker(t) for t in tasks]
+    else:
+        with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
+            found = list(pool.map(_check_worker, tasks, chunksize=1))
+    for f in found:
+        problems.extend(f)
     return problems
 
 

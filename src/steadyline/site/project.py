@@ -8,6 +8,7 @@ whose files have errors returns an error page instead; the rest of the site is u
 from __future__ import annotations
 
 import subprocess
+import sys
 import traceback
 from pathlib import Path
 
@@ -68,12 +69,8 @@ def build_project(folder: Path, root: Path, settings: PortfolioSettings,
         return _build_ok(spec, warnings, root, settings, live)
     except ProjectError as e:
         return error_outcome(slug, e.problems, settings, live)
-    except Exception as e:  # a bug of ours: still publish the rest of the site
-        detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
-        prob = Problem(rel(folder, root), None, "", "internal error while building this "
-                       f"project ({detail.strip()}); please report it (run with --debug for "
-                       "the traceback)")
-        return error_outcome(slug, [prob], settings, live)
+    except Exception:  # a bug of ours: still publish the rest of the site
+        return error_outcome(slug, [_internal_error(folder, root, debug)], settings, live)
 
 
 def error_outcome(slug: str, problems: list[Problem], settings: PortfolioSettings,
@@ -305,9 +302,32 @@ def _git_dates(folder: Path) -> dict[Path, str]:
 # ----------------------------------------------------------------------------- the project
 
 
-def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
-              settings: PortfolioSettings, live: str | None) -> ProjectOutcome:
-    files: dict[str, bytes] = {}
+def _internal_error(folder: Path, root: Path, debug: bool) -> Problem:
+    e = sys.exc_info()[1]
+    detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
+    return Problem(rel(folder, root), None, "", "internal error while building this "
+                   f"project ({detail.strip()}); please report it (run with --debug for "
+                   "the traceback)")
+
+
+def check_project(folder: Path, root: Path, settings: PortfolioSettings,
+                  debug: bool = False) -> list[Problem]:
+    """The problems :func:`build_project` reports for this project, found by reading and
+    analysing its data without drawing or writing anything. Never raises for bad input."""
+    try:
+        spec, warnings = load_project(folder, root, settings)
+        analyses, problems = _load_and_analyse(spec, warnings, settings)
+        return problems + _stats_notes(analyses)
+    except ProjectError as e:
+        return list(e.problems)
+    except Exception:  # a bug of ours: reported like any problem
+        return [_internal_error(folder, root, debug)]
+
+
+def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings
+                      ) -> tuple[list[MetricAnalysis], list[Problem]]:
+    """Every metric read and analysed, with the warnings so far; ProjectError with the errors
+    first when any metric cannot be read."""
     problems: list[Problem] = list(warnings)
     analyses: list[MetricAnalysis] = []
     errors: list[Problem] = []
@@ -321,6 +341,19 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
         analyses.append(analyse(data))
     if errors:
         raise ProjectError(errors + problems)
+    return analyses, problems
+
+
+def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
+    """Displays the statistics could not draw: warnings for `check` and the terminal too."""
+    return [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
+            for a in analyses for disp, msg in dict.fromkeys(a.failures)]
+
+
+def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
+              settings: PortfolioSettings, live: str | None) -> ProjectOutcome:
+    files: dict[str, bytes] = {}
+    analyses, problems = _load_and_analyse(spec, warnings, settings)
     sections, results = [], []
     contexts: dict[int, SeriesContext] = {}
     for a in analyses:
@@ -357,10 +390,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     }
     files["results.json"] = dumps_bytes(doc)
     entry = index_entry(spec, analyses, sections, problems, has_history)
-    # Displays the statistics could not draw are warnings for `check` and the terminal too.
-    stats_notes = [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
-                   for a in analyses for disp, msg in dict.fromkeys(a.failures)]
-    return ProjectOutcome(spec.slug, True, files, entry, problems + stats_notes)
+    return ProjectOutcome(spec.slug, True, files, entry, problems + _stats_notes(analyses))
 
 
 def project_view(spec: ProjectSpec) -> dict:
