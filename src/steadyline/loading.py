@@ -112,15 +112,16 @@ def _size_text(size: float) -> str:
     return f"{mb:.0f} MB" if mb >= 10 else f"{mb:.3g} MB" if mb >= 0.01 else f"{size:,.0f} bytes"
 
 
-_AWKWARD = re.compile(r'"|\n[ \t\r]*\n|^[ \t\r]*\n|\r(?!\n)')
 _BLANK_LINE = re.compile(r'\n[ \t\r]*\n|^[ \t\r]*\n')
 # Whitespace str.strip() removes, besides the line ends the reader consumes.
 _ASCII_SPACE = re.compile(r"[ \t\x0b\x0c\x1c-\x1f]")
 
 
 def _awkward(text: str) -> bool:
-    """``_AWKWARD.search(text)``: quote marks, blank lines or lone carriage returns, checked
-    with plain substring tests first (a regular expression scan of a large file is slow)."""
+    """Whether the text has quote marks, blank lines (empty or holding only spaces, tabs and
+    carriage returns; the first line included) or lone carriage returns: what makes the plain
+    reader unsafe. Checked with substring tests first, since a regular-expression scan of a
+    large file is slow (tests/test_fast_paths.py holds it equal to the full expression)."""
     if '"' in text:
         return True
     if "\r" in text and text.count("\r") != text.count("\r\n"):
