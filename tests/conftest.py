@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+import tempfile
 from pathlib import Path
 
 import pytest
@@ -9,6 +11,13 @@ import pytest
 from steadyline.site.build import BuildOptions, build
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
+
+# The caches builds keep in the user's cache folder (Vega bundle, input digests) go to a folder
+# of this test run, also for the builds the tests start in other processes: the hundreds of
+# temporary portfolios the tests build leave nothing in the user's real cache.
+if "STEADYLINE_TEST_CACHE" not in os.environ:
+    os.environ["STEADYLINE_TEST_CACHE"] = tempfile.mkdtemp(prefix="steadyline-test-cache-")
+    os.environ["XDG_CACHE_HOME"] = os.environ["STEADYLINE_TEST_CACHE"]
 
 
 @pytest.fixture(scope="session")

@@ -134,3 +134,45 @@ def test_vega_bundle_cache_gives_the_bundle_vl_convert_makes(tmp_path, monkeypat
     assets.vega_bundle.cache_clear()
     assert assets.vega_bundle() == first == vl_convert.javascript_bundle()  # read back
     assets.vega_bundle.cache_clear()
+
+
+def test_remembered_digests_are_reused_only_for_settled_unchanged_files(tmp_path):
+    # reference: hashlib.sha256 of the file's bytes, computed directly
+    import hashlib
+    import os
+
+    from steadyline.site.common import DigestMemo, input_hash
+
+    folder = tmp_path / "p"
+    folder.mkdir()
+    f = folder / "data.csv"
+    f.write_bytes(b"date,value\n2026-01-01,1\n")
+    memo_file = tmp_path / "memo.json"
+    old = 1_700_000_000_000_000_000  # long before now: a settled file
+    os.utime(f, ns=(old, old))
+    first = DigestMemo(memo_file)
+    assert first.digest(f) == hashlib.sha256(f.read_bytes()).digest()
+    first.save()
+    # same size, time and inode: the remembered digest is used (the file is not read: a
+    # changed content under the old stamp proves it)
+    f.write_bytes(b"date,value\n2026-01-01,2\n")
+    os.utime(f, ns=(old, old))
+    remembered = DigestMemo(memo_file).digest(f)
+    assert remembered == bytes.fromhex(first.new[str(f)][4])
+    assert remembered != hashlib.sha256(f.read_bytes()).digest()
+    # a new modification time: read again
+    os.utime(f, ns=(old + 1, old + 1))
+    assert DigestMemo(memo_file).digest(f) == hashlib.sha256(f.read_bytes()).digest()
+    # a file modified just now is never trusted from the memo, even with its stamp unchanged
+    g = folder / "fresh.csv"
+    g.write_bytes(b"a\n")
+    m = DigestMemo(memo_file)
+    m.digest(g)
+    m.save()
+    g.write_bytes(b"b\n")
+    st = g.stat()
+    os.utime(g, ns=(st.st_atime_ns, int(m.new[str(g)][1])))
+    assert DigestMemo(memo_file).digest(g) == hashlib.sha256(b"b\n").digest()
+    # a memo that cannot be read is ignored; the project hash is the same with or without it
+    memo_file.write_text("{not json")
+    assert input_hash(folder, "x", DigestMemo(memo_file)) == input_hash(folder, "x")

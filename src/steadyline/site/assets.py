@@ -9,8 +9,8 @@ from __future__ import annotations
 import functools
 import hashlib
 import os
-from pathlib import Path
 
+from .common import cache_dir
 from .templates import templates_dir
 
 VEGA_BUNDLE = "vega-bundle.js"
@@ -24,7 +24,7 @@ def vega_bundle() -> str:
     came from (a cache that cannot be read or written is simply not used)."""
     import vl_convert
 
-    cache = _cache_dir() / f"vega-bundle-vl-convert-{vl_convert.__version__}.js"
+    cache = cache_dir() / f"vega-bundle-vl-convert-{vl_convert.__version__}.js"
     try:
         return cache.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError):
@@ -38,11 +38,6 @@ def vega_bundle() -> str:
     except OSError:
         pass
     return text
-
-
-def _cache_dir() -> Path:
-    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
-    return Path(base) / "steadyline"
 
 
 def asset_files() -> dict[str, bytes]:

@@ -34,7 +34,7 @@ from .. import __version__
 from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
-from .common import ProjectOutcome, input_hash, page_context
+from .common import ProjectOutcome, digest_memo_for, input_hash, page_context
 from .publish import clean_stale, link_tree, publish, staging_dir, write_files
 from .serialise import dumps_bytes
 from .templates import render, templates_fingerprint
@@ -164,7 +164,9 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     manifest = {} if opts.force else _read_manifest(out)
     old = manifest.get("projects", {})
     key = _settings_key(settings, opts.live)
-    hashes = {f.name: input_hash(f, key) for f in folders}
+    memo = digest_memo_for(root)  # unchanged files are not read again
+    hashes = {f.name: input_hash(f, key, memo) for f in folders}
+    memo.save()
     todo, reuse = [], []
     for f in folders:
         prev = old.get(f.name)

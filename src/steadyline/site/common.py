@@ -6,6 +6,9 @@ statistics stack, so that a rebuild with nothing to do starts and ends quickly.
 from __future__ import annotations
 
 import hashlib
+import json
+import os
+import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -51,17 +54,87 @@ def page_context(root: str, settings: PortfolioSettings, live: str | None) -> di
             "csp": CSP, "live": live}
 
 
-def input_hash(folder: Path, extra: str) -> str:
+def input_hash(folder: Path, extra: str, known: DigestMemo | None = None) -> str:
     """A content hash of every file of the project folder plus *extra* (tool, templates).
 
     Hidden files and the temporary, backup and lock files editors leave beside the real ones
-    are not inputs."""
+    are not inputs. *known* remembers file digests between builds (see :class:`DigestMemo`)."""
     h = hashlib.sha256(extra.encode())
     for p in sorted(folder.rglob("*")):
         if p.is_file() and not is_ignored(p.name):
             h.update(p.relative_to(folder).as_posix().encode())
-            with open(p, "rb") as fh:
-                h.update(hashlib.file_digest(fh, "sha256").digest())
+            h.update(known.digest(p) if known is not None else _file_digest(p))
     return h.hexdigest()
+
+
+def _file_digest(path: Path) -> bytes:
+    with open(path, "rb") as fh:
+        return hashlib.file_digest(fh, "sha256").digest()
+
+
+class DigestMemo:
+    """File digests remembered between builds, so that an unchanged file is not read again.
+
+    A digest is reused only when the file's size, modification time and inode are those
+    recorded, and the file was already more than two seconds old when it was recorded (any
+    later write then gives it a newer modification time, even on file systems whose clock
+    ticks coarsely). The memo lives in the user's cache folder, one file per projects folder,
+    never in the site: the site stays the same whatever the cache holds. A memo that cannot be
+    read or written is simply not used.
+    """
+
+    SETTLED_NS = 2_000_000_000
+
+    def __init__(self, path: Path | None):
+        self.path = path
+        self.old: dict = {}
+        self.new: dict = {}
+        if path is not None:
+            try:
+                data = json.loads(path.read_text(encoding="utf-8"))
+                if isinstance(data, dict) and data.get("version") == 1:
+                    self.old = data.get("files", {})
+            except (OSError, ValueError):
+                pass
+
+    def digest(self, path: Path) -> bytes:
+        key = os.fspath(path)
+        try:
+            st = path.stat()
+        except OSError:
+            return _file_digest(path)  # raises the same error a read would
+        stamp = [st.st_size, st.st_mtime_ns, st.st_ino]
+        rec = self.old.get(key)
+        now = time.time_ns()
+        if (isinstance(rec, list) and len(rec) == 5 and rec[:3] == stamp
+                and rec[3] - stamp[1] > self.SETTLED_NS):
+            self.new[key] = rec
+            return bytes.fromhex(rec[4])
+        digest = _file_digest(path)
+        self.new[key] = [*stamp, now, digest.hex()]
+        return digest
+
+    def save(self) -> None:
+        if self.path is None or self.new == self.old:
+            return
+        try:
+            self.path.parent.mkdir(parents=True, exist_ok=True)
+            tmp = self.path.with_name(f".{self.path.name}.{os.getpid()}.tmp")
+            tmp.write_text(json.dumps({"version": 1, "files": self.new}), encoding="utf-8")
+            os.replace(tmp, self.path)
+        except OSError:
+            pass
+
+
+def digest_memo_for(projects_dir: Path) -> DigestMemo:
+    """The digest memo of a projects folder, in the user's cache folder."""
+    name = hashlib.sha256(os.fspath(projects_dir.resolve()).encode()).hexdigest()[:20]
+    return DigestMemo(cache_dir() / f"input-digests-{name}.json")
+
+
+def cache_dir() -> Path:
+    """steadyline's folder in the user's cache ($XDG_CACHE_HOME, else ~/.cache)."""
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "steadyline"
 
 
