@@ -33,7 +33,7 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
         shift = np.where(times >= pd.Timestamp("2026-06-01"), -0.8, 0.0)
         if kind == "continuous":
             df = pd.DataFrame({"t": stamps, "v": np.round(20 + shift + rng.normal(0, 1, rows), 3)})
-            extra = ['value = "v"', "spec_upper = 24.0", "", f"[metric.rollup]",
+            extra = ['value = "v"', "spec_upper = 24.0", "", "[metric.rollup]",
                      'period = "day"', 'statistic = "mean"']
         elif kind == "subgroups":
             df = pd.DataFrame({"t": stamps, "v": np.round(5 + shift / 4 + rng.normal(0, 0.2, rows), 4)})
