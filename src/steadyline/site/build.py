@@ -313,6 +313,9 @@ def _same(path: Path, data: bytes) -> bool:
         return False
 
 
+CHECK_POOL_MIN = 24
+
+
 def _check_worker(args) -> list[Problem]:
     from .project import check_project
 
@@ -330,7 +333,9 @@ def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> l
     problems = list(problems)
     tasks = [(f, projects_dir, settings, debug) for f in discover(projects_dir)]
     jobs = jobs or os.cpu_count() or 1
-    if jobs <= 1 or len(tasks) <= 2:
+    # starting worker processes costs about half a second; checking a project, a few dozen
+    # milliseconds: a pool pays off from a few dozen projects on
+    if jobs <= 1 or len(tasks) < CHECK_POOL_MIN:
         found = [_check_worker(t) for t in tasks]
     else:
         with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
