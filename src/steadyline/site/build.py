@@ -96,6 +96,7 @@ def _worker(args) -> ProjectOutcome:
     return outcome
 
 
+BUILD_POOL_MIN = 12
 _GC_TUNED = False
 
 
@@ -176,7 +177,9 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         (reuse if fresh else todo).append(f)
 
     # 4. compute, into the staging folder
-    jobs = opts.jobs or os.cpu_count() or 1
+    # --jobs given: as asked. Default: one worker per core, but no pool for a few projects
+    # (starting a worker costs about as much as building a handful of projects)
+    jobs = opts.jobs or (os.cpu_count() or 1 if len(todo) >= BUILD_POOL_MIN else 1)
     live = LIVE_STATE if opts.live else None
     progress = progress_cb or (lambda slug: None)
     akey = assets_key()
