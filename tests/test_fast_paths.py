@@ -176,3 +176,14 @@ def test_remembered_digests_are_reused_only_for_settled_unchanged_files(tmp_path
     # a memo that cannot be read is ignored; the project hash is the same with or without it
     memo_file.write_text("{not json")
     assert input_hash(folder, "x", DigestMemo(memo_file)) == input_hash(folder, "x")
+
+
+def test_results_rounded_in_one_pass_equal_array_by_array():
+    # reference: plain() converting each array on its own (the one-by-one rounding)
+    from steadyline.site.serialise import _batched
+
+    rng = np.random.default_rng(4)
+    doc = {"a": [np.array(_values(s, 50)[:40], dtype=float) for s in range(4)],
+           "b": {"c": rng.normal(0, 1, 7), "d": [1.5, None, 2.25], "e": np.zeros(0),
+                 "f": np.array([[1.25, 2.5], [3.0, -0.0]]), "g": np.array([0.0, -0.0, 1e-320])}}
+    assert json.dumps(_batched(doc), allow_nan=False) == json.dumps(plain(doc), allow_nan=False)

@@ -31,6 +31,12 @@ def _num(x: float) -> float | int | None:
     return r
 
 
+# While a document is converted, its float arrays wait here as (empty list placed in the
+# document, values) and are rounded together at the end, in one pass (see _batched): a project's
+# results hold a few hundred short arrays, and numpy's cost per call would dominate.
+_PENDING: list[tuple[list, np.ndarray]] | None = None
+
+
 def _array(a: np.ndarray) -> list:
     """A numpy array as a list, floats rounded to SIGNIFICANT digits, vectorised."""
     if a.dtype.kind == "b":
@@ -39,7 +45,35 @@ def _array(a: np.ndarray) -> list:
         return a.tolist()
     if a.dtype.kind != "f":
         return [plain(v) for v in a.tolist()]
-    x = a.astype(float)
+    if _PENDING is not None and a.ndim == 1:
+        slot: list = []
+        _PENDING.append((slot, np.asarray(a, dtype=float).ravel()))
+        return slot
+    return _rounded(a.astype(float))
+
+
+def _batched(obj: Any) -> Any:
+    """:func:`plain`, with every float array of the document rounded in one pass; the same
+    result as rounding them one by one (the rounding is elementwise)."""
+    global _PENDING
+    outer, _PENDING = _PENDING, []
+    try:
+        data = plain(obj)
+        pending = _PENDING
+    finally:
+        _PENDING = outer
+    if pending:
+        values = _rounded(np.concatenate([x for _, x in pending]))
+        start = 0
+        for slot, x in pending:
+            slot.extend(values[start:start + x.size])
+            start += x.size
+    return data
+
+
+def _rounded(x: np.ndarray) -> list:
+    if x.ndim != 1:  # a table: row by row
+        return [_rounded(row) for row in x] if x.ndim > 1 else _rounded(x.ravel())[0]
     finite = np.isfinite(x)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         mag = np.floor(np.log10(np.abs(x)))
@@ -54,7 +88,9 @@ def _array(a: np.ndarray) -> list:
     if not finite.all():
         for i in np.flatnonzero(~finite).tolist():
             out[i] = None
-    return [0.0 if v == 0 else v for v in out] if (rounded == 0).any() else out
+    for i in np.flatnonzero(rounded == 0).tolist():
+        out[i] = 0.0  # -0.0 written as 0.0
+    return out
 
 
 _PLAIN_LIST_TYPES = frozenset((int, str))
@@ -139,14 +175,14 @@ def plain(obj: Any) -> Any:
 
 def dumps(obj: Any, *, indent: int | None = 1) -> str:
     if indent is None:
-        return _encode(plain(obj))
-    return json.dumps(plain(obj), sort_keys=True, indent=indent, ensure_ascii=False,
+        return _encode(_batched(obj))
+    return json.dumps(_batched(obj), sort_keys=True, indent=indent, ensure_ascii=False,
                       allow_nan=False, separators=(",", ": ") if indent else (",", ":"))
 
 
 def dumps_bytes(obj: Any) -> bytes:
     """:func:`dumps` without indent, as UTF-8 bytes ending in a newline (a file's content)."""
-    return _encode_bytes(plain(obj)) + b"\n"
+    return _encode_bytes(_batched(obj)) + b"\n"
 
 
 def _encode_bytes(data: Any) -> bytes:
