@@ -13,7 +13,6 @@ from ..charts import (
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
-from .serialise import plain
 from .templates import render
 
 RUN_RULE_NAMES = {"anhoj": "Anhøj rules", "perla": "shift, trend and runs rules"}
@@ -85,17 +84,17 @@ def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[
                           "signals are judged against them, so they show where the after data "
                           "no longer fits the old process. The after phase has too few points "
                           "for limits of its own."))
-            staged = {"own_after_limits": own, "chart": plain(a.control),
+            staged = {"own_after_limits": own, "chart": a.control,
                       "signals": signals_json(a.signals, a.x)}
             if own:
-                staged["after_chart"] = plain(a.after_limits)
+                staged["after_chart"] = a.after_limits
             result["staged_control_chart"] = staged
         if len(a.phase_boxes) > 1:
             chart = box_chart(a.phase_boxes, unit=m.unit)
             d.add("phase-box", "Box plots by phase", chart,
                   method="Both phases on one scale; quartiles by "
                          f"{a.phase_boxes[0][1].method_label}.")
-            result["box_plots"] = {name: plain(b) for name, b in a.phase_boxes}
+            result["box_plots"] = dict(a.phase_boxes)
         caps = []
         for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
             chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
@@ -107,16 +106,16 @@ def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[
                 caps.append({"phase": name, "rows": capability_rows(c, m.unit),
                              "trustworthy": c.trustworthy, "reasons": list(c.reasons)})
         if len(a.phase_histograms) > 1:
-            result["histograms"] = {name: plain(h) for name, h, _ in a.phase_histograms}
-            result["capability"] = {name: plain(c) for name, _, c in a.phase_histograms if c}
+            result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
+            result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
         if len(a.phase_paretos) > 1:
             chart = phase_pareto_chart(a.phase_paretos)
             d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
                   method="Categories keep the baseline's order in every phase, so shrinking "
                          "bars show which causes the improvement removed.")
-            result["paretos"] = {name: plain(p) for name, p in a.phase_paretos}
+            result["paretos"] = dict(a.phase_paretos)
         if a.comparison is not None:
-            result["comparison"] = plain(a.comparison)
+            result["comparison"] = a.comparison
         if a.after_shift is not None:
             result["sustained_shift"] = bool(a.after_shift.signals)
         sections.append({"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,

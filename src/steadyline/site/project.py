@@ -145,7 +145,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
                   f"; rules: {signal_label}.")
             result["control_chart"] = {
-                "choice": plain(a.choice), "chart": plain(a.control),
+                "choice": a.choice, "chart": a.control,
                 "signals": signals_json(a.signals, a.x)}
             open_signals += len(a.signals)
             baseline_signals += _in_baseline(a.signals, a.stage_names)
@@ -156,20 +156,20 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         d.add("histogram", "Histogram of the baseline", chart,
               cautions=advice.histogram_cautions(a.histogram.n),
               method=f"Bins by the {a.histogram.rule_label} rule.")
-        result["histogram"] = plain(a.histogram)
+        result["histogram"] = a.histogram
     if a.box is not None:
         chart = box_chart([("Baseline", a.box)], unit=unit)
         d.add("box", "Box plot of the baseline", chart, cautions=advice.box_cautions(a.box.n),
               method=f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
-        result["box_plot"] = plain(a.box)
+        result["box_plot"] = a.box
     if a.pareto is not None:
         chart = pareto_chart(a.pareto)
         d.add("pareto", "Pareto chart", chart, advice.pareto_findings(a.pareto),
               advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
-        result["pareto"] = plain(a.pareto)
+        result["pareto"] = a.pareto
     if a.column is not None:
         chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
         d.add("column", "Column chart by category", chart,
@@ -182,11 +182,11 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         c = a.capability
         cap = {"trustworthy": c.trustworthy, "verdict": advice.capability_verdict(c),
                "reasons": list(c.reasons), "rows": capability_rows(c, unit)}
-        result["capability"] = plain(c)
+        result["capability"] = c
     if a.normality is not None:
-        result["normality"] = plain(a.normality)
+        result["normality"] = a.normality
     if a.comparison is not None:
-        result["comparison"] = plain(a.comparison)
+        result["comparison"] = a.comparison
     if a.after_shift is not None:
         result["after_shift"] = plain(a.after_shift) | {
             "signals": signals_json(a.after_shift.signals, _after_labels(a))}
