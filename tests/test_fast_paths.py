@@ -187,3 +187,41 @@ def test_results_rounded_in_one_pass_equal_array_by_array():
            "b": {"c": rng.normal(0, 1, 7), "d": [1.5, None, 2.25], "e": np.zeros(0),
                  "f": np.array([[1.25, 2.5], [3.0, -0.0]]), "g": np.array([0.0, -0.0, 1e-320])}}
     assert json.dumps(_batched(doc), allow_nan=False) == json.dumps(plain(doc), allow_nan=False)
+
+
+def test_rollup_by_sorted_runs_matches_pandas_groupby():
+    # reference: pandas' groupby (sum, mean, count, size) on the same rows, and its date_range
+    # for the missing days
+    import pandas as pd
+
+    from steadyline.loading import _rollup_sorted, _segments_for_periods
+
+    rng = np.random.default_rng(8)
+    for _ in range(200):
+        n = int(rng.integers(1, 400))
+        t = pd.Series(np.sort(np.datetime64("2026-01-01T00:00") + rng.integers(
+            0, 60 * 24 * 90, n).astype("timedelta64[m]")))
+        key = t.dt.normalize().to_numpy()
+        frame = pd.DataFrame({"t": t, "value": np.round(rng.normal(20, 5, n) * 10.0 ** int(
+            rng.integers(-6, 9)), 4), "count": rng.integers(0, 9, n).astype(float),
+            "size": rng.integers(9, 30, n).astype(float)})
+        g = frame.groupby(key, sort=True)
+        for stat in ("mean", "sum", "count"):
+            got = _rollup_sorted(frame, key, stat, "continuous", False)
+            want = g["value"].count() if stat == "count" else getattr(g["value"], stat)()
+            assert list(got.columns) == ["period", "value", "n"]
+            assert (got["period"].to_numpy() == want.index.to_numpy()).all()
+            np.testing.assert_allclose(got["value"], want.to_numpy(), rtol=1e-12, atol=0)
+            assert (got["n"].to_numpy() == g.size().to_numpy()).all()
+        got = _rollup_sorted(frame, key, "sum", "defectives", False)
+        assert (got["count"].to_numpy() == g["count"].sum().to_numpy()).all()
+        assert (got["size"].to_numpy() == g["size"].sum().to_numpy()).all()
+        flags = frame.assign(value=(frame["value"] > 20).astype(float))
+        got = _rollup_sorted(flags, key, "proportion", "defectives", True)
+        assert (got["count"].to_numpy() == flags.groupby(key)["value"].sum().to_numpy()).all()
+        assert (got["size"].to_numpy() == flags.groupby(key)["value"].count().to_numpy()).all()
+        periods = got["period"]
+        full = pd.date_range(periods.iloc[0], periods.iloc[-1], freq="D")
+        pos = full.get_indexer(pd.DatetimeIndex(periods))
+        assert (_segments_for_periods(periods, "day") ==
+                np.cumsum(np.diff(pos, prepend=pos[0]) > 1)).all()
