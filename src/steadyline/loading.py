@@ -784,9 +784,13 @@ def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
     sorted_vals = vals[order]
     values = [sorted_vals[a:b] for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
     sums = np.add.reduceat(sorted_vals, bounds[:-1]) if sizes.size else np.zeros(0)
-    first = pd.Series(times[order]).groupby(np.repeat(np.arange(sizes.size), sizes)).min()
+    if spec.subgroup is None and (times[1:] >= times[:-1]).all():
+        first = times[bounds[:-1]]  # consecutive rows in time order: the earliest is the first
+    else:
+        first = pd.Series(times[order]).groupby(
+            np.repeat(np.arange(sizes.size), sizes)).min().to_numpy()
     pts = pd.DataFrame({
-        "period": first.to_numpy(),
+        "period": first,
         "value": sums / sizes,
         "n": sizes.astype(int),
         "subgroup": labels,
