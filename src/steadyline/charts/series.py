@@ -281,6 +281,32 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 
 
 def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
+    """Per point, the descriptions of the signals it takes part in (callers do not change the
+    lists)."""
+    return _signal_text_of(signals, n, offset)
+
+
+_MARKED_MEMO: list = []  # [(signals, count, n, offset, with secondary, result)], the last few
+
+
+def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) -> tuple:
+    """Signal texts per point of the main and the companion chart. The project page's and the
+    history page's control charts of a metric mark the same signals: the answer for the last
+    few signal lists (held here, so compared by identity) is reused."""
+    for memo_signals, count, memo_n, memo_offset, memo_sec, result in _MARKED_MEMO:
+        if (memo_signals is signals and count == len(signals) and memo_n == n
+                and memo_offset == offset and memo_sec == has_sec):
+            return result
+    main_signals = [s for s in signals if s.chart != "secondary"]
+    sec_signals = [s for s in signals if s.chart == "secondary"]
+    result = (_signal_text(main_signals, n),
+              _signal_text(sec_signals, n, offset) if has_sec else {})
+    _MARKED_MEMO.insert(0, (signals, len(signals), n, offset, has_sec, result))
+    del _MARKED_MEMO[8:]
+    return result
+
+
+def _signal_text_of(signals: Sequence[Signal], n: int, offset: int) -> dict[int, list[str]]:
     per_point: dict[int, list[str]] = {}
     get = per_point.get
     for s in signals:
@@ -722,10 +748,7 @@ def _control_parts(
     n = len(ctx.x)
     xa = x_axis(ctx)
     sec = chart.secondary
-    main_signals = [s for s in signals if s.chart != "secondary"]
-    sec_signals = [s for s in signals if s.chart == "secondary"]
-    marked = _signal_text(main_signals, n)
-    sec_marked = _signal_text(sec_signals, n, offset) if sec is not None else {}
+    marked, sec_marked = _marked_pair(signals, n, offset, sec is not None)
     keys = _Keys()
     parts = _Parts()
 
