@@ -283,3 +283,32 @@ def test_the_demo_with_several_projects_broken_publishes_the_healthy_ones(tmp_pa
             assert "could not be built" not in page, slug
     index = (out / "index.html").read_text("utf-8")
     assert index.count("card-broken") == len(broken)
+
+
+def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_path: Path):
+    # reference: git itself, asked per project (provenance's own lookup) for the same files
+    from steadyline.config import load_portfolio, load_project
+    from steadyline.site.build import BUILD_POOL_MIN
+    from steadyline.site.project import provenance
+
+    root = tmp_path / "projects"
+    root.mkdir()
+    slugs = [f"copy-{i:02d}" for i in range(BUILD_POOL_MIN)]
+    for s in slugs:
+        shutil.copytree(DEMO / SMALL[0], root / s)
+    git = ["git", "-c", "user.name=t", "-c", "user.email=t@example.invalid"]
+    subprocess.run([*git, "init", "-q"], cwd=root, check=True)
+    subprocess.run([*git, "add", "."], cwd=root, check=True)
+    subprocess.run([*git, "commit", "-q", "-m", "data"], cwd=root, check=True)
+    (root / slugs[3] / "project.toml").write_text(
+        (root / slugs[3] / "project.toml").read_text("utf-8") + "\n", "utf-8")  # uncommitted
+    out = tmp_path / "site"
+    build(BuildOptions(root, out, jobs=1))
+    settings, _ = load_portfolio(root)
+    for s in slugs:
+        spec, _ = load_project(root / s, root, settings)
+        got = json.loads((out / "projects" / s / "results.json").read_text("utf-8"))
+        assert got["provenance"] == provenance(spec, root), s
+    hows = {p["how"] for s in slugs for p in json.loads(
+        (out / "projects" / s / "results.json").read_text("utf-8"))["provenance"]}
+    assert hows == {"last commit", "file modification time"}

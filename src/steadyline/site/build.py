@@ -34,7 +34,7 @@ from .. import __version__
 from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
-from .common import ProjectOutcome, digest_memo_for, input_hash, page_context
+from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash, page_context
 from .publish import clean_stale, link_tree, publish, staging_dir, write_files
 from .serialise import dumps_bytes
 from .templates import render, templates_fingerprint
@@ -88,8 +88,8 @@ def _worker(args) -> ProjectOutcome:
     from .project import build_project  # the statistics stack: loaded only when needed
 
     _tune_gc()
-    folder, root, settings, live, debug, target = args
-    outcome = build_project(folder, root, settings, live=live, debug=debug)
+    folder, root, settings, live, debug, target, dates = args
+    outcome = build_project(folder, root, settings, live=live, debug=debug, dates=dates)
     outcome.written = write_files(target, outcome.files)
     outcome.names = sorted(outcome.files)
     outcome.files = {}
@@ -191,7 +191,9 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         staged.mkdir(parents=True)
     try:
         assets = _Assets(reuse_assets or not todo)  # the Vega bundle, made while workers run
-        tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name) for f in todo]
+        dates = _portfolio_git_dates(root, todo)
+        tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name,
+                  dates.get(f.name) if dates is not None else None) for f in todo]
         outcomes = compute(tasks, jobs, progress)
         if any(p.severity == "error" for p in portfolio_problems):
             # A broken portfolio.toml: its defaults are used and every project says so.
@@ -274,6 +276,24 @@ def _link_reused(out: Path, staged: Path, projects: list[tuple[str, list[str]]])
         return
     with ThreadPoolExecutor(max_workers=4) as pool:
         list(pool.map(one, projects))  # list(): re-raises the first error
+
+
+def _portfolio_git_dates(root: Path, todo: list[Path]) -> dict[str, dict] | None:
+    """The last commit dates of every project's files, by project, from one look at git for
+    the whole portfolio (three git commands per project would cost more than building a
+    small project); None for a few projects, which then look for themselves."""
+    if len(todo) < BUILD_POOL_MIN:
+        return None
+    by_project: dict[str, dict] = {f.name: {} for f in todo}
+    base = root.resolve()
+    for path, date in git_dates(root).items():
+        try:
+            slug = path.relative_to(base).parts[0]
+        except (ValueError, IndexError):
+            continue
+        if slug in by_project:
+            by_project[slug][path] = date
+    return by_project
 
 
 class _Assets:

@@ -8,6 +8,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import subprocess
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -138,3 +139,29 @@ def cache_dir() -> Path:
     return Path(base) / "steadyline"
 
 
+def git_dates(folder: Path) -> dict[Path, str]:
+    """The last commit date of every committed, unmodified file under *folder* (resolved path
+    -> ISO date), from git; empty when git or a repository is not there."""
+    try:
+        top = subprocess.run(["git", "rev-parse", "--show-toplevel"], cwd=folder,
+                             capture_output=True, text=True, timeout=10)
+        if top.returncode != 0:
+            return {}
+        log = subprocess.run(["git", "log", "--format=>%cI", "--name-only", "--", "."],
+                             cwd=folder, capture_output=True, text=True, timeout=30)
+        status = subprocess.run(["git", "status", "--porcelain", "--", "."], cwd=folder,
+                                capture_output=True, text=True, timeout=10)
+    except (OSError, subprocess.TimeoutExpired):
+        return {}
+    dirty = {(Path(top.stdout.strip()) / line[3:].strip()).resolve()
+             for line in status.stdout.splitlines() if len(line) > 3}
+    gitroot = Path(top.stdout.strip())
+    dates: dict[Path, str] = {}
+    current = None
+    for line in log.stdout.splitlines():
+        if line.startswith(">"):
+            current = line[1:]
+        elif line.strip() and current:
+            p = (gitroot / line.strip()).resolve()
+            dates.setdefault(p, current)
+    return {p: d for p, d in dates.items() if p not in dirty}

@@ -7,7 +7,6 @@ whose files have errors returns an error page instead; the rest of the site is u
 
 from __future__ import annotations
 
-import subprocess
 import sys
 import traceback
 from pathlib import Path
@@ -37,7 +36,7 @@ from .cards import (
     series_context,
     signals_json,
 )
-from .common import ProjectOutcome, input_hash, page_context
+from .common import ProjectOutcome, git_dates, input_hash, page_context
 from .history import history_page
 from .notes import render_notes
 from .serialise import dumps_bytes, plain
@@ -61,12 +60,15 @@ PHASE_LABEL = {p: p.capitalize() for p in PHASES}
 
 
 def build_project(folder: Path, root: Path, settings: PortfolioSettings,
-                  live: str | None = None, debug: bool = False) -> ProjectOutcome:
-    """Everything for one project, in memory. Never raises for bad input."""
+                  live: str | None = None, debug: bool = False,
+                  dates: dict[Path, str] | None = None) -> ProjectOutcome:
+    """Everything for one project, in memory. Never raises for bad input. *dates*: the last
+    commit dates of the project's files when the build looked them up for the whole
+    portfolio at once (else they are looked up for this project)."""
     slug = folder.name
     try:
         spec, warnings = load_project(folder, root, settings)
-        return _build_ok(spec, warnings, root, settings, live)
+        return _build_ok(spec, warnings, root, settings, live, dates)
     except ProjectError as e:
         return error_outcome(slug, e.problems, settings, live)
     except Exception:  # a bug of ours: still publish the rest of the site
@@ -253,12 +255,16 @@ def spec_text(m) -> str:
 # ----------------------------------------------------------------------------- provenance
 
 
-def provenance(spec: ProjectSpec, root: Path) -> list[dict]:
+def provenance(spec: ProjectSpec, root: Path,
+               dates: dict[Path, str] | None = None) -> list[dict]:
+    """When and how each input last changed. *dates*: the last commit dates of the portfolio's
+    files, when the build looked them up once for every project (see common.git_dates)."""
     # ordered by the name shown, whether the projects folder was given relative or absolute
     files = sorted({spec.meta_path} | {m.file for m in spec.metrics}
                    | ({spec.notes_path} if spec.notes_path else set()),
                    key=lambda f: rel(f, root))
-    dates = _git_dates(spec.folder)
+    if dates is None or (spec.folder / ".git").exists():  # a repository of its own
+        dates = git_dates(spec.folder)
     out = []
     for f in files:
         key = f.resolve()
@@ -271,32 +277,6 @@ def provenance(spec: ProjectSpec, root: Path) -> list[dict]:
             out.append({"file": rel(f, root), "changed": ts.strftime("%Y-%m-%d %H:%M UTC"),
                         "how": "file modification time"})
     return out
-
-
-def _git_dates(folder: Path) -> dict[Path, str]:
-    try:
-        top = subprocess.run(["git", "rev-parse", "--show-toplevel"], cwd=folder,
-                             capture_output=True, text=True, timeout=10)
-        if top.returncode != 0:
-            return {}
-        log = subprocess.run(["git", "log", "--format=>%cI", "--name-only", "--", "."],
-                             cwd=folder, capture_output=True, text=True, timeout=30)
-        status = subprocess.run(["git", "status", "--porcelain", "--", "."], cwd=folder,
-                                capture_output=True, text=True, timeout=10)
-    except (OSError, subprocess.TimeoutExpired):
-        return {}
-    dirty = {(Path(top.stdout.strip()) / line[3:].strip()).resolve()
-             for line in status.stdout.splitlines() if len(line) > 3}
-    gitroot = Path(top.stdout.strip())
-    dates: dict[Path, str] = {}
-    current = None
-    for line in log.stdout.splitlines():
-        if line.startswith(">"):
-            current = line[1:]
-        elif line.strip() and current:
-            p = (gitroot / line.strip()).resolve()
-            dates.setdefault(p, current)
-    return {p: d for p, d in dates.items() if p not in dirty}
 
 
 # ----------------------------------------------------------------------------- the project
@@ -351,7 +331,8 @@ def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
 
 
 def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
-              settings: PortfolioSettings, live: str | None) -> ProjectOutcome:
+              settings: PortfolioSettings, live: str | None,
+              dates: dict[Path, str] | None = None) -> ProjectOutcome:
     files: dict[str, bytes] = {}
     analyses, problems = _load_and_analyse(spec, warnings, settings)
     sections, results = [], []
@@ -362,7 +343,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
         sections.append(section)
         results.append(result)
     notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
-    prov = provenance(spec, root)
+    prov = provenance(spec, root, dates)
     has_history = any(a.has_after or a.phase_paretos for a in analyses)
     ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
     project_ctx = project_view(spec)
