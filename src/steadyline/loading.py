@@ -114,7 +114,7 @@ def _size_text(size: float) -> str:
 
 _BLANK_LINE = re.compile(r'\n[ \t\r]*\n|^[ \t\r]*\n')
 # Whitespace str.strip() removes, besides the line ends the reader consumes.
-_ASCII_SPACE = re.compile(r"[ \t\x0b\x0c\x1c-\x1f]")
+_ASCII_SPACES = " \t\x0b\x0c\x1c\x1d\x1e\x1f"
 
 
 def _awkward(text: str) -> bool:
@@ -164,9 +164,10 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
                          engine="c", skip_blank_lines=False, header=0, names=header)
     except (pd.errors.ParserError, ValueError):
         return None
-    if len(df) == 0 or df.isna().to_numpy().any() or not _complete_rows(text, delim, len(header)):
+    # every line complete (the same number of fields as the header): then no cell is missing
+    if len(df) == 0 or not _complete_rows(text, delim, len(header)):
         return None
-    if not text.isascii() or _ASCII_SPACE.search(text):
+    if not text.isascii() or any(c in text for c in _ASCII_SPACES):
         for c in df.columns:  # cells are stripped, as the careful reader strips them
             df[c] = df[c].str.strip()
     df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
@@ -658,7 +659,8 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
                                      what="a number of items or an area")
     out.raise_if_failed()
 
-    frame = frame.dropna(how="any")
+    if any(frame[c].hasnans for c in frame.columns):
+        frame = frame.dropna(how="any")
     if kind == "defectives" and not flags:
         over = frame["count"] > frame["size"]
         out.rows(list(frame.index[over]), f"column '{spec.count}'",
