@@ -7,6 +7,7 @@ failure of a single display as a plain sentence instead of failing the whole met
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -65,13 +66,10 @@ class MetricAnalysis:
     def spec(self) -> MetricSpec:
         return self.data.spec
 
-    @property
+    @functools.cached_property
     def has_after(self) -> bool:
-        flag = self.__dict__.get("_has_after")
-        if flag is None:  # the data never change once loaded: worked out once
-            flag = self.__dict__["_has_after"] = bool(
-                (self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
-        return flag
+        # the data never change once loaded: worked out once
+        return bool((self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
 
 
 def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):

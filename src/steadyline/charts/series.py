@@ -280,12 +280,6 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 # ------------------------------------------------------------------------------------------------
 
 
-def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
-    """Per point, the descriptions of the signals it takes part in (callers do not change the
-    lists)."""
-    return _signal_text_of(signals, n, offset)
-
-
 _MARKED_MEMO: list = []  # [(signals, count, n, offset, with secondary, result)], the last few
 
 
@@ -306,7 +300,9 @@ def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) 
     return result
 
 
-def _signal_text_of(signals: Sequence[Signal], n: int, offset: int) -> dict[int, list[str]]:
+def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
+    """Per point, the descriptions of the signals it takes part in (callers do not change the
+    lists)."""
     per_point: dict[int, list[str]] = {}
     get = per_point.get
     for s in signals:

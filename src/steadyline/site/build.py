@@ -115,22 +115,24 @@ def _tune_gc() -> None:
     gc.set_threshold(50_000, 20, 100)
 
 
-def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
+def _in_order(fn, tasks: list, jobs: int):
+    """fn(task) for every task, results in task order: in this process for one job or a couple
+    of tasks, else in a pool of *jobs* worker processes, one task at a time (small tasks leave
+    no worker idle at the end while another finishes a batch)."""
     if jobs <= 1 or len(tasks) <= 2:
-        results = []
-        for t in tasks:
-            results.append(_worker(t))
-            progress(t[0].name)
-        return results
+        yield from map(fn, tasks)
+        return
     # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
     with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
-        results = []
-        # one project per task: the outcomes are small (the files are written by the worker),
-        # and small tasks leave no worker idle at the end while another finishes a batch
-        for r in pool.map(_worker, tasks, chunksize=1):
-            results.append(r)
-            progress(r.slug)
-        return results
+        yield from pool.map(fn, tasks, chunksize=1)
+
+
+def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
+    results = []
+    for r in _in_order(_worker, tasks, jobs):  # outcomes are small: workers write the files
+        results.append(r)
+        progress(r.slug)
+    return results
 
 
 def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> bytes:
@@ -355,16 +357,11 @@ def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> l
     settings, problems = load_portfolio(projects_dir)
     problems = list(problems)
     tasks = [(f, projects_dir, settings, debug) for f in discover(projects_dir)]
-    jobs = jobs or os.cpu_count() or 1
-    # starting worker processes costs about half a second; checking a project, a few dozen
-    # milliseconds: a pool pays off from a few dozen projects on
-    if jobs <= 1 or len(tasks) < CHECK_POOL_MIN:
-        found = [_check_worker(t) for t in tasks]
-    else:
-        with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
-            found = list(pool.map(_check_worker, tasks, chunksize=1))
-    for f in found:
-        problems.extend(f)
+    # jobs given: as asked. Default: one worker per core from a few dozen projects on (starting
+    # workers costs about half a second; checking a project, a few dozen milliseconds)
+    jobs = jobs or (os.cpu_count() or 1 if len(tasks) >= CHECK_POOL_MIN else 1)
+    for found in _in_order(_check_worker, tasks, jobs):
+        problems.extend(found)
     return problems
 
 

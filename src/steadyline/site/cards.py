@@ -95,11 +95,14 @@ def _csv_numbers(values: list) -> list[str]:
     # orjson writes the same shortest digits as repr, in C; it places the decimal point or
     # writes the exponent differently where repr writes an exponent (below 1e-4 and from 1e16
     # on), so those cells, and any with an exponent, are put right with repr below.
-    out = orjson.dumps(values).decode("ascii")[1:-1].split(",")
+    text = orjson.dumps(values).decode("ascii")
+    out = text[1:-1].split(",")
     finite = np.isfinite(arr)
     mag = np.abs(np.where(finite, arr, 1.0))
-    odd = finite & (mag != 0) & ((mag < 1e-4) | (mag >= 1e16))
-    for i in set(np.flatnonzero(odd).tolist()) | {i for i, t in enumerate(out) if "e" in t}:
+    odd = set(np.flatnonzero(finite & (mag != 0) & ((mag < 1e-4) | (mag >= 1e16))).tolist())
+    if "e" in text:  # rare outside the ranges above; looked for cell by cell only then
+        odd.update(i for i, t in enumerate(out) if "e" in t)
+    for i in odd:
         if values[i] is not None:
             out[i] = repr(values[i])
     for i in np.flatnonzero(~finite).tolist():

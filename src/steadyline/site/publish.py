@@ -23,32 +23,21 @@ _RENAME_EXCHANGE = 2
 _AT_FDCWD = -100
 
 
-def _renameat2():
+def _libc_function(name: str, argtypes: list):
+    """A function of the C library with its argument types, or None where it has none."""
     try:
         libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
-        fn = libc.renameat2
+        fn = getattr(libc, name)
     except (OSError, AttributeError):
         return None
-    fn.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint]
+    fn.argtypes = argtypes
     fn.restype = ctypes.c_int
     return fn
 
 
-_EXCHANGE = _renameat2()
-
-
-def _syncfs_fn():
-    try:
-        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
-        fn = libc.syncfs
-    except (OSError, AttributeError):
-        return None
-    fn.argtypes = [ctypes.c_int]
-    fn.restype = ctypes.c_int
-    return fn
-
-
-_SYNCFS = _syncfs_fn()
+_EXCHANGE = _libc_function(
+    "renameat2", [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint])
+_SYNCFS = _libc_function("syncfs", [ctypes.c_int])
 # Up to this many new files are flushed one by one; more, by one syncfs.
 FSYNC_EACH_MAX = 400
 
