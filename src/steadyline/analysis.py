@@ -122,7 +122,9 @@ def analyse(data: MetricData) -> MetricAnalysis:
         _categories(res)
         return res
     stage = pts["stage"].to_numpy(int)
-    res.x = tuple(pts["label"].astype(str))
+    # labels are text already; read through numpy (iterating a pandas string column value by
+    # value costs more than the rest of this function's bookkeeping)
+    res.x = tuple(map(str, pts["label"].to_numpy(dtype=object).tolist()))
     res.stage_names = tuple(STAGE_NAMES[int(s)] for s in stage)
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE

@@ -406,7 +406,8 @@ def _parse_one(x, kw):
 def _quick_naive(s: pd.Series) -> pd.Series | None:
     """The whole column parsed at once when every cell is a plain ISO 8601 time, else None."""
     try:
-        t = pd.to_datetime(s, format="ISO8601")
+        # cache=False: pandas would otherwise look for repeated cells value by value first
+        t = pd.to_datetime(s, format="ISO8601", cache=False)
     except (ValueError, OverflowError, TypeError):
         return None
     if not pd.api.types.is_datetime64_dtype(t):
