@@ -115,21 +115,52 @@ def _tune_gc() -> None:
     gc.set_threshold(50_000, 20, 100)
 
 
-def _in_order(fn, tasks: list, jobs: int):
-    """fn(task) for every task, results in task order: in this process for one job or a couple
-    of tasks, else in a pool of *jobs* worker processes, one task at a time (small tasks leave
-    no worker idle at the end while another finishes a batch)."""
+def _new_pool(jobs: int, initializer=None) -> ProcessPoolExecutor:
+    # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
+    return ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
+                               initializer=initializer)
+
+
+def _in_order(fn, tasks: list, jobs: int, pool: ProcessPoolExecutor | None = None):
+    """fn(task) for every task, results in task order: in *pool* when given, else in this
+    process for one job or a couple of tasks, else in a pool of *jobs* worker processes, one
+    task at a time (small tasks leave no worker idle at the end while another finishes a
+    batch)."""
+    if pool is not None:
+        yield from pool.map(fn, tasks, chunksize=1)
+        return
     if jobs <= 1 or len(tasks) <= 2:
         yield from map(fn, tasks)
         return
-    # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
-    with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn")) as pool:
-        yield from pool.map(fn, tasks, chunksize=1)
+    with _new_pool(jobs) as new:
+        yield from new.map(fn, tasks, chunksize=1)
 
 
-def compute(tasks: list[tuple], jobs: int, progress) -> list[ProjectOutcome]:
+def _worker_ready() -> None:
+    """A build worker's start: load the statistics stack and settle the garbage collector
+    before the first project arrives."""
+    from . import project  # noqa: F401
+
+    _tune_gc()
+
+
+def _noop() -> None:
+    return None
+
+
+def _early_pool(jobs: int) -> ProcessPoolExecutor:
+    """A pool whose workers start loading while this process is still hashing the inputs:
+    used when every project is known to need building (no published site, or --force)."""
+    pool = _new_pool(jobs, _worker_ready)
+    for _ in range(jobs):  # a worker process starts for each task that finds none idle
+        pool.submit(_noop)
+    return pool
+
+
+def compute(tasks: list[tuple], jobs: int, progress,
+            pool: ProcessPoolExecutor | None = None) -> list[ProjectOutcome]:
     results = []
-    for r in _in_order(_worker, tasks, jobs):  # outcomes are small: workers write the files
+    for r in _in_order(_worker, tasks, jobs, pool):  # outcomes are small: workers write files
         results.append(r)
         progress(r.slug)
     return results
@@ -166,6 +197,23 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     # 3. plan
     manifest = {} if opts.force else _read_manifest(out)
     old = manifest.get("projects", {})
+    # Every project will be built (nothing published, or --force) and there are enough for a
+    # pool: its workers start now and load while the inputs are hashed.
+    early_jobs = opts.jobs or (os.cpu_count() or 1)
+    pool = (_early_pool(early_jobs)
+            if not old and early_jobs > 1 and len(folders) >= max(BUILD_POOL_MIN, 3) else None)
+    try:
+        return _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
+                              manifest, old, pool, progress_cb)
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
+
+
+def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildReport,
+                   settings: PortfolioSettings, portfolio_problems: list[Problem],
+                   folders: list[Path], manifest: dict, old: dict,
+                   pool: ProcessPoolExecutor | None, progress_cb) -> BuildReport:
     key = _settings_key(settings, opts.live)
     memo = digest_memo_for(root)  # unchanged files are not read again
     hashes = {f.name: input_hash(f, key, memo) for f in folders}
@@ -196,7 +244,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         dates = _portfolio_git_dates(root, todo)
         tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name,
                   dates.get(f.name) if dates is not None else None) for f in todo]
-        outcomes = compute(tasks, jobs, progress)
+        outcomes = compute(tasks, jobs, progress, pool if len(todo) > 2 and jobs > 1 else None)
         if any(p.severity == "error" for p in portfolio_problems):
             # A broken portfolio.toml: its defaults are used and every project says so.
             for o in outcomes:
