@@ -207,17 +207,17 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
             "size": rng.integers(9, 30, n).astype(float)})
         g = frame.groupby(key, sort=True)
         for stat in ("mean", "sum", "count"):
-            got = _rollup_sorted(frame, key, stat, "continuous", False)
+            got = pd.DataFrame(_rollup_sorted(frame, key, stat, "continuous", False))
             want = g["value"].count() if stat == "count" else getattr(g["value"], stat)()
             assert list(got.columns) == ["period", "value", "n"]
             assert (got["period"].to_numpy() == want.index.to_numpy()).all()
             np.testing.assert_allclose(got["value"], want.to_numpy(), rtol=1e-12, atol=0)
             assert (got["n"].to_numpy() == g.size().to_numpy()).all()
-        got = _rollup_sorted(frame, key, "sum", "defectives", False)
+        got = pd.DataFrame(_rollup_sorted(frame, key, "sum", "defectives", False))
         assert (got["count"].to_numpy() == g["count"].sum().to_numpy()).all()
         assert (got["size"].to_numpy() == g["size"].sum().to_numpy()).all()
         flags = frame.assign(value=(frame["value"] > 20).astype(float))
-        got = _rollup_sorted(flags, key, "proportion", "defectives", True)
+        got = pd.DataFrame(_rollup_sorted(flags, key, "proportion", "defectives", True))
         assert (got["count"].to_numpy() == flags.groupby(key)["value"].sum().to_numpy()).all()
         assert (got["size"].to_numpy() == flags.groupby(key)["value"].count().to_numpy()).all()
         periods = got["period"]

@@ -502,17 +502,21 @@ def clean_label(text: str) -> str:
     return _LABEL_SPACE.sub(" ", text).strip()
 
 
-def assign_stage(times: pd.Series, baseline: Period | None, after: Period | None) -> np.ndarray:
+def assign_stage(times: pd.Series | np.ndarray, baseline: Period | None,
+                 after: Period | None) -> np.ndarray:
     """Stage of each time: 0 baseline, 1 after, 2 between / outside both periods.
 
-    Without a baseline period every point is baseline. Dates are inclusive at both ends.
+    *times*: a Series (naive or with a time zone) or a numpy datetime64 array (naive). Without
+    a baseline period every point is baseline. Dates are inclusive at both ends.
     """
     if baseline is None:
         return np.zeros(len(times), dtype=int)
     t = times
-    if len(t) and t.dt.tz is not None:
-        t = t.dt.tz_localize(None)  # the wall-clock date in the series' own zone
-    d = t.to_numpy().astype("datetime64[D]")  # the calendar day (NaT stays NaT: no stage)
+    if isinstance(t, pd.Series):
+        if len(t) and t.dt.tz is not None:
+            t = t.dt.tz_localize(None)  # the wall-clock date in the series' own zone
+        t = t.to_numpy()
+    d = t.astype("datetime64[D]")  # the calendar day (NaT stays NaT: no stage)
     stage = np.full(len(times), STAGE_OTHER, dtype=int)
 
     def within(p: Period) -> np.ndarray:
@@ -542,32 +546,38 @@ def period_start(t: pd.Series, period: str) -> pd.Series:
 
 
 def period_label(start: pd.Series, period: str) -> pd.Series:
+    if period in ("day", "month"):
+        return pd.Series(_iso_array(start.to_numpy(), "D" if period == "day" else "M"),
+                         index=start.index)
     if period == "week":
         iso = start.dt.isocalendar()
         return iso["year"].astype(str) + "-W" + iso["week"].astype(str).str.zfill(2)
-    if period == "month":
-        return _iso_text(start, "M")
-    if period == "quarter":
-        return start.dt.year.astype(str) + "-Q" + start.dt.quarter.astype(str)
-    return _iso_text(start, "D")
+    return start.dt.year.astype(str) + "-Q" + start.dt.quarter.astype(str)
 
 
-def _iso_text(t: pd.Series, unit: str) -> pd.Series:
+def _period_labels(start: np.ndarray, period: str) -> np.ndarray:
+    """:func:`period_label` of naive period starts held in a numpy array, as an array."""
+    if period in ("day", "month"):
+        return _iso_array(start, "D" if period == "day" else "M")
+    return period_label(pd.Series(start), period).to_numpy(dtype=object)
+
+
+def _iso_array(t: np.ndarray, unit: str) -> np.ndarray:
     """ISO 8601 text of naive times to the given numpy unit ("D" 2026-01-05, "M" 2026-01,
     "m" 2026-01-05 06:30), written by numpy in one pass (pandas' strftime goes value by
-    value)."""
-    text = np.datetime_as_string(t.to_numpy().astype(f"datetime64[{unit}]"), unit=unit)
+    value), as an object array of str."""
+    text = np.datetime_as_string(t.astype(f"datetime64[{unit}]"), unit=unit)
     if unit == "m":
         text = np.char.replace(text, "T", " ")
-    return pd.Series(text.astype(object), index=t.index)
+    return text.astype(object)
 
 
 def _rollup_sorted(frame: pd.DataFrame, key: np.ndarray, stat: str, kind: str,
-                   flags: bool) -> pd.DataFrame | None:
+                   flags: bool) -> dict | None:
     """The roll-up by sums over runs of equal periods, for rows in time order (as load_metric
-    leaves them): the same table pandas' groupby gives (sums and means add each period's values
-    in row order), without its overhead. None for what it does not cover (the median, rows out
-    of order), which then goes through groupby."""
+    leaves them): the same columns pandas' groupby gives (sums and means add each period's
+    values in row order), without its overhead. None for what it does not cover (the median,
+    rows out of order), which then goes through groupby."""
     n = len(key)
     if n == 0 or stat == "median" or not (key[1:] >= key[:-1]).all():
         return None
@@ -587,26 +597,39 @@ def _rollup_sorted(frame: pd.DataFrame, key: np.ndarray, stat: str, kind: str,
         total = np.add.reduceat(frame["value"].to_numpy(dtype=float), starts)
         cols["value"] = total / sizes if stat == "mean" else total
     cols["n"] = sizes
-    return pd.DataFrame(cols)
+    return cols
 
 
-def _segments_for_periods(starts: pd.Series, period: str) -> np.ndarray:
+def _segments_for_periods(starts: pd.Series | np.ndarray, period: str) -> np.ndarray:
     """A new segment starts wherever one or more whole periods are missing."""
+    starts = np.asarray(starts)
     if len(starts) == 0:
         return np.zeros(0, dtype=int)
     if period == "day":
-        days = starts.to_numpy().astype("datetime64[D]").astype(np.int64)
+        days = starts.astype("datetime64[D]").astype(np.int64)
         return np.cumsum(np.diff(days, prepend=days[0]) > 1)
-    full = pd.date_range(starts.iloc[0], starts.iloc[-1], freq=_PERIOD_FREQ[period])
+    full = pd.date_range(starts[0], starts[-1], freq=_PERIOD_FREQ[period])
     pos = full.get_indexer(pd.DatetimeIndex(starts))
     gaps = np.diff(pos, prepend=pos[0]) > 1
     return np.cumsum(gaps)
 
 
-def _labels(t: pd.Series) -> pd.Series:
-    a = t.to_numpy()
+def _labels(a: np.ndarray) -> np.ndarray:
+    """Labels of unrolled points: the date, or the date and time when any point has one."""
     has_time = bool((a.astype("datetime64[D]") != a).any())
-    return _iso_text(t, "m" if has_time else "D")
+    return _iso_array(a, "m" if has_time else "D")
+
+
+def _has_gap(v) -> bool:
+    """Whether a column (a Series or a scalar filling one) has a missing value."""
+    if not isinstance(v, pd.Series):
+        return False
+    a = v.to_numpy()
+    if a.dtype.kind == "f":
+        return bool(np.isnan(a).any())
+    if a.dtype.kind == "M":
+        return bool(np.isnat(a).any())
+    return bool(v.hasnans)
 
 
 def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> MetricData:
@@ -630,37 +653,41 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     elif kind == "defectives" and spec.value is not None and spec.rollup is not None:
         flags = True
 
-    frame = pd.DataFrame(index=df.index)
+    # the columns are gathered first and made into one table at once (each column added to a
+    # table on its own costs pandas more than reading it)
+    fc: dict = {}
     if spec.time is not None:
-        frame["t"] = _times(df, spec.time, spec, out)
+        fc["t"] = _times(df, spec.time, spec, out)
     if kind == "categories":
         cat = df[spec.category].map(clean_label)
         blank = cat == ""
         out.rows(list(df.index[blank]), f"column '{spec.category}'",
                  "blank category; counted as '(blank)'", severity="warning")
-        frame["category"] = cat.where(~blank, "(blank)")
-        frame["weight"] = (_numbers(df, spec.count, spec, out, minimum=0, what="a count")
-                           if spec.count else 1.0)
+        fc["category"] = cat.where(~blank, "(blank)")
+        fc["weight"] = (_numbers(df, spec.count, spec, out, minimum=0, what="a count")
+                        if spec.count else 1.0)
     elif flags:
         v = _numbers(df, spec.value, spec, out, what="0 or 1")
-        badflag = v.notna() & ~v.isin([0.0, 1.0])
+        va = v.to_numpy()
+        badflag = ~np.isnan(va) & (va != 0.0) & (va != 1.0)
         out.rows(list(df.index[badflag]), f"column '{spec.value}'",
                  "expected 0 (fine) or 1 (defective)")
-        frame["value"] = v
+        fc["value"] = v
     else:
         if spec.value is not None:
-            frame["value"] = _numbers(df, spec.value, spec, out)
+            fc["value"] = _numbers(df, spec.value, spec, out)
         if spec.subgroup is not None:
-            frame["subgroup"] = df[spec.subgroup].map(clean_label)
+            fc["subgroup"] = df[spec.subgroup].map(clean_label)
         if spec.count is not None:
-            frame["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
-                                      what="a count")
+            fc["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
+                                   what="a count")
         if spec.size is not None:
-            frame["size"] = _numbers(df, spec.size, spec, out, minimum=0,
-                                     what="a number of items or an area")
+            fc["size"] = _numbers(df, spec.size, spec, out, minimum=0,
+                                  what="a number of items or an area")
     out.raise_if_failed()
 
-    if any(frame[c].hasnans for c in frame.columns):
+    frame = pd.DataFrame(fc, index=df.index)
+    if any(_has_gap(v) for v in fc.values()):
         frame = frame.dropna(how="any")
     if kind == "defectives" and not flags:
         over = frame["count"] > frame["size"]
@@ -690,7 +717,7 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
             frame = frame.sort_values("t", kind="stable")
 
     if kind == "categories":
-        stage = (assign_stage(frame["t"], spec.baseline, spec.after) if "t" in frame
+        stage = (assign_stage(frame["t"].to_numpy(), spec.baseline, spec.after) if "t" in frame
                  else np.zeros(len(frame), dtype=int))
         pts = pd.DataFrame({"category": frame["category"].to_numpy(),
                             "weight": frame["weight"].to_numpy(dtype=float), "stage": stage})
@@ -701,41 +728,44 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
 
     subgroups = None
     values = None
+    times = frame["t"].to_numpy()
     if kind in ("continuous", "subgroups"):
         values = pd.DataFrame({"value": frame["value"].to_numpy(dtype=float),
-                               "stage": assign_stage(frame["t"], spec.baseline, spec.after)})
+                               "stage": assign_stage(times, spec.baseline, spec.after)})
+    # the points' columns, in this order: period, the values, n, (subgroup), segment, ...
+    cols: dict
     if kind == "subgroups":
-        pts, subgroups = _subgroups(frame, spec, out)
+        cols, subgroups = _subgroups(frame, spec, out)
     elif spec.rollup is not None:
-        pts = _rollup(frame, spec, kind, flags)
+        cols = _rollup(frame, spec, kind, flags)
     else:
         if kind == "continuous":
             dups = frame["t"].duplicated(keep=False)
             out.rows(list(frame.index[dups]), f"column '{spec.time}'",
                      "several rows share the same time; each is plotted as its own point",
                      severity="warning")
-        pts = pd.DataFrame({"period": frame["t"].to_numpy()})
+        cols = {"period": times}
         if kind == "continuous":
-            pts["value"] = frame["value"].to_numpy()
+            cols["value"] = frame["value"].to_numpy()
         else:
-            pts["count"] = frame["count"].to_numpy()
-            pts["size"] = frame["size"].to_numpy() if "size" in frame else 1.0
-        pts["n"] = 1
-        pts["segment"] = 0
-    if kind == "defectives":
-        pts["value"] = pts["count"] / pts["size"]
-    elif kind == "defects":
-        pts["value"] = pts["count"] / pts["size"]
-    pts["label"] = (_labels(pts["period"]) if spec.rollup is None
-                    else period_label(pts["period"], spec.rollup.period))
-    pts["stage"] = assign_stage(pts["period"], spec.baseline, spec.after)
-    pts = pts.reset_index(drop=True)
+            cols["count"] = frame["count"].to_numpy()
+            cols["size"] = frame["size"].to_numpy() if "size" in frame else 1.0
+        cols["n"] = 1
+        cols["segment"] = 0
+    if kind in ("defectives", "defects"):
+        cols["value"] = cols["count"] / cols["size"]
+    period = np.asarray(cols["period"])
+    cols["label"] = (_labels(period) if spec.rollup is None
+                     else _period_labels(period, spec.rollup.period))
+    cols["stage"] = assign_stage(period, spec.baseline, spec.after)
+    pts = pd.DataFrame(cols)
     out.raise_if_failed()
     return MetricData(spec, kind, pts, subgroups=subgroups, values=values, raw_rows=raw_rows,
                       problems=[p for p in out.problems if p.severity != "error"])
 
 
-def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> pd.DataFrame:
+def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> dict:
+    """The points' columns of a rolled-up metric: period, the values, n, segment."""
     assert spec.rollup is not None
     per = spec.rollup.period
     key = period_start(frame["t"], per)
@@ -754,10 +784,10 @@ def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> pd
         pts = pd.DataFrame({"value": getattr(g["value"], stat)() if stat != "count"
                             else g["value"].count()})
     pts["n"] = g.size()
-    pts.index.name = "period"
-    pts = pts.reset_index()
-    pts["segment"] = _segments_for_periods(pts["period"], per)
-    return pts
+    cols = {"period": pts.index.to_numpy()}
+    cols.update((c, pts[c].to_numpy()) for c in pts.columns)
+    cols["segment"] = _segments_for_periods(cols["period"], per)
+    return cols
 
 
 def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
@@ -792,11 +822,11 @@ def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
     else:
         first = pd.Series(times[order]).groupby(
             np.repeat(np.arange(sizes.size), sizes)).min().to_numpy()
-    pts = pd.DataFrame({
+    cols = {
         "period": first,
         "value": sums / sizes,
         "n": sizes.astype(int),
         "subgroup": labels,
-    })
-    pts["segment"] = 0
-    return pts, values
+        "segment": 0,
+    }
+    return cols, values
