@@ -312,3 +312,28 @@ def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_
     hows = {p["how"] for s in slugs for p in json.loads(
         (out / "projects" / s / "results.json").read_text("utf-8"))["provenance"]}
     assert hows == {"last commit", "file modification time"}
+
+
+def test_a_first_build_in_a_pool_started_early_matches_a_serial_build(tmp_path: Path,
+                                                                       monkeypatch):
+    # Enough projects for a pool, nothing published: the pool starts before the inputs are
+    # hashed. Its site must be the one a build in this process writes.
+    import steadyline.site.build as build_module
+
+    projects = tmp_path / "projects"
+    copy_projects(projects)
+    for i in range(build_module.BUILD_POOL_MIN):
+        shutil.copytree(DEMO / SMALL[i % len(SMALL)], projects / f"copy-{i:02d}")
+    started = []
+    real = build_module._early_pool
+    monkeypatch.setattr(build_module, "_early_pool",
+                        lambda jobs: started.append(jobs) or real(jobs))
+    pooled = build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
+    assert started == [2]
+    serial = build(BuildOptions(projects, tmp_path / "serial", jobs=1))
+    assert pooled.ok and serial.ok
+    assert len(pooled.built) == len(SMALL) + build_module.BUILD_POOL_MIN
+    assert tree_hashes(tmp_path / "pooled") == tree_hashes(tmp_path / "serial")
+    # a rebuild with a site in place starts no pool before planning
+    build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
+    assert started == [2]
