@@ -6,7 +6,7 @@
 Figures:
 1. full build of P projects x M metrics x R rows, against the floor: reading the same CSVs with
    pandas and writing the same number of output bytes; builds and floors alternate over three
-   rounds, each after the disk has settled, and the ratio is of the two medians (target: within
+   rounds, each after the disk has caught up (sync), and the ratio is of the two medians (target: within
    5x the floor);
 2. no-op rebuild, and rebuild after one CSV changed (target: under 1 s for 200 projects), against
    reading every input file once;
@@ -92,9 +92,9 @@ def tree_bytes(root: Path) -> int:
 def settle() -> None:
     """Let the disk catch up before a timed step: write-back of what an earlier step wrote or
     deleted would otherwise be charged to whichever step comes next (this matters on a virtual
-    disk, where it can double a step's time)."""
+    disk, where it can double a step's time). No pause after it: on the reference machine a
+    pause of two seconds made the floor slower by up to half, which would flatter the ratio."""
     os.sync()
-    time.sleep(2.0)
 
 
 def forget_digests(root: Path) -> None:
@@ -107,7 +107,7 @@ def forget_digests(root: Path) -> None:
 def bench_portfolio(work: Path, projects: int, metrics: int, rows: int, rows_out: list,
                     rounds: int = 3):
     root = synth.generate(work / "portfolio", projects, metrics, rows)
-    # Full builds and floors alternate, each after the disk has settled, three rounds: this
+    # Full builds and floors alternate, each after the disk has caught up, three rounds: this
     # machine's speed drifts over minutes, so each figure is the median of its three runs and
     # the ratio is of the medians. Each full build is a first build into a new folder (no
     # site, no remembered input digests); the tool's own cache (the Vega bundle) stays, as on
