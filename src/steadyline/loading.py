@@ -325,6 +325,7 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
              minimum: float | None = None, what="a number") -> pd.Series:
     s = df[col]  # cells come stripped from _read_table
     dec = spec.csv.decimal
+    quick = None
     if dec == ".":
         # The common column: every cell a plain finite number within the checks below. Then
         # there is nothing to report and pandas' parse is the answer.
@@ -336,10 +337,9 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
     blank = (s == "").to_numpy()
     num = pd.Series(np.nan, index=df.index, dtype=float)
     careful = ~blank
-    if dec == ".":
-        # Fast path: pandas parses plain numbers; only what it cannot parse, or parses as nan
-        # or infinity (words like "NaN" and "inf"), is looked at cell by cell below.
-        quick = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
+    if quick is not None:
+        # pandas' parse stands for the plain numbers; only what it could not parse, or parsed
+        # as nan or infinity (words like "NaN" and "inf"), is looked at cell by cell below.
         ok = ~blank & np.isfinite(quick)
         num[ok] = quick[ok]
         careful = ~blank & ~ok
@@ -417,27 +417,22 @@ def _quick_naive(s: pd.Series) -> pd.Series | None:
     return t
 
 
-def _plain_times(s: pd.Series) -> pd.Series | None:
-    """The common time column: no blank cell, every cell a plain ISO 8601 time within the
-    charted years. Then there is nothing to report and pandas' parse is the answer; None
-    otherwise (the full checks below then run)."""
-    if (s.to_numpy() == "").any():
-        return None
-    t = _quick_naive(s)
-    if t is None:
-        return None
+def _within_years(t: pd.Series) -> bool:
+    """Whether every time of a parsed naive column lies within the charted years."""
     a = t.to_numpy()
-    if a.size and (a.min() < _EARLIEST.to_datetime64() or a.max() > _LATEST.to_datetime64()):
-        return None
-    return t.astype("datetime64[ns]")
+    return not a.size or (a.min() >= _EARLIEST.to_datetime64()
+                          and a.max() <= _LATEST.to_datetime64())
 
 
 def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
     s = df[col]  # cells come stripped from _read_table
-    if not spec.csv.date_format:
-        fast = _plain_times(s)
-        if fast is not None:
-            return fast
+    # The common column: no blank cell and every cell a plain ISO 8601 time, parsed at once
+    # (None otherwise). Within the charted years there is nothing to report: the answer.
+    quick = None
+    if not spec.csv.date_format and not (s.to_numpy() == "").any():
+        quick = _quick_naive(s)
+        if quick is not None and _within_years(quick):
+            return quick.astype("datetime64[ns]")
     blank = s == ""
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
@@ -453,7 +448,6 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
         far |= far_
         expected = f"a date in the format {spec.csv.date_format!r}"
     else:
-        quick = _quick_naive(s) if not blank.any() else None
         if quick is not None:
             aware = pd.Series(False, index=df.index)  # every cell parsed as a plain time
         else:
