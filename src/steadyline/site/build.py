@@ -100,6 +100,13 @@ BUILD_POOL_MIN = 12
 _GC_TUNED = False
 
 
+def _jobs(asked: int | None, tasks: int, pool_min: int) -> int:
+    """Worker processes for *tasks* projects: as many as asked; by default one per core, but
+    none below *pool_min* projects (starting a worker costs about as much as building a
+    handful of projects, or checking a few dozen)."""
+    return asked or ((os.cpu_count() or 1) if tasks >= pool_min else 1)
+
+
 def _tune_gc() -> None:
     """Once per process, before the first project: move what is loaded so far out of the
     cyclic garbage collector's sight and let it run less often. A project allocates hundreds
@@ -199,9 +206,8 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     old = manifest.get("projects", {})
     # Every project will be built (nothing published, or --force) and there are enough for a
     # pool: its workers start now and load while the inputs are hashed.
-    early_jobs = opts.jobs or (os.cpu_count() or 1)
-    pool = (_early_pool(early_jobs)
-            if not old and early_jobs > 1 and len(folders) >= max(BUILD_POOL_MIN, 3) else None)
+    early_jobs = _jobs(opts.jobs, len(folders), BUILD_POOL_MIN)
+    pool = _early_pool(early_jobs) if not old and early_jobs > 1 and len(folders) > 2 else None
     try:
         return _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
                               manifest, old, pool, progress_cb)
@@ -226,10 +232,9 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                  and _all_files(out / "projects" / f.name, prev["files"]))
         (reuse if fresh else todo).append(f)
 
-    # 4. compute, into the staging folder
-    # --jobs given: as asked. Default: one worker per core, but no pool for a few projects
-    # (starting a worker costs about as much as building a handful of projects)
-    jobs = opts.jobs or (os.cpu_count() or 1 if len(todo) >= BUILD_POOL_MIN else 1)
+    # 4. compute, into the staging folder (in the early pool when there is one: then every
+    # project is to be built, with as many workers as it has)
+    jobs = _jobs(opts.jobs, len(todo), BUILD_POOL_MIN)
     live = LIVE_STATE if opts.live else None
     progress = progress_cb or (lambda slug: None)
     akey = assets_key()
@@ -244,7 +249,7 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         dates = _portfolio_git_dates(root, todo)
         tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name,
                   dates.get(f.name) if dates is not None else None) for f in todo]
-        outcomes = compute(tasks, jobs, progress, pool if len(todo) > 2 and jobs > 1 else None)
+        outcomes = compute(tasks, jobs, progress, pool)
         if any(p.severity == "error" for p in portfolio_problems):
             # A broken portfolio.toml: its defaults are used and every project says so.
             for o in outcomes:
@@ -405,10 +410,7 @@ def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> l
     settings, problems = load_portfolio(projects_dir)
     problems = list(problems)
     tasks = [(f, projects_dir, settings, debug) for f in discover(projects_dir)]
-    # jobs given: as asked. Default: one worker per core from a few dozen projects on (starting
-    # workers costs about half a second; checking a project, a few dozen milliseconds)
-    jobs = jobs or (os.cpu_count() or 1 if len(tasks) >= CHECK_POOL_MIN else 1)
-    for found in _in_order(_check_worker, tasks, jobs):
+    for found in _in_order(_check_worker, tasks, _jobs(jobs, len(tasks), CHECK_POOL_MIN)):
         problems.extend(found)
     return problems
 
