@@ -23,6 +23,8 @@ CSP = ("default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline';
 
 # Endings of the files editors and office suites write beside the real one while saving.
 _TEMP_SUFFIXES = (".swp", ".swo", ".swx", ".swpx", ".tmp", ".part", ".crdownload")
+
+
 def is_ignored(name: str) -> bool:
     """True for a file name no rebuild should follow: hidden, swap, backup, lock or temp files.
 
@@ -153,9 +155,9 @@ def git_dates(folder: Path) -> dict[Path, str]:
                                 capture_output=True, text=True, timeout=10)
     except (OSError, subprocess.TimeoutExpired):
         return {}
-    dirty = {(Path(top.stdout.strip()) / line[3:].strip()).resolve()
-             for line in status.stdout.splitlines() if len(line) > 3}
     gitroot = Path(top.stdout.strip())
+    dirty = {(gitroot / line[3:].strip()).resolve()
+             for line in status.stdout.splitlines() if len(line) > 3}
     dates: dict[Path, str] = {}
     current = None
     for line in log.stdout.splitlines():

@@ -12,10 +12,10 @@ from ..charts import (
 )
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
+from ..stats.runs import RULE_SET_SHORT
 from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
 from .templates import render
 
-RUN_RULE_NAMES = {"anhoj": "Anhøj rules", "perla": "shift, trend and runs rules"}
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
                 "rate": "Rate"}
 
@@ -54,7 +54,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
         sh = a.after_shift
         rows.append(("Sustained shift", "yes" if sh.signals else "no",
                      f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
-                     f" by the {RUN_RULE_NAMES.get(sh.rule_set, sh.rule_set)}"))
+                     f" by the {RULE_SET_SHORT.get(sh.rule_set, sh.rule_set)}"))
     return rows
 
 

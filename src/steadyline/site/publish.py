@@ -166,6 +166,14 @@ def _fsync_tree(root: Path) -> None:
     _fsync_files(paths)
 
 
+def _make_parent(path: str, made: set[str]) -> None:
+    """Create the folder of *path* unless this call's loop already made it (*made*)."""
+    parent = os.path.dirname(path)
+    if parent not in made:
+        os.makedirs(parent, exist_ok=True)
+        made.add(parent)
+
+
 def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
     """Write every file under *root*; returns the paths written."""
     written = []
@@ -173,10 +181,7 @@ def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
     base = os.fspath(root)
     for name, data in sorted(files.items()):
         path = os.path.join(base, name)
-        parent = os.path.dirname(path)
-        if parent not in made:
-            os.makedirs(parent, exist_ok=True)
-            made.add(parent)
+        _make_parent(path, made)
         with open(path, "wb") as fh:
             fh.write(data)
         written.append(path)
@@ -189,10 +194,7 @@ def link_tree(src: Path, dst: Path, names: list[str]) -> None:
     made: set[str] = set()
     for name in names:
         target = os.path.join(d, name)
-        parent = os.path.dirname(target)
-        if parent not in made:
-            os.makedirs(parent, exist_ok=True)
-            made.add(parent)
+        _make_parent(target, made)
         try:
             os.link(os.path.join(s, name), target)
         except OSError:

@@ -59,6 +59,8 @@ RULE_SET_LABELS = {
     "anhoj": "Anhøj rules (longest run and number of crossings; Anhøj & Olesen 2014)",
     "perla": "Run-chart rules of Perla, Provost & Murray (2011): shift, trend, number of runs",
 }
+# the same rule sets named in a running sentence ("... by the Anhøj rules")
+RULE_SET_SHORT = {"anhoj": "Anhøj rules", "perla": "shift, trend and runs rules"}
 
 PERLA_SHIFT_LENGTH = 6
 PERLA_TREND_LENGTH = 5
