@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
+from typing import NamedTuple
 
 import numpy as np
 
@@ -365,102 +367,137 @@ class _Keys:
         return [{"i": i, "info": text} for text, i in self.limits.items()]
 
 
+class _Series(NamedTuple):
+    """One plotted series, column by column: per drawn point (in index order) its position,
+    value, line piece, point key and limits key (``lim`` is None when the chart has none)."""
+
+    idx: list[int]
+    v: list
+    g: list
+    k: list
+    lim: list[int] | None
+
+
+class _Coded(NamedTuple):
+    """A text per point, held as a code per point into a list of texts."""
+
+    codes: np.ndarray
+    texts: list[str]
+
+
+@functools.lru_cache(maxsize=4)
+def _stage_codes(stage: tuple[str, ...]) -> tuple[tuple[str, ...], np.ndarray]:
+    """The distinct phase names of a series in order of first appearance, and a code per point."""
+    names = tuple(dict.fromkeys(stage))
+    code = {s: c for c, s in enumerate(names)}
+    return names, np.fromiter(map(code.__getitem__, stage), dtype=np.int64, count=len(stage))
+
+
+def _first_use(codes: np.ndarray) -> list[tuple[int, int]]:
+    """(first position, code) of each distinct code, in order of first position."""
+    if not len(codes):
+        return []
+    distinct, first = np.unique(codes, return_index=True)
+    return sorted(zip(first.tolist(), distinct.tolist(), strict=True))
+
+
 def _series_rows(
     ctx: SeriesContext,
     values: Sequence,
     marked: dict[int, list[str]],
     keys: _Keys,
     offset: int = 0,
-    info: Sequence[str] | None = None,
+    info: _Coded | None = None,
     fitted: Sequence[bool] | None = None,
-) -> dict[int, tuple]:
-    """Per plotted index: (value, line piece, point key, limits key or None). Line pieces break
-    at segment changes and at missing values."""
-    vals = disp_list(values)
-    ks = [k for k, f in enumerate(vals) if f is not None]  # the points drawn, in order
-    if not ks:
-        return {}
-    kp = np.asarray(ks, dtype=np.int64)
+) -> _Series:
+    """The drawn points of a series (finite values), with line pieces that break at segment
+    changes and at missing values, and their keys into ``keys``. Keys are numbered in order of
+    first use, point by point; the work is done per distinct (phase, used for limits) pair and
+    per point in a signal, not per point."""
+    arr = np.asarray(values, dtype=float).ravel()
+    vals = disp_list(arr)
+    kp = np.flatnonzero(np.isfinite(arr))  # the points drawn, in order
+    if not len(kp):
+        return _Series([], [], [], [], None if info is None else [])
+    if len(kp) < len(vals):
+        vals = [vals[k] for k in kp.tolist()]
     ip = kp + offset
     seg = np.asarray(ctx.segment, dtype=np.int64)[ip]
     # a new piece where the segment changes or a missing value comes between
     new = (seg[1:] != seg[:-1]) | (kp[1:] != kp[:-1] + 1)
     groups = np.concatenate([[0], np.cumsum(new)]).tolist()
     idx = ip.tolist()
-    stage = ctx.stage
-    fit = None if fitted is None else np.asarray(fitted, dtype=bool).tolist()
-    key_of, info_of = keys.key, keys.info
-    point_keys = [
-        key_of(stage[i], None if fit is None else fit[k],
-               "; ".join(marked[i]) if i in marked else "")
-        for i, k in zip(idx, ks, strict=True)
-    ]
-    infos = [None] * len(ks) if info is None else [info_of(info[k]) for k in ks]
-    return {i: (vals[k], g, pk, lim) for i, k, g, pk, lim
-            in zip(idx, ks, groups, point_keys, infos, strict=True)}
+
+    # point keys: (phase, used for limits, signals); a point in a signal has a key of its own
+    names, stage_code = _stage_codes(ctx.stage)
+    fit = None if fitted is None else np.asarray(fitted, dtype=bool)[kp]
+    pair = stage_code[ip] * 3 + (2 if fit is None else fit.astype(np.int64))
+    in_signal = np.zeros(len(kp), dtype=bool)
+    if marked:
+        flag = np.zeros(len(ctx.x), dtype=bool)
+        flag[list(marked)] = True
+        in_signal = flag[ip]
+    plain = np.flatnonzero(~in_signal)
+    first = [(int(plain[p]), c) for p, c in _first_use(pair[plain])]
+    first += [(p, -1) for p in np.flatnonzero(in_signal).tolist()]
+    point_key = np.zeros(len(kp), dtype=np.int64)
+    key_of_pair = np.zeros(len(names) * 3, dtype=np.int64)
+    for p, c in sorted(first):
+        if c < 0:
+            i = idx[p]
+            point_key[p] = keys.key(ctx.stage[i], None if fit is None else bool(fit[p]),
+                                    "; ".join(marked[i]))
+        else:
+            s, f = divmod(c, 3)
+            key_of_pair[c] = keys.key(names[s], None if f == 2 else bool(f), "")
+    point_key[plain] = key_of_pair[pair[plain]]
+
+    lim = None
+    if info is not None:
+        code = info.codes[kp]
+        key_of_code = np.zeros(len(info.texts), dtype=np.int64)
+        for _, c in _first_use(code):
+            key_of_code[c] = keys.info(info.texts[c])
+        lim = key_of_code[code].tolist()
+    return _Series(idx, vals, groups, point_key.tolist(), lim)
 
 
-def _point_rows(xa: XAxis, ctx: SeriesContext, main: dict, second: dict | None = None) -> list:
+def _point_rows(xa: XAxis, ctx: SeriesContext, main: _Series, second: _Series | None = None):
     """Merge the main and the companion series into one row per position."""
     at = xa.pos
     labels = None if xa.is_time else ctx.x
-    if labels is None and _uniform(main) and (not second or (_uniform(second)
-                                                              and second.keys() == main.keys())):
-        # the common shapes, one dict display per row: a time axis, every point with its
-        # limits key (or none without), the companion (if any) at the same positions
-        idx = list(main)  # in index order, as _series_rows made it
-        xs = [at[i] for i in idx]
-        v, g, k, lim = zip(*main.values(), strict=True) if idx else ((), (), (), ())
-        with_i = bool(idx) and lim[0] is not None
+    if labels is None and (not second or second.idx == main.idx):
+        # the common shapes, one dict display per row: a time axis, the companion (if any) at
+        # the same positions
+        xs = at if len(main.idx) == len(at) else [at[i] for i in main.idx]
+        v, g, k, lim = main.v, main.g, main.k, main.lim
         if not second:
-            if with_i:
+            if lim is not None:
                 return [{"x": a, "v": b, "g": c, "k": d, "i": e}
                         for a, b, c, d, e in zip(xs, v, g, k, lim, strict=True)]
             return [{"x": a, "v": b, "g": c, "k": d} for a, b, c, d in zip(xs, v, g, k, strict=True)]
-        v2, g2, k2, lim2 = zip(*(second[i] for i in idx), strict=True)
-        if with_i and lim2[0] is not None:
+        if lim is not None and second.lim is not None:
             return [{"x": a, "v": b, "g": c, "k": d, "i": e, "v2": b2, "g2": c2, "k2": d2, "i2": e2}
                     for a, b, c, d, e, b2, c2, d2, e2
-                    in zip(xs, v, g, k, lim, v2, g2, k2, lim2, strict=True)]
+                    in zip(xs, v, g, k, lim, second.v, second.g, second.k, second.lim,
+                           strict=True)]
     rows = []
     add = rows.append
-    if not second:
-        for i, (v, g, k, lim) in main.items():  # in index order, as _series_rows made it
-            row: dict = {"x": at[i]}
-            if labels is not None:
-                row["label"] = labels[i]
-            row["v"] = v
-            row["g"] = g
-            row["k"] = k
-            if lim is not None:
-                row["i"] = lim
-            add(row)
-        return rows
-    get_a, get_b = main.get, second.get
-    for i in sorted(set(main) | set(second)):
-        row = {"x": at[i]}
+    series = [main] if not second else [main, second]
+    where = [dict(zip(s.idx, range(len(s.idx)), strict=True)) for s in series]
+    positions = main.idx if not second else sorted(set(main.idx) | set(second.idx))
+    for i in positions:
+        row: dict = {"x": at[i]}
         if labels is not None:
             row["label"] = labels[i]
-        a = get_a(i)
-        if a is not None:
-            row["v"], row["g"], row["k"] = a[0], a[1], a[2]
-            if a[3] is not None:
-                row["i"] = a[3]
-        b = get_b(i)
-        if b is not None:
-            row["v2"], row["g2"], row["k2"] = b[0], b[1], b[2]
-            if b[3] is not None:
-                row["i2"] = b[3]
+        for s, w, suf in zip(series, where, ("", "2"), strict=False):
+            j = w.get(i)
+            if j is not None:
+                row["v" + suf], row["g" + suf], row["k" + suf] = s.v[j], s.g[j], s.k[j]
+                if s.lim is not None:
+                    row["i" + suf] = s.lim[j]
         add(row)
     return rows
-
-
-def _uniform(series: dict) -> bool:
-    """Whether every point of a series has a limits key, or none has."""
-    if not series:
-        return True
-    has = [t[3] is not None for t in series.values()]
-    return all(has) or not any(has)
 
 
 class _Parts:
@@ -553,21 +590,22 @@ def _limit_rows(
     return rows, labels
 
 
-def _limits_info(chart: ControlChart) -> list[str]:
+def _limits_info(chart: ControlChart) -> _Coded:
     """Per point, the limits there as text ("LCL 1.2, CL 3.4, UCL 5.6"), each distinct
     combination written once."""
     cols = [np.asarray(a, dtype=float).ravel() for a in (chart.lower, chart.centre, chart.upper)]
     if len(cols[0]) == 0:
-        return []
+        return _Coded(np.zeros(0, dtype=np.int64), [])
     grid = np.column_stack([np.where(np.isfinite(c), c, np.inf) for c in cols])  # inf: none
     # limits mostly hold steady over runs of points: a text per run (one per distinct
     # combination), repeated over the run
     starts = np.flatnonzero(np.concatenate([[True], (grid[1:] != grid[:-1]).any(axis=1)]))
-    memo: dict[tuple, str] = {}
-    texts = []
+    memo: dict[tuple, int] = {}
+    texts: list[str] = []
+    run_codes = []
     for key in map(tuple, grid[starts].tolist()):
-        text = memo.get(key)
-        if text is None:
+        code = memo.get(key)
+        if code is None:
             lo, c, hi = key
             parts = []
             if lo != math.inf:
@@ -576,10 +614,11 @@ def _limits_info(chart: ControlChart) -> list[str]:
                 parts.append(f"CL {fmt(c)}")
             if hi != math.inf:
                 parts.append(f"UCL {fmt(hi)}")
-            text = memo[key] = ", ".join(parts)
-        texts.append(text)
+            code = memo[key] = len(texts)
+            texts.append(", ".join(parts))
+        run_codes.append(code)
     lengths = np.diff(np.concatenate([starts, [len(grid)]]))
-    return [t for t, k in zip(texts, lengths.tolist(), strict=True) for _ in range(k)]
+    return _Coded(np.repeat(np.asarray(run_codes, dtype=np.int64), lengths), texts)
 
 
 def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
@@ -728,8 +767,18 @@ def _secondary_stage(chart: ControlChart, offset: int) -> np.ndarray:
     return np.asarray(chart.stage, dtype=int)[offset:]
 
 
-def _join_info(a: list[str], b: list[str | None]) -> list[str]:
-    return [x if not y else f"{x}; after: {y}" for x, y in zip(a, b, strict=True)]
+def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
+    """The limits text per point, with the after phase's own limits added where ``after``:
+    "LCL 1, CL 2, UCL 3; after: LCL ..."."""
+    width = len(own.texts) + 1
+    joint = info.codes * width + np.where(after, own.codes + 1, 0)
+    distinct, code = np.unique(joint, return_inverse=True)
+    texts = []
+    for j in distinct.tolist():
+        a, b = divmod(j, width)
+        extra = own.texts[b - 1] if b else ""
+        texts.append(f"{info.texts[a]}; after: {extra}" if extra else info.texts[a])
+    return _Coded(code.astype(np.int64).ravel(), texts)
 
 
 def _control_parts(
@@ -748,14 +797,11 @@ def _control_parts(
     keys = _Keys()
     parts = _Parts()
 
-    def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> list[str]:
+    def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> _Coded:
         info = _limits_info(c)
         if o is None:
             return info
-        own_info = _limits_info(o)
-        return _join_info(
-            info, [t if st == 1 else None for t, st in zip(own_info, stage_arr, strict=True)]
-        )
+        return _join_info(info, _limits_info(o), np.asarray(stage_arr) == 1)
 
     def carried_mask(c: ControlChart, stage_arr, fitted) -> np.ndarray | None:
         if not staged:
