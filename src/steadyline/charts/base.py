@@ -471,7 +471,7 @@ class XAxis:
     def at(self, i: int):
         return self.pos[i]
 
-    def _midpoints(self) -> list:
+    def midpoints(self) -> list:
         """mids[i]: halfway between point i-1 and point i; mids[0] and mids[n] are the ends."""
         if self._mids is None:
             n = self.n
@@ -500,11 +500,11 @@ class XAxis:
 
     def half_before(self, i: int):
         """Position halfway between point i-1 and point i (the first point: its own place)."""
-        return self._midpoints()[max(0, min(i, self.n))]
+        return self.midpoints()[max(0, min(i, self.n))]
 
     def half_after(self, i: int):
         """Position halfway between point i and point i+1 (the last point: its own place)."""
-        return self._midpoints()[max(0, min(i + 1, self.n))]
+        return self.midpoints()[max(0, min(i + 1, self.n))]
 
     def axis_values(self) -> dict:
         """Placeholder values for a label axis (non-time series)."""

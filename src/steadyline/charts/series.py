@@ -548,45 +548,56 @@ def _limit_rows(
     m = len(chart.values)
     if m == 0:
         return rows, labels
-    on = [True] * m if drawn is None else [bool(b) for b in drawn]
-    car = [False] * m if carried is None else [bool(b) for b in carried]
+    on = None if drawn is None else np.asarray(drawn, dtype=bool).ravel()
+    car = np.zeros(m, dtype=bool) if carried is None else np.asarray(carried, dtype=bool).ravel()
     x_end = xa.at(m - 1 + offset)
+    mids = xa.midpoints()
+    last_mid = len(mids) - 1
+    first = np.ones(1, dtype=bool)
+    car_change = np.concatenate([first, car[1:] != car[:-1]])
 
     def name_at(kind: str, i: int) -> str:
         return ("baseline " if car[i] else label_prefix) + _LIMIT_SHORT[kind]
 
-    car_arr = np.asarray(car, dtype=bool)
     for kind in _LIMIT_KINDS:
-        ys = disp_list(arrays[kind])
-        if drawn is not None:
-            ys = [y if o else None for y, o in zip(ys, on, strict=False)]
-        # A piece runs while values are finite and the carried flag stays the same; within a
-        # piece a vertex goes where the value changes, and one more at the piece's end.
-        y = np.array([np.nan if v is None else v for v in ys], dtype=float)
-        fin = ~np.isnan(y)
-        first = np.ones(1, dtype=bool)
-        start = fin & np.concatenate([first, ~fin[:-1] | (car_arr[1:] != car_arr[:-1])])
-        change = fin & (start | np.concatenate([first, y[1:] != y[:-1]]))
+        raw = np.asarray(arrays[kind], dtype=float).ravel()
+        fin = np.isfinite(raw)
+        if on is not None:
+            fin &= on
+        if not fin.any():
+            continue
+        # A piece runs while values are finite (and drawn) and the carried flag stays the same;
+        # within a piece a vertex goes where the displayed value changes, and one more at the
+        # piece's end. Displayed values are rounded only where the raw value changes: between
+        # such places the value, and so its rounding, stays the same.
+        start = fin & np.concatenate([first, ~fin[:-1]]) | fin & car_change
         end = fin & np.concatenate([~fin[1:] | start[1:], first])
-        vertices = np.flatnonzero(change).tolist()
-        ends = np.flatnonzero(end).tolist()
-        v = 0
-        for k, e in zip(np.flatnonzero(start).tolist(), ends, strict=True):
+        cand = np.flatnonzero(fin & (start | np.concatenate([first, raw[1:] != raw[:-1]])))
+        shown = disp_list(raw[cand])
+        shown_f = np.asarray(shown, dtype=float)
+        keep = start[cand] | np.concatenate([first, shown_f[1:] != shown_f[:-1]])
+        vertices = cand[keep]
+        starts = np.flatnonzero(start)
+        ends = np.flatnonzero(end)
+        # the shown value at a piece's end: that of the last candidate at or before it
+        end_shown = np.searchsorted(cand, ends, side="right") - 1
+        piece_ids = []
+        for k in starts.tolist():
             look = "solid" if solid or (kind == "centre line" and not car[k]) else "dashed"
-            p = parts.new(kind, name_at(kind, k), set_name, look)
-            while v < len(vertices) and vertices[v] <= e:
-                i = vertices[v]
-                rows.append({"p": p, "x": xa.half_before(i + offset), "y": ys[i]})
-                v += 1
-            rows.append({"p": p, "x": xa.half_after(e + offset), "y": ys[e]})
-        i = m - 1
-        while i >= 0 and ys[i] is None:
-            i -= 1
-        if i >= 0:
-            y = ys[i]
-            labels.append(
-                {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
-            )
+            piece_ids.append(parts.new(kind, name_at(kind, k), set_name, look))
+        # vertices, then each piece's end vertex after its own vertices
+        at = np.concatenate([vertices * 2, ends * 2 + 1])
+        order = np.argsort(at, kind="stable")
+        pos = np.concatenate([vertices + offset, ends + offset + 1])[order]
+        piece = np.concatenate([np.searchsorted(starts, vertices, side="right") - 1,
+                                np.arange(len(ends))])[order]
+        which = np.concatenate([np.flatnonzero(keep), end_shown])[order]
+        ids = np.asarray(piece_ids, dtype=np.int64)[piece]
+        rows += [{"p": p, "x": mids[x], "y": shown[w]} for p, x, w in zip(
+            ids.tolist(), np.clip(pos, 0, last_mid).tolist(), which.tolist(), strict=True)]
+        i = int(np.flatnonzero(fin)[-1])
+        y = shown[int(np.searchsorted(cand, i, side="right") - 1)]
+        labels.append({"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind})
     return rows, labels
 
 
@@ -721,7 +732,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     table = ColumnTable(columns, {
         x_col: ctx.x, "phase": ctx.stage, "value": num_list(vals),
         "median": [median] * n,
-        "signals": ["; ".join(all_marked[i]) if i in all_marked else "" for i in range(n)]})
+        "signals": _signal_column(n, all_marked)})
     summary = (
         f"Run chart of {ctx.metric_name}: {plural(n, 'point')}, {median_text}; "
         f"{_signals_sentence(analysis.signals)}."
@@ -901,6 +912,17 @@ def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int, parts: _Part
     return rows, labels
 
 
+_NO_YES = np.array(["no", "yes"], dtype=object)
+
+
+def _signal_column(n: int, *marked: dict[int, list[str]]) -> list[str]:
+    """The table's "signals" cell per point: the texts of the points in signals, joined."""
+    out = [""] * n
+    for i in sorted(set().union(*marked)):
+        out[i] = "; ".join([t for m in marked for t in m.get(i, ())])
+    return out
+
+
 def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None):
     n = len(ctx.x)
     sec = chart.secondary
@@ -924,8 +946,7 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     if own is not None:
         after = np.asarray(own.stage, dtype=int) == 1
         for name, arr in (("centre line", own.centre), ("LCL", own.lower), ("UCL", own.upper)):
-            vals = num_list(arr)
-            cols[f"after {name}"] = [v if a else None for v, a in zip(vals, after, strict=True)]
+            cols[f"after {name}"] = num_list(np.where(after, arr, np.nan))
             columns.append(f"after {name}")
     columns.append("signals")
     if sec is not None:
@@ -943,18 +964,13 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
                 ("LCL", own_sec.lower),
                 ("UCL", own_sec.upper),
             ):
-                vals = [v if a else None for v, a in zip(num_list(arr), after, strict=True)]
-                cols[f"after {abbr} {name}"] = pad + vals
+                cols[f"after {abbr} {name}"] = pad + num_list(np.where(after, arr, np.nan))
                 columns.append(f"after {abbr} {name}")
     cols[x_col] = ctx.x
     if has_stage:
         cols["phase"] = ctx.stage
-    cols["used for limits"] = ["yes" if f else "no" for f in fitted.tolist()]
-    cols["signals"] = [
-        "; ".join(marked.get(i, []) + sec_marked.get(i, [])) if i in marked or i in sec_marked
-        else ""
-        for i in range(n)
-    ]
+    cols["used for limits"] = _NO_YES[fitted.astype(np.intp)].tolist()
+    cols["signals"] = _signal_column(n, marked, sec_marked)
     return ColumnTable(columns, cols), tuple(columns)
 
 
