@@ -119,7 +119,7 @@ def test_plain_times_take_the_bulk_path_with_the_same_positions():
         assert xa.pos == [time_text(s) for s in xs]
         mids = [xa.pos[0]] + [utc_text(dts[i - 1] + (dts[i] - dts[i - 1]) / 2)
                               for i in range(1, len(xs))] + [xa.pos[-1]]
-        assert xa._midpoints() == mids
+        assert xa.midpoints() == mids
         assert xa.has_seconds() == any(d.second for d in dts)
         assert xa.in_range(xs[1]) and not xa.in_range("2030-01-01")
     odd = ("2026-01-05T06:00+02:00", "2026-01-05T07:00Z")
