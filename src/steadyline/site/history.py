@@ -58,72 +58,72 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     return rows
 
 
-def history_page(spec: ProjectSpec, analyses: list[MetricAnalysis], files: dict[str, bytes],
-                 ctx: dict, project_ctx: dict,
-                 contexts: dict[int, SeriesContext] | None = None) -> tuple[str, list[dict]]:
-    """The history page and its results.json entries; ``contexts`` holds the series layouts
-    the project page made, by id() of the analysis (made again when missing)."""
-    sections, results = [], []
-    for a in analyses:
-        m = a.spec
-        d = Displays(spec.slug, m.id, files, prefix="history-")
-        result: dict = {"id": m.id, "name": m.name}
-        if a.control is not None and a.data.kind != "categories":
-            sctx = (contexts or {}).get(id(a)) or series_context(a, spec)
-            own = a.after_limits is not None
-            # Points are judged against the baseline limits carried forward (a.signals): the
-            # question on this page is whether the after data still fits the old process.
-            chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals)
-            d.add("staged-control", "Control chart by phase", chart,
-                  method=("Baseline limits carried forward over the later points (dashed), and "
-                          "the after phase's own centre line and limits over the after phase "
-                          "(solid). Signals are judged against the baseline limits, so they "
-                          "show where the after data no longer fits the old process."
-                          if own else
-                          "Baseline limits carried forward over the later points (dashed); "
-                          "signals are judged against them, so they show where the after data "
-                          "no longer fits the old process. The after phase has too few points "
-                          "for limits of its own."))
-            staged = {"own_after_limits": own, "chart": a.control,
-                      "signals": signals_json(a.signals, a.x)}
-            if own:
-                staged["after_chart"] = a.after_limits
-            result["staged_control_chart"] = staged
-        if len(a.phase_boxes) > 1:
-            chart = box_chart(a.phase_boxes, unit=m.unit)
-            d.add("phase-box", "Box plots by phase", chart,
-                  method="Both phases on one scale; quartiles by "
-                         f"{a.phase_boxes[0][1].method_label}.")
-            result["box_plots"] = dict(a.phase_boxes)
-        caps = []
-        for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
-            chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
-                                    target=m.target, title=f"{m.name}, {name.lower()}")
-            key = f"histogram-{name.lower().replace(' ', '-')}"
-            d.add(key, f"Histogram, {name.lower()}", chart,
-                  method="Same bin edges in every phase.")
-            if c is not None:
-                caps.append({"phase": name, "rows": capability_rows(c, m.unit),
-                             "trustworthy": c.trustworthy, "reasons": list(c.reasons)})
-        if len(a.phase_histograms) > 1:
-            result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
-            result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
-        if len(a.phase_paretos) > 1:
-            chart = phase_pareto_chart(a.phase_paretos)
-            d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
-                  method="Categories keep the baseline's order in every phase, so shrinking "
-                         "bars show which causes the improvement removed.")
-            result["paretos"] = dict(a.phase_paretos)
-        if a.comparison is not None:
-            result["comparison"] = a.comparison
-        if a.after_shift is not None:
-            result["sustained_shift"] = bool(a.after_shift.signals)
-        sections.append({"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-                         "comparison": comparison_rows(a),
-                         "sentence": a.comparison.sentence if a.comparison else "",
-                         "improved": a.comparison.improved if a.comparison else None,
-                         "capabilities": caps})
-        results.append(result)
-    html = render("history.html", project=project_ctx, timeline=timeline(spec),
+def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
+                    sctx: SeriesContext | None = None) -> tuple[dict, dict]:
+    """One metric's section of the history page and its results.json entry; ``sctx`` is the
+    series layout the project page made (made again when not given)."""
+    m = a.spec
+    d = Displays(spec.slug, m.id, files, prefix="history-")
+    result: dict = {"id": m.id, "name": m.name}
+    if a.control is not None and a.data.kind != "categories":
+        sctx = sctx or series_context(a, spec)
+        own = a.after_limits is not None
+        # Points are judged against the baseline limits carried forward (a.signals): the
+        # question on this page is whether the after data still fits the old process.
+        chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals)
+        d.add("staged-control", "Control chart by phase", chart,
+              method=("Baseline limits carried forward over the later points (dashed), and "
+                      "the after phase's own centre line and limits over the after phase "
+                      "(solid). Signals are judged against the baseline limits, so they "
+                      "show where the after data no longer fits the old process."
+                      if own else
+                      "Baseline limits carried forward over the later points (dashed); "
+                      "signals are judged against them, so they show where the after data "
+                      "no longer fits the old process. The after phase has too few points "
+                      "for limits of its own."))
+        staged = {"own_after_limits": own, "chart": a.control,
+                  "signals": signals_json(a.signals, a.x)}
+        if own:
+            staged["after_chart"] = a.after_limits
+        result["staged_control_chart"] = staged
+    if len(a.phase_boxes) > 1:
+        chart = box_chart(a.phase_boxes, unit=m.unit)
+        d.add("phase-box", "Box plots by phase", chart,
+              method="Both phases on one scale; quartiles by "
+                     f"{a.phase_boxes[0][1].method_label}.")
+        result["box_plots"] = dict(a.phase_boxes)
+    caps = []
+    for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
+        chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
+                                target=m.target, title=f"{m.name}, {name.lower()}")
+        key = f"histogram-{name.lower().replace(' ', '-')}"
+        d.add(key, f"Histogram, {name.lower()}", chart,
+              method="Same bin edges in every phase.")
+        if c is not None:
+            caps.append({"phase": name, "rows": capability_rows(c, m.unit),
+                         "trustworthy": c.trustworthy, "reasons": list(c.reasons)})
+    if len(a.phase_histograms) > 1:
+        result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
+        result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
+    if len(a.phase_paretos) > 1:
+        chart = phase_pareto_chart(a.phase_paretos)
+        d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
+              method="Categories keep the baseline's order in every phase, so shrinking "
+                     "bars show which causes the improvement removed.")
+        result["paretos"] = dict(a.phase_paretos)
+    if a.comparison is not None:
+        result["comparison"] = a.comparison
+    if a.after_shift is not None:
+        result["sustained_shift"] = bool(a.after_shift.signals)
+    section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
+               "comparison": comparison_rows(a),
+               "sentence": a.comparison.sentence if a.comparison else "",
+               "improved": a.comparison.improved if a.comparison else None,
+               "capabilities": caps}
+    return section, result
+
+
+def history_page(spec: ProjectSpec, sections: list[dict], ctx: dict, project_ctx: dict) -> str:
+    """The history page, from its metrics' sections."""
+    return render("history.html", project=project_ctx, timeline=timeline(spec),
                   metrics=sections, **ctx)
-    return html, results

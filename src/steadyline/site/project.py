@@ -37,7 +37,7 @@ from .cards import (
     signals_json,
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
-from .history import history_page
+from .history import history_page, history_section
 from .notes import render_notes
 from .serialise import dumps_bytes, plain
 from .templates import render
@@ -98,9 +98,9 @@ def periods_text(a: MetricAnalysis) -> str:
 
 def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes],
                    metric_problems: list[Problem],
-                   contexts: dict[int, SeriesContext] | None = None) -> tuple[dict, dict]:
-    """The page section and the results.json entry of one metric. ``contexts`` collects the
-    metric's series layout by id() of the analysis, for the history page to reuse."""
+                   ctx: SeriesContext | None = None) -> tuple[dict, dict]:
+    """The page section and the results.json entry of one metric; ``ctx`` is its series layout
+    (made here when not given)."""
     m = a.spec
     d = Displays(spec.slug, m.id, files)
     unit = m.unit
@@ -119,9 +119,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     open_signals = 0
     baseline_signals = 0  # signals that start in the baseline (the rest mostly show the change)
     if a.data.kind != "categories":
-        ctx = series_context(a, spec)
-        if contexts is not None:
-            contexts[id(a)] = ctx
+        ctx = ctx or series_context(a, spec)
         pts = a.data.points
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
                             "value": pts["value"].to_numpy(float),
@@ -336,15 +334,23 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     files: dict[str, bytes] = {}
     analyses, problems = _load_and_analyse(spec, warnings, settings)
     sections, results = [], []
-    contexts: dict[int, SeriesContext] = {}
+    has_history = any(a.has_after or a.phase_paretos for a in analyses)
+    history_sections, history_results = [], []
+    # Each metric's history section is made right after its project section: the history
+    # page's charts share work with the project page's (see charts.series), and only one
+    # metric's worth of it is held at a time.
     for a in analyses:
         mp = [p for p in problems if p.path == a.spec.file_rel]
-        section, result = metric_section(a, spec, files, mp, contexts)
+        sctx = series_context(a, spec) if a.data.kind != "categories" else None
+        section, result = metric_section(a, spec, files, mp, sctx)
         sections.append(section)
         results.append(result)
+        if has_history:
+            section, result = history_section(spec, a, files, sctx)
+            history_sections.append(section)
+            history_results.append(result)
     notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
     prov = provenance(spec, root, dates)
-    has_history = any(a.has_after or a.phase_paretos for a in analyses)
     ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
     project_ctx = project_view(spec)
     page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
@@ -353,9 +359,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     files["index.html"] = html.encode()
     history = None
     if has_history:
-        history_html, history_results = history_page(spec, analyses, files, ctx, project_ctx,
-                                                       contexts)
-        files["history.html"] = history_html.encode()
+        files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
     doc = {
         "schema": RESULTS_SCHEMA, "tool_version": __version__,
