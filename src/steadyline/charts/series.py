@@ -18,6 +18,7 @@ from .base import (
     XAxis,
     band_layers,
     band_rows,
+    by_identity,
     cached_template,
     disp,
     disp_list,
@@ -282,24 +283,33 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 # ------------------------------------------------------------------------------------------------
 
 
-_MARKED_MEMO: list = []  # [(signals, count, n, offset, with secondary, result)], the last few
-
-
+@by_identity(4)
 def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) -> tuple:
-    """Signal texts per point of the main and the companion chart. The project page's and the
-    history page's control charts of a metric mark the same signals: the answer for the last
-    few signal lists (held here, so compared by identity) is reused."""
-    for memo_signals, count, memo_n, memo_offset, memo_sec, result in _MARKED_MEMO:
-        if (memo_signals is signals and count == len(signals) and memo_n == n
-                and memo_offset == offset and memo_sec == has_sec):
-            return result
+    """Signal texts per point of the main and the companion chart (the project page's and the
+    history page's control charts of a metric mark the same signals)."""
     main_signals = [s for s in signals if s.chart != "secondary"]
     sec_signals = [s for s in signals if s.chart == "secondary"]
-    result = (_signal_text(main_signals, n),
-              _signal_text(sec_signals, n, offset) if has_sec else {})
-    _MARKED_MEMO.insert(0, (signals, len(signals), n, offset, has_sec, result))
-    del _MARKED_MEMO[8:]
-    return result
+    return (_signal_text(main_signals, n),
+            _signal_text(sec_signals, n, offset) if has_sec else {})
+
+
+@by_identity(4)
+def _marked_codes(marked: dict[int, list[str]], n: int) -> tuple[np.ndarray, list[str]]:
+    """The signal texts of ``marked`` joined per point, as a code per point (0: none) into a
+    list of the distinct texts (code c is texts[c - 1])."""
+    codes = np.zeros(n, dtype=np.int64)
+    distinct: dict[str, int] = {}
+    put = distinct.setdefault
+    if marked:
+        codes[np.fromiter(marked, dtype=np.int64, count=len(marked))] = [
+            put("; ".join(texts), len(distinct) + 1) for texts in marked.values()]
+    return codes, list(distinct)
+
+
+@by_identity(4)
+def _shown(values) -> list:
+    """:func:`disp_list` of a chart's values (both pages draw the same arrays)."""
+    return disp_list(values)
 
 
 def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
@@ -415,7 +425,7 @@ def _series_rows(
     first use, point by point; the work is done per distinct (phase, used for limits) pair and
     per point in a signal, not per point."""
     arr = np.asarray(values, dtype=float).ravel()
-    vals = disp_list(arr)
+    vals = _shown(values) if isinstance(values, np.ndarray) else disp_list(arr)
     kp = np.flatnonzero(np.isfinite(arr))  # the points drawn, in order
     if not len(kp):
         return _Series([], [], [], [], None if info is None else [])
@@ -428,29 +438,20 @@ def _series_rows(
     groups = np.concatenate([[0], np.cumsum(new)]).tolist()
     idx = ip.tolist()
 
-    # point keys: (phase, used for limits, signals); a point in a signal has a key of its own
+    # point keys: (phase, used for limits, signals), coded per point as one number
     names, stage_code = _stage_codes(ctx.stage)
     fit = None if fitted is None else np.asarray(fitted, dtype=bool)[kp]
-    pair = stage_code[ip] * 3 + (2 if fit is None else fit.astype(np.int64))
-    in_signal = np.zeros(len(kp), dtype=bool)
-    if marked:
-        flag = np.zeros(len(ctx.x), dtype=bool)
-        flag[list(marked)] = True
-        in_signal = flag[ip]
-    plain = np.flatnonzero(~in_signal)
-    first = [(int(plain[p]), c) for p, c in _first_use(pair[plain])]
-    first += [(p, -1) for p in np.flatnonzero(in_signal).tolist()]
-    point_key = np.zeros(len(kp), dtype=np.int64)
-    key_of_pair = np.zeros(len(names) * 3, dtype=np.int64)
-    for p, c in sorted(first):
-        if c < 0:
-            i = idx[p]
-            point_key[p] = keys.key(ctx.stage[i], None if fit is None else bool(fit[p]),
-                                    "; ".join(marked[i]))
-        else:
-            s, f = divmod(c, 3)
-            key_of_pair[c] = keys.key(names[s], None if f == 2 else bool(f), "")
-    point_key[plain] = key_of_pair[pair[plain]]
+    text_code, texts = _marked_codes(marked, len(ctx.x))
+    width = len(texts) + 1
+    code = (stage_code[ip] * 3 + (2 if fit is None else fit.astype(np.int64))) * width
+    code += text_code[ip]
+    distinct, first, point_key = np.unique(code, return_index=True, return_inverse=True)
+    key_of = np.zeros(len(distinct), dtype=np.int64)
+    for j in np.argsort(first, kind="stable").tolist():  # in order of first use
+        pair, t = divmod(int(distinct[j]), width)
+        s, f = divmod(pair, 3)
+        key_of[j] = keys.key(names[s], None if f == 2 else bool(f), texts[t - 1] if t else "")
+    point_key = key_of[point_key.ravel()]
 
     lim = None
     if info is not None:
@@ -601,6 +602,7 @@ def _limit_rows(
     return rows, labels
 
 
+@by_identity(4)
 def _limits_info(chart: ControlChart) -> _Coded:
     """Per point, the limits there as text ("LCL 1.2, CL 3.4, UCL 5.6"), each distinct
     combination written once."""
