@@ -9,6 +9,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from ..memo import by_identity
 from ..stats.results import ControlChart, RunChartAnalysis, Signal
 from . import style, vl
 from .base import (
@@ -18,7 +19,6 @@ from .base import (
     XAxis,
     band_layers,
     band_rows,
-    by_identity,
     cached_template,
     disp,
     disp_list,
@@ -916,7 +916,12 @@ def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int, parts: _Part
 
 _NO_YES = np.array(["no", "yes"], dtype=object)
 
+# The project page's control chart and the history page's staged one have most table columns in
+# common: they are made once (the same list objects), so the CSV and HTML cells made from them
+# are too (site.cards).
 
+
+@by_identity(16)
 def _signal_column(n: int, *marked: dict[int, list[str]]) -> list[str]:
     """The table's "signals" cell per point: the texts of the points in signals, joined."""
     out = [""] * n
@@ -925,12 +930,22 @@ def _signal_column(n: int, *marked: dict[int, list[str]]) -> list[str]:
     return out
 
 
+@by_identity(16)
+def _table_numbers(values, pad: int = 0) -> list[float | None]:
+    """:func:`num_list` of a chart's array, after ``pad`` empty cells."""
+    return [None] * pad + num_list(values) if pad else num_list(values)
+
+
+@by_identity(4)
+def _yes_no(fitted) -> list[str]:
+    return _NO_YES[np.asarray(fitted, dtype=bool).astype(np.intp)].tolist()
+
+
 def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None):
     n = len(ctx.x)
     sec = chart.secondary
     x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
-    fitted = np.asarray(chart.fitted, dtype=bool)
     abbr = _SECONDARY_SHORT.get(sec.kind, sec.label) if sec is not None else ""
     columns: list[str] = [x_col]
     if has_stage:
@@ -940,11 +955,11 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     columns += ["value", "centre line", "LCL", "UCL", "used for limits"]
     cols: dict[str, list] = {}
     if chart.sizes is not None:
-        cols["subgroup size"] = num_list(chart.sizes)
-    cols["value"] = num_list(chart.values)
-    cols["centre line"] = num_list(chart.centre)
-    cols["LCL"] = num_list(chart.lower)
-    cols["UCL"] = num_list(chart.upper)
+        cols["subgroup size"] = _table_numbers(chart.sizes)
+    cols["value"] = _table_numbers(chart.values)
+    cols["centre line"] = _table_numbers(chart.centre)
+    cols["LCL"] = _table_numbers(chart.lower)
+    cols["UCL"] = _table_numbers(chart.upper)
     if own is not None:
         after = np.asarray(own.stage, dtype=int) == 1
         for name, arr in (("centre line", own.centre), ("LCL", own.lower), ("UCL", own.upper)):
@@ -954,10 +969,10 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     if sec is not None:
         pad = [None] * offset
         columns += [abbr, f"{abbr} centre line", f"{abbr} LCL", f"{abbr} UCL"]
-        cols[abbr] = pad + num_list(sec.values)
-        cols[f"{abbr} centre line"] = pad + num_list(sec.centre)
-        cols[f"{abbr} LCL"] = pad + num_list(sec.lower)
-        cols[f"{abbr} UCL"] = pad + num_list(sec.upper)
+        cols[abbr] = _table_numbers(sec.values, offset)
+        cols[f"{abbr} centre line"] = _table_numbers(sec.centre, offset)
+        cols[f"{abbr} LCL"] = _table_numbers(sec.lower, offset)
+        cols[f"{abbr} UCL"] = _table_numbers(sec.upper, offset)
         own_sec = own.secondary if own is not None else None
         if own_sec is not None and len(own_sec.values) == len(sec.values):
             after = _secondary_stage(own, offset) == 1
@@ -971,7 +986,7 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     cols[x_col] = ctx.x
     if has_stage:
         cols["phase"] = ctx.stage
-    cols["used for limits"] = _NO_YES[fitted.astype(np.intp)].tolist()
+    cols["used for limits"] = _yes_no(chart.fitted)
     cols["signals"] = _signal_column(n, marked, sec_marked)
     return ColumnTable(columns, cols), tuple(columns)
 

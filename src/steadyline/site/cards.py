@@ -16,6 +16,7 @@ from ..analysis import MetricAnalysis
 from ..charts import ChartSpec, SeriesContext
 from ..charts.base import ColumnTable
 from ..config import ProjectSpec
+from ..memo import by_identity
 from ..stats.compare import format_p_value
 from .serialise import Plain, compact_bytes, escape_for_script
 
@@ -167,13 +168,25 @@ def _plain_text_check(values) -> bool:
             and not any(map(_STARTS_FORMULA, values)))
 
 
+@by_identity(16)
+def _csv_column(values: list) -> list[str]:
+    """:func:`_csv_cells` of a table's column; a column shared by two tables is made once."""
+    return _csv_cells(values)
+
+
+@by_identity(16)
+def _html_column(values: list, n: int) -> list[str]:
+    """:func:`_html_cells` of a table's first ``n`` cells, made once for a shared column."""
+    return _html_cells(values[:n])
+
+
 def table_csv(chart: ChartSpec) -> bytes:
     """The chart's table as CSV (RFC 4180 quoting): numbers as they are, text cells made safe
     for spreadsheets."""
     cols = list(chart.columns)
     table = chart.table
     if isinstance(table, ColumnTable) and table.columns == tuple(cols):
-        columns = [_csv_cells(table.cols[c]) for c in cols]
+        columns = [_csv_column(table.cols[c]) for c in cols]
     else:
         columns = [_csv_cells(list(map(dict.get, table, repeat(c)))) for c in cols]
     lines = [",".join(_csv_field(safe_cell(c)) for c in cols)]
@@ -234,7 +247,7 @@ def table_body(table: list[dict], columns, limit: int) -> Markup:
     rows only."""
     if isinstance(table, ColumnTable) and table.columns == tuple(columns):
         n = min(limit, len(table))
-        cells = [_html_cells(table.cols[c][:n]) for c in columns]
+        cells = [_html_column(table.cols[c], n) for c in columns]
         rows = range(n)
     else:
         rows = table[:limit]
