@@ -91,7 +91,7 @@ def _csv_numbers(values: list) -> list[str]:
     distinct = set(values)
     if len(distinct) * 4 <= len(values):
         text = dict(zip(distinct, _csv_numbers(list(distinct)), strict=True))
-        return [text[v] for v in values]
+        return list(map(text.__getitem__, values))
     arr = np.array(values, dtype=float)  # None -> nan
     # orjson writes the same shortest digits as repr, in C; it places the decimal point or
     # writes the exponent differently where repr writes an exponent (below 1e-4 and from 1e16
@@ -121,6 +121,10 @@ def _csv_cells(values: list) -> list[str]:
         return _csv_numbers(values)
     if _plain_text_column(values):
         return values
+    if type(values) is list and set(map(type, values)) == _STR_ONLY:
+        # text cells (signals, labels), mostly repeated: each distinct text made safe once
+        text = {v: _csv_field(safe_cell(v)) for v in set(values)}
+        return list(map(text.__getitem__, values))
     out: list[str] = []
     add = out.append
     memo: dict[str, str] = {}
