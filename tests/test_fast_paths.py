@@ -225,3 +225,124 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
         pos = full.get_indexer(pd.DatetimeIndex(periods))
         assert (_segments_for_periods(periods, "day") ==
                 np.cumsum(np.diff(pos, prepend=pos[0]) > 1)).all()
+
+
+def test_plain_decimal_columns_read_by_numpy_match_pandas_and_the_careful_parse():
+    # reference: pandas.to_numeric and Python's float() through the one-cell parser _to_float
+    from steadyline.loading import _plain_decimals, _to_float
+
+    rng = np.random.default_rng(5)
+    cells = []
+    for _ in range(3000):
+        digits = "".join(rng.choice(list("0123456789"), rng.integers(1, 19)))
+        cut = int(rng.integers(0, len(digits) + 1))
+        text = digits[:cut] + "." + digits[cut:] if rng.random() < 0.8 else digits
+        if text == ".":
+            text = "0"
+        if rng.random() < 0.2:
+            text += f"e{int(rng.integers(-30, 30))}"
+        if rng.random() < 0.3:
+            text = rng.choice(["-", "+"]) + text
+        cells.append(text)
+    arr = np.array(cells, dtype=object)
+    got = _plain_decimals(arr)
+    assert got is not None
+    assert got.tolist() == [_to_float(c, ".") for c in cells]
+    import pandas as pd
+
+    # pandas agrees except on some cells with a leading "+", where its parse is one unit in
+    # the last place off (seen with pandas 3); float() is correctly rounded
+    unsigned = [not c.startswith("+") for c in cells]
+    pandas_values = pd.to_numeric(pd.Series(cells)).to_numpy(dtype=float)
+    assert np.array_equal(got[unsigned], pandas_values[unsigned])
+    assert got.tolist() == [float(c) for c in cells]
+    # anything else is left to the careful path
+    for odd in (["1", ""], ["1", "nan"], ["1", "inf"], ["1", "1,5"], ["1", "1_000"],
+                ["1", "\u0661"], ["1", "e5"], ["1", "1e"], ["1", "+-1"], ["1", " 2"]):
+        assert _plain_decimals(np.array(odd, dtype=object)) is None, odd
+
+
+def test_plain_iso_times_read_by_numpy_match_pandas():
+    # reference: pandas.to_datetime(format="ISO8601"), the parse the other paths use
+    import pandas as pd
+
+    from steadyline.loading import _plain_iso
+
+    rng = np.random.default_rng(9)
+    base = np.datetime64("2019-01-01T00:00:00")
+    stamps = base + rng.integers(0, 12 * 365 * 86400, 2000).astype("timedelta64[s]")
+    text = np.datetime_as_string(stamps, unit="s").tolist()
+    for cells in ([t[:10] for t in text], [t[:16] for t in text], text,
+                  [t[:10] + " " + t[11:16] for t in text], [t[:10] + " " + t[11:] for t in text]):
+        got = _plain_iso(np.array(cells, dtype=object))
+        assert got is not None
+        want = pd.to_datetime(pd.Series(cells), format="ISO8601").to_numpy()
+        assert np.array_equal(got.astype("datetime64[ns]"), want), cells[:2]
+    for odd in (["2026-01-05", "2026-1-05"], ["2026-01-05", "2026-01-05T10:00"],
+                ["2026-02-30"], ["2026-13-01"], ["2026-01-05T24:00"], ["2026-01-05T10:60"],
+                ["2026-01-05T10:00Z"], ["2026-01-05T10:00+01:00"], ["2026-01-05T10:00:00.5"],
+                ["2026/01/05"], ["2026-01-05x10:00"], ["05.01.2026"], ["\u0662026-01-05"],
+                ["2026-01-05", ""], ["NaT"], ["today"]):
+        assert _plain_iso(np.array(odd, dtype=object)) is None, odd
+
+
+def test_series_keys_in_bulk_match_numbering_point_by_point():
+    # reference: the keys numbered point by point in order of first use, as the chart's
+    # tooltips list them (a plain loop over the points)
+    from steadyline.charts.base import SeriesContext
+    from steadyline.charts.series import _Coded, _Keys, _series_rows
+
+    rng = np.random.default_rng(3)
+    for trial in range(20):
+        n = int(rng.integers(1, 300))
+        stage = tuple(rng.choice(["", "Baseline", "After"], n).tolist())
+        segment = tuple(np.cumsum(rng.random(n) < 0.05).tolist())
+        ctx = SeriesContext(x=tuple(str(i) for i in range(n)), x_is_time=False, stage=stage,
+                            segment=segment, unit="", metric_name="m")
+        offset = int(trial % 2) if n > 1 else 0
+        m = n - offset
+        values = rng.normal(size=m)
+        values[rng.random(m) < 0.1] = np.nan
+        fitted = rng.random(m) < 0.5 if trial % 3 else None
+        texts = ["beyond the limits", "8 in a row on one side", "2 of 3 beyond 2 sigma"]
+        marked = {int(i): sorted(set(rng.choice(texts, int(rng.integers(1, 3))).tolist()))
+                  for i in rng.choice(n, int(rng.integers(0, n // 3 + 1)), replace=False)}
+        info_codes = rng.integers(0, 4, m)
+        info_texts = ["LCL 1, CL 2, UCL 3", "CL 2", "LCL 1, CL 2, UCL 3", ""]
+        keys = _Keys()
+        got = _series_rows(ctx, values, marked, keys, offset=offset,
+                           info=_Coded(info_codes, info_texts), fitted=fitted)
+        point_keys: dict = {}
+        info_keys: dict = {}
+        want_k, want_i, want_idx = [], [], []
+        for k in range(m):
+            if not np.isfinite(values[k]):
+                continue
+            i = k + offset
+            t = (stage[i], None if fitted is None else bool(fitted[k]),
+                 "; ".join(marked[i]) if i in marked else "")
+            want_k.append(point_keys.setdefault(t, len(point_keys)))
+            want_i.append(info_keys.setdefault(info_texts[info_codes[k]], len(info_keys)))
+            want_idx.append(i)
+        assert got.idx == want_idx
+        assert got.k == want_k
+        assert got.lim == want_i
+        assert keys.points == point_keys and keys.limits == info_keys
+
+
+def test_memo_by_identity_tells_equal_objects_apart_and_forgets_old_ones():
+    from steadyline.memo import by_identity
+
+    calls = []
+
+    @by_identity(2)
+    def total(values, scale):
+        calls.append(1)
+        return float(np.sum(values)) * scale
+
+    a, b = np.ones(3), np.ones(3)  # equal, not the same object
+    assert total(a, 2) == 6.0 and total(a, 2) == 6.0 and len(calls) == 1
+    assert total(b, 2) == 6.0 and len(calls) == 2  # another object: computed again
+    assert total(a, 3) == 9.0 and len(calls) == 3  # another scale
+    total(a, 2)  # forgotten: only the last two are kept
+    assert len(calls) == 4
