@@ -346,3 +346,37 @@ def test_memo_by_identity_tells_equal_objects_apart_and_forgets_old_ones():
     assert total(a, 3) == 9.0 and len(calls) == 3  # another scale
     total(a, 2)  # forgotten: only the last two are kept
     assert len(calls) == 4
+
+
+def test_plain_reader_splitting_matches_pandas_reader():
+    # reference: pandas.read_csv (C engine, every cell as text), cells stripped as the careful
+    # reader strips them
+    import io
+
+    import pandas as pd
+
+    from steadyline.loading import _read_plain
+
+    texts = [
+        ("t,v\n2026-01-01,1.5\n2026-01-02,2\n", ","),
+        ("t,v\r\n2026-01-01,1.5\r\n2026-01-02,-2e3\r\n", ","),
+        ("t,v\n2026-01-01,1.5\n2026-01-02,2", ","),
+        ("t;v;w\n2026-01-01; 1,5 ;x\n2026-01-02;2;\u00e9t\u00e9\n", ";"),
+        ("t\tv\n2026-01-01\t1.5\n2026-01-02\t\n", "\t"),
+        ("t|v\n a |b\n", "|"),
+        ("v\n1\n2\n3\n", ","),
+        ("t,v\n2026-01-01,\u00a01.5\u2003\n2026-01-02,,\n", ","),  # last row too long
+    ]
+    for text, delim in texts:
+        got = _read_plain(text, delim)
+        header = [h.strip() for h in text.split("\n", 1)[0].rstrip("\r").split(delim)]
+        if text.count("\n") and all(line.count(delim) == len(header) - 1
+                                    for line in text.rstrip("\n").split("\n")):
+            want = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
+                               engine="c", header=0, names=header)
+            want = want.apply(lambda c: c.str.strip())
+            want.index = np.arange(2, len(want) + 2)
+            assert got is not None, text
+            pd.testing.assert_frame_equal(got, want)
+        else:
+            assert got is None, text

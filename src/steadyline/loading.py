@@ -146,6 +146,9 @@ def _complete_rows(text: str, delim: str, width: int) -> bool:
     return per_line.size == ends.size and bool((per_line == width - 1).all())
 
 
+_SPLIT_DELIMITERS = (",", ";", "|", "\t")
+
+
 def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     """Fast path for the common file: no quote marks, no blank lines, every row complete.
 
@@ -159,19 +162,36 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     header = [h.strip() for h in first.split(delim)]
     if "" in header or len(set(header)) != len(header):
         return None
-    try:
-        df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
-                         engine="c", skip_blank_lines=False, header=0, names=header)
-    except (pd.errors.ParserError, ValueError):
-        return None
     # every line complete (the same number of fields as the header): then no cell is missing
-    if len(df) == 0 or not _complete_rows(text, delim, len(header)):
+    if not _complete_rows(text, delim, len(header)):
         return None
+    if delim not in _SPLIT_DELIMITERS:
+        try:
+            df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
+                             engine="c", skip_blank_lines=False, header=0, names=header)
+        except (pd.errors.ParserError, ValueError):
+            return None
+        if len(df) == 0:
+            return None
+        if not text.isascii() or any(c in text for c in _ASCII_SPACES):
+            for c in df.columns:  # cells are stripped, as the careful reader strips them
+                df[c] = df[c].str.strip()
+        df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
+        return df
+    # No quote marks and every line complete: the cells are the text split at line ends and
+    # delimiters (quicker than pandas' reader, which gives the same table).
+    body = (text.replace("\r\n", "\n") if "\r" in text else text).partition("\n")[2]
+    if body.endswith("\n"):
+        body = body[:-1]
+    if not body:
+        return None
+    cells = body.replace("\n", delim).split(delim)
     if not text.isascii() or any(c in text for c in _ASCII_SPACES):
-        for c in df.columns:  # cells are stripped, as the careful reader strips them
-            df[c] = df[c].str.strip()
-    df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
-    return df
+        cells = [c.strip() for c in cells]  # as the careful reader strips them
+    width = len(header)
+    grid = np.array(cells, dtype=object).reshape(-1, width)
+    return pd.DataFrame({h: grid[:, j] for j, h in enumerate(header)},
+                        index=np.arange(2, len(grid) + 2), dtype=str)
 
 
 def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd.DataFrame | None:
