@@ -5,11 +5,13 @@ from __future__ import annotations
 import functools
 from collections.abc import Callable
 
-_SCALARS = (int, float, str, bool, type(None))
+# plain values compared by value; anything else by identity
+_SCALARS = frozenset((int, float, str, bool, type(None)))
 
 
-def _same(a, b) -> bool:
-    return a is b or (type(a) in _SCALARS and type(a) is type(b) and a == b)
+def _key(arg) -> object:
+    t = type(arg)
+    return (t, arg) if t in _SCALARS else id(arg)
 
 
 def by_identity(size: int) -> Callable:
@@ -21,19 +23,18 @@ def by_identity(size: int) -> Callable:
     are enough and memory stays bounded."""
 
     def decorate(fn: Callable) -> Callable:
-        memo: list[tuple[tuple, object]] = []
+        memo: dict[tuple, tuple[tuple, object]] = {}  # oldest first
 
         @functools.wraps(fn)
         def remembered(*args):
-            for i, (seen, result) in enumerate(memo):
-                if len(seen) == len(args) and all(map(_same, seen, args)):
-                    if i:
-                        memo.insert(0, memo.pop(i))
-                    return result
-            result = fn(*args)
-            memo.insert(0, (args, result))
-            del memo[size:]
-            return result
+            key = tuple(map(_key, args))
+            hit = memo.pop(key, None)
+            if hit is None:
+                hit = (args, fn(*args))
+                if len(memo) >= size:
+                    del memo[next(iter(memo))]
+            memo[key] = hit  # now the newest
+            return hit[1]
 
         remembered.cache_clear = memo.clear  # type: ignore[attr-defined]
         return remembered
