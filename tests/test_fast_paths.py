@@ -286,11 +286,18 @@ def test_plain_iso_times_read_by_numpy_match_pandas():
         assert _plain_iso(np.array(odd, dtype=object)) is None, odd
 
 
-def test_series_keys_in_bulk_match_numbering_point_by_point():
-    # reference: the keys numbered point by point in order of first use, as the chart's
-    # tooltips list them (a plain loop over the points)
+def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
+    # reference: the signal texts gathered and the keys numbered point by point in order of
+    # first use, as the chart's tooltips list them (a plain loop over the points)
     from steadyline.charts.base import SeriesContext
-    from steadyline.charts.series import _Coded, _Keys, _series_rows
+    from steadyline.charts.series import (
+        _Coded,
+        _Keys,
+        _series_rows,
+        _signal_column,
+        _signal_text,
+    )
+    from steadyline.stats.results import Signal
 
     rng = np.random.default_rng(3)
     for trial in range(20):
@@ -305,12 +312,34 @@ def test_series_keys_in_bulk_match_numbering_point_by_point():
         values[rng.random(m) < 0.1] = np.nan
         fitted = rng.random(m) < 0.5 if trial % 3 else None
         texts = ["beyond the limits", "8 in a row on one side", "2 of 3 beyond 2 sigma"]
-        marked = {int(i): sorted(set(rng.choice(texts, int(rng.integers(1, 3))).tolist()))
-                  for i in rng.choice(n, int(rng.integers(0, n // 3 + 1)), replace=False)}
+        signals = []
+        for _ in range(int(rng.integers(0, 12))):
+            start = int(rng.integers(-offset, n))
+            idx = tuple(range(start, min(n + 2, start + int(rng.integers(1, 9)))))
+            signals.append(Signal(rule="r", description=str(rng.choice(texts)), indices=idx,
+                                  side=None, chart="main"))
+        # the descriptions per point, signal by signal, as a plain loop lists them
+        marked: dict[int, list[str]] = {}
+        for sig in signals:
+            for j in sig.indices:
+                if 0 <= j + offset < n and sig.description not in marked.get(j + offset, []):
+                    marked.setdefault(j + offset, []).append(sig.description)
+        marks = _signal_text(signals, n, offset)
+        assert [marks.texts[c - 1] if c else "" for c in marks.codes.tolist()] == [
+            "; ".join(marked.get(i, [])) for i in range(n)]
+        # the table's column joins the main chart's texts and the companion's
+        other = _signal_text(signals[::-1], n)
+        other_marked: dict[int, list[str]] = {}
+        for sig in signals[::-1]:
+            for j in sig.indices:
+                if 0 <= j < n and sig.description not in other_marked.get(j, []):
+                    other_marked.setdefault(j, []).append(sig.description)
+        assert _signal_column(n, marks, other) == [
+            "; ".join(marked.get(i, []) + other_marked.get(i, [])) for i in range(n)]
         info_codes = rng.integers(0, 4, m)
         info_texts = ["LCL 1, CL 2, UCL 3", "CL 2", "LCL 1, CL 2, UCL 3", ""]
         keys = _Keys()
-        got = _series_rows(ctx, values, marked, keys, offset=offset,
+        got = _series_rows(ctx, values, marks, keys, offset=offset,
                            info=_Coded(info_codes, info_texts), fitted=fitted)
         point_keys: dict = {}
         info_keys: dict = {}

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+import itertools
 import math
 from collections.abc import Sequence
 from typing import NamedTuple
@@ -283,6 +284,13 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 # ------------------------------------------------------------------------------------------------
 
 
+class _Coded(NamedTuple):
+    """A text per point, held as a code per point into a list of texts."""
+
+    codes: np.ndarray
+    texts: list[str]
+
+
 @by_identity(4)
 def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) -> tuple:
     """Signal texts per point of the main and the companion chart (the project page's and the
@@ -290,20 +298,7 @@ def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) 
     main_signals = [s for s in signals if s.chart != "secondary"]
     sec_signals = [s for s in signals if s.chart == "secondary"]
     return (_signal_text(main_signals, n),
-            _signal_text(sec_signals, n, offset) if has_sec else {})
-
-
-@by_identity(4)
-def _marked_codes(marked: dict[int, list[str]], n: int) -> tuple[np.ndarray, list[str]]:
-    """The signal texts of ``marked`` joined per point, as a code per point (0: none) into a
-    list of the distinct texts (code c is texts[c - 1])."""
-    codes = np.zeros(n, dtype=np.int64)
-    distinct: dict[str, int] = {}
-    put = distinct.setdefault
-    if marked:
-        codes[np.fromiter(marked, dtype=np.int64, count=len(marked))] = [
-            put("; ".join(texts), len(distinct) + 1) for texts in marked.values()]
-    return codes, list(distinct)
+            _signal_text(sec_signals, n, offset) if has_sec else _signal_text((), n))
 
 
 @by_identity(4)
@@ -312,21 +307,40 @@ def _shown(values) -> list:
     return disp_list(values)
 
 
-def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> dict[int, list[str]]:
-    """Per point, the descriptions of the signals it takes part in (callers do not change the
-    lists)."""
-    per_point: dict[int, list[str]] = {}
-    get = per_point.get
-    for s in signals:
-        d = s.description
-        idx = np.asarray(s.indices, dtype=np.int64) + offset
-        for j in idx[(idx >= 0) & (idx < n)].tolist():
-            texts = get(j)
-            if texts is None:
-                per_point[j] = [d]
-            elif d not in texts:
-                texts.append(d)
-    return per_point
+def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> _Coded:
+    """Per point, the descriptions of the signals it takes part in, joined by "; " in the
+    order of the first signal naming each; as a code per point (0: in no signal) into the
+    distinct texts (code c is ``texts[c - 1]``). Worked out for all points at once: a
+    description per (point, signal) pair, the first of each (point, description) kept, and
+    the distinct sequences of descriptions found as the distinct rows of a table."""
+    codes = np.zeros(n, dtype=np.int64)
+    lengths = [len(s.indices) for s in signals]
+    if not sum(lengths):
+        return _Coded(codes, [])
+    names: dict[str, int] = {}
+    desc = np.array([names.setdefault(s.description, len(names)) for s in signals])
+    pos = np.fromiter(itertools.chain.from_iterable(s.indices for s in signals),
+                      dtype=np.int64, count=sum(lengths)) + offset
+    order = np.repeat(np.arange(len(signals)), lengths)
+    inside = (pos >= 0) & (pos < n)
+    pos, order = pos[inside], order[inside]
+    if not pos.size:
+        return _Coded(codes, [])
+    by_point = np.lexsort((order, pos))  # by point, then by signal
+    pos, d = pos[by_point], desc[order[by_point]]
+    # the first pair of each (point, description): the earliest signal naming it there
+    _, first = np.unique(pos * len(names) + d, return_index=True)
+    first.sort()
+    pos, d = pos[first], d[first]
+    starts = np.flatnonzero(np.concatenate([[True], pos[1:] != pos[:-1]]))
+    rank = np.arange(pos.size) - np.repeat(starts, np.diff(np.append(starts, pos.size)))
+    table = np.full((starts.size, int(rank.max()) + 1), -1, dtype=np.int64)
+    table[np.repeat(np.arange(starts.size), np.diff(np.append(starts, pos.size))), rank] = d
+    rows, which = np.unique(table, axis=0, return_inverse=True)
+    listed = list(names)
+    texts = ["; ".join(listed[c] for c in row if c >= 0) for row in rows.tolist()]
+    codes[pos[starts]] = which.ravel() + 1
+    return _Coded(codes, texts)
 
 
 def _x_format(ctx: SeriesContext) -> str:
@@ -388,13 +402,6 @@ class _Series(NamedTuple):
     lim: list[int] | None
 
 
-class _Coded(NamedTuple):
-    """A text per point, held as a code per point into a list of texts."""
-
-    codes: np.ndarray
-    texts: list[str]
-
-
 @functools.lru_cache(maxsize=4)
 def _stage_codes(stage: tuple[str, ...]) -> tuple[tuple[str, ...], np.ndarray]:
     """The distinct phase names of a series in order of first appearance, and a code per point."""
@@ -414,7 +421,7 @@ def _first_use(codes: np.ndarray) -> list[tuple[int, int]]:
 def _series_rows(
     ctx: SeriesContext,
     values: Sequence,
-    marked: dict[int, list[str]],
+    marked: _Coded,
     keys: _Keys,
     offset: int = 0,
     info: _Coded | None = None,
@@ -441,7 +448,7 @@ def _series_rows(
     # point keys: (phase, used for limits, signals), coded per point as one number
     names, stage_code = _stage_codes(ctx.stage)
     fit = None if fitted is None else np.asarray(fitted, dtype=bool)[kp]
-    text_code, texts = _marked_codes(marked, len(ctx.x))
+    text_code, texts = marked
     width = len(texts) + 1
     code = (stage_code[ip] * 3 + (2 if fit is None else fit.astype(np.int64))) * width
     code += text_code[ip]
@@ -922,12 +929,22 @@ _NO_YES = np.array(["no", "yes"], dtype=object)
 
 
 @by_identity(16)
-def _signal_column(n: int, *marked: dict[int, list[str]]) -> list[str]:
-    """The table's "signals" cell per point: the texts of the points in signals, joined."""
-    out = [""] * n
-    for i in sorted(set().union(*marked)):
-        out[i] = "; ".join([t for m in marked for t in m.get(i, ())])
-    return out
+def _signal_column(n: int, *marked: _Coded) -> list[str]:
+    """The table's "signals" cell per point: the texts of the points in signals (of the main
+    chart, then of the companion), joined."""
+    joint = np.zeros(n, dtype=np.int64)
+    for m in marked:
+        joint = joint * (len(m.texts) + 1) + m.codes
+    distinct, where = np.unique(joint, return_inverse=True)
+    texts = []
+    for code in distinct.tolist():
+        parts = []
+        for m in reversed(marked):
+            code, c = divmod(code, len(m.texts) + 1)
+            if c:
+                parts.append(m.texts[c - 1])
+        texts.append("; ".join(reversed(parts)))
+    return np.array(texts, dtype=object)[where.ravel()].tolist()
 
 
 @by_identity(16)
