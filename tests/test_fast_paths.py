@@ -409,3 +409,17 @@ def test_plain_reader_splitting_matches_pandas_reader():
             pd.testing.assert_frame_equal(got, want)
         else:
             assert got is None, text
+
+
+def test_signal_texts_of_points_in_many_kinds_of_signal():
+    # reference: the plain loop of the test above; twenty descriptions on the same points take
+    # the table path (the sequence no longer fits one number)
+    from steadyline.charts.series import _signal_text
+    from steadyline.stats.results import Signal
+
+    signals = [Signal(rule="r", description=f"pattern {k}", indices=tuple(range(k % 3, 6)),
+                      side=None, chart="main") for k in range(20)]
+    marks = _signal_text(signals, 8)
+    want = ["; ".join(f"pattern {k}" for k in range(20) if k % 3 <= i) if i < 6 else ""
+            for i in range(8)]
+    assert [marks.texts[c - 1] if c else "" for c in marks.codes.tolist()] == want

@@ -326,7 +326,7 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> _Coded:
     pos, order = pos[inside], order[inside]
     if not pos.size:
         return _Coded(codes, [])
-    by_point = np.lexsort((order, pos))  # by point, then by signal
+    by_point = np.argsort(pos * len(signals) + order, kind="stable")  # by point, then signal
     pos, d = pos[by_point], desc[order[by_point]]
     # the first pair of each (point, description): the earliest signal naming it there
     _, first = np.unique(pos * len(names) + d, return_index=True)
@@ -334,11 +334,26 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> _Coded:
     pos, d = pos[first], d[first]
     starts = np.flatnonzero(np.concatenate([[True], pos[1:] != pos[:-1]]))
     rank = np.arange(pos.size) - np.repeat(starts, np.diff(np.append(starts, pos.size)))
-    table = np.full((starts.size, int(rank.max()) + 1), -1, dtype=np.int64)
-    table[np.repeat(np.arange(starts.size), np.diff(np.append(starts, pos.size))), rank] = d
-    rows, which = np.unique(table, axis=0, return_inverse=True)
+    # a point's descriptions in order, as one number: digit k (base: descriptions + 1) is
+    # the k-th description's code + 1
+    base = len(names) + 1
+    if base ** (int(rank.max()) + 1) < 2**62:
+        seq = np.add.reduceat((d + 1) * base ** rank, starts)
+        distinct, which = np.unique(seq, return_inverse=True)
+        rows = []
+        for number in distinct.tolist():
+            row = []
+            while number:
+                number, digit = divmod(number, base)
+                row.append(digit - 1)
+            rows.append(row)
+    else:  # more distinct descriptions than one number holds: the rows of a table
+        table = np.full((starts.size, int(rank.max()) + 1), -1, dtype=np.int64)
+        table[np.repeat(np.arange(starts.size), np.diff(np.append(starts, pos.size))), rank] = d
+        distinct, which = np.unique(table, axis=0, return_inverse=True)
+        rows = [[c for c in row if c >= 0] for row in distinct.tolist()]
     listed = list(names)
-    texts = ["; ".join(listed[c] for c in row if c >= 0) for row in rows.tolist()]
+    texts = ["; ".join(listed[c] for c in row) for row in rows]
     codes[pos[starts]] = which.ravel() + 1
     return _Coded(codes, texts)
 
