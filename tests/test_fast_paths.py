@@ -29,6 +29,10 @@ def test_csv_number_columns_match_the_cell_by_cell_writer():
     for seed in range(5):
         col = _values(seed)
         assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
+        # short columns are written cell by cell, long ones in bulk: the same text
+        for size in (1, 5, 31, 32, 33, 120):
+            assert _csv_cells(col[:size]) == [_csv_field(safe_cell(v)) for v in col[:size]]
+            assert _html_cells(col[:size]) == [str(escape(_cell(v))) for v in col[:size]]
 
 
 def test_csv_number_columns_match_repr_over_the_whole_float_range():

@@ -75,6 +75,8 @@ def _csv_field(text: str) -> str:
 
 
 _NUMBER_TYPES = frozenset((float, type(None)))
+# Shorter number columns are written cell by cell: numpy's cost per call outweighs the work.
+_BULK_MIN = 32
 
 
 def _number_column(values: list) -> bool:
@@ -90,7 +92,7 @@ def _csv_numbers(values: list) -> list[str]:
     merged by the set, are both written "0")."""
     distinct = set(values)
     if len(distinct) * 4 <= len(values):
-        text = dict(zip(distinct, _csv_numbers(list(distinct)), strict=True))
+        text = dict(zip(distinct, _csv_cells(list(distinct)), strict=True))
         return list(map(text.__getitem__, values))
     arr = np.array(values, dtype=float)  # None -> nan
     # orjson writes the same shortest digits as repr, in C; it places the decimal point or
@@ -117,7 +119,7 @@ def _csv_numbers(values: list) -> list[str]:
 def _csv_cells(values: list) -> list[str]:
     """One column of a CSV table: ``_csv_field(safe_cell(v))`` for each value, with the float
     case (most cells) written out inline: the same text, without two calls per cell."""
-    if _number_column(values):
+    if len(values) >= _BULK_MIN and _number_column(values):
         return _csv_numbers(values)
     if _plain_text_column(values):
         return values
@@ -223,7 +225,7 @@ def _html_numbers(values: list) -> list[str]:
 def _html_cells(values: list) -> list[str]:
     """One column of the page's data table as escaped cell texts (what autoescaped
     ``{{ _cell(v) }}`` writes); numbers, formatted by :func:`fmt`, need no escaping."""
-    if _number_column(values):
+    if len(values) >= _BULK_MIN and _number_column(values):
         return _html_numbers(values)
     if set(map(type, values)) == _STR_ONLY:  # dates, labels, phases, signals
         if _HTML_SPECIAL.search("".join(values)) is None:
