@@ -12,6 +12,7 @@ and the data rows attached under ``datasets``.
 from __future__ import annotations
 
 import functools
+import itertools
 import math
 import re
 from collections.abc import Callable, Collection, Hashable, Sequence
@@ -556,13 +557,12 @@ def x_encoding(is_time: bool, field: str = "x", title: str | None = None) -> dic
 
 def stage_runs(stages: Sequence[str]) -> list[tuple[int, int, str]]:
     """Contiguous runs of equal stage names as (first index, last index, name)."""
-    runs: list[tuple[int, int, str]] = []
-    start = 0
-    for i in range(1, len(stages) + 1):
-        if i == len(stages) or stages[i] != stages[start]:
-            runs.append((start, i - 1, stages[start]))
-            start = i
-    return runs
+    n = len(stages)
+    if not n:
+        return []
+    starts = [0] + [i for i, a, b in zip(itertools.count(1), stages, stages[1:]) if a != b]
+    ends = [i - 1 for i in starts[1:]] + [n - 1]
+    return [(a, b, stages[a]) for a, b in zip(starts, ends, strict=True)]
 
 
 def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
