@@ -7,6 +7,7 @@ import json
 import math
 
 import numpy as np
+import pytest
 from markupsafe import escape
 
 from steadyline.site.cards import _cell, _csv_cells, _csv_field, _html_cells, safe_cell
@@ -379,16 +380,25 @@ def test_memo_by_identity_tells_equal_objects_apart_and_forgets_old_ones():
     assert total(a, 3) == 9.0 and len(calls) == 3  # another scale
     total(a, 2)  # forgotten: only the last two are kept
     assert len(calls) == 4
+    from steadyline.memo import forget
+
+    forget()  # what the build does after each metric
+    total(a, 2)
+    assert len(calls) == 5
 
 
-def test_plain_reader_splitting_matches_pandas_reader():
+@pytest.mark.parametrize("split_max", [4_000_000, 0])  # split, and pandas' reader
+def test_plain_reader_splitting_matches_pandas_reader(split_max, monkeypatch):
     # reference: pandas.read_csv (C engine, every cell as text), cells stripped as the careful
     # reader strips them
     import io
 
     import pandas as pd
 
+    from steadyline import loading
     from steadyline.loading import _read_plain
+
+    monkeypatch.setattr(loading, "_SPLIT_MAX_CHARS", split_max)
 
     texts = [
         ("t,v\n2026-01-01,1.5\n2026-01-02,2\n", ","),

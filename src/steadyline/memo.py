@@ -14,6 +14,16 @@ def _key(arg) -> object:
     return (t, arg) if t in _SCALARS else id(arg)
 
 
+_MEMOS: list[dict] = []
+
+
+def forget() -> None:
+    """Drop every remembered answer (the build calls this after each metric, so nothing of one
+    metric is held while the next is made)."""
+    for memo in _MEMOS:
+        memo.clear()
+
+
 def by_identity(size: int) -> Callable:
     """Remember a pure function's last ``size`` answers, found again by the identity of its
     arguments (plain numbers and texts by value). The memo holds the arguments, so an id is not
@@ -24,6 +34,7 @@ def by_identity(size: int) -> Callable:
 
     def decorate(fn: Callable) -> Callable:
         memo: dict[tuple, tuple[tuple, object]] = {}  # oldest first
+        _MEMOS.append(memo)
 
         @functools.wraps(fn)
         def remembered(*args):

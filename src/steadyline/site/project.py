@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .. import __version__, advice
+from .. import __version__, advice, memo
 from ..analysis import MetricAnalysis, analyse
 from ..charts import (
     SeriesContext,
@@ -349,6 +349,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
             section, result = history_section(spec, a, files, sctx)
             history_sections.append(section)
             history_results.append(result)
+        memo.forget()
     notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
     prov = provenance(spec, root, dates)
     ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
