@@ -125,7 +125,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
     # labels are text already; read through numpy (iterating a pandas string column value by
     # value costs more than the rest of this function's bookkeeping)
     res.x = tuple(map(str, pts["label"].to_numpy(dtype=object).tolist()))
-    res.stage_names = tuple(STAGE_NAMES[int(s)] for s in stage)
+    res.stage_names = tuple(map(STAGE_NAMES.__getitem__, stage.tolist()))
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE
 
