@@ -303,7 +303,6 @@ def _chart_signals(
         pos = np.flatnonzero(in_block & ok)
         if pos.size == 0:
             continue
-        at = pos.tolist()  # plain ints, looked up by position in the block
         for key in keys:
             rule = _RULES[key]
             for idx, side in _find(rule, v[pos], z[pos], lo[pos], hi[pos]):
@@ -311,7 +310,7 @@ def _chart_signals(
                     Signal(
                         rule=key,
                         description=rule.description,
-                        indices=tuple([at[i] for i in idx]),
+                        indices=tuple(map(pos.item, idx)),
                         side=side,
                         chart=which,
                     )
