@@ -316,13 +316,15 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
     )
 
 
+@by_identity(4)  # the project and history pages' entries of a metric list the same signals
 def signals_json(signals, x) -> list[dict]:
+    # a Signal's texts are plain str (stats.results); x holds one text per point
+    at = x.__getitem__
     out = []
     for s in signals:
         idx = list(map(int, s.indices))
-        out.append(Plain(rule=str(s.rule), description=str(s.description), indices=idx,
-                         dates=[str(x[i]) for i in idx], side=s.side and str(s.side),
-                         chart=str(s.chart)))
+        out.append(Plain(rule=s.rule, description=s.description, indices=idx,
+                         dates=list(map(at, idx)), side=s.side, chart=s.chart))
     return out
 
 
