@@ -358,7 +358,9 @@ def individuals(
 # subgroup charts
 
 
-def _subgroups(subgroups: Sequence[Sequence[float]]) -> list[np.ndarray]:
+def _subgroups(subgroups: Sequence[Sequence[float]]) -> tuple[np.ndarray, np.ndarray]:
+    """The subgroups' sizes and all their values one subgroup after another; refuses empty
+    subgroups and values that are not finite numbers."""
     if isinstance(subgroups, np.ndarray) and subgroups.ndim == 2:
         groups = [np.asarray(r, dtype=float) for r in subgroups]
     elif isinstance(subgroups, list) and all(
@@ -371,15 +373,20 @@ def _subgroups(subgroups: Sequence[Sequence[float]]) -> list[np.ndarray]:
             raise StatsError("subgroups must be a list of sequences of numbers") from exc
     if not groups:
         raise StatsError("subgroup charts need at least one subgroup, got none")
-    bad = [i for i, g in enumerate(groups) if g.ndim != 1 or g.size == 0]
-    if bad:
-        raise StatsError(f"every subgroup needs at least one value; subgroup {bad[0]} is empty")
-    finite = np.isfinite(np.concatenate(groups))  # one pass over all values
+    if groups is not subgroups:  # the loader's arrays are one-dimensional (checked above)
+        bad = [i for i, g in enumerate(groups) if g.ndim != 1]
+        if bad:
+            raise StatsError(f"subgroup {bad[0]} is not a flat list of numbers")
+    sizes = np.fromiter(map(len, groups), dtype=int, count=len(groups))
+    if not sizes.all():
+        raise StatsError("every subgroup needs at least one value; subgroup "
+                         f"{int(np.argmin(sizes))} is empty")
+    flat = np.concatenate(groups)
+    finite = np.isfinite(flat)  # one pass over all values
     if not finite.all():
-        sizes = np.fromiter((g.size for g in groups), dtype=int, count=len(groups))
         i = int(np.searchsorted(np.cumsum(sizes), int(np.argmin(finite)), side="right"))
         raise StatsError(f"subgroup {i} holds a value that is not a finite number")
-    return groups
+    return sizes, flat
 
 
 @dataclass(frozen=True)
@@ -397,16 +404,14 @@ def _subgroup_chart(
     limits: str,
     sigma_multiple: float,
 ) -> ControlChart:
-    groups_data = _subgroups(subgroups)
-    m = len(groups_data)
+    sizes, flat = _subgroups(subgroups)
+    m = len(sizes)
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
-    sizes = np.array([g.size for g in groups_data], dtype=int)
     n = sizes.astype(float)
     multi = n >= 2
     # Per-subgroup means, ranges and standard deviations in a few vectorised passes (one Python
     # call per subgroup would dominate large files); subgroups are never empty (_subgroups).
-    flat = np.concatenate(groups_data) if m else np.zeros(0)
     starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]) if m else np.zeros(0, dtype=int)
     means = np.add.reduceat(flat, starts) / n if m else np.zeros(0)
     if spread == "range":
