@@ -127,3 +127,18 @@ def test_plain_times_take_the_bulk_path_with_the_same_positions():
                         metric_name="m")
     xa = XAxis(ctx)
     assert xa._stamps is None and xa.pos == ["2026-01-05T04:00:00Z", "2026-01-05T07:00:00Z"]
+
+
+def test_times_handed_over_by_the_maker_give_the_positions_read_from_the_text():
+    # reference: the same axis with the times read back from the ISO text (numpy's parse)
+    from steadyline.charts.base import XAxis
+
+    xs = ("2026-01-05", "2026-01-05T06:00:07", "2026-01-06T00:00:01", "2026-02-01")
+    stamps = np.array(xs, dtype="datetime64[s]")
+    kw = dict(x=xs, x_is_time=True, stage=("",) * 4, segment=(0,) * 4, unit="", metric_name="m")
+    read = XAxis(SeriesContext(**kw))
+    given = XAxis(SeriesContext(**kw, stamps=stamps))
+    assert given.pos == read.pos and given.midpoints() == read.midpoints()
+    assert given.has_seconds() == read.has_seconds()
+    # the stamps take no part in equality, so charts of equal series share their axis
+    assert SeriesContext(**kw, stamps=stamps) == SeriesContext(**kw)

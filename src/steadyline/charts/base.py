@@ -16,7 +16,7 @@ import itertools
 import math
 import re
 from collections.abc import Callable, Collection, Hashable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, date, datetime
 
 import numpy as np
@@ -36,6 +36,8 @@ class SeriesContext:
     unit:      e.g. "hours", "" if none.
     metric_name: the metric's display name.
     events:    (ISO date, label) pairs, drawn as labelled vertical rules on time-based charts.
+    stamps:    optionally, the times of x as naive datetime64[s] (UTC), when the maker has
+               them: the charts then need not read x back (not part of equality or hash).
     """
 
     x: tuple[str, ...]
@@ -45,6 +47,7 @@ class SeriesContext:
     unit: str
     metric_name: str
     events: tuple[tuple[str, str], ...] = ()
+    stamps: np.ndarray | None = field(default=None, compare=False, hash=False, repr=False)
 
     def __post_init__(self) -> None:
         n = len(self.x)
@@ -445,7 +448,9 @@ class XAxis:
         self._stamps: np.ndarray | None = None  # whole-second UTC times, when all are plain
         self._dts: list[datetime] | None = None
         if self.is_time:
-            self._stamps = _plain_stamps(ctx.x)
+            given = ctx.stamps
+            self._stamps = (given if given is not None and len(given) == self.n
+                            else _plain_stamps(ctx.x))
             if self._stamps is not None:
                 texts = np.datetime_as_string(self._stamps, unit="s").tolist()
                 self.pos = [x if _DATE_RE.match(x) else t + "Z"

@@ -304,12 +304,14 @@ class Displays:
 def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
     pts = a.data.points
     # ISO text to the second, midnight written as the date alone
-    stamps = np.datetime_as_string(pts["period"].to_numpy().astype("datetime64[s]"), unit="s")
+    seconds = pts["period"].to_numpy().astype("datetime64[s]")
+    stamps = np.datetime_as_string(seconds, unit="s")
     return SeriesContext(
         x=tuple(t[:10] if t.endswith("T00:00:00") else t for t in stamps.tolist()),
+        stamps=seconds,
         x_is_time=True,
         stage=a.stage_names,
-        segment=tuple(int(s) for s in pts["segment"]),
+        segment=tuple(pts["segment"].to_numpy(dtype=np.int64).tolist()),
         unit=a.spec.unit,
         metric_name=a.spec.name,
         events=tuple((e.date.isoformat(), e.label) for e in spec.events),
