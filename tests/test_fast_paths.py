@@ -194,6 +194,16 @@ def test_results_rounded_in_one_pass_equal_array_by_array():
     assert json.dumps(_batched(doc), allow_nan=False) == json.dumps(plain(doc), allow_nan=False)
 
 
+def test_a_result_met_twice_in_a_document_is_written_twice_the_same():
+    # reference: plain() converting each occurrence on its own
+    from steadyline.site.serialise import _batched
+    from steadyline.stats import individuals
+
+    chart = individuals(np.array(_values(1, 60)[:50], dtype=float) % 7.0)
+    doc = {"page": {"chart": chart}, "history": [{"chart": chart}, {"other": chart.secondary}]}
+    assert json.dumps(_batched(doc), allow_nan=False) == json.dumps(plain(doc), allow_nan=False)
+
+
 def test_rollup_by_sorted_runs_matches_pandas_groupby():
     # reference: pandas' groupby (sum, mean, count, size) on the same rows, and its date_range
     # for the missing days

@@ -52,16 +52,23 @@ def _array(a: np.ndarray) -> list:
     return _rounded(a.astype(float))
 
 
+# While a document is converted, the results (dataclasses) met so far, by id, with the object
+# itself kept so that its id stays its own: a result that appears twice in a document (the
+# history entry repeats the project entry's control chart) is converted once.
+_SEEN: dict[int, tuple[Any, Any]] | None = None
+
+
 def _batched(obj: Any) -> Any:
     """:func:`plain`, with every float array of the document rounded in one pass; the same
     result as rounding them one by one (the rounding is elementwise)."""
-    global _PENDING
+    global _PENDING, _SEEN
     outer, _PENDING = _PENDING, []
+    outer_seen, _SEEN = _SEEN, {}
     try:
         data = plain(obj)
         pending = _PENDING
     finally:
-        _PENDING = outer
+        _PENDING, _SEEN = outer, outer_seen
     if pending:
         values = _rounded(np.concatenate([x for _, x in pending]))
         start = 0
@@ -129,8 +136,15 @@ def plain(obj: Any) -> Any:
         return obj
     names = _DATACLASS_FIELDS.get(t)
     if names is not None:  # a dataclass met before: its fields, without the checks below
-        return {name: v if type(v) in _AS_IS else plain(v)
-                for name, v in zip(names, map(obj.__getattribute__, names), strict=True)}
+        if _SEEN is not None:
+            seen = _SEEN.get(id(obj))
+            if seen is not None:
+                return seen[1]
+        out = {name: v if type(v) in _AS_IS else plain(v)
+               for name, v in zip(names, map(obj.__getattribute__, names), strict=True)}
+        if _SEEN is not None:
+            _SEEN[id(obj)] = (obj, out)
+        return out
     if t is dict:
         return {k if type(k) is str else str(k): v if type(v) in _AS_IS else plain(v)
                 for k, v in obj.items()}
