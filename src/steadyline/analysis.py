@@ -161,7 +161,10 @@ def analyse(data: MetricData) -> MetricAnalysis:
             if len(sel) == 0:
                 continue
             name = STAGE_NAMES[st]
-            b = _try(res, "history", distribution.box_summary, sel, spec.quartiles)
+            if st == STAGE_BASELINE and res.box is not None:
+                b = res.box  # the same baseline values as the box plot above
+            else:
+                b = _try(res, "history", distribution.box_summary, sel, spec.quartiles)
             if b is not None:
                 res.phase_boxes.append((name, b))
             h = _try(res, "history", distribution.histogram, sel,

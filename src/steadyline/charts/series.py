@@ -301,6 +301,12 @@ def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) 
             _signal_text(sec_signals, n, offset) if has_sec else _signal_text((), n))
 
 
+# The phase bands and event rules of a series, the same on its run chart and both control
+# charts (the rows are not changed once made).
+_bands = by_identity(4)(band_rows)
+_events = by_identity(4)(event_rows)
+
+
 @by_identity(4)
 def _shown(values) -> list:
     """:func:`disp_list` of a chart's values (both pages draw the same arrays)."""
@@ -724,11 +730,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         "points": points,
         "point_info": keys.point_rows(),
         "centre": centre,
-        "bands": band_rows(xa, ctx.stage),
-        "events": event_rows(xa, ctx.events),
+        "bands": _bands(xa, ctx.stage),
+        "events": _events(xa, ctx.events),
     }
     values_map = {"y_title": titled(ctx.metric_name, ctx.unit)}
-    values_map.update(_x_values(ctx, xa))
+    values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
 
     rules = _RULE_SET_NAMES.get(analysis.rule_set, analysis.rule_set)
     facts = [median_text, f"longest run {analysis.longest_run}"]
@@ -764,6 +770,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
 
 
+@by_identity(4)
 def _x_values(ctx: SeriesContext, xa: XAxis) -> dict:
     if ctx.x_is_time:
         return {"x_format": _x_format(ctx)}
@@ -900,15 +907,15 @@ def _control_parts(
     datasets["point_info"] = keys.point_rows()
     datasets["limit_info"] = keys.limit_rows()
     datasets["limit_parts"] = parts.rows
-    datasets["bands"] = band_rows(xa, ctx.stage)
-    datasets["events"] = event_rows(xa, ctx.events)
+    datasets["bands"] = _bands(xa, ctx.stage)
+    datasets["events"] = _events(xa, ctx.events)
 
     unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
     main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
     values_map = {"y_title": titled(main_name, unit_main)}
     if sec is not None:
         values_map["y2_title"] = titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else "")
-    values_map.update(_x_values(ctx, xa))
+    values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     return datasets, values_map, marked, sec_marked, labels
 
 
