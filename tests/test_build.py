@@ -314,7 +314,7 @@ def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_
     assert hows == {"last commit", "file modification time"}
 
 
-def test_a_first_build_in_a_pool_started_early_matches_a_serial_build(tmp_path: Path,
+def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_build(tmp_path: Path,
                                                                        monkeypatch):
     # Enough projects for a pool, nothing published: the pool starts before the inputs are
     # hashed. Its site must be the one a build in this process writes.
@@ -328,8 +328,15 @@ def test_a_first_build_in_a_pool_started_early_matches_a_serial_build(tmp_path: 
     real = build_module._early_pool
     monkeypatch.setattr(build_module, "_early_pool",
                         lambda jobs: started.append(jobs) or real(jobs))
+    # a build of this many projects also flushes the staging folder while the workers write
+    flushed = []
+    real_syncfs = build_module.syncfs
+    monkeypatch.setattr(build_module, "FLUSH_EVERY_S", 0.01)
+    monkeypatch.setattr(build_module, "syncfs",
+                        lambda folder: flushed.append(folder) or real_syncfs(folder))
     pooled = build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
     assert started == [2]
+    assert flushed and all(".staging-" in f.name for f in flushed)
     serial = build(BuildOptions(projects, tmp_path / "serial", jobs=1))
     assert pooled.ok and serial.ok
     assert len(pooled.built) == len(SMALL) + build_module.BUILD_POOL_MIN

@@ -35,7 +35,7 @@ from ..config import PHASES, PortfolioSettings, discover, load_portfolio
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
 from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash, page_context
-from .publish import clean_stale, link_tree, publish, staging_dir, write_files
+from .publish import clean_stale, link_tree, publish, staging_dir, syncfs, write_files
 from .serialise import dumps_bytes
 from .templates import render, templates_fingerprint
 
@@ -249,7 +249,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         dates = _portfolio_git_dates(root, todo)
         tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name,
                   dates.get(f.name) if dates is not None else None) for f in todo]
-        outcomes = compute(tasks, jobs, progress, pool)
+        with _Flusher(staged if len(todo) >= FLUSH_WHILE_BUILDING_MIN else None):
+            outcomes = compute(tasks, jobs, progress, pool)
         if any(p.severity == "error" for p in portfolio_problems):
             # A broken portfolio.toml: its defaults are used and every project says so.
             for o in outcomes:
@@ -316,6 +317,42 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         raise
     report.written = True
     return report
+
+
+# From this many projects on, what the workers write is flushed to disk while they work, every
+# this many seconds.
+FLUSH_WHILE_BUILDING_MIN = 12
+FLUSH_EVERY_S = 1.0
+
+
+class _Flusher:
+    """While the workers write a large build into the staging folder, flush its file system to
+    disk every second (``syncfs``), so that the flush before the swap finds little left to do:
+    the disk writes overlap the computing instead of following it. Does nothing for a small
+    build (``folder`` None), or where the system has no ``syncfs``. A flush changes nothing of
+    what is written, only when it reaches the disk."""
+
+    def __init__(self, folder: Path | None):
+        self._folder = folder
+        self._stop = threading.Event()
+        self._thread: threading.Thread | None = None
+
+    def __enter__(self) -> _Flusher:
+        if self._folder is not None:
+            self._thread = threading.Thread(target=self._run, name="steadyline-flush",
+                                            daemon=True)
+            self._thread.start()
+        return self
+
+    def _run(self) -> None:
+        while not self._stop.wait(FLUSH_EVERY_S):
+            if not syncfs(self._folder):
+                return
+
+    def __exit__(self, *exc) -> None:
+        self._stop.set()
+        if self._thread is not None:
+            self._thread.join()
 
 
 def _link_reused(out: Path, staged: Path, projects: list[tuple[str, list[str]]]) -> None:
