@@ -231,7 +231,7 @@ def _find(
     rule: _Rule, v: np.ndarray, z: np.ndarray, lo: np.ndarray, hi: np.ndarray
 ) -> list[tuple[list[int], str | None]]:
     n = v.size
-    out: list[tuple[set[int], str | None]] = []
+    out: list[tuple[list[int], str | None]] = []
     if rule.test == "limits":
         with np.errstate(invalid="ignore"):
             above = ~np.isnan(hi) & (v > hi)
@@ -240,10 +240,11 @@ def _find(
         hits += [(i, "below") for i in np.flatnonzero(below).tolist()]
         return [([i], side) for i, side in sorted(hits)]
     if rule.test == "k-of-m":
+        # each group is sorted and without repeats already (_k_of_m): ordered by its first point
         for side, flags in (("above", z > rule.zone), ("below", z < -rule.zone)):
-            out += [(set(g), side) for g in _k_of_m(flags, rule.length, rule.count)]
-        out.sort(key=lambda item: min(item[0]))
-        return [(sorted(i), s) for i, s in out]
+            out += [(g, side) for g in _k_of_m(flags, rule.length, rule.count)]
+        out.sort(key=lambda item: item[0][0])
+        return out
     if rule.test == "run-side":
         res = []
         for side, flags in (("above", z > 0), ("below", z < 0)):
