@@ -227,8 +227,8 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
     chart = res.control
     stable, reason = True, None
     if chart is not None and stage == STAGE_BASELINE:
-        st = chart.stage
-        own = [s for s in res.signals if any(st[i] == stage for i in s.indices)]
+        here = (np.asarray(chart.stage) == stage).tolist()  # per point: in this period
+        own = [s for s in res.signals if any(map(here.__getitem__, s.indices))]
         if own:
             stable = False
             reason = (f"The control chart shows {len(own)} signal"
