@@ -350,7 +350,8 @@ _DECIMAL_TEXT = re.compile(r"[0-9.eE+-]*")
 def _plain_decimals(cells: np.ndarray) -> np.ndarray | None:
     """float() of every cell when the column's text holds only digits, points, signs and
     exponent letters and every cell is a number (what _NUMBER_RE accepts), else None. Python's
-    float() is correctly rounded, as pandas' parse is; numpy calls it in one loop."""
+    float() is correctly rounded (pandas' parse can be one unit in the last place off on a cell
+    with a leading "+"); numpy calls it in one loop."""
     if cells.dtype != object or not _DECIMAL_TEXT.fullmatch("".join(cells.tolist())):
         return None
     try:

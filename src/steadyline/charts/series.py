@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import functools
 import itertools
 import math
 from collections.abc import Sequence
@@ -423,7 +422,7 @@ class _Series(NamedTuple):
     lim: list[int] | None
 
 
-@functools.lru_cache(maxsize=4)
+@by_identity(4)
 def _stage_codes(stage: tuple[str, ...]) -> tuple[tuple[str, ...], np.ndarray]:
     """The distinct phase names of a series in order of first appearance, and a code per point."""
     names = tuple(dict.fromkeys(stage))
@@ -450,8 +449,8 @@ def _series_rows(
 ) -> _Series:
     """The drawn points of a series (finite values), with line pieces that break at segment
     changes and at missing values, and their keys into ``keys``. Keys are numbered in order of
-    first use, point by point; the work is done per distinct (phase, used for limits) pair and
-    per point in a signal, not per point."""
+    first use, point by point; the Python work is done per distinct (phase, used for limits,
+    signal text) combination and per distinct limits text, not per point."""
     arr = np.asarray(values, dtype=float).ravel()
     vals = _shown(values) if isinstance(values, np.ndarray) else disp_list(arr)
     kp = np.flatnonzero(np.isfinite(arr))  # the points drawn, in order
