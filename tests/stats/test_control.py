@@ -237,6 +237,12 @@ def test_subgroup_of_one_excluded_from_range():
         C.xbar_r([[1.0], [2.0]])
     with pytest.raises(StatsError, match="subgroup 1 is empty"):
         C.xbar_s([[1.0, 2.0], []])
+    with pytest.raises(StatsError, match="subgroup 1 is empty"):
+        C.xbar_r([np.array([1.0, 2.0]), np.zeros(0)])  # the loader's form: float arrays
+    with pytest.raises(StatsError, match="subgroup 1 is not a flat list"):
+        C.xbar_r([[1.0, 2.0], [[1.0, 2.0], [3.0, 4.0]]])
+    with pytest.raises(StatsError, match="subgroup 0 holds a value that is not a finite"):
+        C.xbar_r([np.array([1.0, np.nan]), np.array([2.0, 3.0])])
     with pytest.raises(StatsError, match="at least one subgroup"):
         C.xbar_r([])
 
