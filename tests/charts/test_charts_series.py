@@ -281,6 +281,12 @@ def test_number_format_for_labels():
     assert fmt(123456.7) == "123,457"
     assert fmt(float("nan")) == "n/a"
     assert fmt(-0.0001) == "-0.000100"
+    # remembered answers: the same text whatever form the number comes in, and -0.0 as 0.0
+    assert fmt(np.float64(44.444)) == fmt(44.444) == "44.4"
+    assert fmt(0.0) == fmt(-0.0) == "0"
+    assert fmt(-1e-12, 2) == "0.00000000"  # shown as zero: no minus sign
+    assert fmt(None) == fmt("x") == fmt(float("inf")) == "n/a"
+    assert fmt(7) == "7" and fmt(44.444, 4) == "44.44"
 
 
 def test_per_phase_limits_step_at_the_phase_change():

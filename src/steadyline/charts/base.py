@@ -335,8 +335,17 @@ def _round6_array(arr: np.ndarray) -> list:
 
 def fmt(v, sig: int = 3) -> str:
     """A number for labels: about ``sig`` significant digits, integer part always whole."""
+    if type(v) is float:
+        return _fmt_float(v, sig)
     f = num(v)
     if f is None:
+        return "n/a"
+    return _fmt_float(f, sig)
+
+
+@functools.lru_cache(maxsize=1 << 13)  # labels repeat: bin edges shared by a metric's histograms
+def _fmt_float(f: float, sig: int) -> str:
+    if not math.isfinite(f):
         return "n/a"
     if f == 0:
         return "0"
