@@ -168,6 +168,8 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     # every line complete (the same number of fields as the header): then no cell is missing
     if not _complete_rows(text, delim, len(header)):
         return None
+    # cells are stripped, as the careful reader strips them, when there is anything to strip
+    strip = not text.isascii() or any(c in text for c in _ASCII_SPACES)
     if delim not in _SPLIT_DELIMITERS or len(text) > _SPLIT_MAX_CHARS:
         try:
             df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
@@ -176,8 +178,8 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
             return None
         if len(df) == 0:
             return None
-        if not text.isascii() or any(c in text for c in _ASCII_SPACES):
-            for c in df.columns:  # cells are stripped, as the careful reader strips them
+        if strip:
+            for c in df.columns:
                 df[c] = df[c].str.strip()
         df.index = np.arange(2, len(df) + 2)  # physical line numbers (header = line 1)
         return df
@@ -189,8 +191,8 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     if not body:
         return None
     cells = body.replace("\n", delim).split(delim)
-    if not text.isascii() or any(c in text for c in _ASCII_SPACES):
-        cells = [c.strip() for c in cells]  # as the careful reader strips them
+    if strip:
+        cells = [c.strip() for c in cells]
     width = len(header)
     grid = np.array(cells, dtype=object).reshape(-1, width)
     return pd.DataFrame({h: grid[:, j] for j, h in enumerate(header)},
@@ -513,13 +515,13 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
     # (None otherwise). Within the charted years there is nothing to report: the answer.
     quick = None
     if not spec.csv.date_format:
-        plain = _plain_iso(s.to_numpy())
+        plain = _plain_iso(s.to_numpy())  # the fixed-width forms, read by numpy
         if plain is not None and _within_years(plain):
             return pd.Series(plain.astype("datetime64[ns]"), index=df.index)
-    if not spec.csv.date_format and not (s.to_numpy() == "").any():
-        quick = _quick_naive(s)
-        if quick is not None and _within_years(quick.to_numpy()):
-            return quick.astype("datetime64[ns]")
+        if not (s.to_numpy() == "").any():
+            quick = _quick_naive(s)  # any other ISO 8601 form, read by pandas
+            if quick is not None and _within_years(quick.to_numpy()):
+                return quick.astype("datetime64[ns]")
     blank = s == ""
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
