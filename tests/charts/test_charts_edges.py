@@ -142,3 +142,24 @@ def test_times_handed_over_by_the_maker_give_the_positions_read_from_the_text():
     assert given.has_seconds() == read.has_seconds()
     # the stamps take no part in equality, so charts of equal series share their axis
     assert SeriesContext(**kw, stamps=stamps) == SeriesContext(**kw)
+
+
+def test_a_template_is_filled_the_same_whether_cached_or_not():
+    # reference: the placeholders written out by hand
+    import copy
+
+    import pytest
+
+    from steadyline.charts.base import cached_template, fill, list_slot, slot
+
+    def build():
+        return {"a": slot("title"), "b": {"values": list_slot("xs"), "keep": [1, "two"]},
+                "c": list_slot("one")}
+
+    values = {"title": "T", "xs": [3, 4], "one": "single"}
+    want = {"a": "T", "b": {"values": [3, 4], "keep": [1, "two"]}, "c": ["single"]}
+    cached = cached_template(("test-fill",), build)
+    assert fill(cached, values) == fill(copy.deepcopy(cached), values) == want
+    assert fill(cached, values)["b"]["values"] is not values["xs"]  # a copy, not the list
+    with pytest.raises(KeyError, match="title"):
+        fill(build(), {"xs": [], "one": 1})

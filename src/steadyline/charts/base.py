@@ -136,10 +136,15 @@ def cached_template(key: tuple[Hashable, ...], build: Callable[[], dict]) -> dic
     if tpl is None:
         tpl = build()
         _TEMPLATES[key] = tpl
-        slots: list[tuple[tuple, str, bool]] = []
-        _find_slots(tpl, (), slots)
-        _COPIES[id(tpl)] = (orjson.dumps(tpl), slots)
+        _COPIES[id(tpl)] = _text_and_slots(tpl)
     return tpl
+
+
+def _text_and_slots(tpl: dict) -> tuple[bytes, list[tuple[tuple, str, bool]]]:
+    """A template's JSON text and the paths of its placeholders (see :func:`fill`)."""
+    slots: list[tuple[tuple, str, bool]] = []
+    _find_slots(tpl, (), slots)
+    return orjson.dumps(tpl), slots
 
 
 def clear_template_cache() -> None:
@@ -173,33 +178,18 @@ def _slot_value(name: str, values: dict, is_list: bool):
 
 def fill(node, values: dict):
     """A deep copy of a template with every placeholder replaced by ``values[name]``."""
-    cached = _COPIES.get(id(node))
-    if cached is not None:  # a cached template (alive in _TEMPLATES, so the id is its own)
-        text, slots = cached
-        copy = orjson.loads(text)
-        for path, name, is_list in slots:
-            value = _slot_value(name, values, is_list)
-            if not path:
-                return value
-            parent = copy
-            for k in path[:-1]:
-                parent = parent[k]
-            parent[path[-1]] = value
-        return copy
-    if isinstance(node, dict):
-        return {k: fill(v, values) for k, v in node.items()}
-    if isinstance(node, list):
-        if len(node) == 1 and isinstance(node[0], str) and node[0].startswith(_PLACEHOLDER):
-            name = node[0][len(_PLACEHOLDER) :]
-            if name in values and isinstance(values[name], list):
-                return list(values[name])
-        return [fill(v, values) for v in node]
-    if isinstance(node, str) and node.startswith(_PLACEHOLDER):
-        name = node[len(_PLACEHOLDER) :]
-        if name not in values:
-            raise KeyError(f"no value given for the template placeholder {name!r}")
-        return values[name]
-    return node
+    cached = _COPIES.get(id(node))  # a cached template (alive in _TEMPLATES: the id is its own)
+    text, slots = cached if cached is not None else _text_and_slots(node)  # found now
+    copy = orjson.loads(text)
+    for path, name, is_list in slots:
+        value = _slot_value(name, values, is_list)
+        if not path:
+            return value
+        parent = copy
+        for k in path[:-1]:
+            parent = parent[k]
+        parent[path[-1]] = value
+    return copy
 
 
 def finish_template(chart: dict, display: str) -> dict:
