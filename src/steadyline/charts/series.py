@@ -284,7 +284,9 @@ def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") 
 
 
 class _Coded(NamedTuple):
-    """A text per point, held as a code per point into a list of texts."""
+    """A text per point, held as a code per point into a list of texts. Limit texts: every
+    point has one, code c is ``texts[c]``. Signal texts: code 0 is a point in no signal, code
+    c is ``texts[c - 1]``."""
 
     codes: np.ndarray
     texts: list[str]
@@ -808,18 +810,20 @@ def _secondary_stage(chart: ControlChart, offset: int) -> np.ndarray:
     return np.asarray(chart.stage, dtype=int)[offset:]
 
 
+def _pairs(a: np.ndarray, b: np.ndarray, b_size: int) -> tuple[np.ndarray, list[tuple]]:
+    """Per point a code for its pair of codes (a, b), where every b is below ``b_size``, and
+    the distinct pairs in code order: so that texts made from two coded texts are made once per
+    distinct pair, not once per point."""
+    distinct, where = np.unique(a * b_size + b, return_inverse=True)
+    return where.ravel().astype(np.int64), [divmod(j, b_size) for j in distinct.tolist()]
+
+
 def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
     """The limits text per point, with the after phase's own limits added where ``after``:
     "LCL 1, CL 2, UCL 3; after: LCL ..."."""
-    width = len(own.texts) + 1
-    joint = info.codes * width + np.where(after, own.codes + 1, 0)
-    distinct, code = np.unique(joint, return_inverse=True)
-    texts = []
-    for j in distinct.tolist():
-        a, b = divmod(j, width)
-        extra = own.texts[b - 1] if b else ""
-        texts.append(f"{info.texts[a]}; after: {extra}" if extra else info.texts[a])
-    return _Coded(code.astype(np.int64).ravel(), texts)
+    code, pairs = _pairs(info.codes, np.where(after, own.codes + 1, 0), len(own.texts) + 1)
+    return _Coded(code, [f"{info.texts[a]}; after: {own.texts[b - 1]}"
+                         if b and own.texts[b - 1] else info.texts[a] for a, b in pairs])
 
 
 def _control_parts(
@@ -950,22 +954,14 @@ _NO_YES = np.array(["no", "yes"], dtype=object)
 
 
 @by_identity(16)
-def _signal_column(n: int, *marked: _Coded) -> list[str]:
-    """The table's "signals" cell per point: the texts of the points in signals (of the main
-    chart, then of the companion), joined."""
-    joint = np.zeros(n, dtype=np.int64)
-    for m in marked:
-        joint = joint * (len(m.texts) + 1) + m.codes
-    distinct, where = np.unique(joint, return_inverse=True)
-    texts = []
-    for code in distinct.tolist():
-        parts = []
-        for m in reversed(marked):
-            code, c = divmod(code, len(m.texts) + 1)
-            if c:
-                parts.append(m.texts[c - 1])
-        texts.append("; ".join(reversed(parts)))
-    return np.array(texts, dtype=object)[where.ravel()].tolist()
+def _signal_column(n: int, main: _Coded, second: _Coded | None = None) -> list[str]:
+    """The table's "signals" cell per point: the texts of the points in signals of the main
+    chart, then of the companion, joined."""
+    other = second if second is not None else _Coded(np.zeros(n, dtype=np.int64), [])
+    code, pairs = _pairs(main.codes, other.codes, len(other.texts) + 1)
+    texts = ["; ".join([m.texts[c - 1] for m, c in ((main, a), (other, b)) if c])
+             for a, b in pairs]
+    return np.array(texts, dtype=object)[code].tolist()
 
 
 @by_identity(16)
