@@ -13,7 +13,7 @@ from ..charts import (
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_SHORT
-from .cards import Displays, capability_rows, fmt, pct, series_context, signals_json
+from .cards import Displays, capability_rows, fmt, pct, signals_json
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -59,14 +59,13 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
 
 
 def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
-                    sctx: SeriesContext | None = None) -> tuple[dict, dict]:
+                    sctx: SeriesContext | None) -> tuple[dict, dict]:
     """One metric's section of the history page and its results.json entry; ``sctx`` is the
-    series layout the project page made (made again when not given)."""
+    series layout the project page made (None for categories)."""
     m = a.spec
     d = Displays(spec.slug, m.id, files, prefix="history-")
     result: dict = {"id": m.id, "name": m.name}
     if a.control is not None and a.data.kind != "categories":
-        sctx = sctx or series_context(a, spec)
         own = a.after_limits is not None
         # Points are judged against the baseline limits carried forward (a.signals): the
         # question on this page is whether the after data still fits the old process.

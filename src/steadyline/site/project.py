@@ -98,9 +98,9 @@ def periods_text(a: MetricAnalysis) -> str:
 
 def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes],
                    metric_problems: list[Problem],
-                   ctx: SeriesContext | None = None) -> tuple[dict, dict]:
+                   ctx: SeriesContext | None) -> tuple[dict, dict]:
     """The page section and the results.json entry of one metric; ``ctx`` is its series layout
-    (made here when not given)."""
+    (None for categories)."""
     m = a.spec
     d = Displays(spec.slug, m.id, files)
     unit = m.unit
@@ -119,7 +119,6 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     open_signals = 0
     baseline_signals = 0  # signals that start in the baseline (the rest mostly show the change)
     if a.data.kind != "categories":
-        ctx = ctx or series_context(a, spec)
         pts = a.data.points
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
                             "value": pts["value"].to_numpy(float),
