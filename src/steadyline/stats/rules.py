@@ -220,11 +220,10 @@ def _k_of_m(flags: np.ndarray, length: int, count: int) -> list[list[int]]:
     breaks = np.flatnonzero(lo[1:] > reach[:-1]) + 1
     group_lo = lo[np.concatenate([[0], breaks])]
     group_hi = reach[np.concatenate([breaks - 1, [lo.size - 1]])]
-    out = []
-    for a, b in zip(group_lo.tolist(), group_hi.tolist(), strict=True):
-        i0, i1 = np.searchsorted(flagged, [a, b + 1])
-        out.append(flagged[i0:i1].tolist())
-    return out
+    first = np.searchsorted(flagged, group_lo).tolist()
+    after = np.searchsorted(flagged, group_hi, side="right").tolist()
+    points = flagged.tolist()
+    return [points[a:b] for a, b in zip(first, after, strict=True)]
 
 
 def _find(
@@ -236,9 +235,9 @@ def _find(
         with np.errstate(invalid="ignore"):
             above = ~np.isnan(hi) & (v > hi)
             below = ~above & ~np.isnan(lo) & (v < lo)
-        hits = [(i, "above") for i in np.flatnonzero(above).tolist()]
-        hits += [(i, "below") for i in np.flatnonzero(below).tolist()]
-        return [([i], side) for i, side in sorted(hits)]
+        at = np.flatnonzero(above | below)
+        sides = np.where(above[at], "above", "below").tolist()
+        return [([i], side) for i, side in zip(at.tolist(), sides, strict=True)]
     if rule.test == "k-of-m":
         # each group is sorted and without repeats already (_k_of_m): ordered by its first point
         for side, flags in (("above", z > rule.zone), ("below", z < -rule.zone)):
@@ -294,28 +293,27 @@ def _chart_signals(
     z = _zscores(chart)
     ok = ~(np.isnan(v) | np.isnan(c) | np.isnan(s))
     signals: list[Signal] = []
-    stages = sorted(set(stage.tolist())) if only_stage is None else [only_stage]
+    if v.size == 0:
+        return signals
     # a stage is a block of consecutive points with the same number; split at every change
-    change = np.concatenate([[0], np.cumsum(stage[1:] != stage[:-1])]) if v.size else stage
-    for block in sorted(set(change.tolist())):
-        in_block = change == block
-        if int(stage[in_block][0]) not in stages:
+    starts = np.concatenate([[0], np.flatnonzero(stage[1:] != stage[:-1]) + 1])
+    stops = np.append(starts[1:], v.size)
+    for a, b in zip(starts.tolist(), stops.tolist(), strict=True):
+        if only_stage is not None and int(stage[a]) != only_stage:
             continue
-        pos = np.flatnonzero(in_block & ok)
+        pos = np.flatnonzero(ok[a:b]) + a
         if pos.size == 0:
             continue
+        # a block without gaps (the usual case) maps a finding's positions by adding its start
+        shift = a if pos.size == b - a else None
+        seg = slice(a, b) if shift is not None else pos
         for key in keys:
             rule = _RULES[key]
-            for idx, side in _find(rule, v[pos], z[pos], lo[pos], hi[pos]):
-                signals.append(
-                    Signal(
-                        rule=key,
-                        description=rule.description,
-                        indices=tuple(map(pos.item, idx)),
-                        side=side,
-                        chart=which,
-                    )
-                )
+            desc = rule.description
+            for idx, side in _find(rule, v[seg], z[seg], lo[seg], hi[seg]):
+                at = tuple(map(shift.__add__, idx)) if shift is not None else tuple(
+                    map(pos.item, idx))
+                signals.append(Signal(key, desc, at, side, which))
     order = {k: i for i, k in enumerate(keys)}
     signals.sort(key=lambda g: (g.indices[0], order[g.rule], g.side or ""))
     return signals
