@@ -164,7 +164,8 @@ def test_phases_and_events_drawn():
     assert bands[0]["fill"] != bands[1]["fill"]
     assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
     assert spec["datasets"]["events"] == [
-        {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16}
+        {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16,
+         "until": make_ctx().x[-1]}
     ]
 
 
@@ -173,6 +174,16 @@ def test_labels_of_successive_events_step_down():
                            ("2026-02-23", "d")))
     spec = run_chart(ctx, make_values(), make_run_analysis()).spec
     assert [e["y"] for e in spec["datasets"]["events"]] == [16, 28, 40, 16]
+    # each label may run until the next event on its line, the last ones until the last point
+    assert [e["until"] for e in spec["datasets"]["events"]] == [
+        "2026-02-23", ctx.x[-1], ctx.x[-1], ctx.x[-1]]
+
+
+def test_events_are_laid_out_in_time_order():
+    ctx = make_ctx(events=(("2026-02-16", "c"), ("2026-02-02", "a"), ("2026-02-09", "b")))
+    spec = run_chart(ctx, make_values(), make_run_analysis()).spec
+    assert [(e["label"], e["y"]) for e in spec["datasets"]["events"]] == [
+        ("a", 16), ("b", 28), ("c", 40)]
 
 
 def test_events_outside_the_series_are_left_out():

@@ -74,11 +74,11 @@ def test_own_limits_solid_over_the_after_phase_only():
         assert xs[0] == MID and xs[-1] == "2026-07-27"  # from the phase change to the end
     (ucl,) = _parts(spec, name="after UCL")
     assert {y for _, y in _path(spec, ucl["p"])} == {41}
-    # labelled at the start of the after phase, in their own dataset
+    # labelled at the after phase's last point (drawn right of it), in their own dataset
     own_labels = {r["kind"]: r for r in spec["datasets"]["own_labels"]}
     assert own_labels["UCL"]["text"] == "after UCL 41"
     assert own_labels["centre line"]["text"] == "after CL 31"
-    assert {r["x"] for r in own_labels.values()} == {MID}
+    assert {r["x"] for r in own_labels.values()} == {make_ctx().x[-1]}
     # carried limits still there
     assert {r["text"] for r in spec["datasets"]["labels"]} >= {"baseline UCL 44.4"}
     # the companion chart the same way

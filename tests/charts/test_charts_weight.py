@@ -27,7 +27,8 @@ IDS = [name for name, _ in SPECS]
 
 
 def _used_fields(spec: dict) -> set[str]:
-    """Every field name a view reads: encodings and tooltips, lookups, filters, calculations."""
+    """Every field name a view reads: encodings and tooltips, lookups, filters, calculations,
+    expressions of mark properties."""
     used: set[str] = set()
 
     def walk(node):
@@ -41,7 +42,7 @@ def _used_fields(spec: dict) -> set[str]:
                     used.add(v)
                 elif k == "fields" and isinstance(v, list):
                     used.update(f for f in v if isinstance(f, str))
-                elif k in ("calculate", "test", "filter") and isinstance(v, str):
+                elif k in ("calculate", "test", "filter", "expr") and isinstance(v, str):
                     used.update(re.findall(r"datum\.(\w+)", v))
                 if k != "datasets":
                     walk(v)

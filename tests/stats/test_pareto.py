@@ -32,6 +32,22 @@ def test_percent_and_cumulative():
     assert sum(p.percent) == pytest.approx(100.0)
 
 
+def test_percent_of_whole_counts_rounded_once():
+    # reference: fractions.Fraction, the exact share rounded to the nearest float
+    from fractions import Fraction
+
+    p = pareto(["a"] * 253 + ["b"] * 275)
+    assert p.percent == tuple(float(Fraction(100 * k, 528)) for k in (275, 253))
+
+
+def test_percent_of_totals_near_the_float_limit():
+    # 100 x 8e307 overflows; the shares are still exactly half (exact arithmetic)
+    p = pareto(["a", "b"], weights=[8e307, 8e307])
+    assert p.percent == (50.0, 50.0)
+    assert p.cumulative_percent == (50.0, 100.0)
+    assert p.vital_few == ("a", "b")
+
+
 def test_vital_few_smallest_leading_set_reaching_threshold():
     p = pareto(DATA)
     # e a b c = 13/17 = 76.5%, + f = 15/17 = 88.2% -> five categories reach 80%

@@ -598,15 +598,25 @@ def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
     return rows
 
 
+# Event labels step down one line each over this many lines near the top of the plot.
+EVENT_LINES = 3
+
+
 def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
-    """Events within the plotted time range (outside it they would stretch the axis)."""
+    """Events within the plotted time range (outside it they would stretch the axis), in time
+    order. Successive events step down one line each (``EVENT_LINES`` lines), so that labels of
+    events close in time do not print over each other; a label may run only until the next
+    event on its line ("until"; the last on a line, until the last point), cut short with an
+    ellipsis beyond that, its whole text in the tooltip."""
+    inside = sorted(((time_text(when), str(label), str(when)) for when, label in events
+                     if xa.in_range(when)), key=lambda e: parse_time(e[0]))
+    end = xa.at(xa.n - 1) if inside else None
     rows = []
-    for when, label in events:
-        if xa.in_range(when):
-            # Successive events step down one line each (three levels), so that labels of
-            # events close in time do not print over each other.
-            rows.append({"x": time_text(when), "label": str(label), "when": str(when),
-                         "y": 16 + 12 * (len(rows) % 3)})
+    for k, (x, label, when) in enumerate(inside):
+        after = k + EVENT_LINES
+        rows.append({"x": x, "label": label, "when": when,
+                     "y": 16 + 12 * (k % EVENT_LINES),
+                     "until": inside[after][0] if after < len(inside) else end})
     return rows
 
 
@@ -652,7 +662,15 @@ def event_layers(is_time: bool) -> list[dict]:
             dx=3,
             color=style.EVENT,
             fontStyle="italic",
+            # no further than the next event on the same line (event_rows), in pixels
+            limit={"expr": "max(12, scale('x', toDate(datum.until)) - scale('x', toDate(datum.x))"
+                           " - 8)"},
         ),
-        {"x": x_encoding(is_time), "y": vl.field("y:Q", scale=None), "text": vl.field("label:N")},
+        {
+            "x": x_encoding(is_time),
+            "y": vl.field("y:Q", scale=None),
+            "text": vl.field("label:N"),
+            "tooltip": [vl.tip("when:N", "date"), vl.tip("label:N", "event")],
+        },
     )
     return [rule, label]

@@ -210,8 +210,9 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
             }
         ],
     )
-    # Plain chart: labels right of the plot. Staged chart: the longer "baseline UCL ..." labels
-    # sit inside the plot, right-aligned just above their lines, so the chart keeps its width.
+    # Plain chart: labels right of the plot. Staged chart: the carried "baseline UCL ..." labels
+    # sit inside the plot, right-aligned just above their lines; the after phase's own labels
+    # go right of the plot, beside their lines, so the two sets never print over each other.
     label_mark = (
         vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2, color=style.INK)
         if staged
@@ -227,9 +228,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
         layers.append(
             vl.view(
                 f"{prefix}own_labels",
-                vl.mark(
-                    "text", align="left", baseline="bottom", dx=3, dy=-2, color=style.OWN_LIMIT
-                ),
+                vl.mark("text", align="left", baseline="middle", dx=5, color=style.OWN_LIMIT),
                 {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
             )
         )
@@ -923,21 +922,23 @@ def _control_parts(
 
 
 def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int, parts: _Parts):
-    """The after phase's own limits (stage 1 only), solid, labelled at the phase's start."""
+    """The after phase's own limits (stage 1 only), solid, labelled right of the phase's last
+    point: in the margin beside the plot when the after phase ends the chart, clear of the
+    phase's name, the events and the points at its start."""
     drawn = np.asarray(stage_arr, dtype=int) == 1
     rows, _ = _limit_rows(
         xa, own, offset, parts, drawn=drawn, set_name="after", label_prefix="after ", solid=True
     )
     labels = []
-    first = int(np.argmax(drawn)) if drawn.any() else None
-    if first is not None:
+    last = int(np.flatnonzero(drawn)[-1]) if drawn.any() else None
+    if last is not None:
         arrays = {"centre line": own.centre, "UCL": own.upper, "LCL": own.lower}
         for kind in _LIMIT_KINDS:
-            y = disp(arrays[kind][first])
+            y = disp(arrays[kind][last])
             if y is not None:
                 labels.append(
                     {
-                        "x": xa.half_before(first + offset),
+                        "x": xa.at(last + offset),
                         "y": y,
                         "text": f"after {_LIMIT_SHORT[kind]} {fmt(y)}",
                         "kind": kind,

@@ -52,6 +52,10 @@ def _ranked(totals: dict[str, float], exclude: str | None = None) -> list[str]:
     return sorted((c for c in totals if c != exclude), key=lambda c: (-totals[c], c))
 
 
+# Totals from here on take the share before multiplying by 100 (the product would overflow).
+_HUGE = 1e300
+
+
 def _vital_few(totals: dict[str, float], other_label: str, threshold: float) -> tuple[str, ...]:
     grand = sum(totals.values())
     if grand <= 0:
@@ -62,7 +66,8 @@ def _vital_few(totals: dict[str, float], other_label: str, threshold: float) -> 
     for c in ranked:
         running += totals[c]
         chosen.append(c)
-        if 100.0 * running / grand >= threshold - 1e-9:
+        share = 100.0 * running / grand if grand < _HUGE else running / grand * 100.0
+        if share >= threshold - 1e-9:
             break
     return tuple(chosen)
 
@@ -74,8 +79,14 @@ def _build(
     running = np.cumsum(counts)
     grand = float(running[-1]) if len(running) else 0.0
     if grand > 0:
-        percent = 100.0 * counts / grand
-        cumulative = 100.0 * running / grand
+        # 100 * count / total rounds once for whole counts (exact products); totals near the
+        # float limit would overflow there, so they take the share first
+        if grand < _HUGE:
+            percent = 100.0 * counts / grand
+            cumulative = 100.0 * running / grand
+        else:
+            percent = counts / grand * 100.0
+            cumulative = running / grand * 100.0
         cumulative[-1] = 100.0
         cumulative = np.maximum.accumulate(cumulative)
     else:
