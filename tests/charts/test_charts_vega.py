@@ -83,7 +83,7 @@ def test_renders_to_svg():
     texts = re.findall(r"<text[^>]*>([^<]*)</text>", out)
     for text in ("UCL 44.4", "CL 30", "UCL 17.6", "LCL 15.6", "Baseline", "After"):
         assert texts.count(text) >= 1, text
-    assert texts.count("new intake form") == 2  # the event on both charts
+    assert texts.count("new intake form") == 1  # labelled once, on the upper chart
     assert texts.count("part of a signal") == 1  # one merged legend entry
     assert "limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)" in out
 

@@ -641,8 +641,10 @@ def band_layers(is_time: bool) -> list[dict]:
     return [rect, label]
 
 
-def event_layers(is_time: bool) -> list[dict]:
-    """Events as dotted vertical rules labelled near the top (time-based series only)."""
+def event_layers(is_time: bool, labelled: bool = True) -> list[dict]:
+    """Events as dotted vertical rules labelled near the top (time-based series only); the
+    chart beneath a control chart draws the rules without the labels, which the chart above
+    already prints."""
     if not is_time:
         return []
     rule = vl.view(
@@ -673,4 +675,4 @@ def event_layers(is_time: bool) -> list[dict]:
             "tooltip": [vl.tip("when:N", "date"), vl.tip("label:N", "event")],
         },
     )
-    return [rule, label]
+    return [rule, label] if labelled else [rule]

@@ -237,7 +237,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
 
 def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -> dict:
     prefix = "secondary_" if suf else ""
-    layers = band_layers(is_time) + event_layers(is_time)
+    layers = band_layers(is_time) + event_layers(is_time, labelled=not suf)
     if refs == "limits":
         layers += _reference_layers(is_time, prefix, y_slot)
     elif refs == "staged":
