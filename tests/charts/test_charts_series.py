@@ -324,7 +324,17 @@ def test_subtitle_lists_at_most_two_kinds_of_signal():
 
     sigs = MAIN_SIGNALS + (Signal("trend", "6 in a row rising", (1, 2, 3, 4, 5, 6), "up"),)
     cs = control_chart(make_ctx(), make_individuals(), sigs)
-    line = cs.spec["title"]["subtitle"][1]
+    line = " ".join(cs.spec["title"]["subtitle"][1:])  # the sentence, wrapped over lines
     assert line.startswith("4 signals: beyond the 3σ limits; 8 in a row")
     assert line.endswith("and 2 more kinds (see the data table)")
     assert "6 in a row rising" in cs.summary  # the summary names them all
+
+
+def test_long_subtitle_lines_are_wrapped_at_spaces():
+    from steadyline.charts.base import SUBTITLE_WIDTH, make_spec
+
+    words = [f"word{i}" for i in range(60)]
+    spec = make_spec({}, {}, {}, "t", [" ".join(words), "short"])
+    lines = spec["title"]["subtitle"]
+    assert all(len(x) <= SUBTITLE_WIDTH for x in lines) and len(lines) >= 4
+    assert " ".join(lines[:-1]).split() == words and lines[-1] == "short"

@@ -15,6 +15,7 @@ import functools
 import itertools
 import math
 import re
+import textwrap
 from collections.abc import Callable, Collection, Hashable, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, date, datetime
@@ -222,11 +223,24 @@ def make_spec(
         for name, rows in datasets.items()
     }
     t: dict = {"text": title}
-    sub = [s for s in subtitle if s]
+    sub = [line for s in subtitle if s for line in _wrapped(s)]
     if sub:
         t["subtitle"] = sub
     spec["title"] = t
     return spec
+
+
+# Subtitle lines longer than this many characters are broken at spaces: a chart's title does not
+# wrap by itself, and a long line would be cut off at the chart's edge.
+SUBTITLE_WIDTH = 125
+
+
+@functools.lru_cache(maxsize=256)
+def _wrapped(line: str) -> tuple[str, ...]:
+    if len(line) <= SUBTITLE_WIDTH:
+        return (line,)
+    return tuple(textwrap.wrap(line, SUBTITLE_WIDTH, break_long_words=False,
+                               break_on_hyphens=False))
 
 
 # ------------------------------------------------------------------------------------------------
