@@ -647,10 +647,15 @@ def band_layers(is_time: bool) -> list[dict]:
             "tooltip": [vl.tip("stage:N", "phase")],
         },
     )
+    # a name no wider than its band (cut with an ellipsis), so neighbouring names never overlap
+    ends = ("toDate(datum.x2)", "toDate(datum.x)") if is_time else ("datum.x2", "datum.x")
+    room = f"max(12, scale('x', {ends[0]}) - scale('x', {ends[1]}) - 6)"
     label = vl.view(
         "bands",
-        vl.mark("text", align="left", baseline="top", dx=3, dy=2, fontWeight=600),
-        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N")},
+        vl.mark("text", align="left", baseline="top", dx=3, dy=2, fontWeight=600,
+                limit={"expr": room}),
+        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N"),
+         "tooltip": [vl.tip("stage:N", "phase")]},
     )
     return [rect, label]
 
