@@ -50,16 +50,20 @@ def list_dates(labels: Sequence[str]) -> str:
 
 
 def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point",
-                   phase: str = "") -> str:
-    """One sentence for every occurrence of one rule (on one chart, in one phase)."""
+                   phase: str = "", line: str = "centre line") -> str:
+    """One sentence for every occurrence of one rule (on one chart, in one phase); ``line`` is
+    what the chart's sides are of (the centre line, or a run chart's median)."""
     sig = group[0]
     points = sorted({i for s in group for i in s.indices})
     dates = list_dates([x[i] for i in points])
     sides = {s.side for s in group if s.side}
     side = ""
     if len(sides) == 1:
-        side = {"above": " (above the centre line)", "below": " (below the centre line)",
-                "up": " (rising)", "down": " (falling)"}.get(sides.pop(), "")
+        one = sides.pop()
+        named = {"above": "above the", "below": "below the", "up": "rising", "down": "falling"}
+        if named.get(one, one) not in sig.description:  # else the rule's words name the side
+            side = {"above": f" (above the {line})", "below": f" (below the {line})",
+                    "up": " (rising)", "down": " (falling)"}.get(one, "")
     chart = "" if sig.chart == "main" else " on the dispersion chart"
     times = "" if len(group) == 1 else f"{len(group)} times, "
     plural = what if len(points) == 1 else what + "s"
@@ -98,7 +102,7 @@ def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence
 
 
 def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
-    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x))
+    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"))
            for g in _grouped(run.signals, None).values()]
     if not out:
         out.append(Finding("clear", CLEAR_MARKER, f"No non-random pattern by the {rules_label}."))

@@ -1,0 +1,35 @@
+"""The plain-words findings printed under each chart (steadyline.advice)."""
+
+from __future__ import annotations
+
+from steadyline import advice
+from steadyline.stats import analyse_runs
+from steadyline.stats.results import Signal
+
+X = [f"2026-01-{d:02d}" for d in range(1, 32)]
+
+
+def test_side_named_once_when_the_rule_names_it():
+    # a run chart's shift names its side ("below the median"): no second side in brackets
+    values = [10.0] * 5 + [1.0, 2.0, 3.0, 1.5, 2.5, 1.0, 2.0, 3.0] + [10.0] * 5
+    run = analyse_runs(values, "perla", median=5.0)
+    shift = [f.text for f in advice.run_findings(run, X, "rules") if "shift" in f.text]
+    assert shift and "below the median" in shift[0]
+    assert "(below" not in shift[0] and "centre line" not in shift[0]
+
+
+def test_side_added_where_the_rule_leaves_it_open():
+    sig = Signal("run-of-8-one-side", "8 points in a row on one side of the centre line",
+                 tuple(range(8)), "below")
+    text = advice.group_sentence([sig], X)
+    assert text.startswith("8 points in a row on one side of the centre line (below the centre "
+                           "line): 8 points, 2026-01-01,")
+    rising = Signal("trend", "6 points in a row all rising", tuple(range(6)), "up")
+    assert "(rising)" not in advice.group_sentence([rising], X)
+
+
+def test_dates_listed_up_to_a_limit():
+    assert advice.list_dates(["a"]) == "a"
+    assert advice.list_dates(["a", "b", "a"]) == "a and b"
+    many = [str(i) for i in range(advice.MAX_DATES_LISTED + 3)]
+    assert advice.list_dates(many).endswith(" and 3 more")
