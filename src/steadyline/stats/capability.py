@@ -114,7 +114,10 @@ def capability(
 
     reasons: list[str] = []
     mean = float(np.mean(x))
-    s = float(np.std(x, ddof=1))
+    with np.errstate(over="ignore"):  # an overflowing spread is refused just below
+        s = float(np.std(x, ddof=1))
+    if not math.isfinite(s):
+        raise StatsError("the values are too large for their spread to be computed")
 
     sw: float | None = None if sigma_within is None else float(sigma_within)
     if sw is not None and not math.isfinite(sw):
