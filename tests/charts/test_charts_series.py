@@ -165,7 +165,7 @@ def test_phases_and_events_drawn():
     assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
     assert spec["datasets"]["events"] == [
         {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16,
-         "until": make_ctx().x[-1]}
+         "align": "left", "edge": make_ctx().x[-1] + "T00:00:00Z"}
     ]
 
 
@@ -175,8 +175,24 @@ def test_labels_of_successive_events_step_down():
     spec = run_chart(ctx, make_values(), make_run_analysis()).spec
     assert [e["y"] for e in spec["datasets"]["events"]] == [16, 28, 40, 16]
     # each label may run until the next event on its line, the last ones until the last point
-    assert [e["until"] for e in spec["datasets"]["events"]] == [
-        "2026-02-23", ctx.x[-1], ctx.x[-1], ctx.x[-1]]
+    end = ctx.x[-1] + "T00:00:00Z"
+    assert [e["edge"] for e in spec["datasets"]["events"]] == [
+        "2026-02-23T00:00:00Z", end, end, end]
+    assert {e["align"] for e in spec["datasets"]["events"]} == {"left"}  # left half: text right
+
+
+def test_recent_events_read_leftwards_and_share_the_gap():
+    # the series runs 2026-01-05 .. 2026-07-27; its middle is 2026-04-16
+    ctx = make_ctx(events=(("2026-02-02", "early"), ("2026-05-04", "b"), ("2026-06-01", "c"),
+                           ("2026-06-29", "late")))
+    rows = run_chart(ctx, make_values(), make_run_analysis()).spec["datasets"]["events"]
+    assert [(e["label"], e["align"]) for e in rows] == [
+        ("early", "left"), ("b", "right"), ("c", "right"), ("late", "right")]
+    start = ctx.x[0] + "T00:00:00Z"
+    # "early" and "late" share a line and face each other: each gets half of the gap
+    # (2026-02-02 + 147 days / 2)
+    assert [e["edge"] for e in rows] == [
+        "2026-04-16T12:00:00Z", start, start, "2026-04-16T12:00:00Z"]
 
 
 def test_events_are_laid_out_in_time_order():

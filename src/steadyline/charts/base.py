@@ -619,18 +619,30 @@ EVENT_LINES = 3
 def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     """Events within the plotted time range (outside it they would stretch the axis), in time
     order. Successive events step down one line each (``EVENT_LINES`` lines), so that labels of
-    events close in time do not print over each other; a label may run only until the next
-    event on its line ("until"; the last on a line, until the last point), cut short with an
-    ellipsis beyond that, its whole text in the tooltip."""
-    inside = sorted(((time_text(when), str(label), str(when)) for when, label in events
-                     if xa.in_range(when)), key=lambda e: parse_time(e[0]))
-    end = xa.at(xa.n - 1) if inside else None
+    events close in time do not print over each other. A label reads right of its rule in the
+    left half of the chart and left of it in the right half (``align``: where the text is
+    anchored to the rule), so that a recent event keeps room for its words; it may run as far as ``edge``: the next label's ground on its
+    line (the whole gap to a label that faces away, half of it to one that faces this one), or
+    the chart's end. Beyond that it is cut with an ellipsis, its whole text in the tooltip."""
+    inside = sorted(((parse_time(time_text(when)), time_text(when), str(label), str(when))
+                     for when, label in events if xa.in_range(when)), key=lambda e: e[0])
+    if not inside:
+        return []
+    first, last = parse_time(xa.at(0)), parse_time(xa.at(xa.n - 1))
+    span = (last - first).total_seconds() or 1.0
+    right = [(t - first).total_seconds() / span > 0.5 for t, *_ in inside]
     rows = []
-    for k, (x, label, when) in enumerate(inside):
-        after = k + EVENT_LINES
-        rows.append({"x": x, "label": label, "when": when,
-                     "y": 16 + 12 * (k % EVENT_LINES),
-                     "until": inside[after][0] if after < len(inside) else end})
+    for k, (t, x, label, when) in enumerate(inside):
+        if right[k]:  # the ground back to the previous label on this line
+            j = k - EVENT_LINES
+            edge = (first if j < 0 else inside[j][0] + (t - inside[j][0]) / 2 if not right[j]
+                    else inside[j][0])
+        else:  # the ground on to the next label on this line
+            j = k + EVENT_LINES
+            edge = (last if j >= len(inside) else t + (inside[j][0] - t) / 2 if right[j]
+                    else inside[j][0])
+        rows.append({"x": x, "label": label, "when": when, "y": 16 + 12 * (k % EVENT_LINES),
+                     "align": "right" if right[k] else "left", "edge": utc_text(edge)})
     return rows
 
 
@@ -678,14 +690,14 @@ def event_layers(is_time: bool, labelled: bool = True) -> list[dict]:
         "events",
         vl.mark(
             "text",
-            align="left",
             baseline="top",
-            dx=3,
             color=style.EVENT,
             fontStyle="italic",
-            # no further than the next event on the same line (event_rows), in pixels
-            limit={"expr": "max(12, scale('x', toDate(datum.until)) - scale('x', toDate(datum.x))"
-                           " - 8)"},
+            # right of the rule or left of it, no further than its edge (event_rows), in pixels
+            align={"expr": "datum.align"},
+            dx={"expr": "datum.align == 'right' ? -3 : 3"},
+            limit={"expr": "max(12, abs(scale('x', toDate(datum.edge)) - "
+                           "scale('x', toDate(datum.x))) - 8)"},
         ),
         {
             "x": x_encoding(is_time),
