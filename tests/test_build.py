@@ -94,6 +94,16 @@ def test_the_demo_uses_every_setting_of_the_methods(demo_site: Path):
             ("bins", "sturges"), ("bins", "edges")} <= rules
 
 
+def test_a_defectives_run_chart_is_labelled_as_a_proportion(demo_site: Path):
+    # the metric's unit names the items checked ("wheels"); the chart plots the proportion
+    spec = json.loads((demo_site / "projects" / "wheel-truing-first-pass-yield" / "data"
+                       / "retrue-rate-run.vl.json").read_text("utf-8"))
+    (centre,) = spec["datasets"]["centre"]
+    assert centre["text"].startswith("median 0.0") and centre["text"].endswith(" proportion")
+    assert "Wheels needing re-truing (proportion)" in json.dumps(spec)
+    assert " wheels" not in centre["text"]
+
+
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
     for page in demo_site.rglob("*.html"):
         text = page.read_text("utf-8")

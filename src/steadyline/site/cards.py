@@ -312,7 +312,8 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
         x_is_time=True,
         stage=a.stage_names,
         segment=tuple(pts["segment"].to_numpy(dtype=np.int64).tolist()),
-        unit=a.spec.unit,
+        # a defectives metric plots the proportion defective: its unit names the items checked
+        unit="proportion" if a.data.kind == "defectives" else a.spec.unit,
         metric_name=a.spec.name,
         events=tuple((e.date.isoformat(), e.label) for e in spec.events),
     )
