@@ -9,10 +9,39 @@
      that leaves room for the axes instead. */
   function fitStacked(spec, target) {
     if (!spec || !Array.isArray(spec.vconcat)) { return spec; }
-    var width = Math.max(240, Math.floor(target.clientWidth) - 150);
+    var width = Math.max(120, Math.floor(target.clientWidth) - 150);
     spec.vconcat.forEach(function (part) {
       if (part && part.width === "container") { part.width = width; }
     });
+    return spec;
+  }
+
+  /* A chart's title does not wrap by itself, and Vega-Lite narrows the plot until a long title
+     line fits beside it: on a narrow screen the plot would all but vanish. Break the title and
+     subtitle lines at spaces to fit the chart's box (average character widths of the fonts). */
+  function wrapLine(line, max) {
+    if (typeof line !== "string" || line.length <= max) { return [line]; }
+    var out = [], cur = "";
+    line.split(" ").forEach(function (word) {
+      if (cur && (cur + " " + word).length > max) { out.push(cur); cur = word; }
+      else { cur = cur ? cur + " " + word : word; }
+    });
+    if (cur) { out.push(cur); }
+    return out;
+  }
+
+  function fitTitle(spec, target) {
+    var t = spec && spec.title;
+    var width = Math.floor(target.clientWidth);
+    if (!t || typeof t !== "object" || !width) { return spec; }
+    var sub = Math.max(24, Math.floor(width / 7));     // subtitle: 11px
+    var main = Math.max(16, Math.floor(width / 9.5));  // title: 14px, semi-bold
+    if (typeof t.text === "string" && t.text.length > main) { t.text = wrapLine(t.text, main); }
+    if (Array.isArray(t.subtitle)) {
+      t.subtitle = t.subtitle.reduce(function (all, line) {
+        return all.concat(wrapLine(line, sub));
+      }, []);
+    }
     return spec;
   }
 
@@ -29,7 +58,7 @@
         target.textContent = "This chart's description could not be read.";
         return;
       }
-      spec = fitStacked(spec, target);
+      spec = fitStacked(fitTitle(spec, target), target);
       var job = window.vegaEmbed(target, spec, {
         ast: true,                      // expression interpreter: works without 'unsafe-eval'
         renderer: "svg",
