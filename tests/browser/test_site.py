@@ -299,6 +299,46 @@ def test_no_page_scrolls_sideways(visits):
     assert not wide, "\n".join(wide)
 
 
+PLOT_WIDTHS = """
+async () => {
+  await window.steadylineCharts;
+  return {
+    scrollWidth: document.documentElement.scrollWidth,
+    clientWidth: document.documentElement.clientWidth,
+    // the widest axis line of each chart: the width its x axis, and so its plot, was given
+    plots: Array.from(document.querySelectorAll('.chart')).map(function (c) {
+      const widths = Array.from(c.querySelectorAll('g.role-axis-domain')).map(function (g) {
+        return g.getBBox().width;
+      });
+      return [c.id, widths.length ? Math.max.apply(null, widths) : 0];
+    }),
+  };
+}
+"""
+
+
+def test_a_phone_sized_window_keeps_every_plot_readable(browser, site_url, built_site):
+    """At 400 px wide the page does not scroll sideways and every chart keeps a plot of at
+    least 100 px (a long title line used to squeeze it to a sliver)."""
+    ctx = browser.new_context(base_url=site_url, viewport={"width": 400, "height": 800})
+    ctx.set_default_timeout(30_000)
+    problems = []
+    try:
+        for path in screenshot_pages(built_site):  # the index and the busiest project's pages
+            page, watch = open_page(ctx, site_url, path)
+            try:
+                st = page.evaluate(PLOT_WIDTHS)
+            finally:
+                page.close()
+            if st["scrollWidth"] > st["clientWidth"]:
+                problems.append(f"{path}: {st['scrollWidth']} px wide in {st['clientWidth']}")
+            problems += [f"{path}: {cid} plot {w:.0f} px" for cid, w in st["plots"] if w < 100]
+            problems += [f"{path}: {p}" for p in watch.problems]
+    finally:
+        ctx.close()
+    assert not problems, "\n".join(problems)
+
+
 # --------------------------------------------------------------------------------------------
 # (b) the index filters
 
