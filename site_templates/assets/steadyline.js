@@ -45,6 +45,18 @@
     return spec;
   }
 
+  /* Side-by-side charts (the Pareto chart of each phase) go one above the other in a box too
+     narrow for both, rather than running past the edge of the page. */
+  var SIDE_BY_SIDE_MIN = 640;
+
+  function stackWhenNarrow(spec, target) {
+    if (spec && Array.isArray(spec.hconcat) && target.clientWidth < SIDE_BY_SIDE_MIN) {
+      spec.vconcat = spec.hconcat;
+      delete spec.hconcat;
+    }
+    return spec;
+  }
+
   function drawCharts() {
     var blocks = document.querySelectorAll("script.chart-spec");
     if (!blocks.length || typeof window.vegaEmbed !== "function") { return Promise.resolve([]); }
@@ -58,7 +70,7 @@
         target.textContent = "This chart's description could not be read.";
         return;
       }
-      spec = fitStacked(fitTitle(spec, target), target);
+      spec = fitStacked(stackWhenNarrow(fitTitle(spec, target), target), target);
       var job = window.vegaEmbed(target, spec, {
         ast: true,                      // expression interpreter: works without 'unsafe-eval'
         renderer: "svg",

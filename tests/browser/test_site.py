@@ -324,7 +324,11 @@ def test_a_phone_sized_window_keeps_every_plot_readable(browser, site_url, built
     ctx.set_default_timeout(30_000)
     problems = []
     try:
-        for path in screenshot_pages(built_site):  # the index and the busiest project's pages
+        # the index, the busiest project's page, and every before/after page (side by side
+        # Pareto charts, staged control charts with labels on both sides)
+        pages = dict.fromkeys(list(screenshot_pages(built_site))
+                              + [p for p in site_pages(built_site) if p.endswith("history.html")])
+        for path in pages:
             page, watch = open_page(ctx, site_url, path)
             try:
                 st = page.evaluate(PLOT_WIDTHS)

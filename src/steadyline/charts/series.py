@@ -254,9 +254,11 @@ def _median_layers(is_time: bool, y_slot: str) -> list[dict]:
         vl.mark("rule", color=style.CENTRE, strokeWidth=1.6),
         {"y": _y("y", y_slot), "tooltip": [vl.tip("text:N", "centre line")]},
     )
+    # inside the plot, right-aligned just above the line at its end: the chart keeps its whole
+    # width for the points (a label beside the plot took a third of a phone's screen)
     label = vl.view(
         "centre",
-        vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK),
+        vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2, color=style.INK),
         {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
     )
     return [rule, label]
