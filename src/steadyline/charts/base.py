@@ -619,30 +619,32 @@ EVENT_LINES = 3
 def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     """Events within the plotted time range (outside it they would stretch the axis), in time
     order. Successive events step down one line each (``EVENT_LINES`` lines), so that labels of
-    events close in time do not print over each other. A label reads right of its rule in the
-    left half of the chart and left of it in the right half (``align``: where the text is
-    anchored to the rule), so that a recent event keeps room for its words; it may run as far as ``edge``: the next label's ground on its
-    line (the whole gap to a label that faces away, half of it to one that faces this one), or
-    the chart's end. Beyond that it is cut with an ellipsis, its whole text in the tooltip."""
+    events close in time do not print over each other.
+
+    A label reads rightwards from its rule in the left half of the chart and leftwards in the
+    right half (``align``, the end of the text that sits at the rule), so that a recent event
+    keeps room for its words. It may run as far as ``edge``: towards the neighbouring label on
+    its line, the whole gap when that label faces away and half of it when it faces this one,
+    or to the chart's end. Beyond that it is cut with an ellipsis, its whole text in the
+    tooltip."""
     inside = sorted(((parse_time(time_text(when)), time_text(when), str(label), str(when))
                      for when, label in events if xa.in_range(when)), key=lambda e: e[0])
     if not inside:
         return []
     first, last = parse_time(xa.at(0)), parse_time(xa.at(xa.n - 1))
     span = (last - first).total_seconds() or 1.0
-    right = [(t - first).total_seconds() / span > 0.5 for t, *_ in inside]
+    leftwards = [(t - first).total_seconds() / span > 0.5 for t, *_ in inside]
     rows = []
     for k, (t, x, label, when) in enumerate(inside):
-        if right[k]:  # the ground back to the previous label on this line
-            j = k - EVENT_LINES
-            edge = (first if j < 0 else inside[j][0] + (t - inside[j][0]) / 2 if not right[j]
-                    else inside[j][0])
-        else:  # the ground on to the next label on this line
-            j = k + EVENT_LINES
-            edge = (last if j >= len(inside) else t + (inside[j][0] - t) / 2 if right[j]
-                    else inside[j][0])
+        j = k - EVENT_LINES if leftwards[k] else k + EVENT_LINES  # the neighbour on this line
+        if not 0 <= j < len(inside):
+            edge = first if leftwards[k] else last
+        elif leftwards[j] == leftwards[k]:
+            edge = inside[j][0]  # it faces the same way: the whole gap
+        else:
+            edge = t + (inside[j][0] - t) / 2  # it faces this one: half the gap each
         rows.append({"x": x, "label": label, "when": when, "y": 16 + 12 * (k % EVENT_LINES),
-                     "align": "right" if right[k] else "left", "edge": utc_text(edge)})
+                     "align": "right" if leftwards[k] else "left", "edge": utc_text(edge)})
     return rows
 
 
