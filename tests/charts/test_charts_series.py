@@ -202,6 +202,22 @@ def test_events_are_laid_out_in_time_order():
         ("a", 16), ("b", 28), ("c", 40)]
 
 
+def test_event_labels_get_room_above_the_points_and_limits():
+    from steadyline.charts import style
+
+    spec = control_chart(make_ctx(), make_individuals(), ()).spec
+    ds = spec["datasets"]
+    (room,) = ds["headroom"]
+    drawn = [r["v"] for r in ds["points"] if r.get("v") is not None]  # the upper chart's values
+    drawn += [r["y"] for r in ds["limits"]]
+    lo, hi = min(drawn), max(drawn)
+    # one line of labels: 32 px of the 260 px plot are kept clear above the highest value
+    share = (20 + 12) / style.HEIGHT_MAIN
+    assert room["y"] == pytest.approx(hi + (hi - lo) * share / (1 - share), rel=1e-3)
+    quiet = control_chart(make_ctx(events=()), make_individuals(), ()).spec
+    assert quiet["datasets"]["headroom"] == []  # no labels, no room taken from the points
+
+
 def test_events_outside_the_series_are_left_out():
     ctx = make_ctx(events=(("2025-01-01", "long ago"), ("2026-02-02", "inside")))
     spec = control_chart(ctx, make_individuals(), ()).spec

@@ -648,6 +648,28 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     return rows
 
 
+def headroom_rows(events: list[dict], height: int, values) -> list[dict]:
+    """An invisible point that lifts the top of the y scale just enough to keep the event labels
+    (``event_rows``, in lines from the top of the plot) above every plotted value and line,
+    instead of printed over them; none when no event is drawn. ``values``: every y drawn."""
+    if not events:
+        return []
+    v = np.asarray(values, dtype=float)
+    v = v[np.isfinite(v)]
+    if not v.size:
+        return []
+    lo, hi = float(v.min()), float(v.max())
+    lines = min(EVENT_LINES, len(events))
+    share = (20 + 12 * lines) / height  # of the plot's height: the labels and a margin
+    span = hi - lo if hi > lo else (abs(hi) or 1.0) * 0.1
+    return [{"y": disp(hi + span * share / (1 - share))}]
+
+
+def headroom_layer(y: dict) -> dict:
+    """The layer drawing :func:`headroom_rows`: nothing visible, only the y scale's reach."""
+    return vl.view("headroom", vl.mark("square", opacity=0, size=1), {"y": y})
+
+
 def band_layers(is_time: bool) -> list[dict]:
     """Phase background bands with their names at the top left."""
     x = x_encoding(is_time)

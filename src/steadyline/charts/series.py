@@ -26,6 +26,8 @@ from .base import (
     event_rows,
     finish_template,
     fmt,
+    headroom_layer,
+    headroom_rows,
     make_spec,
     num,
     num_list,
@@ -244,6 +246,8 @@ def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -
         layers += _reference_layers(is_time, prefix, y_slot, staged=True)
     else:
         layers += _median_layers(is_time, y_slot)
+    if not suf:  # room above the points for the event labels (the chart beneath has none)
+        layers.append(headroom_layer(_y("y", y_slot)))
     layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median")
     return vl.layer(*layers, width="container", height=height)
 
@@ -735,6 +739,9 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         "bands": _bands(xa, ctx.stage),
         "events": _events(xa, ctx.events),
     }
+    datasets["headroom"] = (headroom_rows(datasets["events"], style.HEIGHT_MAIN,
+                                          np.append(np.asarray(vals, dtype=float), median))
+                            if datasets["events"] and median is not None else [])
     values_map = {"y_title": titled(ctx.metric_name, ctx.unit)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
 
@@ -913,6 +920,14 @@ def _control_parts(
     datasets["limit_parts"] = parts.rows
     datasets["bands"] = _bands(xa, ctx.stage)
     datasets["events"] = _events(xa, ctx.events)
+    datasets["headroom"] = []
+    if datasets["events"]:
+        drawn = [chart.values, chart.centre, chart.upper, chart.lower]
+        if own is not None:
+            drawn += [own.centre, own.upper, own.lower]
+        datasets["headroom"] = headroom_rows(
+            datasets["events"], style.HEIGHT_MAIN,
+            np.concatenate([np.asarray(a, dtype=float).ravel() for a in drawn]))
 
     unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
     main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
