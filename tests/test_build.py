@@ -104,6 +104,17 @@ def test_a_defectives_run_chart_is_labelled_as_a_proportion(demo_site: Path):
     assert " wheels" not in centre["text"]
 
 
+def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):
+    rolled_up = 0
+    for res in (demo_site / "projects").glob("*/results.json"):
+        for m in json.loads(res.read_text("utf-8"))["metrics"]:
+            reasons = (m.get("capability") or {}).get("reasons", [])
+            for r in reasons:
+                assert r[0].isupper() and r.endswith(".") and "(The " not in r, r
+            rolled_up += any("rolled up into periods" in r for r in reasons)
+    assert rolled_up  # the demo's daily roll-up says why Cp and Cpk are missing
+
+
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
     for page in demo_site.rglob("*.html"):
         text = page.read_text("utf-8")

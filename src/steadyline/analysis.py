@@ -231,18 +231,17 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
         own = [s for s in res.signals if any(map(here.__getitem__, s.indices))]
         if own:
             stable = False
-            reason = (f"The control chart shows {len(own)} signal"
-                      f"{'' if len(own) == 1 else 's'} in this period, so the process is not "
-                      "stable and its future output cannot be predicted from these figures.")
+            reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} on the control chart "
+                      "in this period")
+    no_sigma = None
     if res.data.spec.rollup is not None:
-        extra = ("The data are rolled up into periods, so the within-subgroup sigma of single "
-                 "values is not known; only Pp and Ppk (overall sigma) are given.")
-        reason = extra if reason is None else reason + " " + extra
+        no_sigma = ("The data are rolled up into periods, so the within-subgroup sigma of single "
+                    "values is not known; only Pp and Ppk (overall sigma) are given.")
     if normality is None and len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
     return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),
                 lsl=spec.spec_lower, usl=spec.spec_upper, target=spec.target, stable=stable,
-                normality=normality, unstable_reason=reason)
+                normality=normality, unstable_reason=reason, no_sigma_reason=no_sigma)
 
 
 def _categories(res: MetricAnalysis) -> None:

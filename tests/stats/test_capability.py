@@ -157,6 +157,9 @@ def test_trustworthy_and_reasons():
     unstable = capability(x, 2.0, 8, 20, stable=False, unstable_reason="two points beyond limits")
     assert not unstable.trustworthy
     assert any("not stable (two points beyond limits)" in r for r in unstable.reasons)
+    # the caller's own words for a missing within-subgroup sigma replace the general ones
+    rolled = capability(x, None, 8, 20, no_sigma_reason="Rolled up; no within sigma.")
+    assert "Rolled up; no within sigma." in rolled.reasons and rolled.cp is None
     skewed = np.random.default_rng(3).exponential(1.0, 200)
     sk = capability(skewed, 1.0, usl=6)
     assert not sk.trustworthy

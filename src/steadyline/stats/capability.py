@@ -85,12 +85,14 @@ def capability(
     normality: NormalityTest | None = None,
     unstable_reason: str | None = None,
     min_points: int = MIN_POINTS_FOR_CAPABILITY,
+    no_sigma_reason: str | None = None,
 ) -> Capability:
     """Capability and performance indices of individual values against specification limits.
 
     ``sigma_within`` is the within-subgroup sigma from the control chart (MR̄/d2, R̄/d2,
-    s̄/c4, pooled s). ``stable`` (and optionally ``unstable_reason``) come from the caller's
-    control chart. ``normality`` is computed by Anderson–Darling when not given and there are
+    s̄/c4, pooled s). ``stable`` (and optionally ``unstable_reason``, a short phrase such as
+    "2 signals on the control chart") come from the caller's control chart;
+    ``no_sigma_reason`` says why there is no within-subgroup sigma, when the caller knows. ``normality`` is computed by Anderson–Darling when not given and there are
     at least 8 values. Missing values (nan) are left out.
     """
     x = np.asarray(values, dtype=float)
@@ -123,7 +125,8 @@ def capability(
     if sw is not None and not math.isfinite(sw):
         raise StatsError("the within-subgroup sigma must be a finite number")
     if sw is None:
-        reasons.append("No within-subgroup sigma was given, so Cp and Cpk are not calculated.")
+        reasons.append(no_sigma_reason
+                       or "No within-subgroup sigma was given, so Cp and Cpk are not calculated.")
     elif sw <= 0:
         reasons.append(
             "The within-subgroup sigma is zero, so Cp and Cpk cannot be calculated "
