@@ -205,7 +205,7 @@ def test_render_markdown_strips_every_vector():
     html = render_markdown(HOSTILE_NOTES)
     doc = _parse(html)
     for tag, attrs in doc.tags:
-        assert tag in {"h1", "p", "a", "em", "strong", "code", "pre", "ul", "ol", "li"}, tag
+        assert tag in {"h3", "p", "a", "em", "strong", "code", "pre", "ul", "ol", "li"}, tag
         assert not any(k.startswith("on") or k == "style" for k in attrs), (tag, attrs)
         assert not _is_javascript_url(attrs.get("href", ""))
 
@@ -217,6 +217,13 @@ def _downloads(site: Path) -> list[Path]:
     files = sorted((site / "projects" / "evil" / "data").glob("*.csv"))
     assert files
     return files
+
+
+def test_note_headings_sit_below_the_pages_own():
+    html = render_markdown("# Title\n\n## Part\n\n###### Small\n\n<h1 title='x'>raw</h1>")
+    assert "<h1" not in html and "<h2" not in html
+    assert "<h3>Title</h3>" in html and "<h4>Part</h4>" in html and "<h6>Small</h6>" in html
+    assert "<h3>raw</h3>" in html  # raw HTML headings too (their attributes already removed)
 
 
 def test_csv_downloads_neutralise_formula_cells(site):

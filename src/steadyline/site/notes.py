@@ -49,10 +49,20 @@ def sanitise(html: str) -> str:
                      strip_comments=True, attribute_filter=_keep_link)
 
 
+# The notes sit under the page's own "Project notes" heading (h2): their headings move down two
+# levels, so that a note's "# Title" does not read as a second page title.
+HEADING_SHIFT = 2
+_HEADING = re.compile(r"<(/?)h([1-6])\b")
+
+
+def _shift_headings(html: str) -> str:
+    return _HEADING.sub(lambda m: f"<{m[1]}h{min(6, int(m[2]) + HEADING_SHIFT)}", html)
+
+
 def render_markdown(text: str) -> str:
     html = markdown.markdown(text, extensions=["tables", "fenced_code", "sane_lists"],
                              output_format="html")
-    return sanitise(html)
+    return _shift_headings(sanitise(html))
 
 
 def render_notes(path: Path) -> str:
