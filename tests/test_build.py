@@ -115,6 +115,22 @@ def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):
     assert rolled_up  # the demo's daily roll-up says why Cp and Cpk are missing
 
 
+def test_phase_histograms_share_their_bins_and_leave_no_value_out(demo_site: Path):
+    seen = 0
+    for res in (demo_site / "projects").glob("*/results.json"):
+        for m in json.loads(res.read_text("utf-8"))["history"] or []:  # None: no after phase
+            hists = m.get("histograms") or {}
+            if len(hists) < 2:
+                continue
+            seen += 1
+            assert len({tuple(h["edges"]) for h in hists.values()}) == 1, m["id"]
+            for h in hists.values():
+                if h["rule"] != "edges":  # given edges keep the user's range
+                    assert h["below_range"] == h["above_range"] == 0, m["id"]
+                    assert sum(h["counts"]) == h["n"], m["id"]
+    assert seen
+
+
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
     for page in demo_site.rglob("*.html"):
         text = page.read_text("utf-8")

@@ -8,7 +8,7 @@ failure of a single display as a plain sentence instead of failing the whole met
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -156,6 +156,13 @@ def analyse(data: MetricData) -> MetricAnalysis:
             res.normality = _try(res, "capability", distribution.anderson_darling, vbase)
         if spec.spec_lower is not None or spec.spec_upper is not None:
             res.capability = _capability(res, vbase, STAGE_BASELINE, res.normality)
+        # One set of bins for every phase: the baseline's, extended on the same grid to cover
+        # the later values (given edges stay as given: the user chose their range).
+        grid = None
+        if res.histogram is not None:
+            grid = res.histogram.edges
+            if not isinstance(spec.bins, tuple):
+                grid = distribution.extend_edges(grid, vals[vstage != STAGE_BASELINE])
         for st in (STAGE_BASELINE, STAGE_AFTER):
             sel = vals[vstage == st]
             if len(sel) == 0:
@@ -167,8 +174,15 @@ def analyse(data: MetricData) -> MetricAnalysis:
                 b = _try(res, "history", distribution.box_summary, sel, spec.quartiles)
             if b is not None:
                 res.phase_boxes.append((name, b))
-            h = _try(res, "history", distribution.histogram, sel,
-                     res.histogram.edges if res.histogram is not None else spec.bins)
+            if st == STAGE_BASELINE and res.histogram is not None and grid == res.histogram.edges:
+                h = res.histogram  # the baseline's own bins serve every phase
+            else:
+                h = _try(res, "history", distribution.histogram, sel,
+                         grid if grid is not None else spec.bins)
+                if h is not None and grid is not None and not isinstance(spec.bins, tuple):
+                    h = replace(h, rule=res.histogram.rule, rule_label=(
+                        f"{res.histogram.rule_label}, the baseline's bins"
+                        + ("" if grid == res.histogram.edges else ", extended on the same grid")))
             if spec.spec_lower is None and spec.spec_upper is None:
                 c = None
             elif st == STAGE_BASELINE:

@@ -298,3 +298,32 @@ def test_anderson_darling_requirements():
         anderson_darling([1, 2, 3, 4, 5, 6, 7])
     with pytest.raises(StatsError, match="standard deviation is zero"):
         anderson_darling([3.0] * 10)
+
+
+# --- bins shared by several phases -------------------------------------------------------------
+
+
+def test_extended_edges_keep_the_grid_and_cover_every_value():
+    from steadyline.stats.distribution import extend_edges
+
+    rng = np.random.default_rng(11)
+    base = rng.normal(50, 10, 120)
+    later = rng.normal(25, 6, 200)  # shifted well below the baseline's range
+    edges = np.histogram_bin_edges(base, bins="fd")
+    grid = np.array(extend_edges(edges, later))
+    # the baseline's edges are a run of the result, unchanged
+    k = int(np.flatnonzero(grid == edges[0])[0])
+    assert np.array_equal(grid[k:k + len(edges)], edges)
+    # one width throughout (reference: numpy.diff), and every later value inside
+    # (reference: numpy.histogram counts all of them)
+    assert np.allclose(np.diff(grid), edges[1] - edges[0], rtol=1e-9)
+    counts, _ = np.histogram(later, bins=grid)
+    assert counts.sum() == len(later) and grid[0] <= later.min()
+
+
+def test_extended_edges_leave_unequal_or_far_out_edges_alone():
+    from steadyline.stats.distribution import extend_edges
+
+    assert extend_edges([0.0, 1.0, 3.0], [-5.0]) == (0.0, 1.0, 3.0)  # unequal widths
+    assert extend_edges([0.0, 1.0, 2.0], [0.5, 1.5]) == (0.0, 1.0, 2.0)  # nothing outside
+    assert extend_edges([0.0, 1.0, 2.0], [1e6], max_bins=100) == (0.0, 1.0, 2.0)  # too far

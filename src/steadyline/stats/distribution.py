@@ -197,6 +197,46 @@ def histogram(
     )
 
 
+def extend_edges(
+    edges: Sequence[float], values: Sequence[float] | np.ndarray, max_bins: int = 100
+) -> tuple[float, ...]:
+    """Equal-width bin edges extended on the same grid (whole bins of the same width added
+    below and above) until they cover every finite value, so that histograms of several groups
+    share one set of bins and none leaves values out. The given edges stay as they are, a run
+    of the result. Unequal edges, or an extension past ``max_bins`` bins in all, come back
+    unchanged (values outside are then counted as out of range, as for explicit edges).
+
+    >>> extend_edges([0.0, 1.0, 2.0], [-1.5, 0.5, 2.2])
+    (-2.0, -1.0, 0.0, 1.0, 2.0, 3.0)
+    """
+    e = np.asarray(edges, dtype=float)
+    same = tuple(float(v) for v in e)
+    if e.ndim != 1 or len(e) < 2:
+        return same
+    d = np.diff(e)
+    w = float(d[0])
+    if not (w > 0 and np.allclose(d, w, rtol=1e-9, atol=0.0)):
+        return same
+    x = np.asarray(values, dtype=float)
+    x = x[np.isfinite(x)]
+    if not x.size:
+        return same
+    lo, hi = float(x.min()), float(x.max())
+    k_lo = max(0, math.ceil((e[0] - lo) / w)) if lo < e[0] else 0
+    k_hi = max(0, math.ceil((hi - e[-1]) / w)) if hi > e[-1] else 0
+    if not (k_lo or k_hi) or len(e) - 1 + k_lo + k_hi > max_bins:
+        return same
+    below = e[0] - w * np.arange(k_lo, 0, -1)
+    above = e[-1] + w * np.arange(1, k_hi + 1)
+    out = np.concatenate([below, e, above])
+    # rounding of the added edges: a value a hair outside still falls inside the last bin
+    if out[0] > lo:
+        out[0] = lo
+    if out[-1] < hi:
+        out[-1] = hi
+    return tuple(float(v) for v in out)
+
+
 def normal_curve(hist: Histogram, points: int = 200) -> tuple[np.ndarray, np.ndarray]:
     """A fitted normal curve over the histogram's range, scaled to counts per bin.
 
