@@ -211,8 +211,8 @@ def test_event_labels_get_room_above_the_points_and_limits():
     drawn = [r["v"] for r in ds["points"] if r.get("v") is not None]  # the upper chart's values
     drawn += [r["y"] for r in ds["limits"]]
     lo, hi = min(drawn), max(drawn)
-    # one line of labels: 32 px of the 260 px plot are kept clear above the highest value
-    share = (20 + 12) / style.HEIGHT_MAIN
+    # one line of labels: 40 px of the 260 px plot are kept clear above the highest value
+    share = (28 + 12) / style.HEIGHT_MAIN
     assert room["y"] == pytest.approx(hi + (hi - lo) * share / (1 - share), rel=1e-3)
     quiet = control_chart(make_ctx(events=()), make_individuals(), ()).spec
     assert quiet["datasets"]["headroom"] == []  # no labels, no room taken from the points

@@ -660,7 +660,9 @@ def headroom_rows(events: list[dict], height: int, values) -> list[dict]:
         return []
     lo, hi = float(v.min()), float(v.max())
     lines = min(EVENT_LINES, len(events))
-    share = (20 + 12 * lines) / height  # of the plot's height: the labels and a margin
+    # of the plot's height: the label lines from 16 px down, 12 px each, and a margin for the
+    # largest point marker
+    share = (28 + 12 * lines) / height
     span = hi - lo if hi > lo else (abs(hi) or 1.0) * 0.1
     return [{"y": disp(hi + span * share / (1 - share))}]
 
