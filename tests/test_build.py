@@ -6,6 +6,7 @@ import hashlib
 import json
 import os
 import random
+import re
 import shutil
 import signal
 import subprocess
@@ -129,6 +130,16 @@ def test_phase_histograms_share_their_bins_and_leave_no_value_out(demo_site: Pat
                     assert h["below_range"] == h["above_range"] == 0, m["id"]
                     assert sum(h["counts"]) == h["n"], m["id"]
     assert seen
+
+
+def test_index_cards_say_how_fresh_each_projects_data_are(demo_site: Path):
+    index = (demo_site / "index.html").read_text("utf-8")
+    for res in (demo_site / "projects").glob("*/results.json"):
+        doc = json.loads(res.read_text("utf-8"))
+        last = max(m["points"]["period"][-1][:10] for m in doc["metrics"] if "points" in m)
+        card = index[index.index(f'href="projects/{res.parent.name}/index.html"'):]
+        shown = re.search(r"data to (\d{4}-\d{2}-\d{2})", card[:card.index("</li>")])
+        assert shown and shown[1] >= last, res.parent.name
 
 
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):

@@ -353,7 +353,7 @@ CARD_STATE = """
     title: c.querySelector('h2').textContent.trim(),
     text: c.innerText,
     phase: (c.querySelector('.phase-badge') || {}).textContent || '',
-    owner: meta ? meta.textContent.split('\u00b7').pop().trim() : '',
+    owner: meta ? meta.querySelector('.owner').textContent.trim() : '',
     tags: Array.from(c.querySelectorAll('.tag')).map(function (t) { return t.textContent.trim(); }),
     visible: c.getClientRects().length > 0,
     hidden: c.hidden,

@@ -401,12 +401,16 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
     warnings += sum(1 for p in problems if p.severity == "warning")
     text = " ".join([spec.title, spec.owner, spec.phase, spec.problem, *spec.tags,
                      *(a.spec.name for a in analyses)])
+    # how fresh the data are: the last period of any metric (a sponsor spots a stale project)
+    ends = [a.data.points["period"].to_numpy().max() for a in analyses
+            if "period" in a.data.points and len(a.data.points)]
+    data_to = str(np.datetime_as_string(max(ends), unit="D")) if ends else ""
     return {"slug": spec.slug, "title": spec.title, "owner": spec.owner, "phase": spec.phase,
             "phase_label": PHASE_LABEL[spec.phase], "tags": list(spec.tags),
             "href": f"projects/{spec.slug}/index.html",
             "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
             "headline": headline, "signals": signals, "baseline_signals": baseline_signals, "warnings": warnings,
-            "search_text": text, "broken": False, "problem_count": 0}
+            "search_text": text, "broken": False, "problem_count": 0, "data_to": data_to}
 
 
 def headline_text(a: MetricAnalysis) -> str:
