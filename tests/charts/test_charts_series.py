@@ -370,3 +370,11 @@ def test_long_subtitle_lines_are_wrapped_at_spaces():
     lines = spec["title"]["subtitle"]
     assert all(len(x) <= SUBTITLE_WIDTH for x in lines) and len(lines) >= 4
     assert " ".join(lines[:-1]).split() == words and lines[-1] == "short"
+
+
+def test_subtitle_times_read_as_a_reader_writes_them():
+    from steadyline.charts.series import _when
+
+    assert _when("2026-02-02T14:53:00") == "2026-02-02 14:53"
+    assert _when("2026-02-02T14:53:07") == "2026-02-02 14:53:07"
+    assert _when("2026-02-02") == "2026-02-02"

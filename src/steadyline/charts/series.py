@@ -668,11 +668,19 @@ def _limits_info(chart: ControlChart) -> _Coded:
     return _Coded(np.repeat(np.asarray(run_codes, dtype=np.int64), lengths), texts)
 
 
+def _when(x: str) -> str:
+    """A point's time as a reader writes it: '2026-02-02 14:53' for '2026-02-02T14:53:00'."""
+    day, sep, clock = x.partition("T")
+    if not sep:
+        return x
+    return f"{day} {clock[:5] if clock.endswith(':00') and len(clock) == 8 else clock}"
+
+
 def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
     mask = [bool(b) for b in np.asarray(fitted, dtype=bool)]
     n = len(mask)
     if n and all(mask):
-        span = f"{ctx.x[0]} to {ctx.x[-1]}"
+        span = f"{_when(ctx.x[0])} to {_when(ctx.x[-1])}"
         return f"limits from all {n} points ({span})"
     if not any(mask):
         return "limits given in advance, not computed from these points"
@@ -681,7 +689,7 @@ def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
         if not on:
             continue
         name = ctx.stage[a]
-        span = f"{ctx.x[a]} to {ctx.x[b]}" if b > a else f"{ctx.x[a]}"
+        span = f"{_when(ctx.x[a])} to {_when(ctx.x[b])}" if b > a else _when(ctx.x[a])
         count = plural(b - a + 1, "point")
         parts.append(f"{name}, {span} ({count})" if name else f"{span} ({count})")
     return "limits from " + "; ".join(parts)
@@ -1122,7 +1130,7 @@ def staged_control_chart(
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
-            f"after phase's own limits (solid) from {ctx.x[a]} to {ctx.x[b]} "
+            f"after phase's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
             f"({plural(len(after_idx), 'point')})"
         )
     subtitle.append(_signals_sentence(signals, max_kinds=2))
