@@ -132,6 +132,18 @@ def test_phase_histograms_share_their_bins_and_leave_no_value_out(demo_site: Pat
     assert seen
 
 
+def test_index_counts_the_projects_by_phase(demo_site: Path):
+    from collections import Counter
+
+    index = (demo_site / "index.html").read_text("utf-8")
+    # reference: the phase each demo project's metadata names
+    phases = Counter(re.search(r'^phase = "(\w+)"', (d / "project.toml").read_text("utf-8"),
+                               re.M)[1] for d in DEMO.iterdir() if (d / "project.toml").is_file())
+    order = ["define", "measure", "analyze", "improve", "control"]
+    expected = ", ".join(f"{phases[p]} in {p}" for p in order if phases[p])
+    assert f"By phase: {expected}." in index
+
+
 def test_index_cards_say_how_fresh_each_projects_data_are(demo_site: Path):
     index = (demo_site / "index.html").read_text("utf-8")
     for res in (demo_site / "projects").glob("*/results.json"):
