@@ -152,6 +152,9 @@ def test_index_cards_say_how_fresh_each_projects_data_are(demo_site: Path):
         card = index[index.index(f'href="projects/{res.parent.name}/index.html"'):]
         shown = re.search(r"data to (\d{4}-\d{2}-\d{2})", card[:card.index("</li>")])
         assert shown and shown[1] >= last, res.parent.name
+        assert doc["project"]["data_to"] == shown[1]  # results.json says the same
+        page = (res.parent / "index.html").read_text("utf-8")
+        assert f"data to {shown[1]}" in page  # and so does the project's page
 
 
 def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):

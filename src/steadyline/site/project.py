@@ -353,6 +353,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     prov = provenance(spec, root, dates)
     ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
     project_ctx = project_view(spec)
+    fresh = data_to(analyses)  # a sponsor spots a stale project
+    project_ctx["data_to"] = fresh
     page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
     html = render("project.html", project=project_ctx, metrics=sections, notes_html=notes_html,
                   provenance=prov, warnings=page_warnings, has_history=has_history, **ctx)
@@ -367,14 +369,15 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
                     "phase": spec.phase, "problem": spec.problem, "tags": list(spec.tags),
                     "safety_related": spec.safety_related,
                     "phase_dates": dict(spec.phase_dates),
-                    "events": [{"date": e.date, "label": e.label} for e in spec.events]},
+                    "events": [{"date": e.date, "label": e.label} for e in spec.events],
+                    "data_to": fresh or None},
         "metrics": results,
         "history": history,
         "input_notes": [p.format() for p in problems],
         "provenance": prov,
     }
     files["results.json"] = dumps_bytes(doc)
-    entry = index_entry(spec, analyses, sections, problems, has_history)
+    entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
     return ProjectOutcome(spec.slug, True, files, entry, problems + _stats_notes(analyses))
 
 
@@ -386,8 +389,15 @@ def project_view(spec: ProjectSpec) -> dict:
             "events": [{"date": e.date.isoformat(), "label": e.label} for e in spec.events]}
 
 
+def data_to(analyses: list[MetricAnalysis]) -> str:
+    """How fresh a project's data are: the last period of any of its metrics (a date), or ""."""
+    ends = [a.data.points["period"].to_numpy().max() for a in analyses
+            if "period" in a.data.points and len(a.data.points)]
+    return str(np.datetime_as_string(max(ends), unit="D")) if ends else ""
+
+
 def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: list[dict],
-                problems: list[Problem], has_history: bool) -> dict:
+                problems: list[Problem], has_history: bool, fresh: str = "") -> dict:
     head = next((a for a in analyses if a.spec.id == spec.headline.id), None)
     headline = None
     if head is not None:
@@ -401,16 +411,12 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
     warnings += sum(1 for p in problems if p.severity == "warning")
     text = " ".join([spec.title, spec.owner, spec.phase, spec.problem, *spec.tags,
                      *(a.spec.name for a in analyses)])
-    # how fresh the data are: the last period of any metric (a sponsor spots a stale project)
-    ends = [a.data.points["period"].to_numpy().max() for a in analyses
-            if "period" in a.data.points and len(a.data.points)]
-    data_to = str(np.datetime_as_string(max(ends), unit="D")) if ends else ""
     return {"slug": spec.slug, "title": spec.title, "owner": spec.owner, "phase": spec.phase,
             "phase_label": PHASE_LABEL[spec.phase], "tags": list(spec.tags),
             "href": f"projects/{spec.slug}/index.html",
             "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
             "headline": headline, "signals": signals, "baseline_signals": baseline_signals, "warnings": warnings,
-            "search_text": text, "broken": False, "problem_count": 0, "data_to": data_to}
+            "search_text": text, "broken": False, "problem_count": 0, "data_to": fresh}
 
 
 def headline_text(a: MetricAnalysis) -> str:
