@@ -378,3 +378,16 @@ def test_subtitle_times_read_as_a_reader_writes_them():
     assert _when("2026-02-02T14:53:00") == "2026-02-02 14:53"
     assert _when("2026-02-02T14:53:07") == "2026-02-02 14:53:07"
     assert _when("2026-02-02") == "2026-02-02"
+
+
+def test_long_axis_titles_wrap_instead_of_stretching_the_chart():
+    from steadyline.charts.base import AXIS_TITLE_LINES, axis_title
+
+    assert axis_title("Lead time (hours)", 260) == "Lead time (hours)"
+    words = "Percentage of customer orders shipped complete within a day of receipt at the dock"
+    lines = axis_title(words, 130)
+    assert isinstance(lines, list) and 1 < len(lines) <= AXIS_TITLE_LINES
+    assert max(map(len, lines)) <= 130 / 5.4
+    assert lines[-1].endswith("\u2026")  # more than three lines' worth: cut, and says so
+    short = axis_title("Subgroup standard deviation (S), kN", 130)
+    assert " ".join(short) == "Subgroup standard deviation (S), kN"

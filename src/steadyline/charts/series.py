@@ -17,6 +17,7 @@ from .base import (
     ColumnTable,
     SeriesContext,
     XAxis,
+    axis_title,
     band_layers,
     band_rows,
     cached_template,
@@ -750,7 +751,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     datasets["headroom"] = (headroom_rows(datasets["events"], style.HEIGHT_MAIN,
                                           np.append(np.asarray(vals, dtype=float), median))
                             if datasets["events"] and median is not None else [])
-    values_map = {"y_title": titled(ctx.metric_name, ctx.unit)}
+    values_map = {"y_title": axis_title(titled(ctx.metric_name, ctx.unit), style.HEIGHT_MAIN)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
 
     rules = _RULE_SET_NAMES.get(analysis.rule_set, analysis.rule_set)
@@ -939,9 +940,10 @@ def _control_parts(
 
     unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
     main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
-    values_map = {"y_title": titled(main_name, unit_main)}
+    values_map = {"y_title": axis_title(titled(main_name, unit_main), style.HEIGHT_MAIN)}
     if sec is not None:
-        values_map["y2_title"] = titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else "")
+        values_map["y2_title"] = axis_title(
+            titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else ""), style.HEIGHT_SECONDARY)
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     return datasets, values_map, marked, sec_marked, labels
 
