@@ -8,6 +8,7 @@ from ..stats.results import BoxSummary, Histogram, StatsError
 from . import style, vl
 from .base import (
     ChartSpec,
+    axis_title,
     cached_template,
     finish_template,
     fmt,
@@ -185,7 +186,9 @@ def histogram_chart(
         sub.append(" and ".join(outside) + " the range shown (not drawn)")
     if curve_note:
         sub.append(curve_note)
-    spec = make_spec(tpl, {"x_title": x_title}, datasets, f"{name} \u2014 histogram", sub)
+    # broken into lines past the width of a half-width card's plot (about 400 px)
+    spec = make_spec(tpl, {"x_title": axis_title(x_title, 400)}, datasets,
+                     f"{name} \u2014 histogram", sub)
 
     table = [{"from": r["start"], "to": r["end"], "count": r["count"]} for r in bins]
     peak = max(range(len(counts)), key=lambda k: counts[k]) if counts else None
