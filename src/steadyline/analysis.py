@@ -247,6 +247,20 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
             stable = False
             reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} on the control chart "
                       "in this period")
+    elif chart is not None:
+        # a later phase is judged on its own limits (those of the baseline would flag the
+        # very change the project made)
+        if res.after_limits is None:
+            stable = False
+            reason = (f"the phase has too few points for limits of its own "
+                      f"({AFTER_OWN_LIMITS_MIN} are needed), so its stability is not yet judged")
+        else:
+            own = _try(res, "capability", rules.detect_signals, res.after_limits,
+                       spec.signal_rules, stage) or ()
+            if own:
+                stable = False
+                reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} against the phase's "
+                          "own control limits")
     no_sigma = None
     if res.data.spec.rollup is not None:
         no_sigma = ("The data are rolled up into periods, so the within-subgroup sigma of single "

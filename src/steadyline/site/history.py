@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from .. import advice
 from ..analysis import MetricAnalysis
 from ..charts import (
     SeriesContext,
@@ -100,7 +101,8 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
               method="Same bin edges in every phase.")
         if c is not None:
             caps.append({"phase": name, "rows": capability_rows(c, m.unit),
-                         "trustworthy": c.trustworthy, "reasons": list(c.reasons)})
+                         "trustworthy": c.trustworthy, "reasons": list(c.reasons),
+                         "verdict": advice.capability_verdict(c)})
     if len(a.phase_histograms) > 1:
         result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
         result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
