@@ -33,3 +33,12 @@ def test_dates_listed_up_to_a_limit():
     assert advice.list_dates(["a", "b", "a"]) == "a and b"
     many = [str(i) for i in range(advice.MAX_DATES_LISTED + 3)]
     assert advice.list_dates(many).endswith(" and 3 more")
+
+
+def test_own_limit_findings_say_whether_the_new_process_is_stable():
+    assert advice.own_limit_findings((), X)[0].kind == "clear"
+    sig = Signal("beyond-limits", "a point outside the control limits", (3,), "above")
+    found = advice.own_limit_findings((sig,), X)
+    assert "shows 1 signal" in found[0].text
+    assert found[1].text.startswith("After, on its own limits: a point outside the control "
+                                    "limits (above the centre line): 1 point, 2026-01-04.")

@@ -71,6 +71,8 @@ def test_an_after_phase_with_a_signal_on_its_own_limits_is_not_trusted(tmp_path)
     cap = _after_capability(a)
     assert not cap.trustworthy
     assert any("against the phase's own control limits" in r for r in cap.reasons)
+    # the analysis keeps those signals for the page: the planted point is among them
+    assert any(40 + 20 in s.indices for s in a.after_signals)
 
 
 @pytest.mark.parametrize("n", [8])

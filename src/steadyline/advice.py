@@ -101,6 +101,22 @@ def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence
     return out
 
 
+def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Finding]:
+    """The after phase judged on its own centre line and limits: is the new process stable?"""
+    if not signals:
+        return [Finding("clear", CLEAR_MARKER,
+                        "On its own limits the after phase shows no signal: the new process is "
+                        "stable so far.")]
+    n = len(signals)
+    out = [Finding("signal", SIGNAL_MARKER,
+                   f"On its own limits the after phase shows {n} signal{'s' if n != 1 else ''}: "
+                   "the new process is not yet stable; look into these points before reading "
+                   "its capability.")]
+    out += [Finding("signal", SIGNAL_MARKER, "After, on its own limits: " + group_sentence(g, x))
+            for g in _grouped(signals, None).values()]
+    return out
+
+
 def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
     out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"))
            for g in _grouped(run.signals, None).values()]

@@ -49,6 +49,7 @@ class MetricAnalysis:
     control: ControlChart | None = None
     signals: tuple[Signal, ...] = ()
     after_limits: ControlChart | None = None  # per-phase limits, for the history page
+    after_signals: tuple[Signal, ...] = ()  # after-phase points against the after_limits
     box: BoxSummary | None = None
     histogram: Histogram | None = None
     normality: NormalityTest | None = None
@@ -144,6 +145,9 @@ def analyse(data: MetricData) -> MetricAnalysis:
             if res.has_after and int((stage == STAGE_AFTER).sum()) >= AFTER_OWN_LIMITS_MIN:
                 res.after_limits = _try(res, "history", _control, res.choice.kind, data, stage,
                                         "per-phase")
+                if res.after_limits is not None:
+                    res.after_signals = _try(res, "history", _after_signals, res.after_limits,
+                                             spec.signal_rules) or ()
 
     # Distribution displays on individual values (continuous and subgrouped data).
     if data.values is not None and len(data.values):
@@ -219,6 +223,11 @@ def _subject(name: str, kind: str) -> str:
     return f"proportion of {lowered}" if kind == "defectives" else lowered
 
 
+def _after_signals(chart: ControlChart, rule_set: str) -> tuple[Signal, ...]:
+    """Signals of the after phase's points against the after phase's own limits."""
+    return tuple(rules.detect_signals(chart, rule_set, only_stage=STAGE_AFTER))
+
+
 def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
     """Within-subgroup sigma of the individual values, from the chart fitted on that stage."""
     chart = res.control if stage == STAGE_BASELINE else res.after_limits
@@ -255,8 +264,7 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
             reason = (f"the phase has too few points for limits of its own "
                       f"({AFTER_OWN_LIMITS_MIN} are needed), so its stability is not yet judged")
         else:
-            own = _try(res, "capability", rules.detect_signals, res.after_limits,
-                       spec.signal_rules, stage) or ()
+            own = res.after_signals
             if own:
                 stable = False
                 reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} against the phase's "

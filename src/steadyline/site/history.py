@@ -72,6 +72,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         # question on this page is whether the after data still fits the old process.
         chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals)
         d.add("staged-control", "Control chart by phase", chart,
+              findings=advice.own_limit_findings(a.after_signals, a.x) if own else (),
               method=("Baseline limits carried forward over the later points (dashed), and "
                       "the after phase's own centre line and limits over the after phase "
                       "(solid). Signals are judged against the baseline limits, so they "
@@ -85,6 +86,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
                   "signals": signals_json(a.signals, a.x)}
         if own:
             staged["after_chart"] = a.after_limits
+            staged["after_signals"] = signals_json(a.after_signals, a.x)
         result["staged_control_chart"] = staged
     if len(a.phase_boxes) > 1:
         chart = box_chart(a.phase_boxes, unit=m.unit)
