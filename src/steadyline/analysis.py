@@ -161,12 +161,12 @@ def analyse(data: MetricData) -> MetricAnalysis:
         if spec.spec_lower is not None or spec.spec_upper is not None:
             res.capability = _capability(res, vbase, STAGE_BASELINE, res.normality)
         # One set of bins for every phase: the baseline's, extended on the same grid to cover
-        # the later values (given edges stay as given: the user chose their range).
+        # the after values (given edges stay as given: the user chose their range).
         grid = None
         if res.histogram is not None:
             grid = res.histogram.edges
             if not isinstance(spec.bins, tuple):
-                grid = distribution.extend_edges(grid, vals[vstage != STAGE_BASELINE])
+                grid = distribution.extend_edges(grid, vals[vstage == STAGE_AFTER])
         for st in (STAGE_BASELINE, STAGE_AFTER):
             sel = vals[vstage == st]
             if len(sel) == 0:
