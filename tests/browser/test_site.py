@@ -343,6 +343,35 @@ def test_a_phone_sized_window_keeps_every_plot_readable(browser, site_url, built
     assert not problems, "\n".join(problems)
 
 
+AXIS_LABELS = """
+async () => {
+  await window.steadylineCharts;
+  const chart = document.querySelector('.chart');  // the first chart: a time series
+  return Array.from(chart.querySelectorAll('g.role-axis-label text')).map(t => t.textContent);
+}
+"""
+
+
+def test_time_axes_read_the_same_in_every_time_zone(browser, site_url, built_site):
+    """Day ticks name the month ("Mar 14", not "Sat 14") and come out the same wherever the
+    reader is: the dates are UTC instants, labelled in UTC."""
+    path = next(p for p in screenshot_pages(built_site) if p.endswith("/index.html")
+                and p != "index.html")
+    seen = {}
+    for tz in ("UTC", "America/Los_Angeles", "Asia/Tokyo"):
+        ctx = browser.new_context(base_url=site_url, viewport={"width": 1280, "height": 900},
+                                  timezone_id=tz)
+        try:
+            page, watch = open_page(ctx, site_url, path)
+            seen[tz] = page.evaluate(AXIS_LABELS)
+            assert not watch.problems, watch.problems
+        finally:
+            ctx.close()
+    assert seen["UTC"] and seen["UTC"] == seen["America/Los_Angeles"] == seen["Asia/Tokyo"]
+    weekdays = ("Mon ", "Tue ", "Wed ", "Thu ", "Fri ", "Sat ", "Sun ")
+    assert not any(label.startswith(weekdays) for label in seen["UTC"]), seen["UTC"]
+
+
 # --------------------------------------------------------------------------------------------
 # (b) the index filters
 

@@ -578,7 +578,10 @@ def x_encoding(is_time: bool, field: str = "x", title: str | None = None) -> dic
         return vl.field(
             f"{field}:T",
             scale={"type": "utc"},
-            axis={"title": title, "labelOverlap": True, "grid": False},
+            # day ticks as "Mar 14" (Vega's default "Sat 14" hides the month), hours on a
+            # 24-hour clock; coarser ticks keep Vega's own month and year labels
+            axis={"title": title, "labelOverlap": True, "grid": False,
+                  "format": {"date": "%b %d", "hours": "%H:%M"}},
         )
     return vl.field(
         f"{field}:Q",

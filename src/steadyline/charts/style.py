@@ -100,6 +100,8 @@ def vega_config() -> dict:
     """The one Vega-Lite config shared by every chart (a fresh dict each call)."""
     return {
         "font": FONT,
+        # lets the time axes pass Vega a multi-format object (charts.base.x_encoding)
+        "customFormatTypes": True,
         "background": "#ffffff",
         "padding": 8,
         "view": {"stroke": None, "continuousHeight": HEIGHT_MAIN},
