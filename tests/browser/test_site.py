@@ -372,6 +372,27 @@ def test_time_axes_read_the_same_in_every_time_zone(browser, site_url, built_sit
     assert not any(label.startswith(weekdays) for label in seen["UTC"]), seen["UTC"]
 
 
+def test_point_tooltips_give_the_date(browser_context, site_url, built_site):
+    """Hovering a point shows its date as text (it read "NaN" once), its value and phase."""
+    path = next(p for p in screenshot_pages(built_site) if p.endswith("/index.html")
+                and p != "index.html")
+    page, watch = open_page(browser_context, site_url, path)
+    try:
+        page.evaluate("async () => { await window.steadylineCharts; }")
+        texts = []
+        for chart in page.locator(".chart").all()[:2]:  # a run chart and a control chart
+            chart.locator("g.mark-symbol path").nth(3).hover(force=True)
+            page.wait_for_timeout(300)
+            texts.append(page.evaluate(
+                "() => (document.querySelector('#vg-tooltip-element') || {}).innerText || ''"))
+    finally:
+        page.close()
+    assert len(texts) == 2
+    for text in texts:
+        assert "NaN" not in text and re.search(r"date\s+\d{4}-\d{2}-\d{2}", text), text
+        assert "value" in text and "phase" in text, text
+
+
 # --------------------------------------------------------------------------------------------
 # (b) the index filters
 

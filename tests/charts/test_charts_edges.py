@@ -59,14 +59,14 @@ def test_datetimes_with_offsets_become_utc():
     assert cs.spec["datasets"]["points"][0]["x"] == "2026-02-01T07:00:00Z"
     # the tooltip shows the UTC time to the minute (the positions have no seconds)
     assert cs.spec["datasets"]["points"][0]["x"] == "2026-02-01T07:00:00Z"
-    tip = next(
-        t
+    when = next(
+        t["calculate"]
         for v, _ in unit_views(cs.spec)
         if v["mark"]["type"] == "point"
-        for t in v["encoding"]["tooltip"]
-        if t["field"] == "x"
+        for t in v.get("transform", [])
+        if t.get("as") == "when"
     )
-    assert tip["format"] == "%Y-%m-%d %H:%M" and tip["formatType"] == "utc"
+    assert when == "utcFormat(datum.x, '%Y-%m-%d %H:%M')"
 
 
 def test_run_chart_of_one_point_and_percent_unit():

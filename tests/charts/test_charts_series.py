@@ -93,7 +93,7 @@ def test_signal_points_marked_by_shape_size_and_colour_with_rule_in_tooltip():
     colours = enc["color"]["scale"]["range"]
     assert shapes[0] != shapes[1] and colours[0] != colours[1]
     assert "condition" in enc["size"]
-    assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "x", "v", "info"}
+    assert {t["field"] for t in enc["tooltip"]} >= {"signals", "fitted", "when", "v", "info"}
     # the marker and the signal text are computed in the view from the short row fields
     calcs = {t["as"]: t["calculate"] for t in view["transform"] if "calculate" in t}
     assert calcs["marker"] == f"datum.signals ? '{MARK_SIGNAL}' : '{MARK_ORDINARY}'"

@@ -86,7 +86,7 @@ def _y(field: str, y_slot: str) -> dict:
 
 def _x_tip(is_time: bool) -> dict:
     if is_time:
-        return vl.tip("x:T", "date", slot("x_format"), formatType="utc")
+        return vl.tip("when:N", "date")  # text made in the view (_value_layers), in UTC
     return vl.tip("label:N", "point")
 
 
@@ -119,6 +119,10 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
         ),
         {"calculate": _SIGNAL_TEST, "as": "marker"},
         {"calculate": "datum.signals || 'none'", "as": "signals"},
+        # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
+        # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
+        # gave NaN)
+        *([{"calculate": slot("x_when"), "as": "when"}] if is_time else []),
     ]
     tooltip = [
         _x_tip(is_time),
@@ -791,7 +795,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
 @by_identity(4)
 def _x_values(ctx: SeriesContext, xa: XAxis) -> dict:
     if ctx.x_is_time:
-        return {"x_format": _x_format(ctx)}
+        return {"x_when": f"utcFormat(datum.x, '{_x_format(ctx)}')"}
     return xa.axis_values()
 
 
