@@ -162,11 +162,10 @@ def analyse(data: MetricData) -> MetricAnalysis:
             res.capability = _capability(res, vbase, STAGE_BASELINE, res.normality)
         # One set of bins for every phase: the baseline's, extended on the same grid to cover
         # the after values (given edges stay as given: the user chose their range).
-        grid = None
-        if res.histogram is not None:
-            grid = res.histogram.edges
-            if not isinstance(spec.bins, tuple):
-                grid = distribution.extend_edges(grid, vals[vstage == STAGE_AFTER])
+        given = isinstance(spec.bins, tuple)
+        grid = res.histogram.edges if res.histogram is not None else None
+        if grid is not None and not given:
+            grid = distribution.extend_edges(grid, vals[vstage == STAGE_AFTER])
         for st in (STAGE_BASELINE, STAGE_AFTER):
             sel = vals[vstage == st]
             if len(sel) == 0:
@@ -178,12 +177,12 @@ def analyse(data: MetricData) -> MetricAnalysis:
                 b = _try(res, "history", distribution.box_summary, sel, spec.quartiles)
             if b is not None:
                 res.phase_boxes.append((name, b))
-            if st == STAGE_BASELINE and res.histogram is not None and grid == res.histogram.edges:
+            if st == STAGE_BASELINE and grid is not None and grid == res.histogram.edges:
                 h = res.histogram  # the baseline's own bins serve every phase
             else:
                 h = _try(res, "history", distribution.histogram, sel,
                          grid if grid is not None else spec.bins)
-                if h is not None and grid is not None and not isinstance(spec.bins, tuple):
+                if h is not None and grid is not None and not given:
                     h = replace(h, rule=res.histogram.rule, rule_label=(
                         f"{res.histogram.rule_label}, the baseline's bins"
                         + ("" if grid == res.histogram.edges else ", extended on the same grid")))

@@ -248,19 +248,24 @@ _AXIS_CHARS_PER_PX = 1 / 5.4  # a title may run a little past its axis before it
 AXIS_TITLE_LINES = 3
 
 
-@functools.lru_cache(maxsize=256)
 def axis_title(text: str, length: int) -> str | list[str]:
     """An axis title that fits along an axis of ``length`` pixels: as it is when short enough,
     else broken at spaces into lines (at most ``AXIS_TITLE_LINES``, the last cut with an
     ellipsis). A long title on one line would stretch the chart to its own length."""
+    lines = _axis_lines(text, length)
+    return lines[0] if len(lines) == 1 and lines[0] == text else list(lines)
+
+
+@functools.lru_cache(maxsize=256)
+def _axis_lines(text: str, length: int) -> tuple[str, ...]:
     room = max(12, int(length * _AXIS_CHARS_PER_PX))
     if len(text) <= room:
-        return text
+        return (text,)
     lines = textwrap.wrap(text, room, break_long_words=True, break_on_hyphens=False)
     if len(lines) > AXIS_TITLE_LINES:
         lines = lines[:AXIS_TITLE_LINES]
         lines[-1] = lines[-1][: room - 1].rstrip() + "\u2026"
-    return lines
+    return tuple(lines)
 
 
 # ------------------------------------------------------------------------------------------------

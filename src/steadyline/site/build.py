@@ -180,10 +180,9 @@ def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> 
     # Broken first (they need attention), then by phase from define to control, then by title.
     ok = [e for e in entries if not e["broken"]]
     ctx = page_context("", settings, f"{LIVE_STATE} __index__" if live else None)
-    by_phase = [(p, sum(e["phase"] == p for e in ok)) for p in PHASES]
+    by_phase = [(p, n) for p in PHASES if (n := sum(e["phase"] == p for e in ok))]
     html = render("index.html", projects=entries, broken=len(entries) - len(ok),
-                  phases=[p for p, n in by_phase if n],
-                  by_phase=[(p, n) for p, n in by_phase if n],
+                  phases=[p for p, _ in by_phase], by_phase=by_phase,
                   owners=sorted({e["owner"] for e in ok}, key=str.casefold),
                   tags=sorted({t for e in ok for t in e["tags"]}, key=str.casefold), **ctx)
     return html.encode()

@@ -92,8 +92,9 @@ def capability(
     ``sigma_within`` is the within-subgroup sigma from the control chart (MR̄/d2, R̄/d2,
     s̄/c4, pooled s). ``stable`` (and optionally ``unstable_reason``, a short phrase such as
     "2 signals on the control chart") come from the caller's control chart;
-    ``no_sigma_reason`` says why there is no within-subgroup sigma, when the caller knows. ``normality`` is computed by Anderson–Darling when not given and there are
-    at least 8 values. Missing values (nan) are left out.
+    ``no_sigma_reason`` says why there is no within-subgroup sigma, when the caller knows.
+    ``normality`` is computed by Anderson–Darling when not given and there are at least 8
+    values. Missing values (nan) are left out.
     """
     x = np.asarray(values, dtype=float)
     if x.ndim != 1:

@@ -56,6 +56,12 @@ def _ranked(totals: dict[str, float], exclude: str | None = None) -> list[str]:
 _HUGE = 1e300
 
 
+def _percent(part, whole: float):
+    """100 * part / whole (scalars or arrays): rounded once for whole counts (exact products),
+    the share taken first for totals near the float limit, where the product would overflow."""
+    return 100.0 * part / whole if whole < _HUGE else part / whole * 100.0
+
+
 def _vital_few(totals: dict[str, float], other_label: str, threshold: float) -> tuple[str, ...]:
     grand = sum(totals.values())
     if grand <= 0:
@@ -66,8 +72,7 @@ def _vital_few(totals: dict[str, float], other_label: str, threshold: float) -> 
     for c in ranked:
         running += totals[c]
         chosen.append(c)
-        share = 100.0 * running / grand if grand < _HUGE else running / grand * 100.0
-        if share >= threshold - 1e-9:
+        if _percent(running, grand) >= threshold - 1e-9:
             break
     return tuple(chosen)
 
@@ -79,14 +84,8 @@ def _build(
     running = np.cumsum(counts)
     grand = float(running[-1]) if len(running) else 0.0
     if grand > 0:
-        # 100 * count / total rounds once for whole counts (exact products); totals near the
-        # float limit would overflow there, so they take the share first
-        if grand < _HUGE:
-            percent = 100.0 * counts / grand
-            cumulative = 100.0 * running / grand
-        else:
-            percent = counts / grand * 100.0
-            cumulative = running / grand * 100.0
+        percent = _percent(counts, grand)
+        cumulative = _percent(running, grand)
         cumulative[-1] = 100.0
         cumulative = np.maximum.accumulate(cumulative)
     else:
