@@ -512,3 +512,29 @@ def test_watch_no_serve_rebuilds_and_stops_on_sigterm(tmp_path):
     finally:
         rc = proc.stop(signal.SIGTERM)
     assert rc == 0, proc.text()
+
+
+def test_server_sends_the_pages_policy_as_headers_and_listens_on_loopback_only(tmp_path):
+    """The preview server repeats the pages' Content-Security-Policy as an HTTP header (it then
+    covers every file served, data and scripts included), forbids content sniffing, and binds
+    to 127.0.0.1 only, never to every interface."""
+    from steadyline.site.common import CSP
+
+    (tmp_path / "index.html").write_text("<p>x</p>")
+    (tmp_path / "data.csv").write_text("a,b\n1,2\n")
+    server = make_server(tmp_path, 0)
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    try:
+        assert server.server_address[0] == "127.0.0.1"
+        for name in ("index.html", "data.csv"):
+            status, headers, _ = _get(f"http://127.0.0.1:{server.server_address[1]}/{name}")
+            assert status == 200
+            assert headers["Content-Security-Policy"] == CSP
+            assert "script-src 'self'" in headers["Content-Security-Policy"]
+            assert headers["X-Content-Type-Options"] == "nosniff"
+    finally:
+        server.shutdown()
+        server.server_close()
+    with pytest.raises(TypeError):
+        make_server(tmp_path, 0, host="0.0.0.0")  # no way to ask for another interface

@@ -33,7 +33,7 @@ from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
 
 from .errors import BuildError, Problem, SteadylineError
-from .site.common import is_ignored
+from .site.common import CSP, is_ignored
 
 QUIET_S = 0.3
 CAP_S = 3.0
@@ -195,19 +195,32 @@ def rebuild_line(report, slugs: set[str] | None, seconds: float) -> str:
 
 
 class _Handler(SimpleHTTPRequestHandler):
-    """Serves the output folder; quiet, never cached (a page must see the rebuilt files)."""
+    """Serves the output folder; quiet, never cached (a page must see the rebuilt files).
+
+    Every response carries the site's Content-Security-Policy as a header too (the pages also
+    carry it in a meta tag, which a browser honours only for HTML and only from where the tag
+    stands), and ``nosniff``, so that a data file is never run as a script or styled as a page
+    whatever its content."""
 
     def end_headers(self) -> None:
         self.send_header("Cache-Control", "no-store")
+        self.send_header("Content-Security-Policy", CSP)
+        self.send_header("X-Content-Type-Options", "nosniff")
         super().end_headers()
 
     def log_message(self, format, *args) -> None:  # noqa: A002 - the base class's name
         pass
 
 
-def make_server(out: Path, port: int, host: str = "127.0.0.1") -> ThreadingHTTPServer:
-    """An HTTP server for *out*. The folder is given as a path string, so each request resolves
-    it afresh and sees the site swapped in by the latest build."""
+# The preview server is for the person at this machine: it listens on the loopback address only,
+# never on a network interface (the intranet server publishes the built folder, not this).
+HOST = "127.0.0.1"
+
+
+def make_server(out: Path, port: int) -> ThreadingHTTPServer:
+    """An HTTP server for *out* on 127.0.0.1 only. The folder is given as a path string, so each
+    request resolves it afresh and sees the site swapped in by the latest build."""
+    host = HOST
     handler = functools.partial(_Handler, directory=os.path.abspath(out))
     try:
         server = ThreadingHTTPServer((host, port), handler)
