@@ -6,8 +6,7 @@ import copy
 
 import pytest
 from chart_fixtures import all_chart_specs
-
-from steadyline.charts.schema import _CHECKED, SpecError, check_spec
+from vl_schema import _CHECKED, SpecError, check_spec
 
 
 def test_every_display_and_variant_passes_altairs_vega_lite_schema():

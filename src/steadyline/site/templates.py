@@ -1,7 +1,9 @@
 """Finding and rendering the Jinja2 templates.
 
-In a source checkout the templates live at the top of the repository (site_templates/); an
-installed package carries a copy inside itself (see setup.py). Autoescaping is on for every
+In a source checkout the templates live at the top of the repository (site_templates/); a
+wheel carries them inside the package (pyproject.toml maps the folder there), where
+importlib.resources finds them. An editable install imports the package from src/, so there
+the checkout's folder is used. Autoescaping is on for every
 template, so text from metadata files, CSV cells and category names is always escaped.
 """
 
@@ -9,16 +11,20 @@ from __future__ import annotations
 
 import functools
 import hashlib
+import importlib.resources
 from pathlib import Path
 
 import jinja2
 
 
+@functools.lru_cache(maxsize=1)
 def templates_dir() -> Path:
-    here = Path(__file__).resolve().parent.parent  # src/steadyline
-    packaged = here / "site_templates"
+    """The site_templates folder: the package's own copy when installed from a wheel, else the
+    one at the top of the source checkout."""
+    packaged = Path(str(importlib.resources.files("steadyline") / "site_templates"))
     if packaged.is_dir():
         return packaged
+    here = Path(__file__).resolve().parent.parent  # src/steadyline
     checkout = here.parent.parent / "site_templates"
     if checkout.is_dir():
         return checkout

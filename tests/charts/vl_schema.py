@@ -1,6 +1,7 @@
-"""Every chart spec checked against the Vega-Lite schema that Altair ships.
+"""Every chart spec checked against the Vega-Lite schema that Altair ships (a test aid: Altair is
+a test dependency, not a runtime one).
 
-The templates are written as plain Vega-Lite dicts (see ``vl.py``) because composing them with
+The templates are written as plain Vega-Lite dicts (see ``steadyline/charts/vl.py``) because composing them with
 Altair objects cost seconds in every fresh worker process. Altair stays the project's authority on
 Vega-Lite: the tests validate every display and variant against Altair's bundled Vega-Lite JSON
 schema (tests/charts/test_schema.py), with the data rows cut to one (they are plain records). The
