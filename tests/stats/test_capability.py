@@ -21,7 +21,7 @@ def exact_sample(mean: float, sd: float, n: int = 200) -> np.ndarray:
 
 
 def test_nist_6_1_6_example():
-    # NIST/SEMATECH e-Handbook §6.1.6 (transcribed, METHODS.md §5): USL 20, LSL 8, mean 16,
+    # NIST/SEMATECH e-Handbook §6.1.6 (transcribed, docs/methods.md §5): USL 20, LSL 8, mean 16,
     # sigma 2 -> Cp 1.0, Cpu 0.6667, Cpl 1.3333, Cpk 0.6667; total 22,781.80 ppm
     x = exact_sample(16.0, 2.0)
     c = capability(x, sigma_within=2.0, lsl=8, usl=20)
@@ -39,7 +39,7 @@ def test_nist_6_1_6_example():
 @pytest.mark.parametrize(
     "cp,ppm",
     [
-        # NIST e-Handbook §6.1.6 centred-process table (transcribed, METHODS.md §5):
+        # NIST e-Handbook §6.1.6 centred-process table (transcribed, docs/methods.md §5):
         # 1.00 -> 0.27%, 4/3 -> 64 ppm, 5/3 -> 0.6 ppm, 2.00 -> 2 ppb
         (1.0, 2700.0),
         (4 / 3, 64.0),
@@ -55,12 +55,12 @@ def test_nist_centred_process_table(cp, ppm):
     assert c.cp == pytest.approx(cp)
     assert c.cpk == pytest.approx(cp)
     assert c.ppm_expected_within == pytest.approx(ppm, rel=0.05)
-    # exact two-sided value (METHODS.md §5, computed): reference scipy.stats.norm
+    # exact two-sided value (docs/methods.md §5, computed): reference scipy.stats.norm
     assert c.ppm_expected_within == pytest.approx(2e6 * stats.norm.sf(3 * cp), rel=1e-9)
 
 
 def test_methods_own_xbar_example():
-    # METHODS.md §2 own worked numbers [computed there]: USL 10.8, LSL 9.4, sigma_R 0.24284
+    # docs/methods.md §2 own worked numbers [computed]: USL 10.8, LSL 9.4, sigma_R 0.24284
     # -> Cp 0.9609, Cpk 0.9265; overall s 0.22312 -> Pp 1.0458, Ppk 1.0084
     data = [
         10.2,
@@ -104,7 +104,7 @@ def test_one_sided_upper():
     c = capability(x, 2.0, usl=20)
     assert c.cp is None and c.pp is None and c.cpl is None
     assert c.cpk == pytest.approx(c.cpu) == pytest.approx(4 / 6)
-    # NIST §6.1.6: above USL at z = 2 -> 22,750.13 ppm (computed, METHODS.md §5)
+    # NIST §6.1.6: above USL at z = 2 -> 22,750.13 ppm (computed, docs/methods.md §5)
     assert c.ppm_expected_within == pytest.approx(22750.13, abs=0.01)
 
 
@@ -113,7 +113,7 @@ def test_one_sided_lower():
     c = capability(x, 2.0, lsl=8)
     assert c.cp is None and c.cpu is None
     assert c.cpk == pytest.approx(4 / 3)
-    # below LSL at z = 4 -> 31.67 ppm (computed, METHODS.md §5)
+    # below LSL at z = 4 -> 31.67 ppm (computed, docs/methods.md §5)
     assert c.ppm_expected_within == pytest.approx(31.67, abs=0.01)
 
 

@@ -1,7 +1,7 @@
 """Control-chart constants checked against printed tables and against scipy.
 
 Printed table: Montgomery, Introduction to SQC, Appendix VI; ASTM E2587 factor table -- the
-3-decimal digits below are transcribed from memory (see /work/shared/METHODS.md section 1, [M]).
+3-decimal digits below are transcribed from memory (see docs/methods.md §1, from memory).
 Printed d3, D3 and D4 were built from rounded d2 and d3, so they may differ from the exact value
 in the last digit; those three are compared with a 0.001 allowance beyond rounding.
 """
@@ -45,7 +45,7 @@ PRINTED = {
     25: (3.931, 0.708, 0.9896, 0.153, 0.606, 0.565, 1.435, 0.459, 1.541),
 }
 NAMES = ("d2", "d3", "c4", "a2", "a3", "b3", "b4", "d3_factor", "d4_factor")
-# constants whose printed last digit may differ from the exact value (METHODS.md section 1)
+# constants whose printed last digit may differ from the exact value (docs/methods.md §1)
 LAST_DIGIT_SLACK = {"d3", "d3_factor", "d4_factor"}
 
 
@@ -67,7 +67,7 @@ def test_constants_match_printed_table(n):
 
 
 def test_known_last_digit_differences_are_real():
-    # The exact values differ from the printed ones where METHODS.md says (computed [C]);
+    # The exact values differ from the printed ones where docs/methods.md §1 says (computed);
     # printed values from memory (Montgomery App. VI / ASTM E2587).
     assert round(K.d3(19), 3) == 0.733  # printed 0.734
     assert round(K.d4_factor(3), 3) == 2.575  # printed 2.574 (built from rounded d2, d3)
@@ -115,7 +115,7 @@ def test_factor_formulas_are_consistent(n):
 
 
 def test_e2_for_moving_range_of_two():
-    # conventional printed E2 = 2.660 = 3/1.128 (rounded d2); exact 2.6587 (METHODS.md section 1)
+    # conventional printed E2 = 2.660 = 3/1.128 (rounded d2); exact 2.6587 (docs/methods.md §1)
     assert K.e2() == pytest.approx(3 / K.d2(2))
     assert round(K.e2(), 4) == 2.6587
     assert abs(K.e2() - 2.660) <= 0.0015
@@ -153,7 +153,7 @@ def _phi(x):
 
 @pytest.mark.parametrize("n", TABLE_SPREAD)
 def test_table_entries_recomputed_by_the_integrals(n):
-    # reference: scipy.integrate quad / dblquad of the definitions (METHODS.md section 1),
+    # reference: scipy.integrate quad / dblquad of the definitions (docs/methods.md §1),
     # written out here independently of steadyline.stats.constants
     from scipy import integrate
 

@@ -1,7 +1,7 @@
 """Control charts checked against published examples, open data and independent computation.
 
 Sources named beside each check. "Own regression numbers" are the worked values of
-/work/shared/METHODS.md section 2 (no published answer); each is also recomputed here with plain
+docs/methods.md §2 (no published answer); each is also recomputed here with plain
 numpy so that the test does not merely trust the digits.
 """
 
@@ -54,7 +54,7 @@ def test_nist_individuals_example():
     assert xbar + 3 * mr_bar / 1.128 == pytest.approx(55.8041, abs=1e-4)
     assert xbar - 3 * mr_bar / 1.128 == pytest.approx(45.8159, abs=1e-4)
     # and our exact limits differ from the published ones only by the d2 rounding
-    assert ch.upper[0] == pytest.approx(55.8025, abs=1e-4)  # METHODS.md 9, computed [C]
+    assert ch.upper[0] == pytest.approx(55.8025, abs=1e-4)  # docs/methods.md §2, computed
     # mR chart: CL = MR-bar, UCL = D4(2) MR-bar (printed 3.267), LCL = 0
     mr = ch.secondary
     assert np.isnan(mr.values[0])
@@ -65,7 +65,7 @@ def test_nist_individuals_example():
 
 
 def test_nile_individuals(nile):
-    # statsmodels.datasets.nile; METHODS.md 2 (computed [C]): x-bar 919.35, MR-bar 133.2525,
+    # statsmodels.datasets.nile; docs/methods.md §2 (computed): x-bar 919.35, MR-bar 133.2525,
     # exact-d2 limits 1273.63 / 565.07, with 2.66: 1273.80 / 564.90, mR UCL 3.267 MR-bar = 435.34
     ch = C.individuals(nile)
     assert ch.centre[0] == pytest.approx(919.35, abs=5e-3)
@@ -159,7 +159,7 @@ def test_sigma_multiple():
 
 
 def test_xbar_r_worked_values():
-    # own regression numbers (METHODS.md 2, computed with printed A2 = 0.729, D4 = 2.282):
+    # own regression numbers (docs/methods.md §2, computed with printed A2 = 0.729, D4 = 2.282):
     # X-double-bar 10.075, R-bar 0.5, UCL 10.4395, LCL 9.7105, R UCL 1.141, sigma 0.24284
     ch = C.xbar_r(SUBGROUPS)
     arr = np.array(SUBGROUPS)
@@ -179,12 +179,12 @@ def test_xbar_r_worked_values():
 
 
 def test_xbar_s_worked_values():
-    # own regression numbers (METHODS.md 2, printed A3 = 1.628, B4 = 2.266): s-bar 0.212836,
+    # own regression numbers (docs/methods.md §2, printed A3 = 1.628, B4 = 2.266): s-bar 0.212836,
     # UCL 10.4215, LCL 9.7285, S UCL 0.48229, sigma s-bar/c4 = 0.23101
     ch = C.xbar_s(SUBGROUPS)
     arr = np.array(SUBGROUPS)
     sbar = arr.std(axis=1, ddof=1).mean()  # reference: numpy
-    assert sbar == pytest.approx(0.212836, abs=2e-6)  # METHODS prints 6 dp, exact 0.2128372
+    assert sbar == pytest.approx(0.212836, abs=2e-6)  # docs/methods.md prints 6 dp, exact 0.2128372
     assert ch.upper[0] == pytest.approx(10.075 + a3(4) * sbar)
     assert ch.upper[0] == pytest.approx(10.4215, abs=1e-4)
     assert ch.lower[0] == pytest.approx(9.7285, abs=1e-4)
@@ -257,7 +257,7 @@ def test_large_subgroups_in_range_chart_get_a_note():
 
 
 def test_p_chart_worked_values():
-    # own regression numbers (METHODS.md 2): p-bar = 149/4100 = 0.036341; n = 400:
+    # own regression numbers (docs/methods.md §2): p-bar = 149/4100 = 0.036341; n = 400:
     # UCL 0.06441, LCL 0.00827
     ch = C.p_chart(P_COUNTS, P_SIZES)
     pbar = sum(P_COUNTS) / sum(P_SIZES)
@@ -299,7 +299,7 @@ def test_p_chart_zero_size_dropped_and_errors():
 
 
 def test_laney_p_worked_values():
-    # own regression numbers (METHODS.md 2, computed with d2 = 1.128): sigma_z = 1.53846,
+    # own regression numbers (docs/methods.md §2, computed with d2 = 1.128): sigma_z = 1.53846,
     # Laney UCL (n = 400) = 0.07953. Recomputed here with numpy.
     ch = C.laney_p(P_COUNTS, P_SIZES)
     d, n = np.array(P_COUNTS, float), np.array(P_SIZES, float)
@@ -332,7 +332,7 @@ def test_laney_sigma_z_near_one_for_binomial_data():
 
 
 def test_u_chart_worked_values():
-    # own regression numbers (METHODS.md 2): u-bar 0.56, UCL (a = 10) 1.26993, LCL 0
+    # own regression numbers (docs/methods.md §2): u-bar 0.56, UCL (a = 10) 1.26993, LCL 0
     c, a = [5, 8, 3, 9, 6, 4, 7], [10, 12, 8, 15, 11, 9, 10]
     ch = C.u_chart(c, a)
     ubar = sum(c) / sum(a)
@@ -355,7 +355,7 @@ def test_c_chart():
     assert ch.centre[0] == 16.0
     assert ch.lower[0] == pytest.approx(4.0) and ch.upper[0] == pytest.approx(28.0)
     assert ch.sigma[0] == pytest.approx(stats.poisson(16).std())  # reference: scipy.stats.poisson
-    # own regression numbers (METHODS.md 2): c-bar 4 -> UCL 10, LCL 0 (truncated from -2)
+    # own regression numbers (docs/methods.md §2): c-bar 4 -> UCL 10, LCL 0 (truncated from -2)
     small = C.c_chart([3, 5, 4, 4])
     assert small.upper[0] == pytest.approx(10.0) and small.lower[0] == 0.0
 

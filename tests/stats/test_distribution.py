@@ -1,4 +1,4 @@
-"""Box summary, histogram and Anderson–Darling checked against numpy, scipy and METHODS.md."""
+"""Box summary, histogram and Anderson–Darling checked against numpy, scipy and the worked examples of docs/methods.md."""
 
 from __future__ import annotations
 
@@ -18,17 +18,17 @@ from steadyline.stats.distribution import (
 )
 from steadyline.stats.results import StatsError
 
-OWN = [2, 4, 4, 5, 7, 9, 10, 12, 15, 21, 40]  # METHODS.md §6 worked example (own numbers)
+OWN = [2, 4, 4, 5, 7, 9, 10, 12, 15, 21, 40]  # docs/methods.md §6 worked example (own numbers)
 
 
 def seeded_sample() -> np.ndarray:
-    # METHODS.md §7/§8: 100 draws from N(50, 5), seed 12345, rounded to 2 dp
+    # docs/methods.md §7/§8: 100 draws from N(50, 5), seed 12345, rounded to 2 dp
     return np.random.default_rng(12345).normal(50, 5, 100).round(2)
 
 
 # --- quartiles -----------------------------------------------------------------------------
 
-# METHODS.md §6 table, checked there by hand against the Hyndman & Fan (1996) definitions
+# docs/methods.md §6 table, checked there by hand against the Hyndman & Fan (1996) definitions
 OWN_QUARTILES = {
     "inverted_cdf": (4, 9, 15),
     "averaged_inverted_cdf": (4, 9, 15),
@@ -41,7 +41,7 @@ OWN_QUARTILES = {
     "normal_unbiased": (4.1875, 9, 14.4375),
     "tukey-hinges": (4.5, 9, 13.5),
 }
-EIGHT_Q = {  # x = 1..8, METHODS.md §6 second table
+EIGHT_Q = {  # x = 1..8, docs/methods.md §6 second table
     "inverted_cdf": (2, 6),
     "averaged_inverted_cdf": (2.5, 6.5),
     "closest_observation": (2, 6),
@@ -57,7 +57,7 @@ EIGHT_Q = {  # x = 1..8, METHODS.md §6 second table
 
 @pytest.mark.parametrize("method", list(OWN_QUARTILES))
 def test_quartiles_methods_worked_example(method):
-    # METHODS.md §6 worked example; Hyndman & Fan (1996) definitions
+    # docs/methods.md §6 worked example; Hyndman & Fan (1996) definitions
     b = box_summary(OWN, method)
     q1, med, q3 = OWN_QUARTILES[method]
     # type 4 median per H&F: h = np = 5.5 -> between x(5)=7 and x(6)=9 -> 8
@@ -67,7 +67,7 @@ def test_quartiles_methods_worked_example(method):
 
 @pytest.mark.parametrize("method", list(EIGHT_Q))
 def test_quartiles_one_to_eight(method):
-    # METHODS.md §6 second table (x = 1..8)
+    # docs/methods.md §6 second table (x = 1..8)
     b = box_summary(range(1, 9), method)
     assert (b.q1, b.q3) == pytest.approx(EIGHT_Q[method], abs=1e-9)
 
@@ -87,7 +87,7 @@ def test_labels_name_hyndman_fan_types():
 
 
 def test_fences_whiskers_outliers_worked_example():
-    # METHODS.md §6: type 7 fences [-9, 27], whiskers 2 and 21, 40 an outlier
+    # docs/methods.md §6: type 7 fences [-9, 27], whiskers 2 and 21, 40 an outlier
     b = box_summary(OWN)
     assert (b.lower_fence, b.upper_fence) == (-9.0, 27.0)
     assert (b.whisker_low, b.whisker_high) == (2.0, 21.0)
@@ -145,7 +145,7 @@ def test_box_single_value():
     ],
 )
 def test_histogram_bin_counts_methods_values(rule, bins):
-    # METHODS.md §7 check values (seed 12345 N(50,5) 2 dp), reproduced with numpy
+    # docs/methods.md §7 check values (seed 12345 N(50,5) 2 dp), reproduced with numpy
     h = histogram(seeded_sample(), rule)
     assert len(h.counts) == bins
     assert sum(h.counts) == 100
@@ -162,7 +162,7 @@ def test_histogram_matches_numpy(rule):
 
 
 def test_fd_realised_width():
-    # METHODS.md §7: FD h = 3.0733 (2 IQR n^-1/3), realised width 2.85625
+    # docs/methods.md §7: FD h = 3.0733 (2 IQR n^-1/3), realised width 2.85625
     x = seeded_sample()
     h = histogram(x, "fd")
     q1, q3 = np.percentile(x, [25, 75])
@@ -246,7 +246,7 @@ def scipy_a2(x) -> float:
 @pytest.mark.parametrize(
     "sample,a2,a2star,p",
     [
-        # METHODS.md §8 comparison table [computed there]; p from the D'Agostino & Stephens
+        # docs/methods.md §8 comparison table [computed]; p from the D'Agostino & Stephens
         # (1986) Table 4.9 formula, coefficients from memory
         (seeded_sample(), 0.483239, 0.486972, 0.2246),
         (OWN, 0.868509, 0.943876, 0.01694),

@@ -20,7 +20,7 @@ from steadyline.stats.runs import (
     shift_against,
 )
 
-# /work/shared/METHODS.md §4a table [computed there with numpy/scipy]: n -> (longest-run limit,
+# docs/methods.md §4 table [computed with numpy/scipy]: n -> (longest-run limit,
 # minimum crossings), Anhøj & Olesen 2014 definitions.
 # fmt: off
 ANHOJ_TABLE = {
@@ -34,7 +34,7 @@ ANHOJ_TABLE = {
     59: (9, 23), 60: (9, 23),
 }
 
-# METHODS.md §4b table [computed there from the Swed & Eisenhart 1943 distribution],
+# docs/methods.md §4 table [computed from the Swed & Eisenhart 1943 distribution],
 # alpha = 0.05 per tail: N -> (too few if runs <= low, too many if runs >= high).
 PERLA_TABLE = {
     10: (3, 9), 11: (3, 10), 12: (3, 11), 13: (4, 11), 14: (4, 12), 15: (4, 13), 16: (5, 13),
@@ -61,7 +61,7 @@ def nile() -> np.ndarray:
 
 @pytest.mark.parametrize("n", range(10, 61))
 def test_anhoj_limits_match_methods_table(n):
-    # METHODS.md §4a table (Anhøj & Olesen 2014 definitions, computed with scipy)
+    # docs/methods.md §4 table (Anhøj & Olesen 2014 definitions, computed with scipy)
     assert anhoj_limits(n) == ANHOJ_TABLE[n]
 
 
@@ -106,7 +106,7 @@ def test_anhoj_crossings_exact_sum_is_the_binomial_tail():
 
 
 def test_anhoj_limit_for_13_points_from_popular_write_up():
-    # Wentzel-Larsen & Anhøj popular write-up (METHODS.md §4a, third-party): 13 points,
+    # Wentzel-Larsen & Anhøj popular write-up (docs/methods.md §4, third-party): 13 points,
     # "less than three crossings" signals
     assert anhoj_limits(13)[1] == 3
 
@@ -120,7 +120,7 @@ def test_anhoj_limits_reject_zero():
 
 
 def test_nile_anhoj_both_rules_signal():
-    # statsmodels.datasets.nile; values per METHODS.md §4a: median 893.5, longest run 11,
+    # statsmodels.datasets.nile; values per docs/methods.md §4: median 893.5, longest run 11,
     # crossings 29, limits 10 and 41, both rules signal (known shift about 1898)
     res = analyse_runs(nile())
     assert res.median == 893.5
@@ -192,13 +192,13 @@ def test_perla_limits_against_enumeration(n):
 
 @pytest.mark.parametrize("n", range(10, 61))
 def test_perla_limits_match_methods_table(n):
-    # METHODS.md §4b table (alpha = 0.05 per tail, Swed & Eisenhart 1943)
+    # docs/methods.md §4 table (alpha = 0.05 per tail, Swed & Eisenhart 1943)
     assert perla_runs_limits(n) == PERLA_TABLE[n]
 
 
 @pytest.mark.parametrize("n,expected", [(10, (3, 9)), (20, (6, 16)), (24, (8, 18))])
 def test_perla_limits_recalled_from_paper(n, expected):
-    # Perla, Provost & Murray 2011, Table 1 — from memory (METHODS.md §4b)
+    # Perla, Provost & Murray 2011, Table 1 — from memory (docs/methods.md §4)
     assert perla_runs_limits(n) == expected
 
 

@@ -1,7 +1,7 @@
 """Which control chart fits the data, with a one-sentence reason in plain words.
 
 The selection follows the usual guide (Montgomery, *Introduction to Statistical Quality
-Control*; NIST/SEMATECH e-Handbook 6.3; ASTM E2587 -- from memory, see /work/shared/METHODS.md
+Control*; NIST/SEMATECH e-Handbook 6.3; ASTM E2587 -- from memory, see docs/methods.md
 section 10):
 
 - measured values one at a time -> individuals and moving range (``"xmr"``);

@@ -1,7 +1,7 @@
 """Control-chart constants d2, d3, c4 and the 3-sigma limit factors derived from them.
 
 Definitions (Montgomery, *Introduction to Statistical Quality Control*, Appendix VI; ASTM E2587
-factor table -- both from memory, see /work/shared/METHODS.md section 1):
+factor table -- both from memory, see docs/methods.md §1):
 
 - ``d2(n)``: expected range of n independent standard normal values,
   ``d2 = integral of [1 - Phi(x)^n - (1 - Phi(x))^n] dx`` over the real line.

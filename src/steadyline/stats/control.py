@@ -1,7 +1,7 @@
 """Shewhart control charts as pure functions: arrays in, :class:`ControlChart` out.
 
 Charts and the sources of their formulas (all from memory unless a test says otherwise; see
-/work/shared/METHODS.md section 2):
+docs/methods.md §2):
 
 - individuals and moving range, X-mR: Montgomery, *Introduction to Statistical Quality Control*
   section 6.4; Wheeler & Chambers, *Understanding Statistical Process Control*; NIST/SEMATECH

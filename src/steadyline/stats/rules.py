@@ -31,7 +31,7 @@ Conventions (explicit, see the constants below):
   For the "k of m" rules the indices are the points beyond the zone, not the whole window.
 - Dispersion charts (mR, R, S, the chart's ``secondary``) get only the beyond-limits test:
   their plotted statistic is skewed, and many authors apply only the beyond-limits test to R,
-  S and mR charts (from memory; see also /work/shared/METHODS.md section 3).
+  S and mR charts (from memory; see also docs/methods.md §3).
 - Attribute charts (p, np, c, u, Laney) get the full rule set. The zone tests assume a roughly
   normal plotted statistic, which holds when the expected count per point is not small; this
   is our choice, stated here so that a page can say it.
