@@ -50,6 +50,13 @@ def _histogram_template(curve: bool) -> dict:
             legend=None,
         )
 
+    # Outside the specification: the ground beyond each limit is tinted, the limits themselves
+    # are solid lines and the target a dotted one, so the eye reads "inside / outside" at once.
+    outside = vl.view(
+        "outside",
+        vl.mark("rect", color=style.SPEC, opacity=0.1),
+        {"x": x("start"), "x2": {"field": "end"}, "tooltip": [vl.tip("text:N", "region")]},
+    )
     bars = vl.view(
         "bins",
         vl.mark("bar", color=style.HIST_BAR, stroke=style.WHITE, strokeWidth=1),
@@ -71,11 +78,7 @@ def _histogram_template(curve: bool) -> dict:
                 "kind:N",
                 scale={
                     "domain": list(_REF_KINDS),
-                    "range": [
-                        list(style.DASH_LIMIT),
-                        list(style.DASH_LIMIT),
-                        list(style.DASH_TARGET),
-                    ],
+                    "range": [[1, 0], [1, 0], list(style.DASH_TARGET)],
                 },
                 legend=None,
             ),
@@ -93,7 +96,7 @@ def _histogram_template(curve: bool) -> dict:
             "text": vl.field("text:N"),
         },
     )
-    layers = [bars, rules, labels]
+    layers = [outside, bars, rules, labels]
     if curve:
         layers.append(
             vl.view(
@@ -163,7 +166,15 @@ def histogram_chart(
     refs.sort(key=lambda r: r["value"])
     for k, r in enumerate(refs):
         r["ypx"] = 2 + 15 * k
-    datasets = {"bins": bins, "refs": refs}
+    xs = [x for x in (edges[0], edges[-1], *(r["value"] for r in refs)) if x is not None]
+    xs += [r["x"] for r in curve_rows if r["x"] is not None]
+    outside = []
+    lo_spec, hi_spec = num(lsl), num(usl)
+    if lo_spec is not None and min(xs) < lo_spec:
+        outside.append({"start": min(xs), "end": lo_spec, "text": "below the lower spec limit"})
+    if hi_spec is not None and max(xs) > hi_spec:
+        outside.append({"start": hi_spec, "end": max(xs), "text": "above the upper spec limit"})
+    datasets = {"bins": bins, "refs": refs, "outside": outside}
     if drawn:
         datasets["curve"] = curve_rows
 

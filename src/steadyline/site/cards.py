@@ -17,7 +17,6 @@ from ..charts import ChartSpec, SeriesContext
 from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..memo import by_identity
-from ..stats.compare import format_p_value
 from .serialise import Plain, compact_bytes, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
@@ -329,34 +328,3 @@ def signals_json(signals, x) -> list[dict]:
         out.append(Plain(rule=s.rule, description=s.description, indices=idx,
                          dates=list(map(at, idx)), side=s.side, chart=s.chart))
     return out
-
-
-def capability_rows(c, unit: str) -> list[tuple[str, str, str]]:
-    rows = [
-        ("Cp", fmt(c.cp, digits=3), "spread of the specification over 6 within-subgroup sigma"),
-        ("Cpk", fmt(c.cpk, digits=3), "distance of the mean to the nearer limit, in 3 within sigma"),
-    ]
-    if c.cpk_ci is not None:
-        rows.append(("Cpk, 95% interval", f"{fmt(c.cpk_ci[0], digits=3)} to "
-                     f"{fmt(c.cpk_ci[1], digits=3)}", "Bissell (1990) approximation"))
-    rows += [
-        ("Pp", fmt(c.pp, digits=3), "as Cp, with the overall standard deviation"),
-        ("Ppk", fmt(c.ppk, digits=3), "as Cpk, with the overall standard deviation"),
-        ("Mean", fmt(c.mean, unit), f"of {c.n} values"),
-        ("Sigma within", fmt(c.sigma_within, unit), "from the control chart"),
-        ("Sigma overall", fmt(c.sigma_overall, unit), "sample standard deviation"),
-        ("Expected out of spec (within)", fmt(c.ppm_expected_within, "ppm"),
-         "under a normal model"),
-        ("Expected out of spec (overall)", fmt(c.ppm_expected_overall, "ppm"),
-         "under a normal model"),
-        ("Observed out of spec", fmt(c.ppm_observed, "ppm"), "counted in the data"),
-    ]
-    if c.normality is not None:
-        n = c.normality
-        rows.append(("Anderson–Darling A²", fmt(n.statistic, digits=3),
-                     f"{format_p_value(n.p_value)}: "
-                     + ("consistent with a normal distribution" if n.normal_at_5pct
-                        else "not consistent with a normal distribution at the 5% level")))
-    return rows
-
-

@@ -14,7 +14,8 @@ from ..charts import (
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_SHORT
-from .cards import Displays, capability_rows, fmt, pct, signals_json
+from .capability_view import capability_view
+from .cards import Displays, fmt, pct, signals_json
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -102,7 +103,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         d.add(key, f"Histogram, {name.lower()}", chart,
               method="Same bin edges in every phase.")
         if c is not None:
-            caps.append({"phase": name, "rows": capability_rows(c, m.unit),
+            caps.append({"phase": name, "view": capability_view(c, m.unit),
                          "trustworthy": c.trustworthy, "reasons": list(c.reasons),
                          "verdict": advice.capability_verdict(c)})
     if len(a.phase_histograms) > 1:

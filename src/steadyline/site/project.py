@@ -28,9 +28,9 @@ from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
 from ..errors import Problem, ProjectError, rel
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
 from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
+from .capability_view import capability_view
 from .cards import (
     Displays,
-    capability_rows,
     fmt,
     pct,
     series_context,
@@ -180,7 +180,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     if a.capability is not None:
         c = a.capability
         cap = {"trustworthy": c.trustworthy, "verdict": advice.capability_verdict(c),
-               "reasons": list(c.reasons), "rows": capability_rows(c, unit)}
+               "reasons": list(c.reasons), "view": capability_view(c, unit)}
         result["capability"] = c
     if a.normality is not None:
         result["normality"] = a.normality
