@@ -7,9 +7,9 @@
   /* Vega-Lite gives each part of a stacked (vconcat) chart the container's full width for its
      plot and adds axes on top, so stacked charts would overflow their card: give them a width
      that leaves room for the axes instead. */
-  function fitStacked(spec, target) {
+  function fitStacked(spec, target, shrink) {
     if (!spec || !Array.isArray(spec.vconcat)) { return spec; }
-    var width = Math.max(120, Math.floor(target.clientWidth) - 150);
+    var width = Math.max(120, Math.floor(target.clientWidth) - 150 - (shrink || 0));
     spec.vconcat.forEach(function (part) {
       if (part && part.width === "container") { part.width = width; }
     });
@@ -34,14 +34,44 @@
     var t = spec && spec.title;
     var width = Math.floor(target.clientWidth);
     if (!t || typeof t !== "object" || !width) { return spec; }
-    var sub = Math.max(24, Math.floor(width / 7));     // subtitle: 11px
-    var main = Math.max(16, Math.floor(width / 9.5));  // title: 14px, semi-bold
+    var room = width - 30;                                 // the drawing's padding
+    var sub = Math.max(24, Math.floor(room / 6.8));        // subtitle: 11px
+    var main = Math.max(16, Math.floor(room / 9));         // title: 14px, semi-bold
     if (typeof t.text === "string" && t.text.length > main) { t.text = wrapLine(t.text, main); }
     if (Array.isArray(t.subtitle)) {
       t.subtitle = t.subtitle.reduce(function (all, line) {
         return all.concat(wrapLine(line, sub));
       }, []);
     }
+    return spec;
+  }
+
+  /* Axis titles are centred on the plot and cut at the drawing's edge when longer than the
+     plot: break them into lines that fit the plot's width (what is left of the box after the
+     axis labels). Legends get as many columns as their entries fit beside each other, so that
+     a narrow box stacks them instead of cutting the last ones off. */
+  var AXIS_ROOM_PX = 70, AXIS_CHAR_PX = 6.5, LEGEND_ENTRY_PX = 200;
+
+  function fitAxesAndLegends(spec, target) {
+    var width = Math.floor(target.clientWidth);
+    if (!spec || !width) { return spec; }
+    var max = Math.max(12, Math.floor((width - AXIS_ROOM_PX) / AXIS_CHAR_PX));
+    (function visit(node) {
+      if (!node || typeof node !== "object") { return; }
+      if (Array.isArray(node)) { node.forEach(visit); return; }
+      Object.keys(node).forEach(function (key) {
+        var v = node[key];
+        if (key === "axis" && v && typeof v === "object" && v.title) {
+          var text = Array.isArray(v.title) ? v.title.join(" ") : v.title;
+          if (typeof text === "string" && text.length > max) { v.title = wrapLine(text, max); }
+        } else if (key !== "datasets" && key !== "data") {
+          visit(v);
+        }
+      });
+    })(spec);
+    spec.config = spec.config || {};
+    spec.config.legend = spec.config.legend || {};
+    spec.config.legend.columns = Math.max(1, Math.floor(width / LEGEND_ENTRY_PX));
     return spec;
   }
 
@@ -57,41 +87,89 @@
     return spec;
   }
 
+  /* One chart: its spec is read afresh from the page each time (the fitting steps change it),
+     fitted to the box's width now, and drawn. Returns vega-embed's promise. */
+  var drawn = [];  // {target, block, width, result}
+
+  function drawOne(entry) {
+    var target = entry.target, block = entry.block;
+    var spec;
+    try { spec = JSON.parse(block.textContent); } catch (e) {
+      target.setAttribute("data-render", "error");
+      target.textContent = "This chart's description could not be read.";
+      return Promise.reject(e);
+    }
+    entry.width = target.clientWidth;
+    spec = fitStacked(stackWhenNarrow(fitAxesAndLegends(fitTitle(spec, target), target), target),
+                      target, entry.shrink);
+    return window.vegaEmbed(target, spec, {
+      ast: true,                      // expression interpreter: works without 'unsafe-eval'
+      renderer: "svg",
+      actions: { export: true, source: false, compiled: false, editor: false },
+      downloadFileName: block.id.replace(/-spec$/, ""),
+      i18n: { SVG_ACTION: "Save as SVG", PNG_ACTION: "Save as PNG" }
+    }).then(function (result) {
+      entry.result = result;
+      // A stacked chart's widths are estimated before drawing (its labels' room is not known
+      // yet); when the drawing came out wider than its box, draw it once more, narrower by
+      // the difference.
+      var svg = target.querySelector("svg");
+      var over = svg ? Math.ceil(svg.getBoundingClientRect().width - target.clientWidth) : 0;
+      if (over > 0 && Array.isArray(spec.vconcat) && !entry.shrink) {
+        entry.shrink = over + 2;
+        result.finalize();
+        target.textContent = "";
+        return drawOne(entry);
+      }
+      target.setAttribute("data-render", "done");
+      return result;
+    }, function (err) {
+      target.setAttribute("data-render", "error");
+      var p = document.createElement("p");
+      p.className = "render-error";
+      p.textContent = "This chart could not be drawn: " + (err && err.message ? err.message : err);
+      target.appendChild(p);
+      throw err;
+    });
+  }
+
   function drawCharts() {
     var blocks = document.querySelectorAll("script.chart-spec");
     if (!blocks.length || typeof window.vegaEmbed !== "function") { return Promise.resolve([]); }
-    var jobs = [];
     blocks.forEach(function (block) {
       var target = document.getElementById(block.id.replace(/-spec$/, ""));
-      if (!target) { return; }
-      var spec;
-      try { spec = JSON.parse(block.textContent); } catch (e) {
-        target.setAttribute("data-render", "error");
-        target.textContent = "This chart's description could not be read.";
-        return;
-      }
-      spec = fitStacked(stackWhenNarrow(fitTitle(spec, target), target), target);
-      var job = window.vegaEmbed(target, spec, {
-        ast: true,                      // expression interpreter: works without 'unsafe-eval'
-        renderer: "svg",
-        actions: { export: true, source: false, compiled: false, editor: false },
-        downloadFileName: block.id.replace(/-spec$/, ""),
-        i18n: { SVG_ACTION: "Save as SVG", PNG_ACTION: "Save as PNG" }
-      }).then(function (result) {
-        target.setAttribute("data-render", "done");
-        return result;
-      }, function (err) {
-        target.setAttribute("data-render", "error");
-        var p = document.createElement("p");
-        p.className = "render-error";
-        p.textContent = "This chart could not be drawn: " + (err && err.message ? err.message : err);
-        target.appendChild(p);
-        throw err;
-      });
-      jobs.push(job);
+      if (target) { drawn.push({ target: target, block: block, width: 0, result: null, shrink: 0 }); }
     });
-    window.steadylineCharts = Promise.allSettled(jobs);
+    window.steadylineCharts = Promise.allSettled(drawn.map(drawOne));
     return window.steadylineCharts;
+  }
+
+  /* When the window changes size (a phone turned, a window narrowed), every chart whose box
+     changed width is drawn again for its new width: stacked charts, wrapped titles and
+     side-by-side panels are fitted when drawn, so they would otherwise keep their first width.
+     Waits for the resizing to settle; window.steadylineCharts is the latest drawing. */
+  var RESIZE_SETTLE_MS = 200, RESIZE_MIN_PX = 8;
+
+  function setupResize() {
+    if (!drawn.length) { return; }
+    var timer = null;
+    window.addEventListener("resize", function () {
+      window.clearTimeout(timer);
+      timer = window.setTimeout(function () {
+        var again = drawn.filter(function (e) {
+          return Math.abs(e.target.clientWidth - e.width) >= RESIZE_MIN_PX;
+        });
+        if (!again.length) { return; }
+        window.steadylineCharts = window.steadylineCharts.then(function () {
+          return Promise.allSettled(again.map(function (e) {
+            if (e.result) { e.result.finalize(); e.result = null; }
+            e.target.textContent = "";
+            e.shrink = 0;
+            return drawOne(e);
+          }));
+        });
+      }, RESIZE_SETTLE_MS);
+    });
   }
 
   function setupFilters() {
@@ -150,6 +228,6 @@
     window.setInterval(poll, 700);
   }
 
-  function start() { drawCharts(); setupFilters(); setupLive(); }
+  function start() { drawCharts(); setupResize(); setupFilters(); setupLive(); }
   if (document.readyState === "loading") { document.addEventListener("DOMContentLoaded", start); } else { start(); }
 })();

@@ -103,7 +103,9 @@ def vega_config() -> dict:
         # lets the time axes pass Vega a multi-format object (charts.base.x_encoding)
         "customFormatTypes": True,
         "background": "#ffffff",
-        "padding": 8,
+        # room on the right for the last label of a time axis, centred on its tick: Vega
+        # estimates text widths, and the browser's font can draw a few pixels wider
+        "padding": {"top": 8, "bottom": 8, "left": 8, "right": 20},
         "view": {"stroke": None, "continuousHeight": HEIGHT_MAIN},
         "title": {
             "anchor": "start",
@@ -127,6 +129,9 @@ def vega_config() -> dict:
             "domainColor": "#8a8a8a",
             "tickColor": "#8a8a8a",
             "gridColor": GRID,
+            # the first and last labels of a continuous axis stay inside the drawing instead of
+            # being centred on the end ticks and cut at the edge
+            "labelFlush": True,
         },
         "legend": {
             "labelFont": FONT,
