@@ -379,3 +379,25 @@ def test_declared_byte_order_is_not_the_machines(tmp_path):
     would take a file without a mark in the machine's byte order)."""
     got = _points(tmp_path, UTF8.encode("utf-16-be"), {"encoding": "utf-16"})
     assert got["value"].tolist() == VALUES
+
+
+def test_readme_table_of_rollup_statistics_is_the_rule():
+    """The README's table of roll-up statistics per type is the one the metadata check applies."""
+    from pathlib import Path
+
+    from steadyline.config import MetricSpec, rollup_statistics
+
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    rows = re.findall(r"^  \| (continuous|defectives|defects without `size`|defects with `size`) "
+                      r"\| ([^|]+) \|", readme, flags=re.M)
+    documented: dict[str, set[str]] = {}
+    for kind, stats in rows:
+        documented.setdefault(kind, set()).update(re.findall(r"`(\w+)`", stats))
+    base = {"id": "m", "name": "M", "file": Path("x.csv"), "file_rel": "x.csv", "better": "lower"}
+    specs = {"continuous": MetricSpec(type="continuous", **base),
+             "defectives": MetricSpec(type="defectives", count="c", size="n", **base),
+             "defects without `size`": MetricSpec(type="defects", count="c", **base),
+             "defects with `size`": MetricSpec(type="defects", count="c", size="a", **base)}
+    assert documented == {k: set(rollup_statistics(m)[0]) for k, m in specs.items()}
+    flags = MetricSpec(type="defectives", value="v", **base)
+    assert rollup_statistics(flags)[0] == ("proportion",)

@@ -116,7 +116,8 @@ def _byte_order(raw: bytes, width: int) -> str:
     """"-le" or "-be" for a UTF-16 or UTF-32 file without a byte-order mark: on the side where
     the high bytes of its (mostly ASCII) characters, the zeros, fall. Python's own choice would
     be the machine's byte order; with no zeros to tell, big-endian, the order the Unicode
-    Standard gives this case (section 3.10, from memory)."""
+    Standard gives a UTF-16 text with no mark and no other agreement (section 3.10, D98; the
+    same for UTF-32 from memory)."""
     share = _zero_share(raw, width)
     return "-le" if share[-1] > share[0] else "-be"
 
