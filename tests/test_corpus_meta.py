@@ -189,6 +189,19 @@ CASES = [
                 "inside the baseline (2026-01-01 to 2026-07-01); a day belongs to one period "
                 "only, so start the after period after 2026-07-01")], 1,
          absent=[r"metric\[1\]"]),
+    Case("overlap-inline-comparison",
+         portfolio(toml=meta(top={"comparison": raw("{ baseline = [2026-01-01], "
+                                                     "after = [2026-03-01] }")},
+                             comparison=None)),
+         [exact("p/project.toml:5: comparison.baseline: the baseline (2026-01-01 to latest) has "
+                "no end, so it overlaps the after period (2026-03-01 to latest); give the "
+                "baseline an end before 2026-03-01")], 1),
+    Case("overlap-dotted-comparison",
+         portfolio(toml=meta(top={"comparison.baseline": raw("[2026-01-01, 2026-03-01]"),
+                                  "comparison.after": raw("[2026-02-01]")}, comparison=None)),
+         [exact("p/project.toml:6: comparison.after: the after period starts 2026-02-01, inside "
+                "the baseline (2026-01-01 to 2026-03-01); a day belongs to one period only, so "
+                "start the after period after 2026-03-01")], 1),
     Case("periods-next-day-are-fine",
          portfolio(toml=meta(comparison="baseline = [2026-01-01, 2026-01-20]\n"
                                         "after = [2026-01-21]")),
@@ -295,6 +308,20 @@ CASES = [
          [exact("p/project.toml:19: metric[1].rollup.statistic: \"sum\" does not fit a "
                 "defectives metric: its roll-up plots the share of 1s in its 0/1 'value' column "
                 "in each period; use statistic = \"proportion\"")], 1),
+    Case("rollup-dotted-keys-in-second-metric",
+         portfolio(toml=meta(rollup=WEEK | {"statistic": "mean"}, more_metrics=[
+             DEFECTS_M | {"id": "m2", "name": "Two", "file": "data.csv", "time": "date",
+                          "better": "lower", "rollup.period": "week",
+                          "rollup.statistic": "mean"}]), data=ATTR_CSV),
+         [exact("p/project.toml:30: metric[2].rollup.statistic: \"mean\" does not fit a defects "
+                "metric without a 'size' column: its roll-up adds the defects counted in each "
+                "period (a mean per row is a rate only with a 'size' column, the area of "
+                "opportunity of each row); use statistic = \"sum\"")], 1,
+         absent=[r"metric\[1\]"]),
+    Case("encoding-inline-table",
+         portfolio(toml=meta(metric={"csv": raw('{ delimiter = ",", encoding = "utf-61" }')})),
+         [exact("p/project.toml:17: metric[1].csv.encoding: unknown text encoding 'utf-61'; try "
+                "utf-8, utf-16 or latin-1")], 1),
     Case("rollup-defects-sum", portfolio(
         toml=meta(metric=DEFECTS_M, rollup=WEEK | {"statistic": "sum"}), data=ATTR_CSV),
          [], 0, verify=_v_defects_sum),

@@ -158,14 +158,23 @@ class ProjectSpec:
 
 
 class _Locator:
-    """Finds the line of a key in TOML text, for messages (tomllib gives no positions)."""
+    """Finds the line of a key in TOML text, for messages (tomllib gives no positions).
+
+    A key is looked for only inside its own table: a ``[table]`` or the index-th
+    ``[[table]]`` up to the next header that is not one of its sub-tables (``[table.sub]``), a
+    sub-table up to the next header. A table written inline (``table = {...}``) or with dotted
+    keys (``table.key = ...``, ``sub.key = ...``) is found on that line.
+    """
+
+    _HEADER = re.compile(r"^\s*\[")
 
     def __init__(self, text: str):
         self.lines = text.splitlines()
 
-    def _table_start(self, table: str | None, index: int | None) -> int:
+    def _table_start(self, table: str | None, index: int | None) -> int | None:
+        """The header's index (0-based), or None when the file has no such header."""
         if table is None:
-            return 0
+            return None
         pattern = re.compile(r"^\s*\[\[\s*" + re.escape(table) + r"\s*\]\]" if index is not None
                              else r"^\s*\[\s*" + re.escape(table) + r"\s*\]")
         seen = -1
@@ -174,33 +183,66 @@ class _Locator:
                 seen += 1
                 if index is None or seen == index:
                     return i
-        return 0
+        return None
+
+    def _end(self, start: int, inner: str | None) -> int:
+        """Where the table whose header is at *start* ends: the next header, not counting the
+        sub-tables ``[inner.…]`` when *inner* is given."""
+        own = re.compile(r"^\s*\[\s*" + re.escape(inner) + r"\.") if inner else None
+        for i in range(start + 1, len(self.lines)):
+            line = self.lines[i]
+            if self._HEADER.match(line) and not (own and own.match(line)):
+                return i
+        return len(self.lines)
+
+    def _find(self, key: str, lo: int, hi: int, dotted: str | None = None) -> int | None:
+        """The first line in [lo, hi) that sets *key* (or, with *dotted*, ``dotted.key``)."""
+        name = r"\"?" + re.escape(key) + r"\"?"
+        if dotted is not None:
+            name = r"\"?" + re.escape(dotted) + r"\"?\s*\.\s*" + name
+        kp = re.compile(r"^\s*" + name + r"\s*=")
+        for i in range(lo, hi):
+            if self._HEADER.match(self.lines[i]):
+                continue
+            if kp.match(self.lines[i]):
+                return i
+        return None
 
     def header_line(self, table: str) -> int | None:
         """The line of a plain ``[table]`` header, or None when there is none."""
-        pattern = re.compile(r"^\s*\[\s*" + re.escape(table) + r"\s*\]")
-        return next((i + 1 for i, ln in enumerate(self.lines) if pattern.match(ln)), None)
+        i = self._table_start(table, None)
+        return None if i is None else i + 1
 
     def line_of(self, key: str | None, table: str | None = None, index: int | None = None,
                 sub: str | None = None) -> int | None:
+        top_end = self._end(-1, None)  # top-level keys stand before the first header
+        if table is None:
+            found = None if key is None else self._find(key, 0, top_end)
+            return None if found is None else found + 1
         start = self._table_start(table, index)
+        if start is None:  # inline or dotted at the top level: the line that names the table
+            found = None if key is None else self._find(key, 0, top_end, dotted=table)
+            if found is None:
+                found = self._find(table, 0, top_end)
+            if found is None:
+                found = next((i for i in range(top_end) if re.match(
+                    r"^\s*" + re.escape(table) + r"\s*\.", self.lines[i])), None)
+            return None if found is None else found + 1
+        lo, hi = start, self._end(start, table)
         if sub is not None:
             pat = re.compile(r"^\s*\[\s*" + re.escape(f"{table}.{sub}") + r"\s*\]")
-            for i in range(start, len(self.lines)):
-                if pat.match(self.lines[i]):
-                    start = i
-                    break
+            sub_start = next((i for i in range(lo + 1, hi) if pat.match(self.lines[i])), None)
+            if sub_start is None:  # inline (sub = {...}) or dotted (sub.key = ...)
+                own_end = self._end(start, None)
+                found = None if key is None else self._find(key, lo, own_end, dotted=sub)
+                if found is None:
+                    found = self._find(sub, lo, own_end)
+                return (found if found is not None else start) + 1
+            lo, hi = sub_start, self._end(sub_start, None)
         if key is None:
-            return start + 1 if (table or sub) else None
-        kp = re.compile(r"^\s*(?:\"?" + re.escape(key) + r"\"?)\s*=")
-        for i in range(start, len(self.lines)):
-            if i > start and table is None and self.lines[i].lstrip().startswith("["):
-                break
-            if kp.match(self.lines[i]):
-                return i + 1
-            if i > start and index is not None and re.match(r"^\s*\[\[", self.lines[i]):
-                break
-        return start + 1 if table else None
+            return lo + 1
+        found = self._find(key, lo, hi if sub is not None else self._end(lo, None))
+        return (found if found is not None else lo) + 1
 
 
 # ----------------------------------------------------------------------------- validation
