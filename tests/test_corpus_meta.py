@@ -318,6 +318,19 @@ CASES = [
                 "period (a mean per row is a rate only with a 'size' column, the area of "
                 "opportunity of each row); use statistic = \"sum\"")], 1,
          absent=[r"metric\[1\]"]),
+    Case("rollup-inline-before-a-later-header",
+         portfolio(toml=meta(metric=DEFECTS_M | {"rollup": raw('{ period = "week", '
+                                                                'statistic = "median" }')},
+                             more_metrics=[{"id": "m2", "name": "Two", "file": "data.csv",
+                                            "type": "continuous", "time": "date",
+                                            "value": "defects", "better": "lower"}])
+                   + '[metric.rollup]\nperiod = "week"\nstatistic = "median"\n',
+                   data=ATTR_CSV),
+         [exact("p/project.toml:17: metric[1].rollup.statistic: \"median\" does not fit a "
+                "defects metric without a 'size' column: its roll-up adds the defects counted in "
+                "each period (a mean per row is a rate only with a 'size' column, the area of "
+                "opportunity of each row); use statistic = \"sum\"")], 1,
+         absent=[r"metric\[2\]"]),
     Case("encoding-inline-table",
          portfolio(toml=meta(metric={"csv": raw('{ delimiter = ",", encoding = "utf-61" }')})),
          [exact("p/project.toml:17: metric[1].csv.encoding: unknown text encoding 'utf-61'; try "
