@@ -161,8 +161,19 @@ CASES = [
          portfolio(toml=meta(comparison="baseline = [2026-02-01, 2026-03-31]\n"
                                         "after = [2026-01-15, 2026-02-15]")),
          [exact("p/project.toml:8: comparison.after: the after period starts 2026-01-15, before "
-                "the baseline (2026-02-01 to 2026-03-31) starts; a day belongs to one period "
-                "only, so start the after period after 2026-03-31")], 1),
+                "the baseline (2026-02-01 to 2026-03-31) starts; the after period follows the "
+                "baseline, so start it after 2026-03-31")], 1),
+    Case("overlap-both-open-after-first",
+         portfolio(toml=meta(comparison="baseline = [2026-01-01]\nafter = [2025-06-01]")),
+         [exact("p/project.toml:8: comparison.after: the after period starts 2025-06-01, before "
+                "the baseline (2026-01-01 to latest) starts; the after period follows the "
+                "baseline")], 1),
+    Case("overlap-same-first-day",
+         portfolio(toml=meta(comparison="baseline = [2026-01-01, 2026-03-01]\n"
+                                        "after = [2026-01-01, 2026-06-30]")),
+         [exact("p/project.toml:8: comparison.after: the after period starts 2026-01-01, on the "
+                "day the baseline (2026-01-01 to 2026-03-01) starts; the after period follows the "
+                "baseline, so start it after 2026-03-01")], 1),
     Case("after-wholly-before-baseline",
          portfolio(toml=meta(comparison="baseline = [2026-03-01, 2026-03-31]\n"
                                         "after = [2026-01-01, 2026-01-31]")),
@@ -385,7 +396,7 @@ def test_check_reports_what_a_build_reports(tmp_path, capsys):
     capsys.readouterr()
 
 
-# ------------------------------------------------------------------- the loader, encoding by encoding
+# ------------------------------------------------------------ the loader, encoding by encoding
 
 
 def _points(tmp_path, data: bytes, csv: dict | None = None):
@@ -441,3 +452,27 @@ def test_readme_table_of_rollup_statistics_is_the_rule():
     assert documented == {k: set(rollup_statistics(m)[0]) for k, m in specs.items()}
     flags = MetricSpec(type="defectives", value="v", **base)
     assert rollup_statistics(flags)[0] == ("proportion",)
+
+
+def test_period_clash_on_every_arrangement_of_two_periods():
+    """Over every arrangement of two periods on a 6-day grid (open ends included): accepted
+    exactly when the after period starts after the baseline ends; every period sharing a day
+    with the baseline is refused; the advice never names a date the advice itself rules out."""
+    import datetime as dt
+    import itertools
+
+    from steadyline.config import Period, period_clash
+
+    days = [dt.date(2026, 1, d) for d in range(1, 7)]
+    periods = [Period(a, b) for a in days for b in [*days, None] if b is None or b >= a]
+    last = days[-1]
+    for base, after in itertools.product(periods, periods):
+        clash = period_clash(base, after)
+        accepted = base.end is not None and after.start > base.end
+        assert (clash is None) == accepted, (base, after, clash)
+        shared = any(base.start <= d <= (base.end or last)
+                     and after.start <= d <= (after.end or last) for d in days)
+        assert not (shared and clash is None)
+        if clash and clash[0] == "baseline":  # "give the baseline an end before <after start>"
+            assert base.end is None and after.start > base.start
+

@@ -847,19 +847,23 @@ def period_clash(baseline: Period, after: Period) -> tuple[str, str] | None:
     period that does not end before it starts; an after period wholly before the baseline is
     refused too, since the pages would call the earlier data "after".
     """
+    label = baseline.label()
     if after.end is not None and after.end < baseline.start:
         return "after", (f"the after period ({after.label()}) ends before the baseline "
-                         f"({baseline.label()}) starts; the after period follows the baseline")
+                         f"({label}) starts; the after period follows the baseline")
+    if after.start <= baseline.start:
+        when = "before" if after.start < baseline.start else "on the day"
+        fix = f", so start it after {baseline.end}" if baseline.end else ""
+        return "after", (f"the after period starts {after.start}, {when} the baseline ({label}) "
+                         f"starts; the after period follows the baseline{fix}")
     if baseline.end is None:
-        return "baseline", (f"the baseline ({baseline.label()}) has no end, so it overlaps the "
-                            f"after period ({after.label()}); give the baseline an end before "
-                            f"{after.start}")
+        return "baseline", (f"the baseline ({label}) has no end, so it overlaps the after period "
+                            f"({after.label()}); give the baseline an end before {after.start}")
     if after.start > baseline.end:
         return None
-    where = (f"inside the baseline ({baseline.label()})" if after.start >= baseline.start
-             else f"before the baseline ({baseline.label()}) starts")
-    return "after", (f"the after period starts {after.start}, {where}; a day belongs to one "
-                     f"period only, so start the after period after {baseline.end}")
+    return "after", (f"the after period starts {after.start}, inside the baseline ({label}); a "
+                     f"day belongs to one period only, so start the after period after "
+                     f"{baseline.end}")
 
 
 def discover(root: Path) -> list[Path]:
