@@ -400,7 +400,7 @@ CASES = [
     Case("after-inside-baseline",
          portfolio(toml=meta(comparison="baseline = [2026-01-01, 2026-03-01]\n"
                                         "after = [2026-02-01]")),
-         [r"^p/project\.toml:\d+: metric\[1\]\.after: the after period starts 2026-02-01, inside "
+         [r"^p/project\.toml:8: comparison\.after: the after period starts 2026-02-01, inside "
           r"the baseline"], 1),
     Case("no-baseline-warning", portfolio(toml=meta(comparison=None)),
          [r"^p/project\.toml:\d+: warning: metric\[1\]\.baseline: no baseline period"], 0),

@@ -158,14 +158,23 @@ class ProjectSpec:
 
 
 class _Locator:
-    """Finds the line of a key in TOML text, for messages (tomllib gives no positions)."""
+    """Finds the line of a key in TOML text, for messages (tomllib gives no positions).
+
+    A key is looked for only inside its own table: a ``[table]`` or the index-th
+    ``[[table]]`` up to the next header that is not one of its sub-tables (``[table.sub]``), a
+    sub-table up to the next header. A table written inline (``table = {...}``) or with dotted
+    keys (``table.key = ...``, ``sub.key = ...``) is found on that line.
+    """
+
+    _HEADER = re.compile(r"^\s*\[")
 
     def __init__(self, text: str):
         self.lines = text.splitlines()
 
-    def _table_start(self, table: str | None, index: int | None) -> int:
+    def _table_start(self, table: str | None, index: int | None) -> int | None:
+        """The header's index (0-based), or None when the file has no such header."""
         if table is None:
-            return 0
+            return None
         pattern = re.compile(r"^\s*\[\[\s*" + re.escape(table) + r"\s*\]\]" if index is not None
                              else r"^\s*\[\s*" + re.escape(table) + r"\s*\]")
         seen = -1
@@ -174,28 +183,66 @@ class _Locator:
                 seen += 1
                 if index is None or seen == index:
                     return i
-        return 0
+        return None
+
+    def _end(self, start: int, inner: str | None) -> int:
+        """Where the table whose header is at *start* ends: the next header, not counting the
+        sub-tables ``[inner.…]`` when *inner* is given."""
+        own = re.compile(r"^\s*\[\s*" + re.escape(inner) + r"\.") if inner else None
+        for i in range(start + 1, len(self.lines)):
+            line = self.lines[i]
+            if self._HEADER.match(line) and not (own and own.match(line)):
+                return i
+        return len(self.lines)
+
+    def _find(self, key: str, lo: int, hi: int, dotted: str | None = None) -> int | None:
+        """The first line in [lo, hi) that sets *key* (or, with *dotted*, ``dotted.key``)."""
+        name = r"\"?" + re.escape(key) + r"\"?"
+        if dotted is not None:
+            name = r"\"?" + re.escape(dotted) + r"\"?\s*\.\s*" + name
+        kp = re.compile(r"^\s*" + name + r"\s*=")
+        for i in range(lo, hi):
+            if self._HEADER.match(self.lines[i]):
+                continue
+            if kp.match(self.lines[i]):
+                return i
+        return None
+
+    def header_line(self, table: str) -> int | None:
+        """The line of a plain ``[table]`` header, or None when there is none."""
+        i = self._table_start(table, None)
+        return None if i is None else i + 1
 
     def line_of(self, key: str | None, table: str | None = None, index: int | None = None,
                 sub: str | None = None) -> int | None:
+        top_end = self._end(-1, None)  # top-level keys stand before the first header
+        if table is None:
+            found = None if key is None else self._find(key, 0, top_end)
+            return None if found is None else found + 1
         start = self._table_start(table, index)
+        if start is None:  # inline or dotted at the top level: the line that names the table
+            found = None if key is None else self._find(key, 0, top_end, dotted=table)
+            if found is None:
+                found = self._find(table, 0, top_end)
+            if found is None:
+                found = next((i for i in range(top_end) if re.match(
+                    r"^\s*" + re.escape(table) + r"\s*\.", self.lines[i])), None)
+            return None if found is None else found + 1
+        lo, hi = start, self._end(start, table)
         if sub is not None:
             pat = re.compile(r"^\s*\[\s*" + re.escape(f"{table}.{sub}") + r"\s*\]")
-            for i in range(start, len(self.lines)):
-                if pat.match(self.lines[i]):
-                    start = i
-                    break
+            sub_start = next((i for i in range(lo + 1, hi) if pat.match(self.lines[i])), None)
+            if sub_start is None:  # inline (sub = {...}) or dotted (sub.key = ...)
+                own_end = self._end(start, None)
+                found = None if key is None else self._find(key, lo, own_end, dotted=sub)
+                if found is None:
+                    found = self._find(sub, lo, own_end)
+                return (found if found is not None else start) + 1
+            lo, hi = sub_start, self._end(sub_start, None)
         if key is None:
-            return start + 1 if (table or sub) else None
-        kp = re.compile(r"^\s*(?:\"?" + re.escape(key) + r"\"?)\s*=")
-        for i in range(start, len(self.lines)):
-            if i > start and table is None and self.lines[i].lstrip().startswith("["):
-                break
-            if kp.match(self.lines[i]):
-                return i + 1
-            if i > start and index is not None and re.match(r"^\s*\[\[", self.lines[i]):
-                break
-        return start + 1 if table else None
+            return lo + 1
+        found = self._find(key, lo, hi if sub is not None else self._end(lo, None))
+        return (found if found is not None else lo) + 1
 
 
 # ----------------------------------------------------------------------------- validation
@@ -222,6 +269,19 @@ class _Checker:
                     f"; allowed keys are: {', '.join(allowed)}"
                 self.add(f"{prefix}{key}", f"unknown key{hint}",
                          self.loc.line_of(key, table, index, sub))
+
+
+def is_text_encoding(name: str) -> bool:
+    """Whether Python decodes bytes to text under this name. Codecs from bytes to bytes
+    (base64, zlib) or text to text (rot13) are known to Python but are no text encoding:
+    decoding a file with them fails, so they are refused here with the unknown names."""
+    try:
+        b"    ".decode(name)  # not empty: Python returns "" for empty bytes before any check
+    except LookupError:
+        return False
+    except (UnicodeError, ValueError):
+        return True  # a text encoding these four bytes are no valid text of (UTF-32)
+    return True
 
 
 def _type_name(v: Any) -> str:
@@ -498,6 +558,10 @@ def load_project(folder: Path, root: Path | None = None,
         ck.unknown_keys(comp, ("baseline", "after"), "comparison.", table="comparison")
         cr = _Reader(ck, comp, "comparison.", table="comparison")
         comp_baseline, comp_after = cr.period("baseline"), cr.period("after")
+        if comp_baseline and comp_after:
+            clash = period_clash(comp_baseline, comp_after)
+            if clash:
+                ck.add(f"comparison.{clash[0]}", clash[1], cr._line(clash[0]))
 
     events: list[Event] = []
     ev = data.get("event", [])
@@ -518,12 +582,21 @@ def load_project(folder: Path, root: Path | None = None,
 
     metrics: list[MetricSpec] = []
     raw_metrics = data.get("metric")
+    # A project without a metric has nothing to draw: an error (where the file says so: an
+    # empty list `metric = []`, or a single [metric] table written for [[metric]]).
     if raw_metrics is None:
         ck.add("metric", "no [[metric]] table; a project needs at least one metric")
+        raw_metrics = []
+    elif isinstance(raw_metrics, dict):
+        ck.add("metric", "[metric] is a single table; write [[metric]] (double brackets) before "
+               "each metric", ck.loc.header_line("metric") or ck.loc.line_of("metric"))
         raw_metrics = []
     elif not isinstance(raw_metrics, list) or not all(isinstance(m, dict) for m in raw_metrics):
         r._bad("metric", "[[metric]] tables", raw_metrics)
         raw_metrics = []
+    elif not raw_metrics:
+        ck.add("metric", "the list of metrics is empty; a project needs at least one [[metric]] "
+               "table", ck.loc.line_of("metric"))
     seen_ids: set[str] = set()
     for i, m in enumerate(raw_metrics):
         spec = _metric(ck, m, i, folder, root, settings, comp_baseline, comp_after)
@@ -599,13 +672,9 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
             delim = ","
         dec = cr.choice("decimal", (".", ","), default=".")
         enc = cr.text("encoding", default="utf-8")
-        try:
-            import codecs
-
-            codecs.lookup(enc)
-        except LookupError:
-            ck.add(f"{prefix}csv.encoding", f"unknown text encoding {enc!r}; try utf-8 or latin-1",
-                   cr._line("encoding"))
+        if enc is not None and not is_text_encoding(enc):
+            ck.add(f"{prefix}csv.encoding", f"unknown text encoding {enc!r}; try utf-8, utf-16 "
+                   "or latin-1", cr._line("encoding"))
             enc = "utf-8"
         tz = cr.text("timezone")
         if tz is not None:
@@ -622,6 +691,7 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
                    "files with decimal commas use delimiter = \";\"", cr._line("decimal"))
         csv = CsvOptions(delim or ",", dec or ".", enc or "utf-8", cr.text("date_format"), tz)
 
+    own_baseline, own_after = r.period("baseline"), r.period("after")
     bins: str | tuple[float, ...] = settings.bins
     if "bins" in m:
         v = m["bins"]
@@ -648,12 +718,19 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         limits=r.choice("limits", LIMIT_MODES, "baseline"),
         quartiles=r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
         bins=bins, normal_curve=r.boolean("normal_curve"),
-        baseline=r.period("baseline") or comp_baseline,
-        after=r.period("after") or comp_after,
+        baseline=own_baseline or comp_baseline, after=own_after or comp_after,
         rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), **cols,
     )
     if dtype is not None:
         _check_metric_shape(ck, spec, prefix, r)
+    # Periods the metric sets itself are checked here, at the metric's own key; a clash of the
+    # [comparison] periods alone is reported once, at [comparison].
+    owned = [k for k, v in (("baseline", own_baseline), ("after", own_after)) if v is not None]
+    if owned and spec.baseline and spec.after:
+        clash = period_clash(spec.baseline, spec.after)
+        if clash:
+            key = clash[0] if clash[0] in owned else owned[0]
+            ck.add(f"{prefix}{key}", clash[1], r._line(key))
     if len([p for p in ck.problems[before:] if p.severity == "error"]):
         return None
     return spec
@@ -690,23 +767,103 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
         if m.type in ("subgroups", "categories"):
             ck.add(f"{prefix}rollup", f"a roll-up does not apply to a {m.type} metric; remove it",
                    line)
-        elif m.type == "defectives" and m.value is not None and m.rollup.statistic != "proportion":
-            ck.add(f"{prefix}rollup.statistic", "defectives from a 0/1 'value' column roll up "
-                   "with statistic = \"proportion\"", line)
-        elif m.type == "continuous" and m.rollup.statistic == "proportion":
-            pass  # a 0/1 value column rolled up to a share per period: handled as defectives
+        else:
+            fits, what = rollup_statistics(m)
+            if m.rollup.statistic not in fits:
+                use = " or ".join(f'"{f}"' for f in fits)
+                ck.add(f"{prefix}rollup.statistic",
+                       f'"{m.rollup.statistic}" does not fit {what}; use statistic = {use}',
+                       ck.loc.line_of("statistic", r.table, r.index, "rollup"))
     if m.spec_lower is not None and m.spec_upper is not None and m.spec_lower >= m.spec_upper:
         ck.add(f"{prefix}spec_lower", f"spec_lower ({m.spec_lower:g}) must be below spec_upper "
                f"({m.spec_upper:g})", r._line("spec_lower"))
+    # A target outside the specification limits is an error: a process run at its target would
+    # be out of specification, so the limits or the target are mistyped, and what the pages say
+    # about either (capability, closeness to target) could not be true. On a limit is allowed
+    # (a target of zero with spec_lower = 0).
+    lo, hi, t = m.spec_lower, m.spec_upper, m.target
+    if t is not None and not (lo is not None and hi is not None and lo >= hi):
+        if (lo is not None and t < lo) or (hi is not None and t > hi):
+            if lo is not None and hi is not None:
+                limits = f"outside the specification limits ({_num(lo)} to {_num(hi)})"
+            else:
+                limits = f"below spec_lower ({_num(lo)})" if lo is not None else \
+                    f"above spec_upper ({_num(hi)})"
+            ck.add(f"{prefix}target", f"the target {_num(t)} is {limits}; a process on target "
+                   "would be out of specification: check the target and the limits",
+                   r._line("target"))
     if m.better == "target" and m.target is None:
         ck.add(f"{prefix}target", "better = \"target\" needs a target value", line,
                severity="warning")
     if m.type != "categories" and m.baseline is None:
         ck.add(f"{prefix}baseline", "no baseline period (here or in [comparison]); all the data "
                "is treated as baseline", line, severity="warning")
-    if m.baseline and m.after and m.baseline.end and m.after.start <= m.baseline.end:
-        ck.add(f"{prefix}after", f"the after period starts {m.after.start}, inside the baseline "
-               f"({m.baseline.label()})", line)
+
+
+def _num(x: float) -> str:
+    """A number from the metadata as written: short, but never rounded."""
+    short = f"{x:g}"
+    return short if float(short) == x else repr(x)
+
+
+def rollup_statistics(m: MetricSpec) -> tuple[tuple[str, ...], str]:
+    """The roll-up statistics that fit a metric, and what its roll-up does (for messages).
+
+    Only these are accepted, so that a roll-up always does what its statistic says: the
+    attribute types are rolled up by adding their counts per period (the p, u and c charts
+    need the totals), never by the statistic's name.
+    - continuous: every statistic, of the values of each period ("count" counts the rows with
+      a value, "proportion" is the share of 1s in a 0/1 column, charted as defectives);
+    - defectives: "proportion", the defective items over the items checked in each period
+      (from count and size, or the share of 1s in a 0/1 value column);
+    - defects without a size: "sum", the defects counted in each period (a mean per row would
+      be a rate per row, and a row is no defined area of opportunity);
+    - defects with a size: "mean", the defects per unit of area of each period: its summed
+      counts over its summed size.
+    """
+    if m.type == "defectives":
+        src = ("the share of 1s in its 0/1 'value' column" if m.value is not None
+               else "its defective items over the items checked")
+        return ("proportion",), (f"a defectives metric: its roll-up plots {src} in each period")
+    if m.type == "defects" and m.size is None:
+        return ("sum",), ("a defects metric without a 'size' column: its roll-up adds the "
+                          "defects counted in each period (a mean per row is a rate only with a "
+                          "'size' column, the area of opportunity of each row)")
+    if m.type == "defects":
+        return ("mean",), ("a defects metric with a 'size' column: its roll-up plots the "
+                           "defects per unit of 'size' in each period, the summed counts over "
+                           "the summed size")
+    return STATISTICS, "a continuous metric"
+
+
+def period_clash(baseline: Period, after: Period) -> tuple[str, str] | None:
+    """Why a baseline and an after period cannot be compared, and which of the two to change
+    ("baseline" or "after"); None when the after period starts after the baseline ends.
+
+    An error, not a warning: a day in both periods would be counted as "after" only (the
+    baseline silently loses it), the baseline's limits and median would be drawn from data
+    they are then compared with, and every before/after figure would compare the process with
+    itself. An open-ended baseline ([start]) takes in every later day, so it overlaps any after
+    period that does not end before it starts; an after period wholly before the baseline is
+    refused too, since the pages would call the earlier data "after".
+    """
+    label = baseline.label()
+    if after.end is not None and after.end < baseline.start:
+        return "after", (f"the after period ({after.label()}) ends before the baseline "
+                         f"({label}) starts; the after period follows the baseline")
+    if after.start <= baseline.start:
+        when = "before" if after.start < baseline.start else "on the day"
+        fix = f", so start it after {baseline.end}" if baseline.end else ""
+        return "after", (f"the after period starts {after.start}, {when} the baseline ({label}) "
+                         f"starts; the after period follows the baseline{fix}")
+    if baseline.end is None:
+        return "baseline", (f"the baseline ({label}) has no end, so it overlaps the after period "
+                            f"({after.label()}); give the baseline an end before {after.start}")
+    if after.start > baseline.end:
+        return None
+    return "after", (f"the after period starts {after.start}, inside the baseline ({label}); a "
+                     f"day belongs to one period only, so start the after period after "
+                     f"{baseline.end}")
 
 
 def discover(root: Path) -> list[Path]:
