@@ -128,6 +128,9 @@ CASES = [
     Case("stray-fifo-in-a-subfolder", portfolio(),
          [r"^p/archive/pipe: warning: this is a named pipe \(FIFO\), not a regular file"
           + STRAY], 0, setup=fifo("p/archive/pipe")),
+    Case("stray-unreadable-folder", portfolio(files={"p/archive/old.csv": good_csv()}),
+         [r"^p/archive: warning: cannot read the folder: Permission denied" + STRAY], 0,
+         setup=unreadable("p/archive")),
     Case("stray-folder-named-like-a-data-file", portfolio(files={"p/old.csv/": ""}), [], 0),
     Case("stray-link-out-to-an-unreadable-file", portfolio(), [], 0,
          setup=link_out("p/ref.csv", good_csv(), unreadable_target=True)),
@@ -299,3 +302,24 @@ def _moved(setup, slug: str):
             link.unlink()
     moved.unreadable = needs_bound_permissions(setup)
     return moved
+
+
+def test_a_file_made_unreadable_after_a_build_is_found_by_the_next(tmp_path, capsys):
+    """The digests remembered between builds are not trusted for a file whose mode changed: a
+    data file made unreadable after a build (its contents and modification time unchanged)
+    breaks its project on the next build, as `check` says, instead of the old pages being
+    kept as if nothing had happened."""
+    import os
+
+    root = write(tmp_path / "projects", portfolio())
+    settled = 1_700_000_000_000_000_000  # long ago: the digest is remembered
+    os.utime(root / "p" / "data.csv", ns=(settled, settled))
+    out = str(tmp_path / "site")
+    assert main(["build", "--quiet", "--jobs", "1", str(root), "--out", out]) == 0
+    os.chmod(root / "p" / "data.csv", 0)
+    case = Case("made-unreadable", {}, [r"^p/data\.csv: " + DENIED + "$"], 1,
+                setup=unreadable("p/data.csv"))
+    built = run(case, ["build", "--quiet", "--jobs", "1", str(root), "--out", out], capsys)
+    assert_case(case, *built)
+    checked = run(case, ["check", "--quiet", str(root)], capsys)
+    assert checked[:2] == built[:2]
