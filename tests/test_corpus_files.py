@@ -97,7 +97,12 @@ CASES = [
     Case("project-toml-is-a-folder", portfolio(),
          [r"^p/project\.toml: this is a folder, not a file$"], 1,
          setup=folder("p/project.toml")),
+    Case("project-folder-unreadable", portfolio(files=OTHER),
+         [r"^p/: cannot read the folder: Permission denied$"], 1, setup=unreadable("p"),
+         absent=[r"^q/"]),
     # --- the notes (notes.md is used whenever it is there)
+    Case("notes-is-a-folder", portfolio(files={"p/notes.md/": ""}),
+         [r"^p/project\.toml: notes: the notes file 'notes\.md' is a folder, not a file$"], 1),
     Case("notes-fifo", portfolio(),
          [r"^p/project\.toml: notes: the notes file 'notes\.md' is a named pipe \(FIFO\), not a "
           r"regular file$"], 1, setup=fifo("p/notes.md")),

@@ -478,6 +478,12 @@ def load_project(folder: Path, root: Path | None = None,
         raise ProjectError([Problem(f"{folder.name}/", None, "", _outside(
             "the project folder", folder, "projects folder", _OUTSIDE_PORTFOLIO,
             "move the project in instead"))])
+    try:
+        with os.scandir(folder):
+            pass
+    except OSError as e:  # else every file in it would seem missing
+        raise ProjectError([Problem(rel(folder, root) + "/", None, "",
+                                    f"cannot read the folder: {e.strerror}")]) from None
     meta = folder / PROJECT_FILE
     if not files.exists(meta):
         raise ProjectError([Problem(rel(folder, root) + "/", None, "",
