@@ -437,9 +437,9 @@ def _inside(path: Path, folder: Path) -> bool:
 
 
 def _fault(path: Path) -> str | None:
-    """What keeps *path* from being read as a file ("a named pipe (FIFO), not a regular file",
-    "cannot read the file: Permission denied"), None when it can be read, "" when nothing is
-    there. Opens nothing but a regular file, and reads nothing."""
+    """What keeps *path* from being read as a file ("this is a named pipe (FIFO), not a
+    regular file", "cannot read the file: Permission denied"), None when it can be read, ""
+    when nothing is there. Opens nothing but a regular file, and reads nothing."""
     if not files.exists(path):
         return ""
     return files.readable_fault(path)
@@ -796,7 +796,8 @@ def discover(root: Path) -> list[Path]:
 def stray_entries(root: Path) -> list[Problem]:
     """Warnings for what lies directly in the projects folder, is neither a folder nor
     portfolio.toml, and cannot be read (a named pipe, socket or device, a dangling link or a
-    loop of links, an unreadable file): no project uses it, so it costs none. Reads nothing."""
+    loop of links, an unreadable file): no project uses it, so it costs none. Reads nothing,
+    and opens nothing but regular files (to learn whether they can be read)."""
     if not root.is_dir():
         return []
     problems = []
