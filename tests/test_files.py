@@ -98,3 +98,28 @@ def test_the_input_hash_counts_what_it_does_not_read(tmp_path):
         linked = input_hash(p, "x", root=root)  # would raise if the target were read
     secret.write_text("b, changed\n")  # its contents are no input
     assert linked == input_hash(p, "x", root=root) != plain
+
+
+def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_path,
+                                                                           monkeypatch):
+    """The notes are read when the page is made, after the project was loaded: a named pipe
+    put there in between is a problem of the project, not an internal error."""
+    from corpus.kit import portfolio, write
+
+    import steadyline.site.project as project
+    from steadyline.config import PortfolioSettings
+
+    root = write(tmp_path / "projects", portfolio(files={"p/notes.md": "# Notes\n"}))
+    real = project.render_notes
+
+    def swapped(path):
+        path.unlink()
+        _fifo(path)
+        return real(path)
+
+    monkeypatch.setattr(project, "render_notes", swapped)
+    with time_limit(10):
+        outcome = project.build_project(root / "p", root, PortfolioSettings())
+    assert not outcome.ok
+    assert [p.format() for p in outcome.problems] == [
+        "p/notes.md: this is a named pipe (FIFO), not a regular file"]
