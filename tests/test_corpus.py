@@ -627,25 +627,5 @@ def test_single_value_subgroups_are_counted_from_one(degenerate_site):
     assert "Subgroups at positions 2, 5 hold a single value" in _page_text(page)
 
 
-def test_check_reports_what_a_build_reports(tmp_path):
-    # `check` reads and analyses without drawing: it must find the very problems, in the same
-    # order, that a build of the same folder prints
-    from steadyline.errors import BuildError
-    from steadyline.site.build import BuildOptions, build, check
-
-    compared = 0
-    for case in CASES:
-        root = write(tmp_path / case.name / "projects", case.files)
-        if case.setup:
-            case.setup(root)
-        try:
-            found = check(root, jobs=1)
-            report = build(BuildOptions(root, tmp_path / case.name / "site", jobs=1))
-        except BuildError:
-            continue
-        settings_problems = load_portfolio(root)[1]
-        if any(p.severity == "error" for p in settings_problems):
-            continue  # a build repeats a broken portfolio.toml for every project
-        assert [p.format() for p in found] == [p.format() for p in report.problems], case.name
-        compared += 1
-    assert compared >= 50
+# `check` and `build` printing the same problems, in the same order, with the same exit code,
+# for every case here: tests/test_check_build_parity.py.

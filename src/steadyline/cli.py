@@ -46,7 +46,7 @@ def _show_progress(args) -> bool:
 
 
 def cmd_build(args) -> int:
-    from .config import discover
+    from .config import PORTFOLIO_FILE, discover
     from .site.build import BuildOptions, build
 
     projects = Path(args.projects_dir)
@@ -62,8 +62,11 @@ def cmd_build(args) -> int:
     _print_problems(report.problems)
     if not args.quiet:
         state = "published" if report.written else "unchanged, nothing written"
+        settings = "" if report.ok or report.broken else \
+            f"; {PORTFOLIO_FILE} has errors, its defaults were used"
         print(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-              f"{len(report.broken)} with errors; site {state} at {out}", file=sys.stderr)
+              f"{len(report.broken)} with errors{settings}; site {state} at {out}",
+              file=sys.stderr)
     if args.strict and any(p.severity == "warning" for p in report.problems):
         return 1
     return 0 if report.ok else 1

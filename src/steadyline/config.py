@@ -13,12 +13,14 @@ from __future__ import annotations
 
 import datetime as dt
 import difflib
+import os
 import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from . import files
 from .errors import Problem, ProjectError, rel
 
 PROJECT_FILE = "project.toml"
@@ -430,9 +432,9 @@ COLUMN_KEYS = ("time", "value", "subgroup", "count", "size", "category")
 def _read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Problem]]:
     shown = rel(path, root)
     try:
-        raw = path.read_bytes()
-    except OSError as e:
-        return None, "", [Problem(shown, None, "", f"cannot read the file: {e.strerror}")]
+        raw = files.read_bytes(path)  # never opens anything but a regular file
+    except files.Unreadable as e:
+        return None, "", [Problem(shown, None, "", str(e))]
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as e:
@@ -452,8 +454,12 @@ def _read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Pr
 
 def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
     path = root / PORTFOLIO_FILE
-    if not path.is_file():
+    if not files.exists(path):
         return PortfolioSettings(), []
+    if not files.inside(path, root):
+        return PortfolioSettings(), [Problem(PORTFOLIO_FILE, None, "", _outside(
+            PORTFOLIO_FILE, path, "projects folder", _OUTSIDE_PORTFOLIO,
+            "copy the file in instead"))]
     data, text, problems = _read_toml(path, root)
     if data is None:
         return PortfolioSettings(), problems
@@ -476,12 +482,48 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
     return settings, ck.problems
 
 
+_OUTSIDE_PORTFOLIO = "nothing outside the projects folder is read"
+_OUTSIDE_PROJECT = "a project reads only files inside its own folder"
+
+
+def _outside(name: str, path: Path, where: str, rule: str, advice: str) -> str:
+    """The message for *path*, a link whose real path lies outside *where*."""
+    target = os.readlink(path) if os.path.islink(path) else os.path.realpath(path)
+    return f"{name} is a link to {target!r}, outside the {where}; {rule}: {advice}"
+
+
 def _inside(path: Path, folder: Path) -> bool:
+    return files.inside(path, folder)
+
+
+def _fault(path: Path) -> str | None:
+    """What keeps *path* from being read as a file ("this is a named pipe (FIFO), not a
+    regular file", "cannot read the file: Permission denied"), None when it can be read, ""
+    when nothing is there. Opens nothing but a regular file, and reads nothing."""
+    if not files.exists(path):
+        return ""
+    return files.readable_fault(path)
+
+
+def _sentence(subject: str, why: str) -> str:
+    """A fault of :func:`_fault` said of *subject*: "the notes file 'n.md' is a socket, not a
+    regular file", "cannot read the notes file 'n.md': Permission denied"."""
+    if why.startswith("this is "):
+        return f"{subject} is {why.removeprefix('this is ')}"
+    return why.replace("the file", subject, 1)
+
+
+def _file_fault(path: Path, named: str) -> str | None:
+    """What keeps *path* (named *named* in project.toml) from being a data file, in words;
+    None for a regular file. Opens nothing: whether it can be read is found when it is read,
+    and said of the file itself."""
     try:
-        path.resolve().relative_to(folder.resolve())
-        return True
-    except (ValueError, OSError):
-        return False
+        why = files.fault(path)
+    except FileNotFoundError:
+        return f"the file {named!r} does not exist"
+    except OSError as e:
+        return f"cannot look at {named!r}: {e.strerror}"
+    return None if why is None else f"{named!r} is {why}"
 
 
 def load_project(folder: Path, root: Path | None = None,
@@ -492,11 +534,26 @@ def load_project(folder: Path, root: Path | None = None,
     """
     settings = settings or PortfolioSettings()
     root = root or folder.parent
+    if not files.inside(folder, root):
+        raise ProjectError([Problem(f"{folder.name}/", None, "", _outside(
+            "the project folder", folder, "projects folder", _OUTSIDE_PORTFOLIO,
+            "move the project in instead"))])
+    try:
+        with os.scandir(folder):
+            pass
+    except OSError as e:  # else every file in it would seem missing
+        raise ProjectError([Problem(rel(folder, root) + "/", None, "",
+                                    f"cannot read the folder: {e.strerror}")]) from None
     meta = folder / PROJECT_FILE
-    if not meta.is_file():
+    if not files.exists(meta):
         raise ProjectError([Problem(rel(folder, root) + "/", None, "",
                                     f"no {PROJECT_FILE} in this project folder; add one (see the "
                                     "project format in the README) or move the folder out")])
+    if not files.inside(meta, folder):
+        raise ProjectError([Problem(rel(meta, root), None, "", _outside(
+            PROJECT_FILE, meta, "project folder", _OUTSIDE_PROJECT, "copy the file in instead"))])
+    if (why := _fault(meta)) is not None:
+        raise ProjectError([Problem(rel(meta, root), None, "", why)])
     data, text, problems = _read_toml(meta, root)
     if data is None:
         raise ProjectError(problems)
@@ -525,16 +582,21 @@ def load_project(folder: Path, root: Path | None = None,
         if Path(notes).is_absolute() or not _inside(p, folder):
             ck.add("notes", f"{notes!r} points outside the project folder; keep notes inside it",
                    ck.loc.line_of("notes"))
-        elif not p.is_file():
+        elif (why := _fault(p)) == "":
             ck.add("notes", f"the notes file {notes!r} does not exist", ck.loc.line_of("notes"))
+        elif why is not None:
+            ck.add("notes", _sentence(f"the notes file {notes!r}", why),
+                   ck.loc.line_of("notes"))
         else:
             notes_path = p
-    elif (folder / NOTES_DEFAULT).is_file():
-        if _inside(folder / NOTES_DEFAULT, folder):
-            notes_path = folder / NOTES_DEFAULT
-        else:
+    elif files.exists(folder / NOTES_DEFAULT):  # used when present, so it must be readable
+        if not _inside(folder / NOTES_DEFAULT, folder):
             ck.add("notes", f"the notes file {NOTES_DEFAULT!r} points outside the project folder "
                    "(a link); keep notes inside it")
+        elif (why := _fault(folder / NOTES_DEFAULT)) is not None:
+            ck.add("notes", _sentence(f"the notes file {NOTES_DEFAULT!r}", why))
+        else:
+            notes_path = folder / NOTES_DEFAULT
     safety = r.boolean("safety_related")
 
     phase_dates: list[tuple[str, dt.date]] = []
@@ -610,6 +672,13 @@ def load_project(folder: Path, root: Path | None = None,
         metrics.append(spec)
     if sum(m.headline for m in metrics) > 1:
         ck.add("metric.headline", "more than one metric is marked headline = true; mark one")
+    # What the project holds but does not use, and could not be read: a warning, never more.
+    used = {os.path.normpath(folder / n) for n in (PROJECT_FILE, NOTES_DEFAULT, notes) if n}
+    used |= {os.path.normpath(folder / x["file"]) for x in raw_metrics
+             if isinstance(x.get("file"), str)}
+    for path, why in files.strays(folder, used, root):
+        ck.problems.append(Problem(rel(path, root), None, "", f"{why}; the project does not use "
+                                   "it, so it is left alone", "warning"))
 
     errors = [p for p in ck.problems if p.severity == "error"]
     if errors:
@@ -643,10 +712,12 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         if Path(file_).is_absolute() or not _inside(p, folder):
             ck.add(f"{prefix}file", f"{file_!r} points outside the project folder; metric files "
                    "must live inside it", r._line("file"))
-        elif not p.is_file():
+        elif not files.exists(p):
             near = difflib.get_close_matches(file_, sorted(x.name for x in folder.glob("*.csv")), 1)
             hint = f"; did you mean '{near[0]}'?" if near else ""
             ck.add(f"{prefix}file", f"the file {file_!r} does not exist{hint}", r._line("file"))
+        elif (why := _file_fault(p, file_)) is not None:
+            ck.add(f"{prefix}file", why, r._line("file"))
         else:
             path = p.resolve()
     cols = {k: r.text(k) for k in COLUMN_KEYS}
@@ -869,8 +940,31 @@ def period_clash(baseline: Period, after: Period) -> tuple[str, str] | None:
 def discover(root: Path) -> list[Path]:
     """Project folders under the portfolio root: every sub-folder that is not hidden.
 
-    A folder without project.toml is still listed so that the user is told about it.
+    A folder without project.toml is still listed so that the user is told about it, and so is
+    a link to a folder outside the projects folder (it is refused when loaded). A folder named
+    portfolio.toml is not a project: it is reported as a broken portfolio.toml.
     """
     if not root.is_dir():
         return []
-    return sorted(p for p in root.iterdir() if p.is_dir() and not p.name.startswith((".", "_")))
+    return sorted(p for p in root.iterdir() if p.is_dir() and p.name != PORTFOLIO_FILE
+                  and not p.name.startswith((".", "_")))
+
+
+def stray_entries(root: Path) -> list[Problem]:
+    """Warnings for what lies directly in the projects folder, is neither a folder nor
+    portfolio.toml, and cannot be read (a named pipe, socket or device, a dangling link or a
+    loop of links, an unreadable file): no project uses it, so it costs none. Reads nothing,
+    and opens nothing but regular files (to learn whether they can be read)."""
+    if not root.is_dir():
+        return []
+    problems = []
+    for p in sorted(root.iterdir()):
+        if p.name.startswith((".", "_")) or p.name == PORTFOLIO_FILE or files.is_ignored(p.name):
+            continue
+        if p.is_dir() or not files.inside(p, root):
+            continue
+        why = files.readable_fault(p)
+        if why is not None:
+            problems.append(Problem(rel(p, root), None, "", f"{why}; no project uses it, so it "
+                                    "is left alone", "warning"))
+    return problems

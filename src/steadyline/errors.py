@@ -9,6 +9,7 @@ is the one place that turns them into exit codes.
 
 from __future__ import annotations
 
+import os
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -71,10 +72,17 @@ def _problem_key(p: Problem):
 
 
 def rel(path: Path, root: Path | None) -> str:
-    """A path as shown in messages: relative to *root* when inside it, with forward slashes."""
+    """A path as shown in messages: relative to *root* when inside it, with forward slashes.
+
+    The path as named is tried first (a link is shown where it lies, not where it leads: a
+    message about a link to outside, or a loop of links, names the link), then with links
+    resolved (a resolved path under a linked projects folder)."""
+    if root is None:
+        return path.as_posix()
+    shown = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
+    if shown != ".." and not shown.startswith(".." + os.sep):
+        return Path(shown).as_posix()
     try:
-        if root is not None:
-            return path.resolve().relative_to(root.resolve()).as_posix()
-    except ValueError:
-        pass
-    return path.as_posix()
+        return path.resolve().relative_to(root.resolve()).as_posix()
+    except (ValueError, OSError, RuntimeError):
+        return path.as_posix()

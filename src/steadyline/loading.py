@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from . import files
 from .config import MetricSpec, Period, PortfolioSettings
 from .errors import Problem, ProjectError
 
@@ -299,10 +300,10 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd
                 "before committing it, or raise max_file_mb")
         return None
     try:
-        with open(path, "rb") as fh:  # read-only: input files are never opened for writing
-            raw = fh.read()
-    except OSError as e:
-        out.add(None, "", f"cannot read the file: {e.strerror}")
+        # read-only, and only a regular file: a named pipe put in its place would block for ever
+        raw = files.read_bytes(path)
+    except files.Unreadable as e:
+        out.add(None, "", str(e))
         return None
     text = _decode(raw, spec.csv.encoding, out)
     if text is None:

@@ -31,7 +31,7 @@ from multiprocessing import get_context
 from pathlib import Path
 
 from .. import __version__
-from ..config import PHASES, PortfolioSettings, discover, load_portfolio
+from ..config import PHASES, PortfolioSettings, discover, load_portfolio, stray_entries
 from ..errors import BuildError, Problem
 from .assets import asset_files, assets_key
 from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash, page_context
@@ -66,7 +66,9 @@ class BuildReport:
 
     @property
     def ok(self) -> bool:
-        return not self.broken
+        """No project broken and no other error (a broken portfolio.toml, whose defaults were
+        used instead)."""
+        return not self.broken and not any(p.severity == "error" for p in self.problems)
 
 
 def _settings_key(settings: PortfolioSettings, live: bool) -> str:
@@ -200,6 +202,7 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     # 1-2. settings and discovery
     settings, portfolio_problems = load_portfolio(root)
     report.problems.extend(portfolio_problems)
+    report.problems.extend(stray_entries(root))
     folders = discover(root)
 
     # 3. plan
@@ -223,7 +226,7 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                    pool: ProcessPoolExecutor | None, progress_cb) -> BuildReport:
     key = _settings_key(settings, opts.live)
     memo = digest_memo_for(root)  # unchanged files are not read again
-    hashes = {f.name: input_hash(f, key, memo) for f in folders}
+    hashes = {f.name: input_hash(f, key, memo, root) for f in folders}
     memo.save()
     todo, reuse = [], []
     for f in folders:
@@ -446,7 +449,7 @@ def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> l
     if not projects_dir.is_dir():
         raise BuildError(f"{projects_dir}: the projects folder does not exist")
     settings, problems = load_portfolio(projects_dir)
-    problems = list(problems)
+    problems = list(problems) + stray_entries(projects_dir)
     tasks = [(f, projects_dir, settings, debug) for f in discover(projects_dir)]
     for found in _in_order(_check_worker, tasks, _jobs(jobs, len(tasks), CHECK_POOL_MIN)):
         problems.extend(found)

@@ -16,30 +16,11 @@ from pathlib import Path
 from .. import __version__
 from ..config import PortfolioSettings
 from ..errors import Problem
+from ..files import Unreadable, fault, inside, is_ignored, open_regular
 
 CSP = ("default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "
        "img-src 'self' data: blob:; connect-src 'self'; font-src 'self'; "
        "base-uri 'none'; form-action 'none'; object-src 'none'")
-
-# Endings of the files editors and office suites write beside the real one while saving.
-_TEMP_SUFFIXES = (".swp", ".swo", ".swx", ".swpx", ".tmp", ".part", ".crdownload")
-
-
-def is_ignored(name: str) -> bool:
-    """True for a file name no rebuild should follow: hidden, swap, backup, lock or temp files.
-
-    Covers ``.#x`` (Emacs lock), ``#x#`` (Emacs auto-save), ``x~`` (backups), ``.x.swp``
-    (Vim swap), ``4913`` (Vim's write test), ``.~lock.x#`` and ``~$x`` (office locks),
-    ``x.tmp`` / ``x.part``.
-    """
-    if not name:
-        return True
-    return (name.startswith((".", "~"))
-            or name.endswith("~")
-            or (name.startswith("#") and name.endswith("#"))
-            or name.lower().endswith(_TEMP_SUFFIXES)
-            or name == "4913")
-
 
 @dataclass
 class ProjectOutcome:
@@ -57,31 +38,66 @@ def page_context(root: str, settings: PortfolioSettings, live: str | None) -> di
             "csp": CSP, "live": live}
 
 
-def input_hash(folder: Path, extra: str, known: DigestMemo | None = None) -> str:
+def input_hash(folder: Path, extra: str, known: DigestMemo | None = None,
+               root: Path | None = None) -> str:
     """A content hash of every file of the project folder plus *extra* (tool, templates).
 
     Hidden files and the temporary, backup and lock files editors leave beside the real ones
-    are not inputs. *known* remembers file digests between builds (see :class:`DigestMemo`)."""
+    are not inputs. *known* remembers file digests between builds (see :class:`DigestMemo`).
+
+    Only regular files inside *root* (the projects folder; links resolved) are read. Anything
+    else (a named pipe, socket or device, a dangling link or a loop of links, a file that
+    cannot be read, a link to outside *root*) is never opened: it counts by what it is, in
+    words, so that the hash still changes when it is mended, and no such file can stop the
+    build (the project that uses one is told so when it is loaded)."""
     h = hashlib.sha256(extra.encode())
+    if root is not None and not inside(folder, root):
+        h.update(b"\0outside: " + os.fsencode(os.path.realpath(folder)))
+        return h.hexdigest()
     for p in sorted(folder.rglob("*")):
-        if p.is_file() and not is_ignored(p.name):
-            h.update(p.relative_to(folder).as_posix().encode())
-            h.update(known.digest(p) if known is not None else _file_digest(p))
+        if is_ignored(p.name):
+            continue
+        try:
+            why = fault(p)
+        except FileNotFoundError:  # gone since it was listed
+            continue
+        except OSError as e:
+            why = f"cannot read the file: {e.strerror}"
+        if why == "a folder, not a file":
+            continue
+        name = p.relative_to(folder).as_posix().encode()
+        if why is None and root is not None and not inside(p, root):
+            why = f"a link to {os.readlink(p)!r}, outside the projects folder"
+        if why is None:
+            try:
+                digest = known.digest(p) if known is not None else _file_digest(p)
+            except Unreadable as e:
+                why = str(e)
+            else:
+                h.update(name)
+                h.update(digest)
+                continue
+        h.update(name)
+        h.update(b"\0not read: " + why.encode())
     return h.hexdigest()
 
 
 def _file_digest(path: Path) -> bytes:
-    with open(path, "rb") as fh:
-        return hashlib.file_digest(fh, "sha256").digest()
+    """sha256 of a regular file; Unreadable when it is anything else or cannot be read."""
+    with open_regular(path) as fh:
+        try:
+            return hashlib.file_digest(fh, "sha256").digest()
+        except OSError as e:
+            raise Unreadable(f"cannot read the file: {e.strerror}") from None
 
 
 class DigestMemo:
     """File digests remembered between builds, so that an unchanged file is not read again.
 
     A digest is reused only when the file's size, modification time and inode are those
-    recorded, and the file was already more than two seconds old when it was recorded (any
-    later write then gives it a newer modification time, even on file systems whose clock
-    ticks coarsely). The memo lives in the user's cache folder, one file per projects folder,
+    recorded (and its mode and owner, which decide whether it can be read at all), and the
+    file was already more than two seconds old when it was recorded (any later write then gives
+    it a newer modification time, even on file systems whose clock ticks coarsely). The memo lives in the user's cache folder, one file per projects folder,
     never in the site: the site stays the same whatever the cache holds. A memo that cannot be
     read or written is simply not used.
     """
@@ -107,14 +123,16 @@ class DigestMemo:
         except OSError:
             return _file_digest(path)  # raises the same error a read would
         stamp = [st.st_size, st.st_mtime_ns, st.st_ino]
+        # who may read it: a file made unreadable since is read again (and found unreadable)
+        access = [st.st_mode, st.st_uid, st.st_gid]
         rec = self.old.get(key)
         now = time.time_ns()
-        if (isinstance(rec, list) and len(rec) == 5 and rec[:3] == stamp
-                and rec[3] - stamp[1] > self.SETTLED_NS):
+        if (isinstance(rec, list) and len(rec) == 8 and rec[:3] == stamp
+                and rec[5:] == access and rec[3] - stamp[1] > self.SETTLED_NS):
             self.new[key] = rec
             return bytes.fromhex(rec[4])
         digest = _file_digest(path)
-        self.new[key] = [*stamp, now, digest.hex()]
+        self.new[key] = [*stamp, now, digest.hex(), *access]
         return digest
 
     def save(self) -> None:

@@ -13,6 +13,8 @@ from pathlib import Path
 import markdown
 import nh3
 
+from .. import files
+
 ALLOWED_TAGS = {
     "a", "abbr", "b", "blockquote", "br", "code", "dd", "del", "dl", "dt", "em", "h1", "h2",
     "h3", "h4", "h5", "h6", "hr", "i", "li", "ol", "p", "pre", "strong", "sub", "sup", "table",
@@ -66,5 +68,6 @@ def render_markdown(text: str) -> str:
 
 
 def render_notes(path: Path) -> str:
-    with open(path, encoding="utf-8-sig", errors="replace") as fh:
-        return render_markdown(fh.read())
+    # only a regular file is opened (the project's loading has checked it can be read)
+    text = files.read_bytes(path).decode("utf-8-sig", errors="replace")
+    return render_markdown(text.replace("\r\n", "\n").replace("\r", "\n"))  # as text mode reads

@@ -26,6 +26,7 @@ from ..charts import (
 )
 from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
 from ..errors import Problem, ProjectError, rel
+from ..files import Unreadable
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
 from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
 from .capability_view import capability_view
@@ -349,7 +350,10 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
             history_sections.append(section)
             history_results.append(result)
         memo.forget()
-    notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
+    try:
+        notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
+    except Unreadable as e:  # changed since the project was loaded
+        raise ProjectError([Problem(rel(spec.notes_path, root), None, "", str(e))]) from None
     prov = provenance(spec, root, dates)
     ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
     project_ctx = project_view(spec)
