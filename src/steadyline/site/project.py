@@ -428,6 +428,7 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
             "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
             "headline": headline, "signals": signals, "baseline_signals": baseline_signals, "warnings": warnings,
             "search_text": text, "broken": False, "problem_count": 0, "data_to": fresh,
+            "metrics": len(analyses),
             "own_limits": any(a.after_limits is not None for a in analyses),
             "after_signals": sum(len(a.after_signals) for a in analyses)}
 
