@@ -41,6 +41,7 @@ from .cards import (
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
 from .history import history_page, history_section
+from .index import csv_text
 from .notes import render_notes
 from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
@@ -463,7 +464,7 @@ def headline_figures(a: MetricAnalysis) -> dict[str, str]:
     def num(v) -> str:
         return "" if v is None else safe_cell(rounded_number(float(v)))
 
-    out = {"metric": safe_cell(a.spec.name), "unit": safe_cell(a.spec.unit), "measure": "",
+    out = {"metric": csv_text(a.spec.name), "unit": csv_text(a.spec.unit), "measure": "",
            "baseline": "", "after": "", "change": "", "percent_change": ""}
     if c is not None:
         out |= {"measure": c.measure, "baseline": num(c.baseline), "after": num(c.after),
