@@ -168,3 +168,56 @@ def test_the_build_date_comes_from_source_date_epoch(tmp_path: Path, monkeypatch
     with pytest.raises(BuildError, match="SOURCE_DATE_EPOCH: expected a whole number"):
         build(BuildOptions(projects, out, jobs=1))
     assert (out / "index.html").read_bytes() == before  # the published site is untouched
+
+
+# ------------------------------------------------------------------ statuses of built projects
+
+def _project(tmp_path: Path, base: list[float], after: list[float], name: str,
+             better: str = "lower") -> dict:
+    """results.json of a one-metric project: the *base* values as its baseline, then *after*."""
+    from steadyline.config import PortfolioSettings
+    from steadyline.site.project import build_project
+
+    values = base + after
+    d0 = dt.date(2026, 1, 5)
+    rows = ["date,value"] + [f"{d0 + dt.timedelta(days=i)},{v}" for i, v in enumerate(values)]
+    folder = tmp_path / name
+    folder.mkdir()
+    (folder / "data.csv").write_text("\n".join(rows) + "\n", "utf-8")
+    end = d0 + dt.timedelta(days=len(base) - 1)
+    start = end + dt.timedelta(days=1)
+    (folder / "project.toml").write_text(
+        'title = "T"\nowner = "O"\nphase = "improve"\nproblem = "P"\n\n[comparison]\n'
+        f"baseline = [{d0}, {end}]\nafter = [{start}]\n\n[[metric]]\n"
+        f'id = "m"\nname = "Metric"\nfile = "data.csv"\ntype = "continuous"\n'
+        f'time = "date"\nvalue = "value"\nbetter = "{better}"\n', "utf-8")
+    outcome = build_project(folder, tmp_path, PortfolioSettings())
+    assert outcome.ok, [p.format() for p in outcome.problems]
+    doc = json.loads(outcome.files["results.json"])
+    assert outcome.entry["status"]["code"] == doc["status"]["code"]  # the card's, unjudged
+    return doc
+
+
+def test_built_projects_get_each_status_from_their_results(tmp_path: Path):
+    import numpy as np
+
+    # seed 4: thirty values with no signal on their own limits
+    base = [round(v, 3) for v in np.random.default_rng(4).normal(10.0, 1.0, 30)]
+    shifted = [round(v - 3.0, 3) for v in base]  # the same pattern, 3 lower: as stable
+    cases = {
+        "gain-holds": dict(after=shifted),
+        "worse": dict(after=[round(v + 3.0, 3) for v in base]),
+        "no-clear-change": dict(after=list(reversed(base))),  # the same values: p = 1
+        "gain-not-yet-stable": dict(after=shifted[:8]),  # too few for limits of its own
+        "not-judged": dict(after=shifted, better="target"),  # and no target set
+        "baseline-only": dict(after=[]),
+    }
+    for i, (want, kw) in enumerate(cases.items()):
+        doc = _project(tmp_path, base, name=f"p{i}", **kw)
+        assert doc["status"]["code"] == want, (want, doc["status"])
+        assert doc["status"]["metric"] == "m"
+        if want == "gain-holds":
+            staged = doc["history"][0]["staged_control_chart"]
+            assert staged["own_after_limits"] and staged["after_signals"] == []
+        if want == "gain-not-yet-stable":
+            assert "the after phase has 8 points; 12 are needed" in doc["status"]["reason"]
