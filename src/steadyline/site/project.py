@@ -29,7 +29,7 @@ from ..errors import Problem, ProjectError, rel
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
 from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
-from ..status import HeadlineFacts, Status, Verdict, judge
+from ..status import HeadlineFacts, judge
 from .cards import (
     Displays,
     capability_rows,
@@ -367,9 +367,9 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     if has_history:
         files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
-    head = next((a for a in analyses if a.spec.id == spec.headline.id), None)
-    verdict = judge(headline_facts(head)) if head is not None else Verdict(
-        Status.NOT_JUDGED, "the headline metric could not be read")
+    # every metric was read (a project with a metric that cannot be read is not built)
+    head = next(a for a in analyses if a.spec.id == spec.headline.id)
+    verdict = judge(headline_facts(head))
     doc = {
         "schema": RESULTS_SCHEMA, "tool_version": __version__,
         "project": {"slug": spec.slug, "title": spec.title, "owner": spec.owner,
@@ -388,8 +388,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
     entry["status"] = verdict.as_json() | {
         "metric": spec.headline.id,
-        "staged_chart": head is not None and head.control is not None and has_history}
-    entry["figures"] = headline_figures(head) if head is not None else {}
+        "staged_chart": head.control is not None and has_history}
+    entry["figures"] = headline_figures(head)
     return ProjectOutcome(spec.slug, True, files, entry, problems + _stats_notes(analyses))
 
 
