@@ -221,3 +221,23 @@ def test_built_projects_get_each_status_from_their_results(tmp_path: Path):
             assert staged["own_after_limits"] and staged["after_signals"] == []
         if want == "gain-not-yet-stable":
             assert "the after phase has 8 points; 12 are needed" in doc["status"]["reason"]
+
+
+def test_a_later_build_date_rewrites_only_the_index_and_its_csv(tmp_path: Path, monkeypatch):
+    import hashlib
+
+    def hashes(root: Path) -> dict[str, str]:
+        return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+                for p in sorted(root.rglob("*")) if p.is_file()}
+
+    projects = _small(tmp_path)
+    out = tmp_path / "site"
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1778025600")  # 2026-05-06
+    build(BuildOptions(projects, out, jobs=1))
+    before = hashes(out)
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1795392000")  # 2026-11-23
+    report = build(BuildOptions(projects, out, jobs=1))
+    assert report.built == [] and report.written
+    after = hashes(out)
+    assert {k for k in after if before.get(k) != after[k]} == {"index.html",
+                                                                "headline-figures.csv"}
