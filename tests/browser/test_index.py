@@ -162,3 +162,19 @@ def test_the_index_prints_on_one_a4_page(browser, site_url, built_site):
         assert pdf_pages(page.pdf(format="A4")) > 1
     finally:
         page.close()
+
+
+def test_index_screenshots_at_phone_width(browser, site_url, artifacts_dir):
+    """For a human to read: the index's cards and table view on a phone (the desktop index is
+    test_site's screenshot). Neither scrolls sideways."""
+    ctx = browser.new_context(viewport={"width": 390, "height": 844})
+    page = ctx.new_page()
+    try:
+        page.goto(urljoin(site_url, "index.html"), wait_until="load")
+        for view in ("cards", "table"):
+            page.check(f"#f-view-{view}")
+            width = page.evaluate("document.documentElement.scrollWidth")
+            assert width <= 390, f"{view}: the page is {width} px wide"
+            page.screenshot(path=str(artifacts_dir / f"index-phone-{view}.png"), full_page=True)
+    finally:
+        ctx.close()
