@@ -22,7 +22,7 @@ if "STEADYLINE_TEST_CACHE" not in os.environ:
 # The build date the index judges staleness against (the reproducible-builds convention):
 # Monday 2026-11-23, three days after the demo's last data, so that the demo's statuses, and
 # the tests that read them, do not change with the day the tests run.
-os.environ.setdefault("SOURCE_DATE_EPOCH", "1795392000")
+os.environ["SOURCE_DATE_EPOCH"] = "1795392000"
 
 
 @pytest.fixture(scope="session")
