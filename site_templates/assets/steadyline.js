@@ -172,22 +172,37 @@
     });
   }
 
+  /* The index: search, filters (status, phase, owner, tag), sort order and the card or table
+     view. Cards and table rows are the same projects (matched by data-slug): both are filtered
+     and ordered together. The sort orders come with the page (data-order-<key>, worked out by
+     the build), so the browser's order is exactly the build's. */
   function setupFilters() {
     var list = document.getElementById("project-list");
     if (!list) { return; }
     var text = document.getElementById("f-text");
+    var status = document.getElementById("f-status");
     var phase = document.getElementById("f-phase");
     var owner = document.getElementById("f-owner");
     var tag = document.getElementById("f-tag");
+    var sort = document.getElementById("f-sort");
     var count = document.getElementById("f-count");
     var empty = document.getElementById("f-empty");
+    var rowsBody = document.getElementById("project-rows");
+    var tableWrap = document.getElementById("project-table-wrap");
     var cards = Array.prototype.slice.call(list.querySelectorAll("li.card"));
+    var rows = {};
+    if (rowsBody) {
+      Array.prototype.forEach.call(rowsBody.querySelectorAll("tr[data-slug]"), function (tr) {
+        rows[tr.dataset.slug] = tr;
+      });
+    }
     function norm(s) { return (s || "").toLowerCase().normalize("NFKD").replace(/[\u0300-\u036f]/g, ""); }
     function apply() {
       var words = norm(text.value).split(/\s+/).filter(Boolean);
       var shown = 0;
       cards.forEach(function (card) {
-        var ok = (!phase.value || card.dataset.phase === phase.value) &&
+        var ok = (!status || !status.value || card.dataset.status === status.value) &&
+                 (!phase.value || card.dataset.phase === phase.value) &&
                  (!owner.value || card.dataset.owner === owner.value) &&
                  (!tag.value || card.dataset.tags.split("|").indexOf(tag.value) >= 0);
         if (ok && words.length) {
@@ -195,17 +210,43 @@
           ok = words.every(function (w) { return hay.indexOf(w) >= 0; });
         }
         card.hidden = !ok;
+        var row = rows[card.dataset.slug];
+        if (row) { row.hidden = !ok; }
         if (ok) { shown += 1; }
       });
       count.textContent = shown + " shown";
       empty.hidden = shown !== 0;
     }
-    [text, phase, owner, tag].forEach(function (el) {
+    function order() {
+      if (!sort) { return; }
+      var key = "order" + sort.value.charAt(0).toUpperCase() + sort.value.slice(1);
+      cards.slice().sort(function (a, b) {
+        return Number(a.dataset[key]) - Number(b.dataset[key]);
+      }).forEach(function (card) {
+        list.appendChild(card);
+        var row = rows[card.dataset.slug];
+        if (row) { rowsBody.appendChild(row); }
+      });
+    }
+    function view() {
+      var table = document.getElementById("f-view-table");
+      var asTable = !!(table && table.checked && tableWrap);
+      list.hidden = asTable;
+      if (tableWrap) { tableWrap.hidden = !asTable; }
+    }
+    [text, status, phase, owner, tag].forEach(function (el) {
+      if (!el) { return; }
       el.addEventListener("input", apply);
       el.addEventListener("change", apply);
     });
+    if (sort) { sort.addEventListener("change", order); }
+    Array.prototype.forEach.call(document.querySelectorAll('input[name="f-view"]'), function (el) {
+      el.addEventListener("change", view);
+    });
     document.getElementById("filters").addEventListener("submit", function (e) { e.preventDefault(); });
+    order();
     apply();
+    view();
   }
 
   /* Live reload, only on pages built by `steadyline watch` (they carry <meta name="steadyline-live">):

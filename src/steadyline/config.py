@@ -22,6 +22,7 @@ from typing import Any
 
 from . import files
 from .errors import Problem, ProjectError, rel
+from .status import STALE_AFTER_DAYS
 
 PROJECT_FILE = "project.toml"
 PORTFOLIO_FILE = "portfolio.toml"
@@ -95,6 +96,9 @@ class PortfolioSettings:
     quartiles: str = "linear"
     bins: str = "fd"
     max_file_mb: float = 200.0
+    # Only the index uses it, and the index is rendered on every build: kept out of repr, so
+    # out of every project's input hash, and changing it rebuilds no project.
+    stale_after_days: int = field(default=STALE_AFTER_DAYS, repr=False)
 
 
 @dataclass(frozen=True)
@@ -421,7 +425,8 @@ METRIC_KEYS = ("id", "name", "file", "type", "time", "value", "subgroup", "subgr
                "size", "category", "unit", "better", "spec_lower", "spec_upper", "target",
                "headline", "chart", "signal_rules", "run_rules", "limits", "quartiles", "bins",
                "normal_curve", "baseline", "after", "rollup", "csv")
-PORTFOLIO_KEYS = ("title", "signal_rules", "run_rules", "quartiles", "bins", "max_file_mb")
+PORTFOLIO_KEYS = ("title", "signal_rules", "run_rules", "quartiles", "bins", "max_file_mb",
+                  "stale_after_days")
 CSV_KEYS = ("delimiter", "decimal", "encoding", "date_format", "timezone")
 ROLLUP_KEYS = ("period", "statistic")
 
@@ -478,6 +483,7 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
         quartiles=r.choice("quartiles", QUARTILE_METHODS, d.quartiles),
         bins=r.choice("bins", BIN_RULES, d.bins),
         max_file_mb=mb if mb and mb > 0 else d.max_file_mb,
+        stale_after_days=r.integer("stale_after_days", minimum=1) or d.stale_after_days,
     )
     return settings, ck.problems
 

@@ -47,10 +47,10 @@ def _outside(state: dict, right: float) -> list[str]:
     """Marks and charts that reach past *right* (px) or outside their own chart's drawing."""
     bad = []
     for c in state["charts"]:
-        left, top, r, bottom = c["svg"][:4]
+        left, _top, r, _bottom = c["svg"][:4]
         if r > right + 1 or left < -1:
             bad.append(f"{c['id']}: drawing spans {left:.0f}..{r:.0f} px, page {right:.0f} px")
-        for tag, text, (ml, mt, mr, mb, mw, mh) in c["marks"]:
+        for tag, text, (ml, _mt, mr, _mb, mw, mh) in c["marks"]:
             if mw == 0 and mh == 0:
                 continue  # not displayed
             if ml < left - 1 or mr > r + 1 or mr > right + 1 or ml < -1:

@@ -31,13 +31,15 @@ from multiprocessing import get_context
 from pathlib import Path
 
 from .. import __version__
-from ..config import PHASES, PortfolioSettings, discover, load_portfolio, stray_entries
+from ..config import PortfolioSettings, discover, load_portfolio, stray_entries
 from ..errors import BuildError, Problem
+from ..status import build_date
 from .assets import asset_files, assets_key
-from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash, page_context
+from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash
+from .index import index_files
 from .publish import clean_stale, link_tree, publish, staging_dir, syncfs, write_files
 from .serialise import dumps_bytes
-from .templates import render, templates_fingerprint
+from .templates import templates_fingerprint
 
 MANIFEST = ".steadyline-manifest.json"
 LIVE_STATE = "live-state.json"
@@ -175,19 +177,14 @@ def compute(tasks: list[tuple], jobs: int, progress,
     return results
 
 
-def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> bytes:
-    order = {p: i for i, p in enumerate(PHASES)}
-    entries = sorted(entries, key=lambda e: (not e["broken"], order.get(e["phase"], -1),
-                                             e["title"].casefold(), e["slug"]))
-    # Broken first (they need attention), then by phase from define to control, then by title.
-    ok = [e for e in entries if not e["broken"]]
-    ctx = page_context("", settings, f"{LIVE_STATE} __index__" if live else None)
-    by_phase = [(p, n) for p in PHASES if (n := sum(e["phase"] == p for e in ok))]
-    html = render("index.html", projects=entries, broken=len(entries) - len(ok),
-                  phases=[p for p, _ in by_phase], by_phase=by_phase,
-                  owners=sorted({e["owner"] for e in ok}, key=str.casefold),
-                  tags=sorted({t for e in ok for t in e["tags"]}, key=str.casefold), **ctx)
-    return html.encode()
+def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> dict[str, bytes]:
+    """The index stage's files: index.html and the CSV of every project's headline figures
+    (site.index). Staleness is judged against the build date (SOURCE_DATE_EPOCH when set)."""
+    try:
+        today = build_date()
+    except ValueError as e:
+        raise BuildError(str(e)) from None
+    return index_files(entries, settings, f"{LIVE_STATE} __index__" if live else None, today)
 
 
 def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
@@ -277,7 +274,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                 report.problems.extend(Problem(**p) for p in prev.get("problems", []))
 
         # 5. index and manifest
-        index = index_page(list(entries.values()), settings, opts.live)
+        index_out = index_page(list(entries.values()), settings, opts.live)
+        index = index_out["index.html"]
         problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
         new_manifest = {
             "version": __version__,
@@ -293,7 +291,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
 
         unchanged = (not outcomes and out.is_dir()
-                     and _same(out / "index.html", index) and _same(out / MANIFEST, manifest_bytes))
+                     and all(_same(out / name, data) for name, data in index_out.items())
+                     and _same(out / MANIFEST, manifest_bytes))
         if unchanged:
             return report
 
@@ -309,7 +308,7 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
             link_tree(old_assets, staged / "assets", names)
         else:
             written += write_files(staged, {f"assets/{n}": b for n, b in assets.files().items()})
-        written += write_files(staged, {"index.html": index, MANIFEST: manifest_bytes})
+        written += write_files(staged, {**index_out, MANIFEST: manifest_bytes})
         if opts.live:
             written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
                                                          + "\n").encode()})

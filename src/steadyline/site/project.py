@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__, advice, memo
-from ..analysis import MetricAnalysis, analyse
+from ..analysis import AFTER_OWN_LIMITS_MIN, MetricAnalysis, analyse
 from ..charts import (
     SeriesContext,
     box_chart,
@@ -28,19 +28,23 @@ from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
 from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
+from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
+from ..status import HeadlineFacts, judge
 from .capability_view import capability_view
 from .cards import (
     Displays,
     fmt,
     pct,
+    safe_cell,
     series_context,
     signals_json,
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
 from .history import history_page, history_section
+from .index import csv_text
 from .notes import render_notes
-from .serialise import dumps_bytes, plain
+from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
 
 RESULTS_SCHEMA = "steadyline-results/1"
@@ -367,6 +371,9 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     if has_history:
         files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
+    # every metric was read (a project with a metric that cannot be read is not built)
+    head = next(a for a in analyses if a.spec.id == spec.headline.id)
+    verdict = judge(headline_facts(head))
     doc = {
         "schema": RESULTS_SCHEMA, "tool_version": __version__,
         "project": {"slug": spec.slug, "title": spec.title, "owner": spec.owner,
@@ -375,6 +382,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
                     "phase_dates": dict(spec.phase_dates),
                     "events": [{"date": e.date, "label": e.label} for e in spec.events],
                     "data_to": fresh or None},
+        "status": verdict.as_json() | {"metric": spec.headline.id},
         "metrics": results,
         "history": history,
         "input_notes": [p.format() for p in problems],
@@ -382,6 +390,10 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     }
     files["results.json"] = dumps_bytes(doc)
     entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
+    entry["status"] = verdict.as_json() | {
+        "metric": spec.headline.id,
+        "staged_chart": head.control is not None and has_history}
+    entry["figures"] = headline_figures(head)
     return ProjectOutcome(spec.slug, True, files, entry, problems + _stats_notes(analyses))
 
 
@@ -420,7 +432,57 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
             "href": f"projects/{spec.slug}/index.html",
             "history_href": f"projects/{spec.slug}/history.html", "has_history": has_history,
             "headline": headline, "signals": signals, "baseline_signals": baseline_signals, "warnings": warnings,
-            "search_text": text, "broken": False, "problem_count": 0, "data_to": fresh}
+            "search_text": text, "broken": False, "problem_count": 0, "data_to": fresh,
+            "metrics": len(analyses),
+            "own_limits": any(a.after_limits is not None for a in analyses),
+            "after_signals": sum(len(a.after_signals) for a in analyses)}
+
+
+def headline_facts(a: MetricAnalysis) -> HeadlineFacts:
+    """What the project's status is judged from (see steadyline.status)."""
+    c = a.comparison
+    facts = {"metric_id": a.spec.id, "metric_name": a.spec.name, "has_after": a.has_after,
+             "categories": a.data.kind == "categories", "control": a.control is not None,
+             "own_limits_min": AFTER_OWN_LIMITS_MIN}
+    if c is not None:
+        facts |= {"compared": True, "improved": c.improved, "p_value": c.p_value,
+                  "p_text": format_p_value(c.p_value), "change": c.change,
+                  "percent_change": c.percent_change}
+    else:
+        facts["failure"] = "; ".join(dict.fromkeys(
+            msg for disp, msg in a.failures if disp == "comparison"))
+    if a.data.kind != "categories":
+        stage = a.data.points["stage"].to_numpy(int)
+        facts |= {"after_points": int((stage == STAGE_AFTER).sum()),
+                  "own_limits": a.after_limits is not None,
+                  "after_signals": len(a.after_signals)}
+    return HeadlineFacts(**facts)
+
+
+def headline_figures(a: MetricAnalysis) -> dict[str, str]:
+    """The headline metric's figures as CSV cells (for the index's download): the measure
+    compared, its baseline and after values, the change. Without an after period, the
+    baseline's figure the card shows. Numbers rounded as in results.json."""
+    c = a.comparison
+
+    def num(v) -> str:
+        return "" if v is None else safe_cell(rounded_number(float(v)))
+
+    out = {"metric": csv_text(a.spec.name), "unit": csv_text(a.spec.unit), "measure": "",
+           "baseline": "", "after": "", "change": "", "percent_change": ""}
+    if c is not None:
+        out |= {"measure": c.measure, "baseline": num(c.baseline), "after": num(c.after),
+                "change": num(c.change), "percent_change": num(c.percent_change)}
+    elif a.run is not None and a.data.kind != "categories":
+        pts = a.data.points
+        base = pts[pts["stage"] == STAGE_BASELINE] if (pts["stage"] == STAGE_BASELINE).any() \
+            else pts
+        if a.data.kind in ("defectives", "defects"):
+            out |= {"measure": "proportion" if a.data.kind == "defectives" else "rate",
+                    "baseline": num(base["count"].sum() / base["size"].sum())}
+        else:
+            out |= {"measure": "median", "baseline": num(a.run.median)}
+    return out
 
 
 def headline_text(a: MetricAnalysis) -> str:

@@ -31,6 +31,12 @@ def _num(x: float) -> float | int | None:
     return r
 
 
+def rounded_number(x: float) -> float | None:
+    """A number as results.json writes it (None for NaN and infinities), for other files that
+    must agree with it."""
+    return _num(x)
+
+
 # While a document is converted, its float arrays wait here as (empty list placed in the
 # document, values) and are rounded together at the end, in one pass (see _batched): a project's
 # results hold a few hundred short arrays, and numpy's cost per call would dominate.
