@@ -51,6 +51,9 @@
      axis labels). Legends get as many columns as their entries fit beside each other, so that
      a narrow box stacks them instead of cutting the last ones off. */
   var AXIS_ROOM_PX = 70, AXIS_CHAR_PX = 6.5, LEGEND_ENTRY_PX = 200;
+  /* Below this box width (a phone) the drawing's own padding shrinks to what the last
+     label of a time axis needs. */
+  var NARROW_PX = 480;
 
   function fitAxesAndLegends(spec, target) {
     var width = Math.floor(target.clientWidth);
@@ -70,6 +73,12 @@
       });
     })(spec);
     spec.config = spec.config || {};
+    if (width < NARROW_PX) {
+      // slanted category labels reach a little left of where Vega reckons them
+      var meta = spec.usermeta && spec.usermeta.steadyline;
+      var slanted = meta && /pareto|column/.test(meta.display || "");
+      spec.config.padding = { top: 8, bottom: 8, left: slanted ? 12 : 2, right: 14 };
+    }
     spec.config.legend = spec.config.legend || {};
     spec.config.legend.columns = Math.max(1, Math.floor(width / LEGEND_ENTRY_PX));
     return spec;
