@@ -18,6 +18,7 @@ from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..memo import by_identity
 from ..stats.compare import format_p_value
+from ..stats.distribution import p_below_text
 from .serialise import Plain, compact_bytes, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
@@ -353,8 +354,10 @@ def capability_rows(c, unit: str) -> list[tuple[str, str, str]]:
     ]
     if c.normality is not None:
         n = c.normality
+        p_text = (format_p_value(n.p_value) if n.p_below is None
+                  else p_below_text(n.p_below))
         rows.append(("Anderson–Darling A²", fmt(n.statistic, digits=3),
-                     f"{format_p_value(n.p_value)}: "
+                     f"{p_text}: "
                      + ("consistent with a normal distribution" if n.normal_at_5pct
                         else "not consistent with a normal distribution at the 5% level")))
     return rows
