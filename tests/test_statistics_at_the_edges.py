@@ -77,3 +77,57 @@ def test_an_ordinary_sample_keeps_its_p_value_and_an_empty_bound(tmp_path):
     normality = result["metrics"][0]["normality"]
     assert 0.0 < normality["p_value"] < 1.0
     assert normality["p_below"] is None
+
+
+ROLLUP_TOML = """title = "Daily width"
+owner = "Test"
+phase = "measure"
+problem = "A test project."
+
+[comparison]
+baseline = [2026-01-05, 2026-01-16]
+
+[[metric]]
+id = "width"
+name = "Width, daily mean"
+file = "w.csv"
+type = "continuous"
+time = "t"
+value = "v"
+unit = "mm"
+better = "target"
+[metric.rollup]
+period = "day"
+statistic = "mean"
+"""
+
+
+def test_a_rolled_up_series_has_no_moving_range_across_a_missing_period(tmp_path):
+    # two working weeks, rolled up by day; Saturday and Sunday have no rows, so the series
+    # has a gap between Friday 9 and Monday 12 January, and the level moves across it.
+    # Two rows a day whose mean is the day's value.
+    days = ["2026-01-05", "2026-01-06", "2026-01-07", "2026-01-08", "2026-01-09",
+            "2026-01-12", "2026-01-13", "2026-01-14", "2026-01-15", "2026-01-16"]
+    means = [10.0, 12.0, 11.0, 13.0, 12.0, 30.0, 31.0, 29.0, 30.0, 32.0]
+    rows = [f"{d}T{h},{m + s}" for d, m in zip(days, means, strict=True)
+            for h, s in (("08:00", -0.5), ("14:00", 0.5))]
+    result, _page = _build(tmp_path, ROLLUP_TOML, "w.csv", "t,v\n" + "\n".join(rows) + "\n")
+    (m,) = result["metrics"]
+    assert m["points"]["value"] == means
+    chart = m["control_chart"]["chart"]
+    mr = chart["secondary"]
+    # Monday's moving range would span the weekend: undefined, null, drawn as a break
+    assert mr["values"][0] is None and mr["values"][5] is None
+    assert all(v is not None for i, v in enumerate(mr["values"]) if i not in (0, 5))
+    # by hand (NIST/SEMATECH e-Handbook 6.3.2.2; Montgomery section 6.4): the moving ranges
+    # inside the weeks are 2, 1, 2, 1 and 1, 2, 1, 2: MR-bar = 12 / 8 = 1.5 (the range across
+    # the weekend, 18, would make it 30 / 9 = 3.33); x-bar = 210 / 10 = 21; with the printed
+    # d2(2) = 1.128 and D4(2) = 3.267: UCL = 21 + 3 * 1.5 / 1.128 = 24.989, LCL = 17.011,
+    # mR UCL = 4.9005
+    assert chart["extras"]["average_moving_range"] == pytest.approx(1.5)
+    assert chart["extras"]["moving_ranges_used"] == 8
+    assert chart["centre"][0] == pytest.approx(21.0)
+    assert chart["upper"][0] == pytest.approx(24.989, abs=2e-3)
+    assert chart["lower"][0] == pytest.approx(17.011, abs=2e-3)
+    assert mr["upper"][1] == pytest.approx(4.9005, abs=2e-3)
+    assert any("gap in the periods" in n for n in chart["notes"])
