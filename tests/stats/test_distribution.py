@@ -301,7 +301,7 @@ def test_ad_p_value_critical_points():
 
 # statsmodels.stats.diagnostic.normal_ad uses the same D'Agostino & Stephens (1986) Table 4.9
 # formula for A*² <= 13 and returns 0 above, with the comment "is < 4.9542108058458799e-31"
-# (read in the installed statsmodels 0.15 source, statsmodels/stats/_adnorm.py).
+# (read in the source of statsmodels 0.15, module statsmodels.stats._adnorm).
 SM_FORMULA_MAX = 13.0
 SM_BELOW = 4.9542108058458799e-31
 
