@@ -83,15 +83,21 @@ def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):
 
 def _control(kind: str, data: MetricData, stage: np.ndarray, limits: str) -> ControlChart:
     pts = data.points
+    # a rolled-up series starts a new segment after missing periods: a moving range never
+    # spans that gap (the line breaks there and the limits do not use that range either)
+    segment = pts["segment"].to_numpy(np.int64) if "segment" in pts else None
     if kind == "xmr":
-        return control.individuals(pts["value"].to_numpy(float), stage=stage, limits=limits)
+        return control.individuals(pts["value"].to_numpy(float), stage=stage, limits=limits,
+                                   segment=segment)
     if kind in ("xbar-r", "xbar-s"):
         fn = control.xbar_r if kind == "xbar-r" else control.xbar_s
         return fn(data.subgroups, stage=stage, limits=limits)
     counts = pts["count"].to_numpy(float)
     sizes = pts["size"].to_numpy(float)
-    fns = {"p": control.p_chart, "laney-p": control.laney_p, "u": control.u_chart,
-           "laney-u": control.laney_u}
+    if kind in ("laney-p", "laney-u"):
+        fn = control.laney_p if kind == "laney-p" else control.laney_u
+        return fn(counts, sizes, stage=stage, limits=limits, segment=segment)
+    fns = {"p": control.p_chart, "u": control.u_chart}
     if kind in fns:
         return fns[kind](counts, sizes, stage=stage, limits=limits)
     if kind == "np":

@@ -64,6 +64,57 @@ def test_nist_individuals_example():
     assert mr.lower[1] == 0.0
 
 
+def test_a_moving_range_never_spans_a_gap():
+    # NIST/SEMATECH e-Handbook 6.3.2.2 flow-rate data, with one or more missing periods
+    # between the 5th and 6th values (segment 0, then 1). MR_i = |x_i - x_(i-1)| is defined for
+    # successive observations (NIST 6.3.2.2; Montgomery section 6.4), so the 6th value has no
+    # moving range. By hand, the nine moving ranges are 2.0, 2.3, 1.4, 3.5, [3.4], 1.4, 0.2,
+    # 1.2, 1.5 (sum 16.9, MR-bar 1.8778 as published); without the bracketed one across the
+    # gap: sum 13.5 over 8, MR-bar = 1.6875. x-bar stays 50.81 (every value is still a point).
+    # With the printed d2(2) = 1.128: UCL = 50.81 + 3 * 1.6875 / 1.128 = 55.2980,
+    # LCL = 46.3220; mR chart UCL = 3.267 * 1.6875 = 5.5131.
+    segment = [0, 0, 0, 0, 0, 1, 1, 1, 1, 1]
+    ch = C.individuals(NIST_FLOW, segment=segment)
+    mr = ch.secondary
+    assert np.isnan(mr.values[0]) and np.isnan(mr.values[5])  # drawn as a break
+    assert ch.extras["average_moving_range"] == pytest.approx(1.6875, abs=1e-12)
+    assert ch.extras["moving_ranges_used"] == 8
+    assert ch.centre[0] == pytest.approx(50.81, abs=1e-12)
+    # the same figures with the printed d2 = 1.128, D4 = 3.267, within their rounding
+    assert ch.upper[0] == pytest.approx(55.2980, abs=2e-3)
+    assert ch.lower[0] == pytest.approx(46.3220, abs=2e-3)
+    assert mr.upper[1] == pytest.approx(5.5131, abs=2e-3)
+    # and exactly x-bar +- 3 MR-bar / d2(2) with the exact d2(2)
+    assert ch.upper == pytest.approx(np.full(10, 50.81 + 3 * 1.6875 / d2(2)))
+    assert not mr.fitted[5] and mr.fitted[[1, 2, 3, 4, 6, 7, 8, 9]].all()
+    assert any("gap in the periods" in n for n in ch.notes)
+    # the old result, with the range across the gap, is not what comes out
+    assert ch.extras["average_moving_range"] != pytest.approx(16.9 / 9)
+    # one segment throughout is the chart without gaps
+    same = C.individuals(NIST_FLOW, segment=[3] * 10)
+    assert same.upper == pytest.approx(C.individuals(NIST_FLOW).upper)
+    assert not any("gap" in n for n in same.notes)
+
+
+def test_gaps_and_stages_together_and_bad_segments():
+    # a gap inside the baseline and a change of stage: neither range is used or drawn
+    x = [10.0, 12.0, 11.0, 30.0, 31.0, 29.0, 40.0, 41.0]
+    ch = C.individuals(x, stage=[0, 0, 0, 0, 0, 0, 1, 1], segment=[0, 0, 0, 1, 1, 1, 1, 1])
+    assert np.isnan(ch.secondary.values[[0, 3, 6]]).all()
+    # by hand: baseline moving ranges 2, 1 | 1, 2 -> MR-bar 1.5
+    assert ch.extras["average_moving_range"] == pytest.approx(1.5)
+    per_phase = C.individuals(x, stage=[0, 0, 0, 0, 0, 0, 1, 1], limits="per-phase",
+                              segment=[0, 0, 0, 1, 1, 1, 1, 1])
+    assert per_phase.extras["process_sigma_stage_1"] == pytest.approx(1.0 / d2(2))
+    # a baseline of single points between gaps has no moving range at all
+    with pytest.raises(StatsError, match="two consecutive points"):
+        C.individuals([1.0, 2.0, 3.0], segment=[0, 1, 2])
+    with pytest.raises(StatsError, match="one segment number per point"):
+        C.individuals([1.0, 2.0, 3.0], segment=[0, 1])
+    with pytest.raises(StatsError, match="whole numbers"):
+        C.individuals([1.0, 2.0, 3.0], segment=[0, 0.5, 1])
+
+
 def test_nile_individuals(nile):
     # statsmodels.datasets.nile; docs/methods.md §2 (computed): x-bar 919.35, MR-bar 133.2525,
     # exact-d2 limits 1273.63 / 565.07, with 2.66: 1273.80 / 564.90, mR UCL 3.267 MR-bar = 435.34
@@ -312,6 +363,29 @@ def test_laney_p_worked_values():
     ucl_printed = pbar + 3 * math.sqrt(pbar * (1 - pbar) / 400) * (sigma_z * d2(2) / 1.128)
     assert ucl_printed == pytest.approx(0.07953, abs=5e-6)
     assert ch.upper[0] == pytest.approx(pbar + 3 * math.sqrt(pbar * (1 - pbar) / 400) * sigma_z)
+
+
+def test_laney_sigma_z_skips_the_moving_range_across_a_gap():
+    # Laney (2002): sigma_z is the average moving range of successive z-scores / d2(2); a gap
+    # in the periods (segment change after the 4th point) leaves that one range out.
+    # Recomputed with numpy.
+    seg = [0, 0, 0, 0, 1, 1, 1, 1, 1, 1]
+    d, n = np.array(P_COUNTS, float), np.array(P_SIZES, float)
+    pbar = d.sum() / n.sum()
+    z = (d / n - pbar) / np.sqrt(pbar * (1 - pbar) / n)
+    mr = np.abs(np.diff(z))
+    keep = np.ones(9, dtype=bool)
+    keep[3] = False  # the range between the 4th and 5th points
+    for fn in (C.laney_p, C.laney_u):
+        ch = fn(P_COUNTS, P_SIZES, segment=seg)
+        if fn is C.laney_p:
+            assert ch.extras["sigma_z"] == pytest.approx(np.mean(mr[keep]) / d2(2))
+            assert ch.extras["sigma_z"] != pytest.approx(np.mean(mr) / d2(2))
+        else:  # u: z against the Poisson sigma
+            ubar = d.sum() / n.sum()
+            zu = (d / n - ubar) / np.sqrt(ubar / n)
+            mu = np.abs(np.diff(zu))
+            assert ch.extras["sigma_z"] == pytest.approx(np.mean(mu[keep]) / d2(2))
 
 
 def test_laney_falls_back_with_few_points():

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import warnings
 
 import numpy as np
@@ -9,12 +10,15 @@ import pytest
 from scipy import stats
 
 from steadyline.stats.distribution import (
+    AD_P_FLOOR,
+    AD_P_MAX_ADJUSTED,
     QUARTILE_METHODS,
     ad_p_value,
     anderson_darling,
     box_summary,
     histogram,
     normal_curve,
+    p_below_text,
 )
 from steadyline.stats.results import StatsError
 
@@ -291,6 +295,111 @@ def test_ad_p_value_critical_points():
     # continuity at the breakpoints of the piecewise formula
     for a in (0.2, 0.34, 0.6):
         assert ad_p_value(a - 1e-9) == pytest.approx(ad_p_value(a), abs=0.01)
+
+
+# --- Anderson–Darling at the edges of its p-value approximation --------------------------------
+
+# statsmodels.stats.diagnostic.normal_ad uses the same D'Agostino & Stephens (1986) Table 4.9
+# formula for A*² <= 13 and returns 0 above, with the comment "is < 4.9542108058458799e-31"
+# (read in the source of statsmodels 0.15, module statsmodels.stats._adnorm).
+SM_FORMULA_MAX = 13.0
+SM_BELOW = 4.9542108058458799e-31
+
+AD_GRID_N = (8, 20, 50, 100, 1000, 10**4, 10**5, 10**6)
+AD_GRID_SHAPES = ("normal", "lognormal", "exponential", "uniform")
+
+
+def _grid_sample(shape: str, n: int) -> np.ndarray:
+    rng = np.random.default_rng(AD_GRID_N.index(n) * 10 + AD_GRID_SHAPES.index(shape))
+    return {
+        "normal": lambda: rng.normal(50.0, 5.0, n),
+        "lognormal": lambda: rng.lognormal(0.0, 1.0, n),
+        "exponential": lambda: rng.exponential(2.0, n),
+        "uniform": lambda: rng.uniform(0.0, 1.0, n),
+    }[shape]()
+
+
+@pytest.mark.parametrize("shape", AD_GRID_SHAPES)
+@pytest.mark.parametrize("n", AD_GRID_N)
+def test_anderson_darling_grid_against_statsmodels_and_scipy(shape, n):
+    from statsmodels.stats.diagnostic import normal_ad
+
+    x = _grid_sample(shape, n)
+    ours = anderson_darling(x)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        sc = stats.anderson(x, "norm")  # method=None: the A² and its critical values
+        sm_a2, sm_p = normal_ad(x)
+    sm_a2, sm_p = float(sm_a2), float(sm_p)
+
+    # reference: scipy.stats.anderson, the unadjusted A² (logcdf and logsf, as ours)
+    assert ours.statistic == pytest.approx(float(sc.statistic), rel=1e-9)
+    factor = 1.0 + 0.75 / n + 2.25 / n**2
+    assert ours.adjusted == pytest.approx(ours.statistic * factor, rel=1e-12)
+
+    # reference: statsmodels normal_ad. Its A² takes log(cdf) and log1p(-cdf), which is -inf
+    # once a value lies so far out that the normal cdf rounds to 1; then only scipy's applies.
+    if math.isfinite(sm_a2):
+        assert ours.statistic == pytest.approx(sm_a2, rel=1e-6)
+    # the p-value: equal to statsmodels' where it uses the formula; where statsmodels gives 0
+    # ("below 4.95e-31") ours is a positive number below that while the approximation's
+    # published range lasts, and past it no number at all but the bound
+    if ours.adjusted <= SM_FORMULA_MAX - 1e-6:
+        assert ours.p_value == pytest.approx(sm_p, rel=1e-6)
+        assert ours.p_below is None
+    elif ours.adjusted < AD_P_MAX_ADJUSTED:
+        assert sm_p == 0.0
+        assert ours.p_value is not None and 0.0 < ours.p_value < SM_BELOW
+        assert ours.p_below is None
+    else:
+        assert sm_p == 0.0
+        assert ours.p_value is None and ours.p_below == AD_P_FLOOR
+    # never the old failures: no p of 1.0 (the formula turned upward), no overflow
+    assert ours.p_value is None or 0.0 < ours.p_value < 1.0
+
+    # reference: scipy.stats.anderson critical value at 5% (index 2 of 15, 10, 5, 2.5, 1):
+    # A² below it <=> normal at 5%. The table's 0.752 and the formula's 5% point (0.7532) and
+    # scipy's rounding to 3 decimals leave a sliver of A*² where the two may differ.
+    crit5 = float(sc.critical_values[2])
+    assert float(sc.significance_level[2]) == 5.0
+    if abs(ours.statistic - crit5) > 0.003:
+        assert ours.normal_at_5pct == (ours.statistic < crit5)
+    if shape != "normal" and n >= 1000:
+        assert not ours.normal_at_5pct  # clearly non-normal and large: never called normal
+
+
+def test_ad_p_value_range_ends_where_the_formula_turns_upward():
+    # The last piece exp(1.2937 − 5.709a + 0.0186a²) (D'Agostino & Stephens 1986, Table 4.9,
+    # from memory) has its lowest point at a = 5.709 / (2 × 0.0186); the range stated with it
+    # ends there, to three decimals.
+    vertex = 5.709 / (2 * 0.0186)
+    assert AD_P_MAX_ADJUSTED == math.floor(vertex * 1000) / 1000
+    # inside the range the p-value falls steadily from about 1 to the floor
+    a = np.linspace(0.0, AD_P_MAX_ADJUSTED, 20001)[:-1]
+    p = np.array([ad_p_value(v) for v in a])
+    assert np.all((p > 0) & (p < 1))
+    assert np.all(np.diff(p) <= 1e-12)
+    assert p[-1] > AD_P_FLOOR and p[-1] == pytest.approx(AD_P_FLOOR, rel=1e-3)
+    assert AD_P_FLOOR == pytest.approx(
+        math.exp(1.2937 - 5.709 * AD_P_MAX_ADJUSTED + 0.0186 * AD_P_MAX_ADJUSTED**2), rel=1e-12)
+    assert 1e-191 < AD_P_FLOOR < 1e-189
+    # at and past the end: no p-value (the old code gave 1.0 near a = 307 and overflowed
+    # past about 402)
+    for past in (AD_P_MAX_ADJUSTED, 200.0, 306.9, 307.0, 402.0, 1e4, 1e9, float("inf"),
+                 float("nan")):
+        assert ad_p_value(past) is None
+
+
+def test_a_large_skewed_sample_is_not_normal_and_says_p_below():
+    # the failure reported: a clearly non-normal sample of a few thousand values was called
+    # normal (p = 1.0), and from about 5,000 values the p-value overflowed
+    for n in (3000, 5000, 10000):
+        x = np.random.default_rng(1).lognormal(size=n)
+        r = anderson_darling(x)
+        assert not r.normal_at_5pct
+        assert r.p_value is None and r.p_below == AD_P_FLOOR
+    assert p_below_text(AD_P_FLOOR) == (
+        "p below 2e-190, the smallest p-value the approximation gives")
 
 
 def test_anderson_darling_requirements():

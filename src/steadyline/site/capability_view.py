@@ -22,6 +22,7 @@ import math
 
 from ..charts.base import plural
 from ..stats.compare import format_p_value
+from ..stats.distribution import p_below_text
 from .cards import fmt
 
 # The drawn scale reaches this share of the widest span beyond it on each side, so that the
@@ -139,8 +140,10 @@ def _basis(c, unit: str) -> list[str]:
              f"{fmt(c.sigma_overall, unit, 3)} (sample standard deviation)."]
     n = c.normality
     if n is not None:
+        p_text = (format_p_value(n.p_value) if n.p_below is None
+                  else p_below_text(n.p_below))
         lines.append(f"Normality, Anderson–Darling: A² {fmt(n.statistic, digits=3)}, "
-                     f"{format_p_value(n.p_value)}: "
+                     f"{p_text}: "
                      + ("consistent with a normal distribution." if n.normal_at_5pct
                         else "not consistent with a normal distribution at the 5% level."))
     return lines

@@ -29,7 +29,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from . import normal
-from .distribution import AD_MIN_POINTS, anderson_darling
+from .distribution import AD_MIN_POINTS, AD_P_FLOOR, anderson_darling, p_below_text
 from .results import Capability, NormalityTest, StatsError
 
 MIN_POINTS_FOR_CAPABILITY = 30  # common practice
@@ -169,10 +169,14 @@ def capability(
             "distribution."
         )
     elif not normality.normal_at_5pct:
+        p = (
+            f"p = {normality.p_value:.3g}"
+            if normality.p_value is not None
+            else p_below_text(normality.p_below if normality.p_below is not None else AD_P_FLOOR)
+        )
         reasons.append(
-            f"The values do not look normally distributed (Anderson–Darling p = "
-            f"{normality.p_value:.3g}), so the indices and expected figures, which assume "
-            "a normal distribution, may mislead."
+            f"The values do not look normally distributed (Anderson–Darling {p}), so the "
+            "indices and expected figures, which assume a normal distribution, may mislead."
         )
     if n < min_points:
         reasons.append(

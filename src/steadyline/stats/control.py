@@ -41,9 +41,16 @@ Degenerate data (stated behaviour, never a silent NaN)
 - Laney chart with fewer than 3 usable points in a fit: falls back to the classic p / u chart
   for that fit (sigma_z = 1) with a note.
 
-Moving ranges never span a change of stage: the moving range at the first point of a new stage
-is not plotted (nan), and a fit uses only moving ranges between consecutive points of its own
-fitted set.
+Moving ranges never span a change of stage or a gap: the moving range at the first point of a
+new stage, or at the first point after a gap in the periods (``segment``), is undefined -- not
+plotted (nan) and not used -- and a fit uses only moving ranges between consecutive points of
+its own fitted set with no change of stage or segment between them.
+
+``segment`` (individuals and Laney charts)
+    optional segment number per point, as a rolled-up series numbers its runs of periods: a new
+    segment starts after one or more missing periods. Two points either side of a gap are not
+    neighbours, so their difference is no moving range (NIST/SEMATECH e-Handbook 6.3.2.2 and
+    Montgomery section 6.4 define MR_i = |x_i - x_(i-1)| for successive observations).
 
 Example
 -------
@@ -159,8 +166,31 @@ def _fit_groups(
     return groups
 
 
+def _check_segment(segment: Any, m: int) -> np.ndarray | None:
+    if segment is None:
+        return None
+    seg = np.asarray(segment)
+    if seg.ndim != 1 or seg.size != m:
+        raise StatsError(f"segment must give one segment number per point ({m}), got {seg.size}")
+    f = np.asarray(seg, dtype=float)
+    if seg.size and not np.all(np.isfinite(f) & (f == np.round(f))):
+        raise StatsError("segment numbers must be whole numbers")
+    return f.astype(np.int64)
+
+
+def _chains(stage: np.ndarray, segment: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:
+    """(break, chain): ``break`` marks each point that starts a new stage or segment (its moving
+    range is undefined); ``chain`` numbers the runs of points between breaks."""
+    brk = np.zeros(stage.size, dtype=bool)
+    brk[1:] = stage[1:] != stage[:-1]
+    if segment is not None:
+        brk[1:] |= segment[1:] != segment[:-1]
+    return brk, np.cumsum(brk)
+
+
 def _consecutive_pairs(mask: np.ndarray, stage: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Index pairs (a, b) of consecutive points of ``mask`` with no change of stage between."""
+    """Index pairs (a, b) of consecutive points of ``mask`` with no change of ``stage`` (a
+    stage or a chain number) between."""
     idx = np.flatnonzero(mask)
     if idx.size < 2:
         return idx[:0], idx[:0]
@@ -259,12 +289,14 @@ def individuals(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    segment: Sequence[int] | np.ndarray | None = None,
 ) -> ControlChart:
     """Individuals chart with its moving-range chart (``secondary``).
 
     Sigma = average moving range of two / d2(2), d2(2) = 2/sqrt(pi) = 1.1284. The X chart's
     centre line is the mean of the fitted values; the mR chart's centre line is MR-bar with
-    UCL = D4(2)·MR-bar (3.267·MR-bar) and LCL = 0.
+    UCL = D4(2)·MR-bar (3.267·MR-bar) and LCL = 0. With ``segment``, the moving range at the
+    first point after a gap is undefined (nan) and left out of MR-bar.
 
     >>> ch = individuals([49.6, 47.6, 49.9, 51.3, 47.8, 51.2, 52.6, 52.4, 53.6, 52.1])
     >>> round(float(ch.centre[0]), 2), round(float(ch.secondary.centre[1]), 4)
@@ -278,17 +310,19 @@ def individuals(
     st = _check_common(m, stage, limits, k)
     notes: list[str] = []
 
-    boundary = np.zeros(m, dtype=bool)
-    boundary[1:] = st[1:] != st[:-1]
+    seg = _check_segment(segment, m)
+    boundary, chain = _chains(st, seg)
     mr = np.full(m, np.nan)
     mr[1:] = np.abs(np.diff(x))
     mr[boundary] = np.nan
-    if boundary.any():
+    if (st[1:] != st[:-1]).any():
         notes.append("Moving ranges that span a change of stage are not plotted or used.")
+    if seg is not None and (seg[1:] != seg[:-1]).any():
+        notes.append("Moving ranges that span a gap in the periods are not plotted or used.")
     mr_fitted = np.zeros(m, dtype=bool)
 
     def fit(mask: np.ndarray) -> _XmrFit:
-        a, b = _consecutive_pairs(mask, st)
+        a, b = _consecutive_pairs(mask, chain)
         if a.size < 1:
             raise _TooFew(
                 "needs at least two consecutive points to compute a moving range, "
@@ -609,6 +643,7 @@ def _rate_chart(
     limits: str,
     sigma_multiple: float,
     laney: bool,
+    segment: Any = None,
 ) -> ControlChart:
     proportion = kind == "p"
     d = _as_counts(counts, "counts")
@@ -630,6 +665,7 @@ def _rate_chart(
     m = d.size
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
+    _brk, chain = _chains(st, _check_segment(segment, m))
     notes: list[str] = []
     usable = a > 0
     if (~usable).any():
@@ -670,7 +706,7 @@ def _rate_chart(
             return _RateFit(rate, 1.0, False)
         z = np.full(m, np.nan)
         z[idx] = (values[idx] - rate) / s
-        pa, pb = _consecutive_pairs(mask, st)
+        pa, pb = _consecutive_pairs(mask, chain)
         if pa.size < 1:
             notes.append("No two consecutive usable points; the classic chart limits are used.")
             return _RateFit(rate, 1.0, False)
@@ -771,15 +807,18 @@ def laney_p(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    segment: Sequence[int] | np.ndarray | None = None,
 ) -> ControlChart:
     """Laney p′ chart (Laney 2002): p chart limits widened by sigma_z.
 
     z_i = (p_i - p-bar) / sqrt(p-bar(1-p-bar)/n_i); sigma_z = average moving range of the
     fitted z_i / d2(2); limits p-bar +- k sigma_z sqrt(p-bar(1-p-bar)/n_i), within [0, 1].
     ``extras["sigma_z"]`` reports sigma_z (> 1 means more variation than the binomial model).
-    Fewer than 3 usable points: the classic p chart with a note.
+    Fewer than 3 usable points: the classic p chart with a note. With ``segment``, no moving
+    range spans a gap (see the module docstring).
     """
-    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=True)
+    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=True,
+                       segment=segment)
 
 
 def u_chart(
@@ -805,9 +844,11 @@ def laney_u(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    segment: Sequence[int] | np.ndarray | None = None,
 ) -> ControlChart:
     """Laney u′ chart: u chart limits widened by sigma_z (see :func:`laney_p`)."""
-    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=True)
+    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=True,
+                       segment=segment)
 
 
 @dataclass(frozen=True)

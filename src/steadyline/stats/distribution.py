@@ -254,19 +254,50 @@ def normal_curve(hist: Histogram, points: int = 200) -> tuple[np.ndarray, np.nda
     return x, y
 
 
-def ad_p_value(adjusted: float) -> float:
-    """p-value for the adjusted statistic A*² (D'Agostino & Stephens 1986, Table 4.9, from
-    memory), case 3 (mean and sigma estimated). Clipped to [0, 1]."""
+# The p-value approximation for case 3 (mean and sigma estimated): D'Agostino & Stephens (1986),
+# Table 4.9, four pieces in A*² (coefficients from memory; the tests check them against
+# statsmodels' normal_ad, which implements the same table). The last piece,
+# exp(1.2937 − 5.709·A*² + 0.0186·A*⁴), has a quadratic exponent whose lowest point is at
+# A*² = 5.709 / (2 × 0.0186) = 153.4677…; the range commonly stated with the table for that piece,
+# 0.6 ≤ A*² < 153.467 (from memory), ends just there. Past it the formula turns upward (it climbs
+# back to 1 at A*² ≈ 307 and overflows a double past A*² ≈ 402), so a clearly non-normal large
+# sample would be called normal. The formula is therefore used only below AD_P_MAX_ADJUSTED;
+# beyond it the p-value is reported only as below AD_P_FLOOR, the smallest value the
+# approximation gives inside its range (about 2e-190).
+AD_P_MAX_ADJUSTED = 153.467
+_AD_TAIL = (1.2937, -5.709, 0.0186)
+
+
+def _ad_tail(a: float) -> float:
+    c0, c1, c2 = _AD_TAIL
+    return math.exp(c0 + c1 * a + c2 * a * a)
+
+
+AD_P_FLOOR = _ad_tail(AD_P_MAX_ADJUSTED)
+
+
+def ad_p_value(adjusted: float) -> float | None:
+    """p-value for the adjusted statistic A*² (D'Agostino & Stephens 1986, Table 4.9, case 3:
+    mean and sigma estimated), or None when A*² is at or past :data:`AD_P_MAX_ADJUSTED`, where
+    the approximation no longer applies (the p-value is then below :data:`AD_P_FLOOR`).
+
+    Inside the range every piece gives a value in (0, 1); no clipping is needed.
+    """
     a = float(adjusted)
+    if not a < AD_P_MAX_ADJUSTED:  # also catches nan
+        return None
     if a >= 0.6:
-        p = math.exp(1.2937 - 5.709 * a + 0.0186 * a * a)
-    elif a >= 0.34:
-        p = math.exp(0.9177 - 4.279 * a - 1.38 * a * a)
-    elif a >= 0.2:
-        p = 1.0 - math.exp(-8.318 + 42.796 * a - 59.938 * a * a)
-    else:
-        p = 1.0 - math.exp(-13.436 + 101.14 * a - 223.73 * a * a)
-    return min(1.0, max(0.0, p))
+        return _ad_tail(a)
+    if a >= 0.34:
+        return math.exp(0.9177 - 4.279 * a - 1.38 * a * a)
+    if a >= 0.2:
+        return 1.0 - math.exp(-8.318 + 42.796 * a - 59.938 * a * a)
+    return 1.0 - math.exp(-13.436 + 101.14 * a - 223.73 * a * a)
+
+
+def p_below_text(bound: float) -> str:
+    """The words for a p-value known only to be below *bound* (the same on every page)."""
+    return f"p below {bound:.1g}, the smallest p-value the approximation gives"
 
 
 def anderson_darling(values: Sequence[float] | np.ndarray) -> NormalityTest:
@@ -275,6 +306,11 @@ def anderson_darling(values: Sequence[float] | np.ndarray) -> NormalityTest:
     A² = −n − (1/n) Σ (2i−1)[ln Φ(z₍ᵢ₎) + ln(1 − Φ(z₍ₙ₊₁₋ᵢ₎))], z from the sample mean and the
     n−1 standard deviation; A*² = A²(1 + 0.75/n + 2.25/n²); p-value from the D'Agostino &
     Stephens piecewise formula. Requires at least 8 values that are not all equal.
+
+    When A*² is past the range of the p-value approximation (:data:`AD_P_MAX_ADJUSTED`, reached
+    by clearly non-normal samples of a few hundred values or more), ``p_value`` is None and
+    ``p_below`` holds :data:`AD_P_FLOOR`: the p-value is smaller than that, and the values are
+    not consistent with a normal distribution at the 5% level.
     """
     x, _ = _finite(values, "a normality test")
     n = len(x)
@@ -295,5 +331,10 @@ def anderson_darling(values: Sequence[float] | np.ndarray) -> NormalityTest:
     adj = a2 * (1.0 + 0.75 / n + 2.25 / n**2)
     p = ad_p_value(adj)
     return NormalityTest(
-        statistic=a2, adjusted=float(adj), p_value=p, n=int(n), normal_at_5pct=bool(p >= 0.05)
+        statistic=a2,
+        adjusted=float(adj),
+        p_value=p,
+        n=int(n),
+        normal_at_5pct=p is not None and p >= 0.05,
+        p_below=AD_P_FLOOR if p is None else None,
     )

@@ -171,9 +171,12 @@ class NormalityTest:
 
     statistic: float  # A²
     adjusted: float  # A*² = A²(1 + 0.75/n + 2.25/n²)
-    p_value: float
+    p_value: float | None  # None when A*² is past the range of the p-value approximation
     n: int
     normal_at_5pct: bool
+    # Set (with p_value None) when A*² is past the approximation's range: the p-value is then
+    # only known to be below this bound, the smallest value the approximation gives.
+    p_below: float | None = None
 
 
 @dataclass(frozen=True)
