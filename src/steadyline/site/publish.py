@@ -135,7 +135,11 @@ def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
         return
     retired = _retired_name(out)
     os.rename(out, retired)
-    os.rename(staged, out)
+    try:
+        os.rename(staged, out)
+    except BaseException:
+        os.rename(retired, out)  # the published site goes back: a retired one would be deleted
+        raise
     discard(retired)
 
 
