@@ -186,8 +186,13 @@ def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
     for name, data in sorted(files.items()):
         path = os.path.join(base, name)
         _make_parent(path, made)
-        with open(path, "wb") as fh:
-            fh.write(data)
+        try:
+            with open(path, "wb") as fh:
+                fh.write(data)
+        except OSError as e:
+            if e.filename is None:  # a failed write names no file: the message must
+                e.filename = path
+            raise
         written.append(path)
     return written
 
