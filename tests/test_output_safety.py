@@ -21,6 +21,7 @@ import hashlib
 import inspect
 import json
 import os
+import re
 import shutil
 import stat
 import subprocess
@@ -571,3 +572,54 @@ def test_permission_denied_for_real(tmp_path):
         assert snapshot(out) == before and sorted(os.listdir(locked)) == listing
     finally:
         locked.chmod(0o755)
+
+
+# ------------------------------------------------------------------------------------------------
+# the README says what the command prints
+
+
+def _readme() -> str:
+    return (REPO / "README.md").read_text("utf-8")
+
+
+def test_the_readme_refusal_examples_are_what_the_command_prints(tmp_path, monkeypatch, capsys):
+    lines = [ln for ln in _readme().splitlines() if ": refused as output: " in ln]
+    assert len(lines) == 3, lines
+    portfolio(tmp_path / "projects")
+    (tmp_path / "www").mkdir()
+    (tmp_path / "www" / "index.html").write_text("<p>the intranet's own page</p>", "utf-8")
+    monkeypatch.chdir(tmp_path)
+    printed = []
+    for out in (".", "www", "projects/site"):
+        code, got = cli(["build", "projects", "--out", out], capsys)
+        assert code == 2
+        printed += got
+    assert printed == lines
+
+
+def test_the_readme_fault_table_and_example_are_what_the_command_prints(tmp_path, monkeypatch,
+                                                                         capsys):
+    from steadyline.site.output_rule import _FAULTS
+
+    readme = _readme()
+    rows = {}
+    for ln in readme.splitlines():
+        cells = [c.strip() for c in ln.strip().strip("|").split("|")]
+        if len(cells) == 3 and cells[0].endswith(")") and cells[1].startswith("`"):
+            for name in re.findall(r"E[A-Z]+", cells[0]):
+                rows[name] = (cells[1].strip("`"), cells[2])
+    assert rows == {errno.errorcode[n]: cause_advice for n, cause_advice in _FAULTS.items()}
+
+    example = [ln for ln in readme.splitlines() if ": not published: " in ln]
+    assert len(example) == 1, example
+    portfolio(tmp_path / "projects")
+    monkeypatch.chdir(tmp_path)
+    assert main(["build", "projects", "--out", "site", "--quiet"]) == 0
+    monkeypatch.setattr(publish, "open", _fail_writes(errno.ENOSPC), raising=False)
+    code, got = cli(["build", "projects", "--out", "site", "--force", "--quiet"], capsys)
+    assert code == 2 and len(got) == 1
+
+    def general(line: str) -> str:
+        return re.sub(r"\.site\.staging-\d+/[^;]*", ".site.staging-PID/FILE", line)
+
+    assert general(got[0]) == general(example[0])
