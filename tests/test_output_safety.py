@@ -623,3 +623,13 @@ def test_the_readme_fault_table_and_example_are_what_the_command_prints(tmp_path
         return re.sub(r"\.site\.staging-\d+/[^;]*", ".site.staging-PID/FILE", line)
 
     assert general(got[0]) == general(example[0])
+
+
+def test_a_refusal_shows_control_characters_as_escapes(tmp_path, capsys):
+    projects = portfolio(tmp_path / "projects")
+    out = tmp_path / "site\x1b]0;owned\x07"
+    out.mkdir()
+    (out / "x").write_text("x", "utf-8")
+    code, lines = cli(["build", str(projects), "--out", str(out)], capsys)
+    assert code == 2 and len(lines) == 1
+    assert "\x1b" not in lines[0] and "\\x1b]0;owned\\x07: refused as output" in lines[0]

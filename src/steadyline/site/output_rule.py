@@ -26,7 +26,7 @@ from pathlib import Path
 
 import orjson
 
-from ..errors import BuildError
+from ..errors import BuildError, _visible
 
 MARKER = ".steadyline-manifest.json"
 # A manifest larger than this is not read to decide whether the folder is a site: the manifest
@@ -37,7 +37,8 @@ _ADVICE = "choose an absent or empty folder, or a site steadyline published"
 
 
 def _refuse(out: Path, why: str, advice: str = _ADVICE) -> BuildError:
-    return BuildError(f"{out}: refused as output: {why}; {advice}")
+    # a path may hold characters that would move or retitle the terminal: shown as escapes
+    return BuildError(_visible(f"{out}: refused as output: {why}; {advice}"))
 
 
 def _inside(path: str, folder: str) -> bool:
@@ -85,7 +86,10 @@ def check_output(out: Path, projects: Path) -> Path:
         raise _refuse(out, "it is a mount point (the root of a file system), which cannot be "
                            "swapped for a new site", "choose a folder inside it")
     places = [(os.path.realpath(projects), "the projects folder")]
-    places.append((os.path.realpath(os.getcwd()), "the working directory"))
+    try:
+        places.append((os.path.realpath(os.getcwd()), "the working directory"))
+    except OSError:  # the working directory was deleted: nothing there to protect
+        pass
     home = _home()
     if home is not None:
         places.append((home, "the home folder"))
@@ -134,7 +138,8 @@ def fault_line(e: OSError, out: Path) -> str | None:
     at = ""
     if e.filename is not None and os.fsdecode(e.filename) != os.fspath(out):
         at = f" at {os.fsdecode(e.filename)}"
-    return f"{out}: not published: {cause}{at}; {advice}; the output was left as it was"
+    return _visible(f"{out}: not published: {cause}{at}; {advice}; the output was left as it "
+                    "was")
 
 
 @contextmanager
