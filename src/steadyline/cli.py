@@ -3,8 +3,8 @@
 This is the one place that turns our errors into exit codes:
   0  everything built / no errors (warnings may have been printed);
   1  a project has errors (it is shown as a notice on the site; the rest was published);
-  2  the command could not run at all (bad arguments, missing projects folder, output folder
-     not writable).
+  2  the command could not run at all (bad arguments, missing projects folder, an output the
+     output rule refuses, a fault of the machine such as a full or read-only disk).
 """
 
 from __future__ import annotations

@@ -256,11 +256,14 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
     from watchdog.observers import Observer
 
     from .site.build import BuildOptions, build
+    from .site.output_rule import check_output, named_faults
 
     root = Path(os.path.abspath(projects_dir))
     out = Path(os.path.abspath(out))
     if not root.is_dir():
         raise BuildError(f"{projects_dir}: the projects folder does not exist")
+    with named_faults(out):  # refused before serving or building (each build checks again)
+        check_output(out, root)
 
     server = make_server(out, port) if serve else None  # fail fast when the port is taken
     observer = None

@@ -26,7 +26,7 @@ import os
 import shutil
 import threading
 from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from multiprocessing import get_context
 from pathlib import Path
 
@@ -37,11 +37,12 @@ from ..status import build_date
 from .assets import asset_files, assets_key
 from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash
 from .index import index_files
+from .output_rule import MARKER, check_output, named_faults
 from .publish import clean_stale, link_tree, publish, staging_dir, syncfs, write_files
 from .serialise import dumps_bytes
 from .templates import templates_fingerprint
 
-MANIFEST = ".steadyline-manifest.json"
+MANIFEST = MARKER  # the manifest is also the mark of a site steadyline published
 LIVE_STATE = "live-state.json"
 
 
@@ -188,13 +189,21 @@ def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> 
 
 
 def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
+    """Build the site into ``opts.out``. The output is first checked against the output rule
+    (``output_rule.check_output``: absent, empty, or a site of ours) before anything is
+    written; a fault of the machine while building (disk full, read-only, permission denied)
+    becomes one line naming the path and the cause, the published site left as it was."""
+    if not opts.projects_dir.is_dir():
+        raise BuildError(f"{opts.projects_dir}: the projects folder does not exist")
+    with named_faults(opts.out):
+        out = check_output(opts.out, opts.projects_dir)
+        return _build(replace(opts, out=out), progress_cb)
+
+
+def _build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     root = opts.projects_dir
     out = opts.out
     report = BuildReport()
-    if not root.is_dir():
-        raise BuildError(f"{root}: the projects folder does not exist")
-    if out.resolve() == root.resolve() or root.resolve() in out.resolve().parents:
-        raise BuildError(f"{out}: the output folder must not be inside the projects folder")
 
     # 1-2. settings and discovery
     settings, portfolio_problems = load_portfolio(root)

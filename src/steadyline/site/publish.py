@@ -135,7 +135,11 @@ def publish(staged: Path, out: Path, written: list[str] | None = None) -> None:
         return
     retired = _retired_name(out)
     os.rename(out, retired)
-    os.rename(staged, out)
+    try:
+        os.rename(staged, out)
+    except BaseException:
+        os.rename(retired, out)  # the published site goes back: a retired one would be deleted
+        raise
     discard(retired)
 
 
@@ -182,8 +186,13 @@ def write_files(root: Path, files: dict[str, bytes]) -> list[str]:
     for name, data in sorted(files.items()):
         path = os.path.join(base, name)
         _make_parent(path, made)
-        with open(path, "wb") as fh:
-            fh.write(data)
+        try:
+            with open(path, "wb") as fh:
+                fh.write(data)
+        except OSError as e:
+            if e.filename is None:  # a failed write names no file: the message must
+                e.filename = path
+            raise
         written.append(path)
     return written
 
