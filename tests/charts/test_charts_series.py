@@ -160,8 +160,8 @@ def test_secondary_is_beneath_with_its_own_limits():
 def test_phases_and_events_drawn():
     spec = control_chart(make_ctx(), make_individuals(), ()).spec
     bands = spec["datasets"]["bands"]
-    assert [b["stage"] for b in bands] == ["Baseline", "After"]
-    assert bands[0]["fill"] != bands[1]["fill"]
+    assert [b["kind"] for b in bands] == ["baseline", "after"]
+    assert [b["label"] for b in bands] == ["Baseline", "After"]
     assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
     assert spec["datasets"]["events"] == [
         {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16,
@@ -294,7 +294,7 @@ def test_run_chart_median_label_and_signal_points():
     sub = " ".join(spec["title"]["subtitle"])
     assert "Anhøj rules" in sub and "fewer crossings of the median than expected" in sub
     assert "8 crossings (signal below 10)" in sub
-    assert [b["stage"] for b in spec["datasets"]["bands"]] == ["Baseline", "After"]
+    assert [b["kind"] for b in spec["datasets"]["bands"]] == ["baseline", "after"]
     assert missing_fields(spec) == []
     assert cs.columns == ("date", "phase", "value", "median", "signals")
     assert cs.table[2]["signals"] == "fewer crossings of the median than expected"
