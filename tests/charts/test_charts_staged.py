@@ -142,9 +142,11 @@ def test_change_and_instability_marked_apart():
     others = set(range(30)) - {5, 25, 27, *range(8, 16)}
     assert all(pts[x[i]]["marker"] == MARK_ORDINARY and not pts[x[i]]["own"] for i in others)
     # the legend names exactly the marks drawn, each in a shape of its own
-    view = next(v for v, d in unit_views(staged.spec) if d == "points"
-                and v["mark"]["type"] == "point" and "transform" in v
-                and not any("filter" in t and t["filter"] == "datum.own" for t in v["transform"]))
+    # the main chart's point layers: the diamonds beneath, then the points
+    own_view, view = [v for v, d in unit_views(staged.spec)
+                      if d == "points" and v["mark"]["type"] == "point"][:2]
+    assert own_view["encoding"]["size"]["condition"]["test"] == "datum.own"
+    assert own_view["encoding"]["shape"]["scale"] == view["encoding"]["shape"]["scale"]
     shape = view["encoding"]["shape"]["scale"]
     assert shape["domain"] == [MARK_ORDINARY, MARK_CHANGE_WORSE, MARK_OWN_SIGNAL]
     assert len(set(shape["range"])) == 3

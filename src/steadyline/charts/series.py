@@ -218,12 +218,14 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
     points = marks(size, stroke, mark, [])
     if not staged:
         return [line, points]
-    # beneath the points: the diamond of a signal on the point's own limits
-    own = marks({"value": style.SIZE_OWN_SIGNAL}, {},
-                vl.mark("point", filled=True, opacity=1),
-                [{"filter": "datum.own"},
-                 # a JSON string is a Vega expression string (the words hold an apostrophe)
-                 {"calculate": json.dumps(MARK_OWN_SIGNAL), "as": "marker"}])
+    # beneath the points: the diamond of a signal on the point's own limits. Every point is in
+    # this layer, at size 0 (not drawn, not hovered) unless it is in such a signal: a layer
+    # filtered down to no rows makes Vega warn of an infinite extent of its fields.
+    own = marks({"condition": {"test": "datum.own", "value": style.SIZE_OWN_SIGNAL}, "value": 0},
+                {}, vl.mark("point", filled=True, opacity=1),
+                # a JSON string is a Vega expression string (the words hold an apostrophe)
+                [{"calculate": f"datum.own ? {json.dumps(MARK_OWN_SIGNAL)} : datum.marker",
+                  "as": "marker"}])
     return [line, own, points]
 
 
