@@ -741,7 +741,10 @@ def band_layers(is_time: bool, legend: bool = True) -> list[dict]:
             "fill": vl.field(
                 "kind:N",
                 scale={"domain": list_slot("period_kinds"), "range": list_slot("period_fills")},
-                legend={"title": "period", "symbolType": "square",
+                # above the plot: beside the marks' legend below it, the two ran off a
+                # phone's screen; in two columns on a narrow chart
+                legend={"title": "period", "symbolType": "square", "orient": "top",
+                        "columns": {"expr": "width < 560 ? 2 : 5"},
                         "symbolStrokeColor": style.LIMIT, "symbolStrokeWidth": 1}
                 if legend else None,
             ),

@@ -213,8 +213,10 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             transform=transform + more,
         )
 
-    # the staged chart's words are longer than Vega's default label width of 160 px
-    legend = {"title": None, "labelLimit": 300} if staged else {"title": None}
+    # the staged chart's words are longer than Vega's default label width of 160 px, and its
+    # marks are listed one under the other on a narrow chart
+    legend = ({"title": None, "labelLimit": 300, "columns": {"expr": "width < 560 ? 1 : 5"}}
+              if staged else {"title": None})
     points = marks(size, stroke, mark, [])
     if not staged:
         return [line, points]
