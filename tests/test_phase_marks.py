@@ -265,3 +265,31 @@ def test_every_band_is_filled_by_its_kind_of_period_and_named_in_the_legend(demo
     # the demo has data before a baseline (paint-finish-defects' scanner), between the periods
     # and after: the fill follows the kind there too, not the band's place in the row
     assert {"before the baseline", "baseline", "between periods", "after"} <= kinds_seen
+
+
+def test_a_metric_without_after_data_on_a_history_page(tmp_path):
+    # one metric with an after period gives the project a history page; the other, without
+    # one, still gets its chart by phase there, with no change marks and no sentence on them
+    from corpus.kit import DEFAULT_METRIC, VALUES, dates, good_csv, meta, raw, write
+
+    from steadyline.site.build import BuildOptions, build
+
+    lower = [v - 12 for v in VALUES[16:]]
+    changed = "\n".join(["date,value"] + [f"{d},{v}" for d, v in zip(
+        dates(30), VALUES[:16] + lower, strict=True)]) + "\n"
+    toml = meta(metric={"baseline": raw("[2026-01-05, 2026-01-20]"),
+                        "after": raw("[2026-01-21]")},
+                more_metrics=[dict(DEFAULT_METRIC, id="n", name="Other", file="other.csv")])
+    root = write(tmp_path / "projects", {"p/project.toml": toml, "p/data.csv": changed,
+                                         "p/other.csv": good_csv()})
+    out = tmp_path / "site"
+    report = build(BuildOptions(root, out, jobs=1))
+    assert report.ok, [p.format() for p in report.problems]
+    r = json.loads((out / "projects/p/results.json").read_text())
+    hist = {h["id"]: h["staged_control_chart"] for h in r["history"]}
+    assert hist["n"]["change_evidence"] == []
+    (group,) = hist["m"]["change_evidence"]
+    assert group["direction"] == "better" and group["chart"] == "main"
+    assert min(group["indices"]) >= 16  # after points only: the baseline ends on day 16
+    found = _findings((out / "projects/p/history.html").read_text(), "n")
+    assert not any("after point" in t for t in found)

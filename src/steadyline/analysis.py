@@ -152,9 +152,9 @@ def analyse(data: MetricData) -> MetricAnalysis:
                 if res.after_limits is not None:
                     res.after_signals = _try(res, "history", _after_signals, res.after_limits,
                                              spec.signal_rules) or ()
-            if res.has_after:
-                res.evidence = point_evidence(res.control, res.signals, res.after_signals,
-                                              spec.better, spec.target)
+            # also without after data: the history page shows every metric of its project
+            res.evidence = point_evidence(res.control, res.signals, res.after_signals,
+                                          spec.better, spec.target)
 
     # Distribution displays on individual values (continuous and subgrouped data).
     if data.values is not None and len(data.values):
