@@ -10,6 +10,8 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+import numpy as np
+
 from .stats.evidence import BETTER, NOT_JUDGED, WORSE, PointEvidence, change_counts
 from .stats.results import Capability, ControlChart, Pareto, RunChartAnalysis, Signal
 
@@ -165,11 +167,11 @@ def change_findings(evidence: tuple[PointEvidence, PointEvidence | None], chart:
                                _take_part(c[d], c["points"], "after point")
                                + " in signals against the baseline's limits "
                                + end.format(w=CHANGE_WORDS[d])))
-    stage = [int(v) for v in chart.stage]
-    outside = [ch for ch, st in zip(ev_main.change, stage, strict=True) if ch and st != 1]
-    if outside:
+    stage = np.asarray(chart.stage, dtype=int)
+    outside = ev_main.change[(ev_main.change != "") & (stage != 1)]
+    if len(outside):
         n = len(outside)
-        most = max(CHANGE_WORDS, key=outside.count)
+        most = max(CHANGE_WORDS, key=lambda d: int((outside == d).sum()))
         out.append(Finding(f"change-{most.replace(' ', '-')}", CHANGE_MARKERS[most],
                            f"{n} point{'s' if n != 1 else ''} outside both the baseline and the "
                            f"after period also take{'s' if n == 1 else ''} part in signals "

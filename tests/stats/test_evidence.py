@@ -43,7 +43,7 @@ def test_carried_points_in_signals_are_change_the_rest_instability():
     assert main.change[4] == "" and main.unstable[4]
     assert main.change[10] == "better"  # lower, below the baseline's LCL
     assert main.change[11] == ""  # between periods, in no signal
-    assert main.change[12:16] == ("better",) * 4
+    assert main.change[12:16].tolist() == ["better"] * 4
     # in signals on both sides at once (the run below, the point above): not judged
     assert main.change[16] == "not judged"
     assert main.unstable[16]  # and in a signal on the after phase's own limits

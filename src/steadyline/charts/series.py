@@ -504,9 +504,9 @@ _MARK_CODES = 2 * len(_MARK_TEXTS)
 
 def _mark_codes(evidence) -> np.ndarray:
     """Per point of a chart, its mark code from its :class:`stats.evidence.PointEvidence`."""
-    index = {c: k + 1 for k, c in enumerate(_CHANGES)}
-    change = np.fromiter((index.get(c, 0) for c in evidence.change), dtype=np.int64,
-                         count=len(evidence.change))
+    change = np.zeros(len(evidence.change), dtype=np.int64)
+    for k, c in enumerate(_CHANGES):
+        change[evidence.change == c] = k + 1
     return 2 * change + np.asarray(evidence.unstable, dtype=np.int64)
 
 

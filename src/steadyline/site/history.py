@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from .. import advice
 from ..analysis import MetricAnalysis
 from ..charts import (
@@ -71,7 +73,7 @@ def change_evidence_json(evidence, chart, x) -> list[dict]:
             continue
         offset = len(chart.values) - len(sub.values)
         for d in DIRECTIONS:
-            idx = [i for i, c in enumerate(ev.change) if c == d]
+            idx = np.flatnonzero(ev.change == d).tolist()
             if idx:
                 out.append({"chart": which, "direction": d, "indices": idx,
                             "dates": [x[i + offset] for i in idx]})

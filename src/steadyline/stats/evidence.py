@@ -43,14 +43,14 @@ class PointEvidence:
 
     carried:  the point is judged against the baseline's limits carried forward (it is outside
               the baseline and its limits were not computed from its own period).
-    change:   "better" / "worse" / "not judged" where a carried point takes part in a signal
-              against the baseline's limits, else "".
+    change:   per point "better" / "worse" / "not judged" where a carried point takes part in
+              a signal against the baseline's limits, else "" (an array of str objects).
     unstable: the point takes part in a signal on limits of its own period (a baseline point on
               the baseline's limits, a later point on that phase's own limits).
     """
 
     carried: np.ndarray
-    change: tuple[str, ...]
+    change: np.ndarray
     unstable: np.ndarray
 
 
@@ -108,7 +108,7 @@ def _one_chart(chart: ControlChart, stage, fitted, signals: Sequence[Signal],
     change[in_signal] = NOT_JUDGED
     change[in_signal & one_side] = WORSE
     change[in_signal & good] = BETTER
-    return PointEvidence(carried, tuple(change.tolist()), unstable)
+    return PointEvidence(carried, change, unstable)
 
 
 def point_evidence(
@@ -129,8 +129,8 @@ def point_evidence(
     >>> c = individuals([10, 11, 10, 9, 10, 11, 10, 9, 10, 11, 2, 3],
     ...                 stage=[0] * 10 + [1, 1])
     >>> main, _ = point_evidence(c, detect_signals(c), better="lower")
-    >>> main.change[10:], bool(main.unstable.any())
-    (('better', 'better'), False)
+    >>> main.change[10:].tolist(), bool(main.unstable.any())
+    (['better', 'better'], False)
     """
     main_signals = [s for s in signals if s.chart != "secondary"]
     main_own = [s for s in own_signals if s.chart != "secondary"]
@@ -151,13 +151,13 @@ def change_counts(evidence: PointEvidence, stage, values, of_stage: int = 1) -> 
     one chart: how many there are ("points") and how many are marked as evidence of a change
     in each direction ("better", "worse", "not judged").
 
-    >>> ev = PointEvidence(np.array([False, True, True]), ("", "better", ""),
-    ...                    np.zeros(3, dtype=bool))
+    >>> ev = PointEvidence(np.array([False, True, True]),
+    ...                    np.array(["", "better", ""], dtype=object), np.zeros(3, dtype=bool))
     >>> change_counts(ev, [0, 1, 1], [1.0, 2.0, 3.0])
     {'points': 2, 'better': 1, 'worse': 0, 'not judged': 0}
     """
     here = (np.asarray(stage, dtype=int) == of_stage) & np.isfinite(np.asarray(values, float))
-    change = np.asarray(evidence.change, dtype=object)[here]
+    change = evidence.change[here]
     out = {"points": int(here.sum())}
     for d in DIRECTIONS:
         out[d] = int((change == d).sum())
