@@ -181,8 +181,7 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             "value": style.SIZE_CHANGE,
         }
         # a dark outline on the change marks, none on ordinary points (a mark property: a
-        # "stroke" channel here would meet the limit lines' stroke scale in one legend)
-        stroke = {}
+        # "stroke" channel here would meet the limit lines' stroke in one legend)
         mark = vl.mark("point", filled=True, opacity=1, strokeWidth=1, stroke={
             "expr": f"datum.marker != '{MARK_ORDINARY}' ? '{style.CHANGE_OUTLINE}' : null"})
     else:
@@ -194,10 +193,9 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'", "value": style.SIZE_SIGNAL},
             "value": style.SIZE_POINT,
         }
-        stroke = {}
         mark = vl.mark("point", filled=True, opacity=1)
 
-    def marks(size_enc: dict, extra: dict, mark_def: dict, more: list) -> dict:
+    def marks(size_enc: dict, mark_def: dict, more: list) -> dict:
         return vl.view(
             "points",
             mark_def,
@@ -207,7 +205,6 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
                 "shape": vl.field("marker:N", scale=dict(scales[0]), legend=dict(legend)),
                 "color": vl.field("marker:N", scale=dict(scales[1]), legend=dict(legend)),
                 "size": size_enc,
-                **extra,
                 "tooltip": tooltip,
             },
             transform=transform + more,
@@ -217,14 +214,14 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
     # marks are listed one under the other on a narrow chart
     legend = ({"title": None, "labelLimit": 300, "columns": {"expr": "width < 560 ? 1 : 5"}}
               if staged else {"title": None})
-    points = marks(size, stroke, mark, [])
+    points = marks(size, mark, [])
     if not staged:
         return [line, points]
     # beneath the points: the diamond of a signal on the point's own limits. Every point is in
     # this layer, at size 0 (not drawn, not hovered) unless it is in such a signal: a layer
     # filtered down to no rows makes Vega warn of an infinite extent of its fields.
     own = marks({"condition": {"test": "datum.own", "value": style.SIZE_OWN_SIGNAL}, "value": 0},
-                {}, vl.mark("point", filled=True, opacity=1),
+                vl.mark("point", filled=True, opacity=1),
                 # a JSON string is a Vega expression string (the words hold an apostrophe)
                 [{"calculate": f"datum.own ? {json.dumps(MARK_OWN_SIGNAL)} : datum.marker",
                   "as": "marker"}])
@@ -243,7 +240,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
             scale={"domain": ["solid", "dashed"], "range": [[1, 0], list(style.DASH_LIMIT)]},
             legend=None,
         )
-        # "stroke", not "color": the point layer's colour scale (marker) must stay its own
+        # "stroke", not "color": the point layer's colour scale (marker) must stay its own; and
         # a condition, not a scale: a stroke scale without a legend would meet the bands'
         # fill legend ("period") and be merged with it
         colour = {
