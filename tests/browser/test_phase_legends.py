@@ -34,6 +34,7 @@ def _history_charts(built_site):
     return out
 
 
+@pytest.mark.slow  # seven history pages drawn: about 20 s
 def test_legends_name_every_mark_and_period_in_full(browser_context, site_url, built_site):
     charts = _history_charts(built_site)
     assert len(charts) >= 8
