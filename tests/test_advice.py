@@ -42,3 +42,37 @@ def test_own_limit_findings_say_whether_the_new_process_is_stable():
     assert "shows 1 signal" in found[0].text
     assert found[1].text.startswith("After, on its own limits: a point outside the control "
                                     "limits (above the centre line): 1 point, 2026-01-04.")
+
+
+def test_change_findings_count_the_after_points_in_the_legends_words():
+    import numpy as np
+
+    from steadyline.stats.evidence import point_evidence
+    from steadyline.stats.results import ControlChart
+
+    n = 20
+    stage = np.array([0] * 10 + [2, 2] + [1] * 8)
+    values = np.array([10.0] * 10 + [10, 10] + [5, 6, 5, 6, 15, 6, 5, 6])
+    chart = ControlChart(kind="individuals", label="X", values=values, centre=np.full(n, 10.0),
+                         lower=np.full(n, 7.0), upper=np.full(n, 13.0), sigma=np.ones(n),
+                         process_sigma=1.0, sigma_method="", fitted=np.arange(n) < 10,
+                         stage=stage)
+    signals = (Signal("beyond-limits", "outside", (3,), "above"),
+               Signal("beyond-limits", "outside", (12, 13, 14, 15, 17, 18, 19), "below"),
+               Signal("beyond-limits", "outside", (16,), "above"))
+    ev = point_evidence(chart, signals, (), better="lower")
+    texts = [f.text for f in advice.change_findings(ev, chart, signals)]
+    assert texts[0] == ("7 of 8 after points take part in signals against the baseline's limits "
+                        "on the better side (marked “baseline limits: change, better”): "
+                        "evidence of a change for the better.")
+    assert texts[1] == ("1 of 8 after points takes part in signals against the baseline's "
+                        "limits on the worse side (marked “baseline limits: change, worse”): "
+                        "evidence of a change for the worse.")
+    assert texts[2].startswith("The baseline shows 1 signal on its own limits (marked “signal "
+                               "on its own period's limits”)")
+    kinds = [f.kind for f in advice.change_findings(ev, chart, signals)]
+    assert kinds == ["change-better", "change-worse", "signal"]
+    quiet = advice.change_findings(point_evidence(chart, (), (), "lower"), chart, ())
+    assert [f.text for f in quiet] == [
+        "None of the 8 after points takes part in a signal against the baseline's limits: no "
+        "evidence yet that the process has changed."]

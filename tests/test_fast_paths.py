@@ -306,6 +306,8 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
     # first use, as the chart's tooltips list them (a plain loop over the points)
     from steadyline.charts.base import SeriesContext
     from steadyline.charts.series import (
+        _MARK_CODES,
+        _MARK_TEXTS,
         _Coded,
         _Keys,
         _series_rows,
@@ -353,9 +355,11 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
             "; ".join(marked.get(i, []) + other_marked.get(i, [])) for i in range(n)]
         info_codes = rng.integers(0, 4, m)
         info_texts = ["LCL 1, CL 2, UCL 3", "CL 2", "LCL 1, CL 2, UCL 3", ""]
+        # the staged chart's mark codes (2 * change + own), or none
+        mark_codes = rng.integers(0, _MARK_CODES, m) if rng.random() < 0.5 else None
         keys = _Keys()
         got = _series_rows(ctx, values, marks, keys, offset=offset,
-                           info=_Coded(info_codes, info_texts), fitted=fitted)
+                           info=_Coded(info_codes, info_texts), fitted=fitted, marks=mark_codes)
         point_keys: dict = {}
         info_keys: dict = {}
         want_k, want_i, want_idx = [], [], []
@@ -363,8 +367,10 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
             if not np.isfinite(values[k]):
                 continue
             i = k + offset
+            mc = 0 if mark_codes is None else int(mark_codes[k])
             t = (stage[i], None if fitted is None else bool(fitted[k]),
-                 "; ".join(marked[i]) if i in marked else "")
+                 "; ".join(marked[i]) if i in marked else "", _MARK_TEXTS[mc // 2],
+                 bool(mc % 2))
             want_k.append(point_keys.setdefault(t, len(point_keys)))
             want_i.append(info_keys.setdefault(info_texts[info_codes[k]], len(info_keys)))
             want_idx.append(i)

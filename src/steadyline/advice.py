@@ -10,6 +10,9 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+import numpy as np
+
+from .stats.evidence import BETTER, NOT_JUDGED, WORSE, PointEvidence, change_counts
 from .stats.results import Capability, ControlChart, Pareto, RunChartAnalysis, Signal
 
 # Rules of thumb ---------------------------------------------------------------------------------
@@ -38,6 +41,16 @@ class Finding:
 
 SIGNAL_MARKER = "◆"  # the same diamond the charts use for signal points
 CLEAR_MARKER = "●"
+# The control chart by phase marks evidence of a change in shapes of their own (charts.series:
+# a square for better, a cross for worse, a triangle where no direction is judged) and names
+# them in its legend with these words; the sentences under it use the same glyphs and words.
+CHANGE_MARKERS = {BETTER: "■", WORSE: "✚", NOT_JUDGED: "▲"}
+CHANGE_WORDS = {
+    BETTER: "baseline limits: change, better",
+    WORSE: "baseline limits: change, worse",
+    NOT_JUDGED: "baseline limits: change, direction not judged",
+}
+OWN_SIGNAL_WORDS = "signal on its own period's limits"
 
 
 def list_dates(labels: Sequence[str]) -> str:
@@ -109,11 +122,81 @@ def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Find
                         "stable so far.")]
     n = len(signals)
     out = [Finding("signal", SIGNAL_MARKER,
-                   f"On its own limits the after phase shows {n} signal{'s' if n != 1 else ''}: "
-                   "the new process is not yet stable; look into these points before reading "
-                   "its capability.")]
+                   f"On its own limits the after phase shows {n} signal{'s' if n != 1 else ''} "
+                   f"(marked “{OWN_SIGNAL_WORDS}”): the new process is not yet stable; look "
+                   "into these points before reading its capability.")]
     out += [Finding("signal", SIGNAL_MARKER, "After, on its own limits: " + group_sentence(g, x))
             for g in _grouped(signals, None).values()]
+    return out
+
+
+def _take_part(k: int, m: int, what: str) -> str:
+    return f"{k} of {m} {what}{'s' if m != 1 else ''} {'takes' if k == 1 else 'take'} part"
+
+
+_CHANGE_ENDS = {
+    BETTER: "on the better side (marked “{w}”): evidence of a change for the better.",
+    WORSE: "on the worse side (marked “{w}”): evidence of a change for the worse.",
+    NOT_JUDGED: "with no side to judge a direction by (marked “{w}”): evidence of a change, "
+                "its direction not judged.",
+}
+_SPREAD_ENDS = {
+    BETTER: "below them, less variation (marked “{w}”): evidence of a change for the better.",
+    WORSE: "above them, more variation (marked “{w}”): evidence of a change for the worse.",
+    NOT_JUDGED: "with no side to judge a direction by (marked “{w}”).",
+}
+
+
+def change_findings(evidence: tuple[PointEvidence, PointEvidence | None], chart: ControlChart,
+                    signals: Sequence[Signal]) -> list[Finding]:
+    """What the control chart by phase marks as evidence of a change: the after phase's points
+    in signals against the baseline's limits carried forward, by direction, in the words and
+    glyphs of the chart's legend; then the baseline's own signals, drawn with the diamond."""
+    ev_main, ev_sec = evidence
+    out = []
+    c = change_counts(ev_main, chart.stage, chart.values)
+    k = sum(c[d] for d in CHANGE_WORDS)
+    if c["points"] and not k:
+        out.append(Finding("clear", CLEAR_MARKER,
+                           f"None of the {c['points']} after points takes part in a signal "
+                           "against the baseline's limits: no evidence yet that the process "
+                           "has changed."))
+    for d, end in _CHANGE_ENDS.items():
+        if c[d]:
+            out.append(Finding(f"change-{d.replace(' ', '-')}", CHANGE_MARKERS[d],
+                               _take_part(c[d], c["points"], "after point")
+                               + " in signals against the baseline's limits "
+                               + end.format(w=CHANGE_WORDS[d])))
+    stage = np.asarray(chart.stage, dtype=int)
+    outside = ev_main.change[(ev_main.change != "") & (stage != 1)]
+    if len(outside):
+        n = len(outside)
+        most = max(CHANGE_WORDS, key=lambda d: int((outside == d).sum()))
+        out.append(Finding(f"change-{most.replace(' ', '-')}", CHANGE_MARKERS[most],
+                           f"{n} point{'s' if n != 1 else ''} outside both the baseline and the "
+                           f"after period also take{'s' if n == 1 else ''} part in signals "
+                           "against the baseline's limits, marked the same way."))
+    if ev_sec is not None and chart.secondary is not None:
+        sec = chart.secondary
+        skip = len(chart.values) - len(sec.values)
+        c2 = change_counts(ev_sec, sec.stage if len(sec.stage) == len(sec.values)
+                           else chart.stage[skip:], sec.values)
+        for d, end in _SPREAD_ENDS.items():
+            if c2[d]:
+                out.append(Finding(f"change-{d.replace(' ', '-')}", CHANGE_MARKERS[d],
+                                   "On the dispersion chart, "
+                                   + _take_part(c2[d], c2["points"], "after point")
+                                   + " in signals against the baseline's limits "
+                                   + end.format(w=CHANGE_WORDS[d])))
+    offset = len(chart.values) - len(chart.secondary.values) if chart.secondary else 0
+    base = [s for s in signals if s.indices
+            and stage[s.indices[0] + (offset if s.chart == "secondary" else 0)] == 0]
+    if base:
+        n = len(base)
+        out.append(Finding("signal", SIGNAL_MARKER,
+                           f"The baseline shows {n} signal{'s' if n != 1 else ''} on its own "
+                           f"limits (marked “{OWN_SIGNAL_WORDS}”); the project page names "
+                           "them."))
     return out
 
 

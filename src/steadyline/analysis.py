@@ -18,6 +18,7 @@ from .stats import control, distribution, rules, runs
 from .stats.capability import capability as capability_of
 from .stats.choice import choose_chart
 from .stats.compare import compare
+from .stats.evidence import PointEvidence, point_evidence
 from .stats.pareto import pareto, pareto_in_order
 from .stats.results import (
     BoxSummary,
@@ -50,6 +51,9 @@ class MetricAnalysis:
     signals: tuple[Signal, ...] = ()
     after_limits: ControlChart | None = None  # per-phase limits, for the history page
     after_signals: tuple[Signal, ...] = ()  # after-phase points against the after_limits
+    # per point of the control chart and its companion: change against the carried baseline
+    # limits, or instability on a period's own limits (the history page's staged chart)
+    evidence: tuple[PointEvidence, PointEvidence | None] | None = None
     box: BoxSummary | None = None
     histogram: Histogram | None = None
     normality: NormalityTest | None = None
@@ -154,6 +158,9 @@ def analyse(data: MetricData) -> MetricAnalysis:
                 if res.after_limits is not None:
                     res.after_signals = _try(res, "history", _after_signals, res.after_limits,
                                              spec.signal_rules) or ()
+            # also without after data: the history page shows every metric of its project
+            res.evidence = point_evidence(res.control, res.signals, res.after_signals,
+                                          spec.better, spec.target)
 
     # Distribution displays on individual values (continuous and subgrouped data).
     if data.values is not None and len(data.values):

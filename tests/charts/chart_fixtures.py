@@ -352,7 +352,8 @@ def missing_fields(spec: dict) -> list[str]:
 def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict]:
     """The points of a series chart as its point view sees them (after its validity filter,
     lookup and calculations), with readable names: label, value, line, stage, info, fitted,
-    marker, signals. Mirrors the transforms written by charts.series."""
+    marker, signals, and on the staged chart own (the diamond beneath). Mirrors the
+    transforms written by charts.series."""
     from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
 
     d = spec["datasets"]
@@ -374,6 +375,9 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
             "marker": MARK_SIGNAL if sig else MARK_ORDINARY,
             "signals": sig or "",
         }
+        if "mark" in k:  # the staged chart: the mark by evidence, the diamond beneath by "own"
+            row["marker"] = k["mark"] or MARK_ORDINARY
+            row["own"] = k["own"]
         if "fitted" in k:
             row["fitted"] = k["fitted"]
         if f"i{suffix}" in r:

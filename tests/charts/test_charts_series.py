@@ -160,8 +160,8 @@ def test_secondary_is_beneath_with_its_own_limits():
 def test_phases_and_events_drawn():
     spec = control_chart(make_ctx(), make_individuals(), ()).spec
     bands = spec["datasets"]["bands"]
-    assert [b["stage"] for b in bands] == ["Baseline", "After"]
-    assert bands[0]["fill"] != bands[1]["fill"]
+    assert [b["kind"] for b in bands] == ["baseline", "after"]
+    assert [b["label"] for b in bands] == ["Baseline", "After"]
     assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
     assert spec["datasets"]["events"] == [
         {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16,
@@ -294,7 +294,7 @@ def test_run_chart_median_label_and_signal_points():
     sub = " ".join(spec["title"]["subtitle"])
     assert "Anhøj rules" in sub and "fewer crossings of the median than expected" in sub
     assert "8 crossings (signal below 10)" in sub
-    assert [b["stage"] for b in spec["datasets"]["bands"]] == ["Baseline", "After"]
+    assert [b["kind"] for b in spec["datasets"]["bands"]] == ["baseline", "after"]
     assert missing_fields(spec) == []
     assert cs.columns == ("date", "phase", "value", "median", "signals")
     assert cs.table[2]["signals"] == "fewer crossings of the median than expected"
@@ -391,3 +391,35 @@ def test_long_axis_titles_wrap_instead_of_stretching_the_chart():
     assert lines[-1].endswith("\u2026")  # more than three lines' worth: cut, and says so
     short = axis_title("Subgroup standard deviation (S), kN", 130)
     assert " ".join(short) == "Subgroup standard deviation (S), kN"
+
+
+def test_bands_filled_by_kind_of_period_not_by_order():
+    from steadyline.charts import style
+    from steadyline.charts.base import band_rows, band_values, period_kinds, x_axis
+
+    names = ["Between periods", "Baseline", "Between periods", "After", "Between periods"]
+    assert period_kinds(names) == ["before the baseline", "baseline", "between periods",
+                                   "after", "after the after period"]
+    # the same phases in another order keep their kinds' fills
+    stages = tuple(["Baseline"] * 10 + ["Between periods"] * 5 + ["After"] * 15)
+    ctx = SeriesContext(x=make_ctx().x, x_is_time=True, stage=stages, segment=(0,) * N,
+                        unit="", metric_name="Calls")
+    rows = band_rows(x_axis(ctx), stages)
+    assert [r["kind"] for r in rows] == ["baseline", "between periods", "after"]
+    assert [r["label"] for r in rows] == ["Baseline", "Between periods", "After"]
+    values = band_values(rows)
+    assert values["period_kinds"] == ["baseline", "between periods", "after"]
+    assert values["period_fills"] == [style.PERIOD_FILLS[k] for k in values["period_kinds"]]
+    early = tuple(["Between periods"] * 5 + ["Baseline"] * 10 + ["After"] * 15)
+    ctx2 = SeriesContext(x=make_ctx().x, x_is_time=True, stage=early, segment=(0,) * N,
+                         unit="", metric_name="Calls")
+    spec = run_chart(ctx2, make_values(), make_run_analysis()).spec
+    fill = next(v["encoding"]["fill"] for v in spec["layer"] if v["data"]["name"] == "bands"
+                and v["mark"]["type"] == "rect")
+    by_kind = dict(zip(fill["scale"]["domain"], fill["scale"]["range"], strict=True))
+    assert by_kind == {k: style.PERIOD_FILLS[k] for k in ("before the baseline", "baseline",
+                                                           "after")}
+    assert fill["legend"]["title"] == "period"
+    # one named phase only: its band and its name, in its kind's fill
+    one = band_rows(x_axis(ctx), ("Baseline",) * N)
+    assert [(r["kind"], r["label"]) for r in one] == [("baseline", "Baseline")]

@@ -1,5 +1,7 @@
 """The staged control chart of the history page: baseline limits carried forward (dashed), the
-after phase's own limits (solid, after phase only), signals judged against the baseline."""
+after phase's own limits (solid, after phase only); later points in signals against the
+baseline's limits marked as evidence of a change, points in signals on their own period's
+limits marked as instability."""
 
 from __future__ import annotations
 
@@ -19,7 +21,16 @@ from chart_fixtures import (
 )
 
 from steadyline.charts import control_chart, staged_control_chart
-from steadyline.charts.series import MARK_SIGNAL
+from steadyline.charts.series import (
+    MARK_CHANGE_BETTER,
+    MARK_CHANGE_UNJUDGED,
+    MARK_CHANGE_WORSE,
+    MARK_ORDINARY,
+    MARK_OWN_SIGNAL,
+    MARK_SIGNAL,
+)
+from steadyline.stats.evidence import point_evidence
+from steadyline.stats.results import Signal
 
 MID = "2026-05-21T12:00:00Z"  # midway between the last baseline week and the first after week
 
@@ -102,32 +113,88 @@ def test_own_and_carried_sets_differ_in_dash_and_colour():
         zip(enc["strokeDash"]["scale"]["domain"], enc["strokeDash"]["scale"]["range"], strict=True)
     )
     assert dash["solid"] == [1, 0] and dash["dashed"] != [1, 0]
-    colour = dict(
-        zip(enc["stroke"]["scale"]["domain"], enc["stroke"]["scale"]["range"], strict=True)
-    )
-    assert colour["baseline"] != colour["after"]
+    stroke = enc["stroke"]
+    assert stroke["condition"]["test"] == "datum.set == 'after'"
+    assert stroke["condition"]["value"] != stroke["value"]  # the after set in its own colour
     assert view["mark"]["interpolate"] == "step-after"
 
 
-def test_signals_marked_as_on_the_control_chart_and_named_in_the_subtitle():
-    cc = make_individuals()
-    staged = staged_control_chart(make_ctx(), cc, make_individuals_per_phase(), MAIN_SIGNALS)
-    plain = control_chart(make_ctx(), cc, MAIN_SIGNALS)
-    marks = [(r["label"], r["marker"], r["signals"]) for r in resolved_points(staged.spec)]
-    assert marks == [(r["label"], r["marker"], r["signals"]) for r in resolved_points(plain.spec)]
-    assert {r["label"]: r for r in resolved_points(staged.spec)}[make_ctx().x[25]][
-        "marker"
-    ] == MARK_SIGNAL
-    sec = {r["label"]: r for r in resolved_points(staged.spec, "2")}
-    assert sec[make_ctx().x[25]]["marker"] == MARK_SIGNAL
+def _evidence(better="lower", own_signals=(), target=None):
+    return point_evidence(make_individuals(), MAIN_SIGNALS, own_signals, better, target)
+
+
+OWN = (Signal("beyond-limits", "beyond the 3σ limits", (27,), "below"),)
+
+
+def test_change_and_instability_marked_apart():
+    staged = staged_control_chart(make_ctx(), make_individuals(), make_individuals_per_phase(),
+                                  MAIN_SIGNALS, OWN, _evidence(own_signals=OWN))
+    pts = {r["label"]: r for r in resolved_points(staged.spec)}
+    x = make_ctx().x
+    # an after point beyond the baseline's UCL of a lower-is-better metric: a change, worse
+    assert pts[x[25]]["marker"] == MARK_CHANGE_WORSE and not pts[x[25]]["own"]
+    assert pts[x[25]]["signals"] == "against the baseline's limits: beyond the 3σ limits"
+    # baseline points in a run, on the baseline's own limits: instability (the diamond)
+    assert all(pts[x[i]]["own"] and pts[x[i]]["marker"] == MARK_ORDINARY for i in range(8, 16))
+    # an after point in a signal on the after phase's own limits: instability, not a change
+    assert pts[x[27]]["own"] and pts[x[27]]["marker"] == MARK_ORDINARY
+    assert pts[x[27]]["signals"] == "on its own limits: beyond the 3σ limits"
+    others = set(range(30)) - {5, 25, 27, *range(8, 16)}
+    assert all(pts[x[i]]["marker"] == MARK_ORDINARY and not pts[x[i]]["own"] for i in others)
+    # the legend names exactly the marks drawn, each in a shape of its own
+    # the main chart's point layers: the diamonds beneath, then the points
+    own_view, view = [v for v, d in unit_views(staged.spec)
+                      if d == "points" and v["mark"]["type"] == "point"][:2]
+    assert own_view["encoding"]["size"]["condition"]["test"] == "datum.own"
+    assert own_view["encoding"]["shape"]["scale"] == view["encoding"]["shape"]["scale"]
+    shape = view["encoding"]["shape"]["scale"]
+    assert shape["domain"] == [MARK_ORDINARY, MARK_CHANGE_WORSE, MARK_OWN_SIGNAL]
+    assert len(set(shape["range"])) == 3
+    colour = view["encoding"]["color"]["scale"]
+    assert colour["domain"] == shape["domain"]
+    # the subtitle and the summary say the same
     sub = staged.spec["title"]["subtitle"]
     assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
-    assert sub[0].endswith("dashed where carried forward; signals judged against these")
+    assert sub[0].endswith("dashed where carried forward")
     assert sub[1] == "after phase's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"
-    assert sub[2].startswith("3 signals: beyond the 3σ limits")
+    assert sub[2] == "against the baseline's limits 1 of 10 after points signal a change: 1 worse"
+    assert sub[3].startswith("on their own period's limits 3 signals")
+    assert "1 of 10 after points signal a change: 1 worse" in staged.summary
+    # the table names the mark in the legend's words
+    # (the fixture's mR chart has every point in stage 0, so its signal is on its own limits)
+    assert staged.table[25]["mark"] == (f"{MARK_CHANGE_WORSE}; {MARK_OWN_SIGNAL} "
+                                        "(dispersion chart)")
+    assert staged.table[27]["mark"] == MARK_OWN_SIGNAL
+    assert staged.table[3]["mark"] == ""
     # the tooltip names both sets of limits on after points
     info = resolved_points(staged.spec)[-1]["info"]
     assert info == "CL 30, UCL 44.4; after: LCL 21, CL 31, UCL 41"
+
+
+@pytest.mark.parametrize(("better", "target", "mark"), [
+    ("lower", None, MARK_CHANGE_WORSE),  # 52 is above the baseline's UCL
+    ("higher", None, MARK_CHANGE_BETTER),
+    ("target", 50.0, MARK_CHANGE_BETTER),  # nearer the target than the centre line 30
+    ("target", 20.0, MARK_CHANGE_WORSE),
+    ("target", None, MARK_CHANGE_UNJUDGED),
+])
+def test_direction_of_a_change_follows_the_metric(better, target, mark):
+    staged = staged_control_chart(make_ctx(), make_individuals(), None, MAIN_SIGNALS,
+                                  evidence=_evidence(better, target=target))
+    pts = {r["label"]: r for r in resolved_points(staged.spec)}
+    assert pts[make_ctx().x[25]]["marker"] == mark
+
+
+def test_marks_without_evidence_judge_no_direction():
+    staged = staged_control_chart(make_ctx(), make_individuals(), None, MAIN_SIGNALS)
+    pts = {r["label"]: r for r in resolved_points(staged.spec)}
+    assert pts[make_ctx().x[25]]["marker"] == MARK_CHANGE_UNJUDGED
+
+
+def test_the_project_pages_control_chart_keeps_its_signal_marks():
+    plain = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
+    pts = {r["label"]: r for r in resolved_points(plain.spec)}
+    assert pts[make_ctx().x[25]]["marker"] == MARK_SIGNAL and "own" not in pts[make_ctx().x[25]]
 
 
 def test_table_keeps_both_sets_of_limits():
@@ -140,7 +207,7 @@ def test_table_keeps_both_sets_of_limits():
     assert cs.table[25]["after UCL"] == 41.0 and cs.table[25]["UCL"] == 44.4
     assert cs.table[25]["after mR UCL"] == 12.3
     assert "beyond the 3σ limits" in cs.table[25]["signals"]
-    assert "against the baseline limits" in cs.summary
+    assert "against the baseline's limits" in cs.summary
 
 
 def test_attribute_chart_without_companion():

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import itertools
+import json
 import math
 from collections.abc import Sequence
 from typing import NamedTuple
@@ -10,6 +11,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ..memo import by_identity
+from ..stats.evidence import PointEvidence, change_counts, point_evidence
 from ..stats.results import ControlChart, RunChartAnalysis, Signal
 from . import style, vl
 from .base import (
@@ -20,6 +22,7 @@ from .base import (
     axis_title,
     band_layers,
     band_rows,
+    band_values,
     cached_template,
     disp,
     disp_list,
@@ -29,6 +32,7 @@ from .base import (
     fmt,
     headroom_layer,
     headroom_rows,
+    list_slot,
     make_spec,
     num,
     num_list,
@@ -44,6 +48,29 @@ from .base import (
 MARK_ORDINARY = "point"
 MARK_SIGNAL = "part of a signal"
 _MARK_DOMAIN = [MARK_ORDINARY, MARK_SIGNAL]
+# The control chart by phase tells a change from instability: a point outside the baseline
+# judged against the baseline's limits carried forward, in a signal there, is evidence of a
+# change (better / worse by the metric's "better"); a point in a signal on limits of its own
+# period (the baseline on the baseline's, the after phase on its own) is a signal of
+# instability. The same words are used in the legend, the sentences under the chart and the
+# README.
+MARK_CHANGE_BETTER = "baseline limits: change, better"
+MARK_CHANGE_WORSE = "baseline limits: change, worse"
+MARK_CHANGE_UNJUDGED = "baseline limits: change, direction not judged"
+MARK_OWN_SIGNAL = "signal on its own period's limits"
+CHANGE_MARKS = {
+    "better": MARK_CHANGE_BETTER,
+    "worse": MARK_CHANGE_WORSE,
+    "not judged": MARK_CHANGE_UNJUDGED,
+}
+# legend order, shapes and colours of the staged chart's marks
+_STAGED_MARKS = (
+    (MARK_ORDINARY, style.SHAPE_POINT, style.DATA),
+    (MARK_CHANGE_BETTER, style.SHAPE_CHANGE_BETTER, style.CHANGE_BETTER),
+    (MARK_CHANGE_WORSE, style.SHAPE_CHANGE_WORSE, style.CHANGE_WORSE),
+    (MARK_CHANGE_UNJUDGED, style.SHAPE_CHANGE_UNJUDGED, style.CHANGE_UNJUDGED),
+    (MARK_OWN_SIGNAL, style.SHAPE_SIGNAL, style.SIGNAL),
+)
 
 _LIMIT_KINDS = ("centre line", "UCL", "LCL")
 _LIMIT_SHORT = {"centre line": "CL", "UCL": "UCL", "LCL": "LCL"}
@@ -78,6 +105,7 @@ _RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray ru
 # ``limit_parts``.
 
 _SIGNAL_TEST = "datum.signals ? '" + MARK_SIGNAL + "' : '" + MARK_ORDINARY + "'"
+_STAGED_MARK = "datum.mark || '" + MARK_ORDINARY + "'"
 
 
 def _y(field: str, y_slot: str) -> dict:
@@ -90,11 +118,19 @@ def _x_tip(is_time: bool) -> dict:
     return vl.tip("label:N", "point")
 
 
-def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> list[dict]:
-    """Line broken at segment changes and gaps, plus points whose shape marks signals."""
+def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
+                  staged: bool = False) -> list[dict]:
+    """Line broken at segment changes and gaps, plus points whose shape marks signals.
+
+    Staged chart: a point's mark ("mark" in ``point_info``) says whether it is evidence of a
+    change (a signal against the baseline's limits carried forward) and in which direction; a
+    point in a signal on limits of its own period ("own") gets a large diamond beneath it, so
+    that a point can show both. Both layers share one legend (one scale, ``MARK_*`` words)."""
     v = f"v{suf}"
     valid = {"filter": {"field": v, "valid": True}}
     fields = ["stage", "fitted", "signals"] if with_limits else ["stage", "signals"]
+    if staged:
+        fields += ["mark", "own"]
     line = vl.view(
         "points",
         vl.mark("line", color=style.DATA, strokeWidth=1.3),
@@ -117,7 +153,7 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
             if with_limits
             else []
         ),
-        {"calculate": _SIGNAL_TEST, "as": "marker"},
+        {"calculate": _STAGED_MARK if staged else _SIGNAL_TEST, "as": "marker"},
         {"calculate": "datum.signals || 'none'", "as": "signals"},
         # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
         # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
@@ -131,38 +167,65 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool) -> li
     ]
     if with_limits:
         tooltip += [vl.tip("info:N", "limits"), vl.tip("fitted:N", "used for limits")]
+    if staged:
+        tooltip.append(vl.tip("marker:N", "mark"))
     tooltip.append(vl.tip("signals:N", "signals"))
-    points = vl.view(
-        "points",
-        vl.mark("point", filled=True, opacity=1),
-        {
-            "x": x_encoding(is_time),
-            "y": _y(v, y_slot),
-            "shape": vl.field(
-                "marker:N",
-                scale={
-                    "domain": list(_MARK_DOMAIN),
-                    "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL],
-                },
-                legend={"title": None},
-            ),
-            "color": vl.field(
-                "marker:N",
-                scale={"domain": list(_MARK_DOMAIN), "range": [style.DATA, style.SIGNAL]},
-                legend={"title": None},
-            ),
-            "size": {
-                "condition": {
-                    "test": f"datum.marker == '{MARK_SIGNAL}'",
-                    "value": style.SIZE_SIGNAL,
-                },
-                "value": style.SIZE_POINT,
+    if staged:
+        scales = (
+            {"domain": list_slot("mark_domain"), "range": list_slot("mark_shapes")},
+            {"domain": list_slot("mark_domain"), "range": list_slot("mark_colours")},
+        )
+        size = {
+            "condition": {"test": f"datum.marker == '{MARK_ORDINARY}'",
+                          "value": style.SIZE_POINT},
+            "value": style.SIZE_CHANGE,
+        }
+        # a dark outline on the change marks, none on ordinary points (a mark property: a
+        # "stroke" channel here would meet the limit lines' stroke in one legend)
+        mark = vl.mark("point", filled=True, opacity=1, strokeWidth=1, stroke={
+            "expr": f"datum.marker != '{MARK_ORDINARY}' ? '{style.CHANGE_OUTLINE}' : null"})
+    else:
+        scales = (
+            {"domain": list(_MARK_DOMAIN), "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
+            {"domain": list(_MARK_DOMAIN), "range": [style.DATA, style.SIGNAL]},
+        )
+        size = {
+            "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'", "value": style.SIZE_SIGNAL},
+            "value": style.SIZE_POINT,
+        }
+        mark = vl.mark("point", filled=True, opacity=1)
+
+    def marks(size_enc: dict, mark_def: dict, more: list) -> dict:
+        return vl.view(
+            "points",
+            mark_def,
+            {
+                "x": x_encoding(is_time),
+                "y": _y(v, y_slot),
+                "shape": vl.field("marker:N", scale=dict(scales[0]), legend=dict(legend)),
+                "color": vl.field("marker:N", scale=dict(scales[1]), legend=dict(legend)),
+                "size": size_enc,
+                "tooltip": tooltip,
             },
-            "tooltip": tooltip,
-        },
-        transform=transform,
-    )
-    return [line, points]
+            transform=transform + more,
+        )
+
+    # the staged chart's words are longer than Vega's default label width of 160 px, and its
+    # marks are listed one under the other on a narrow chart
+    legend = ({"title": None, "labelLimit": 300, "columns": {"expr": "width < 560 ? 1 : 5"}}
+              if staged else {"title": None})
+    points = marks(size, mark, [])
+    if not staged:
+        return [line, points]
+    # beneath the points: the diamond of a signal on the point's own limits. Every point is in
+    # this layer, at size 0 (not drawn, not hovered) unless it is in such a signal: a layer
+    # filtered down to no rows makes Vega warn of an infinite extent of its fields.
+    own = marks({"condition": {"test": "datum.own", "value": style.SIZE_OWN_SIGNAL}, "value": 0},
+                vl.mark("point", filled=True, opacity=1),
+                # a JSON string is a Vega expression string (the words hold an apostrophe)
+                [{"calculate": f"datum.own ? {json.dumps(MARK_OWN_SIGNAL)} : datum.marker",
+                  "as": "marker"}])
+    return [line, own, points]
 
 
 def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = False) -> list:
@@ -177,13 +240,12 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
             scale={"domain": ["solid", "dashed"], "range": [[1, 0], list(style.DASH_LIMIT)]},
             legend=None,
         )
-        # "stroke", not "color": the point layer's colour scale (marker) must stay its own
+        # "stroke", not "color": the point layer's colour scale (marker) must stay its own; and
+        # a condition, not a scale: a stroke scale without a legend would meet the bands'
+        # fill legend ("period") and be merged with it
         colour = {
-            "stroke": vl.field(
-                "set:N",
-                scale={"domain": ["baseline", "after"], "range": [style.LIMIT, style.OWN_LIMIT]},
-                legend=None,
-            )
+            "stroke": {"condition": {"test": "datum.set == 'after'", "value": style.OWN_LIMIT},
+                       "value": style.LIMIT}
         }
         seg_mark = vl.mark("line", strokeWidth=1.4, interpolate="step-after")
         parts_fields = ["kind", "name", "set", "look"]
@@ -253,7 +315,8 @@ def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -
         layers += _median_layers(is_time, y_slot)
     if not suf:  # room above the points for the event labels (the chart beneath has none)
         layers.append(headroom_layer(_y("y", y_slot)))
-    layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median")
+    layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median",
+                            staged=refs == "staged")
     return vl.layer(*layers, width="container", height=height)
 
 
@@ -391,12 +454,14 @@ class _Keys:
     first use: ``point_info`` rows (phase, used for limits, signals) under "k" and
     ``limit_info`` rows (the limits at the point) under "i"."""
 
-    def __init__(self) -> None:
+    def __init__(self, staged: bool = False) -> None:
         self.points: dict[tuple, int] = {}
         self.limits: dict[str, int] = {}
+        self.staged = staged  # every row says its mark and whether it is in an own signal
 
-    def key(self, stage: str, fitted: bool | None, signals: str) -> int:
-        t = (stage, fitted, signals)
+    def key(self, stage: str, fitted: bool | None, signals: str, mark: str = "",
+            own: bool = False) -> int:
+        t = (stage, fitted, signals, mark, own)
         k = self.points.get(t)
         if k is None:
             k = self.points[t] = len(self.points)
@@ -410,17 +475,36 @@ class _Keys:
 
     def point_rows(self) -> list[dict]:
         out = []
-        for (stage, fitted, signals), k in self.points.items():
+        for (stage, fitted, signals, mark, own), k in self.points.items():
             row: dict = {"k": k, "stage": stage}
             if fitted is not None:
                 row["fitted"] = "yes" if fitted else "no"
             if signals:
                 row["signals"] = signals
+            if self.staged:
+                row["mark"] = mark
+                row["own"] = own
             out.append(row)
         return out
 
     def limit_rows(self) -> list[dict]:
         return [{"i": i, "info": text} for text, i in self.limits.items()]
+
+
+# The staged chart's mark of a point as one code: 2 * change + own, where change is 0 (none) or
+# 1 + the index of its direction in _CHANGES, and own is 1 when the point is in a signal on
+# its own period's limits.
+_CHANGES = ("better", "worse", "not judged")
+_MARK_TEXTS = ("",) + tuple(CHANGE_MARKS[c] for c in _CHANGES)
+_MARK_CODES = 2 * len(_MARK_TEXTS)
+
+
+def _mark_codes(evidence) -> np.ndarray:
+    """Per point of a chart, its mark code from its :class:`stats.evidence.PointEvidence`."""
+    change = np.zeros(len(evidence.change), dtype=np.int64)
+    for k, c in enumerate(_CHANGES):
+        change[evidence.change == c] = k + 1
+    return 2 * change + np.asarray(evidence.unstable, dtype=np.int64)
 
 
 class _Series(NamedTuple):
@@ -458,11 +542,14 @@ def _series_rows(
     offset: int = 0,
     info: _Coded | None = None,
     fitted: Sequence[bool] | None = None,
+    marks: np.ndarray | None = None,
 ) -> _Series:
     """The drawn points of a series (finite values), with line pieces that break at segment
     changes and at missing values, and their keys into ``keys``. Keys are numbered in order of
     first use, point by point; the Python work is done per distinct (phase, used for limits,
-    signal text) combination and per distinct limits text, not per point."""
+    signal text, mark) combination and per distinct limits text, not per point.
+
+    marks: the staged chart's code per point of the series (``_mark_codes``), else None."""
     arr = np.asarray(values, dtype=float).ravel()
     vals = _shown(values) if isinstance(values, np.ndarray) else disp_list(arr)
     kp = np.flatnonzero(np.isfinite(arr))  # the points drawn, in order
@@ -484,12 +571,18 @@ def _series_rows(
     width = len(texts) + 1
     code = (stage_code[ip] * 3 + (2 if fit is None else fit.astype(np.int64))) * width
     code += text_code[ip]
+    code *= _MARK_CODES
+    if marks is not None:
+        code += np.asarray(marks, dtype=np.int64)[kp]
     distinct, first, point_key = np.unique(code, return_index=True, return_inverse=True)
     key_of = np.zeros(len(distinct), dtype=np.int64)
     for j in np.argsort(first, kind="stable").tolist():  # in order of first use
-        pair, t = divmod(int(distinct[j]), width)
+        rest, m = divmod(int(distinct[j]), _MARK_CODES)
+        pair, t = divmod(rest, width)
         s, f = divmod(pair, 3)
-        key_of[j] = keys.key(names[s], None if f == 2 else bool(f), texts[t - 1] if t else "")
+        change, own = divmod(m, 2)
+        key_of[j] = keys.key(names[s], None if f == 2 else bool(f), texts[t - 1] if t else "",
+                             _MARK_TEXTS[change], bool(own))
     point_key = key_of[point_key.ravel()]
 
     lim = None
@@ -757,6 +850,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
                             if datasets["events"] and median is not None else [])
     values_map = {"y_title": axis_title(titled(ctx.metric_name, ctx.unit), style.HEIGHT_MAIN)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
+    values_map.update(band_values(datasets["bands"]))
 
     rules = _RULE_SET_NAMES.get(analysis.rule_set, analysis.rule_set)
     facts = [median_text, f"longest run {analysis.longest_run}"]
@@ -847,6 +941,38 @@ def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
                          if b and own.texts[b - 1] else info.texts[a] for a, b in pairs])
 
 
+def _staged_text(marked: _Coded, carried: np.ndarray, own: _Coded) -> _Coded:
+    """The staged chart's signal texts per point: the signals against the baseline's limits
+    (named so where the point's limits are carried forward) and those on the after phase's own
+    limits."""
+    a = marked.codes * 2 + np.asarray(carried, dtype=np.int64)
+    code, pairs = _pairs(a, own.codes, len(own.texts) + 1)
+    texts = []
+    for ac, b in pairs:
+        m, car = divmod(ac, 2)
+        parts = []
+        if m:
+            parts.append(("against the baseline's limits: " if car else "") + marked.texts[m - 1])
+        if b:
+            parts.append("on its own limits: " + own.texts[b - 1])
+        texts.append("; ".join(parts))
+    if texts and texts[0] == "":  # code 0 is "in no signal"
+        return _Coded(code, texts[1:])
+    return _Coded(code + 1, texts)
+
+
+def _staged_mark_values(main_marks, sec_marks) -> dict:
+    """The staged chart's legend: the ordinary point and every mark drawn on either chart."""
+    codes = main_marks if sec_marks is None else np.concatenate([main_marks, sec_marks])
+    present = set(np.unique(codes).tolist())
+    changes = {_MARK_TEXTS[m // 2] for m in present if m // 2}
+    own = any(m % 2 for m in present)
+    rows = [r for r in _STAGED_MARKS
+            if r[0] == MARK_ORDINARY or r[0] in changes or (own and r[0] == MARK_OWN_SIGNAL)]
+    return {"mark_domain": [r[0] for r in rows], "mark_shapes": [r[1] for r in rows],
+            "mark_colours": [r[2] for r in rows]}
+
+
 def _control_parts(
     ctx: SeriesContext,
     chart: ControlChart,
@@ -854,13 +980,29 @@ def _control_parts(
     offset: int,
     own: ControlChart | None = None,
     staged: bool = False,
+    evidence=None,
+    own_signals: Sequence[Signal] = (),
 ):
-    """Datasets, template values, per-point signal texts of a control chart (plain or staged)."""
+    """Datasets, template values, per-point signal texts of a control chart (plain or staged).
+
+    Staged: ``evidence`` is the pair of :class:`stats.evidence.PointEvidence` of the chart and
+    its companion; ``own_signals`` the after phase's signals on its own limits."""
     n = len(ctx.x)
     xa = x_axis(ctx)
     sec = chart.secondary
     marked, sec_marked = _marked_pair(signals, n, offset, sec is not None)
-    keys = _Keys()
+    main_marks = sec_marks = None
+    if staged:
+        ev_main, ev_sec = evidence
+        own_marked, own_sec_marked = _marked_pair(tuple(own_signals), n, offset, sec is not None)
+        marked = _staged_text(marked, ev_main.carried, own_marked)
+        main_marks = _mark_codes(ev_main)
+        if sec is not None and ev_sec is not None:
+            pad = np.zeros(offset, dtype=bool)
+            sec_marked = _staged_text(sec_marked, np.concatenate([pad, ev_sec.carried]),
+                                      own_sec_marked)
+            sec_marks = _mark_codes(ev_sec)
+    keys = _Keys(staged)
     parts = _Parts()
 
     def info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> _Coded:
@@ -883,6 +1025,7 @@ def _control_parts(
         keys,
         info=info_of(chart, own, own_stage),
         fitted=chart.fitted,
+        marks=main_marks,
     )
     limits, labels = _limit_rows(
         xa,
@@ -915,6 +1058,7 @@ def _control_parts(
             offset=offset,
             info=info_of(sec, own_sec, osstage),
             fitted=sfit,
+            marks=sec_marks,
         )
         s_limits, s_labels = _limit_rows(
             xa, sec, offset, parts, carried=carried_mask(sec, sstage, sfit), set_name=set_name
@@ -949,6 +1093,9 @@ def _control_parts(
         values_map["y2_title"] = axis_title(
             titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else ""), style.HEIGHT_SECONDARY)
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
+    values_map.update(band_values(datasets["bands"]))
+    if staged:
+        values_map.update(_staged_mark_values(main_marks, sec_marks))
     return datasets, values_map, marked, sec_marked, labels
 
 
@@ -1007,7 +1154,8 @@ def _yes_no(fitted) -> list[str]:
     return _NO_YES[np.asarray(fitted, dtype=bool).astype(np.intp)].tolist()
 
 
-def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None):
+def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None,
+                   marks: list[str] | None = None):
     n = len(ctx.x)
     sec = chart.secondary
     x_col = "date" if ctx.x_is_time else "point"
@@ -1054,6 +1202,9 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
         cols["phase"] = ctx.stage
     cols["used for limits"] = _yes_no(chart.fitted)
     cols["signals"] = _signal_column(n, marked, sec_marked)
+    if marks is not None:
+        columns.insert(columns.index("signals") + 1, "mark")
+        cols["mark"] = marks
     return ColumnTable(columns, cols), tuple(columns)
 
 
@@ -1097,12 +1248,19 @@ def staged_control_chart(
     carried: ControlChart,
     own: ControlChart | None,
     signals: Sequence[Signal],
+    own_signals: Sequence[Signal] = (),
+    evidence: tuple[PointEvidence, PointEvidence | None] | None = None,
 ) -> ChartSpec:
     """A control chart by phase: the baseline limits carried forward over the later phases
     (dashed, labelled "baseline UCL ..."), and, when ``own`` is given, the after phase's own
-    centre line and limits drawn solid over the after phase only ("after UCL ..."). Points are
-    marked by ``signals`` (judged against the carried limits); the mR/R/S chart beneath is drawn
-    the same way."""
+    centre line and limits drawn solid over the after phase only ("after UCL ...").
+
+    ``signals`` are found on ``carried``; ``own_signals`` on the after phase's own limits.
+    ``evidence`` (:func:`stats.evidence.point_evidence` of the two) says per point what its
+    mark is: a point outside the baseline in a signal against the baseline's limits is evidence
+    of a change (better / worse); a point in a signal on its own period's limits gets the signal
+    diamond beneath it. Without ``evidence`` no direction is judged. The mR/R/S chart beneath
+    is drawn the same way."""
     n = len(ctx.x)
     offset = _check_chart(ctx, carried, "carried")
     if own is not None:
@@ -1114,6 +1272,8 @@ def staged_control_chart(
             raise ValueError(
                 "the own-limits chart must have the same companion chart as the carried one"
             )
+    if evidence is None:
+        evidence = point_evidence(carried, signals, own_signals, better="")
     sec = carried.secondary
     is_time = ctx.x_is_time
     has_sec = sec is not None
@@ -1122,29 +1282,29 @@ def staged_control_chart(
         lambda: _control_template(is_time, has_sec, refs="staged"),
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(
-        ctx, carried, signals, offset, own=own, staged=True
+        ctx, carried, signals, offset, own=own, staged=True, evidence=evidence,
+        own_signals=own_signals,
     )
 
     title = f"{ctx.metric_name} \u2014 {carried.label}" + (f" and {sec.label}" if sec else "")
     title += " by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
-    first = (
-        _fitted_sentence(ctx, carried.fitted)
-        + ", dashed where carried forward; signals judged against these"
-    )
-    subtitle = [first]
+    subtitle = [_fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
             f"after phase's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
             f"({plural(len(after_idx), 'point')})"
         )
-    subtitle.append(_signals_sentence(signals, max_kinds=2))
+    change = _change_sentence(evidence[0], carried)
+    unstable = _own_signals_sentence(signals, own_signals, evidence)
+    subtitle += [change, unstable]
     subtitle += list(carried.notes)
     if sec is not None:
         subtitle.extend(sec.notes)
     spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
-    table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own)
+    table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own,
+                                    marks=_mark_column(evidence, offset))
 
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
@@ -1154,6 +1314,59 @@ def staged_control_chart(
         f"{carried.label} chart of {ctx.metric_name} by phase: {plural(n, 'point')}"
         + (f", {lim}" if lim else "")
         + (f"; {own_lim}" if own_lim else "")
-        + f"; {_signals_sentence(signals)} against the baseline limits."
+        + f"; {change}; {unstable}."
     )
     return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+
+
+def _change_sentence(evidence: PointEvidence, chart: ControlChart) -> str:
+    """The subtitle's account of the change marks: 'against the baseline's limits 12 of 14
+    after points signal a change: 12 better'."""
+    c = change_counts(evidence, chart.stage, chart.values)
+    k = sum(c[d] for d in _CHANGES)
+    if not c["points"]:
+        return "no after points"
+    if not k:
+        return f"against the baseline's limits no after point signals a change (of {c['points']})"
+    parts = [f"{c[d]} {d}" for d in _CHANGES if c[d]]
+    return (f"against the baseline's limits {k} of {plural(c['points'], 'after point')} "
+            f"signal a change: " + ", ".join(parts))
+
+
+def _own_signals_sentence(signals, own_signals, evidence) -> str:
+    """The subtitle's account of the diamonds: signals judged on their own period's limits."""
+    ev_main, ev_sec = evidence
+    own_judged = []
+    for s in signals:
+        ev = ev_sec if s.chart == "secondary" else ev_main
+        if ev is not None and s.indices and not ev.carried[s.indices[0]]:
+            own_judged.append(s)
+    own_judged += list(own_signals)
+    return "on their own period's limits " + _signals_sentence(own_judged, max_kinds=2)
+
+
+def _mark_column(evidence, offset: int) -> list[str]:
+    """The table's "mark" cell per point: the change mark of the main chart (and of the
+    dispersion chart, named so), and the signal diamond, in the legend's words; each distinct
+    combination written once."""
+    ev_main, ev_sec = evidence
+    n = len(ev_main.change)
+    code = _mark_codes(ev_main)  # 2 * change + own
+    sec_code = np.zeros(n, dtype=np.int64)
+    if ev_sec is not None:
+        sec_code[offset:offset + len(ev_sec.change)] = _mark_codes(ev_sec)[:n - offset]
+    distinct, which = np.unique(code * _MARK_CODES + sec_code, return_inverse=True)
+    texts = []
+    for c in distinct.tolist():
+        (m_change, m_own), (s_change, s_own) = (divmod(x, 2) for x in divmod(c, _MARK_CODES))
+        words = []
+        if m_change:
+            words.append(_MARK_TEXTS[m_change])
+        if s_change:
+            words.append(_MARK_TEXTS[s_change] + " (dispersion chart)")
+        if m_own:
+            words.append(MARK_OWN_SIGNAL)
+        if s_own:
+            words.append(MARK_OWN_SIGNAL + " (dispersion chart)")
+        texts.append("; ".join(words))
+    return np.array(texts, dtype=object)[which.ravel()].tolist()

@@ -27,10 +27,33 @@ BOX_FILL = "#8fb3d9"  # box between the quartiles (L* 72)
 CURVE = "#c46a00"  # fitted normal curve, cumulative-percentage line (L* 54)
 VITAL = DATA  # vital-few bars on a Pareto chart, full opacity (L* 32)
 REMAINING = "#a9c6e4"  # remaining bars on a Pareto chart, lighter and translucent (L* 79)
-BAND_FILLS = ("#eef3f8", "#f7f7f7")  # alternating phase backgrounds (L* 96, 97)
+# On the control chart by phase: an after point judged against the baseline's limits and taking
+# part in a signal there is evidence of a change, drawn in a shape and colour of its own with a
+# dark outline (the outline, L* 15, sets it apart from the signal diamond it may sit on, L* 65).
+CHANGE_BETTER = "#5cc39a"  # square (L* 72)
+CHANGE_WORSE = "#ee99aa"  # cross (L* 72)
+CHANGE_UNJUDGED = "#b0b0b0"  # triangle, direction not judged (L* 72)
+CHANGE_OUTLINE = INK
 GRID = "#e3e3e3"
 WHITE = "#ffffff"
 
+# Phase backgrounds: one fill per kind of period, the same on every chart, whatever the order
+# of the periods (the kinds in time order; kept very light, L* 94 to 97, so that points and
+# lines read on every one; the band's name is printed on it and in the legend, so the fill
+# never carries the meaning alone).
+PERIOD_BEFORE = "before the baseline"
+PERIOD_BASELINE = "baseline"
+PERIOD_BETWEEN = "between periods"
+PERIOD_AFTER = "after"
+PERIOD_LATER = "after the after period"
+PERIOD_FILLS = {
+    PERIOD_BEFORE: "#f0f0f0",  # grey (L* 95)
+    PERIOD_BASELINE: "#e8f0f8",  # light blue (L* 94)
+    PERIOD_BETWEEN: "#faf6e9",  # light sand (L* 97)
+    PERIOD_AFTER: "#eaf4ea",  # light green (L* 95)
+    PERIOD_LATER: "#f5eef6",  # light lilac (L* 95)
+}
+PERIOD_KINDS = tuple(PERIOD_FILLS)
 PALETTE = {
     "ink": INK,
     "data": DATA,
@@ -45,6 +68,10 @@ PALETTE = {
     "curve": CURVE,
     "vital": VITAL,
     "remaining": REMAINING,
+    "change_better": CHANGE_BETTER,
+    "change_worse": CHANGE_WORSE,
+    "change_unjudged": CHANGE_UNJUDGED,
+    "change_outline": CHANGE_OUTLINE,
 }
 
 # Pairs that are drawn on top of or next to each other (checked for lightness difference >= 15).
@@ -63,6 +90,16 @@ CONTRASTING_PAIRS = (
     ("vital", "remaining"),
     ("vital", "curve"),
     ("remaining", "curve"),
+    ("change_better", "data"),
+    ("change_better", "limit"),
+    ("change_better", "own_limit"),
+    ("change_worse", "data"),
+    ("change_worse", "limit"),
+    ("change_worse", "own_limit"),
+    ("change_unjudged", "data"),
+    ("change_unjudged", "limit"),
+    ("change_unjudged", "own_limit"),
+    ("change_outline", "signal"),
 )
 
 # --- marker shapes (Vega-Lite shape names) --------------------------------------------------------
@@ -71,8 +108,13 @@ SHAPE_SIGNAL = "diamond"
 SHAPE_OUTLIER = "circle"
 SHAPE_FAR_OUT = "triangle-up"
 SHAPE_MEAN = "cross"
+SHAPE_CHANGE_BETTER = "square"
+SHAPE_CHANGE_WORSE = "cross"
+SHAPE_CHANGE_UNJUDGED = "triangle-up"
 SIZE_POINT = 28
 SIZE_SIGNAL = 90
+SIZE_CHANGE = 70
+SIZE_OWN_SIGNAL = 190  # the diamond drawn beneath a point in a signal on its own limits
 
 # Stroke dash patterns.
 DASH_LIMIT = [6, 4]

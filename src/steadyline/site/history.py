@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from .. import advice
 from ..analysis import MetricAnalysis
 from ..charts import (
@@ -13,6 +15,7 @@ from ..charts import (
 )
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
+from ..stats.evidence import DIRECTIONS
 from ..stats.runs import RULE_SET_SHORT
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
@@ -60,6 +63,24 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     return rows
 
 
+def change_evidence_json(evidence, chart, x) -> list[dict]:
+    """The points marked as evidence of a change, by chart and direction, in results.json."""
+    out = []
+    if evidence is None:
+        return out
+    for which, ev, sub in (("main", evidence[0], chart),
+                           ("secondary", evidence[1], chart.secondary)):
+        if ev is None or sub is None:
+            continue
+        offset = len(chart.values) - len(sub.values)
+        for d in DIRECTIONS:
+            idx = np.flatnonzero(ev.change == d).tolist()
+            if idx:
+                out.append({"chart": which, "direction": d, "indices": idx,
+                            "dates": [x[i + offset] for i in idx]})
+    return out
+
+
 def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
                     sctx: SeriesContext | None) -> tuple[dict, dict]:
     """One metric's section of the history page and its results.json entry; ``sctx`` is the
@@ -69,22 +90,31 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
     result: dict = {"id": m.id, "name": m.name}
     if a.control is not None and a.data.kind != "categories":
         own = a.after_limits is not None
-        # Points are judged against the baseline limits carried forward (a.signals): the
-        # question on this page is whether the after data still fits the old process.
-        chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals)
-        d.add("staged-control", "Control chart by phase", chart,
-              findings=advice.own_limit_findings(a.after_signals, a.x) if own else (),
+        # Points outside the baseline are judged against the baseline limits carried forward
+        # (a.signals): a signal there is evidence of a change, marked by its direction; points
+        # in signals on their own period's limits (the baseline's, the after phase's own:
+        # a.after_signals) are marked as instability (a.evidence tells the two apart).
+        chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals,
+                                     a.after_signals, a.evidence)
+        findings = advice.change_findings(a.evidence, a.control, a.signals)
+        if own:
+            findings += advice.own_limit_findings(a.after_signals, a.x)
+        d.add("staged-control", "Control chart by phase", chart, findings=findings,
               method=("Baseline limits carried forward over the later points (dashed), and "
                       "the after phase's own centre line and limits over the after phase "
-                      "(solid). Signals are judged against the baseline limits, so they "
-                      "show where the after data no longer fits the old process."
+                      "(solid). A later point in a signal against the baseline limits is "
+                      "evidence of a change, marked by its direction; a point in a signal on "
+                      "its own period's limits (the baseline's, or the after phase's own) is "
+                      "marked with the signal diamond: that period is not yet stable."
                       if own else
-                      "Baseline limits carried forward over the later points (dashed); "
-                      "signals are judged against them, so they show where the after data "
-                      "no longer fits the old process. The after phase has too few points "
-                      "for limits of its own."))
+                      "Baseline limits carried forward over the later points (dashed). A later "
+                      "point in a signal against them is evidence of a change, marked by its "
+                      "direction; a baseline point in a signal on the baseline's limits is "
+                      "marked with the signal diamond. The after phase has too few points "
+                      "for limits of its own, so its stability is not judged."))
         staged = {"own_after_limits": own, "chart": a.control,
-                  "signals": signals_json(a.signals, a.x)}
+                  "signals": signals_json(a.signals, a.x),
+                  "change_evidence": change_evidence_json(a.evidence, a.control, a.x)}
         if own:
             staged["after_chart"] = a.after_limits
             staged["after_signals"] = signals_json(a.after_signals, a.x)
