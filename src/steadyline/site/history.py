@@ -11,10 +11,12 @@ from ..charts import (
     phase_pareto_chart,
     staged_control_chart,
 )
+from ..charts.categorical import common_order, gathered
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_SHORT
 from .cards import Displays, capability_rows, fmt, pct, signals_json
+from .serialise import plain
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -113,7 +115,9 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
               method="Categories keep the baseline's order in every phase, so shrinking "
                      "bars show which causes the improvement removed.")
-        result["paretos"] = dict(a.phase_paretos)
+        n_gathered = gathered(len(common_order(a.phase_paretos)))
+        result["paretos"] = {name: plain(p) | {"gathered_categories": n_gathered}
+                             for name, p in a.phase_paretos}
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:

@@ -24,6 +24,7 @@ from ..charts import (
     pareto_chart,
     run_chart,
 )
+from ..charts.categorical import MAX_BARS, gathered
 from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
 from ..errors import Problem, ProjectError, rel
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
@@ -168,14 +169,18 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
-        result["pareto"] = a.pareto
+        result["pareto"] = plain(a.pareto) | {
+            "gathered_categories": gathered(len(a.pareto.categories))}
     if a.column is not None:
         chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
         d.add("column", "Column chart by category", chart,
               cautions=advice.column_cautions(len(a.column[0]))
               + advice.bar_axis_cautions(chart.spec),
-              method="Categories in alphabetical order; the count axis starts at zero.")
-        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1])}
+              method="Categories in alphabetical order; the count axis starts at zero."
+              + (f" Only the {MAX_BARS - 1} largest are drawn, and one last bar for all the "
+                 "others; the table lists every category." if gathered(len(a.column[0])) else ""))
+        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1]),
+                                  "gathered_categories": gathered(len(a.column[0]))}
     cap = None
     if a.capability is not None:
         c = a.capability
