@@ -55,14 +55,16 @@ def _days(start: date, n: int) -> list[str]:
 
 def _builtin_rows() -> tuple[list[tuple[str, str]], Counter, Counter]:
     """Distinct counts per name in each period: the baseline largest first in list order, the
-    after period in another order, so a chart that loses or swaps a bar is caught."""
+    after period in another order, so a chart that loses or swaps a bar is caught; two names
+    occur only after the baseline."""
     base, after = Counter(), Counter()
     rows = []
     for i, name in enumerate(BUILTIN_NAMES):
         base[name] = 2 * len(BUILTIN_NAMES) - i  # 32, 31, ... 17
         after[name] = 3 + (i * 7) % len(BUILTIN_NAMES)  # a permutation of 3..18
+    after.update({"toJSON": 2, "call": 19})
     for period, counts in ((BASELINE, base), (AFTER, after)):
-        names = [n for n in BUILTIN_NAMES for _ in range(counts[n])]
+        names = [n for n in counts for _ in range(counts[n])]
         rows += list(zip(_days(period[0], len(names)), names, strict=True))
     rows.sort()
     return rows, base, after
@@ -211,18 +213,21 @@ def _check_panel(chart: dict, panel: int, expected: list[tuple[str, float]], whe
 def test_builtin_names_draw_like_any_other(browser, category_site):
     base_url, counts = category_site
     base, after = counts["base"], counts["after"]
-    pooled = base + after
+    # the project page counts the baseline, like its other displays
     page = _draw(browser, base_url + "projects/builtin-names/index.html")
     _check_panel(page["chart-reasons-pareto"], 0,
-                 [(n, pooled[n]) for n in _ranked(pooled)], "Pareto")
+                 [(n, base[n]) for n in _ranked(base)], "Pareto")
     _check_panel(page["chart-reasons-column"], 0,
-                 [(n, pooled[n]) for n in sorted(pooled, key=str.casefold)], "column chart")
+                 [(n, base[n]) for n in sorted(base, key=str.casefold)], "column chart")
 
+    # before and after: the baseline panel descending, the after panel in the baseline's
+    # order, the names new after the baseline appended, largest first
     history = _draw(browser, base_url + "projects/builtin-names/history.html")
     chart = history["chart-history-reasons-phase-pareto"]
-    order = _ranked(pooled)
+    order = _ranked(base) + ["call", "toJSON"]
     _check_panel(chart, 0, [(n, base[n]) for n in order], "baseline panel")
     _check_panel(chart, 1, [(n, after[n]) for n in order], "after panel")
+    assert [base[n] for n in order[:-2]] == sorted(base.values(), reverse=True)
 
 
 def _vital_few(counts: Counter, threshold: float = 80.0) -> list[str]:

@@ -97,11 +97,12 @@ def _column_template() -> dict:
 
 
 def column_chart(
-    categories: Sequence[str], counts: Sequence[float], *, unit: str = "count"
+    categories: Sequence[str], counts: Sequence[float], *, unit: str = "count", period: str = ""
 ) -> ChartSpec:
     """Bars in the order given, the value axis starting at zero. Of more than MAX_BARS
     categories, the largest MAX_BARS - 1 are drawn in the order given and one last bar gathers
-    the others; the table keeps every category."""
+    the others; the table keeps every category. ``period``: what the counts cover (e.g.
+    "baseline 2026-01-05 to 2026-03-27, 412 values"), the subtitle's first line."""
     cats = [str(c) for c in categories]
     vals = [num(c) for c in counts]
     if len(cats) != len(vals):
@@ -110,7 +111,7 @@ def column_chart(
         raise ValueError("column chart categories must be distinct")
     tpl = cached_template(("column-chart",), _column_template)
     n_gathered = gathered(len(cats))
-    sub = []
+    sub = [period] if period else []
     shown, shown_vals = cats, vals
     if n_gathered:
         largest = sorted(range(len(cats)), key=lambda i: (-(vals[i] or 0.0), cats[i]))
@@ -131,7 +132,10 @@ def column_chart(
     )
     table = [{"category": c, unit or "count": v} for c, v in zip(cats, vals, strict=True)]
     total = sum(v for v in vals if v is not None)
-    summary = f"Column chart of {plural(len(cats), 'category', 'categories')}, total {with_unit(fmt(total, 4), unit)}"
+    summary = (
+        f"Column chart{f' ({period})' if period else ''} of "
+        f"{plural(len(cats), 'category', 'categories')}, total {with_unit(fmt(total, 4), unit)}"
+    )
     if any(v is not None for v in vals):
         k = max((i for i in range(len(vals)) if vals[i] is not None), key=lambda i: vals[i])
         summary += f"; largest {cats[k]} ({fmt(vals[k], 4)})"
@@ -308,11 +312,12 @@ def _gathered_line(rows: list[dict], n: int, total: float, vital: set[str]) -> s
     return line
 
 
-def pareto_chart(p: Pareto) -> ChartSpec:
+def pareto_chart(p: Pareto, period: str = "") -> ChartSpec:
     """Bars in descending order, the cumulative percentage against a right axis whose 100 %
     sits at the total, the vital few set apart by fill, opacity and legend, an 80 % rule. Of
     more than MAX_BARS categories, the largest are drawn one by one and one last bar gathers
-    the others; the vital few, the line's 100% and the table count every category."""
+    the others; the vital few, the line's 100% and the table count every category.
+    ``period``: what the counts cover, the subtitle's first line (see :func:`column_chart`)."""
     if len(p.categories) != len(p.counts):
         raise ValueError(f"{len(p.categories)} categories but {len(p.counts)} counts")
     tpl = cached_template(("pareto",), _pareto_template)
@@ -334,7 +339,8 @@ def pareto_chart(p: Pareto) -> ChartSpec:
     bars, n_gathered = _drawn(rows, total)
     thr = [{"cumulative": float(p.threshold), "text": f"{fmt(p.threshold)}%"}]
     named = f" ({vital_names(p.vital_few)})" if p.vital_few else ""
-    sub = [
+    sub = [period] if period else []
+    sub += [
         f"total {fmt(total, 4)}; vital few: {len(p.vital_few)} of {plural(len(cats), 'category', 'categories')} "
         f"make up the first {fmt(p.threshold)}%" + named,
         f"right axis: cumulative percentage, 100% at the total of {fmt(total, 4)}",
@@ -359,7 +365,8 @@ def pareto_chart(p: Pareto) -> ChartSpec:
         for r in rows
     ]
     summary = (
-        f"Pareto chart of {fmt(total, 4)} across {plural(len(cats), 'category', 'categories')}: "
+        f"Pareto chart{f' ({period})' if period else ''} of {fmt(total, 4)} across "
+        f"{plural(len(cats), 'category', 'categories')}: "
         f"{len(p.vital_few)} make up the first {fmt(p.threshold)}%" + named
         + (f"; the {n_gathered:,} smallest are drawn as one bar" if n_gathered else "")
         + "."

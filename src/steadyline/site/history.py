@@ -11,8 +11,10 @@ from ..charts import (
     phase_pareto_chart,
     staged_control_chart,
 )
+from ..charts.base import fmt as chart_fmt
 from ..charts.categorical import common_order, gathered
 from ..config import PHASES, ProjectSpec
+from ..loading import STAGE_AFTER
 from ..stats.compare import format_p_value
 from ..stats.runs import RULE_SET_SHORT
 from .cards import Displays, capability_rows, fmt, pct, signals_json
@@ -59,6 +61,33 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
                      f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
                      f" by the {RULE_SET_SHORT.get(sh.rule_set, sh.rule_set)}"))
     return rows
+
+
+def after_note(a: MetricAnalysis) -> str:
+    """The sentence that stands where a metric has no comparison table: true to the charts
+    beside it (a category metric with after data has a Pareto of each phase, not a test)."""
+    if a.comparison is not None:
+        return ""
+    if not a.has_after:
+        return "No after period with data yet: the comparison appears once the after phase has data."
+    if len(a.phase_paretos) > 1:
+        after = int((a.data.points["stage"].to_numpy() == STAGE_AFTER).sum())
+        (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
+
+        def counted(p, rows: int) -> str:  # rows tell more only when each row has a weight
+            total = fmt(p.total, a.spec.unit or ("values" if a.spec.count is None else ""), 4)
+            return total if a.spec.count is None else f"{total} from {chart_fmt(float(rows))} rows"
+
+        return (f"Categories are compared by their Pareto charts below, phase by phase, with no "
+                f"test of the change: the {b_name.lower()} counts "
+                f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
+                f"{counted(f, after)}.")
+    why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
+    if a.data.kind == "categories":
+        why = why or ("no row falls in the baseline period" if a.category_scope != "baseline"
+                      else "")
+    return ("The after period has data, but it could not be compared with the baseline"
+            + (f": {why}." if why else "."))
 
 
 def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
@@ -113,8 +142,9 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
     if len(a.phase_paretos) > 1:
         chart = phase_pareto_chart(a.phase_paretos)
         d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
-              method="Categories keep the baseline's order in every phase, so shrinking "
-                     "bars show which causes the improvement removed.")
+              method="Categories keep the baseline's order (largest first there) in every "
+                     "phase, so shrinking bars show which causes the improvement removed; "
+                     "categories new after the baseline follow, largest first.")
         n_gathered = gathered(len(common_order(a.phase_paretos)))
         result["paretos"] = {name: plain(p) | {"gathered_categories": n_gathered}
                              for name, p in a.phase_paretos}
@@ -123,7 +153,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
     if a.after_shift is not None:
         result["sustained_shift"] = bool(a.after_shift.signals)
     section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-               "comparison": comparison_rows(a),
+               "comparison": comparison_rows(a), "note": after_note(a),
                "sentence": a.comparison.sentence if a.comparison else "",
                "improved": a.comparison.improved if a.comparison else None,
                "capabilities": caps}
