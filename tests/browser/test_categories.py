@@ -92,6 +92,11 @@ def _categories_meta(slug: str, comparison: str | None, **metric) -> str:
     )
 
 
+# The metric's name and unit are inherited names too: the unit stands alone as the column
+# chart's axis title.
+BUILTIN_METRIC = {"name": "constructor", "unit": "toString"}
+
+
 def _ranked(counts: Counter) -> list[str]:
     """Largest first, ties by name (the Pareto's order)."""
     return sorted(counts, key=lambda c: (-counts[c], c))
@@ -109,7 +114,8 @@ def category_site(tmp_path_factory):
     periods = (f"baseline = [{BASELINE[0]}, {BASELINE[1]}]\n"
                f"after = [{AFTER[0]}, {AFTER[1]}]")
     projects = write(root / "projects", {
-        "builtin-names/project.toml": _categories_meta("builtin-names", periods),
+        "builtin-names/project.toml": _categories_meta("builtin-names", periods,
+                                                       **BUILTIN_METRIC),
         "builtin-names/reasons.csv": _csv(builtin_rows),
         "many-categories/project.toml": _categories_meta("many-categories", None, count="n"),
         "many-categories/reasons.csv": many_csv,

@@ -160,3 +160,22 @@ def test_phase_paretos_of_many_categories_gather_after_the_common_order():
         assert d[name][-1]["count"] == sum(q.counts[MAX_BARS - 1 :])
         assert d[name][-1]["cumulative"] == pytest.approx(100)
     assert len(cs.table) == 2 * n
+
+
+def test_a_unit_named_like_an_inherited_property_is_not_a_bare_constant():
+    # Vega's runtime refuses a chart whose axis title is exactly "toString" (the browser test
+    # draws one); the title keeps its letters and gains a zero-width space, which shows nothing
+    cs = column_chart(["a", "b"], [3, 1], unit="toString")
+    bar = next(v for v in cs.spec["layer"] if v["mark"]["type"] == "bar")
+    title = bar["encoding"]["y"]["axis"]["title"]
+    assert title != "toString" and title.rstrip("\u200b") == "toString"
+    assert [t["title"] for t in bar["encoding"]["tooltip"]] == ["category", "count"]
+    assert cs.columns == ("category", "toString")  # the table keeps the unit as it is
+    ordinary = column_chart(["a"], [3], unit="returns")
+    assert ordinary.spec["layer"][0]["encoding"]["y"]["axis"]["title"] == "returns"
+
+
+def test_a_unit_called_category_keeps_both_table_columns():
+    cs = column_chart(["a", "b"], [3, 1], unit="category")
+    assert cs.columns == ("category", "count")
+    assert list(cs.table) == [{"category": "a", "count": 3.0}, {"category": "b", "count": 1.0}]

@@ -40,6 +40,24 @@ _KEY_LABEL = "slice(datum.label, indexof(datum.label, ' ') + 1)"
 MAX_BARS = 25
 
 
+# The properties every JavaScript object inherits (ECMA-262, "Properties of the Object
+# Prototype Object", and annex B for the __ ones). Vega's runtime, as the site runs it (with
+# the expression interpreter), refuses a chart in which one of these names stands alone as a
+# constant text, such as an axis title ("Operator not defined"), and draws "__proto__" as
+# "[object Object]". A unit given in the metadata is such a text on the column chart's axis.
+_INHERITED = frozenset({
+    "constructor", "__proto__", "toString", "toLocaleString", "valueOf", "hasOwnProperty",
+    "isPrototypeOf", "propertyIsEnumerable", "__defineGetter__", "__defineSetter__",
+    "__lookupGetter__", "__lookupSetter__",
+})
+
+
+def constant_text(text: str) -> str:
+    """``text`` to stand alone in a spec as a constant (a title): as it is, or, when it is an
+    inherited property's name, with a zero-width space after it, which nothing shows."""
+    return text + "\u200b" if text in _INHERITED else text
+
+
 def gathered(n_categories: int) -> int:
     """How many categories a chart of ``n_categories`` gathers into its last bar (0: none)."""
     return n_categories - (MAX_BARS - 1) if n_categories > MAX_BARS else 0
@@ -83,7 +101,9 @@ def _column_template() -> dict:
             "y": y(),
             "tooltip": [
                 vl.tip("category:N", "category"),
-                vl.tip("count:Q", slot("y_title"), ",.4~g"),
+                # a fixed title: Vega-Lite makes the tooltip an object keyed by the titles,
+                # and a unit such as "constructor" would be a key every object inherits
+                vl.tip("count:Q", "count", ",.4~g"),
             ],
         },
     )
@@ -128,9 +148,11 @@ def column_chart(
         for k, c, v in zip(bar_keys(shown), shown, shown_vals, strict=True)
     ]
     spec = make_spec(
-        tpl, {"y_title": unit or "count"}, {"bars": rows}, "Counts by category", sub
+        tpl, {"y_title": constant_text(unit or "count")}, {"bars": rows}, "Counts by category",
+        sub,
     )
-    table = [{"category": c, unit or "count": v} for c, v in zip(cats, vals, strict=True)]
+    value_col = unit if unit and unit != "category" else "count"  # never two "category"
+    table = [{"category": c, value_col: v} for c, v in zip(cats, vals, strict=True)]
     total = sum(v for v in vals if v is not None)
     summary = (
         f"Column chart{f' ({period})' if period else ''} of "
@@ -142,7 +164,7 @@ def column_chart(
     if n_gathered:
         summary += f"; the {n_gathered:,} smallest are drawn as one bar"
     return ChartSpec(
-        spec=spec, table=table, columns=("category", unit or "count"), summary=summary + "."
+        spec=spec, table=table, columns=("category", value_col), summary=summary + "."
     )
 
 
