@@ -212,7 +212,7 @@ def vital_names(vital: Sequence[str]) -> str:
 def pareto_findings(p: Pareto) -> list[Finding]:
     k, n = len(p.vital_few), len(p.categories)
     share = p.cumulative_percent[k - 1] if k else 0.0
-    text = (f"{k} of {n:,} categories ({vital_names(p.vital_few)}) make up {share:.0f}% of the "
+    text = (f"{k:,} of {n:,} categories ({vital_names(p.vital_few)}) make up {share:.0f}% of the "
             f"total of {p.total:g}.")
     return [Finding("signal" if k and k <= n / 2 else "clear", SIGNAL_MARKER if k <= n / 2
                     else CLEAR_MARKER, text)]
