@@ -107,7 +107,7 @@ def test_pareto_of_many_categories_gathers_the_smallest_into_one_bar():
     assert [b["category"] for b in bars[:-1]] == list(p.categories[: MAX_BARS - 1])
     last = bars[-1]
     rest = sum(p.counts[MAX_BARS - 1 :])
-    assert last["category"] == others_label(k) == "all others (16 categories)"
+    assert last["category"] == others_label(k) == "all 16 others"
     assert last["count"] == rest
     assert last["cumulative"] == 100  # the line still ends at 100%
     assert last["percent"] == pytest.approx(100 * rest / total, rel=1e-5)
