@@ -65,6 +65,8 @@ class MetricAnalysis:
     phase_boxes: list[tuple[str, BoxSummary]] = field(default_factory=list)
     phase_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
     phase_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
+    category_scope: str = ""  # categories: what the Pareto counts, "baseline" or "all data"
+    category_rows: int = 0  # categories: how many rows it counts
     failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
 
     @property
@@ -293,22 +295,44 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
 
 
 def _categories(res: MetricAnalysis) -> None:
+    """The Pareto and column chart of the baseline (of all data, said so, when the metric has no
+    baseline period or none of its rows fall in it), like every other display of the project
+    page; and for the history page the baseline's Pareto beside the after period's, the after
+    period's bars in the baseline's order, categories new after the baseline appended."""
     data = res.data
     pts = data.points
     cats = pts["category"].astype(str).to_numpy()
     weights = pts["weight"].to_numpy(float)
-    res.pareto = _try(res, "Pareto chart", pareto, cats, weights)
-    if res.pareto is not None:
-        # The column chart keeps the categories in their own (alphabetical) order, so that it
-        # reads differently from the Pareto; counts come from the same tally.
-        tally = dict(zip(res.pareto.categories, res.pareto.counts, strict=True))
-        names = tuple(sorted(tally, key=str.casefold))
-        res.column = (names, tuple(float(tally[n]) for n in names))
-        stage = pts["stage"].to_numpy(int)
-        if (stage == STAGE_AFTER).any() and (stage == STAGE_BASELINE).any():
-            order = res.pareto.categories
-            for st in (STAGE_BASELINE, STAGE_AFTER):
-                sel = stage == st
-                p = _try(res, "history", pareto_in_order, cats[sel], weights[sel], order)
-                if p is not None:
-                    res.phase_paretos.append((STAGE_NAMES[st], p))
+    stage = pts["stage"].to_numpy(int)
+    base = stage == STAGE_BASELINE
+    if data.spec.baseline is not None and "period" in pts and base.any():
+        res.category_scope = "baseline"
+    else:
+        res.category_scope = "all data"
+        base = np.ones(len(cats), dtype=bool)
+    res.category_rows = int(base.sum())
+    res.pareto = _try(res, "Pareto chart", pareto, cats[base], weights[base])
+    if res.pareto is None:
+        return
+    # The column chart keeps the categories in their own (alphabetical) order, so that it
+    # reads differently from the Pareto; counts come from the same tally.
+    tally = dict(zip(res.pareto.categories, res.pareto.counts, strict=True))
+    names = tuple(sorted(tally, key=str.casefold))
+    res.column = (names, tuple(float(tally[n]) for n in names))
+    after = stage == STAGE_AFTER
+    if res.category_scope == "baseline" and after.any():
+        order = after_order(res.pareto, pareto(cats[after], weights[after]))
+        p = _try(res, "history", pareto_in_order, cats[after], weights[after], order)
+        if p is not None:
+            res.phase_paretos = [(STAGE_NAMES[STAGE_BASELINE], res.pareto),
+                                 (STAGE_NAMES[STAGE_AFTER], p)]
+
+
+def after_order(baseline: Pareto, after: Pareto) -> list[str]:
+    """The after period's bar order: the baseline's (descending there), then the categories
+    new in the after period, descending there (ties by name, as its own Pareto orders them);
+    a category named "other" (any case) stays last, as the Pareto by phase draws it."""
+    seen = set(baseline.categories)
+    order = list(baseline.categories) + [c for c in after.categories if c not in seen]
+    last = [c for c in order if c.strip().lower() == "other"]
+    return [c for c in order if c not in last] + last

@@ -13,12 +13,16 @@ from ..charts import (
     phase_pareto_chart,
     staged_control_chart,
 )
+from ..charts.base import fmt as chart_fmt
+from ..charts.categorical import common_order, gathered
 from ..config import PHASES, ProjectSpec
+from ..loading import STAGE_AFTER
 from ..stats.compare import format_p_value
 from ..stats.evidence import DIRECTIONS
 from ..stats.runs import RULE_SET_SHORT
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
+from .serialise import plain
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -79,6 +83,33 @@ def change_evidence_json(evidence, chart, x) -> list[dict]:
                 out.append({"chart": which, "direction": d, "indices": idx,
                             "dates": [x[i + offset] for i in idx]})
     return out
+
+
+def after_note(a: MetricAnalysis) -> str:
+    """The sentence that stands where a metric has no comparison table: true to the charts
+    beside it (a category metric with after data has a Pareto of each phase, not a test)."""
+    if a.comparison is not None:
+        return ""
+    if not a.has_after:
+        return "No after period with data yet: the comparison appears once the after phase has data."
+    if len(a.phase_paretos) > 1:
+        after = int((a.data.points["stage"].to_numpy() == STAGE_AFTER).sum())
+        (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
+
+        def counted(p, rows: int) -> str:  # rows tell more only when each row has a weight
+            total = fmt(p.total, a.spec.unit or ("values" if a.spec.count is None else ""), 4)
+            return total if a.spec.count is None else f"{total} from {chart_fmt(float(rows))} rows"
+
+        return (f"Categories are compared by their Pareto charts below, phase by phase, with no "
+                f"test of the change: the {b_name.lower()} counts "
+                f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
+                f"{counted(f, after)}.")
+    why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
+    if a.data.kind == "categories":
+        why = why or ("no row falls in the baseline period" if a.category_scope != "baseline"
+                      else "")
+    return ("The after period has data, but it could not be compared with the baseline"
+            + (f": {why}." if why else "."))
 
 
 def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
@@ -142,15 +173,18 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
     if len(a.phase_paretos) > 1:
         chart = phase_pareto_chart(a.phase_paretos)
         d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
-              method="Categories keep the baseline's order in every phase, so shrinking "
-                     "bars show which causes the improvement removed.")
-        result["paretos"] = dict(a.phase_paretos)
+              method="Categories keep the baseline's order (largest first there) in every "
+                     "phase, so shrinking bars show which causes the improvement removed; "
+                     "categories new after the baseline follow, largest first.")
+        n_gathered = gathered(len(common_order(a.phase_paretos)))
+        result["paretos"] = {name: plain(p) | {"gathered_categories": n_gathered}
+                             for name, p in a.phase_paretos}
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:
         result["sustained_shift"] = bool(a.after_shift.signals)
     section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-               "comparison": comparison_rows(a),
+               "comparison": comparison_rows(a), "note": after_note(a),
                "sentence": a.comparison.sentence if a.comparison else "",
                "improved": a.comparison.improved if a.comparison else None,
                "capabilities": caps}

@@ -24,6 +24,8 @@ from ..charts import (
     pareto_chart,
     run_chart,
 )
+from ..charts.base import fmt as chart_fmt
+from ..charts.categorical import MAX_BARS, gathered
 from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
 from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
@@ -101,6 +103,20 @@ def periods_text(a: MetricAnalysis) -> str:
     return text
 
 
+def category_period(a: MetricAnalysis) -> str:
+    """What a categories metric's Pareto and column chart count: the period, and how many
+    values (rows) fall in it."""
+    m = a.spec
+    n = a.category_rows
+    values = f"{chart_fmt(float(n))} value{'' if n == 1 else 's'}"  # 1112, 12,345 as charts write
+    if a.category_scope == "baseline":
+        return f"baseline {m.baseline.label()}, {values}"
+    why = ("no baseline period set" if m.baseline is None
+           else "no date column to find the baseline period by" if "period" not in a.data.points
+           else "no row falls in the baseline period")
+    return f"all data ({why}), {values}"
+
+
 def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes],
                    metric_problems: list[Problem],
                    ctx: SeriesContext | None) -> tuple[dict, dict]:
@@ -167,20 +183,28 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               method=f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
         result["box_plot"] = a.box
+    if a.data.kind == "categories":  # what its Pareto and column chart count
+        period, scope = category_period(a), a.category_scope
     if a.pareto is not None:
-        chart = pareto_chart(a.pareto)
-        d.add("pareto", "Pareto chart", chart, advice.pareto_findings(a.pareto),
+        chart = pareto_chart(a.pareto, period=period)
+        d.add("pareto", f"Pareto chart of {'the ' if scope == 'baseline' else ''}{scope}", chart,
+              advice.pareto_findings(a.pareto),
               advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
-        result["pareto"] = a.pareto
+        result["pareto"] = plain(a.pareto) | {
+            "gathered_categories": gathered(len(a.pareto.categories)),
+            "scope": scope, "values": a.category_rows}
     if a.column is not None:
-        chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
-        d.add("column", "Column chart by category", chart,
+        chart = column_chart(a.column[0], a.column[1], unit=unit or "count", period=period)
+        d.add("column", f"Column chart by category, {scope}", chart,
               cautions=advice.column_cautions(len(a.column[0]))
               + advice.bar_axis_cautions(chart.spec),
-              method="Categories in alphabetical order; the count axis starts at zero.")
-        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1])}
+              method="Categories in alphabetical order; the count axis starts at zero."
+              + (f" Only the {MAX_BARS - 1} largest are drawn, and one last bar for all the "
+                 "others; the table lists every category." if gathered(len(a.column[0])) else ""))
+        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1]),
+                                  "gathered_categories": gathered(len(a.column[0]))}
     cap = None
     if a.capability is not None:
         c = a.capability
@@ -501,7 +525,8 @@ def headline_text(a: MetricAnalysis) -> str:
                ("; unlikely to be chance" if c.p_value < 0.05 else "; could be chance"))
         return f"{c.measure.capitalize()} {b} → {f}: {change}, {verdict}{sig}."
     if a.pareto is not None:
-        return (f"{len(a.pareto.vital_few)} of {len(a.pareto.categories)} categories make up "
+        return (f"{a.category_scope.capitalize()}: {len(a.pareto.vital_few)} of "
+                f"{len(a.pareto.categories)} categories make up "
                 f"{a.pareto.threshold:.0f}% of {a.pareto.total:g}.")
     if a.run is not None:
         pts = a.data.points
