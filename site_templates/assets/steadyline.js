@@ -7,9 +7,26 @@
   /* Vega-Lite gives each part of a stacked (vconcat) chart the container's full width for its
      plot and adds axes on top, so stacked charts would overflow their card: give them a width
      that leaves room for the axes instead. */
+  /* Control charts carry a parameter "narrow": below this box width their limit labels move
+     from beside the plot into it, and the plot gets the width the labels had. */
+  var INSIDE_LABELS_PX = 600;
+
+  function narrowLabels(spec, target) {
+    var narrow = target.clientWidth < INSIDE_LABELS_PX;
+    (spec && spec.params || []).forEach(function (p) {
+      if (p && p.name === "narrow") { p.value = narrow; }
+    });
+    return spec;
+  }
+
+  function labelsInside(spec) {
+    return (spec.params || []).some(function (p) { return p && p.name === "narrow" && p.value; });
+  }
+
   function fitStacked(spec, target, shrink) {
     if (!spec || !Array.isArray(spec.vconcat)) { return spec; }
-    var width = Math.max(120, Math.floor(target.clientWidth) - 150 - (shrink || 0));
+    var room = labelsInside(spec) ? 70 : 150;  // axis labels and title; limit labels beside
+    var width = Math.max(120, Math.floor(target.clientWidth) - room - (shrink || 0));
     spec.vconcat.forEach(function (part) {
       if (part && part.width === "container") { part.width = width; }
     });
@@ -109,7 +126,8 @@
       return Promise.reject(e);
     }
     entry.width = target.clientWidth;
-    spec = fitStacked(stackWhenNarrow(fitAxesAndLegends(fitTitle(spec, target), target), target),
+    spec = fitStacked(stackWhenNarrow(fitAxesAndLegends(narrowLabels(fitTitle(spec, target),
+                                                                     target), target), target),
                       target, entry.shrink);
     return window.vegaEmbed(target, spec, {
       ast: true,                      // expression interpreter: works without 'unsafe-eval'

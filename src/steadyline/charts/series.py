@@ -282,10 +282,12 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     # Plain chart: labels right of the plot. Staged chart: the carried "baseline UCL ..." labels
     # sit inside the plot, right-aligned just above their lines; the after phase's own labels
     # go right of the plot, beside their lines, so the two sets never print over each other.
+    # In a narrow box (the page sets the parameter NARROW) the labels right of the plot move
+    # inside it, right-aligned above the end of their lines, so that the plot keeps the width.
     label_mark = (
         vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2, color=style.INK)
         if staged
-        else vl.mark("text", align="left", baseline="middle", dx=5, color=style.INK)
+        else vl.mark("text", **_BESIDE_OR_INSIDE, color=style.INK)
     )
     labels = vl.view(
         f"{prefix}labels",
@@ -297,7 +299,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
         layers.append(
             vl.view(
                 f"{prefix}own_labels",
-                vl.mark("text", align="left", baseline="middle", dx=5, color=style.OWN_LIMIT),
+                vl.mark("text", **_BESIDE_OR_INSIDE, color=style.OWN_LIMIT),
                 {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
             )
         )
@@ -336,6 +338,16 @@ def _median_layers(is_time: bool, y_slot: str) -> list[dict]:
     return [rule, label]
 
 
+# The page script sets this parameter to true when it draws the chart in a narrow box.
+NARROW = "narrow"
+_BESIDE_OR_INSIDE = {
+    "align": {"expr": f"{NARROW} ? 'right' : 'left'"},
+    "baseline": {"expr": f"{NARROW} ? 'bottom' : 'middle'"},
+    "dx": {"expr": f"{NARROW} ? -2 : 5"},
+    "dy": {"expr": f"{NARROW} ? -2 : 0"},
+}
+
+
 def _run_template(is_time: bool) -> dict:
     chart = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs="median")
     return finish_template(chart, "run-chart")
@@ -344,10 +356,12 @@ def _run_template(is_time: bool) -> dict:
 def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") -> dict:
     display = "staged-control-chart" if refs == "staged" else "control-chart"
     main = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs=refs)
+    narrow = [{"name": NARROW, "value": False}]
     if not has_secondary:
-        return finish_template(main, display)
+        return finish_template({**main, "params": narrow}, display)
     second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs)
-    chart = {"vconcat": [main, second], "spacing": 18, "resolve": {"scale": {"x": "shared"}}}
+    chart = {"params": narrow, "vconcat": [main, second], "spacing": 18,
+             "resolve": {"scale": {"x": "shared"}}}
     return finish_template(chart, display)
 
 
