@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import os
+import random
 import re
 import shutil
 import signal
@@ -230,6 +231,10 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
     projects = copy_projects(tmp_path / "projects")
     out = tmp_path / "site"
     subprocess.run(build_cmd(projects, out, "--jobs", "1"), env=ENV, check=True)
+    t0 = time.monotonic()
+    subprocess.run(build_cmd(projects, out, "--jobs", "1", "--force"), env=ENV, check=True)
+    full = time.monotonic() - t0
+    rng = random.Random(20261203)
     csv = projects / "customer-returns" / "returns_weekly.csv"
     lines = csv.read_text("utf-8").splitlines()
 
@@ -247,6 +252,7 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
                 seen[state] += 1
                 if state == "ok":
                     sites.add(what)  # type: ignore[arg-type]
+            time.sleep(0.002)  # leave the builds the processor
 
     watcher = threading.Thread(target=reader, daemon=True)
     watcher.start()
@@ -260,8 +266,13 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
                     build_cmd(projects, out, "--jobs", "1")]
             if i % 2:
                 pair.reverse()
-            procs = [subprocess.Popen(c, env=ENV, stdout=subprocess.PIPE,
-                                      stderr=subprocess.PIPE, text=True) for c in pair]
+            procs = []
+            for c in pair:
+                procs.append(subprocess.Popen(c, env=ENV, stdout=subprocess.PIPE,
+                                              stderr=subprocess.PIPE, text=True))
+                # the second starts at any moment of the first one's run: together, while
+                # it builds, or as it publishes
+                time.sleep(rng.uniform(0, full) if len(procs) == 1 else 0)
             for p in procs:
                 _, err = p.communicate(timeout=60)
                 assert p.returncode == 0, err
@@ -327,13 +338,14 @@ def test_a_killed_pooled_build_leaves_no_process_and_the_next_build_no_folder(tm
                                 start_new_session=True, stderr=subprocess.DEVNULL)
         sid = proc.pid  # a session leader's id is its session's
         try:
-            assert wait_until(lambda: reached(sid) or proc.poll() is not None, 60.0, 0.005)
+            assert wait_until(lambda p=proc, f=reached: f(p.pid) or p.poll() is not None, 60.0,
+                              0.005)
             assert proc.poll() is None, f"the build ended before {moment}"
             workers = _workers(sid)
             assert workers, moment
             os.kill(proc.pid, signal.SIGKILL)
             proc.wait()
-            left = wait_until(lambda: not _session(sid), 5.0) or _session(sid)
+            left = wait_until(lambda s=sid: not _session(s), 5.0) or _session(sid)
             assert left is True, f"killed when {moment}; still running: {left}"
         finally:
             for pid, _ in _session(sid):
@@ -355,7 +367,7 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
                                 start_new_session=True, stderr=subprocess.PIPE, text=True)
         sid = proc.pid
         try:
-            assert wait_until(lambda: _staged_projects(out) >= 1 or proc.poll() is not None,
+            assert wait_until(lambda p=proc: _staged_projects(out) >= 1 or p.poll() is not None,
                               60.0, 0.005)
             workers = _workers(sid)
             assert proc.poll() is None and workers
@@ -367,7 +379,7 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
             # /proc once it reaped them)
             assert not any(Path(f"/proc/{pid}").exists() for pid in workers)
             # multiprocessing's resource tracker ends by itself once the build is gone
-            assert wait_until(lambda: not _session(sid), 5.0), _session(sid)
+            assert wait_until(lambda s=sid: not _session(s), 5.0), _session(sid)
         finally:
             for pid, _ in _session(sid):
                 os.kill(pid, signal.SIGKILL)
