@@ -387,7 +387,8 @@ def lock_output(out: Path, kind: str, say=_say) -> OutputLock:
             pid = os.getpid()
             start = process_start(pid)
             os.ftruncate(fd, 0)
-            os.pwrite(fd, f"{pid} {'-' if start is None else start} {kind}\n".encode(), 0)
+            os.lseek(fd, 0, os.SEEK_SET)
+            os.write(fd, f"{pid} {'-' if start is None else start} {kind}\n".encode())
             return OutputLock(out, fd, kind)
         except BaseException:
             try:
