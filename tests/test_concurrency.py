@@ -131,17 +131,25 @@ def test_a_build_refuses_an_output_a_watch_session_holds(tmp_path: Path, capsys)
     assert build(BuildOptions(projects, out, jobs=1)).written
 
 
-def test_a_watch_session_holds_the_lock_until_it_stops(tmp_path: Path):
+def test_a_watch_waits_for_a_build_then_holds_the_lock_until_it_stops(tmp_path: Path):
     projects = copy_projects(tmp_path / "projects")
     out = tmp_path / "site"
+    holder = _start_holder(out, "build")
     proc = subprocess.Popen([sys.executable, "-m", "steadyline", "watch", str(projects), "--out",
                              str(out), "--no-serve", "--jobs", "1"], env=ENV,
                             stderr=subprocess.PIPE, text=True)
     try:
         assert proc.stderr is not None
+        assert proc.stderr.readline() == (f"steadyline: waiting for the build of {out} by "
+                                          f"process {holder.pid} to finish\n")
+        holder.kill()
+        holder.wait()
+        lines = []
         for line in proc.stderr:
+            lines.append(line)
             if line.startswith("watching"):
                 break
+        assert lines[-1].startswith("watching"), lines
         # between rebuilds too: a build refuses at once
         with pytest.raises(BuildError, match=rf"process {proc.pid} is watching"):
             build(BuildOptions(projects, out, jobs=1, force=True))
@@ -151,6 +159,7 @@ def test_a_watch_session_holds_the_lock_until_it_stops(tmp_path: Path):
         assert second.returncode == 2
         assert f"process {proc.pid} is watching this output" in second.stderr
     finally:
+        holder.kill()
         proc.send_signal(signal.SIGINT)
         assert proc.wait(timeout=20) == 0
     assert build(BuildOptions(projects, out, jobs=1, force=True)).written

@@ -14,9 +14,9 @@
 
 Writing only into the staging folder is what keeps a half-written site from ever being
 published. When nothing changed at all, nothing is written (a site kept in a repository does
-not churn). Stages 3 to 7 run under the output's lock (see ``publish.lock_output``): a second
-build of the same output waits, so that no build reads the manifest or links files of a site
-that another is about to replace.
+not churn). The whole build runs under the output's lock (see ``publish.lock_output``): a
+second build of the same output waits, so that no build reads the manifest or links files of a
+site that another is about to replace, nor deletes another's staging folder.
 
 Worker processes die with the build that started them, even when it is killed outright
 (``PR_SET_PDEATHSIG`` on Linux, a watching thread elsewhere); an interrupted or terminated
@@ -150,8 +150,8 @@ _PR_SET_PDEATHSIG = 1  # <linux/prctl.h>
 
 def _die_with_parent(parent: int) -> None:
     """Make this worker end when *parent*, the build, ends, however it ends (kill -9 too): a
-    worker left behind would go on computing a site nobody publishes, and on Linux would keep
-    waiting for tasks for ever. Linux: the kernel sends SIGKILL when the parent dies
+    worker left behind would finish its project for a site nobody publishes and then wait for
+    tasks for ever. Linux: the kernel sends SIGKILL when the parent dies
     (``prctl(PR_SET_PDEATHSIG)``); elsewhere a thread looks every half second."""
     prctl = None
     if sys.platform.startswith("linux"):
@@ -186,7 +186,7 @@ def _worker_start(parent: int, then) -> None:
 
 
 def _new_pool(jobs: int, initializer=None) -> ProcessPoolExecutor:
-    # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md).
+    # spawn, not fork: a worker forked after the parent has used vl_convert hangs.
     # The workers are started by the thread that submits the first tasks; Linux ties their
     # lives to that thread, which waits for the pool to stop before it returns.
     return ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
