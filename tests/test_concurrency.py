@@ -262,7 +262,7 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
                 partial.append(str(what))
             else:
                 seen[state] += 1
-            time.sleep(0.002)  # leave the builds the processor
+            time.sleep(0.01)  # leave the builds the processor
 
     watcher = threading.Thread(target=reader, daemon=True)
     watcher.start()
