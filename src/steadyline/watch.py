@@ -17,6 +17,12 @@ One editor save gives several raw events (an atomic save shows only as a move on
 a quiet period of 0.3 s with a 3 s cap turns each burst into one rebuild. The build itself
 hashes each project's inputs, so a rebuild redoes only what changed; the pages of a watched
 site poll live-state.json and reload when their project's stamp changes.
+
+A watch session holds the output's lock (``site.publish.lock_output``) from its first build
+until it stops, not just while each rebuild runs: it republishes the output whenever a file
+changes, so a `build` or a second `watch` of the same output would only have its site replaced
+by the next save. They refuse at once with a line naming the watching process. A watch started
+while a `build` of the output runs waits for that build to finish.
 """
 
 from __future__ import annotations
@@ -257,6 +263,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
 
     from .site.build import BuildOptions, build
     from .site.output_rule import check_output, named_faults
+    from .site.publish import lock_output
 
     root = Path(os.path.abspath(projects_dir))
     out = Path(os.path.abspath(out))
@@ -265,7 +272,12 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
     with named_faults(out):  # refused before serving or building (each build checks again)
         check_output(out, root)
 
-    server = make_server(out, port) if serve else None  # fail fast when the port is taken
+    lock = lock_output(out, "watch")  # refuses at once when another session watches *out*
+    try:
+        server = make_server(out, port) if serve else None  # fail fast when the port is taken
+    except BaseException:
+        lock.release()
+        raise
     observer = None
     server_thread = None
     old_handlers: dict[int, object] = {}
@@ -282,7 +294,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
 
         # First build.
         t0 = time.perf_counter()
-        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug))
+        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
         for line in problem_lines(report.problems):
             _say(line)
         if not quiet:
@@ -331,7 +343,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
                         break
                     wait = debouncer.due_in(now)
                     cond.wait(1.0 if wait is None else min(wait, 1.0))
-            _rebuild(batch, root, out, jobs, debug, quiet, build, BuildOptions)
+            _rebuild(batch, root, out, jobs, debug, quiet, build, BuildOptions, lock)
     except (KeyboardInterrupt, _Stop):
         if not quiet:
             _say("steadyline: stopped")
@@ -347,10 +359,11 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
             observer.join(timeout=5)
         for sig, h in old_handlers.items():
             signal.signal(sig, h)
+        lock.release()
 
 
 def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
-             build, BuildOptions) -> None:
+             build, BuildOptions, lock) -> None:
     slugs = changed_slugs(batch, root)
     if slugs is not None:
         slugs = known_slugs(slugs, root, out)
@@ -361,7 +374,7 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
         # A change to portfolio.toml rebuilds everything (force); otherwise the changed projects
         # are named, and any other project whose inputs changed is still caught by its hash.
         opts = BuildOptions(root, out, force=slugs is None, jobs=jobs, live=True, debug=debug,
-                            only=slugs)
+                            only=slugs, lock=lock)
         report = build(opts)
     except SteadylineError as e:
         _say(f"steadyline: {e}")

@@ -14,17 +14,28 @@
 
 Writing only into the staging folder is what keeps a half-written site from ever being
 published. When nothing changed at all, nothing is written (a site kept in a repository does
-not churn).
+not churn). The whole build runs under the output's lock (see ``publish.lock_output``): a
+second build of the same output waits, so that no build reads the manifest or links files of a
+site that another is about to replace, nor deletes another's staging folder.
+
+Worker processes die with the build that started them, even when it is killed outright
+(``PR_SET_PDEATHSIG`` on Linux, a watching thread elsewhere); an interrupted or terminated
+build stops its workers before it ends.
 """
 
 from __future__ import annotations
 
+import ctypes
+import ctypes.util
 import gc
 import hashlib
 import json
 import os
 import shutil
+import signal
+import sys
 import threading
+import time
 from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from multiprocessing import get_context
@@ -38,7 +49,16 @@ from .assets import asset_files, assets_key
 from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash
 from .index import index_files
 from .output_rule import MARKER, check_output, named_faults
-from .publish import clean_stale, link_tree, publish, staging_dir, syncfs, write_files
+from .publish import (
+    OutputLock,
+    clean_stale,
+    link_tree,
+    lock_output,
+    publish,
+    staging_dir,
+    syncfs,
+    write_files,
+)
 from .serialise import dumps_bytes
 from .templates import templates_fingerprint
 
@@ -56,6 +76,9 @@ class BuildOptions:
     progress: bool = False
     debug: bool = False
     only: set[str] | None = None  # watch mode: rebuild only these slugs (others reused)
+    # The output's lock when the caller holds it already (a watch session holds it from start
+    # to stop); None: the build takes it, waiting for another build of the same output.
+    lock: OutputLock | None = None
 
 
 @dataclass
@@ -127,10 +150,64 @@ def _tune_gc() -> None:
     gc.set_threshold(50_000, 20, 100)
 
 
+_PR_SET_PDEATHSIG = 1  # <linux/prctl.h>
+
+
+def _die_with_parent(parent: int) -> None:
+    """Make this worker end when *parent*, the build, ends, however it ends (kill -9 too): a
+    worker left behind would finish its project for a site nobody publishes and then wait for
+    tasks for ever. Linux: the kernel sends SIGKILL when the parent dies
+    (``prctl(PR_SET_PDEATHSIG)``); elsewhere a thread looks every half second."""
+    prctl = None
+    if sys.platform.startswith("linux"):
+        try:
+            libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
+            prctl = libc.prctl
+            prctl.argtypes = [ctypes.c_int, ctypes.c_ulong, ctypes.c_ulong, ctypes.c_ulong,
+                              ctypes.c_ulong]
+            prctl.restype = ctypes.c_int
+        except (OSError, AttributeError):
+            prctl = None
+    if prctl is None or prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0) != 0:
+        def orphaned() -> None:
+            while os.getppid() == parent:
+                time.sleep(0.5)
+            os._exit(1)
+
+        threading.Thread(target=orphaned, name="steadyline-orphan", daemon=True).start()
+    # The parent may have died before the line above: this process then belongs to another
+    # parent already, and no signal will come.
+    if os.getppid() != parent:
+        os._exit(1)
+
+
+def _worker_start(parent: int, then) -> None:
+    """Every pool worker's initializer. Ctrl-C in a terminal reaches the whole process group:
+    the workers leave it to the build, which stops them (no traceback from each worker)."""
+    _die_with_parent(parent)
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    if then is not None:
+        then()
+
+
 def _new_pool(jobs: int, initializer=None) -> ProcessPoolExecutor:
-    # spawn, not fork: a worker forked after the parent has used vl_convert hangs (STACK.md)
+    # spawn, not fork: a worker forked after the parent has used vl_convert hangs.
+    # The workers are started by the thread that submits the first tasks; Linux ties their
+    # lives to that thread, which waits for the pool to stop before it returns.
     return ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
-                               initializer=initializer)
+                               initializer=_worker_start, initargs=(os.getpid(), initializer))
+
+
+def _stop_pool(pool: ProcessPoolExecutor, abort: bool) -> None:
+    """Shut *pool* down. *abort* (the build failed, was interrupted or terminated): end the
+    workers now instead of waiting for the projects they are building."""
+    if abort:
+        for proc in list((getattr(pool, "_processes", None) or {}).values()):
+            try:
+                proc.terminate()
+            except (OSError, ValueError):
+                pass  # already gone
+    pool.shutdown(wait=True, cancel_futures=True)
 
 
 def _in_order(fn, tasks: list, jobs: int, pool: ProcessPoolExecutor | None = None):
@@ -144,8 +221,13 @@ def _in_order(fn, tasks: list, jobs: int, pool: ProcessPoolExecutor | None = Non
     if jobs <= 1 or len(tasks) <= 2:
         yield from map(fn, tasks)
         return
-    with _new_pool(jobs) as new:
+    new = _new_pool(jobs)
+    try:
         yield from new.map(fn, tasks, chunksize=1)
+    except BaseException:
+        _stop_pool(new, abort=True)
+        raise
+    _stop_pool(new, abort=False)
 
 
 def _worker_ready() -> None:
@@ -188,6 +270,11 @@ def index_page(entries: list[dict], settings: PortfolioSettings, live: bool) -> 
     return index_files(entries, settings, f"{LIVE_STATE} __index__" if live else None, today)
 
 
+class _Terminated(BaseException):
+    """SIGTERM during a build: unwinds it like Ctrl-C (staging folder removed, workers ended,
+    lock released), after which the process ends by the signal as it would have."""
+
+
 def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     """Build the site into ``opts.out``. The output is first checked against the output rule
     (``output_rule.check_output``: absent, empty, or a site of ours) before anything is
@@ -203,7 +290,39 @@ def build(opts: BuildOptions, progress_cb=None) -> BuildReport:
 def _build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     root = opts.projects_dir
     out = opts.out
+    if opts.lock is not None and not opts.lock.covers(out):
+        raise ValueError(f"{out}: the lock given is not this output's")
+
+    previous = None
+    if (threading.current_thread() is threading.main_thread()
+            and signal.getsignal(signal.SIGTERM) == signal.SIG_DFL):
+        # Nobody handles SIGTERM (a watch session does): unwind the build on it.
+        def _terminate(signum, frame):
+            raise _Terminated(signum)
+
+        previous = signal.signal(signal.SIGTERM, _terminate)
+    try:
+        lock = opts.lock or lock_output(out, "build")
+        try:
+            return _build_locked(opts, root, out, progress_cb)
+        finally:
+            if opts.lock is None:
+                lock.release()
+    except _Terminated:
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)
+        previous = None
+        os.kill(os.getpid(), signal.SIGTERM)
+        raise SystemExit(128 + signal.SIGTERM) from None  # if the signal is blocked
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> BuildReport:
     report = BuildReport()
+    # Folders of builds that were killed. Under the lock, so that no other build of this
+    # output is starting or publishing meanwhile.
+    clean_stale(out)
 
     # 1-2. settings and discovery
     settings, portfolio_problems = load_portfolio(root)
@@ -219,11 +338,15 @@ def _build(opts: BuildOptions, progress_cb=None) -> BuildReport:
     early_jobs = _jobs(opts.jobs, len(folders), BUILD_POOL_MIN)
     pool = _early_pool(early_jobs) if not old and early_jobs > 1 and len(folders) > 2 else None
     try:
-        return _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
+        done = _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
                               manifest, old, pool, progress_cb)
-    finally:
+    except BaseException:
         if pool is not None:
-            pool.shutdown(wait=True, cancel_futures=True)
+            _stop_pool(pool, abort=True)
+        raise
+    if pool is not None:
+        _stop_pool(pool, abort=False)
+    return done
 
 
 def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildReport,
@@ -252,7 +375,6 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
     reuse_assets = manifest.get("assets") == akey and old_assets.is_dir()
     staged = staging_dir(out)
     if todo:
-        clean_stale(out)
         staged.mkdir(parents=True)
     try:
         assets = _Assets(reuse_assets or not todo)  # the Vega bundle, made while workers run
@@ -307,7 +429,6 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
 
         # 6. stage
         if not todo:
-            clean_stale(out)
             staged.mkdir(parents=True)
         written: list[str] = [w for o in outcomes for w in o.written]
         if reuse_assets:
