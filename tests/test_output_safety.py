@@ -390,8 +390,9 @@ def test_a_fault_is_one_line_and_the_published_site_stays(published, name, err, 
     if where == "open":
         monkeypatch.setattr(publish, "open", _fail_writes(err), raising=False)
     elif where == "write":
-        monkeypatch.setattr(publish, "open", lambda path, mode="r", *a, **k: _FailingFile(err),
-                            raising=False)
+        def fail_writing(path, mode="r", *a, **k):  # reading (e.g. /proc) goes on as usual
+            return _FailingFile(err) if "w" in mode else open(path, mode, *a, **k)
+        monkeypatch.setattr(publish, "open", fail_writing, raising=False)
     elif where == "mkdir":
         real_mkdir = os.mkdir
 
@@ -447,7 +448,13 @@ def test_a_fault_during_watch_is_named_and_watching_goes_on(published, monkeypat
     before = snapshot(out)
     monkeypatch.setattr(publish, "open", _fail_writes(errno.ENOSPC), raising=False)
     batch = {str(projects / SLUG / "project.toml")}
-    watch_module._rebuild(batch, projects, out, 1, False, True, build, BuildOptions)
+    from steadyline.site.publish import lock_output
+
+    lock = lock_output(out, "watch")  # a watch session holds its output's lock
+    try:
+        watch_module._rebuild(batch, projects, out, 1, False, True, build, BuildOptions, lock)
+    finally:
+        lock.release()
     lines = capsys.readouterr().err.splitlines()
     assert len(lines) == 1 and lines[0].startswith(f"steadyline: {out}: not published: disk "
                                                    "full at "), lines
@@ -532,10 +539,13 @@ print((s.f_blocks - s.f_bfree) * s.f_frsize * 3 // 2 // 1024)")
     for name, cause in [("full", "disk full"), ("ro", "read-only file system")]:
         rc, lines = result(name)
         assert rc == 2 and len(lines) == 1, (name, lines)
+        # where the disk refused: the staging folder, or (read-only) already the lock file
+        # beside the output, which a build makes first
         assert lines[0].startswith(f"steadyline: {disk}/site: not published: {cause} at "
-                                   f"{disk}/.site.staging-"), lines[0]
+                                   f"{disk}/.site."), lines[0]
         assert json.loads((res / f"{name}.json").read_text("utf-8")) == before, name
-        assert (res / f"{name}.ls").read_text().split() == ["site"], name
+        # the site and the lock file beside it (never deleted): no staging folder left
+        assert (res / f"{name}.ls").read_text().split() == [".site.lock", "site"], name
     rc, lines = result("mnt")
     assert rc == 2 and len(lines) == 1 and "refused as output: it is a mount point" in lines[0]
     assert (json.loads((res / "mnt.json").read_text("utf-8"))
@@ -620,7 +630,7 @@ def test_the_readme_fault_table_and_example_are_what_the_command_prints(tmp_path
     assert code == 2 and len(got) == 1
 
     def general(line: str) -> str:
-        return re.sub(r"\.site\.staging-\d+/[^;]*", ".site.staging-PID/FILE", line)
+        return re.sub(r"\.site\.staging-\d+(-\d+)?/[^;]*", ".site.staging-PID/FILE", line)
 
     assert general(got[0]) == general(example[0])
 
