@@ -241,3 +241,19 @@ def _card(index: str, slug: str) -> str:
     start = index.index(f'data-slug="{slug}"', start)
     start = index.rindex("<li", 0, start)
     return index[start:index.index("</li>", start)]
+
+
+def test_the_partial_read_reads_only_what_the_project_may(tmp_path):
+    """The title is never read from a project.toml that leads outside the project folder (a
+    link), nor from a file that is not UTF-8 TOML; a wrong phase is no phase."""
+    from steadyline.config import read_heading
+
+    root = tmp_path / "projects"
+    write(root, {"q/project.toml": 'title = "Mine"\nphase = "improv"\nowner = 3\n',
+                 "r/data.csv": "x\n", "s/project.toml": b'title = "\xff"\n'})
+    (tmp_path / "outside.toml").write_text('title = "Outside"\nphase = "control"\n', "utf-8")
+    (root / "r" / "project.toml").symlink_to(tmp_path / "outside.toml")
+    assert read_heading(root / "q", root) == {"title": "Mine"}
+    assert read_heading(root / "r", root) == {}
+    assert read_heading(root / "s", root) == {}
+    assert read_heading(root / "none", root) == {}
