@@ -486,8 +486,7 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
     if head is None:
         n = next(s["problem_count"] for s in sections if s["id"] == spec.headline.id)
         headline = {"name": spec.headline.name, "spark": "", "spark_split": "",
-                    "text": f"Not built: {n} problem{'' if n == 1 else 's'} in its data; "
-                            "see what to fix on the project page."}
+                    "text": f"Not built: {n} problem{'' if n == 1 else 's'} in its data."}
     else:
         headline = {"name": head.spec.name, "text": headline_text(head), "spark": "",
                     "spark_split": ""}
