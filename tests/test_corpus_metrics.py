@@ -172,6 +172,7 @@ def test_a_broken_headline_metric_is_said_plainly(site, built):
     assert 'data-status="not-built"' in card and "card-broken" not in card
     assert "the headline metric could not be built" in card
     assert '<p class="headline-change">Not built: 1 problem in its data.</p>' in card
+    assert 'class="broken-lead"' not in card  # said once, by the status and the headline
     assert 'href="projects/h/index.html#metric-second"' in card  # what to fix
     row = next(r for r in csv.DictReader((out / "headline-figures.csv").open(encoding="utf-8"))
                if r["project"] == "h")
