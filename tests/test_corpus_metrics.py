@@ -258,3 +258,31 @@ def test_the_partial_read_reads_only_what_the_project_may(tmp_path):
     assert read_heading(root / "r", root) == {}
     assert read_heading(root / "s", root) == {}
     assert read_heading(root / "none", root) == {}
+
+
+def test_a_bug_met_in_one_metric_costs_that_metric_alone(tmp_path, capsys, monkeypatch):
+    """An exception of ours while analysing one metric is reported as an internal error of
+    that metric (by `check` and `build` alike), and the project's other metrics publish."""
+    from steadyline.site import project
+
+    real = project.analyse
+
+    def failing(data):
+        if data.spec.id == "second":
+            raise ZeroDivisionError("float division by zero")
+        return real(data)
+
+    monkeypatch.setattr(project, "analyse", failing)
+    root = write(tmp_path / "projects", two_metrics())
+    assert main(["check", "--quiet", str(root)]) == 1
+    checked = capsys.readouterr().out.splitlines()
+    out = tmp_path / "site"
+    assert main(["build", "--quiet", "--jobs", "1", str(root), "--out", str(out)]) == 1
+    built = capsys.readouterr().err.splitlines()
+    assert built == checked == [
+        "p/second.csv: metric 'second': internal error while building this metric "
+        "(ZeroDivisionError: float division by zero); please report it (run with --debug for "
+        "the traceback)"]
+    page = _page(out, "p")
+    assert 'data-display="control"' in page and "metric-broken" in page
+    assert "ZeroDivisionError" in page

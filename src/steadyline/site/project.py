@@ -77,7 +77,7 @@ def build_project(folder: Path, root: Path, settings: PortfolioSettings,
     spec = None
     try:
         spec, warnings = load_project(folder, root, settings)
-        return _build_ok(spec, warnings, root, settings, live, dates)
+        return _build_ok(spec, warnings, root, settings, live, dates, debug)
     except ProjectError as e:
         return error_outcome(slug, e.problems, settings, live, _heading(spec, folder, root))
     except Exception:  # a bug of ours: still publish the rest of the site
@@ -330,11 +330,15 @@ def provenance(spec: ProjectSpec, root: Path,
 
 
 def _internal_error(folder: Path, root: Path, debug: bool) -> Problem:
+    return Problem(rel(folder, root), None, "", _internal_message("project", debug))
+
+
+def _internal_message(what: str, debug: bool) -> str:
+    """The exception being handled, in words (with its traceback when *debug*)."""
     e = sys.exc_info()[1]
     detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
-    return Problem(rel(folder, root), None, "", "internal error while building this "
-                   f"project ({detail.strip()}); please report it (run with --debug for "
-                   "the traceback)")
+    return (f"internal error while building this {what} ({detail.strip()}); please report it "
+            "(run with --debug for the traceback)")
 
 
 def check_project(folder: Path, root: Path, settings: PortfolioSettings,
@@ -343,7 +347,7 @@ def check_project(folder: Path, root: Path, settings: PortfolioSettings,
     analysing its data without drawing or writing anything. Never raises for bad input."""
     try:
         spec, warnings = load_project(folder, root, settings)
-        loaded, problems = _load_and_analyse(spec, warnings, settings)
+        loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
         analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
         return problems + _not_built_problems(loaded) + _stats_notes(analyses)
     except ProjectError as e:
@@ -352,22 +356,29 @@ def check_project(folder: Path, root: Path, settings: PortfolioSettings,
         return [_internal_error(folder, root, debug)]
 
 
-def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings
+def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings,
+                      debug: bool = False
                       ) -> tuple[list[MetricAnalysis | NotBuilt], list[Problem]]:
     """Every metric read and analysed on its own, in the metadata's order: its analysis, or
     :class:`NotBuilt` with its problems when its data have errors; and the warnings of the
     metadata and of the metrics analysed. ProjectError with every problem when no metric can
-    be read (then there is nothing to publish but the problems)."""
+    be read (then there is nothing to publish but the problems). A bug of ours met while
+    reading or analysing a metric costs that metric alone, reported as an internal error."""
     problems: list[Problem] = list(warnings)
     loaded: list[MetricAnalysis | NotBuilt] = []
     for m in spec.metrics:
         try:
             data = load_metric(m, settings)
+            analysis = analyse(data)
         except ProjectError as e:  # costs this metric only
             loaded.append(NotBuilt(m, tuple(e.problems)))
             continue
+        except Exception:  # a bug of ours: this metric only, said as such
+            loaded.append(NotBuilt(m, (Problem(m.file_rel, None, f"metric '{m.id}'",
+                                               _internal_message("metric", debug)),)))
+            continue
         problems.extend(data.problems)
-        loaded.append(analyse(data))
+        loaded.append(analysis)
     if all(isinstance(x, NotBuilt) for x in loaded):
         raise ProjectError(_not_built_problems(loaded) + problems)
     return loaded, problems
@@ -385,9 +396,9 @@ def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
 
 def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
               settings: PortfolioSettings, live: str | None,
-              dates: dict[Path, str] | None = None) -> ProjectOutcome:
+              dates: dict[Path, str] | None = None, debug: bool = False) -> ProjectOutcome:
     files: dict[str, bytes] = {}
-    loaded, problems = _load_and_analyse(spec, warnings, settings)
+    loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
     analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
     not_built = [b for b in loaded if isinstance(b, NotBuilt)]
     sections, results = [], []
