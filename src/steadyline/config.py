@@ -711,8 +711,8 @@ def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
                 or not files.inside(meta, folder) or _fault(meta) is not None):
             return {}
         data, _text, _problems = _read_toml(meta, root)
-    except (OSError, ValueError):
-        return {}
+    except Exception:  # best effort, called while reporting another error: never worse than
+        return {}      # the folder's name
     out: dict[str, str] = {}
     if data is None:
         return out

@@ -493,7 +493,6 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
     """The project's card on the index. *analyses*: the metrics built; a headline metric not
     among them (its data have errors) is named on the card as not built."""
     head = next((a for a in analyses if a.spec.id == spec.headline.id), None)
-    headline = None
     if head is None:
         n = next(s["problem_count"] for s in sections if s["id"] == spec.headline.id)
         headline = {"name": spec.headline.name, "spark": "", "spark_split": "",
