@@ -711,8 +711,8 @@ def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
                 or not files.inside(meta, folder) or _fault(meta) is not None):
             return {}
         data, _text, _problems = _read_toml(meta, root)
-    except Exception:  # best effort, called while reporting another error: never worse than
-        return {}      # the folder's name
+    except Exception:  # best effort while another error is reported: the folder's name then
+        return {}
     out: dict[str, str] = {}
     if data is None:
         return out
