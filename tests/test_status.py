@@ -94,6 +94,20 @@ def test_staleness_is_judged_on_the_index_against_the_build_date():
     assert on_index(v, "", today, 90) is v  # no data: nothing to be stale
 
 
+def test_a_headline_metric_not_built_is_not_built_whatever_else_holds():
+    v = judge(facts(built=False, problem_count=2))  # the other facts are never looked at
+    assert v.status is Status.NOT_BUILT
+    assert v.note == ("the headline metric could not be built: 2 problems in its data; the other "
+                      "metrics are published")
+    assert v.reason == "Lead time: " + v.note
+    assert judge(facts(built=False, problem_count=1)).note.startswith(
+        "the headline metric could not be built: 1 problem in its data")
+    # what to fix comes first: never turned into "data stale"
+    assert on_index(v, "2026-01-01", dt.date(2026, 11, 23), 90) is v
+    assert st.look_at(Status.NOT_BUILT, "m", False) == ("what to fix", "index.html#metric-m")
+    assert st.look_at(Status.NOT_BUILT, "", False) == ("what to fix", "index.html")
+
+
 def test_build_date_honours_source_date_epoch():
     assert st.build_date({"SOURCE_DATE_EPOCH": "1795392000"}) == dt.date(2026, 11, 23)
     assert st.build_date({"SOURCE_DATE_EPOCH": "0"}) == dt.date(1970, 1, 1)

@@ -698,6 +698,33 @@ def load_project(folder: Path, root: Path | None = None,
     return project, [p for p in ck.problems if p.severity != "error"]
 
 
+def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
+    """What names a project whose metadata has errors: its ``title`` and ``phase``, when the
+    TOML can be parsed and they are valid (a partial read), so that its notice page and index
+    card name it as its owners do and count it in its phase. Reads only what
+    :func:`load_project` would (a regular project.toml inside the project folder, inside the
+    projects folder); an empty dict when there is nothing usable. Never raises."""
+    root = root or folder.parent
+    meta = folder / PROJECT_FILE
+    try:
+        if (not files.inside(folder, root) or not files.exists(meta)
+                or not files.inside(meta, folder) or _fault(meta) is not None):
+            return {}
+        data, _text, _problems = _read_toml(meta, root)
+    except Exception:  # best effort while another error is reported: the folder's name then
+        return {}
+    out: dict[str, str] = {}
+    if data is None:
+        return out
+    title = data.get("title")
+    if isinstance(title, str) and title.strip():
+        out["title"] = title.strip()
+    phase = data.get("phase")
+    if isinstance(phase, str) and phase in PHASES:
+        out["phase"] = phase
+    return out
+
+
 def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: PortfolioSettings,
             comp_baseline: Period | None, comp_after: Period | None) -> MetricSpec | None:
     prefix = f"metric[{i + 1}]."

@@ -5,6 +5,7 @@ index's CSV download and the README. The judgement is a pure function of a few f
 project's **headline metric** (the metric its index card shows), so that the card's status and
 its headline change always speak of the same figures:
 
+0. the headline metric could not be built (its data file has errors) -> not built
 1. no after period with data                                        -> baseline only
 2. no before-and-after test (a categories metric, a comparison that
    failed, or a test that had nothing to test with different values) -> not judged
@@ -69,7 +70,8 @@ LABELS = {
 
 # What each status means, once, for the index's legend and the README.
 MEANINGS = {
-    Status.NOT_BUILT: "the project's files have errors, so nothing was computed",
+    Status.NOT_BUILT: "the project's files have errors, or its headline metric's data do, so "
+                      "there is nothing to judge it by",
     Status.WORSE: "the headline metric moved in the worse direction, unlikely to be chance",
     Status.STALE: "no data for longer than the portfolio's stale_after_days before the build",
     Status.NOT_STABLE: "better, unlikely to be chance, but the after phase is not (yet) shown "
@@ -98,6 +100,8 @@ class HeadlineFacts:
     metric_id: str
     metric_name: str
     has_after: bool  # the after period has data
+    built: bool = True  # False: the metric's data have errors, nothing was computed
+    problem_count: int = 0  # its errors, when not built
     categories: bool = False  # a categories metric: Pareto by phase, no test
     compared: bool = False  # a before-and-after comparison was made
     failure: str = ""  # why not, when it was tried and failed
@@ -132,6 +136,11 @@ def _change_words(f: HeadlineFacts) -> str:
 
 def judge(f: HeadlineFacts) -> Verdict:
     """The status of a project from its headline metric (rules in the module docstring)."""
+    if not f.built:
+        n = f.problem_count
+        note = (f"the headline metric could not be built: {n} problem{'' if n == 1 else 's'} "
+                "in its data; the other metrics are published")
+        return Verdict(Status.NOT_BUILT, f"{f.metric_name}: {note}", note)
     if not f.has_after:
         return Verdict(Status.BASELINE_ONLY, f"{f.metric_name}: no after period with data yet")
     if f.categories:
@@ -183,8 +192,8 @@ def look_at(status: Status, metric_id: str, staged_chart: bool) -> tuple[str, st
         return "the before-and-after comparison", history
     if status is Status.STALE:
         return "where the data come from", "index.html#prov-h"
-    if status is Status.NOT_BUILT:
-        return "what to fix", "index.html"
+    if status is Status.NOT_BUILT:  # the whole project, or its headline metric's section
+        return "what to fix", f"index.html#metric-{metric_id}" if metric_id else "index.html"
     return "the baseline's charts", f"index.html#metric-{metric_id}"
 
 
@@ -217,6 +226,8 @@ def on_index(verdict: Verdict, data_to: str, today: dt.date,
              stale_after_days: int = STALE_AFTER_DAYS) -> Verdict:
     """The status the index shows: *verdict*, unless the data are stale on *today*, in which
     case "data stale", with what the last data showed."""
+    if verdict.status is Status.NOT_BUILT:  # what to fix comes first, however old the data
+        return verdict
     days = days_without_data(data_to, today)
     if days is None or days <= stale_after_days:
         return verdict

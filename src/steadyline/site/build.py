@@ -400,7 +400,7 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
             entries[f.name] = prev["entry"]
             files_of[f.name] = prev["files"]
             report.reused.append(f.name)
-            if prev["entry"].get("broken"):
+            if prev["entry"].get("broken") or prev["entry"].get("metrics_not_built"):
                 report.broken.append(f.name)
                 report.problems.extend(Problem(**p) for p in prev.get("problems", []))
 

@@ -55,8 +55,10 @@ def _view(e: dict, today: dt.date, stale_after_days: int) -> dict:
         look, href = look_at(shown.status, "", False)
     else:
         look, href = look_at(shown.status, e["status"]["metric"], e["status"]["staged_chart"])
-    # a broken project's entry has none of a built one's figures
-    return {"headline": None, "data_to": "", "phase_label": "", "has_history": False} | e | {
+    # a broken project's entry has none of a built one's figures; only a project with a
+    # metric not built has metrics_not_built
+    return {"headline": None, "data_to": "", "phase_label": "", "has_history": False,
+            "metrics_not_built": []} | e | {
         "result_status": str(result.status), "status_code": str(shown.status),
         "status_label": shown.status.label, "status_reason": shown.reason,
         "status_note": shown.note, "look_text": look,
@@ -103,9 +105,11 @@ def index_files(entries: list[dict], settings: PortfolioSettings, live: str | No
     views.sort(key=lambda v: v["order"]["status"])  # the page's own order, without a script
     ok = [v for v in views if not v["broken"]]
     ctx = page_context("", settings, live)
-    by_phase = [(p, n) for p in PHASES if (n := sum(v["phase"] == p for v in ok))]
+    # every project in its phase, a broken one too when its phase could be read
+    by_phase = [(p, n) for p in PHASES if (n := sum(v["phase"] == p for v in views))]
     by_status = [(s, n) for s in Status if (n := sum(v["status_code"] == s for v in views))]
     html = render("index.html", projects=views, broken=len(views) - len(ok),
+                  partly=sum(bool(v["metrics_not_built"]) for v in ok),
                   phases=[p for p, _ in by_phase], by_phase=by_phase,
                   statuses=[{"code": str(s), "label": LABELS[s], "meaning": MEANINGS[s],
                              "count": n} for s, n in by_status],

@@ -2,13 +2,16 @@
 
 :func:`build_project` gathers and computes everything for a project before any byte is written,
 and returns the files as a name -> bytes mapping plus the entry the index page needs. A project
-whose files have errors returns an error page instead; the rest of the site is unaffected.
+whose metadata has errors, or none of whose metrics can be read, returns an error page instead;
+a metric whose data have errors costs only that metric (its problems are shown in its place, the
+other metrics are published). The rest of the site is unaffected either way.
 """
 
 from __future__ import annotations
 
 import sys
 import traceback
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -26,7 +29,14 @@ from ..charts import (
 )
 from ..charts.base import fmt as chart_fmt
 from ..charts.categorical import MAX_BARS, gathered
-from ..config import PHASES, PortfolioSettings, ProjectSpec, load_project
+from ..config import (
+    PHASES,
+    MetricSpec,
+    PortfolioSettings,
+    ProjectSpec,
+    load_project,
+    read_heading,
+)
 from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
@@ -73,24 +83,66 @@ def build_project(folder: Path, root: Path, settings: PortfolioSettings,
     commit dates of the project's files when the build looked them up for the whole
     portfolio at once (else they are looked up for this project)."""
     slug = folder.name
+    spec = None
     try:
         spec, warnings = load_project(folder, root, settings)
-        return _build_ok(spec, warnings, root, settings, live, dates)
+        return _build_ok(spec, warnings, root, settings, live, dates, debug)
     except ProjectError as e:
-        return error_outcome(slug, e.problems, settings, live)
+        return error_outcome(slug, e.problems, settings, live, _heading(spec, folder, root))
     except Exception:  # a bug of ours: still publish the rest of the site
-        return error_outcome(slug, [_internal_error(folder, root, debug)], settings, live)
+        problem = _internal_error(folder, root, debug)
+        return error_outcome(slug, [problem], settings, live, _heading(spec, folder, root))
+
+
+def _heading(spec: ProjectSpec | None, folder: Path, root: Path) -> dict[str, str]:
+    """The title and phase of a project that is not built: from its metadata when they were
+    read, else whatever of them a partial read of project.toml finds."""
+    if spec is not None:
+        return {"title": spec.title, "phase": spec.phase}
+    return read_heading(folder, root)
 
 
 def error_outcome(slug: str, problems: list[Problem], settings: PortfolioSettings,
-                  live: str | None) -> ProjectOutcome:
+                  live: str | None, heading: dict[str, str] | None = None) -> ProjectOutcome:
+    """The notice page of a project that is not built. *heading*: its title and phase when
+    they could be read (else the folder's name stands for the title, and no phase)."""
+    heading = heading or {}
+    title = heading.get("title") or slug
+    phase = heading.get("phase", "")
     ctx = page_context("../../", settings, live and f"../../{live} {slug}")
-    html = render("error.html", slug=slug, title=f"{slug}: not built", problems=[
+    html = render("error.html", slug=slug, title=title, problems=[
         {"severity": p.severity, "text": p.format()} for p in problems], **ctx)
-    entry = {"slug": slug, "title": slug, "broken": True, "href": f"projects/{slug}/index.html",
-             "problem_count": sum(p.severity == "error" for p in problems), "phase": "",
-             "owner": "", "tags": [], "search_text": slug}
+    entry = {"slug": slug, "title": title, "broken": True, "href": f"projects/{slug}/index.html",
+             "problem_count": sum(p.severity == "error" for p in problems), "phase": phase,
+             "phase_label": PHASE_LABEL.get(phase, ""), "owner": "", "tags": [],
+             "search_text": slug if title == slug else f"{title} {slug}"}
     return ProjectOutcome(slug, False, {"index.html": html.encode()}, entry, problems)
+
+
+@dataclass(frozen=True)
+class NotBuilt:
+    """A metric whose data have errors: nothing is computed for it, and its problems (errors
+    and warnings of its file, sorted as printed) are shown in its place."""
+
+    spec: MetricSpec
+    problems: tuple[Problem, ...]
+
+    @property
+    def errors(self) -> int:
+        return sum(p.severity == "error" for p in self.problems)
+
+
+def not_built_section(b: NotBuilt) -> tuple[dict, dict]:
+    """The page section and the results.json entry of a metric that could not be built."""
+    m = b.spec
+    lines = [p.format() for p in b.problems]
+    section = {"id": m.id, "name": m.name, "unit": m.unit, "broken": True,
+               "problem_count": b.errors, "open_signals": 0, "baseline_signals": 0,
+               "displays": [], "problems": [{"severity": p.severity, "text": line}
+                                            for p, line in zip(b.problems, lines, strict=True)]}
+    result = {"id": m.id, "name": m.name, "unit": m.unit, "type": m.type, "better": m.better,
+              "file": m.file_rel, "not_built": True, "problems": lines}
+    return section, result
 
 
 def periods_text(a: MetricAnalysis) -> str:
@@ -223,7 +275,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     result["warnings"] = warnings
     result["failures"] = [{"display": disp, "message": msg} for disp, msg in a.failures]
     section = {
-        "id": m.id, "name": m.name, "unit": unit,
+        "id": m.id, "name": m.name, "unit": unit, "broken": False,
         "data_text": f"{DATA_TEXT[m.type]} from {Path(m.file_rel).name} "
                      f"({a.data.raw_rows} rows{_rollup_text(m)})",
         "choice": a.choice.reason if a.choice else "",
@@ -309,11 +361,15 @@ def provenance(spec: ProjectSpec, root: Path,
 
 
 def _internal_error(folder: Path, root: Path, debug: bool) -> Problem:
+    return Problem(rel(folder, root), None, "", _internal_message("project", debug))
+
+
+def _internal_message(what: str, debug: bool) -> str:
+    """The exception being handled, in words (with its traceback when *debug*)."""
     e = sys.exc_info()[1]
     detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
-    return Problem(rel(folder, root), None, "", "internal error while building this "
-                   f"project ({detail.strip()}); please report it (run with --debug for "
-                   "the traceback)")
+    return (f"internal error while building this {what} ({detail.strip()}); please report it "
+            "(run with --debug for the traceback)")
 
 
 def check_project(folder: Path, root: Path, settings: PortfolioSettings,
@@ -322,32 +378,45 @@ def check_project(folder: Path, root: Path, settings: PortfolioSettings,
     analysing its data without drawing or writing anything. Never raises for bad input."""
     try:
         spec, warnings = load_project(folder, root, settings)
-        analyses, problems = _load_and_analyse(spec, warnings, settings)
-        return problems + _stats_notes(analyses)
+        loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
+        analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
+        return problems + _not_built_problems(loaded) + _stats_notes(analyses)
     except ProjectError as e:
         return list(e.problems)
     except Exception:  # a bug of ours: reported like any problem
         return [_internal_error(folder, root, debug)]
 
 
-def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings
-                      ) -> tuple[list[MetricAnalysis], list[Problem]]:
-    """Every metric read and analysed, with the warnings so far; ProjectError with the errors
-    first when any metric cannot be read."""
+def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings,
+                      debug: bool = False
+                      ) -> tuple[list[MetricAnalysis | NotBuilt], list[Problem]]:
+    """Every metric read and analysed on its own, in the metadata's order: its analysis, or
+    :class:`NotBuilt` with its problems when its data have errors; and the warnings of the
+    metadata and of the metrics analysed. ProjectError with every problem when no metric can
+    be read (then there is nothing to publish but the problems). A bug of ours met while
+    reading or analysing a metric costs that metric alone, reported as an internal error."""
     problems: list[Problem] = list(warnings)
-    analyses: list[MetricAnalysis] = []
-    errors: list[Problem] = []
+    loaded: list[MetricAnalysis | NotBuilt] = []
     for m in spec.metrics:
         try:
             data = load_metric(m, settings)
-        except ProjectError as e:
-            errors.extend(e.problems)
+            analysis = analyse(data)
+        except ProjectError as e:  # costs this metric only
+            loaded.append(NotBuilt(m, tuple(e.problems)))
+            continue
+        except Exception:  # a bug of ours: this metric only, said as such
+            loaded.append(NotBuilt(m, (Problem(m.file_rel, None, f"metric '{m.id}'",
+                                               _internal_message("metric", debug)),)))
             continue
         problems.extend(data.problems)
-        analyses.append(analyse(data))
-    if errors:
-        raise ProjectError(errors + problems)
-    return analyses, problems
+        loaded.append(analysis)
+    if all(isinstance(x, NotBuilt) for x in loaded):
+        raise ProjectError(_not_built_problems(loaded) + problems)
+    return loaded, problems
+
+
+def _not_built_problems(loaded: list[MetricAnalysis | NotBuilt]) -> list[Problem]:
+    return [p for x in loaded if isinstance(x, NotBuilt) for p in x.problems]
 
 
 def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
@@ -358,16 +427,24 @@ def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
 
 def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
               settings: PortfolioSettings, live: str | None,
-              dates: dict[Path, str] | None = None) -> ProjectOutcome:
+              dates: dict[Path, str] | None = None, debug: bool = False) -> ProjectOutcome:
     files: dict[str, bytes] = {}
-    analyses, problems = _load_and_analyse(spec, warnings, settings)
+    loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
+    analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
+    not_built = [b for b in loaded if isinstance(b, NotBuilt)]
     sections, results = [], []
     has_history = any(a.has_after or a.phase_paretos for a in analyses)
     history_sections, history_results = [], []
     # Each metric's history section is made right after its project section: the history
     # page's charts share work with the project page's (see charts.series), and only one
-    # metric's worth of it is held at a time.
-    for a in analyses:
+    # metric's worth of it is held at a time. A metric that could not be built keeps its
+    # place on the project page and in results.json, and is left out of the history page.
+    for a in loaded:
+        if isinstance(a, NotBuilt):
+            section, result = not_built_section(a)
+            sections.append(section)
+            results.append(result)
+            continue
         mp = [p for p in problems if p.path == a.spec.file_rel]
         sctx = series_context(a, spec) if a.data.kind != "categories" else None
         section, result = metric_section(a, spec, files, mp, sctx)
@@ -387,6 +464,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     project_ctx = project_view(spec)
     fresh = data_to(analyses)  # a sponsor spots a stale project
     project_ctx["data_to"] = fresh
+    project_ctx["not_built"] = [b.spec.name for b in not_built]  # named on the history page
     page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
     html = render("project.html", project=project_ctx, metrics=sections, notes_html=notes_html,
                   provenance=prov, warnings=page_warnings, has_history=has_history, **ctx)
@@ -395,8 +473,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     if has_history:
         files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
-    # every metric was read (a project with a metric that cannot be read is not built)
-    head = next(a for a in analyses if a.spec.id == spec.headline.id)
+    head = next(a for a in loaded if a.spec.id == spec.headline.id)
     verdict = judge(headline_facts(head))
     doc = {
         "schema": RESULTS_SCHEMA, "tool_version": __version__,
@@ -416,9 +493,15 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
     entry["status"] = verdict.as_json() | {
         "metric": spec.headline.id,
-        "staged_chart": head.control is not None and has_history}
+        "staged_chart": isinstance(head, MetricAnalysis) and head.control is not None
+        and has_history}
     entry["figures"] = headline_figures(head)
-    return ProjectOutcome(spec.slug, True, files, entry, problems + _stats_notes(analyses))
+    if not_built:  # the key only when there are any: a healthy project's entry is unchanged
+        entry["metrics_not_built"] = [{"id": b.spec.id, "name": b.spec.name,
+                                       "problem_count": b.errors} for b in not_built]
+        entry["problem_count"] = sum(b.errors for b in not_built)
+    return ProjectOutcome(spec.slug, not not_built, files, entry,
+                          problems + _not_built_problems(loaded) + _stats_notes(analyses))
 
 
 def project_view(spec: ProjectSpec) -> dict:
@@ -438,9 +521,14 @@ def data_to(analyses: list[MetricAnalysis]) -> str:
 
 def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: list[dict],
                 problems: list[Problem], has_history: bool, fresh: str = "") -> dict:
+    """The project's card on the index. *analyses*: the metrics built; a headline metric not
+    among them (its data have errors) is named on the card as not built."""
     head = next((a for a in analyses if a.spec.id == spec.headline.id), None)
-    headline = None
-    if head is not None:
+    if head is None:
+        n = next(s["problem_count"] for s in sections if s["id"] == spec.headline.id)
+        headline = {"name": spec.headline.name, "spark": "", "spark_split": "",
+                    "text": f"Not built: {n} problem{'' if n == 1 else 's'} in its data."}
+    else:
         headline = {"name": head.spec.name, "text": headline_text(head), "spark": "",
                     "spark_split": ""}
         if head.data.kind != "categories":
@@ -462,8 +550,11 @@ def index_entry(spec: ProjectSpec, analyses: list[MetricAnalysis], sections: lis
             "after_signals": sum(len(a.after_signals) for a in analyses)}
 
 
-def headline_facts(a: MetricAnalysis) -> HeadlineFacts:
+def headline_facts(a: MetricAnalysis | NotBuilt) -> HeadlineFacts:
     """What the project's status is judged from (see steadyline.status)."""
+    if isinstance(a, NotBuilt):
+        return HeadlineFacts(metric_id=a.spec.id, metric_name=a.spec.name, has_after=False,
+                             built=False, problem_count=a.errors)
     c = a.comparison
     facts = {"metric_id": a.spec.id, "metric_name": a.spec.name, "has_after": a.has_after,
              "categories": a.data.kind == "categories", "control": a.control is not None,
@@ -483,17 +574,20 @@ def headline_facts(a: MetricAnalysis) -> HeadlineFacts:
     return HeadlineFacts(**facts)
 
 
-def headline_figures(a: MetricAnalysis) -> dict[str, str]:
+def headline_figures(a: MetricAnalysis | NotBuilt) -> dict[str, str]:
     """The headline metric's figures as CSV cells (for the index's download): the measure
     compared, its baseline and after values, the change. Without an after period, the
-    baseline's figure the card shows. Numbers rounded as in results.json."""
-    c = a.comparison
+    baseline's figure the card shows. Numbers rounded as in results.json. A metric not built
+    has its name and unit only."""
 
     def num(v) -> str:
         return "" if v is None else safe_cell(rounded_number(float(v)))
 
     out = {"metric": csv_text(a.spec.name), "unit": csv_text(a.spec.unit), "measure": "",
            "baseline": "", "after": "", "change": "", "percent_change": ""}
+    if isinstance(a, NotBuilt):
+        return out
+    c = a.comparison
     if c is not None:
         out |= {"measure": c.measure, "baseline": num(c.baseline), "after": num(c.after),
                 "change": num(c.change), "percent_change": num(c.percent_change)}
@@ -559,4 +653,5 @@ def sparkline(a: MetricAnalysis) -> tuple[str, str]:
     return pts, split
 
 
-__all__ = ["ProjectOutcome", "build_project", "error_outcome", "input_hash", "STAGE_BASELINE"]
+__all__ = ["NotBuilt", "ProjectOutcome", "build_project", "error_outcome", "input_hash",
+           "STAGE_BASELINE"]
