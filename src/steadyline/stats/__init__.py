@@ -27,6 +27,7 @@ from .control import (
     xbar_r,
     xbar_s,
 )
+from .gauge import gauge_study
 from .distribution import (
     QUARTILE_METHODS,
     anderson_darling,
@@ -56,7 +57,7 @@ __all__ = [
     "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
     "c4", "c_chart", "capability", "choose_chart", "compare", "d2", "d3", "detect_signals",
-    "factor_table", "factors", "format_p_value", "histogram", "individuals", "laney_p",
+    "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
     "laney_u", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
     "perla_runs_limits", "shift_against", "u_chart", "xbar_r", "xbar_s",
 ]
