@@ -177,14 +177,17 @@ def test_verdict_bands():
         "inadequate"]
 
 
+def without_cell(values, parts, appraisers, part, appraiser):
+    keep = [i for i, key in enumerate(zip(parts, appraisers, strict=True))
+            if key != (part, appraiser)]
+    return ([values[i] for i in keep], [parts[i] for i in keep], [appraisers[i] for i in keep])
+
+
 @pytest.mark.parametrize(
     ("edit", "message"),
     [
         (lambda v, p, a: (v[:-1], p[:-1], a[:-1]), "same number of trials"),
-        (lambda v, p, a: ([x for x, q, b in zip(v, p, a) if (q, b) != ("p1", "o1")],
-                          [q for q, b in zip(p, a) if (q, b) != ("p1", "o1")],
-                          [b for q, b in zip(p, a) if (q, b) != ("p1", "o1")]),
-         "no measurement by appraiser"),
+        (lambda v, p, a: without_cell(v, p, a, "p1", "o1"), "no measurement by appraiser"),
         (lambda v, p, a: (v[:1] + [float("nan")] + v[2:], p, a), "missing"),
         (lambda v, p, a: (v, p, ["o0"] * len(a)), "at least two appraisers"),
         (lambda v, p, a: (v, ["p0"] * len(p), a), "at least two parts"),

@@ -27,7 +27,6 @@ from .control import (
     xbar_r,
     xbar_s,
 )
-from .gauge import gauge_study
 from .distribution import (
     QUARTILE_METHODS,
     anderson_darling,
@@ -35,6 +34,8 @@ from .distribution import (
     histogram,
     normal_curve,
 )
+from .gauge import gauge_study
+from .mix import mix_change
 from .pareto import pareto, pareto_in_order
 from .results import (
     BoxSummary,
@@ -58,6 +59,6 @@ __all__ = [
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
     "c4", "c_chart", "capability", "choose_chart", "compare", "d2", "d3", "detect_signals",
     "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
-    "laney_u", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
+    "laney_u", "mix_change", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
     "perla_runs_limits", "shift_against", "u_chart", "xbar_r", "xbar_s",
 ]
