@@ -12,7 +12,14 @@ steadyline. Every function raises :class:`StatsError` with a message that states
 requirement when its input cannot give a result.
 """
 
+from .business import (
+    defect_figures,
+    defective_figures,
+    measured_figures,
+    sigma_level,
+)
 from .capability import bissell_interval, capability
+from .capability_change import capability_change
 from .choice import choose_chart
 from .compare import compare, format_p_value
 from .constants import c4, d2, d3, factor_table, factors
@@ -57,8 +64,8 @@ __all__ = [
     "BoxSummary", "Capability", "ChartChoice", "Comparison", "ControlChart", "Histogram",
     "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
-    "c4", "c_chart", "capability", "choose_chart", "compare", "d2", "d3", "detect_signals",
+    "c4", "c_chart", "capability", "capability_change", "choose_chart", "compare", "d2", "d3", "defect_figures", "defective_figures", "detect_signals",
     "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
-    "laney_u", "mix_change", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
-    "perla_runs_limits", "shift_against", "u_chart", "xbar_r", "xbar_s",
+    "laney_u", "measured_figures", "mix_change", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
+    "perla_runs_limits", "shift_against", "sigma_level", "u_chart", "xbar_r", "xbar_s",
 ]

@@ -169,6 +169,7 @@ class BusinessFigures:
     yield_: float
     yield_model: str
     sigma_level: float | None
+    sigma_basis: str  # "units" or "opportunities": whose share bad the level is of
     shift_applied: bool
     notes: tuple[str, ...] = ()
 
