@@ -12,6 +12,7 @@ steadyline. Every function raises :class:`StatsError` with a message that states
 requirement when its input cannot give a result.
 """
 
+from .after_sample import after_sample_needed, power_reached
 from .business import (
     defect_figures,
     defective_figures,
@@ -57,10 +58,23 @@ from .results import (
     Signal,
     StatsError,
 )
+from .results_studies import (
+    AfterSamplePlan,
+    AnovaRow,
+    BusinessFigures,
+    CapabilityChange,
+    GaugeStudy,
+    MixChange,
+    PowerReached,
+    VarianceComponent,
+)
 from .rules import detect_signals
 from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
 
 __all__ = [
+    "AfterSamplePlan", "AnovaRow", "BusinessFigures", "CapabilityChange", "GaugeStudy",
+    "MixChange", "PowerReached", "VarianceComponent",
+    "after_sample_needed", "power_reached",
     "BoxSummary", "Capability", "ChartChoice", "Comparison", "ControlChart", "Histogram",
     "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
