@@ -89,6 +89,7 @@ def _power(kind: str, baseline: float, target: float, n1: float, n2: float, sd: 
     """Power of the kind's test with n2 after (math.inf: an unlimited after sample)."""
     z = normal.ppf(1 - alpha / 2)
     if kind == "continuous":
+        assert sd is not None  # _check requires it
         d = (target - baseline) / sd
         if math.isinf(n2):
             nc = abs(d) * math.sqrt(n1)

@@ -63,12 +63,13 @@ def capability_change(before: Capability, after: Capability) -> CapabilityChange
             raise StatsError(
                 f"a change in Cpk needs a Cpk in both periods; the {name} period has none"
             )
+    cpk_b, cpk_a = float(before.cpk or 0.0), float(after.cpk or 0.0)  # not None: checked
     notes: list[str] = []
-    ci_b = before.cpk_ci or bissell_interval(before.cpk, before.n)
-    ci_a = after.cpk_ci or bissell_interval(after.cpk, after.n)
+    ci_b = before.cpk_ci or bissell_interval(cpk_b, before.n)
+    ci_a = after.cpk_ci or bissell_interval(cpk_a, after.n)
     overlap = ci_b[0] <= ci_a[1] and ci_a[0] <= ci_b[1]
-    se_b, se_a = bissell_se(before.cpk, before.n), bissell_se(after.cpk, after.n)
-    change = after.cpk - before.cpk
+    se_b, se_a = bissell_se(cpk_b, before.n), bissell_se(cpk_a, after.n)
+    change = cpk_a - cpk_b
     z = change / math.sqrt(se_b**2 + se_a**2)
     p = 2.0 * normal.sf(abs(z))
     for name, c in (("before", before), ("after", after)):
@@ -83,8 +84,8 @@ def capability_change(before: Capability, after: Capability) -> CapabilityChange
             "chance at 5%: overlapping intervals do not show that nothing changed."
         )
     return CapabilityChange(
-        cpk_before=float(before.cpk),
-        cpk_after=float(after.cpk),
+        cpk_before=cpk_b,
+        cpk_after=cpk_a,
         change=float(change),
         interval_before=(float(ci_b[0]), float(ci_b[1])),
         interval_after=(float(ci_a[0]), float(ci_a[1])),

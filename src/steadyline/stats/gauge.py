@@ -194,7 +194,7 @@ def gauge_study(
         _row("part × appraiser", df_po, ss_po, f_po, df_po, df_e),
         _row("repeatability", df_e, ss_e, None, 0, 0),
     )
-    p_interaction = float(anova[2].p_value)
+    p_interaction = float(anova[2].p_value or 0.0)  # always set on the interaction line
     pooled = p_interaction > pool_above
     notes: list[str] = []
     reduced = None
