@@ -12,7 +12,15 @@ steadyline. Every function raises :class:`StatsError` with a message that states
 requirement when its input cannot give a result.
 """
 
+from .after_sample import after_sample_needed, power_reached
+from .business import (
+    defect_figures,
+    defective_figures,
+    measured_figures,
+    sigma_level,
+)
 from .capability import bissell_interval, capability
+from .capability_change import capability_change
 from .choice import choose_chart
 from .compare import compare, format_p_value
 from .constants import c4, d2, d3, factor_table, factors
@@ -34,6 +42,8 @@ from .distribution import (
     histogram,
     normal_curve,
 )
+from .gauge import gauge_study
+from .mix import mix_change
 from .pareto import pareto, pareto_in_order
 from .results import (
     BoxSummary,
@@ -48,15 +58,28 @@ from .results import (
     Signal,
     StatsError,
 )
+from .results_studies import (
+    AfterSamplePlan,
+    AnovaRow,
+    BusinessFigures,
+    CapabilityChange,
+    GaugeStudy,
+    MixChange,
+    PowerReached,
+    VarianceComponent,
+)
 from .rules import detect_signals
 from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
 
 __all__ = [
+    "AfterSamplePlan", "AnovaRow", "BusinessFigures", "CapabilityChange", "GaugeStudy",
+    "MixChange", "PowerReached", "VarianceComponent",
+    "after_sample_needed", "power_reached",
     "BoxSummary", "Capability", "ChartChoice", "Comparison", "ControlChart", "Histogram",
     "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
-    "c4", "c_chart", "capability", "choose_chart", "compare", "d2", "d3", "detect_signals",
-    "factor_table", "factors", "format_p_value", "histogram", "individuals", "laney_p",
-    "laney_u", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
-    "perla_runs_limits", "shift_against", "u_chart", "xbar_r", "xbar_s",
+    "c4", "c_chart", "capability", "capability_change", "choose_chart", "compare", "d2", "d3", "defect_figures", "defective_figures", "detect_signals",
+    "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
+    "laney_u", "measured_figures", "mix_change", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
+    "perla_runs_limits", "shift_against", "sigma_level", "u_chart", "xbar_r", "xbar_s",
 ]
