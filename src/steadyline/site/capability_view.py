@@ -78,7 +78,7 @@ def _ruler(c, unit: str) -> dict | None:
     if target is not None:
         marks.append({"kind": "target", "at": at(target), "label": f"target {fmt(target, unit, 3)}"})
     limits = []
-    for kind, v, name in (("lower", lsl, "lower limit"), ("upper", usl, "upper limit")):
+    for kind, v, name in (("lower", lsl, "lower spec limit"), ("upper", usl, "upper spec limit")):
         if v is not None:
             limits.append({"kind": kind, "at": at(v), "label": f"{name} {fmt(v, unit, 3)}"})
     bars = [{"kind": k, "label": label, "from": at(a), "to": at(b),
