@@ -1,0 +1,228 @@
+"""Reading only the columns a metric needs, with memory bounded by the file.
+
+A metric reads at most six columns of its file. Held as Python strings, every cell of a file costs
+about fifty bytes on top of its text, so a large file used to take ten times its size in memory
+or more (a 375 MB file of 10^7 rows and five columns: 3.1 GB). Here a plain file (UTF-8 or ASCII
+text, no quote marks, no blank lines, every row complete; see :func:`read_needed`) is parsed by
+pyarrow's CSV reader, which keeps only the needed columns, each as two compact buffers (the
+cells' bytes one after the other, and where each cell starts), and the common columns (plain
+decimal numbers, fixed-width ISO 8601 times) are read from those buffers in bulk. A column that
+is anything else becomes Python strings (:func:`cells`), only that column, and takes the careful
+checks of ``loading`` with their messages unchanged.
+
+Before any of this the width of the header is counted on the first line alone, read a mebibyte
+at a time (:func:`header_width`): a file of a million columns is refused in well under a second,
+where building a table of it took minutes and gigabytes.
+"""
+
+from __future__ import annotations
+
+import codecs
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pacsv
+
+# More columns than any export a metric is charted from should have (a metric reads at most six):
+# a limit of our own, far above the widest real exports seen (a few hundred columns) and far
+# below what makes a table of the header slow (a million columns took minutes).
+MAX_COLUMNS = 10_000
+_CHUNK = 1 << 20  # the header is read this many bytes at a time
+
+
+def header_width(fh, codec: str, delim: str) -> int:
+    """The number of fields of the first record of an open binary file *fh*, read from its
+    start a mebibyte at a time (the line is never held whole). Delimiters inside quote marks do
+    not count, and a line end inside them does not end the record, as in the CSV reader.
+    Undecodable bytes count as one character each: the full read reports them."""
+    dec = codecs.getincrementaldecoder(codec)(errors="replace")
+    fields, quoted = 1, False
+    while True:
+        chunk = fh.read(_CHUNK)
+        text = dec.decode(chunk, final=not chunk)
+        for i, part in enumerate(text.split('"')):
+            if i:
+                quoted = not quoted
+            if quoted:
+                continue
+            ends = [e for e in (part.find("\n"), part.find("\r")) if e >= 0]
+            if ends:
+                return fields + part.count(delim, 0, min(ends))
+            fields += part.count(delim)
+        if not chunk:
+            return fields
+
+
+# Codecs whose text is the bytes themselves when every byte is ASCII.
+_ASCII_SAFE = {"ascii", "latin-1", "iso8859-1", "iso8859-15", "cp1252", "cp1250", "cp1251",
+               "cp1257", "mac-roman", "iso8859-2"}
+_ASCII_SPACE_BYTES = b" \t\x0b\x0c\x1c\x1d\x1e\x1f"
+_VALIDATE_STEP = 4 << 20
+
+
+def _valid_utf8(raw) -> bool:
+    """Whether the bytes are valid UTF-8, decoded a few mebibytes at a time (never whole)."""
+    dec = codecs.getincrementaldecoder("utf-8")()
+    view = memoryview(raw)
+    try:
+        for at in range(0, len(view), _VALIDATE_STEP):
+            dec.decode(view[at:at + _VALIDATE_STEP])
+        dec.decode(b"", final=True)
+    except UnicodeDecodeError:
+        return False
+    return True
+
+
+def _plain_bytes(raw) -> bool:
+    """The byte form of ``loading._awkward`` being False (no quote marks, no blank lines, no lone
+    carriage returns), for an ASCII-compatible text. tests/test_fast_paths.py holds the two
+    equal."""
+    if b'"' in raw:
+        return False
+    if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):
+        return False
+    if b"\n\n" in raw or b"\n\r\n" in raw or raw.startswith((b"\n", b"\r\n")):
+        return False
+    if b" " in raw or b"\t" in raw or b"\r" in raw:
+        import re
+
+        return re.search(rb"\n[ \t\r]*\n|^[ \t\r]*\n", raw) is None
+    return True
+
+
+def read_needed(raw: bytes, codec: str, delim: str, needed: list[str]
+                ) -> tuple[list[str], dict[str, pa.Array], int] | None:
+    """(header, {name: column as text}, rows) of a plain file, only the *needed* columns that
+    are in the header read; None for anything else, which the careful reader then reads.
+
+    *codec* is the file's encoding as ``loading`` resolved it (a UTF-8 byte-order mark gives
+    "utf-8-sig"). Plain means: UTF-8 text (or ASCII text in a codec that agrees with it on
+    ASCII), no NUL byte, no quote mark, no blank line, no lone carriage return, a one-byte
+    delimiter, a header of distinct non-blank names, at least one data row and every row as many
+    fields as the header (pyarrow refuses a row with more or fewer). Such a file holds the same
+    cells whichever reader reads it, and no problem the careful reader could report.
+    """
+    start = 0
+    if codec == "utf-8-sig":
+        if not raw.startswith(codecs.BOM_UTF8):
+            return None
+        start = 3
+    elif codec != "utf-8" and not (codec in _ASCII_SAFE and raw.isascii()):
+        return None
+    if len(delim) != 1 or ord(delim) > 127 or delim in "\r\n\"":
+        return None
+    body = memoryview(raw)[start:]
+    if b"\x00" in raw or not _plain_bytes(raw[start:] if start else raw):
+        return None
+    if not raw.isascii() and not _valid_utf8(body):
+        return None
+    nl = raw.find(b"\n", start)
+    first = bytes(body[: nl - start] if nl >= 0 else body).rstrip(b"\r").decode("utf-8")
+    header = [h.strip() for h in first.split(delim)]
+    if "" in header or len(set(header)) != len(header) or nl < 0 or nl + 1 >= len(raw):
+        return None
+    wanted = [header.index(c) for c in dict.fromkeys(needed) if c in header]
+    names = [str(i) for i in range(len(header))]
+    try:
+        table = pacsv.read_csv(
+            pa.py_buffer(body),
+            read_options=pacsv.ReadOptions(skip_rows=1, column_names=names),
+            parse_options=pacsv.ParseOptions(delimiter=delim, quote_char=False,
+                                              escape_char=False, newlines_in_values=False,
+                                              ignore_empty_lines=False),
+            convert_options=pacsv.ConvertOptions(
+                include_columns=[names[j] for j in wanted],
+                column_types={names[j]: pa.string() for j in wanted},
+                null_values=[], strings_can_be_null=False, quoted_strings_can_be_null=False,
+                check_utf8=False))  # checked above, for the whole file
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+        return None
+    if table.num_rows == 0:
+        return None
+    return header, {header[j]: table.column(names[j]) for j in wanted}, table.num_rows
+
+
+def _buffers(arr: pa.Array) -> tuple[np.ndarray, np.ndarray] | None:
+    """(offsets, bytes) of a string array without missing cells, as numpy views (no copy)."""
+    if arr.null_count or not (pa.types.is_string(arr.type) or pa.types.is_large_string(arr.type)):
+        return None
+    _, offs, data = arr.buffers()
+    kind = np.int64 if pa.types.is_large_string(arr.type) else np.int32
+    offsets = np.frombuffer(offs, dtype=kind)[arr.offset: arr.offset + len(arr) + 1]
+    text = (np.frombuffer(data, dtype=np.uint8) if data is not None
+            else np.zeros(0, dtype=np.uint8))
+    return offsets, text[offsets[0]: offsets[-1]]
+
+
+_DECIMAL_BYTES = np.zeros(256, dtype=bool)
+_DECIMAL_BYTES[np.frombuffer(b"0123456789.eE+-", dtype=np.uint8)] = True
+
+
+def plain_decimals(arr: pa.Array) -> np.ndarray | None:
+    """The cells as floats when every one is a plain decimal number (only digits, points, signs
+    and exponent letters, nothing to strip, none blank), else None: ``loading._plain_decimals``
+    on the column's bytes. pyarrow's conversion rounds correctly, as Python's float() does, so
+    the two give the same floats (tests/test_fast_paths.py holds them equal)."""
+    bufs = _buffers(arr)
+    if bufs is None or not len(arr) or not _DECIMAL_BYTES[bufs[1]].all():
+        return None
+    try:
+        return pc.cast(arr, pa.float64()).to_numpy(zero_copy_only=False)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):  # a blank cell, a stray sign or letter
+        return None
+
+
+def plain_iso(arr: pa.Array, digits: dict[int, list[int]], marks: dict[int, dict[int, bytes]]
+              ) -> np.ndarray | None:
+    """The cells as datetime64[s] when every one is written in the same fixed-width ISO 8601
+    form (*digits* and *marks*: per width, the places of digits and of separators), else None:
+    ``loading._plain_iso`` on the column's bytes, read in place."""
+    bufs = _buffers(arr)
+    if bufs is None or not len(arr):
+        return None
+    offsets, text = bufs
+    width = int(offsets[1] - offsets[0])
+    if width not in digits or text.size != width * len(arr):
+        return None
+    if not (np.diff(offsets) == width).all():
+        return None
+    grid = text.reshape(len(arr), width)
+    d = grid[:, digits[width]]
+    if not ((d >= 48) & (d <= 57)).all():
+        return None
+    for at, allowed in marks[width].items():
+        if not np.isin(grid[:, at], np.frombuffer(allowed, dtype=np.uint8)).all():
+            return None
+    try:
+        return np.ascontiguousarray(grid).view(f"S{width}").ravel().astype("datetime64[s]")
+    except ValueError:  # an impossible date or time, such as 2026-02-30
+        return None
+
+
+def cells(arr: pa.Array) -> np.ndarray:
+    """The cells as an object array of stripped Python strings, as the plain reader gives them
+    (str.strip(), which removes what Python calls white space). Each distinct cell is made
+    once and shared, so a column of few distinct values (categories, subgroups) costs a
+    pointer per row."""
+    enc = pc.dictionary_encode(arr)
+    if isinstance(enc, pa.ChunkedArray):
+        enc = enc.combine_chunks()
+    uniques = np.array([u.strip() for u in enc.dictionary.to_pylist()], dtype=object)
+    codes = enc.indices.to_numpy(zero_copy_only=False)
+    return uniques[codes]
+
+
+def is_arrow(s: pd.Series) -> bool:
+    """Whether a column came from :func:`read_needed` (and so holds unstripped text)."""
+    return isinstance(s.array, pd.arrays.ArrowExtensionArray)
+
+
+def arrow_of(s: pd.Series) -> pa.Array:
+    data = s.array.__arrow_array__()  # the ChunkedArray behind the column (no copy)
+    return data.combine_chunks() if isinstance(data, pa.ChunkedArray) else data
+
+
+__all__ = ["MAX_COLUMNS", "arrow_of", "cells", "header_width", "is_arrow", "plain_decimals",
+           "plain_iso", "read_needed"]
