@@ -34,23 +34,40 @@ _CHUNK = 1 << 20  # the header is read this many bytes at a time
 
 def header_width(fh, codec: str, delim: str) -> int:
     """The number of fields of the first record of an open binary file *fh*, read from its
-    start a mebibyte at a time (the line is never held whole). Delimiters inside quote marks do
-    not count, and a line end inside them does not end the record, as in the CSV reader.
-    Undecodable bytes count as one character each: the full read reports them."""
+    start a mebibyte at a time (the line is never held whole), as Python's csv module (the
+    careful reader) splits it: a quote mark opens a quoted cell only at a cell's start, a
+    doubled one inside stays in the cell, and delimiters and line ends inside count for
+    nothing. Undecodable bytes count as one character each: the full read reports them."""
     dec = codecs.getincrementaldecoder(codec)(errors="replace")
-    fields, quoted = 1, False
+    fields, quoted, prev, carry = 1, False, delim, ""
     while True:
         chunk = fh.read(_CHUNK)
-        text = dec.decode(chunk, final=not chunk)
-        for i, part in enumerate(text.split('"')):
-            if i:
-                quoted = not quoted
+        text = carry + dec.decode(chunk, final=not chunk)
+        carry = ""
+        if chunk and text.endswith('"'):  # whether the last is doubled shows in the next chunk
+            kept = text.rstrip('"')
+            text, carry = kept, text[len(kept):]
+        pos, n = 0, len(text)
+        while pos < n:
+            q = text.find('"', pos)
             if quoted:
+                if q < 0:
+                    break
+                if q + 1 < n and text[q + 1] == '"':
+                    pos = q + 2
+                    continue
+                quoted, prev, pos = False, '"', q + 1
                 continue
-            ends = [e for e in (part.find("\n"), part.find("\r")) if e >= 0]
+            stop = n if q < 0 else q
+            ends = [e for e in (text.find("\n", pos, stop), text.find("\r", pos, stop)) if e >= 0]
             if ends:
-                return fields + part.count(delim, 0, min(ends))
-            fields += part.count(delim)
+                return fields + text.count(delim, pos, min(ends))
+            fields += text.count(delim, pos, stop)
+            if q < 0:
+                prev = text[-1]
+                break
+            quoted = (text[q - 1] if q > pos else prev) == delim
+            prev, pos = '"', q + 1
         if not chunk:
             return fields
 
