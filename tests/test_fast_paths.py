@@ -497,6 +497,11 @@ def test_decimals_read_from_bytes_equal_python_float():
         want = np.array([float(c) for c in chunk])
         assert got is not None
         assert got.tobytes() == want.tobytes()
+    import pyarrow as pa
+
+    blocks = pa.chunked_array([cells[:7], cells[7:50], cells[50:]])
+    assert plain_decimals(blocks).tobytes() == np.array([float(c) for c in cells]).tobytes()
+    assert plain_decimals(pa.chunked_array([["1"], ["x"]])) is None
     assert plain_decimals(_arrow_text(["1.5", " 2"])) is None  # a space: stripped elsewhere
     assert plain_decimals(_arrow_text(["1.5", "nan"])) is None
     assert plain_decimals(_arrow_text(["1.5", ""])) is None
@@ -518,6 +523,16 @@ def test_iso_times_read_from_bytes_equal_the_numpy_read():
             assert got is None, cells
         else:
             assert got is not None and (got == want).all() and got.dtype == want.dtype, cells
+    import pyarrow as pa
+
+    # a column pyarrow parsed in several blocks: one form for the whole column, as above
+    two = pa.chunked_array([["2026-01-05"], ["2026-01-06", "2026-01-07"]])
+    assert (plain_iso(two, _ISO_DIGITS, _ISO_MARKS)
+            == _plain_iso(np.array(["2026-01-05", "2026-01-06", "2026-01-07"], dtype=object))
+            ).all()
+    mixed = pa.chunked_array([["2026-01-05"], ["2026-01-06T06:00"]])
+    assert plain_iso(mixed, _ISO_DIGITS, _ISO_MARKS) is None
+    assert _plain_iso(np.array(["2026-01-05", "2026-01-06T06:00"], dtype=object)) is None
     sliced = _arrow_text(["x", "2026-01-05", "2026-01-06", "y"]).slice(1, 2)
     assert (plain_iso(sliced, _ISO_DIGITS, _ISO_MARKS)
             == np.array(["2026-01-05", "2026-01-06"], dtype="datetime64[s]")).all()
@@ -525,6 +540,8 @@ def test_iso_times_read_from_bytes_equal_the_numpy_read():
 
 def test_needed_columns_reader_gives_the_plain_readers_cells():
     # reference: loading._read_plain (itself held to pandas' reader above) on the same text
+    import io
+
     from steadyline.columns import cells, read_needed
     from steadyline.loading import _read_plain
 
@@ -546,7 +563,7 @@ def test_needed_columns_reader_gives_the_plain_readers_cells():
     ]
     for text, delim in texts:
         want = _read_plain(text, delim)
-        got = read_needed(text.encode(), "utf-8", delim, ["t", "v", "w"])
+        got = read_needed(io.BytesIO(text.encode()), "utf-8", delim, ["t", "v", "w"])
         if want is None:
             assert got is None, text
             continue
@@ -555,11 +572,31 @@ def test_needed_columns_reader_gives_the_plain_readers_cells():
         assert header == list(want.columns) and n == len(want), text
         for name, col in cols.items():
             assert cells(col.combine_chunks()).tolist() == want[name].tolist(), text
-    bom = read_needed(b"\xef\xbb\xbft,v\n1,2\n", "utf-8-sig", ",", ["v"])
+    bom = read_needed(io.BytesIO(b"\xef\xbb\xbft,v\n1,2\n"), "utf-8-sig", ",", ["v"])
     assert bom is not None and bom[0] == ["t", "v"] and list(bom[1]) == ["v"]
-    assert read_needed("t,v\n1,\u00e9\n".encode("latin-1"), "latin-1", ",", ["v"]) is None
-    assert read_needed(b"t,v\n1,2\n", "latin-1", ",", ["v"]) is not None  # ASCII: the same
-    assert read_needed(b"t,v\n1,\xff\n", "utf-8", ",", ["v"]) is None  # not UTF-8
+    latin = io.BytesIO("t,v\n1,\u00e9\n".encode("latin-1"))
+    assert read_needed(latin, "iso8859-1", ",", ["v"]) is None
+    assert read_needed(io.BytesIO(b"t,v\n1,2\n"), "iso8859-1", ",", ["v"]) is not None  # ASCII
+    assert read_needed(io.BytesIO(b"t,v\n1,\xff\n"), "utf-8", ",", ["v"]) is None  # not UTF-8
+
+
+@pytest.mark.parametrize("piece", [4 << 20, 1, 2, 5, 7])
+def test_plain_file_check_in_pieces_matches_the_whole_text_check(piece, monkeypatch):
+    # reference: loading._awkward on the whole text: read in pieces of any size, the file is
+    # plain exactly when the whole text is
+    import io
+    import random
+
+    from steadyline import columns
+    from steadyline.loading import _awkward
+
+    monkeypatch.setattr(columns, "_PIECE", piece)
+    rng = random.Random(piece)
+    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    for _ in range(1500):
+        text = "".join(rng.choice(alphabet) for _ in range(rng.randint(0, 14)))
+        got = columns._plain_file(io.BytesIO(text.encode()), "utf-8")
+        assert got == (not _awkward(text)), repr(text)
 
 
 @pytest.mark.parametrize("chunk", [1 << 20, 3])

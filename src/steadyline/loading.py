@@ -345,14 +345,19 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
         if wide is not None:
             out.add(1, "header", wide)
             return None
-        raw = files.read_bytes(path)
+        with files.open_regular(path) as fh:
+            try:
+                codec = _codec(fh.read(_SNIFF), spec.csv.encoding)[2]
+                fh.seek(0)
+            except OSError:
+                codec = ""  # the full read below names the fault
+            plain = columns.read_needed(fh, codec, spec.csv.delimiter, needed)
+        if plain is None:
+            raw = files.read_bytes(path)
     except files.Unreadable as e:
         out.add(None, "", str(e))
         return None
-    plain = columns.read_needed(raw, _codec(raw[:_SNIFF], spec.csv.encoding)[2],
-                                spec.csv.delimiter, needed)
     if plain is not None:
-        del raw
         header, cols, n = plain
         index = pd.RangeIndex(2, n + 2)  # physical line numbers (header = line 1)
         df = pd.DataFrame({c: pd.Series(pd.arrays.ArrowExtensionArray(a), index=index)
@@ -920,10 +925,14 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
         if spec.size is not None:
             fc["size"] = _numbers(df, spec.size, spec, out, minimum=0,
                                   what="a number of items or an area")
+    index = df.index
+    del df  # the text of the file is not needed any more: freed before the roll-up's arrays
     out.raise_if_failed()
 
-    frame = pd.DataFrame(fc, index=df.index)
-    if any(_has_gap(v) for v in fc.values()):
+    frame = pd.DataFrame(fc, index=index)
+    gaps = any(_has_gap(v) for v in fc.values())
+    del fc  # the table holds its own copy of the columns
+    if gaps:
         frame = frame.dropna(how="any")
     if kind == "defectives" and not flags:
         over = frame["count"] > frame["size"]
