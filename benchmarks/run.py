@@ -1,7 +1,8 @@
 """steadyline benchmarks: every figure is reported as a ratio to a baseline measured in the same run.
 
-    python benchmarks/run.py            # the reference sizes (takes several minutes)
-    python benchmarks/run.py --quick    # small sizes, to check the script works
+    python benchmarks/run.py            # the reference sizes (about 25 minutes on 2 cores)
+    python benchmarks/run.py --quick    # small sizes, to check the script works (2 minutes)
+    python benchmarks/run.py --max-rows 1000000 --skip-portfolio   # leave out the largest
 
 Figures:
 1. full build of P projects x M metrics x R rows, against the floor: reading the same CSVs with
@@ -11,9 +12,12 @@ Figures:
 2. no-op rebuild, and rebuild after one CSV changed (target: under 1 s for 200 projects), against
    reading every input file once;
 3. watch latency from a saved CSV to the rewritten page (target: under 1 s), against the same;
-4. page weight and peak memory of a one-metric project at 10^3, 10^5 and 10^6 rows, against the
-   10^3 page and against the peak memory of a plain pandas read of the same file (page weight
-   should stay flat in rows);
+4. page weight, peak memory and build time of a one-metric project (a daily roll-up, its file of
+   five columns) at 10^3 to 10^7 rows, against the 10^3 page and against the peak memory and
+   time of a plain pandas read of the same file (page weight should stay flat in rows; the
+   10^7-row build within 3 GB);
+   and the same for a 300 MB file of 16 columns (target: within 2 GB), and the time to refuse a
+   file of a million columns (target: under a second) against reading its bytes once;
 5. all statistics of a 10^6-row metric against a plain pandas read of the same file (target:
    under one second).
 Results go to stdout and to benchmarks/out/results.md.
@@ -22,6 +26,7 @@ Results go to stdout and to benchmarks/out/results.md.
 from __future__ import annotations
 
 import argparse
+import math
 import os
 import resource
 import shutil
@@ -42,7 +47,8 @@ import synth  # noqa: E402
 # Commands run as on an ordinary installation: Python caches compiled modules (a shell that
 # sets PYTHONDONTWRITEBYTECODE would otherwise make every fresh process compile them again).
 ENV = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
-ENV.update(PYTHONPATH=str(REPO / "src"), CI="1")
+ENV.update(PYTHONPATH=os.pathsep.join(filter(None, [str(REPO / "src"),
+                                                   os.environ.get("PYTHONPATH")])), CI="1")
 
 
 def run(cmd: list[str]) -> float:
@@ -180,25 +186,93 @@ def watch_latency(root: Path, site: Path, csv: Path, rounds: int = 3) -> float:
         proc.wait(timeout=30)
 
 
+def _mib(kib: int) -> str:
+    return f"{kib / 1024:,.0f} MiB"
+
+
+def _build_code(root: Path, site: Path) -> str:
+    return (f"from steadyline.site.build import build, BuildOptions\nfrom pathlib import Path\n"
+            f"build(BuildOptions(Path({str(root)!r}), Path({str(site)!r}), jobs=1))")
+
+
+def _pandas_read(csv: Path) -> tuple[float, int]:
+    """The floor: pandas reading the same file, every column, with its default C reader."""
+    return child_peak_kib(f"import pandas as pd\npd.read_csv({str(csv)!r})")
+
+
 def bench_rows(work: Path, sizes: list[int], rows_out: list):
+    """One metric rolled up by day, its file of five columns (the metric uses two), at each
+    size: page weight, peak memory and time of the build, against a pandas read of the file."""
     pages = {}
     for n in sizes:
         root = work / f"rows-{n}"
-        synth.write_project(root / "one", 0, 1, n)
+        csv = synth.write_wide_rows(root / "one", n, 5)
+        (root / "portfolio.toml").write_text("max_file_mb = 2000\n")
         site = work / f"rows-{n}-site"
-        code = (f"from steadyline.site.build import build, BuildOptions\nfrom pathlib import Path\n"
-                f"build(BuildOptions(Path({str(root)!r}), Path({str(site)!r}), jobs=1))")
-        secs, peak = child_peak_kib(code)
-        csv = next((root / "one").glob("*.csv"))
-        rsecs, rpeak = child_peak_kib(f"import pandas as pd\npd.read_csv({str(csv)!r})")
+        settle()
+        secs, peak = child_peak_kib(_build_code(root, site))
+        settle()
+        rsecs, rpeak = _pandas_read(csv)
         page = (site / "projects" / "one" / "index.html").stat().st_size
         pages[n] = page
-        rows_out.append((f"one metric, {n:,} rows: page weight", f"{page / 1024:.0f} KiB",
+        size = f"{csv.stat().st_size / 1e6:,.0f} MB" if n >= 10**5 else "small"
+        what = f"one metric, {n:,} rows ({size}, 5 columns, a daily roll-up)"
+        rows_out.append((f"{what}: page weight", f"{page / 1024:.0f} KiB",
                          f"page at {sizes[0]:,} rows {pages[sizes[0]] / 1024:.0f} KiB",
                          f"{page / pages[sizes[0]]:.2f}x", "flat in rows"))
-        rows_out.append((f"one metric, {n:,} rows: peak memory of the build",
-                         f"{peak / 1024:.0f} MiB", f"pandas read {rpeak / 1024:.0f} MiB",
-                         f"{peak / rpeak:.1f}x", "fits a laptop"))
+        rows_out.append((f"{what}: peak memory of the build", _mib(peak),
+                         f"pandas read {_mib(rpeak)}", f"{peak / rpeak:.2f}x",
+                         "under 3 GB at 10^7 rows" if n >= 10**7 else "bounded by the file"))
+        rows_out.append((f"{what}: build time", f"{secs:.1f} s", f"pandas read {rsecs:.1f} s",
+                         f"{secs / rsecs:.1f}x", "none set"))
+        shutil.rmtree(root)
+        shutil.rmtree(site)
+
+
+def bench_large_file(work: Path, megabytes: int, rows_out: list):
+    """A file of about *megabytes* MB and 16 columns, of which the metric uses two."""
+    root = work / "large"
+    rows = megabytes * 11_800  # about 85 bytes a row
+    csv = synth.write_wide_rows(root / "one", rows, 16)
+    (root / "portfolio.toml").write_text("max_file_mb = 2000\n")
+    site = work / "large-site"
+    settle()
+    secs, peak = child_peak_kib(_build_code(root, site))
+    settle()
+    rsecs, rpeak = _pandas_read(csv)
+    what = f"a {csv.stat().st_size / 1e6:,.0f} MB file ({rows:,} rows, 16 columns, 2 used)"
+    rows_out.append((f"{what}: peak memory of the build", _mib(peak),
+                     f"pandas read {_mib(rpeak)}", f"{peak / rpeak:.2f}x",
+                     "under 2 GB for 300 MB"))
+    rows_out.append((f"{what}: build time", f"{secs:.1f} s", f"pandas read {rsecs:.1f} s",
+                     f"{secs / rsecs:.1f}x", "none set"))
+    shutil.rmtree(root)
+    shutil.rmtree(site)
+
+
+def bench_many_columns(work: Path, columns: int, rows_out: list):
+    """A file of *columns* columns (and one row): refused, with its width named, from its first
+    line alone; timed inside the process (the loader, not Python's start), against Python
+    reading the first line of the file (pandas takes minutes to read a header this wide)."""
+    root = work / "many-columns"
+    csv = synth.write_many_columns(root / "one", columns)
+    code = (f"from pathlib import Path\nfrom steadyline.config import load_portfolio, "
+            f"load_project\nfrom steadyline.loading import load_metric\n"
+            f"from steadyline.errors import ProjectError\nroot = Path({str(root)!r})\n"
+            f"s, _ = load_portfolio(root)\nspec, _ = load_project(root / 'one', root, s)\n"
+            f"t0 = time.perf_counter()\ntry:\n    load_metric(spec.metrics[0], s)\n"
+            f"except ProjectError as e:\n    assert 'columns, over the limit' in "
+            f"str(e.problems[0]), e.problems\nt = time.perf_counter() - t0\n")
+    code += (f"t0 = time.perf_counter()\nopen({str(csv)!r}, encoding='utf-8').readline()\n"
+             f"print(t, time.perf_counter() - t0)\n")
+    out = subprocess.run([sys.executable, "-c", "import time\n" + code], env=ENV,
+                         capture_output=True, text=True, check=True).stdout.split()
+    secs, base = float(out[0]), float(out[1])
+    rows_out.append((f"a file of {columns:,} columns ({csv.stat().st_size / 1e6:,.0f} MB): "
+                     "refused, its width named", f"{secs:.2f} s",
+                     f"Python reads its first line {base:.2f} s", f"{secs / base:.1f}x",
+                     "under 1 s"))
+    shutil.rmtree(root)
 
 
 def bench_stats(work: Path, n: int, rows_out: list):
@@ -229,18 +303,25 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--quick", action="store_true", help="small sizes, to check the script")
     ap.add_argument("--skip-portfolio", action="store_true")
+    ap.add_argument("--max-rows", type=int, default=None,
+                    help="the largest one-metric file, a power of ten (default 10^7)")
     a = ap.parse_args()
     rows: list[tuple] = []
     with tempfile.TemporaryDirectory(prefix="steadyline-bench-") as tmp:
         work = Path(tmp)
         if a.quick:
             bench_stats(work, 100_000, rows)
-            bench_rows(work, [1_000, 10_000], rows)
+            bench_rows(work, [1_000, 10_000, 100_000], rows)
+            bench_large_file(work, 20, rows)
+            bench_many_columns(work, 100_000, rows)
             if not a.skip_portfolio:
                 bench_portfolio(work, 6, 3, 2_000, rows)
         else:
             bench_stats(work, 1_000_000, rows)
-            bench_rows(work, [1_000, 100_000, 1_000_000], rows)
+            top = 7 if a.max_rows is None else round(math.log10(a.max_rows))
+            bench_rows(work, [10**k for k in range(3, top + 1)], rows)
+            bench_large_file(work, 300, rows)
+            bench_many_columns(work, 1_000_000, rows)
             if not a.skip_portfolio:
                 bench_portfolio(work, 200, 3, 5_000, rows)
     lines = ["| figure | measured | baseline (same run) | ratio | target |",

@@ -57,6 +57,52 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
     (folder / "project.toml").write_text("\n".join(toml) + "\n", "utf-8")
 
 
+def write_wide_rows(folder: Path, rows: int, columns: int = 5, seed: int = 11) -> Path:
+    """One project with one metric (a daily mean of "v" over time "t") in a file of *rows*
+    rows and *columns* columns, the others ones no metric uses (a line number, a shift name,
+    temperatures), as exports from a machine's log look. Written a million rows at a time;
+    returns the CSV's path."""
+    rng = np.random.default_rng(seed)
+    folder.mkdir(parents=True, exist_ok=True)
+    csv = folder / "log.csv"
+    start = np.datetime64("2026-01-05T06:00")
+    span = 330 * 24 * 60  # minutes
+    step = 1_000_000
+    with open(csv, "w", encoding="utf-8", newline="") as fh:
+        for at in range(0, rows, step):
+            n = min(step, rows - at)
+            minutes = (np.arange(at, at + n) * span) // max(rows, 1)
+            df = pd.DataFrame({"t": np.datetime_as_string(start + minutes.astype("timedelta64[m]"),
+                                                          unit="m"),
+                               "v": np.round(20 + rng.normal(0, 1, n), 3)})
+            for j in range(columns - 2):
+                if j % 3 == 0:
+                    df[f"line{j}"] = rng.integers(1, 9, n)
+                elif j % 3 == 1:
+                    df[f"shift{j}"] = np.array(["early", "late", "night"])[rng.integers(0, 3, n)]
+                else:
+                    df[f"temp{j}"] = np.round(rng.normal(21, 2, n), 2)
+            df.to_csv(fh, index=False, header=at == 0, lineterminator="\n")
+    (folder / "project.toml").write_text("\n".join([
+        'title = "One large log"', 'owner = "Owner"', 'phase = "measure"',
+        'problem = "A synthetic project for benchmarks."', "", "[comparison]",
+        "baseline = [2026-01-05, 2026-04-30]", "after = [2026-06-01]", "", "[[metric]]",
+        'id = "m"', 'name = "Cycle time"', 'file = "log.csv"', 'type = "continuous"',
+        'time = "t"', 'value = "v"', 'better = "lower"', 'unit = "s"', "", "[metric.rollup]",
+        'period = "day"', 'statistic = "mean"']) + "\n", "utf-8")
+    return csv
+
+
+def write_many_columns(folder: Path, columns: int) -> Path:
+    """One project whose file has a header of *columns* columns and one row; its CSV's path."""
+    write_wide_rows(folder, 10, 5)
+    csv = folder / "log.csv"
+    names = ["t", "v"] + [f"reading_{i:07d}" for i in range(columns - 2)]
+    row = ["2026-01-05T06:00", "20.5"] + ["1"] * (columns - 2)
+    csv.write_text(",".join(names) + "\n" + ",".join(row) + "\n", "utf-8")
+    return csv
+
+
 def generate(root: Path, projects: int, metrics: int, rows: int) -> Path:
     root.mkdir(parents=True, exist_ok=True)
     for i in range(projects):

@@ -453,3 +453,181 @@ def test_signal_texts_of_points_in_many_kinds_of_signal():
     want = ["; ".join(f"pattern {k}" for k in range(20) if k % 3 <= i) if i < 6 else ""
             for i in range(8)]
     assert [marks.texts[c - 1] if c else "" for c in marks.codes.tolist()] == want
+
+
+def test_plain_bytes_check_matches_the_text_check():
+    # reference: loading._awkward on the same text (itself held to the full expression above)
+    import random
+
+    from steadyline.columns import _plain_bytes
+    from steadyline.loading import _awkward
+
+    rng = random.Random(8)
+    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    cases = ["", "a,b\n1,2\n", "\na,b\n", " \na", "a\r\nb\r\n", "a\rb", "a\n \t\nb", "a\n\r\nb"]
+    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12)))
+              for _ in range(5000)]
+    for text in cases:
+        assert _plain_bytes(text.encode()) == (not _awkward(text)), repr(text)
+
+
+def _arrow_text(cells):
+    import pyarrow as pa
+
+    return pa.array(cells, type=pa.string())
+
+
+def test_decimals_read_from_bytes_equal_python_float():
+    # reference: Python's float() (correctly rounded), through loading._plain_decimals, cell by
+    # cell: the bulk read gives the same float or declines (None), never another value
+    from steadyline.columns import plain_decimals
+    from steadyline.loading import _plain_decimals
+
+    rng = np.random.default_rng(4)
+    odd = ["+1.5", "-0", "+0.0", "1.", ".5", "5e-324", "2e-324", "1e308", "1e309", "-1e-400",
+           "1e5", "1E+05", "0.1e-3", "e5", ".", "-", "+", "1e", "1e+", "1-2", "1.2.3", "..5",
+           "--1", "+-1", "00012", "9007199254740993", "0.30000000000000004441", "1e0001",
+           "123456789012345678901234567890", "", "1", "-.5e-2", "+.5E+2"]
+    for cell in odd:
+        got = plain_decimals(_arrow_text([cell]))
+        want = _plain_decimals(np.array([cell], dtype=object))
+        if got is not None:
+            assert want is not None and got.tobytes() == want.tobytes(), cell
+    digits = rng.integers(0, 10**9, 20000).astype(str)
+    cells = [f"{s}{d[:3]}.{d[3:]}e{e}" for s, d, e in
+             zip(rng.choice(["", "-", "+"], 20000), digits, rng.integers(-330, 310, 20000),
+                 strict=True)]
+    cells += [repr(float(x)) for x in rng.normal(0, 1, 5000) * 10.0 ** rng.integers(-300, 300, 5000)]
+    for chunk in (cells[:100], cells[100:], cells):
+        got = plain_decimals(_arrow_text(chunk))
+        want = np.array([float(c) for c in chunk])
+        assert got is not None
+        assert got.tobytes() == want.tobytes()
+    import pyarrow as pa
+
+    blocks = pa.chunked_array([cells[:7], cells[7:50], cells[50:]])
+    assert plain_decimals(blocks).tobytes() == np.array([float(c) for c in cells]).tobytes()
+    assert plain_decimals(pa.chunked_array([["1"], ["x"]])) is None
+    assert plain_decimals(_arrow_text(["1.5", " 2"])) is None  # a space: stripped elsewhere
+    assert plain_decimals(_arrow_text(["1.5", "nan"])) is None
+    assert plain_decimals(_arrow_text(["1.5", ""])) is None
+
+
+def test_iso_times_read_from_bytes_equal_the_numpy_read():
+    # reference: loading._plain_iso (numpy's reading of the same cells as text)
+    from steadyline.columns import plain_iso
+    from steadyline.loading import _ISO_DIGITS, _ISO_MARKS, _plain_iso
+
+    columns = [["2026-01-05", "2026-12-31"], ["2026-01-05T06:30", "2026-01-05 07:45"],
+               ["2026-01-05T06:30:59"], ["2026-02-30"], ["2026-01-05", "2026-1-06"],
+               ["2026-01-05", "2026-01-05T06:00"], ["2026/01/05"], ["2026-01-05T06:3x"],
+               ["20260105"], ["2026-01-05 "], ["\u00e9026-01-05"], ["2026-01-05Z06:30"]]
+    for cells in columns:
+        got = plain_iso(_arrow_text(cells), _ISO_DIGITS, _ISO_MARKS)
+        want = _plain_iso(np.array(cells, dtype=object))
+        if want is None:
+            assert got is None, cells
+        else:
+            assert got is not None and (got == want).all() and got.dtype == want.dtype, cells
+    import pyarrow as pa
+
+    # a column pyarrow parsed in several blocks: one form for the whole column, as above
+    two = pa.chunked_array([["2026-01-05"], ["2026-01-06", "2026-01-07"]])
+    assert (plain_iso(two, _ISO_DIGITS, _ISO_MARKS)
+            == _plain_iso(np.array(["2026-01-05", "2026-01-06", "2026-01-07"], dtype=object))
+            ).all()
+    mixed = pa.chunked_array([["2026-01-05"], ["2026-01-06T06:00"]])
+    assert plain_iso(mixed, _ISO_DIGITS, _ISO_MARKS) is None
+    assert _plain_iso(np.array(["2026-01-05", "2026-01-06T06:00"], dtype=object)) is None
+    sliced = _arrow_text(["x", "2026-01-05", "2026-01-06", "y"]).slice(1, 2)
+    assert (plain_iso(sliced, _ISO_DIGITS, _ISO_MARKS)
+            == np.array(["2026-01-05", "2026-01-06"], dtype="datetime64[s]")).all()
+
+
+def test_needed_columns_reader_gives_the_plain_readers_cells():
+    # reference: loading._read_plain (itself held to pandas' reader above) on the same text
+    import io
+
+    from steadyline.columns import cells, read_needed
+    from steadyline.loading import _read_plain
+
+    texts = [
+        ("t,v\n2026-01-01,1.5\n2026-01-02,2\n", ","),
+        ("t,v\r\n2026-01-01,1.5\r\n2026-01-02,-2e3\r\n", ","),
+        ("t,v\n2026-01-01,1.5\n2026-01-02,2", ","),
+        ("t;v;w\n2026-01-01; 1,5 ;x\n2026-01-02;2;\u00e9t\u00e9\n", ";"),
+        ("t\tv\n2026-01-01\t1.5\n2026-01-02\t\n", "\t"),
+        ("t|v\n a |b\n", "|"),
+        ("v\n1\n2\n3\n", ","),
+        ("t,v\n2026-01-01,\u00a01.5\u2003\n2026-01-02,,\n", ","),  # last row too long
+        ("t,v\n2026-01-01,1\n2026-01-02\n", ","),  # last row too short
+        ("t,v\n1,2\n\n3,4\n", ","),  # a blank line
+        ('t,v\n1,"2"\n', ","),  # a quote mark
+        ("t,t\n1,2\n", ","),  # a name twice
+        ("t,v\n", ","),  # no rows
+        (" t , v \n1,\x0b2\x1c\n", ","),
+    ]
+    for text, delim in texts:
+        want = _read_plain(text, delim)
+        got = read_needed(io.BytesIO(text.encode()), "utf-8", delim, ["t", "v", "w"])
+        if want is None:
+            assert got is None, text
+            continue
+        assert got is not None, text
+        header, cols, n = got
+        assert header == list(want.columns) and n == len(want), text
+        for name, col in cols.items():
+            assert cells(col.combine_chunks()).tolist() == want[name].tolist(), text
+    bom = read_needed(io.BytesIO(b"\xef\xbb\xbft,v\n1,2\n"), "utf-8-sig", ",", ["v"])
+    assert bom is not None and bom[0] == ["t", "v"] and list(bom[1]) == ["v"]
+    latin = io.BytesIO("t,v\n1,\u00e9\n".encode("latin-1"))
+    assert read_needed(latin, "iso8859-1", ",", ["v"]) is None
+    assert read_needed(io.BytesIO(b"t,v\n1,2\n"), "iso8859-1", ",", ["v"]) is not None  # ASCII
+    assert read_needed(io.BytesIO(b"t,v\n1,\xff\n"), "utf-8", ",", ["v"]) is None  # not UTF-8
+
+
+@pytest.mark.parametrize("piece", [4 << 20, 1, 2, 5, 7])
+def test_plain_file_check_in_pieces_matches_the_whole_text_check(piece, monkeypatch):
+    # reference: loading._awkward on the whole text: read in pieces of any size, the file is
+    # plain exactly when the whole text is
+    import io
+    import random
+
+    from steadyline import columns
+    from steadyline.loading import _awkward
+
+    monkeypatch.setattr(columns, "_PIECE", piece)
+    rng = random.Random(piece)
+    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    for _ in range(1500):
+        text = "".join(rng.choice(alphabet) for _ in range(rng.randint(0, 14)))
+        got = columns._plain_file(io.BytesIO(text.encode()), "utf-8")
+        assert got == (not _awkward(text)), repr(text)
+
+
+@pytest.mark.parametrize("chunk", [1 << 20, 3])
+def test_header_width_counts_the_fields_the_csv_reader_reads(chunk, monkeypatch):
+    # reference: Python's csv module, the careful reader's own, on the first record
+    import csv
+    import io
+    import random
+
+    from steadyline import columns
+
+    monkeypatch.setattr(columns, "_CHUNK", chunk)
+    rng = random.Random(12)
+    alphabet = ["a", "\u00e9", ",", ";", '"', '""', "\n", "\r\n", "\r", " "]
+    texts = ["a,b,c\n1,2,3\n", '"a,b",c\n', '"a\nb",c,d\ne\n', "a,b", ",,,\n", "a\r\nb,c",
+             "\u00e9,\u00e8;x\n"]
+    texts += ["".join(rng.choice(alphabet) for _ in range(rng.randint(1, 14)))
+              for _ in range(3000)]
+    for text in texts:
+        try:
+            first = next(csv.reader(io.StringIO(text, newline="")))
+        except (csv.Error, StopIteration):
+            continue  # not CSV at all: the careful reader reports it
+        if not first:
+            continue
+        for codec in ("utf-8", "utf-16", "utf-32-be"):
+            got = columns.header_width(io.BytesIO(text.encode(codec)), codec, ",")
+            assert got == len(first), (text, codec)

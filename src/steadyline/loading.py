@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from . import files
+from . import columns, files
 from .config import MetricSpec, Period, PortfolioSettings
 from .errors import Problem, ProjectError
 
@@ -141,13 +141,15 @@ def _family(codec: str) -> str:
     return codec.removesuffix("-sig").removesuffix("-le").removesuffix("-be")
 
 
-def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
-    """The file's text. A byte-order mark (UTF-8, UTF-16 or UTF-32) decides the encoding,
-    whatever is declared, and is dropped; a UTF-16 or UTF-32 file without one is read in the
-    declared form ("utf-16" or "utf-32" alone: in the byte order its bytes show)."""
+def _codec(raw: bytes, enc: str) -> tuple[str, str | None, str]:
+    """(declared codec's name, the codec a byte-order mark names or None, the codec to read
+    with) for a file starting with *raw* (its first 4 KiB are enough). A byte-order mark (UTF-8,
+    UTF-16 or UTF-32) decides the encoding, whatever is declared; a UTF-16 or UTF-32 file
+    without one is read in the declared form ("utf-16" or "utf-32" alone: in the byte order its
+    bytes show)."""
     try:
         name = codecs.lookup(enc).name  # "UTF16", "utf_16" -> "utf-16"
-    except LookupError:  # refused in the metadata already; decoding below names it again
+    except LookupError:  # refused in the metadata already; decoding names it again
         name = enc
     bom = next((c for mark, c in _BOMS if raw.startswith(mark)), None)
     if bom is not None:
@@ -156,6 +158,12 @@ def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
         codec = name + _byte_order(raw, _WIDE[name])
     else:
         codec = name
+    return name, bom, codec
+
+
+def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
+    """The file's text, read as :func:`_codec` says; a byte-order mark is dropped."""
+    name, bom, codec = _codec(raw, enc)
     wide = codec in _WIDE
     if not wide and b"\x00" in raw[:_SNIFF]:
         guess = _wide_guess(raw)
@@ -280,13 +288,45 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
                         index=np.arange(2, len(grid) + 2), dtype=str)
 
 
-def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd.DataFrame | None:
-    """The file as a table of stripped text cells, indexed by physical line number.
+def _width_fault(path, spec: MetricSpec) -> str | None:
+    """Why the file is too wide to read (more than columns.MAX_COLUMNS columns), or None;
+    counted on the header line alone before anything else is read. Unreadable as
+    files.open_regular raises it."""
+    with files.open_regular(path) as fh:
+        try:
+            head = fh.read(_SNIFF)
+            fh.seek(0)
+            codec = _codec(head, spec.csv.encoding)[2]
+            width = columns.header_width(fh, codec, spec.csv.delimiter)
+        except (OSError, LookupError):
+            return None  # the full read below names the fault
+    if width <= columns.MAX_COLUMNS:
+        return None
+    return (f"the header has {width:,} columns, over the limit of {columns.MAX_COLUMNS:,}; "
+            "a metric reads at most six of them: export only the columns the metrics use")
 
-    Python's csv module is used (not pandas' reader) because it reports the physical line each
-    record starts on, also when a quoted cell spans several lines, and so lets every message
-    name the right line; rows with too few fields are refused like rows with too many.
+
+def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
+                needed: list[str]) -> tuple[pd.DataFrame | None, list[str]]:
+    """(the file as a table of text cells indexed by physical line number, its header).
+
+    A plain file (see columns.read_needed) gives only the *needed* columns, as pyarrow text
+    that :func:`_text` turns into stripped cells where a column is not read in bulk; any other
+    file gives every column, stripped. Python's csv module is used for the careful reading (not
+    pandas' reader) because it reports the physical line each record starts on, also when a
+    quoted cell spans several lines, and so lets every message name the right line; rows with
+    too few fields are refused like rows with too many.
     """
+    df = _read_table_of(spec, settings, out, needed)
+    if df is None:
+        return None, []
+    if isinstance(df, tuple):
+        return df
+    return df, list(df.columns)
+
+
+def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
+                   needed: list[str]):
     path = spec.file
     try:
         size = path.stat().st_size
@@ -301,10 +341,28 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd
         return None
     try:
         # read-only, and only a regular file: a named pipe put in its place would block for ever
-        raw = files.read_bytes(path)
+        wide = _width_fault(path, spec)
+        if wide is not None:
+            out.add(1, "header", wide)
+            return None
+        with files.open_regular(path) as fh:
+            try:
+                codec = _codec(fh.read(_SNIFF), spec.csv.encoding)[2]
+                fh.seek(0)
+            except OSError:
+                codec = ""  # the full read below names the fault
+            plain = columns.read_needed(fh, codec, spec.csv.delimiter, needed)
+        if plain is None:
+            raw = files.read_bytes(path)
     except files.Unreadable as e:
         out.add(None, "", str(e))
         return None
+    if plain is not None:
+        header, cols, n = plain
+        index = pd.RangeIndex(2, n + 2)  # physical line numbers (header = line 1)
+        df = pd.DataFrame({c: pd.Series(pd.arrays.ArrowExtensionArray(a), index=index)
+                           for c, a in cols.items()}, index=index)
+        return df, header
     text = _decode(raw, spec.csv.encoding, out)
     if text is None:
         return None
@@ -374,13 +432,20 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows) -> pd
     return df
 
 
-def _require_column(df: pd.DataFrame, key: str, col: str | None, spec: MetricSpec,
+def _text(s: pd.Series) -> pd.Series:
+    """A column as stripped text cells: as it is, or made so from pyarrow's text (only a
+    column that is not read in bulk from its bytes ever becomes Python strings)."""
+    if not columns.is_arrow(s):
+        return s  # cells come stripped from _read_table
+    return pd.Series(columns.cells(columns.arrow_of(s)), index=s.index, dtype=str)
+
+
+def _require_column(cols: list[str], key: str, col: str | None, spec: MetricSpec,
                     out: _Rows) -> bool:
     if col is None:
         return True
-    if col in df.columns:
+    if col in cols:
         return True
-    cols = list(df.columns)
     guess = difflib.get_close_matches(col, cols, n=1, cutoff=0.6)
     if guess:
         hint = f"; did you mean '{guess[0]}'?"
@@ -445,13 +510,17 @@ def _plain_decimals(cells: np.ndarray) -> np.ndarray | None:
 
 def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, integer=False,
              minimum: float | None = None, what="a number") -> pd.Series:
-    s = df[col]  # cells come stripped from _read_table
+    s = df[col]
     dec = spec.csv.decimal
     quick = None
     if dec == ".":
         # The common column: every cell a plain finite number within the checks below. Then
         # there is nothing to report and pandas' parse is the answer.
-        quick = _plain_decimals(s.to_numpy())
+        if columns.is_arrow(s):
+            quick = columns.plain_decimals(columns.arrow_of(s))  # read from its bytes
+        s = _text(s)  # stripped cells
+        if quick is None:
+            quick = _plain_decimals(s.to_numpy())
         if quick is None:
             quick = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
             # pandas' parse can be one unit in the last place off on a cell with a leading
@@ -461,6 +530,7 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
                 and (not integer or (quick == np.floor(quick)).all())
                 and (minimum is None or (quick >= minimum).all())):
             return pd.Series(quick, index=df.index)
+    s = _text(s)
     blank = (s == "").to_numpy()
     num = pd.Series(np.nan, index=df.index, dtype=float)
     careful = ~blank
@@ -591,18 +661,25 @@ def _plain_iso(cells: np.ndarray) -> np.ndarray | None:
 
 
 def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Series:
-    s = df[col]  # cells come stripped from _read_table
+    s = df[col]
     # The common column: no blank cell and every cell a plain ISO 8601 time, parsed at once
     # (None otherwise). Within the charted years there is nothing to report: the answer.
     quick = None
     if not spec.csv.date_format:
-        plain = _plain_iso(s.to_numpy())  # the fixed-width forms, read by numpy
+        plain = None
+        if columns.is_arrow(s):  # the fixed-width forms, read from the column's bytes
+            plain = columns.plain_iso(columns.arrow_of(s), _ISO_DIGITS, _ISO_MARKS)
+        if plain is None:
+            s = _text(s)
+            plain = _plain_iso(s.to_numpy())  # the fixed-width forms, read by numpy
         if plain is not None and _within_years(plain):
             return pd.Series(plain.astype("datetime64[ns]"), index=df.index)
+        s = _text(s)
         if not (s.to_numpy() == "").any():
             quick = _quick_naive(s)  # any other ISO 8601 form, read by pandas
             if quick is not None and _within_years(quick.to_numpy()):
                 return quick.astype("datetime64[ns]")
+    s = _text(s)
     blank = s == ""
     out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
              severity="warning")
@@ -647,11 +724,11 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
             far[naive] = far_n
         expected = "an ISO 8601 date like 2026-03-31 (or set [metric.csv] date_format)"
     out.rows(list(df.index[far]), f"column '{col}'",
-             f"{df[col][far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
+             f"{s[far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
              "charted; check the date" if far.any() else "")
     bad = t.isna() & ~blank & ~far
     out.rows(list(df.index[bad]), f"column '{col}'",
-             f"{df[col][bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "")
+             f"{s[bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "")
     return t.astype("datetime64[ns]")
 
 
@@ -800,13 +877,13 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     """Read, validate and shape one metric's data. Raises ProjectError with every problem."""
     settings = settings or PortfolioSettings()
     out = _Rows(spec)
-    df = _read_table(spec, settings, out)
+    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
+            "count": spec.count, "size": spec.size, "category": spec.category}
+    df, header = _read_table(spec, settings, out, [c for c in cols.values() if c is not None])
     if df is None:
         out.raise_if_failed()
     assert df is not None
-    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
-            "count": spec.count, "size": spec.size, "category": spec.category}
-    ok = all([_require_column(df, k, c, spec, out) for k, c in cols.items()])
+    ok = all([_require_column(header, k, c, spec, out) for k, c in cols.items()])
     if not ok:
         out.raise_if_failed()
     raw_rows = len(df)
@@ -823,7 +900,7 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     if spec.time is not None:
         fc["t"] = _times(df, spec.time, spec, out)
     if kind == "categories":
-        cat = df[spec.category].map(clean_label)
+        cat = _text(df[spec.category]).map(clean_label)
         blank = cat == ""
         out.rows(list(df.index[blank]), f"column '{spec.category}'",
                  "blank category; counted as '(blank)'", severity="warning")
@@ -841,17 +918,21 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
         if spec.value is not None:
             fc["value"] = _numbers(df, spec.value, spec, out)
         if spec.subgroup is not None:
-            fc["subgroup"] = df[spec.subgroup].map(clean_label)
+            fc["subgroup"] = _text(df[spec.subgroup]).map(clean_label)
         if spec.count is not None:
             fc["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
                                    what="a count")
         if spec.size is not None:
             fc["size"] = _numbers(df, spec.size, spec, out, minimum=0,
                                   what="a number of items or an area")
+    index = df.index
+    del df  # the text of the file is not needed any more: freed before the roll-up's arrays
     out.raise_if_failed()
 
-    frame = pd.DataFrame(fc, index=df.index)
-    if any(_has_gap(v) for v in fc.values()):
+    frame = pd.DataFrame(fc, index=index)
+    gaps = any(_has_gap(v) for v in fc.values())
+    del fc  # the table holds its own copy of the columns
+    if gaps:
         frame = frame.dropna(how="any")
     if kind == "defectives" and not flags:
         over = frame["count"] > frame["size"]
