@@ -37,7 +37,7 @@ import sys
 import threading
 import time
 from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
-from dataclasses import dataclass, field, replace
+from dataclasses import asdict, dataclass, field, replace
 from multiprocessing import get_context
 from pathlib import Path
 
@@ -79,6 +79,8 @@ class BuildOptions:
     # The output's lock when the caller holds it already (a watch session holds it from start
     # to stop); None: the build takes it, waiting for another build of the same output.
     lock: OutputLock | None = None
+    # Build only shard I of N (1-based), (I, N): see ``shard_of``; None: every project.
+    shard: tuple[int, int] | None = None
 
 
 @dataclass
@@ -99,6 +101,34 @@ class BuildReport:
 
 def _settings_key(settings: PortfolioSettings, live: bool) -> str:
     return json.dumps([__version__, templates_fingerprint(), repr(settings), live])
+
+
+def shard_of(slug: str, count: int) -> int:
+    """The shard (1 to *count*) that builds project *slug*: by a hash of its folder's name, so
+    that a project stays in its shard when others are added or removed (each shard's
+    published site, kept between runs, then reuses what did not change), and no shard needs
+    the list of the others to know its own. Shards are even in size on average, not exactly."""
+    digest = hashlib.sha256(os.fsencode(slug)).digest()
+    return int.from_bytes(digest[:8], "big") % count + 1
+
+
+def portfolio_digest(slugs: list[str]) -> str:
+    """A hash of the sorted project slugs of a portfolio: shards of one portfolio agree on it."""
+    h = hashlib.sha256()
+    for slug in sorted(slugs):
+        h.update(os.fsencode(slug) + b"\0")
+    return h.hexdigest()
+
+
+def shard_record(settings: PortfolioSettings, shard: tuple[int, int],
+                 slugs: list[str]) -> dict:
+    """What a shard's manifest says about it, for the merge (``site.merge``) to check the
+    shards against each other and render the index: which shard of how many, the whole
+    portfolio it is a part of, and the settings and templates it was built with."""
+    index, count = shard
+    return {"index": index, "count": count, "portfolio": portfolio_digest(slugs),
+            "projects_total": len(slugs), "settings": asdict(settings),
+            "key": hashlib.sha256(_settings_key(settings, False).encode()).hexdigest()}
 
 
 def _read_manifest(out: Path) -> dict:
@@ -329,6 +359,10 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     report.problems.extend(portfolio_problems)
     report.problems.extend(stray_entries(root))
     folders = discover(root)
+    shard = None
+    if opts.shard is not None:
+        shard = shard_record(settings, opts.shard, [f.name for f in folders])
+        folders = [f for f in folders if shard_of(f.name, opts.shard[1]) == opts.shard[0]]
 
     # 3. plan
     manifest = {} if opts.force else _read_manifest(out)
@@ -339,7 +373,7 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     pool = _early_pool(early_jobs) if not old and early_jobs > 1 and len(folders) > 2 else None
     try:
         done = _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
-                              manifest, old, pool, progress_cb)
+                              manifest, old, pool, progress_cb, shard)
     except BaseException:
         if pool is not None:
             _stop_pool(pool, abort=True)
@@ -352,7 +386,8 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
 def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildReport,
                    settings: PortfolioSettings, portfolio_problems: list[Problem],
                    folders: list[Path], manifest: dict, old: dict,
-                   pool: ProcessPoolExecutor | None, progress_cb) -> BuildReport:
+                   pool: ProcessPoolExecutor | None, progress_cb,
+                   shard: dict | None = None) -> BuildReport:
     key = _settings_key(settings, opts.live)
     memo = digest_memo_for(root)  # unchanged files are not read again
     hashes = {f.name: input_hash(f, key, memo, root) for f in folders}
@@ -417,6 +452,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                 for slug in sorted(entries)
             },
         }
+        if shard is not None:
+            new_manifest["shard"] = shard
         manifest_bytes = dumps_bytes(new_manifest)
         report.stamps = {slug: hashes[slug][:16] for slug in entries}
         report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
