@@ -305,20 +305,8 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
             for sig in (signal.SIGINT, signal.SIGTERM):
                 old_handlers[sig] = signal.signal(sig, _raise_stop)
 
-        # First build.
-        t0 = time.perf_counter()
-        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
-        for line in problem_lines(report.problems):
-            _say(line)
-        if not quiet:
-            _say(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-                 f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
-                 f"site at {out}")
-        warm_up(root)
-        standby = Standby(out)
-        standby.prepare()
-
-        # Watch.
+        # Watch, from before the first build: a rebuild hashes only the projects whose
+        # files the watcher saw change, so a change made during the first build must be seen.
         cond = threading.Condition()
         debouncer = Debouncer(QUIET_S, CAP_S)
 
@@ -339,6 +327,19 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
         observer = Observer()
         observer.schedule(Handler(), str(root), recursive=True)
         observer.start()
+
+        # First build.
+        t0 = time.perf_counter()
+        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
+        for line in problem_lines(report.problems):
+            _say(line)
+        if not quiet:
+            _say(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+                 f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
+                 f"site at {out}")
+        warm_up(root)
+        standby = Standby(out)
+        standby.prepare()
 
         if server is not None:
             server_thread = threading.Thread(target=server.serve_forever,
