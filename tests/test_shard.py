@@ -54,7 +54,7 @@ def test_two_shards_merged_are_byte_identical_to_one_build(demo_shards, demo_sit
     assert sorted(p.relative_to(merged).as_posix() for p in merged.rglob("*")) == \
         sorted(p.relative_to(demo_site).as_posix() for p in demo_site.rglob("*"))
     assert capsys.readouterr().err.strip() == \
-        f"steadyline: 2 shards merged, {len(slugs)} projects built, 0 with errors; site " \
+        f"steadyline: 2 shards merged: {len(slugs)} projects, 0 with errors; site " \
         f"published at {merged}"
     # and a later build of the whole portfolio into the merged site has nothing to do
     assert main(["build", str(DEMO), "--out", str(merged), "--jobs", "1"]) == 0
@@ -121,6 +121,11 @@ def test_missing_overlapping_and_unlike_shards_are_refused(tmp_path: Path, capsy
     (old / MANIFEST).write_text(json.dumps(m), "utf-8")
     assert refused(capsys, a1, str(old), a3, "--out", out).startswith(
         f"steadyline: {old}: shard built by steadyline 0.0.1, this is ")
+    m = manifest(old)
+    m["version"], m["shard"]["index"] = manifest(a1)["version"], "2"
+    (old / MANIFEST).write_text(json.dumps(m), "utf-8")
+    assert refused(capsys, a1, str(old), a3, "--out", out) == \
+        f"steadyline: {old}/{MANIFEST}: the shard record is damaged; build the shard again"
     assert refused(capsys, a1, a2, a3, "--out", a2) == \
         f"steadyline: {a2}: refused as output: it is, is inside or contains the shard {a2}; " \
         "choose another folder"

@@ -95,8 +95,9 @@ def cmd_merge(args) -> int:
     report = merge([Path(d) for d in args.shard_dirs], out)
     _print_problems(report.problems)
     if not args.quiet:
-        print(f"steadyline: {len(args.shard_dirs)} shards merged, {len(report.built)} "
-              f"projects built, {len(report.broken)} with errors; site published at {out}",
+        print(f"steadyline: {len(args.shard_dirs)} shards merged: "
+              f"{len(report.built) + len(report.broken)} projects, {len(report.broken)} with "
+              f"errors; site published at {out}",
               file=sys.stderr)
     return 0 if report.ok else 1
 

@@ -57,6 +57,12 @@ def _read_shard(folder: Path) -> Shard:
     except (OSError, orjson.JSONDecodeError) as e:
         raise BuildError(f"{folder}/{MANIFEST}: cannot be read: {e}") from None
     record = manifest.get("shard")
+    if isinstance(record, dict) and not (
+            all(isinstance(record.get(k), int) for k in ("index", "count", "projects_total"))
+            and isinstance(record.get("settings"), dict)
+            and isinstance(manifest.get("projects"), dict)):
+        raise BuildError(f"{folder}/{MANIFEST}: the shard record is damaged; build the shard "
+                         "again")
     if not isinstance(record, dict):
         raise BuildError(f"{folder}: not a shard (its manifest has no shard record); build it "
                          "with `steadyline build --shard I/N`")
