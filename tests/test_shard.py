@@ -122,7 +122,7 @@ def test_missing_overlapping_and_unlike_shards_are_refused(tmp_path: Path, capsy
     assert refused(capsys, a1, str(old), a3, "--out", out).startswith(
         f"steadyline: {old}: shard built by steadyline 0.0.1, this is ")
     m = manifest(old)
-    m["version"], m["shard"]["index"] = manifest(a1)["version"], "2"
+    m["version"], m["shard"]["index"] = manifest(Path(a1))["version"], "2"
     (old / MANIFEST).write_text(json.dumps(m), "utf-8")
     assert refused(capsys, a1, str(old), a3, "--out", out) == \
         f"steadyline: {old}/{MANIFEST}: the shard record is damaged; build the shard again"
