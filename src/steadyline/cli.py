@@ -51,7 +51,12 @@ def cmd_build(args) -> int:
 
     projects = Path(args.projects_dir)
     out = Path(args.out)
-    total = len(discover(projects)) if projects.is_dir() else 0
+    folders = discover(projects) if projects.is_dir() else []
+    if args.shard is not None:
+        from .site.build import shard_of
+
+        folders = [f for f in folders if shard_of(f.name, args.shard[1]) == args.shard[0]]
+    total = len(folders)
     prog, cb = _progress(total, _show_progress(args))
     opts = BuildOptions(projects, out, force=args.force, jobs=args.jobs, debug=args.debug,
                         shard=args.shard)
