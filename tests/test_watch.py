@@ -1,9 +1,9 @@
 """`steadyline watch`: the pure parts (ignored names, slug mapping, debouncing, messages), the
 server, and the whole loop driven as a user would: save, break, fix, Ctrl-C.
 
-Timings: the debouncer's quiet period (0.3 s) and cap (3 s) were measured against watchdog's
-bursts (one editor save gives 6-17 raw events; STACK.md, "watchdog 7"); the tests below check the
-debouncer does what those numbers say, not that the numbers are right.
+Timings: the debouncer's quiet period (0.1 s) and cap (3 s) were chosen against watchdog's
+bursts (one editor save gives 6-17 raw events within a few milliseconds); the tests below check
+the debouncer does what those numbers say, not that the numbers are right.
 """
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""The command line: build, check, watch.
+"""The command line: build, check, watch, merge.
 
 This is the one place that turns our errors into exit codes:
   0  everything built / no errors (warnings may have been printed);
@@ -51,9 +51,15 @@ def cmd_build(args) -> int:
 
     projects = Path(args.projects_dir)
     out = Path(args.out)
-    total = len(discover(projects)) if projects.is_dir() else 0
+    folders = discover(projects) if projects.is_dir() else []
+    if args.shard is not None:
+        from .site.build import shard_of
+
+        folders = [f for f in folders if shard_of(f.name, args.shard[1]) == args.shard[0]]
+    total = len(folders)
     prog, cb = _progress(total, _show_progress(args))
-    opts = BuildOptions(projects, out, force=args.force, jobs=args.jobs, debug=args.debug)
+    opts = BuildOptions(projects, out, force=args.force, jobs=args.jobs, debug=args.debug,
+                        shard=args.shard)
     if prog is not None:
         with prog:
             report = build(opts, cb)
@@ -87,6 +93,31 @@ def cmd_check(args) -> int:
     return 0
 
 
+def cmd_merge(args) -> int:
+    from .site.merge import merge
+
+    out = Path(args.out)
+    report = merge([Path(d) for d in args.shard_dirs], out)
+    _print_problems(report.problems)
+    if not args.quiet:
+        print(f"steadyline: {len(args.shard_dirs)} shards merged: "
+              f"{len(report.built) + len(report.broken)} projects, {len(report.broken)} with "
+              f"errors; site published at {out}",
+              file=sys.stderr)
+    return 0 if report.ok else 1
+
+
+def _shard(text: str) -> tuple[int, int]:
+    """``I/N`` with 1 <= I <= N: shard I of N."""
+    try:
+        i, n = (int(x) for x in text.split("/"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r}: expected I/N, e.g. 2/4") from None
+    if not 1 <= i <= n:
+        raise argparse.ArgumentTypeError(f"{text!r}: I must be from 1 to N")
+    return i, n
+
+
 def cmd_watch(args) -> int:
     from .watch import watch
 
@@ -118,6 +149,8 @@ def parser() -> argparse.ArgumentParser:
     b.add_argument("--force", action="store_true",
                    help="rebuild every project, even those whose inputs did not change")
     b.add_argument("--strict", action="store_true", help="exit 1 on warnings too")
+    b.add_argument("--shard", type=_shard, default=None, metavar="I/N",
+                   help="build only shard I of N of the projects (see merge)")
     b.set_defaults(func=cmd_build)
 
     c = sub.add_parser("check", help="validate every project without writing anything")
@@ -130,6 +163,14 @@ def parser() -> argparse.ArgumentParser:
     w.add_argument("--port", type=int, default=8000, help="port on 127.0.0.1 (default: 8000)")
     w.add_argument("--no-serve", action="store_true", help="only rebuild; do not serve")
     w.set_defaults(func=cmd_watch)
+
+    m = sub.add_parser("merge", help="merge sites built with build --shard into one site")
+    m.add_argument("shard_dirs", nargs="+", metavar="SHARD_DIR",
+                   help="the output folder of each shard's build")
+    m.add_argument("--out", default="site", help="output folder (default: site)")
+    m.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+    m.add_argument("--quiet", action="store_true", help="print only problems")
+    m.set_defaults(func=cmd_merge)
     return p
 
 

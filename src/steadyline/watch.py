@@ -13,10 +13,22 @@ The moving parts are kept apart so that the logic can be tested without threads 
 - :func:`watch` wires them to a watchdog observer, the build and a small standard-library HTTP
   server.
 
-One editor save gives several raw events (an atomic save shows only as a move onto the file);
-a quiet period of 0.3 s with a 3 s cap turns each burst into one rebuild. The build itself
-hashes each project's inputs, so a rebuild redoes only what changed; the pages of a watched
-site poll live-state.json and reload when their project's stamp changes.
+One editor save gives several raw events within a few milliseconds (an atomic save shows only
+as a move onto the file); a quiet period of 0.1 s with a 3 s cap turns each burst into one
+rebuild (a burst cut in two would cost a second rebuild, never a wrong page: each build reads
+the files as they are). The pages of a watched site poll live-state.json and reload when their
+project's stamp changes.
+
+A save must reach the page quickly, so the session keeps what a rebuild needs ready:
+- the statistics stack (pandas, numpy, the chart and page templates, compiled) is loaded once,
+  at the start, by building the smallest project in memory (:func:`warm_up`); the first build
+  may run in worker processes, which would leave this process cold for the first save;
+- only the projects the watcher saw change are hashed again (``trust_unnamed``); the first
+  build of the session hashes them all;
+- the next rebuild's staging folder is prepared while the session waits
+  (``site.build.Standby``: the published files hard-linked, as a rebuild would link them), so
+  that a rebuild writes only its project, the index and the manifest before the swap.
+The site is the one a `build` makes, byte for byte (the live pages apart, which poll).
 
 A watch session holds the output's lock (``site.publish.lock_output``) from its first build
 until it stops, not just while each rebuild runs: it republishes the output whenever a file
@@ -41,7 +53,7 @@ from pathlib import Path
 from .errors import BuildError, Problem, SteadylineError
 from .site.common import CSP, is_ignored
 
-QUIET_S = 0.3
+QUIET_S = 0.1
 CAP_S = 3.0
 PORTFOLIO_FILE = "portfolio.toml"
 
@@ -261,7 +273,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
     from watchdog.events import FileSystemEventHandler
     from watchdog.observers import Observer
 
-    from .site.build import BuildOptions, build
+    from .site.build import BuildOptions, Standby, build
     from .site.output_rule import check_output, named_faults
     from .site.publish import lock_output
 
@@ -279,6 +291,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
         lock.release()
         raise
     observer = None
+    standby = None
     server_thread = None
     old_handlers: dict[int, object] = {}
 
@@ -292,17 +305,8 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
             for sig in (signal.SIGINT, signal.SIGTERM):
                 old_handlers[sig] = signal.signal(sig, _raise_stop)
 
-        # First build.
-        t0 = time.perf_counter()
-        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
-        for line in problem_lines(report.problems):
-            _say(line)
-        if not quiet:
-            _say(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-                 f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
-                 f"site at {out}")
-
-        # Watch.
+        # Watch, from before the first build: a rebuild hashes only the projects whose
+        # files the watcher saw change, so a change made during the first build must be seen.
         cond = threading.Condition()
         debouncer = Debouncer(QUIET_S, CAP_S)
 
@@ -324,6 +328,19 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
         observer.schedule(Handler(), str(root), recursive=True)
         observer.start()
 
+        # First build.
+        t0 = time.perf_counter()
+        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
+        for line in problem_lines(report.problems):
+            _say(line)
+        if not quiet:
+            _say(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+                 f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
+                 f"site at {out}")
+        warm_up(root)
+        standby = Standby(out)
+        standby.prepare()
+
         if server is not None:
             server_thread = threading.Thread(target=server.serve_forever,
                                              name="steadyline-serve", daemon=True)
@@ -343,7 +360,7 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
                         break
                     wait = debouncer.due_in(now)
                     cond.wait(1.0 if wait is None else min(wait, 1.0))
-            _rebuild(batch, root, out, jobs, debug, quiet, build, BuildOptions, lock)
+            _rebuild(batch, root, out, jobs, debug, quiet, build, BuildOptions, lock, standby)
     except (KeyboardInterrupt, _Stop):
         if not quiet:
             _say("steadyline: stopped")
@@ -357,13 +374,37 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
             server.server_close()
         if observer is not None:
             observer.join(timeout=5)
+        if standby is not None:
+            standby.discard()
         for sig, h in old_handlers.items():
             signal.signal(sig, h)
         lock.release()
 
 
+def warm_up(root: Path) -> None:
+    """Load the statistics stack and fill its caches in this process, once, by building the
+    smallest project (by the size of its files) in memory and throwing the result away:
+    imports, compiled page templates, chart templates and the garbage collector's settings are
+    then ready for the first save. Nothing is written. Any failure only leaves it cold."""
+    try:
+        from .config import discover, load_portfolio
+        from .site.build import _tune_gc
+        from .site.project import build_project
+
+        def size(folder: Path) -> int:
+            return sum(p.stat().st_size for p in folder.glob("*") if p.is_file())
+
+        folders = [f for f in discover(root) if (f / "project.toml").is_file()]
+        _tune_gc()
+        if folders:
+            settings, _ = load_portfolio(root)
+            build_project(min(folders, key=size), root, settings, live="live-state.json")
+    except Exception:  # noqa: BLE001 - a cold start is slower, never wrong
+        pass
+
+
 def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
-             build, BuildOptions, lock) -> None:
+             build, BuildOptions, lock, standby=None) -> None:
     slugs = changed_slugs(batch, root)
     if slugs is not None:
         slugs = known_slugs(slugs, root, out)
@@ -374,7 +415,7 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
         # A change to portfolio.toml rebuilds everything (force); otherwise the changed projects
         # are named, and any other project whose inputs changed is still caught by its hash.
         opts = BuildOptions(root, out, force=slugs is None, jobs=jobs, live=True, debug=debug,
-                            only=slugs, lock=lock)
+                            only=slugs, lock=lock, trust_unnamed=True, standby=standby)
         report = build(opts)
     except SteadylineError as e:
         _say(f"steadyline: {e}")
@@ -385,6 +426,9 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
         _say(f"steadyline: internal error: {type(e).__name__}: {e}"
              + ("" if debug else " (run with --debug for the traceback)"))
         return
+    finally:
+        if standby is not None:
+            standby.prepare()  # for the next save, while waiting for it (no-op if kept)
     seconds = time.perf_counter() - t0
     rebuilt = set(report.built) | (set(report.broken) - set(report.reused))
     for line in problem_lines(report.problems, None if slugs is None else rebuilt):

@@ -37,7 +37,7 @@ import sys
 import threading
 import time
 from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
-from dataclasses import dataclass, field, replace
+from dataclasses import asdict, dataclass, field, replace
 from multiprocessing import get_context
 from pathlib import Path
 
@@ -79,6 +79,13 @@ class BuildOptions:
     # The output's lock when the caller holds it already (a watch session holds it from start
     # to stop); None: the build takes it, waiting for another build of the same output.
     lock: OutputLock | None = None
+    # Build only shard I of N (1-based), (I, N): see ``shard_of``; None: every project.
+    shard: tuple[int, int] | None = None
+    # Watch mode: projects not named in *only* are taken to be unchanged since the last build
+    # (the watcher saw no event in their folders) and are not hashed again.
+    trust_unnamed: bool = False
+    # Watch mode: a staging folder prepared while the watch waited (see ``Standby``).
+    standby: Standby | None = None
 
 
 @dataclass
@@ -99,6 +106,34 @@ class BuildReport:
 
 def _settings_key(settings: PortfolioSettings, live: bool) -> str:
     return json.dumps([__version__, templates_fingerprint(), repr(settings), live])
+
+
+def shard_of(slug: str, count: int) -> int:
+    """The shard (1 to *count*) that builds project *slug*: by a hash of its folder's name, so
+    that a project stays in its shard when others are added or removed (each shard's
+    published site, kept between runs, then reuses what did not change), and no shard needs
+    the list of the others to know its own. Shards are even in size on average, not exactly."""
+    digest = hashlib.sha256(os.fsencode(slug)).digest()
+    return int.from_bytes(digest[:8], "big") % count + 1
+
+
+def portfolio_digest(slugs: list[str]) -> str:
+    """A hash of the sorted project slugs of a portfolio: shards of one portfolio agree on it."""
+    h = hashlib.sha256()
+    for slug in sorted(slugs):
+        h.update(os.fsencode(slug) + b"\0")
+    return h.hexdigest()
+
+
+def shard_record(settings: PortfolioSettings, shard: tuple[int, int],
+                 slugs: list[str]) -> dict:
+    """What a shard's manifest says about it, for the merge (``site.merge``) to check the
+    shards against each other and render the index: which shard of how many, the whole
+    portfolio it is a part of, and the settings and templates it was built with."""
+    index, count = shard
+    return {"index": index, "count": count, "portfolio": portfolio_digest(slugs),
+            "projects_total": len(slugs), "settings": asdict(settings),
+            "key": hashlib.sha256(_settings_key(settings, False).encode()).hexdigest()}
 
 
 def _read_manifest(out: Path) -> dict:
@@ -322,13 +357,20 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     report = BuildReport()
     # Folders of builds that were killed. Under the lock, so that no other build of this
     # output is starting or publishing meanwhile.
-    clean_stale(out)
+    if opts.standby is None:
+        # (A watch session's rebuilds skip it: its first build did it, and since then it
+        # has held the lock; its own standby folder carries its staging folder's name.)
+        clean_stale(out)
 
     # 1-2. settings and discovery
     settings, portfolio_problems = load_portfolio(root)
     report.problems.extend(portfolio_problems)
     report.problems.extend(stray_entries(root))
     folders = discover(root)
+    shard = None
+    if opts.shard is not None:
+        shard = shard_record(settings, opts.shard, [f.name for f in folders])
+        folders = [f for f in folders if shard_of(f.name, opts.shard[1]) == opts.shard[0]]
 
     # 3. plan
     manifest = {} if opts.force else _read_manifest(out)
@@ -339,7 +381,7 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     pool = _early_pool(early_jobs) if not old and early_jobs > 1 and len(folders) > 2 else None
     try:
         done = _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
-                              manifest, old, pool, progress_cb)
+                              manifest, old, pool, progress_cb, shard)
     except BaseException:
         if pool is not None:
             _stop_pool(pool, abort=True)
@@ -352,17 +394,24 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
 def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildReport,
                    settings: PortfolioSettings, portfolio_problems: list[Problem],
                    folders: list[Path], manifest: dict, old: dict,
-                   pool: ProcessPoolExecutor | None, progress_cb) -> BuildReport:
+                   pool: ProcessPoolExecutor | None, progress_cb,
+                   shard: dict | None = None) -> BuildReport:
     key = _settings_key(settings, opts.live)
     memo = digest_memo_for(root)  # unchanged files are not read again
-    hashes = {f.name: input_hash(f, key, memo, root) for f in folders}
+    trusted = (old if opts.trust_unnamed and opts.only is not None else {})
+    hashes = {f.name: (trusted[f.name]["hash"] if f.name in trusted and f.name not in opts.only
+                       else input_hash(f, key, memo, root)) for f in folders}
     memo.save()
+    ready = None
+    if opts.standby is not None:
+        ready = opts.standby.take() if not opts.force else opts.standby.discard()
     todo, reuse = [], []
     for f in folders:
         prev = old.get(f.name)
         fresh = (prev is not None and prev["hash"] == hashes[f.name]
                  and (opts.only is None or f.name not in opts.only)
-                 and _all_files(out / "projects" / f.name, prev["files"]))
+                 and (ready.linked.get(f.name) == prev["files"] if ready is not None else
+                      _all_files(out / "projects" / f.name, prev["files"])))
         (reuse if fresh else todo).append(f)
 
     # 4. compute, into the staging folder (in the early pool when there is one: then every
@@ -373,9 +422,22 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
     akey = assets_key()
     old_assets = out / "assets"
     reuse_assets = manifest.get("assets") == akey and old_assets.is_dir()
-    staged = staging_dir(out)
-    if todo:
-        staged.mkdir(parents=True)
+    if ready is not None:
+        # The standby folder holds links to the published files: what is not reused goes,
+        # before anything is written there (writing through a link would change the
+        # published file).
+        staged = ready.folder
+        keep = {f.name for f in reuse}
+        for slug in ready.linked:
+            if slug not in keep:
+                shutil.rmtree(staged / "projects" / slug)
+        reuse_assets = reuse_assets and ready.assets
+        if not reuse_assets:
+            shutil.rmtree(staged / "assets", ignore_errors=True)
+    else:
+        staged = staging_dir(out)
+        if todo:
+            staged.mkdir(parents=True)
     try:
         assets = _Assets(reuse_assets or not todo)  # the Vega bundle, made while workers run
         dates = _portfolio_git_dates(root, todo)
@@ -417,6 +479,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                 for slug in sorted(entries)
             },
         }
+        if shard is not None:
+            new_manifest["shard"] = shard
         manifest_bytes = dumps_bytes(new_manifest)
         report.stamps = {slug: hashes[slug][:16] for slug in entries}
         report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
@@ -425,13 +489,17 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
                      and all(_same(out / name, data) for name, data in index_out.items())
                      and _same(out / MANIFEST, manifest_bytes))
         if unchanged:
+            if ready is not None:
+                opts.standby.keep(ready)  # still a copy of the published site
             return report
 
         # 6. stage
-        if not todo:
+        if not todo and ready is None:
             staged.mkdir(parents=True)
         written: list[str] = [w for o in outcomes for w in o.written]
-        if reuse_assets:
+        if reuse_assets and ready is not None:
+            pass  # linked into the standby folder already
+        elif reuse_assets:
             # Same assets as published: reuse them instead of rebuilding the Vega bundle.
             names = [p.relative_to(old_assets).as_posix() for p in sorted(old_assets.rglob("*"))
                      if p.is_file()]
@@ -442,7 +510,8 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         if opts.live:
             written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
                                                          + "\n").encode()})
-        _link_reused(out, staged, [(f.name, files_of[f.name]) for f in reuse])
+        if ready is None:
+            _link_reused(out, staged, [(f.name, files_of[f.name]) for f in reuse])
         # 7. publish
         publish(staged, out, written)
     except BaseException:
@@ -450,6 +519,79 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         raise
     report.written = True
     return report
+
+
+@dataclass
+class _Ready:
+    folder: Path
+    linked: dict[str, list[str]]  # slug -> the files linked, as the manifest lists them
+    assets: bool  # the published assets are linked too
+
+
+class Standby:
+    """The next rebuild's staging folder, prepared while a watch session waits for a save: the
+    published site's project files and assets hard-linked into the staging folder, as the
+    stage step of a build would link them. Linking thousands of files takes most of a second,
+    which a rebuild after a save then does not spend: it removes from the folder the projects
+    it rebuilds (their links, never the published files), writes them, the index and the
+    manifest, and swaps the folder in as usual. Only the holder of the output's lock may use
+    one (nothing else publishes meanwhile, so the links stay those of the published site); the
+    folder carries the watch's staging folder's name, so that it is cleaned as one if the
+    session is killed."""
+
+    def __init__(self, out: Path):
+        self.out = out
+        self._thread: threading.Thread | None = None
+        self._ready: _Ready | None = None
+
+    def prepare(self) -> None:
+        """Start linking the published site into the standby folder, in a thread; nothing to
+        do while one is being made or is ready (a build that published nothing kept it)."""
+        if self._thread is not None or self._ready is not None:
+            return
+        self._thread = threading.Thread(target=self._make, name="steadyline-standby",
+                                        daemon=True)
+        self._thread.start()
+
+    def _make(self) -> None:
+        folder = staging_dir(self.out)
+        try:
+            shutil.rmtree(folder, ignore_errors=True)
+            manifest = _read_manifest(self.out)
+            folder.mkdir(parents=True)
+            linked: dict[str, list[str]] = {}
+            for slug, item in sorted(manifest.get("projects", {}).items()):
+                files = item["files"]
+                link_tree(self.out / "projects" / slug, folder / "projects" / slug, files)
+                linked[slug] = files
+            assets = self.out / "assets"
+            has_assets = assets.is_dir()
+            if has_assets:
+                link_tree(assets, folder / "assets",
+                          [p.relative_to(assets).as_posix() for p in sorted(assets.rglob("*"))
+                           if p.is_file()])
+            self._ready = _Ready(folder, linked, has_assets)
+        except Exception:  # a file gone, a full disk: the rebuild stages as a build does
+            shutil.rmtree(folder, ignore_errors=True)
+            self._ready = None
+
+    def take(self) -> _Ready | None:
+        """The prepared folder (waiting for it to be ready), handed over to one build."""
+        if self._thread is not None:
+            self._thread.join()
+            self._thread = None
+        ready, self._ready = self._ready, None
+        return ready
+
+    def keep(self, ready: _Ready) -> None:
+        """Give back a folder a build did not use (nothing to publish)."""
+        self._ready = ready
+
+    def discard(self) -> None:
+        ready = self.take()
+        if ready is not None:
+            shutil.rmtree(ready.folder, ignore_errors=True)
+        return None
 
 
 # From this many projects on, what the workers write is flushed to disk while they work, every
@@ -585,4 +727,4 @@ def check(projects_dir: Path, jobs: int | None = None, debug: bool = False) -> l
     return problems
 
 
-__all__ = ["BuildOptions", "BuildReport", "build", "check"]
+__all__ = ["BuildOptions", "BuildReport", "Standby", "build", "check"]
