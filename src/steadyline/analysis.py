@@ -33,6 +33,7 @@ from .stats.results import (
     Signal,
     StatsError,
 )
+from .vocab import period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history
 # page (Montgomery ch. 6 wants 20-25 subgroups for trial limits, from memory; we accept 12 for a
@@ -66,6 +67,9 @@ class MetricAnalysis:
     phase_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
     phase_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
     failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
+    # what the before/after test compared, in words ("daily means", "values", "items
+    # checked", ...): said beside its figures on the history page
+    compared: str = ""
 
     @property
     def spec(self) -> MetricSpec:
@@ -213,12 +217,24 @@ def analyse(data: MetricData) -> MetricAnalysis:
         after = stage == STAGE_AFTER
         dtype = {"continuous": "continuous", "subgroups": "continuous",
                  "defectives": "defectives", "defects": "defects"}[data.kind]
-        if data.kind in ("continuous", "subgroups") and data.values is not None:
+        if data.kind == "continuous" and spec.rollup is not None:
+            # A rolled-up metric compares its period values, the points its charts judge: the
+            # rows of one period share that period's conditions and are not independent, as
+            # the t-test and the rank test assume (treating them as independent is
+            # pseudoreplication, Hurlbert 1984, Ecological Monographs 54(2):187-211); and a
+            # period's total or count is no statistic of its rows' own values.
+            b_arr, a_arr, bs, as_ = values[base], values[after], None, None
+            res.compared = period_value(spec.rollup.period, spec.rollup.statistic, plural=True)
+        elif data.kind in ("continuous", "subgroups") and data.values is not None:
             vv, vs = data.values["value"].to_numpy(float), data.values["stage"].to_numpy(int)
             b_arr, a_arr, bs, as_ = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
+            res.compared = "individual values"
         else:
             b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
+            # each phase's totals: all its items checked, or all its area, pooled
+            res.compared = ("items checked, pooled over each phase" if data.kind == "defectives"
+                            else "defects over the area checked, pooled over each phase")
         res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
                               spec.better, baseline_sizes=bs, after_sizes=as_,
                               target=spec.target, metric=_subject(spec.name, data.kind),
@@ -227,6 +243,36 @@ def analyse(data: MetricData) -> MetricAnalysis:
             res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
                                    res.run.median, spec.run_rules)
     return res
+
+
+def points_note(spec: MetricSpec) -> str:
+    """What one point of a rolled-up metric's run and control charts is, in a sentence ("" for
+    a metric that is not rolled up): those charts judge the period values."""
+    r = spec.rollup
+    if r is None:
+        return ""
+    one = period_value(r.period, r.statistic)
+    if spec.type == "defectives" or r.statistic == "proportion":
+        what = f"the defective items over the items checked in one {r.period}"
+    elif spec.type == "defects":
+        what = (f"the defects per unit of area in one {r.period}" if r.statistic == "mean"
+                else f"the defects counted in one {r.period}")
+    else:
+        what = (f"the number of rows with a value in one {r.period}" if r.statistic == "count"
+                else f"the {r.statistic} of the values of one {r.period}")
+    return f"Each point is a {one} ({what}), not an individual value."
+
+
+def values_note(spec: MetricSpec, n: int) -> str:
+    """What a rolled-up metric's histogram, box plot and capability describe ("" for a metric
+    that is not rolled up): the individual values, since the specification limits apply to
+    single items and a period's mean varies less than they do."""
+    r = spec.rollup
+    if r is None:
+        return ""
+    return (f"Drawn from the {n} individual values before the roll-up, not from the "
+            f"{period_value(r.period, r.statistic, plural=True)}: the spread of single items, "
+            "which the specification limits apply to.")
 
 
 def _subject(name: str, kind: str) -> str:
@@ -283,8 +329,9 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
                           "own control limits")
     no_sigma = None
     if res.data.spec.rollup is not None:
-        no_sigma = ("The data are rolled up into periods, so the within-subgroup sigma of single "
-                    "values is not known; only Pp and Ppk (overall sigma) are given.")
+        no_sigma = (f"{values_note(res.data.spec, len(vals))} The control chart judges the "
+                    "period values, so the within-subgroup sigma of single values is not "
+                    "known; only Pp and Ppk (overall sigma) are given.")
     if normality is None and len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
     return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),
