@@ -189,6 +189,11 @@ def proportion_unit(items: str) -> str:
     return _PROPORTION_OF + items if items else "proportion"
 
 
+def is_proportion_unit(unit: str) -> bool:
+    """Whether ``unit`` is one :func:`proportion_unit` makes."""
+    return unit == "proportion" or unit.startswith(_PROPORTION_OF)
+
+
 def items_of(unit: str) -> str:
     """The items of a :func:`proportion_unit` ('wheels'); any other unit as it is."""
     if unit == "proportion":

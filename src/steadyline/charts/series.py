@@ -13,7 +13,14 @@ import numpy as np
 from ..memo import by_identity
 from ..stats.evidence import PointEvidence, change_counts, point_evidence
 from ..stats.results import ControlChart, RunChartAnalysis, Signal
-from ..vocab import RunRules, chart_name, items_of, proportion_text
+from ..vocab import (
+    RunRules,
+    chart_name,
+    is_proportion_unit,
+    items_of,
+    proportion_text,
+    proportion_unit,
+)
 from . import style, vl
 from .base import (
     ChartSpec,
@@ -833,7 +840,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys))
     median = num(analysis.median)
     median_text = "median " + (proportion_text(median, ctx.unit, fmt)
-                               if items_of(ctx.unit) != ctx.unit else
+                               if is_proportion_unit(ctx.unit) else
                                with_unit(fmt(median), ctx.unit))
     centre = (
         [{"y": disp(median), "x": xa.at(n - 1), "text": median_text}]
@@ -1218,6 +1225,8 @@ def _measure_title(ctx: SeriesContext, kind: str) -> str:
         return titled(f"{ctx.metric_name}, subgroup mean", ctx.unit)
     if kind == "np":
         return titled(ctx.metric_name, items_of(ctx.unit))
+    if kind in ("p", "laney-p") and not is_proportion_unit(ctx.unit):
+        return titled(ctx.metric_name, proportion_unit(""))  # never a count's unit on a share
     return titled(ctx.metric_name, ctx.unit)
 
 
