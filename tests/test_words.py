@@ -211,3 +211,17 @@ def test_the_before_after_test_of_a_roll_up_compares_the_period_values(demo_site
     # the metric of the same rows, not rolled up, still compares its individual values
     order = results["metrics"][1]
     assert order["comparison"]["n_baseline"] == daily["histogram"]["n"]
+
+
+def test_a_point_before_the_baseline_is_named_so_in_its_table_as_on_its_band(demo_site):
+    slug = demo_site / "projects/paint-finish-defects"
+    results = json.loads((slug / "results.json").read_text("utf-8"))
+    blemishes = next(m for m in results["metrics"] if m["id"] == "scanner-blemishes")
+    stages = blemishes["points"]["stage"]
+    # the first week lies before the baseline: it was called "Between periods"
+    assert stages[0] == "Before the baseline" and stages[1] == "Baseline"
+    assert "Between periods" in stages  # the weeks between the baseline and the after period
+    csv = (slug / "data/scanner-blemishes-control.csv").read_text("utf-8").splitlines()
+    assert "Before the baseline" in csv[1]
+    spec = (slug / "data/scanner-blemishes-control.vl.json").read_text("utf-8")
+    assert '"Before the baseline"' in spec  # the band's name

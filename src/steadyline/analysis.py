@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .config import MetricSpec
-from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, MetricData
+from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, STAGE_OTHER, MetricData
 from .stats import control, distribution, rules, runs
 from .stats.capability import capability as capability_of
 from .stats.choice import choose_chart
@@ -33,7 +33,7 @@ from .stats.results import (
     Signal,
     StatsError,
 )
-from .vocab import period_value
+from .vocab import PeriodKind, period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history
 # page (Montgomery ch. 6 wants 20-25 subgroups for trial limits, from memory; we accept 12 for a
@@ -79,6 +79,24 @@ class MetricAnalysis:
     def has_after(self) -> bool:
         # the data never change once loaded: worked out once
         return bool((self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
+
+
+def phase_names(stage: np.ndarray) -> tuple[str, ...]:
+    """Each point's phase by its kind of period (``vocab.PeriodKind``), capitalised as the
+    charts' bands name it: a point in neither period is "Before the baseline" before the first
+    baseline point, "After the after period" past an after point, else "Between periods"."""
+    names = list(map(STAGE_NAMES.__getitem__, stage.tolist()))
+    other = stage == STAGE_OTHER
+    if other.any():
+        base = np.flatnonzero(stage == STAGE_BASELINE)
+        after = np.flatnonzero(stage == STAGE_AFTER)
+        first_base = int(base[0]) if len(base) else len(stage)
+        first_after = int(after[0]) if len(after) else len(stage)
+        for i in np.flatnonzero(other).tolist():
+            kind = (PeriodKind.BEFORE if i < first_base and i < first_after
+                    else PeriodKind.LATER if i > first_after else PeriodKind.BETWEEN)
+            names[i] = kind.label[:1].upper() + kind.label[1:]
+    return tuple(names)
 
 
 def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):
@@ -140,7 +158,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
     # labels are text already; read through numpy (iterating a pandas string column value by
     # value costs more than the rest of this function's bookkeeping)
     res.x = tuple(map(str, pts["label"].to_numpy(dtype=object).tolist()))
-    res.stage_names = tuple(map(STAGE_NAMES.__getitem__, stage.tolist()))
+    res.stage_names = phase_names(stage)
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE
 
