@@ -225,3 +225,19 @@ def test_a_point_before_the_baseline_is_named_so_in_its_table_as_on_its_band(dem
     assert "Before the baseline" in csv[1]
     spec = (slug / "data/scanner-blemishes-control.vl.json").read_text("utf-8")
     assert '"Before the baseline"' in spec  # the band's name
+
+
+def test_each_chart_kind_has_one_name(demo_site):
+    text = _pages(demo_site)
+    titles = set(re.findall(r"Control chart: ([^<:\"]+)", text))
+    labels = {k.label for k in vocab.ChartKind}
+    assert titles and titles <= labels, titles - labels
+    # the chart's own title and the card named it by the labels of its two series
+    for old in ("Individuals (X) with", "Subgroup mean (X̄) and", "Control chart: Proportion"):
+        assert old not in text
+    # the reason a chart was chosen (words of the statistics) names it the same way
+    for res in sorted((demo_site / "projects").glob("*/results.json")):
+        for m in json.loads(res.read_text("utf-8"))["metrics"]:
+            choice = (m.get("control_chart") or {}).get("choice")
+            if choice:
+                assert vocab.ChartKind(choice["kind"]).label in choice["reason"], choice

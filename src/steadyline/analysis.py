@@ -271,14 +271,14 @@ def points_note(spec: MetricSpec) -> str:
         return ""
     one = period_value(r.period, r.statistic)
     if spec.type == "defectives" or r.statistic == "proportion":
-        what = f"the defective items over the items checked in one {r.period}"
+        what = f"the defective items over the items checked that {r.period}"
     elif spec.type == "defects":
-        what = (f"the defects per unit of area in one {r.period}" if r.statistic == "mean"
-                else f"the defects counted in one {r.period}")
+        what = (f"the defects per unit of area that {r.period}" if r.statistic == "mean"
+                else f"the defects counted that {r.period}")
     else:
-        what = (f"the number of rows with a value in one {r.period}" if r.statistic == "count"
-                else f"the {r.statistic} of the values of one {r.period}")
-    return f"Each point is a {one} ({what}), not an individual value."
+        what = (f"the number of rows with a value that {r.period}" if r.statistic == "count"
+                else f"the {r.statistic} of that {r.period}'s values")
+    return f"Each point is a {one}: {what}, not a single value."
 
 
 def values_note(spec: MetricSpec, n: int) -> str:

@@ -115,7 +115,7 @@ _LABELS: dict[type, dict] = {
     },
     ChartKind: {
         ChartKind.AUTO: "chosen from the data",
-        ChartKind.XMR: "individuals and moving range chart (XmR)",
+        ChartKind.XMR: "individuals and moving-range chart (X-mR)",
         ChartKind.XBAR_R: "Xbar-R chart",
         ChartKind.XBAR_S: "Xbar-S chart",
         ChartKind.P: "p chart",
@@ -159,6 +159,16 @@ def period_value(period: str, statistic: str, plural: bool = False) -> str:
     """One rolled-up point in words: 'daily mean', or 'weekly totals' with ``plural``."""
     word = RollupStatistic(statistic).label
     return f"{RollupPeriod(period).label} {word}{'s' if plural else ''}"
+
+
+def control_chart_kind(kind: str, secondary: str | None = None) -> ChartKind:
+    """The chart kind of a computed control chart, from its ``kind`` and its companion's
+    (``ControlChart.kind`` names what the points are: "individuals", "xbar", "p" ...)."""
+    if kind == "individuals":
+        return ChartKind.XMR
+    if kind == "xbar":
+        return ChartKind.XBAR_S if secondary == "stdev" else ChartKind.XBAR_R
+    return ChartKind(kind)
 
 
 def chart_name(label: str) -> str:
@@ -226,6 +236,7 @@ __all__ = [
     "Status",
     "STATUS_LABELS",
     "chart_name",
+    "control_chart_kind",
     "percentage_points",
     "period_value",
     "plural",

@@ -16,6 +16,7 @@ from ..stats.results import ControlChart, RunChartAnalysis, Signal
 from ..vocab import (
     RunRules,
     chart_name,
+    control_chart_kind,
     is_proportion_unit,
     items_of,
     proportion_text,
@@ -1217,6 +1218,15 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     return ColumnTable(columns, cols), tuple(columns)
 
 
+def _kind_name(chart: ControlChart) -> str:
+    """'Xbar-R chart', 'Laney p′ chart': the vocabulary's name of the chart's kind."""
+    sec = chart.secondary.kind if chart.secondary is not None else None
+    try:
+        return control_chart_kind(chart.kind, sec).label
+    except ValueError:  # a kind the vocabulary does not hold: the chart's own label
+        return chart_name(chart.label)
+
+
 def _measure_title(ctx: SeriesContext, kind: str) -> str:
     """A control chart's y-axis title: the measure its points are, with their unit (never the
     chart's name). A p chart plots the proportion of the items checked (``ctx.unit`` says so),
@@ -1242,7 +1252,9 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(ctx, chart, signals, offset)
 
-    title = f"{ctx.metric_name} \u2014 {chart.label}" + (f" and {sec.label}" if sec else "")
+    # the chart named once, by the vocabulary's name of its kind
+    name = _kind_name(chart)
+    title = f"{ctx.metric_name} \u2014 {name}"
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
@@ -1259,7 +1271,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
     summary = (
-        f"{chart_name(chart.label)} of {ctx.metric_name}: {plural(n, 'point')}"
+        f"{name} of {ctx.metric_name}: {plural(n, 'point')}"
         + (f", {lim} (at the last point)" if lim else "")
         + f"; {_signals_sentence(signals)}."
     )
@@ -1309,8 +1321,8 @@ def staged_control_chart(
         own_signals=own_signals,
     )
 
-    title = f"{ctx.metric_name} \u2014 {carried.label}" + (f" and {sec.label}" if sec else "")
-    title += " by phase"
+    name = _kind_name(carried)
+    title = f"{ctx.metric_name} \u2014 {name} by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
     subtitle = [*([ctx.points_note] if ctx.points_note else []),
                 _fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
@@ -1335,7 +1347,7 @@ def staged_control_chart(
     own_last = {lab["kind"]: lab["text"] for lab in datasets.get("own_labels", [])}
     own_lim = ", ".join(own_last[k] for k in ("LCL", "centre line", "UCL") if k in own_last)
     summary = (
-        f"{chart_name(carried.label)} of {ctx.metric_name} by phase: {plural(n, 'point')}"
+        f"{name} of {ctx.metric_name} by phase: {plural(n, 'point')}"
         + (f", {lim}" if lim else "")
         + (f"; {own_lim}" if own_lim else "")
         + f"; {change}; {unstable}."

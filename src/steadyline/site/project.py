@@ -41,6 +41,7 @@ from ..vocab import (
     DataType,
     RunRules,
     SignalRules,
+    control_chart_kind,
     percentage_points,
     period_value,
 )
@@ -142,9 +143,9 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             baseline_signals += _in_baseline(a.run.signals, a.stage_names)
         if a.control is not None:
             chart = control_chart(ctx, a.control, a.signals)
-            title = f"Control chart: {a.control.label}"
-            if a.control.secondary is not None:
-                title += f" with {a.control.secondary.label}"
+            title = "Control chart: " + control_chart_kind(
+                a.control.kind,
+                a.control.secondary.kind if a.control.secondary is not None else None).label
             d.add("control", title, chart,
                   advice.control_findings(a.control, a.signals, a.x, signal_label, a.stage_names),
                   advice.control_cautions(a.control),
