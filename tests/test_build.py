@@ -102,7 +102,7 @@ def test_a_defectives_run_chart_is_labelled_as_a_proportion(demo_site: Path):
                        / "retrue-rate-run.vl.json").read_text("utf-8"))
     (centre,) = spec["datasets"]["centre"]
     assert re.fullmatch(r"median \d+\.\d+% of wheels", centre["text"]), centre["text"]
-    assert "Wheels needing re-truing (proportion of wheels)" in json.dumps(spec)
+    assert "Wheels needing re-truing (proportion)" in json.dumps(spec)
 
 
 def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):

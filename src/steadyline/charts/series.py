@@ -858,7 +858,7 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     datasets["headroom"] = (headroom_rows(datasets["events"], style.HEIGHT_MAIN,
                                           np.append(np.asarray(vals, dtype=float), median))
                             if datasets["events"] and median is not None else [])
-    values_map = {"y_title": axis_title(titled(ctx.metric_name, ctx.unit), style.HEIGHT_MAIN)}
+    values_map = {"y_title": axis_title(_measure_title(ctx, "individuals"), style.HEIGHT_MAIN)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     values_map.update(band_values(datasets["bands"]))
 
@@ -1228,15 +1228,17 @@ def _kind_name(chart: ControlChart) -> str:
 
 
 def _measure_title(ctx: SeriesContext, kind: str) -> str:
-    """A control chart's y-axis title: the measure its points are, with their unit (never the
+    """A series chart's y-axis title: the measure its points are, with their unit (never the
     chart's name). A p chart plots the proportion of the items checked (``ctx.unit`` says so),
     an np chart the number of them, an X-bar chart the subgroup means."""
     if kind == "xbar":
         return titled(f"{ctx.metric_name}, subgroup mean", ctx.unit)
     if kind == "np":
         return titled(ctx.metric_name, items_of(ctx.unit))
-    if kind in ("p", "laney-p") and not is_proportion_unit(ctx.unit):
-        return titled(ctx.metric_name, proportion_unit(""))  # never a count's unit on a share
+    if kind in ("p", "laney-p") or is_proportion_unit(ctx.unit):
+        # the metric's name names the items already ("Frames with weld porosity"): the axis
+        # says "proportion" (never a count's unit on a share); sentences say "7% of frames"
+        return titled(ctx.metric_name, proportion_unit(""))
     return titled(ctx.metric_name, ctx.unit)
 
 

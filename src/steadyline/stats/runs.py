@@ -319,7 +319,7 @@ def analyse_runs(
     if on_median:
         notes.append(
             f"{_count(on_median, 'point')} {'lies' if on_median == 1 else 'lie'} exactly on the "
-            "median; they are not counted in runs "
+            f"median; {'it is' if on_median == 1 else 'they are'} not counted in runs "
             "or crossings."
         )
     sides = np.where(x[useful_idx] > centre, 1, -1)
