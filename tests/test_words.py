@@ -241,3 +241,15 @@ def test_each_chart_kind_has_one_name(demo_site):
             choice = (m.get("control_chart") or {}).get("choice")
             if choice:
                 assert vocab.ChartKind(choice["kind"]).label in choice["reason"], choice
+
+
+def test_the_statistics_name_each_chart_kind_as_the_pages_do():
+    from steadyline.stats import choice
+
+    for code in choice.CHART_KINDS:
+        assert choice.CHART_NAMES[code] == vocab.ChartKind(code).label
+    # a chart chosen in project.toml is named, not given by its code (was "xbar-s chart
+    # chosen by the user (the suggested chart was xbar-r)")
+    picked = choice.choose_chart("continuous", subgroup_sizes=[5] * 30, override="xbar-s")
+    assert picked.reason.startswith("Xbar-S chart chosen in project.toml")
+    assert picked.reason.endswith("the data suggest the Xbar-R chart)")
