@@ -117,6 +117,10 @@ def test_a_change_of_a_proportion_is_in_percentage_points(demo_site):
     # the Change row said "-3.13%" for a fall from 4.90% to 1.77%
     assert "−3.13 percentage points" in hist
     assert not re.search(r"<td>[-−]\d+\.\d+%", hist)
+    # n counts the weeks pooled, and the baseline median is a share of the orders (it was
+    # "0.04721 orders", a proportion with the items' unit)
+    assert "<td>20 periods</td>" in hist
+    assert re.search(r"baseline median \d+\.\d+% of orders by the Anhøj rules", hist)
     index = (demo_site / "index.html").read_text("utf-8")
     assert "down 3.13 percentage points" in index
     results = json.loads((demo_site / "projects/order-picking-errors/results.json")

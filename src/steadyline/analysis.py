@@ -67,9 +67,11 @@ class MetricAnalysis:
     phase_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
     phase_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
     failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
-    # what the before/after test compared, in words ("daily means", "values", "items
-    # checked", ...): said beside its figures on the history page
+    # what the before/after test compared, in words ("daily means", "individual values",
+    # "items checked, pooled over each phase"), and what its n counts ("daily means",
+    # "individual values", "periods"): said beside its figures on the history page
     compared: str = ""
+    counted: str = ""
 
     @property
     def spec(self) -> MetricSpec:
@@ -243,16 +245,18 @@ def analyse(data: MetricData) -> MetricAnalysis:
             # period's total or count is no statistic of its rows' own values.
             b_arr, a_arr, bs, as_ = values[base], values[after], None, None
             res.compared = period_value(spec.rollup.period, spec.rollup.statistic, plural=True)
+            res.counted = res.compared
         elif data.kind in ("continuous", "subgroups") and data.values is not None:
             vv, vs = data.values["value"].to_numpy(float), data.values["stage"].to_numpy(int)
             b_arr, a_arr, bs, as_ = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
-            res.compared = "individual values"
+            res.compared = res.counted = "individual values"
         else:
             b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
             # each phase's totals: all its items checked, or all its area, pooled
             res.compared = ("items checked, pooled over each phase" if data.kind == "defectives"
                             else "defects over the area checked, pooled over each phase")
+            res.counted = "periods"  # n of these tests counts the periods pooled
         res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
                               spec.better, baseline_sizes=bs, after_sizes=as_,
                               target=spec.target, metric=_subject(spec.name, data.kind),

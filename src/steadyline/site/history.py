@@ -16,7 +16,7 @@ from ..charts import (
 from ..config import PHASES, ProjectSpec
 from ..stats.compare import format_p_value
 from ..stats.evidence import DIRECTIONS
-from ..vocab import RunRules, percentage_points
+from ..vocab import RunRules, percentage_points, proportion_text, proportion_unit
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
 from .templates import render
@@ -45,10 +45,10 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     show = pct if c.measure == "proportion" else (lambda v: fmt(v, unit, 4))
     # a change of a proportion is a difference of percentages: percentage points
     change = (percentage_points(c.change) if c.measure == "proportion"
-              else fmt(c.change, unit, 4))
+              else fmt(c.change, unit, 4).replace("-", "−"))
     # what the test compared: the period values of a rolled-up metric, else the individual
     # values, or each phase's items or area pooled (n then counts the periods)
-    what = a.compared or ("values" if c.measure in ("mean", "median") else "periods")
+    what = a.counted or ("values" if c.measure in ("mean", "median") else "periods")
     rows = [
         (f"{MEASURE_TEXT.get(c.measure, c.measure)}, baseline", show(c.baseline),
          f"{c.n_baseline} {what}"),
@@ -64,8 +64,10 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     if a.after_shift is not None:
         sh = a.after_shift
         rows.append(("Sustained shift", "yes" if sh.signals else "no",
-                     f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
-                     f" by the {RunRules(sh.rule_set).label}"))
+                     "after-phase points against the baseline median "
+                     + (proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
+                        if a.data.kind == "defectives" else fmt(sh.median, unit, 4))
+                     + f" by the {RunRules(sh.rule_set).label}"))
     return rows
 
 
