@@ -212,6 +212,8 @@ def test_the_before_after_test_of_a_roll_up_compares_the_period_values(demo_site
     hist = (slug / "history.html").read_text("utf-8")
     assert "Welch&#39;s t-test, on the daily means" in hist
     assert f"{len(before)} daily means" in hist
+    index = (demo_site / "index.html").read_text("utf-8")
+    assert "Mean of the daily means 54.4 hours → 29.9 hours" in index
     # the metric of the same rows, not rolled up, still compares its individual values
     order = results["metrics"][1]
     assert order["comparison"]["n_baseline"] == daily["histogram"]["n"]

@@ -520,7 +520,9 @@ def headline_text(a: MetricAnalysis) -> str:
         verdict = {True: "better", False: "worse", None: "direction not judged"}[c.improved]
         sig = ("" if c.p_value is None else
                ("; unlikely to be chance" if c.p_value < 0.05 else "; could be chance"))
-        return f"{c.measure.capitalize()} {b} → {f}: {change}, {verdict}{sig}."
+        # a rolled-up metric's test compares its period values: the card says so
+        of = f" of the {a.compared}" if a.spec.rollup is not None and a.compared else ""
+        return f"{c.measure.capitalize()}{of} {b} → {f}: {change}, {verdict}{sig}."
     if a.pareto is not None:
         return (f"{len(a.pareto.vital_few)} of {len(a.pareto.categories)} categories make up "
                 f"{a.pareto.threshold:.0f}% of {a.pareto.total:g}.")
