@@ -96,13 +96,13 @@ def test_the_demo_uses_every_setting_of_the_methods(demo_site: Path):
 
 
 def test_a_defectives_run_chart_is_labelled_as_a_proportion(demo_site: Path):
-    # the metric's unit names the items checked ("wheels"); the chart plots the proportion
+    # the metric's unit names the items checked ("wheels"); the chart plots the proportion,
+    # a share of those items: its median reads as a percentage of them, its axis likewise
     spec = json.loads((demo_site / "projects" / "wheel-truing-first-pass-yield" / "data"
                        / "retrue-rate-run.vl.json").read_text("utf-8"))
     (centre,) = spec["datasets"]["centre"]
-    assert centre["text"].startswith("median 0.0") and centre["text"].endswith(" proportion")
+    assert re.fullmatch(r"median \d+\.\d+% of wheels", centre["text"]), centre["text"]
     assert "Wheels needing re-truing (proportion)" in json.dumps(spec)
-    assert " wheels" not in centre["text"]
 
 
 def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):
@@ -112,7 +112,7 @@ def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):
             reasons = (m.get("capability") or {}).get("reasons", [])
             for r in reasons:
                 assert r[0].isupper() and r.endswith(".") and "(The " not in r, r
-            rolled_up += any("rolled up into periods" in r for r in reasons)
+            rolled_up += any("individual values before the roll-up" in r for r in reasons)
     assert rolled_up  # the demo's daily roll-up says why Cp and Cpk are missing
 
 

@@ -535,7 +535,7 @@ DEGENERATE = {
     "zero-sigma": (meta(), good_csv(values=[5.0] * 30), [
         r"The average moving range of the fit for stage 0 is zero, so the limits collapse onto "
         r"the centre line",
-        r"30 point\(s\) lie exactly on the median"]),
+        r"30 points lie exactly on the median"]),
     "one-point": (meta(), "date,value\n2026-01-05,4.2\n", [
         r"control chart: an individuals chart requires at least two data points, got 1"]),
     "xbar-single-value-subgroups": (

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .config import MetricSpec
-from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, MetricData
+from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, STAGE_OTHER, MetricData
 from .stats import control, distribution, rules, runs
 from .stats.capability import capability as capability_of
 from .stats.choice import choose_chart
@@ -33,6 +33,7 @@ from .stats.results import (
     Signal,
     StatsError,
 )
+from .vocab import PeriodKind, period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history
 # page (Montgomery ch. 6 wants 20-25 subgroups for trial limits, from memory; we accept 12 for a
@@ -68,6 +69,11 @@ class MetricAnalysis:
     category_scope: str = ""  # categories: what the Pareto counts, "baseline" or "all data"
     category_rows: int = 0  # categories: how many rows it counts
     failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
+    # what the before/after test compared, in words ("daily means", "individual values",
+    # "items checked, pooled over each phase"), and what its n counts ("daily means",
+    # "individual values", "periods"): said beside its figures on the history page
+    compared: str = ""
+    counted: str = ""
 
     @property
     def spec(self) -> MetricSpec:
@@ -77,6 +83,24 @@ class MetricAnalysis:
     def has_after(self) -> bool:
         # the data never change once loaded: worked out once
         return bool((self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
+
+
+def phase_names(stage: np.ndarray) -> tuple[str, ...]:
+    """Each point's phase by its kind of period (``vocab.PeriodKind``), capitalised as the
+    charts' bands name it: a point in neither period is "Before the baseline" before the first
+    baseline point, "After the after period" past an after point, else "Between periods"."""
+    names = list(map(STAGE_NAMES.__getitem__, stage.tolist()))
+    other = stage == STAGE_OTHER
+    if other.any():
+        base = np.flatnonzero(stage == STAGE_BASELINE)
+        after = np.flatnonzero(stage == STAGE_AFTER)
+        first_base = int(base[0]) if len(base) else len(stage)
+        first_after = int(after[0]) if len(after) else len(stage)
+        for i in np.flatnonzero(other).tolist():
+            kind = (PeriodKind.BEFORE if i < first_base and i < first_after
+                    else PeriodKind.LATER if i > first_after else PeriodKind.BETWEEN)
+            names[i] = kind.label[:1].upper() + kind.label[1:]
+    return tuple(names)
 
 
 def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):
@@ -138,7 +162,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
     # labels are text already; read through numpy (iterating a pandas string column value by
     # value costs more than the rest of this function's bookkeeping)
     res.x = tuple(map(str, pts["label"].to_numpy(dtype=object).tolist()))
-    res.stage_names = tuple(map(STAGE_NAMES.__getitem__, stage.tolist()))
+    res.stage_names = phase_names(stage)
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE
 
@@ -215,12 +239,26 @@ def analyse(data: MetricData) -> MetricAnalysis:
         after = stage == STAGE_AFTER
         dtype = {"continuous": "continuous", "subgroups": "continuous",
                  "defectives": "defectives", "defects": "defects"}[data.kind]
-        if data.kind in ("continuous", "subgroups") and data.values is not None:
+        if data.kind == "continuous" and spec.rollup is not None:
+            # A rolled-up metric compares its period values, the points its charts judge: the
+            # rows of one period share that period's conditions and are not independent, as
+            # the t-test and the rank test assume (treating them as independent is
+            # pseudoreplication, Hurlbert 1984, Ecological Monographs 54(2):187-211); and a
+            # period's total or count is no statistic of its rows' own values.
+            b_arr, a_arr, bs, as_ = values[base], values[after], None, None
+            res.compared = period_value(spec.rollup.period, spec.rollup.statistic, plural=True)
+            res.counted = res.compared
+        elif data.kind in ("continuous", "subgroups") and data.values is not None:
             vv, vs = data.values["value"].to_numpy(float), data.values["stage"].to_numpy(int)
             b_arr, a_arr, bs, as_ = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
+            res.compared = res.counted = "individual values"
         else:
             b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
+            # each phase's totals: all its items checked, or all its area, pooled
+            res.compared = ("items checked, pooled over each phase" if data.kind == "defectives"
+                            else "defects over the area checked, pooled over each phase")
+            res.counted = "periods"  # n of these tests counts the periods pooled
         res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
                               spec.better, baseline_sizes=bs, after_sizes=as_,
                               target=spec.target, metric=_subject(spec.name, data.kind),
@@ -229,6 +267,36 @@ def analyse(data: MetricData) -> MetricAnalysis:
             res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
                                    res.run.median, spec.run_rules)
     return res
+
+
+def points_note(spec: MetricSpec) -> str:
+    """What one point of a rolled-up metric's run and control charts is, in a sentence ("" for
+    a metric that is not rolled up): those charts judge the period values."""
+    r = spec.rollup
+    if r is None:
+        return ""
+    one = period_value(r.period, r.statistic)
+    if spec.type == "defectives" or r.statistic == "proportion":
+        what = f"the defective items over the items checked that {r.period}"
+    elif spec.type == "defects":
+        what = (f"the defects per unit of area that {r.period}" if r.statistic == "mean"
+                else f"the defects counted that {r.period}")
+    else:
+        what = (f"the number of rows with a value that {r.period}" if r.statistic == "count"
+                else f"the {r.statistic} of that {r.period}'s values")
+    return f"Each point is a {one}: {what}, not a single value."
+
+
+def values_note(spec: MetricSpec, n: int) -> str:
+    """What a rolled-up metric's histogram, box plot and capability describe ("" for a metric
+    that is not rolled up): the individual values, since the specification limits apply to
+    single items and a period's mean varies less than they do."""
+    r = spec.rollup
+    if r is None:
+        return ""
+    return (f"Drawn from the {n} individual values before the roll-up, not from the "
+            f"{period_value(r.period, r.statistic, plural=True)}: the spread of single items, "
+            "which the specification limits apply to.")
 
 
 def _subject(name: str, kind: str) -> str:
@@ -285,8 +353,9 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
                           "own control limits")
     no_sigma = None
     if res.data.spec.rollup is not None:
-        no_sigma = ("The data are rolled up into periods, so the within-subgroup sigma of single "
-                    "values is not known; only Pp and Ppk (overall sigma) are given.")
+        no_sigma = (f"{values_note(res.data.spec, len(vals))} The control chart judges the "
+                    "period values, so the within-subgroup sigma of single values is not "
+                    "known; only Pp and Ppk (overall sigma) are given.")
     if normality is None and len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
     return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),

@@ -23,17 +23,18 @@ from typing import Any
 from . import files
 from .errors import Problem, ProjectError, rel
 from .status import STALE_AFTER_DAYS
+from .vocab import ChartKind, DataType, RollupPeriod, RollupStatistic, RunRules, SignalRules
 
 PROJECT_FILE = "project.toml"
 PORTFOLIO_FILE = "portfolio.toml"
 NOTES_DEFAULT = "notes.md"
 
 PHASES = ("define", "measure", "analyze", "improve", "control")
-DATA_TYPES = ("continuous", "subgroups", "defectives", "defects", "categories")
+DATA_TYPES = DataType.codes()
 BETTER = ("lower", "higher", "target")
-CHARTS = ("auto", "xmr", "xbar-r", "xbar-s", "p", "np", "c", "u", "laney-p", "laney-u")
-SIGNAL_RULES = ("western-electric", "nelson")
-RUN_RULES = ("anhoj", "perla")
+CHARTS = ChartKind.codes()
+SIGNAL_RULES = SignalRules.codes()
+RUN_RULES = RunRules.codes()
 LIMIT_MODES = ("baseline", "per-phase")
 QUARTILE_METHODS = (
     "inverted_cdf",
@@ -48,8 +49,8 @@ QUARTILE_METHODS = (
     "tukey-hinges",
 )
 BIN_RULES = ("fd", "sturges", "scott")
-PERIODS = ("day", "week", "month", "quarter")
-STATISTICS = ("mean", "median", "sum", "count", "proportion")
+PERIODS = RollupPeriod.codes()
+STATISTICS = RollupStatistic.codes()
 SLUG_RE = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 
 

@@ -60,8 +60,9 @@ def test_stepped_p_limits_follow_every_point():
     ]
     assert line[-1][0] == "2026-07-27"
     assert len({round(y, 12) for _, y in line}) == 4  # four subgroup sizes, four levels
-    # a p chart's axis is in proportions, not in the metric's unit
-    assert "Proportion (p)" in _y_titles(spec)
+    # a p chart's axis is in proportions, not in the metric's unit: the measure, with a
+    # proportion's unit, never the chart's name
+    assert "Lead time (proportion)" in _y_titles(spec)
 
 
 def _y_titles(spec):

@@ -52,7 +52,7 @@ def test_reasons_are_one_sentence():
 
 def test_overrides():
     c = CH.choose_chart("continuous", subgroup_sizes=[5, 5], override="xbar-s")
-    assert c.kind == "xbar-s" and c.overridden and "xbar-r" in c.reason
+    assert c.kind == "xbar-s" and c.overridden and "Xbar-R chart" in c.reason
     assert not CH.choose_chart("continuous", override="xmr").overridden
     assert CH.choose_chart("defectives", sizes=[5, 6], override="laney-p").kind == "laney-p"
     with pytest.raises(StatsError, match="does not fit defectives"):

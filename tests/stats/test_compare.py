@@ -105,7 +105,8 @@ def test_two_proportion_z_test():
     assert c.baseline == pytest.approx(0.041) and c.after == pytest.approx(0.019)
     assert c.percent_change == pytest.approx(-53.658536, rel=1e-6)
     assert c.sentence == (
-        "The weekly error rate fell from 4.1% to 1.9% (\u221254%); a change this large would be "
+        "The weekly error rate fell from 4.1% to 1.9% (\u22122.2 percentage points, \u221254% "
+            "relative); a change this large would be "
         "unlikely by chance alone (two-proportion z-test, p < 0.001)."
     )
 

@@ -39,6 +39,8 @@ class SeriesContext:
     events:    (ISO date, label) pairs, drawn as labelled vertical rules on time-based charts.
     stamps:    optionally, the times of x as naive datetime64[s] (UTC), when the maker has
                them: the charts then need not read x back (not part of equality or hash).
+    points_note: what one point is when that is not plain (a rolled-up metric's "Each point is
+               a daily mean ..."), the first line of each series chart's subtitle.
     """
 
     x: tuple[str, ...]
@@ -49,6 +51,7 @@ class SeriesContext:
     metric_name: str
     events: tuple[tuple[str, str], ...] = ()
     stamps: np.ndarray | None = field(default=None, compare=False, hash=False, repr=False)
+    points_note: str = ""
 
     def __post_init__(self) -> None:
         n = len(self.x)

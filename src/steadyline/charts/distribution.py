@@ -17,6 +17,7 @@ from .base import (
     num,
     plural,
     slot,
+    titled,
     with_unit,
 )
 
@@ -118,9 +119,13 @@ def histogram_chart(
     target=None,
     normal_curve: bool = False,
     title: str = "",
+    measure: str = "",
+    note: str = "",
 ) -> ChartSpec:
     """Bars from the histogram's own edges (no re-binning), spec limits and target as labelled
-    rules, and optionally a fitted normal curve scaled to the counts."""
+    rules, and optionally a fitted normal curve scaled to the counts. ``measure`` titles the
+    x axis with the unit (else ``title`` does); ``note``, when given, heads the subtitle (what
+    the values are, when that is not plain)."""
     edges = [float(e) for e in hist.edges]
     counts = list(hist.counts)
     if len(edges) != len(counts) + 1:
@@ -179,14 +184,15 @@ def histogram_chart(
         datasets["curve"] = curve_rows
 
     name = title or "Distribution"
-    x_title = f"{title} ({unit})" if title and unit else (unit or title or "value")
+    x_title = titled(measure or title, unit) or "value"
     width = (
         f"bins of width {fmt(hist.bin_width)}"
         if hist.bin_width is not None
         else "bins of unequal width"
     )
     sub = [
-        f"{plural(hist.n, 'value')} in {plural(len(counts), 'bin')}, {width} ({hist.rule_label})"
+        *([note] if note else []),
+        f"{plural(hist.n, 'value')} in {plural(len(counts), 'bin')}, {width} ({hist.rule_label})",
     ]
     outside = []
     if hist.below_range:
@@ -300,8 +306,10 @@ def _box_template() -> dict:
     return finish_template(chart, "box-plot")
 
 
-def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSpec:
-    """One box per group on one scale, drawn from the summaries alone (no raw data)."""
+def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str, measure: str = "",
+              note: str = "") -> ChartSpec:
+    """One box per group on one scale, drawn from the summaries alone (no raw data). The value
+    axis is titled with ``measure`` and the unit; ``note``, when given, heads the subtitle."""
     if not groups:
         raise ValueError("a box plot needs at least one group")
     names = [str(g) for g, _ in groups]
@@ -360,6 +368,7 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSp
         )
     methods = sorted({b.method_label for _, b in groups})
     sub = [
+        *([note] if note else []),
         "quartiles: " + "; ".join(methods),
         "whiskers reach the most extreme values within 1.5 \u00d7 IQR of the box; "
         "points beyond are drawn one by one",
@@ -369,7 +378,7 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str) -> ChartSp
                    f"extreme {MAX_OUTLIERS_EACH_SIDE} on each side are)")
     spec = make_spec(
         tpl,
-        {"order": names, "y_title": unit or "value"},
+        {"order": names, "y_title": titled(measure, unit) or "value"},
         {"boxes": boxes, "marks": marks},
         "Box plot" if len(groups) == 1 else f"Box plots of {len(groups)} groups",
         sub,

@@ -13,6 +13,15 @@ import numpy as np
 from ..memo import by_identity
 from ..stats.evidence import PointEvidence, change_counts, point_evidence
 from ..stats.results import ControlChart, RunChartAnalysis, Signal
+from ..vocab import (
+    RunRules,
+    chart_name,
+    control_chart_kind,
+    is_proportion_unit,
+    items_of,
+    proportion_text,
+    proportion_unit,
+)
 from . import style, vl
 from .base import (
     ChartSpec,
@@ -88,7 +97,6 @@ def _exact(ctx: SeriesContext, datasets: dict) -> tuple[str, ...]:
     lines' and labels' positions are plain floats and are rounded with the rest."""
     return tuple(datasets) if ctx.x_is_time else _EXACT
 
-_RULE_SET_NAMES = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
 
 
 # ------------------------------------------------------------------------------------------------
@@ -846,7 +854,9 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     keys = _Keys()
     points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys))
     median = num(analysis.median)
-    median_text = "median " + with_unit(fmt(median), ctx.unit)
+    median_text = "median " + (proportion_text(median, ctx.unit, fmt)
+                               if is_proportion_unit(ctx.unit) else
+                               with_unit(fmt(median), ctx.unit))
     centre = (
         [{"y": disp(median), "x": xa.at(n - 1), "text": median_text}]
         if median is not None and n
@@ -862,11 +872,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     datasets["headroom"] = (headroom_rows(datasets["events"], style.HEIGHT_MAIN,
                                           np.append(np.asarray(vals, dtype=float), median))
                             if datasets["events"] and median is not None else [])
-    values_map = {"y_title": axis_title(titled(ctx.metric_name, ctx.unit), style.HEIGHT_MAIN)}
+    values_map = {"y_title": axis_title(_measure_title(ctx, "individuals"), style.HEIGHT_MAIN)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     values_map.update(band_values(datasets["bands"]))
 
-    rules = _RULE_SET_NAMES.get(analysis.rule_set, analysis.rule_set)
+    rules = RunRules(analysis.rule_set).label
     facts = [median_text, f"longest run {analysis.longest_run}"]
     if analysis.longest_run_limit is not None:
         facts[-1] += f" (signal above {analysis.longest_run_limit})"
@@ -876,9 +886,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         lo, hi = analysis.runs_limits
         facts.append(f"{analysis.runs} runs (expected {lo + 1} to {hi - 1})")
     subtitle = [
+        *([ctx.points_note] if ctx.points_note else []),
         f"{rules}: " + ", ".join(facts),
         _signals_sentence(analysis.signals, max_kinds=2),
-        *analysis.notes,
+        # the rule set is named at the head of the subtitle, by its one name
+        *(note for note in analysis.notes if not note.startswith("Rules used:")),
     ]
     spec = make_spec(
         tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
@@ -1100,9 +1112,7 @@ def _control_parts(
             datasets["events"], style.HEIGHT_MAIN,
             np.concatenate([np.asarray(a, dtype=float).ravel() for a in drawn]))
 
-    unit_main = ctx.unit if chart.kind in _UNIT_KINDS else ""
-    main_name = ctx.metric_name if chart.kind == "individuals" else chart.label
-    values_map = {"y_title": axis_title(titled(main_name, unit_main), style.HEIGHT_MAIN)}
+    values_map = {"y_title": axis_title(_measure_title(ctx, chart.kind), style.HEIGHT_MAIN)}
     if sec is not None:
         values_map["y2_title"] = axis_title(
             titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else ""), style.HEIGHT_SECONDARY)
@@ -1222,6 +1232,30 @@ def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | N
     return ColumnTable(columns, cols), tuple(columns)
 
 
+def _kind_name(chart: ControlChart) -> str:
+    """'Xbar-R chart', 'Laney p′ chart': the vocabulary's name of the chart's kind."""
+    sec = chart.secondary.kind if chart.secondary is not None else None
+    try:
+        return control_chart_kind(chart.kind, sec).label
+    except ValueError:  # a kind the vocabulary does not hold: the chart's own label
+        return chart_name(chart.label)
+
+
+def _measure_title(ctx: SeriesContext, kind: str) -> str:
+    """A series chart's y-axis title: the measure its points are, with their unit (never the
+    chart's name). A p chart plots the proportion of the items checked (``ctx.unit`` says so),
+    an np chart the number of them, an X-bar chart the subgroup means."""
+    if kind == "xbar":
+        return titled(f"{ctx.metric_name}, subgroup mean", ctx.unit)
+    if kind == "np":
+        return titled(ctx.metric_name, items_of(ctx.unit))
+    if kind in ("p", "laney-p") or is_proportion_unit(ctx.unit):
+        # the metric's name names the items already ("Frames with weld porosity"): the axis
+        # says "proportion" (never a count's unit on a share); sentences say "7% of frames"
+        return titled(ctx.metric_name, proportion_unit(""))
+    return titled(ctx.metric_name, ctx.unit)
+
+
 def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Signal]) -> ChartSpec:
     """The control chart with centre line and limits per point; its mR/R/S chart beneath."""
     n = len(ctx.x)
@@ -1234,8 +1268,11 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(ctx, chart, signals, offset)
 
-    title = f"{ctx.metric_name} \u2014 {chart.label}" + (f" and {sec.label}" if sec else "")
+    # the chart named once, by the vocabulary's name of its kind
+    name = _kind_name(chart)
+    title = f"{ctx.metric_name} \u2014 {name}"
     subtitle = [
+        *([ctx.points_note] if ctx.points_note else []),
         _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
         if chart.sigma_method
         else _fitted_sentence(ctx, chart.fitted),
@@ -1250,7 +1287,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
     summary = (
-        f"{chart.label} chart of {ctx.metric_name}: {plural(n, 'point')}"
+        f"{name} of {ctx.metric_name}: {plural(n, 'point')}"
         + (f", {lim} (at the last point)" if lim else "")
         + f"; {_signals_sentence(signals)}."
     )
@@ -1300,10 +1337,11 @@ def staged_control_chart(
         own_signals=own_signals,
     )
 
-    title = f"{ctx.metric_name} \u2014 {carried.label}" + (f" and {sec.label}" if sec else "")
-    title += " by phase"
+    name = _kind_name(carried)
+    title = f"{ctx.metric_name} \u2014 {name} by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
-    subtitle = [_fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
+    subtitle = [*([ctx.points_note] if ctx.points_note else []),
+                _fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
@@ -1325,7 +1363,7 @@ def staged_control_chart(
     own_last = {lab["kind"]: lab["text"] for lab in datasets.get("own_labels", [])}
     own_lim = ", ".join(own_last[k] for k in ("LCL", "centre line", "UCL") if k in own_last)
     summary = (
-        f"{carried.label} chart of {ctx.metric_name} by phase: {plural(n, 'point')}"
+        f"{name} of {ctx.metric_name} by phase: {plural(n, 'point')}"
         + (f", {lim}" if lim else "")
         + (f"; {own_lim}" if own_lim else "")
         + f"; {change}; {unstable}."

@@ -12,6 +12,8 @@ and every marked thing is named in a legend or a label.
 
 from __future__ import annotations
 
+from ..vocab import PeriodKind
+
 # --- colours --------------------------------------------------------------------------------------
 INK = "#262626"  # text, axes, medians (L* 15)
 DATA = "#1f4e79"  # measured values: lines, points, main bars (L* 32)
@@ -41,11 +43,12 @@ WHITE = "#ffffff"
 # of the periods (the kinds in time order; kept very light, L* 94 to 97, so that points and
 # lines read on every one; the band's name is printed on it and in the legend, so the fill
 # never carries the meaning alone).
-PERIOD_BEFORE = "before the baseline"
-PERIOD_BASELINE = "baseline"
-PERIOD_BETWEEN = "between periods"
-PERIOD_AFTER = "after"
-PERIOD_LATER = "after the after period"
+# The kinds' words are the vocabulary's (steadyline.vocab.PeriodKind), defined there once.
+PERIOD_BEFORE = PeriodKind.BEFORE.value
+PERIOD_BASELINE = PeriodKind.BASELINE.value
+PERIOD_BETWEEN = PeriodKind.BETWEEN.value
+PERIOD_AFTER = PeriodKind.AFTER.value
+PERIOD_LATER = PeriodKind.LATER.value
 PERIOD_FILLS = {
     PERIOD_BEFORE: "#f0f0f0",  # grey (L* 95)
     PERIOD_BASELINE: "#e8f0f8",  # light blue (L* 94)

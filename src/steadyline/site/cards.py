@@ -12,11 +12,12 @@ import numpy as np
 import orjson
 from markupsafe import Markup, escape
 
-from ..analysis import MetricAnalysis
+from ..analysis import MetricAnalysis, points_note
 from ..charts import ChartSpec, SeriesContext
 from ..charts.base import ColumnTable
 from ..config import ProjectSpec
 from ..memo import by_identity
+from ..vocab import proportion_unit
 from .serialise import Plain, compact_bytes, escape_for_script
 
 # --------------------------------------------------------------------------------------- helpers
@@ -312,9 +313,10 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
         stage=a.stage_names,
         segment=tuple(pts["segment"].to_numpy(dtype=np.int64).tolist()),
         # a defectives metric plots the proportion defective: its unit names the items checked
-        unit="proportion" if a.data.kind == "defectives" else a.spec.unit,
+        unit=proportion_unit(a.spec.unit) if a.data.kind == "defectives" else a.spec.unit,
         metric_name=a.spec.name,
         events=tuple((e.date.isoformat(), e.label) for e in spec.events),
+        points_note=points_note(a.spec),
     )
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import advice
-from ..analysis import MetricAnalysis
+from ..analysis import MetricAnalysis, values_note
 from ..charts import (
     SeriesContext,
     box_chart,
@@ -19,7 +19,7 @@ from ..config import PHASES, ProjectSpec
 from ..loading import STAGE_AFTER
 from ..stats.compare import format_p_value
 from ..stats.evidence import DIRECTIONS
-from ..stats.runs import RULE_SET_SHORT
+from ..vocab import RunRules, percentage_points, proportion_text, proportion_unit
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
 from .serialise import plain
@@ -47,23 +47,31 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
         return []
     unit = a.spec.unit
     show = pct if c.measure == "proportion" else (lambda v: fmt(v, unit, 4))
-    change = pct(c.change) if c.measure == "proportion" else fmt(c.change, unit, 4)
+    # a change of a proportion is a difference of percentages: percentage points
+    change = (percentage_points(c.change) if c.measure == "proportion"
+              else fmt(c.change, unit, 4).replace("-", "−"))
+    # what the test compared: the period values of a rolled-up metric, else the individual
+    # values, or each phase's items or area pooled (n then counts the periods)
+    what = a.counted or ("values" if c.measure in ("mean", "median") else "periods")
     rows = [
         (f"{MEASURE_TEXT.get(c.measure, c.measure)}, baseline", show(c.baseline),
-         f"{c.n_baseline} {'values' if c.measure in ('mean', 'median') else 'periods'}"),
+         f"{c.n_baseline} {what}"),
         (f"{MEASURE_TEXT.get(c.measure, c.measure)}, after", show(c.after),
-         f"{c.n_after} {'values' if c.measure in ('mean', 'median') else 'periods'}"),
-        ("Change", change + (f" ({c.percent_change:+.1f}%)" if c.percent_change is not None
+         f"{c.n_after} {what}"),
+        ("Change", change + (f" ({c.percent_change:+.1f}%{' relative' if c.measure == 'proportion' else ''})".replace("-", "−") if c.percent_change is not None
                              else ""),
          {True: "in the better direction", False: "in the worse direction",
           None: "direction not judged"}[c.improved]),
-        ("Test", c.test, format_p_value(c.p_value)),
+        ("Test", f"{c.test}, on the {a.compared}" if a.compared else c.test,
+         format_p_value(c.p_value)),
     ]
     if a.after_shift is not None:
         sh = a.after_shift
         rows.append(("Sustained shift", "yes" if sh.signals else "no",
-                     f"after-phase points against the baseline median {fmt(sh.median, unit, 4)}"
-                     f" by the {RULE_SET_SHORT.get(sh.rule_set, sh.rule_set)}"))
+                     "after-phase points against the baseline median "
+                     + (proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
+                        if a.data.kind == "defectives" else fmt(sh.median, unit, 4))
+                     + f" by the {RunRules(sh.rule_set).label}"))
     return rows
 
 
@@ -151,18 +159,21 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
             staged["after_signals"] = signals_json(a.after_signals, a.x)
         result["staged_control_chart"] = staged
     if len(a.phase_boxes) > 1:
-        chart = box_chart(a.phase_boxes, unit=m.unit)
-        d.add("phase-box", "Box plots by phase", chart,
-              method="Both phases on one scale; quartiles by "
-                     f"{a.phase_boxes[0][1].method_label}.")
+        note = values_note(m, sum(b.n for _, b in a.phase_boxes))
+        chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=note)
+        d.add("phase-box", "Box plots by phase" + (", individual values" if note else ""),
+              chart, method=(f"{note} " if note else "") + "Both phases on one scale; "
+              f"quartiles by {a.phase_boxes[0][1].method_label}.")
         result["box_plots"] = dict(a.phase_boxes)
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
+        note = values_note(m, h.n)
         chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
-                                target=m.target, title=f"{m.name}, {name.lower()}")
+                                target=m.target, title=f"{m.name}, {name.lower()}",
+                                measure=m.name, note=note)
         key = f"histogram-{name.lower().replace(' ', '-')}"
-        d.add(key, f"Histogram, {name.lower()}", chart,
-              method="Same bin edges in every phase.")
+        d.add(key, f"Histogram, {name.lower()}" + (", individual values" if note else ""),
+              chart, method=(f"{note} " if note else "") + "Same bin edges in every phase.")
         if c is not None:
             caps.append({"phase": name, "view": capability_view(c, m.unit),
                          "trustworthy": c.trustworthy, "reasons": list(c.reasons),

@@ -17,7 +17,13 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__, advice, memo
-from ..analysis import AFTER_OWN_LIMITS_MIN, MetricAnalysis, analyse
+from ..analysis import (
+    AFTER_OWN_LIMITS_MIN,
+    MetricAnalysis,
+    analyse,
+    points_note,
+    values_note,
+)
 from ..charts import (
     SeriesContext,
     box_chart,
@@ -41,8 +47,16 @@ from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
 from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
 from ..stats.compare import format_p_value
-from ..stats.runs import RULE_SET_LABELS as RUN_RULE_LABELS
 from ..status import HeadlineFacts, judge
+from ..vocab import (
+    RUN_RULES_DETAIL,
+    DataType,
+    RunRules,
+    SignalRules,
+    control_chart_kind,
+    percentage_points,
+    period_value,
+)
 from .capability_view import capability_view
 from .cards import (
     Displays,
@@ -60,17 +74,6 @@ from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
 
 RESULTS_SCHEMA = "steadyline-results/1"
-SIGNAL_RULE_LABELS = {
-    "western-electric": "Western Electric zone rules",
-    "nelson": "Nelson rules",
-}
-DATA_TEXT = {
-    "continuous": "single measured values",
-    "subgroups": "measured values in subgroups",
-    "defectives": "defective items out of items checked",
-    "defects": "defects counted over an area of opportunity",
-    "categories": "one category per row",
-}
 BETTER_TEXT = {"lower": "lower values", "higher": "higher values",
                "target": "values close to the target"}
 PHASE_LABEL = {p: p.capitalize() for p in PHASES}
@@ -177,8 +180,9 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     m = a.spec
     d = Displays(spec.slug, m.id, files)
     unit = m.unit
-    signal_label = SIGNAL_RULE_LABELS[m.signal_rules]
-    run_label = RUN_RULE_LABELS.get(m.run_rules, m.run_rules)
+    # one name per rule set, the vocabulary's, on every card, finding and chart of the page
+    signal_label = SignalRules(m.signal_rules).label
+    run_label = RunRules(m.run_rules).label
     result: dict = {
         "id": m.id, "name": m.name, "unit": unit, "type": m.type, "effective_type": a.data.kind,
         "better": m.better, "file": m.file_rel, "rows_read": a.data.raw_rows,
@@ -200,19 +204,21 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             chart = run_chart(ctx, pts["value"].to_numpy(float), a.run)
             d.add("run", "Run chart with median", chart,
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
-                  f"Median of the baseline as centre line; rules: {run_label}.")
+                  _lead(points_note(m)) + "Median of the baseline as centre line; rules: "
+                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]}).")
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
             baseline_signals += _in_baseline(a.run.signals, a.stage_names)
         if a.control is not None:
             chart = control_chart(ctx, a.control, a.signals)
-            title = f"Control chart: {a.control.label}"
-            if a.control.secondary is not None:
-                title += f" with {a.control.secondary.label}"
+            title = "Control chart: " + control_chart_kind(
+                a.control.kind,
+                a.control.secondary.kind if a.control.secondary is not None else None).label
             d.add("control", title, chart,
                   advice.control_findings(a.control, a.signals, a.x, signal_label, a.stage_names),
                   advice.control_cautions(a.control),
-                  f"{_sentence(a.choice.reason) if a.choice else ''} "
+                  _lead(points_note(m))
+                  + f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
                   f"; rules: {signal_label}.")
@@ -222,17 +228,23 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             open_signals += len(a.signals)
             baseline_signals += _in_baseline(a.signals, a.stage_names)
     if a.histogram is not None:
+        # a rolled-up metric's histogram, box plot and capability describe its individual
+        # values, and say so (its run and control charts judge the period values)
+        note = values_note(m, a.histogram.n)
         chart = histogram_chart(a.histogram, unit=unit, lsl=m.spec_lower, usl=m.spec_upper,
                                 target=m.target, normal_curve=m.normal_curve,
-                                title=f"{m.name}, baseline")
-        d.add("histogram", "Histogram of the baseline", chart,
-              cautions=advice.histogram_cautions(a.histogram.n),
-              method=f"Bins by the {a.histogram.rule_label} rule.")
+                                title=f"{m.name}, baseline", measure=m.name, note=note)
+        d.add("histogram", "Histogram of the baseline" + (", individual values" if note else ""),
+              chart, cautions=advice.histogram_cautions(a.histogram.n),
+              method=_lead(note) + f"Bins by the {a.histogram.rule_label} rule.")
         result["histogram"] = a.histogram
     if a.box is not None:
-        chart = box_chart([("Baseline", a.box)], unit=unit)
-        d.add("box", "Box plot of the baseline", chart, cautions=advice.box_cautions(a.box.n),
-              method=f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
+        note = values_note(m, a.box.n)
+        chart = box_chart([("Baseline", a.box)], unit=unit, measure=m.name, note=note)
+        d.add("box", "Box plot of the baseline" + (", individual values" if note else ""), chart,
+              cautions=advice.box_cautions(a.box.n),
+              method=_lead(note)
+              + f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
         result["box_plot"] = a.box
     if a.data.kind == "categories":  # what its Pareto and column chart count
@@ -276,7 +288,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     result["failures"] = [{"display": disp, "message": msg} for disp, msg in a.failures]
     section = {
         "id": m.id, "name": m.name, "unit": unit, "broken": False,
-        "data_text": f"{DATA_TEXT[m.type]} from {Path(m.file_rel).name} "
+        "data_text": f"{DataType(m.type).label} from {Path(m.file_rel).name} "
                      f"({a.data.raw_rows} rows{_rollup_text(m)})",
         "choice": a.choice.reason if a.choice else "",
         "periods_text": periods_text(a),
@@ -293,6 +305,11 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     result["open_signals"] = open_signals
     return section, result
+
+
+def _lead(sentence: str) -> str:
+    """A sentence put before a card's method line ("" when there is none)."""
+    return f"{sentence} " if sentence else ""
 
 
 def _sentence(text: str) -> str:
@@ -316,7 +333,7 @@ def _after_labels(a: MetricAnalysis) -> tuple[str, ...]:
 def _rollup_text(m) -> str:
     if m.rollup is None:
         return ""
-    return f", rolled up by {m.rollup.period} with the {m.rollup.statistic}"
+    return f", rolled up into {period_value(m.rollup.period, m.rollup.statistic, plural=True)}"
 
 
 def spec_text(m) -> str:
@@ -612,12 +629,18 @@ def headline_text(a: MetricAnalysis) -> str:
         else:
             b, f = fmt(c.baseline, unit, 3), fmt(c.after, unit, 3)
         change = "no change"
-        if c.percent_change is not None and c.percent_change != 0:
+        if c.measure == "proportion" and c.change:
+            # a change of a proportion in percentage points, never a percentage of it
+            change = (f"{'down' if c.change < 0 else 'up'} "
+                      f"{percentage_points(abs(c.change)).lstrip('+')}")
+        elif c.percent_change is not None and c.percent_change != 0:
             change = f"{'down' if c.change < 0 else 'up'} {abs(c.percent_change):.0f}%"
         verdict = {True: "better", False: "worse", None: "direction not judged"}[c.improved]
         sig = ("" if c.p_value is None else
                ("; unlikely to be chance" if c.p_value < 0.05 else "; could be chance"))
-        return f"{c.measure.capitalize()} {b} → {f}: {change}, {verdict}{sig}."
+        # a rolled-up metric's test compares its period values: the card says so
+        of = f" of the {a.compared}" if a.spec.rollup is not None and a.compared else ""
+        return f"{c.measure.capitalize()}{of} {b} → {f}: {change}, {verdict}{sig}."
     if a.pareto is not None:
         return (f"{a.category_scope.capitalize()}: {len(a.pareto.vital_few)} of "
                 f"{len(a.pareto.categories)} categories make up "

@@ -43,6 +43,19 @@ from . import normal
 
 DATA_TYPES = ("continuous", "defectives", "defects")
 CHART_KINDS = ("xmr", "xbar-r", "xbar-s", "p", "np", "c", "u", "laney-p", "laney-u")
+# Each kind's name in the reasons below, the same as the site's vocabulary (a test holds them
+# together; this package imports nothing else of ours).
+CHART_NAMES = {
+    "xmr": "individuals and moving-range chart (X-mR)",
+    "xbar-r": "Xbar-R chart",
+    "xbar-s": "Xbar-S chart",
+    "p": "p chart",
+    "np": "np chart",
+    "c": "c chart",
+    "u": "u chart",
+    "laney-p": "Laney p′ chart",
+    "laney-u": "Laney u′ chart",
+}
 
 LARGE_SUBGROUP = 1000  # average number checked; common practice
 LARGE_COUNT = 100  # average defects per point; our choice (Poisson sigma <= 10% of the level)
@@ -258,6 +271,7 @@ def _apply_override(
         )
     return ChartChoice(
         kind=override,
-        reason=f"{override} chart chosen by the user (the suggested chart was {kind})",
+        reason=(f"{CHART_NAMES[override]} chosen in project.toml (chart = \"{override}\"; "
+                f"the data suggest the {CHART_NAMES[kind]})"),
         overridden=True,
     )

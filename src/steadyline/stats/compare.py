@@ -276,6 +276,12 @@ def _sentence(
     else:
         verb = "rose" if va > vb else "fell"
         pct_txt = f" ({_signed_pct(pct)}%)" if pct is not None else ""
+        if measure == "proportion":
+            # a change of a proportion is a difference of percentages: in percentage points,
+            # the relative change beside it
+            pp = _signed_pct(100 * (va - vb))
+            pct_txt = f" ({pp} percentage points" + (
+                f", {_signed_pct(pct)}% relative)" if pct is not None else ")")
         head = f"{subject} {verb} from {fb} to {fa}{pct_txt}"
     if p is None:
         tail = f"no test was possible because the data do not vary ({test})."

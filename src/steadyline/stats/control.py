@@ -326,7 +326,7 @@ def individuals(
         if a.size < 1:
             raise _TooFew(
                 "needs at least two consecutive points to compute a moving range, "
-                f"got {int(mask.sum())} point(s)"
+                f"got {int(mask.sum())} point{'' if int(mask.sum()) == 1 else 's'}"
             )
         mr_bar = float(np.mean(np.abs(x[b] - x[a])))
         mr_fitted[b] = True
@@ -671,7 +671,8 @@ def _rate_chart(
     if (~usable).any():
         nothing = "nothing checked (size 0)" if proportion else "no area of opportunity (0)"
         notes.append(
-            f"{int((~usable).sum())} point(s) with {nothing} are left out (positions "
+            f"{int((~usable).sum())} point{'' if int((~usable).sum()) == 1 else 's'} with "
+            f"{nothing} {'is' if int((~usable).sum()) == 1 else 'are'} left out (positions "
             f"{_positions(~usable)}): no {'proportion' if proportion else 'rate'} exists for them."
         )
     values = np.full(m, np.nan)

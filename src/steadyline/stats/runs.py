@@ -57,10 +57,31 @@ _st = lazy("scipy.stats")
 RULE_SETS = ("anhoj", "perla")
 RULE_SET_LABELS = {
     "anhoj": "Anhøj rules (longest run and number of crossings; Anhøj & Olesen 2014)",
-    "perla": "Run-chart rules of Perla, Provost & Murray (2011): shift, trend, number of runs",
+    "perla": "Perla, Provost & Murray rules (shift, trend and number of runs; Perla, Provost & "
+             "Murray 2011)",
 }
-# the same rule sets named in a running sentence ("... by the Anhøj rules")
-RULE_SET_SHORT = {"anhoj": "Anhøj rules", "perla": "shift, trend and runs rules"}
+# the same rule sets by their name alone ("... by the Anhøj rules"); each label above starts
+# with this name, the one the pages use (a test holds them to the site's vocabulary)
+RULE_SET_SHORT = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
+
+def _count(n: int, word: str) -> str:
+    """'1 point', '3 points': a count with its noun in the right number."""
+    return f"{n} {word if n == 1 else word + 's'}"
+
+
+def _are(n: int) -> str:
+    return "is" if n == 1 else "are"
+
+
+def _sig(v: float, digits: int = 4) -> str:
+    """A number for a sentence to ``digits`` significant figures, never in exponent form:
+    a median is a measured value and carries no more figures than the data do."""
+    if v == 0 or not math.isfinite(v):
+        return f"{v:g}"
+    decimals = max(0, digits - 1 - int(math.floor(math.log10(abs(v)))))
+    text = f"{v:.{decimals}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
 
 PERLA_SHIFT_LENGTH = 6
 PERLA_TREND_LENGTH = 5
@@ -286,9 +307,10 @@ def analyse_runs(
         centre = float(median)
         if not math.isfinite(centre):
             raise StatsError("the reference median must be a finite number")
-        notes.append(f"Points are judged against a fixed median of {centre:g}.")
+        notes.append(f"Points are judged against a fixed median of {_sig(centre)}.")
     if n_finite < n:
-        notes.append(f"{n - n_finite} missing value(s) are left out of the analysis.")
+        k = n - n_finite
+        notes.append(f"{_count(k, 'missing value')} {_are(k)} left out of the analysis.")
 
     useful_mask = finite & (x != centre)
     useful_idx = np.flatnonzero(useful_mask)
@@ -296,7 +318,8 @@ def analyse_runs(
     on_median = n_finite - n_useful
     if on_median:
         notes.append(
-            f"{on_median} point(s) lie exactly on the median; they are not counted in runs "
+            f"{_count(on_median, 'point')} {'lies' if on_median == 1 else 'lie'} exactly on the "
+            f"median; {'it is' if on_median == 1 else 'they are'} not counted in runs "
             "or crossings."
         )
     sides = np.where(x[useful_idx] > centre, 1, -1)
@@ -308,7 +331,8 @@ def analyse_runs(
 
     if n_useful < MIN_RELIABLE_POINTS:
         notes.append(
-            f"Only {n_useful} point(s) are off the median; run-chart rules need at least "
+            f"Only {_count(n_useful, 'point')} {_are(n_useful)} off the median; run-chart rules "
+            "need at least "
             f"{MIN_RELIABLE_POINTS} to be reliable, so treat any result with caution."
         )
 
@@ -344,7 +368,7 @@ def analyse_runs(
                 Signal(
                     rule="too-few-crossings",
                     description=(
-                        f"the line crosses the median only {crossings} time(s); fewer than "
+                        f"the line crosses the median only {_count(crossings, 'time')}; fewer than "
                         f"{crossings_limit} crossings is unlikely by chance"
                     ),
                     indices=all_useful,
@@ -387,7 +411,7 @@ def analyse_runs(
                     Signal(
                         rule="too-few-runs",
                         description=(
-                            f"too few runs: {n_runs} run(s) where {low} or fewer is unlikely by "
+                            f"too few runs: {_count(n_runs, 'run')} where {low} or fewer is unlikely by "
                             f"chance for {n_useful} points"
                         ),
                         indices=all_useful,
