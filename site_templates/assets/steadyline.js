@@ -278,6 +278,23 @@
     window.setInterval(poll, 700);
   }
 
-  function start() { drawCharts(); setupResize(); setupFilters(); setupLive(); }
+  /* A card's "and K more in the data table" link opens the table it points to; on paper the
+     method blocks print open (a closed <details> prints only its summary line). */
+  function setupDetails() {
+    function openTarget(id) {
+      var el = id && document.getElementById(id);
+      if (el && el.tagName === "DETAILS") { el.open = true; }
+    }
+    document.addEventListener("click", function (e) {
+      var a = e.target.closest ? e.target.closest('a[href^="#"]') : null;
+      if (a) { openTarget(a.getAttribute("href").slice(1)); }
+    });
+    openTarget(window.location.hash.slice(1));
+    window.addEventListener("beforeprint", function () {
+      document.querySelectorAll("details.method").forEach(function (d) { d.open = true; });
+    });
+  }
+
+  function start() { drawCharts(); setupResize(); setupFilters(); setupLive(); setupDetails(); }
   if (document.readyState === "loading") { document.addEventListener("DOMContentLoaded", start); } else { start(); }
 })();

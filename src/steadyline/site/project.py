@@ -132,7 +132,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             chart = run_chart(ctx, pts["value"].to_numpy(float), a.run)
             d.add("run", "Run chart with median", chart,
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
-                  f"Median of the baseline as centre line; rules: {run_label}.")
+                  f"Median of the baseline as centre line; rules: {run_label}.",
+                  notes=a.run.notes)
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
             baseline_signals += _in_baseline(a.run.signals, a.stage_names)
@@ -147,7 +148,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
-                  f"; rules: {signal_label}.")
+                  f"; rules: {signal_label}.",
+                  notes=_drawing_notes(a.control))
             result["control_chart"] = {
                 "choice": a.choice, "chart": a.control,
                 "signals": signals_json(a.signals, a.x)}
@@ -217,6 +219,13 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     result["open_signals"] = open_signals
     return section, result
+
+
+def _drawing_notes(chart) -> tuple[str, ...]:
+    """A control chart's notes on how it was drawn (moving ranges left out, …): the card puts
+    them with its method; the rules-of-thumb cautions stay in view."""
+    notes = tuple(chart.notes)
+    return notes + tuple(chart.secondary.notes) if chart.secondary is not None else notes
 
 
 def _sentence(text: str) -> str:
