@@ -291,7 +291,7 @@
     });
     openTarget(window.location.hash.slice(1));
     window.addEventListener("beforeprint", function () {
-      document.querySelectorAll("details.method").forEach(function (d) { d.open = true; });
+      document.querySelectorAll("details.method, details.facts-more, details.fit-figures").forEach(function (d) { d.open = true; });
     });
   }
 
