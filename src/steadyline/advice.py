@@ -33,13 +33,16 @@ MAX_DATES_LISTED = 6
 @dataclass(frozen=True)
 class Finding:
     """One sentence under a chart. kind: "signal" (with a marker shape), "change-…" or "clear".
-    ``at`` is the index of the first point the sentence names (None when it names none): the
-    card orders its sentences by it."""
+    ``at`` is the index of the first point the sentence concerns (None when none): the card
+    orders its sentences by it. ``names_points`` marks a sentence that lists the points of a
+    signal: a card short of room leaves those to its data table (whose "signals" column names
+    every point) and keeps the sentences that count or sum up."""
 
     kind: str
     marker: str
     text: str
     at: int | None = None
+    names_points: bool = False
 
 
 SIGNAL_MARKER = "◆"  # the same diamond the charts use for signal points
@@ -121,7 +124,7 @@ def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence
     for (phase, _c, _r, _d), group in groups.items():
         out.append(Finding("signal", SIGNAL_MARKER,
                            group_sentence(group, x, phase=phase if multi else ""),
-                           _first(group)))
+                           _first(group), names_points=True))
     return out
 
 
@@ -137,7 +140,7 @@ def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Find
                    f"(marked “{OWN_SIGNAL_WORDS}”): the new process is not yet stable; look "
                    "into these points before reading its capability.", _first(signals))]
     out += [Finding("signal", SIGNAL_MARKER, "After, on its own limits: " + group_sentence(g, x),
-                    _first(g))
+                    _first(g), names_points=True)
             for g in _grouped(signals, None).values()]
     return out
 
@@ -213,7 +216,8 @@ def change_findings(evidence: tuple[PointEvidence, PointEvidence | None], chart:
 
 
 def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
-    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"), _first(g))
+    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"), _first(g),
+                   names_points=True)
            for g in _grouped(run.signals, None).values()]
     if not out:
         out.append(Finding("clear", CLEAR_MARKER, f"No non-random pattern by the {rules_label}."))

@@ -269,11 +269,32 @@ TABLE_ROWS_SHOWN = 200
 
 
 # A card states at most this many findings: the lead sentence and the first few of the list;
-# the rest are counted and left to the data table, whose "signals" column names every point.
-FINDINGS_SHOWN = 4
+# the rest are counted and left to the data table, whose "signals" (and "mark") column names
+# every point.
+FINDINGS_SHOWN = 5
 # The order of a card's findings by kind: signals of instability first, then evidence of a
 # change, then the sentences that say nothing signals.
 _KIND_ORDER = {"signal": 0, "clear": 2}
+
+
+def shown_findings(findings, limit: int = FINDINGS_SHOWN) -> tuple[list, int]:
+    """The findings a card shows, in :func:`order_findings`'s order, and how many it leaves to
+    its data table. Short of room, the sentences that name a signal's points are left out
+    (last first), never one that counts or sums up (a phase's signals, the evidence of a
+    change): the table names every point, but not those sums."""
+    ordered = order_findings(findings)
+    keep = [not f.names_points for f in ordered]
+    if sum(keep) > limit:  # more sums than room: the first ones (the table marks every point)
+        keep = [i < limit for i in range(len(ordered))]
+    room = limit - sum(keep)
+    for i, f in enumerate(ordered):
+        if room <= 0:
+            break
+        if f.names_points:
+            keep[i] = True
+            room -= 1
+    shown = [f for f, k in zip(ordered, keep, strict=True) if k]
+    return shown, len(ordered) - len(shown)
 
 
 def order_findings(findings) -> list:
@@ -308,8 +329,8 @@ class Displays:
         raw = compact_bytes(chart.spec)  # chart specs are plain JSON already (charts package)
         self.files[spec_name] = raw + b"\n"
         text = raw.decode("utf-8")
-        ordered = [f.__dict__ for f in order_findings(findings)]
-        shown = ordered[:FINDINGS_SHOWN]
+        kept, left = shown_findings(findings)
+        shown = [f.__dict__ for f in kept]
         all_cautions = list(dict.fromkeys(cautions))
         method_notes = set(notes)
         card = {
@@ -322,7 +343,7 @@ class Displays:
             # has none, what the chart shows
             "lead": shown[0] if shown else None,
             "summary": shown[0]["text"] if shown else chart.summary,
-            "findings": shown[1:], "more_findings": len(ordered) - len(shown),
+            "findings": shown[1:], "more_findings": left,
             "cautions": all_cautions,
             "cautions_shown": [c for c in all_cautions if c not in method_notes],
             "notes": [c for c in all_cautions if c in method_notes],
