@@ -90,7 +90,8 @@ def test_each_finding_is_said_once_on_its_card(cards):
         for desc in descriptions:
             assert desc not in subtitle, (where, desc)
             if found:
-                table = rest.find("Numbers behind this chart")
+                table = rest.find("Numbers and downloads")
+                assert table > 0, where
                 assert desc not in rest[:table], (where, desc)
     assert said > 20  # the demo has findings to check
 

@@ -279,11 +279,14 @@
   }
 
   /* A card's "and K more in the data table" link opens the table it points to; on paper the
-     method blocks print open (a closed <details> prints only its summary line). */
+     folded blocks print open (a closed <details> prints only its summary line). */
   function setupDetails() {
     function openTarget(id) {
       var el = id && document.getElementById(id);
-      if (el && el.tagName === "DETAILS") { el.open = true; }
+      if (!el) { return; }
+      // a link to a folded block, or to the heading of a section whose block is folded
+      var d = el.tagName === "DETAILS" ? el : el.parentElement.querySelector(":scope > details");
+      if (d) { d.open = true; }
     }
     document.addEventListener("click", function (e) {
       var a = e.target.closest ? e.target.closest('a[href^="#"]') : null;
@@ -291,7 +294,7 @@
     });
     openTarget(window.location.hash.slice(1));
     window.addEventListener("beforeprint", function () {
-      document.querySelectorAll("details.method, details.facts-more, details.fit-figures").forEach(function (d) { d.open = true; });
+      document.querySelectorAll("details.method, details.facts-more, details.fit-figures, details.provenance-files").forEach(function (d) { d.open = true; });
     });
   }
 

@@ -27,7 +27,9 @@ COLUMN_MAX_CATEGORIES = 7
 CONTROL_MIN_FIT_POINTS = 20
 # A box plot of fewer than 5 values says little beyond the values themselves (common practice).
 BOX_MIN_POINTS = 5
-MAX_DATES_LISTED = 6
+# A sentence names the first few dates of a signal and counts the rest: the card's data table
+# names them all.
+MAX_DATES_LISTED = 3
 
 
 @dataclass(frozen=True)

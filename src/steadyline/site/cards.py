@@ -271,7 +271,7 @@ TABLE_ROWS_SHOWN = 200
 # A card states at most this many findings: the lead sentence and the first few of the list;
 # the rest are counted and left to the data table, whose "signals" (and "mark") column names
 # every point.
-FINDINGS_SHOWN = 5
+FINDINGS_SHOWN = 4
 # The order of a card's findings by kind: signals of instability first, then evidence of a
 # change, then the sentences that say nothing signals.
 _KIND_ORDER = {"signal": 0, "clear": 2}
