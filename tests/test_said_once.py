@@ -131,3 +131,22 @@ def test_problem_and_notes_come_before_the_first_chart(demo_site):
             with_notes += 1
             assert page.index('class="notes"') < first_chart
     assert with_notes >= 1
+
+
+def test_short_of_room_the_sentences_naming_points_go_to_the_table():
+    from steadyline.advice import Finding
+    from steadyline.site.cards import order_findings, shown_findings
+
+    change = Finding("change-better", "■", "12 of 14 after points take part …")
+    late = Finding("signal", "◆", "a point outside the limits: 1 point, 2026-05-01.", 5, True)
+    early = Finding("signal", "◆", "8 in a row: 8 points, 2026-01-02 …", 2, True)
+    count = Finding("signal", "◆", "After: 3 signals against the baseline's limits …", 3)
+    clear = Finding("clear", "●", "No signal on its own limits.")
+    given = [change, late, early, count, clear]
+    # instability by date (the count of a phase at its first signal), then change, then clear
+    assert order_findings(given) == [early, count, late, change, clear]
+    assert shown_findings(given, 5) == ([early, count, late, change, clear], 0)
+    assert shown_findings(given, 4) == ([early, count, change, clear], 1)
+    assert shown_findings(given, 3) == ([count, change, clear], 2)
+    # more sums than room: the first sums, in order
+    assert shown_findings(given, 2) == ([count, change], 3)

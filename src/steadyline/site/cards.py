@@ -285,7 +285,8 @@ def shown_findings(findings, limit: int = FINDINGS_SHOWN) -> tuple[list, int]:
     ordered = order_findings(findings)
     keep = [not f.names_points for f in ordered]
     if sum(keep) > limit:  # more sums than room: the first ones (the table marks every point)
-        keep = [i < limit for i in range(len(ordered))]
+        sums = [i for i, k in enumerate(keep) if k]
+        keep = [i in sums[:limit] for i in range(len(ordered))]
     room = limit - sum(keep)
     for i, f in enumerate(ordered):
         if room <= 0:
