@@ -160,7 +160,15 @@ def _findings(page: str, metric_id: str) -> list[str]:
     start = page.index(f'id="history-{metric_id}-staged-control"')
     card = page[start:page.index("</figure>", start)]
     return [html.unescape(re.sub(r"<[^>]+>", "", li)).strip()
-            for li in re.findall(r'<li class="finding[^"]*">(.*?)</li>', card, re.S)]
+            for li in re.findall(r'<(?:li|p) class="(?:summary )?finding[^"]*">(.*?)</(?:li|p)>',
+                                 card, re.S)]
+
+
+def _chart_label(page: str, metric_id: str) -> str:
+    """The chart's description for readers who cannot see it (its aria-label)."""
+    start = page.index(f'id="history-{metric_id}-staged-control"')
+    card = page[start:page.index("</figure>", start)]
+    return html.unescape(re.search(r'class="chart"[^>]* aria-label="([^"]*)"', card).group(1))
 
 
 def test_sentences_and_legend_agree_with_results_json(staged):
@@ -192,11 +200,14 @@ def test_sentences_and_legend_agree_with_results_json(staged):
                 assert f"On its own limits the after phase shows {n_own} signal" in text, where
             else:
                 assert "On its own limits the after phase shows no signal" in text, where
-        # the subtitle says the same counts
+        # the chart's description says the same counts; its subtitle names the periods and
+        # limits only (the sentences say what they show, once)
         k = sum(counts.values())
         sub = " ".join(spec["title"]["subtitle"])
+        assert "signal" not in sub, where
         if k:
-            assert f"against the baseline's limits {k} of {len(after)} after points" in sub, where
+            assert (f"against the baseline's limits {k} of {len(after)} after points"
+                    in _chart_label(page, metric["id"])), where
         # the legend names every mark drawn (on either chart), and nothing else
         drawn = set()
         for p in spec["datasets"]["point_info"]:

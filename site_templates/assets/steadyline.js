@@ -296,6 +296,26 @@
     window.setInterval(poll, 700);
   }
 
-  function start() { drawCharts(); setupResize(); setupFilters(); setupLive(); }
+  /* A card's "and K more in the data table" link opens the table it points to; on paper the
+     folded blocks print open (a closed <details> prints only its summary line). */
+  function setupDetails() {
+    function openTarget(id) {
+      var el = id && document.getElementById(id);
+      if (!el) { return; }
+      // a link to a folded block, or to the heading of a section whose block is folded
+      var d = el.tagName === "DETAILS" ? el : el.parentElement.querySelector(":scope > details");
+      if (d) { d.open = true; }
+    }
+    document.addEventListener("click", function (e) {
+      var a = e.target.closest ? e.target.closest('a[href^="#"]') : null;
+      if (a) { openTarget(a.getAttribute("href").slice(1)); }
+    });
+    openTarget(window.location.hash.slice(1));
+    window.addEventListener("beforeprint", function () {
+      document.querySelectorAll("details.method, details.facts-more, details.fit-figures, details.provenance-files").forEach(function (d) { d.open = true; });
+    });
+  }
+
+  function start() { drawCharts(); setupResize(); setupFilters(); setupLive(); setupDetails(); }
   if (document.readyState === "loading") { document.addEventListener("DOMContentLoaded", start); } else { start(); }
 })();

@@ -27,16 +27,24 @@ COLUMN_MAX_CATEGORIES = 7
 CONTROL_MIN_FIT_POINTS = 20
 # A box plot of fewer than 5 values says little beyond the values themselves (common practice).
 BOX_MIN_POINTS = 5
-MAX_DATES_LISTED = 6
+# A sentence names the first few dates of a signal and counts the rest: the card's data table
+# names them all.
+MAX_DATES_LISTED = 3
 
 
 @dataclass(frozen=True)
 class Finding:
-    """One sentence under a chart. kind: "signal" (with a marker shape) or "clear"."""
+    """One sentence under a chart. kind: "signal" (with a marker shape), "change-…" or "clear".
+    ``at`` is the index of the first point the sentence concerns (None when none): the card
+    orders its sentences by it. ``names_points`` marks a sentence that lists the points of a
+    signal: a card short of room leaves those to its data table (whose "signals" column names
+    every point) and keeps the sentences that count or sum up."""
 
     kind: str
     marker: str
     text: str
+    at: int | None = None
+    names_points: bool = False
 
 
 SIGNAL_MARKER = "◆"  # the same diamond the charts use for signal points
@@ -84,6 +92,11 @@ def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point
     return f"{lead}{sig.description}{side}{chart}: {times}{len(points)} {plural}, {dates}."
 
 
+def _first(signals: Sequence[Signal]) -> int | None:
+    """The first point any of the signals covers."""
+    return min((min(s.indices) for s in signals if len(s.indices)), default=None)
+
+
 def _grouped(signals: Sequence[Signal], stage_names: Sequence[str] | None):
     groups: dict[tuple, list[Signal]] = {}
     for s in signals:
@@ -102,15 +115,18 @@ def control_findings(chart: ControlChart, signals: Sequence[Signal], x: Sequence
     groups = _grouped(signals, stage_names)
     phases = sorted({k[0] for k in groups if k[0] and k[0] != "Baseline"})
     for ph in phases:
-        n = sum(len(v) for k, v in groups.items() if k[0] == ph)
+        in_phase = [s for k, v in groups.items() if k[0] == ph for s in v]
+        n = len(in_phase)
         out.append(Finding("signal", SIGNAL_MARKER,
                            f"{ph}: {n} signal{'s' if n != 1 else ''} against limits computed "
                            "from the baseline, so these points no longer behave like the "
-                           "baseline process; check whether the change is the intended one."))
+                           "baseline process; check whether the change is the intended one.",
+                           _first(in_phase)))
     multi = len({k[0] for k in groups}) > 1
     for (phase, _c, _r, _d), group in groups.items():
         out.append(Finding("signal", SIGNAL_MARKER,
-                           group_sentence(group, x, phase=phase if multi else "")))
+                           group_sentence(group, x, phase=phase if multi else ""),
+                           _first(group), names_points=True))
     return out
 
 
@@ -124,8 +140,9 @@ def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Find
     out = [Finding("signal", SIGNAL_MARKER,
                    f"On its own limits the after phase shows {n} signal{'s' if n != 1 else ''} "
                    f"(marked “{OWN_SIGNAL_WORDS}”): the new process is not yet stable; look "
-                   "into these points before reading its capability.")]
-    out += [Finding("signal", SIGNAL_MARKER, "After, on its own limits: " + group_sentence(g, x))
+                   "into these points before reading its capability.", _first(signals))]
+    out += [Finding("signal", SIGNAL_MARKER, "After, on its own limits: " + group_sentence(g, x),
+                    _first(g), names_points=True)
             for g in _grouped(signals, None).values()]
     return out
 
@@ -196,12 +213,13 @@ def change_findings(evidence: tuple[PointEvidence, PointEvidence | None], chart:
         out.append(Finding("signal", SIGNAL_MARKER,
                            f"The baseline shows {n} signal{'s' if n != 1 else ''} on its own "
                            f"limits (marked “{OWN_SIGNAL_WORDS}”); the project page names "
-                           "them."))
+                           "them.", _first(base)))
     return out
 
 
 def run_findings(run: RunChartAnalysis, x: Sequence[str], rules_label: str) -> list[Finding]:
-    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"))
+    out = [Finding("signal", SIGNAL_MARKER, group_sentence(g, x, line="median"), _first(g),
+                   names_points=True)
            for g in _grouped(run.signals, None).values()]
     if not out:
         out.append(Finding("clear", CLEAR_MARKER, f"No non-random pattern by the {rules_label}."))

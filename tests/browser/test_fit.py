@@ -75,11 +75,12 @@ def test_charts_are_drawn_again_for_a_narrower_window(browser, site_url, built_s
     assert not watch.problems, watch.problems
     assert narrow["scrollWidth"] <= narrow["clientWidth"], "the page scrolls sideways"
     assert not _outside(narrow, narrow["clientWidth"])
-    # every chart was drawn again: its x axis is shorter than at 1280 px
+    # every chart was drawn again for its box's new width: its x axis changed length (shorter,
+    # or longer where a chart that shared a row at 1280 px has the row to itself at 700 px)
     before = {c["id"]: max(c["axes"] or [0]) for c in wide["charts"]}
     after = {c["id"]: max(c["axes"] or [0]) for c in narrow["charts"]}
     assert before.keys() == after.keys() and before
-    kept = [cid for cid in before if before[cid] and after[cid] >= before[cid]]
+    kept = [cid for cid in before if before[cid] and abs(after[cid] - before[cid]) < 1]
     assert not kept, f"charts that kept their first width: {kept}"
 
 

@@ -885,12 +885,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     elif analysis.runs_limits is not None:
         lo, hi = analysis.runs_limits
         facts.append(f"{analysis.runs} runs (expected {lo + 1} to {hi - 1})")
+    # The subtitle names the values the chart is judged by; what signals is said once, in the
+    # sentences of its card (site.cards), and the notes go with the card's method.
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         f"{rules}: " + ", ".join(facts),
-        _signals_sentence(analysis.signals, max_kinds=2),
-        # the rule set is named at the head of the subtitle, by its one name
-        *(note for note in analysis.notes if not note.startswith("Rules used:")),
     ]
     spec = make_spec(
         tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
@@ -1271,16 +1270,13 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     # the chart named once, by the vocabulary's name of its kind
     name = _kind_name(chart)
     title = f"{ctx.metric_name} \u2014 {name}"
+    # the period and values the limits come from; the signals are the card's sentences
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
         if chart.sigma_method
         else _fitted_sentence(ctx, chart.fitted),
-        _signals_sentence(signals, max_kinds=2),
-        *chart.notes,
     ]
-    if sec is not None:
-        subtitle.extend(sec.notes)
     spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
     table, columns = _control_table(ctx, chart, offset, marked, sec_marked)
 
@@ -1348,12 +1344,9 @@ def staged_control_chart(
             f"after phase's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
             f"({plural(len(after_idx), 'point')})"
         )
+    # the periods and limits drawn; what they show is said in the card's sentences
     change = _change_sentence(evidence[0], carried)
     unstable = _own_signals_sentence(signals, own_signals, evidence)
-    subtitle += [change, unstable]
-    subtitle += list(carried.notes)
-    if sec is not None:
-        subtitle.extend(sec.notes)
     spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
     table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own,
                                     marks=_mark_column(evidence, offset))

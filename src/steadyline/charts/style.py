@@ -134,10 +134,11 @@ FONT = (
 FONT_SIZE = 12
 TITLE_SIZE = 14
 
-# Default heights (width follows the page: "container").
-HEIGHT_MAIN = 260
-HEIGHT_SECONDARY = 130
-HEIGHT_DISTRIBUTION = 240
+# Default heights (width follows the page: "container"); low enough that a chart, its lead
+# sentence and its card's foot fit a laptop's screen at once.
+HEIGHT_MAIN = 220
+HEIGHT_SECONDARY = 110
+HEIGHT_DISTRIBUTION = 200
 PANEL_STEP = 22  # px per category in side-by-side Pareto panels
 
 

@@ -205,7 +205,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             d.add("run", "Run chart with median", chart,
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
                   _lead(points_note(m)) + "Median of the baseline as centre line; rules: "
-                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]}).")
+                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]}).",
+                  notes=a.run.notes)
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
             baseline_signals += _in_baseline(a.run.signals, a.stage_names)
@@ -221,7 +222,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   + f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
-                  f"; rules: {signal_label}.")
+                  f"; rules: {signal_label}.",
+                  notes=_drawing_notes(a.control))
             result["control_chart"] = {
                 "choice": a.choice, "chart": a.control,
                 "signals": signals_json(a.signals, a.x)}
@@ -310,6 +312,13 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
 def _lead(sentence: str) -> str:
     """A sentence put before a card's method line ("" when there is none)."""
     return f"{sentence} " if sentence else ""
+
+
+def _drawing_notes(chart) -> tuple[str, ...]:
+    """A control chart's notes on how it was drawn (moving ranges left out, …): the card puts
+    them with its method; the rules-of-thumb cautions stay in view."""
+    notes = tuple(chart.notes)
+    return notes + tuple(chart.secondary.notes) if chart.secondary is not None else notes
 
 
 def _sentence(text: str) -> str:
