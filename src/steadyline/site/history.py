@@ -19,6 +19,7 @@ from ..stats.evidence import DIRECTIONS
 from ..stats.runs import RULE_SET_SHORT
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
+from .drawn import box_json, by_period_text
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -111,7 +112,8 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
                       "point in a signal against them is evidence of a change, marked by its "
                       "direction; a baseline point in a signal on the baseline's limits is "
                       "marked with the signal diamond. The after phase has too few points "
-                      "for limits of its own, so its stability is not judged."))
+                      "for limits of its own, so its stability is not judged.")
+              + by_period_text(a))
         staged = {"own_after_limits": own, "chart": a.control,
                   "signals": signals_json(a.signals, a.x),
                   "change_evidence": change_evidence_json(a.evidence, a.control, a.x)}
@@ -124,7 +126,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         d.add("phase-box", "Box plots by phase", chart,
               method="Both phases on one scale; quartiles by "
                      f"{a.phase_boxes[0][1].method_label}.")
-        result["box_plots"] = dict(a.phase_boxes)
+        result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
         chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,

@@ -41,13 +41,14 @@ from .cards import (
     signals_json,
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
+from .drawn import box_json, by_period_brief, by_period_json, by_period_text
 from .history import history_page, history_section
 from .index import csv_text
 from .notes import render_notes
 from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
 
-RESULTS_SCHEMA = "steadyline-results/1"
+RESULTS_SCHEMA = "steadyline-results/2"
 SIGNAL_RULE_LABELS = {
     "western-electric": "Western Electric zone rules",
     "nelson": "Nelson rules",
@@ -123,6 +124,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     open_signals = 0
     baseline_signals = 0  # signals that start in the baseline (the rest mostly show the change)
+    result["drawn_by_period"] = by_period_json(a)
     if a.data.kind != "categories":
         pts = a.data.points
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
@@ -132,7 +134,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             chart = run_chart(ctx, pts["value"].to_numpy(float), a.run)
             d.add("run", "Run chart with median", chart,
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
-                  f"Median of the baseline as centre line; rules: {run_label}.")
+                  f"Median of the baseline as centre line; rules: {run_label}."
+                  + by_period_text(a))
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
             baseline_signals += _in_baseline(a.run.signals, a.stage_names)
@@ -147,7 +150,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
-                  f"; rules: {signal_label}.")
+                  f"; rules: {signal_label}." + by_period_text(a))
             result["control_chart"] = {
                 "choice": a.choice, "chart": a.control,
                 "signals": signals_json(a.signals, a.x)}
@@ -166,7 +169,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         d.add("box", "Box plot of the baseline", chart, cautions=advice.box_cautions(a.box.n),
               method=f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
-        result["box_plot"] = a.box
+        result["box_plot"] = box_json(a.box)
     if a.pareto is not None:
         chart = pareto_chart(a.pareto)
         d.add("pareto", "Pareto chart", chart, advice.pareto_findings(a.pareto),
@@ -201,7 +204,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     section = {
         "id": m.id, "name": m.name, "unit": unit,
         "data_text": f"{DATA_TEXT[m.type]} from {Path(m.file_rel).name} "
-                     f"({a.data.raw_rows} rows{_rollup_text(m)})",
+                     f"({a.data.raw_rows} rows{_rollup_text(m)}"
+                     f"{by_period_brief(a)})",
         "choice": a.choice.reason if a.choice else "",
         "periods_text": periods_text(a),
         "better_text": BETTER_TEXT[m.better] + (f" (target {fmt(m.target, unit)})"
