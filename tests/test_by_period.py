@@ -257,3 +257,46 @@ def test_box_plot_outliers_are_capped_at_the_most_extreme(tmp_path):
                                np.concatenate([out[:100], out[-100:]]), rtol=1e-9)
     far = (base < q1 - 3 * (q3 - q1)) | (base > q3 + 3 * (q3 - q1))
     assert len(box["far_out_indices"]) + box["far_out_left_out"] == int(far.sum())
+
+
+def test_free_text_categories_are_capped_in_results(tmp_path):
+    folder = tmp_path / "cats"
+    folder.mkdir()
+    rng = np.random.default_rng(5)
+    n = 6000
+    t = _times(rng, n).dt.strftime("%Y-%m-%dT%H:%M")
+    reasons = [f"reason {k}" for k in rng.zipf(1.3, n)]  # a long tail of distinct texts
+    pd.DataFrame({"t": t, "c": reasons}).to_csv(folder / "m.csv", index=False)
+    (folder / "project.toml").write_text('''title = "Reasons"
+owner = "Someone"
+phase = "measure"
+problem = "Many reasons."
+
+[comparison]
+baseline = [2026-01-05, 2026-04-30]
+after = [2026-06-01]
+
+[[metric]]
+id = "m"
+name = "Reasons"
+file = "m.csv"
+type = "categories"
+time = "t"
+category = "c"
+better = "lower"
+''', "utf-8")
+    doc = json.loads(build(folder)["results.json"])
+    tally = pd.Series(reasons).value_counts()  # pandas' own count, an outside tally
+    assert len(tally) > 400
+    p = doc["metrics"][0]["pareto"]
+    assert len(p["categories"]) == len(p["counts"]) == len(p["cumulative_percent"]) == 200
+    assert p["categories_left_out"] == len(tally) - 200
+    assert p["total"] == n and sum(p["counts"]) + p["count_left_out"] == n
+    assert p["counts"][:5] == tally.iloc[:5].tolist()
+    col = doc["metrics"][0]["column_chart"]
+    assert col["categories"] == sorted(p["categories"], key=str.casefold)
+    assert (col["categories_left_out"], col["count_left_out"]) == (p["categories_left_out"],
+                                                                  p["count_left_out"])
+    for phase in doc["history"][0]["paretos"].values():
+        assert len(phase["categories"]) <= 200
+        assert sum(phase["counts"]) + phase["count_left_out"] == phase["total"]

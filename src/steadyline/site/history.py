@@ -19,7 +19,7 @@ from ..stats.evidence import DIRECTIONS
 from ..stats.runs import RULE_SET_SHORT
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
-from .drawn import box_json, by_period_text
+from .drawn import box_json, by_period_text, pareto_json
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -146,7 +146,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
               method="Categories keep the baseline's order in every phase, so shrinking "
                      "bars show which causes the improvement removed.")
-        result["paretos"] = dict(a.phase_paretos)
+        result["paretos"] = {name: pareto_json(p) for name, p in a.phase_paretos}
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:

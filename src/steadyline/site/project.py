@@ -41,7 +41,14 @@ from .cards import (
     signals_json,
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
-from .drawn import box_json, by_period_brief, by_period_json, by_period_text
+from .drawn import (
+    box_json,
+    by_period_brief,
+    by_period_json,
+    by_period_text,
+    column_json,
+    pareto_json,
+)
 from .history import history_page, history_section
 from .index import csv_text
 from .notes import render_notes
@@ -176,14 +183,14 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
-        result["pareto"] = a.pareto
+        result["pareto"] = pareto_json(a.pareto)
     if a.column is not None:
         chart = column_chart(a.column[0], a.column[1], unit=unit or "count")
         d.add("column", "Column chart by category", chart,
               cautions=advice.column_cautions(len(a.column[0]))
               + advice.bar_axis_cautions(chart.spec),
               method="Categories in alphabetical order; the count axis starts at zero.")
-        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1])}
+        result["column_chart"] = column_json(a.pareto, *a.column)
     cap = None
     if a.capability is not None:
         c = a.capability
