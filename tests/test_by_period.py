@@ -43,10 +43,12 @@ def write_project(root: Path, name: str, n: int, kind: str = "continuous", *, se
     t = _times(rng, n, minutes)
     stamps = t.dt.strftime("%Y-%m-%dT%H:%M")
     after = (t >= pd.Timestamp("2026-06-01")).to_numpy()
-    if kind == "continuous":
+    if kind in ("continuous", "subgroups"):
         df = pd.DataFrame({"t": stamps, "v": np.round(20 - 0.8 * after
                                                       + rng.standard_t(4, n), 3)})
         keys = 'value = "v"\nspec_upper = 26.0\nunit = "h"'
+        if kind == "subgroups":
+            keys += "\nsubgroup_size = 5"
     elif kind == "defectives":
         size = rng.integers(20, 60, n)
         df = pd.DataFrame({"t": stamps, "d": rng.binomial(size, np.where(after, 0.03, 0.06)),
@@ -146,6 +148,19 @@ def test_continuous_is_drawn_as_one_subgroup_per_period(tmp_path):
     np.testing.assert_allclose(a.control.centre[base], xbarbar, rtol=1e-9)
     np.testing.assert_allclose(a.control.upper[base], xbarbar + a3 * sbar, rtol=1e-9)
     np.testing.assert_allclose(a.control.lower[base], xbarbar - a3 * sbar, rtol=1e-9)
+
+
+def test_too_many_subgroups_are_pooled_by_period(tmp_path):
+    folder = write_project(tmp_path, "g", 2500, "subgroups")  # 500 subgroups of 5
+    data = loaded(folder)
+    b = data.by_period
+    assert (b.period, b.how, b.points) == ("day", "subgroups", 500)
+    assert "the subgroups of a period pooled" in b.reason
+    raw = pd.read_csv(folder / "m.csv", parse_dates=["t"])
+    groups = raw.groupby(raw["t"].dt.normalize())["v"]
+    assert [len(g) for g in data.subgroups] == groups.size().tolist()
+    np.testing.assert_allclose(data.points["value"], groups.mean().to_numpy(), rtol=1e-12)
+    assert analyse(data).choice.kind == "xbar-s"
 
 
 def test_defectives_are_drawn_by_each_periods_totals(tmp_path):
