@@ -41,8 +41,9 @@ def by_period_json(a: MetricAnalysis) -> dict | None:
 
 def box_json(b: BoxSummary) -> dict:
     """A box plot's results.json entry with its outlying values capped as the chart caps them:
-    the most extreme MAX_OUTLIERS_EACH_SIDE below the box and above it (in the order of the
-    values), with the number left out, so that the file does not grow with the rows."""
+    the MAX_OUTLIERS_EACH_SIDE lowest and the MAX_OUTLIERS_EACH_SIDE highest (kept in their
+    order in the data), with the number left out, so that the file does not grow with the
+    rows."""
     out = plain(b)
     idx = np.asarray(b.outlier_indices, dtype=np.int64)
     vals = np.asarray(b.outlier_values, dtype=float)
