@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+import vl_convert as vlc
 from markupsafe import escape
 
 from steadyline.analysis import analyse
@@ -245,6 +246,10 @@ def test_200000_rows_without_rollup_state_their_periods_and_stay_light(tmp_path)
     ws, wb = weight(small), weight(big)
     for key in ws:
         assert wb[key] <= 3 * ws[key], (key, wb[key], ws[key])
+    # the charts drawn by period compile and draw (vl-convert raises on a broken spec)
+    vlc.vegalite_to_scenegraph(json.loads(big["data/m-control.vl.json"]))
+    for name in ("data/m-run.vl.json", "data/history-m-staged-control.vl.json"):
+        vlc.vegalite_to_vega(json.loads(big[name]))
 
 
 @pytest.mark.parametrize("kind", ["continuous", "defectives", "defects"])
