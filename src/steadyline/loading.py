@@ -1025,8 +1025,9 @@ def _by_period(frame: pd.DataFrame, spec: MetricSpec, kind: str, points: int
                 "segment": segment}
         how = "subgroups"
         pooled = " (the subgroups of a period pooled)" if kind == "subgroups" else ""
-        tail = (f": each {per}'s values form one subgroup{pooled}, charted by their mean and "
-                "standard deviation with limits that step with the subgroup's size")
+        tail = (f": each {per}'s values form one subgroup{pooled}, drawn as its mean, with "
+                "control limits from the subgroups' standard deviations that step with each "
+                "subgroup's size")
     elif kind == "continuous":
         vals = frame["value"].to_numpy(dtype=float)
         cols = {"period": period, "value": np.add.reduceat(vals, starts) / sizes, "n": sizes,
