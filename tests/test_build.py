@@ -51,7 +51,7 @@ def test_demo_has_index_page_and_results_per_project(demo_site: Path):
         page = demo_site / "projects" / slug / "index.html"
         assert page.is_file(), slug
         doc = _no_nan((demo_site / "projects" / slug / "results.json").read_text("utf-8"))
-        assert doc["schema"] == "steadyline-results/1"
+        assert doc["schema"] == "steadyline-results/2"
         assert doc["project"]["slug"] == slug
         index = (demo_site / "index.html").read_text("utf-8")
         assert f'href="projects/{slug}/index.html"' in index

@@ -33,6 +33,13 @@ from .errors import Problem, ProjectError
 STAGE_BASELINE, STAGE_AFTER, STAGE_OTHER = 0, 1, 2
 STAGE_NAMES = {STAGE_BASELINE: "Baseline", STAGE_AFTER: "After", STAGE_OTHER: "Between periods"}
 MAX_LISTED_ROWS = 5
+# The most points a time-based chart draws one by one. Our choice: a card's chart is some 600 to
+# 900 px wide, so 400 points leave about 2 px each, where markers start to merge into a band and
+# the signals can no longer be told apart. A metric without a roll-up of its own that has more
+# points is drawn by period instead (see choose_period).
+DRAWN_POINTS_MAX = 400
+# The periods tried, finest first; "year" is for series too long even by quarter.
+AUTO_PERIODS = ("day", "week", "month", "quarter", "year")
 MAX_MAGNITUDE = 1e100
 _OFFSET_RE = re.compile(r"(?:Z|[+-]\d{2}:?\d{2})$")
 
@@ -50,6 +57,8 @@ class MetricData:
                 For categories: one row per input row with columns category, weight, stage.
     subgroups:  for subgroups: the values of each subgroup, in point order.
     raw_rows:   data rows read from the file.
+    by_period:  when the metric had more points than a chart shows legibly and no roll-up of its
+                own, the period its time-based charts are drawn by and why (else None).
     """
 
     spec: MetricSpec
@@ -59,6 +68,29 @@ class MetricData:
     values: pd.DataFrame | None = None  # individual values (value, stage) for distributions
     raw_rows: int = 0
     problems: list[Problem] = field(default_factory=list)  # warnings only
+    by_period: ByPeriod | None = None
+
+
+@dataclass(frozen=True)
+class ByPeriod:
+    """How a metric with too many points to draw one by one is drawn instead.
+
+    period:   day, week, month, quarter or year (the finest that brings the points under limit).
+    points:   the points it would have had (rows, or the user's subgroups).
+    periods:  the points drawn (periods with data).
+    limit:    DRAWN_POINTS_MAX.
+    how:      "subgroups" (each period's values form one subgroup: Xbar-S / Xbar-R by period),
+              "totals" (each period's defectives or defects over its items or area: p / u
+              chart), or "mean" (the period's mean, when an X-mR chart was asked for).
+    reason:   the sentence the pages and results.json give.
+    """
+
+    period: str
+    points: int
+    periods: int
+    limit: int
+    how: str
+    reason: str
 
     @property
     def stage(self) -> np.ndarray:
@@ -772,7 +804,7 @@ def assign_stage(times: pd.Series | np.ndarray, baseline: Period | None,
     return stage
 
 
-_PERIOD_FREQ = {"day": "D", "week": "W-MON", "month": "MS", "quarter": "QS"}
+_PERIOD_FREQ = {"day": "D", "week": "W-MON", "month": "MS", "quarter": "QS", "year": "YS"}
 
 
 def period_start(t: pd.Series, period: str) -> pd.Series:
@@ -783,6 +815,8 @@ def period_start(t: pd.Series, period: str) -> pd.Series:
         return d - pd.to_timedelta(d.dt.day_of_week, unit="D")
     if period == "month":
         return d.dt.to_period("M").dt.start_time
+    if period == "year":
+        return d.dt.to_period("Y").dt.start_time
     return d.dt.to_period("Q").dt.start_time
 
 
@@ -793,6 +827,8 @@ def period_label(start: pd.Series, period: str) -> pd.Series:
     if period == "week":
         iso = start.dt.isocalendar()
         return iso["year"].astype(str) + "-W" + iso["week"].astype(str).str.zfill(2)
+    if period == "year":
+        return start.dt.year.astype(str)
     return start.dt.year.astype(str) + "-Q" + start.dt.quarter.astype(str)
 
 
@@ -979,10 +1015,20 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
                                "stage": assign_stage(times, spec.baseline, spec.after)})
     # the points' columns, in this order: period, the values, n, (subgroup), segment, ...
     cols: dict
+    by_period = None
+    period_of_points = spec.rollup.period if spec.rollup is not None else None
     if kind == "subgroups":
         cols, subgroups = _subgroups(frame, spec, out)
+        if len(subgroups) > DRAWN_POINTS_MAX:
+            by_period, cols, subgroups = _by_period(frame, spec, kind, len(subgroups))
+            period_of_points = by_period.period
     elif spec.rollup is not None:
         cols = _rollup(frame, spec, kind, flags)
+    elif len(frame) > DRAWN_POINTS_MAX:
+        by_period, cols, subgroups = _by_period(frame, spec, kind, len(frame))
+        period_of_points = by_period.period
+        if by_period.how == "subgroups":
+            kind = "subgroups"
     else:
         if kind == "continuous":
             dups = frame["t"].duplicated(keep=False)
@@ -1000,13 +1046,94 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     if kind in ("defectives", "defects"):
         cols["value"] = cols["count"] / cols["size"]
     period = np.asarray(cols["period"])
-    cols["label"] = (_labels(period) if spec.rollup is None
-                     else _period_labels(period, spec.rollup.period))
+    cols["label"] = (_labels(period) if period_of_points is None
+                     else _period_labels(period, period_of_points))
     cols["stage"] = assign_stage(period, spec.baseline, spec.after)
     pts = pd.DataFrame(cols)
     out.raise_if_failed()
     return MetricData(spec, kind, pts, subgroups=subgroups, values=values, raw_rows=raw_rows,
-                      problems=[p for p in out.problems if p.severity != "error"])
+                      problems=[p for p in out.problems if p.severity != "error"],
+                      by_period=by_period)
+
+
+def choose_period(t: pd.Series, limit: int = DRAWN_POINTS_MAX) -> tuple[str, np.ndarray, int]:
+    """The finest period of :data:`AUTO_PERIODS` with at most *limit* periods holding data, for
+    times in order: (period, each time's period start, number of periods). The coarsest when
+    none is fine enough."""
+    for per in AUTO_PERIODS:
+        key = period_start(t, per).to_numpy()
+        count = int((key[1:] != key[:-1]).sum()) + 1 if len(key) else 0
+        if count <= limit:
+            break
+    return per, key, count
+
+
+_PLURAL = {"day": "days", "week": "weeks", "month": "months", "quarter": "quarters",
+           "year": "years"}
+
+
+def _by_period(frame: pd.DataFrame, spec: MetricSpec, kind: str, points: int
+               ) -> tuple[ByPeriod, dict, list[np.ndarray] | None]:
+    """A series with more points than a chart shows legibly, drawn by period (rows in time
+    order, as load_metric leaves them).
+
+    Measured values: each period's values form one subgroup, charted by Xbar-S (or Xbar-R when
+    every period holds the same number, 2 to 10) with limits that step with the size. This is
+    the second way of forming rational subgroups in Montgomery, Introduction to Statistical
+    Quality Control, chapter 5, "Rational subgroups" (from memory): each subgroup
+    represents all the units made since the last one. He warns that a shift inside a period
+    then widens the within-subgroup spread and so the limits; the pages say how the points were
+    formed. With an X-mR chart set in `chart`, each period's mean instead (a continuous metric
+    only; the user's subgroups are always pooled). Defectives and defects: the period's totals
+    (p and u charts need them: a mean of row proportions would weigh a row of 3 items checked
+    like one of 3,000)."""
+    per, key, count = choose_period(frame["t"])
+    n = len(key)
+    starts = np.flatnonzero(np.concatenate([[True], key[1:] != key[:-1]]))
+    sizes = np.diff(np.append(starts, n))
+    period = key[starts]
+    segment = _segments_for_periods(period, per)
+    word = "values" if kind == "continuous" else ("subgroups" if kind == "subgroups" else "rows")
+    head = (f"{points} {word} are more points than a chart shows legibly ({DRAWN_POINTS_MAX} "
+            f"at most), so the time-based charts show one point per {per} ({count} "
+            f"{_PLURAL[per] if count != 1 else per})")
+    groups = None
+    if kind == "subgroups" or (kind == "continuous" and spec.chart != "xmr"):
+        vals = frame["value"].to_numpy(dtype=float)
+        groups = np.split(vals, starts[1:])
+        cols = {"period": period, "value": np.add.reduceat(vals, starts) / sizes,
+                "n": sizes, "subgroup": _period_labels(period, per).tolist(),
+                "segment": segment}
+        how = "subgroups"
+        pooled = " (the subgroups of a period pooled)" if kind == "subgroups" else ""
+        tail = (f": each {per}'s values form one subgroup{pooled}, drawn as its mean, with "
+                "control limits from the subgroups' standard deviations that step with each "
+                "subgroup's size")
+    elif kind == "continuous":
+        vals = frame["value"].to_numpy(dtype=float)
+        cols = {"period": period, "value": np.add.reduceat(vals, starts) / sizes, "n": sizes,
+                "segment": segment}
+        how = "mean"
+        tail = f": the mean of each {per}'s values, as an X-mR chart is set for this metric"
+    else:
+        cols = {"period": period,
+                "count": np.add.reduceat(frame["count"].to_numpy(dtype=float), starts)}
+        how = "totals"
+        if "size" in frame:
+            cols["size"] = np.add.reduceat(frame["size"].to_numpy(dtype=float), starts)
+            what = ("defectives over its items checked" if kind == "defectives"
+                    else "defects over its area of opportunity")
+        else:  # defects counted per row: each row is one unit inspected
+            cols["size"] = sizes.astype(float)
+            what = "defects per row (each row one unit inspected)"
+        cols["n"] = sizes
+        cols["segment"] = segment
+        tail = f": the {per}'s {what}"
+    reason = (f"{head}{tail}. The histogram, box plot and capability use every value; the "
+              "full-resolution data stay in the metric's own file.")
+    if kind in ("defectives", "defects"):
+        reason = f"{head}{tail}."
+    return ByPeriod(per, points, count, DRAWN_POINTS_MAX, how, reason), cols, groups
 
 
 def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> dict:

@@ -22,7 +22,7 @@ from ..stats.evidence import DIRECTIONS
 from ..vocab import RunRules, percentage_points, proportion_text, proportion_unit
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
-from .serialise import plain
+from .drawn import box_json, by_period_text, pareto_json
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -150,7 +150,8 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
                       "point in a signal against them is evidence of a change, marked by its "
                       "direction; a baseline point in a signal on the baseline's limits is "
                       "marked with the signal diamond. The after phase has too few points "
-                      "for limits of its own, so its stability is not judged."))
+                      "for limits of its own, so its stability is not judged.")
+              + by_period_text(a))
         staged = {"own_after_limits": own, "chart": a.control,
                   "signals": signals_json(a.signals, a.x),
                   "change_evidence": change_evidence_json(a.evidence, a.control, a.x)}
@@ -164,7 +165,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         d.add("phase-box", "Box plots by phase" + (", individual values" if note else ""),
               chart, method=(f"{note} " if note else "") + "Both phases on one scale; "
               f"quartiles by {a.phase_boxes[0][1].method_label}.")
-        result["box_plots"] = dict(a.phase_boxes)
+        result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
         note = values_note(m, h.n)
@@ -188,7 +189,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
                      "phase, so shrinking bars show which causes the improvement removed; "
                      "categories new after the baseline follow, largest first.")
         n_gathered = gathered(len(common_order(a.phase_paretos)))
-        result["paretos"] = {name: plain(p) | {"gathered_categories": n_gathered}
+        result["paretos"] = {name: pareto_json(p) | {"gathered_categories": n_gathered}
                              for name, p in a.phase_paretos}
     if a.comparison is not None:
         result["comparison"] = a.comparison

@@ -67,13 +67,21 @@ from .cards import (
     signals_json,
 )
 from .common import ProjectOutcome, git_dates, input_hash, page_context
+from .drawn import (
+    box_json,
+    by_period_brief,
+    by_period_json,
+    by_period_text,
+    column_json,
+    pareto_json,
+)
 from .history import history_page, history_section
 from .index import csv_text
 from .notes import render_notes
 from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
 
-RESULTS_SCHEMA = "steadyline-results/1"
+RESULTS_SCHEMA = "steadyline-results/2"
 BETTER_TEXT = {"lower": "lower values", "higher": "higher values",
                "target": "values close to the target"}
 PHASE_LABEL = {p: p.capitalize() for p in PHASES}
@@ -195,6 +203,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     open_signals = 0
     baseline_signals = 0  # signals that start in the baseline (the rest mostly show the change)
+    result["drawn_by_period"] = by_period_json(a)
     if a.data.kind != "categories":
         pts = a.data.points
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
@@ -205,7 +214,9 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
             d.add("run", "Run chart with median", chart,
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
                   _lead(points_note(m)) + "Median of the baseline as centre line; rules: "
-                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]}).",
+                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]})."
+                  
+                  + by_period_text(a),
                   notes=a.run.notes)
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
             open_signals += len(a.run.signals)
@@ -222,7 +233,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   + f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
-                  f"; rules: {signal_label}.",
+                  f"; rules: {signal_label}." + by_period_text(a),
                   notes=_drawing_notes(a.control))
             result["control_chart"] = {
                 "choice": a.choice, "chart": a.control,
@@ -248,7 +259,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               method=_lead(note)
               + f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
-        result["box_plot"] = a.box
+        result["box_plot"] = box_json(a.box)
     if a.data.kind == "categories":  # what its Pareto and column chart count
         period, scope = category_period(a), a.category_scope
     if a.pareto is not None:
@@ -258,7 +269,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
               "Bars in descending order; the line is the cumulative percentage on the right "
               "axis, whose 100% sits level with the total on the left axis.")
-        result["pareto"] = plain(a.pareto) | {
+        result["pareto"] = pareto_json(a.pareto) | {
             "gathered_categories": gathered(len(a.pareto.categories)),
             "scope": scope, "values": a.category_rows}
     if a.column is not None:
@@ -269,8 +280,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
               method="Categories in alphabetical order; the count axis starts at zero."
               + (f" Only the {MAX_BARS - 1} largest are drawn, and one last bar for all the "
                  "others; the table lists every category." if gathered(len(a.column[0])) else ""))
-        result["column_chart"] = {"categories": list(a.column[0]), "counts": list(a.column[1]),
-                                  "gathered_categories": gathered(len(a.column[0]))}
+        result["column_chart"] = column_json(a.pareto, *a.column) | {
+            "gathered_categories": gathered(len(a.column[0]))}
     cap = None
     if a.capability is not None:
         c = a.capability
@@ -291,7 +302,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     section = {
         "id": m.id, "name": m.name, "unit": unit, "broken": False,
         "data_text": f"{DataType(m.type).label} from {Path(m.file_rel).name} "
-                     f"({a.data.raw_rows} rows{_rollup_text(m)})",
+                     f"({a.data.raw_rows} rows{_rollup_text(m)}"
+                     f"{by_period_brief(a)})",
         "choice": a.choice.reason if a.choice else "",
         "periods_text": periods_text(a),
         "better_text": BETTER_TEXT[m.better] + (f" (target {fmt(m.target, unit)})"
