@@ -1,7 +1,7 @@
 """Write the JSON Schemas of project.toml and portfolio.toml into src/steadyline/schemas/.
 
 Run after changing a key (steadyline.config.KEYS) or a comment of the README's TOML examples;
-tests/test_schema.py fails until the shipped files equal what this writes.
+tests/test_editor_schema.py fails until the shipped files equal what this writes.
 """
 
 from __future__ import annotations

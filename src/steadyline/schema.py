@@ -7,7 +7,7 @@ examples in the README (the format as users read it), so an editor shows the sam
 
 The schemas are JSON Schema draft 4, the newest draft the TOML language server behind the common
 editor extensions reads. ``scripts/make_schemas.py`` writes them into ``steadyline/schemas/``;
-``tests/test_schema.py`` holds the shipped files equal to what this module makes, and validates
+``tests/test_editor_schema.py`` holds the shipped files equal to what this module makes, and validates
 the demo's files against them. The schema checks each key's type and choices; what only the
 whole file can tell (periods that overlap, a target outside the limits, a column the data type
 needs) is left to ``steadyline check``.
