@@ -493,10 +493,9 @@ def render(folder: Path, data: str, g: Guess, sniffed: list[str], owner: str, ti
             reason = next((s.split(": ", 1)[1] for s in sniffed if s.startswith(field)), "")
             csv_lines += _comment(reason[:1].upper() + reason[1:] + ".") + [f"{field} = {_q(v)}"]
     if g.rollup:
-        out.append("")
-        out.extend(_comment(g.why["rollup"][:1].upper() + g.why["rollup"][1:] + "."))
-        out += ["[metric.rollup]", f"period = {_q(g.rollup[0])}",
-                f"statistic = {_q(g.rollup[1])}"]
+        out += ["", "[metric.rollup]"]
+        key("period", _q(g.rollup[0]), g.why["rollup"] + ".")
+        key("statistic", _q(g.rollup[1]), "The share of 1s (defective items) in each period.")
     if csv_lines:
         out += ["", "[metric.csv]"] + csv_lines
     return "\n".join(out) + "\n"
