@@ -160,3 +160,12 @@ def test_a_file_with_nothing_to_chart_is_refused(tmp_path, capsys):
     assert main(["start", str(folder / "d.csv")]) == 2
     assert "found no column to chart" in capsys.readouterr().err
     assert not (folder / "project.toml").exists()
+
+
+def test_a_type_without_its_columns_is_refused(tmp_path, capsys):
+    folder = tmp_path / "p"
+    folder.mkdir()
+    shutil.copyfile(DEMO / "order-picking-errors/picking_audit.csv", folder / "picking_audit.csv")
+    assert main(["start", str(folder / "picking_audit.csv"), "--type", "categories"]) == 2
+    assert "a categories metric needs a category column" in capsys.readouterr().err
+    assert not (folder / "project.toml").exists()

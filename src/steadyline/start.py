@@ -6,8 +6,8 @@ parsing as a build (:mod:`steadyline.loading`, which opens files only through
 counts, the sizes or the categories, and so the metric's data type, and writes ``project.toml``
 beside the file. Each guess is written with a comment saying what it rests on, so the owner can
 judge it; options set any of them instead. It asks nothing (it runs in CI too) and never
-overwrites a file: the new file is written under a temporary name and linked into place, which
-fails when a ``project.toml`` is there.
+overwrites a file: the new file is created exclusively (O_EXCL), which fails when anything is
+at ``project.toml``, a link included.
 
 The guesses rest on what the cells are (dates, whole numbers, decimals, 0/1 flags, repeated
 text) and, where the cells cannot tell, on words in the column names (a column named
@@ -399,6 +399,7 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
                              f"{med:g} rows (the median), the shortest period with "
                              f"{_MIN_ROWS_PER_PERIOD} or more")
 
+    _needs(kind, chosen)
     better = "lower"
     measured = chosen.get("value") if kind in ("continuous", "subgroups") else None
     if measured and _HIGHER_NAME.search(_words(measured)):
@@ -410,6 +411,27 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
     else:
         why["better"] = "fewer defects, defectives or occurrences are better"
     return Guess(kind, better, chosen, why, rollup=rollup, rows=rows)
+
+
+# What each data type needs, in the words of the command's options (config's shape check says
+# the same of a project.toml).
+_NEEDS = {"continuous": (("time",), ("value",)), "subgroups": (("time",), ("value",),
+                                                               ("subgroup",)),
+          "defectives": (("time",), ("count", "value")), "defects": (("time",), ("count",)),
+          "categories": (("category",),)}
+
+
+def _needs(kind: str, chosen: dict[str, str]) -> None:
+    """Refuse, before anything is written, a guess that lacks a column its type needs."""
+    for options in _NEEDS[kind]:
+        if not any(o in chosen for o in options):
+            what = " or ".join(f"--{o}" for o in options)
+            found = "dates or times" if options == ("time",) else "that fits"
+            raise StartError(f"a {kind} metric needs a {options[0]} column and none {found} was "
+                             f"found; name it with {what}")
+    if kind == "defectives" and "count" in chosen and "size" not in chosen:
+        raise StartError("a defectives metric with a count column needs a size column (the "
+                         "items checked) and none was found; name it with --size")
 
 
 # ----------------------------------------------------------------------------- writing
@@ -558,16 +580,21 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
 
 
 def _write_new(target: Path, text: str) -> None:
-    """Write *text* to *target*, which must not exist: written whole under a temporary name,
-    then linked into place (a link fails when anything is at the name, so nothing is ever
-    overwritten, and no half-written file is ever under the name)."""
-    tmp = target.with_name(f".{target.name}.start-{os.getpid()}")
-    with open(tmp, "x", encoding="utf-8", newline="\n") as fh:
-        fh.write(text)
+    """Write *text* to *target*, which must not exist: opened with O_EXCL, so the open fails
+    when anything is at the name (nothing is ever overwritten, a link is never followed). A
+    write that fails half-way removes the file it made, so no half-written project.toml is
+    left."""
+    data = text.encode("utf-8")
     try:
-        os.link(tmp, target)
+        fd = os.open(target, os.O_WRONLY | os.O_CREAT | os.O_EXCL | os.O_CLOEXEC, 0o666)
     except FileExistsError:
         raise StartError(f"{target}: already exists; steadyline start never overwrites a "
                          "file: edit it, or move it away first") from None
-    finally:
-        os.unlink(tmp)
+    except OSError as e:
+        raise StartError(f"{target}: cannot write it: {e.strerror}") from None
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+    except OSError as e:
+        os.unlink(target)  # ours: made by the open above
+        raise StartError(f"{target}: cannot write it: {e.strerror}") from None
