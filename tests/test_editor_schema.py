@@ -35,7 +35,8 @@ def shipped(file: str) -> dict:
 
 def as_json(value):
     """TOML data as an editor hands it to a JSON Schema: dates and times become their ISO
-    text (JSON has no date type); everything else maps one to one."""
+    text (JSON has no date type; that Taplo validates a TOML date as its text is from memory);
+    everything else maps one to one."""
     if isinstance(value, dict):
         return {k: as_json(v) for k, v in value.items()}
     if isinstance(value, list):

@@ -1,16 +1,18 @@
 """JSON Schemas of project.toml and portfolio.toml, for editors that check TOML against one.
 
 The keys, their kinds, the required ones and the sets of choices come from
-:data:`steadyline.config.KEYS`, the table the validator names keys against, so the schema cannot
-drift from what ``check`` accepts. The descriptions come from the comments of the two TOML
+:data:`steadyline.config.KEYS`: the key names and choices are those the validator checks
+against, read from the same table; each key's kind (text, number, date ...) is held to what the
+validator accepts by tests/test_editor_schema.py, which gives every key a value of the wrong
+type and expects both to refuse it. The descriptions come from the comments of the two TOML
 examples in the README (the format as users read it), so an editor shows the same words.
 
-The schemas are JSON Schema draft 4, the newest draft the TOML language server behind the common
-editor extensions reads. ``scripts/make_schemas.py`` writes them into ``steadyline/schemas/``;
-``tests/test_editor_schema.py`` holds the shipped files equal to what this module makes, and validates
-the demo's files against them. The schema checks each key's type and choices; what only the
-whole file can tell (periods that overlap, a target outside the limits, a column the data type
-needs) is left to ``steadyline check``.
+The schemas are JSON Schema draft 4, the draft the Taplo TOML language server (behind the common
+editor extensions) reads. ``scripts/make_schemas.py`` writes them into ``steadyline/schemas/``;
+the test holds the shipped files equal to what this module makes, and validates the demo's
+files against them. A schema checks each key on its own; what only the whole file can tell
+(periods that overlap, a target outside the limits, a column the data type needs) is left to
+``steadyline check``.
 """
 
 from __future__ import annotations
@@ -24,8 +26,8 @@ from .config import KEYS, SLUG_RE, Key
 DRAFT = "http://json-schema.org/draft-04/schema#"
 SCHEMA_FILES = {"project": "project.schema.json", "portfolio": "portfolio.schema.json"}
 
-# A TOML date, as an editor hands it to a JSON Schema: its ISO 8601 text (a date-time is read as
-# its date by the validator, and so is a quoted ISO date).
+# A TOML date, as an editor hands it to a JSON Schema: its ISO 8601 text (from memory, for
+# Taplo). The validator reads a date-time as its date, and a quoted ISO date as a date too.
 _DATE = {"type": "string", "pattern": r"^\d{4}-\d{2}-\d{2}"}
 
 # What a key of each kind is, when the README's example gives it no comment.
