@@ -169,3 +169,20 @@ def test_a_type_without_its_columns_is_refused(tmp_path, capsys):
     assert main(["start", str(folder / "picking_audit.csv"), "--type", "categories"]) == 2
     assert "a categories metric needs a category column" in capsys.readouterr().err
     assert not (folder / "project.toml").exists()
+
+
+@pytest.mark.parametrize("encoding, declared", [("utf-16-le", "utf-16-le"),
+                                                ("utf-16", None), ("latin-1", "latin-1"),
+                                                ("utf-8-sig", None)])
+def test_other_encodings_are_read_and_declared_when_needed(tmp_path, encoding, declared, capsys):
+    text = (DEMO / "frame-dropout-alignment/supplier_alignment_export.csv").read_text(
+        encoding="utf-8-sig").replace("VB-2639", "Lieferung Müller")
+    folder = tmp_path / "projects" / "alignment"
+    folder.mkdir(parents=True)
+    (folder / "export.csv").write_bytes(text.encode(encoding))  # "utf-16" writes a mark
+    assert main(["start", str(folder / "export.csv"), "--quiet"]) == 0
+    metric = tomllib.loads((folder / "project.toml").read_text(encoding="utf-8"))["metric"][0]
+    assert metric.get("csv", {}).get("encoding") == declared
+    assert (metric["type"], metric["value"]) == ("continuous", "dropout_offset_mm")
+    capsys.readouterr()
+    assert main(["check", str(folder.parent), "--strict", "--quiet"]) == 0, capsys.readouterr()

@@ -112,16 +112,17 @@ def _sniff(raw: bytes) -> tuple[CsvOptions, list[str]]:
     """The reading options the file seems to need, with a reason for each that is not the
     default: the encoding (a byte-order mark decides by itself when reading), the delimiter
     and the decimal mark."""
+    from .loading import _BOMS, _wide_guess
+
     why = []
     encoding = "utf-8"
     head = raw[:65536]
-    if b"\x00" in head and not head.startswith((b"\xff\xfe", b"\xfe\xff", b"\x00\x00\xfe\xff")):
-        from .loading import _wide_guess
-
-        guess = _wide_guess(raw)
-        if guess:
-            encoding = guess
-            why.append(f"encoding: the file holds NUL bytes as {guess.upper()} text does")
+    bom = next((codec for mark, codec in _BOMS if raw.startswith(mark)), None)
+    if bom is not None:
+        reading = bom  # a byte-order mark decides when the file is read; nothing to declare
+    elif b"\x00" in head and (guess := _wide_guess(raw)):
+        encoding = reading = guess
+        why.append(f"encoding: the file holds NUL bytes as {guess.upper()} text does")
     else:
         try:
             raw.decode("utf-8")
@@ -129,13 +130,8 @@ def _sniff(raw: bytes) -> tuple[CsvOptions, list[str]]:
             encoding = "latin-1"
             why.append("encoding: the file is not UTF-8 text; latin-1 is what older exports "
                        "commonly use")
-    try:
-        text = head.decode(encoding if not raw.startswith(b"\xef\xbb\xbf") else "utf-8-sig",
-                           errors="replace")
-    except LookupError:  # pragma: no cover - the names above are all known
-        text = ""
-    if text.startswith(("\ufeff", "\ufffe")):
-        text = text[1:]
+        reading = encoding
+    text = head.decode(reading, errors="replace").lstrip("\ufeff")
     lines = [ln for ln in text.splitlines() if ln.strip()][:20]
     if len(lines) > 1 and len(head) == 65536:
         lines = lines[:-1]  # the last line may be cut
