@@ -125,6 +125,21 @@ def cmd_watch(args) -> int:
                  jobs=args.jobs, debug=args.debug, quiet=args.quiet)
 
 
+def cmd_start(args) -> int:
+    from .start import COLUMN_OPTIONS, start
+
+    columns = {k: getattr(args, k) for k in COLUMN_OPTIONS}
+    path, guess, notes = start(Path(args.data), type_=args.type, columns=columns,
+                               owner=args.owner, title=args.title, problem=args.problem)
+    if not args.quiet:
+        cols = ", ".join(f"{k} '{v}'" for k, v in guess.columns.items())
+        print(f"steadyline: wrote {path}: a {guess.type} metric ({cols}); the comments say what "
+              "each guess rests on: check them, then run steadyline check", file=sys.stderr)
+    for note in notes:
+        print(f"steadyline: note: {note}", file=sys.stderr)
+    return 0
+
+
 def parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="steadyline",
@@ -171,6 +186,23 @@ def parser() -> argparse.ArgumentParser:
     m.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
     m.add_argument("--quiet", action="store_true", help="print only problems")
     m.set_defaults(func=cmd_merge)
+
+    s = sub.add_parser("start", help="write a commented project.toml for a data file, guessing "
+                       "its columns and data type (never overwrites a file)")
+    s.add_argument("data", help="the CSV file, in the new project's folder")
+    s.add_argument("--type", default=None, help="the data type instead of the guess: "
+                   "continuous, subgroups, defectives, defects or categories")
+    for col in ("time", "value", "subgroup", "count", "size", "category"):
+        s.add_argument(f"--{col}", default=None, metavar="COLUMN",
+                       help=f"the {col} column instead of the guess")
+    s.add_argument("--owner", default=None, help="who leads the project (default: your user "
+                   "name)")
+    s.add_argument("--title", default=None, help="the project's title (default: from the "
+                   "folder's name)")
+    s.add_argument("--problem", default=None, help="the problem statement")
+    s.add_argument("--quiet", action="store_true", help="print only problems")
+    s.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+    s.set_defaults(func=cmd_start)
     return p
 
 

@@ -420,16 +420,72 @@ class _Reader:
         return v
 
 
-PROJECT_KEYS = ("title", "owner", "phase", "problem", "tags", "notes", "safety_related",
-                "phase_dates", "comparison", "event", "metric")
-METRIC_KEYS = ("id", "name", "file", "type", "time", "value", "subgroup", "subgroup_size", "count",
-               "size", "category", "unit", "better", "spec_lower", "spec_upper", "target",
-               "headline", "chart", "signal_rules", "run_rules", "limits", "quartiles", "bins",
-               "normal_curve", "baseline", "after", "rollup", "csv")
-PORTFOLIO_KEYS = ("title", "signal_rules", "run_rules", "quartiles", "bins", "max_file_mb",
-                  "stale_after_days")
-CSV_KEYS = ("delimiter", "decimal", "encoding", "date_format", "timezone")
-ROLLUP_KEYS = ("period", "statistic")
+@dataclass(frozen=True)
+class Key:
+    """One key of a metadata table, as the validator reads it: what kind of value it takes
+    (text, choice, number, integer, boolean, date, period, text-list, bins, char, table,
+    tables), the choices of a choice, whether it is required, and a smallest whole number.
+    The key lists the validator checks names against, and the JSON Schema for editors
+    (:mod:`steadyline.schema`), are both read from :data:`KEYS`."""
+
+    name: str
+    kind: str
+    choices: tuple[str, ...] = ()
+    required: bool = False
+    minimum: int | None = None
+
+
+# Every key of project.toml and portfolio.toml, table by table, in the order the messages list
+# them ("allowed keys are: ..."). "project" and "portfolio" are the top levels of the two files.
+KEYS: dict[str, tuple[Key, ...]] = {
+    "project": (
+        Key("title", "text", required=True), Key("owner", "text", required=True),
+        Key("phase", "choice", PHASES, required=True), Key("problem", "text", required=True),
+        Key("tags", "text-list"), Key("notes", "text"), Key("safety_related", "boolean"),
+        Key("phase_dates", "table"), Key("comparison", "table"), Key("event", "tables"),
+        Key("metric", "tables", required=True),
+    ),
+    "phase_dates": tuple(Key(p, "date") for p in PHASES),
+    "comparison": (Key("baseline", "period"), Key("after", "period")),
+    "event": (Key("date", "date", required=True), Key("label", "text", required=True)),
+    "metric": (
+        Key("id", "id", required=True), Key("name", "text", required=True),
+        Key("file", "text", required=True), Key("type", "choice", DATA_TYPES, required=True),
+        Key("time", "text"), Key("value", "text"), Key("subgroup", "text"),
+        Key("subgroup_size", "integer", minimum=1), Key("count", "text"), Key("size", "text"),
+        Key("category", "text"), Key("unit", "text"),
+        Key("better", "choice", BETTER, required=True), Key("spec_lower", "number"),
+        Key("spec_upper", "number"), Key("target", "number"), Key("headline", "boolean"),
+        Key("chart", "choice", CHARTS), Key("signal_rules", "choice", SIGNAL_RULES),
+        Key("run_rules", "choice", RUN_RULES), Key("limits", "choice", LIMIT_MODES),
+        Key("quartiles", "choice", QUARTILE_METHODS), Key("bins", "bins", BIN_RULES),
+        Key("normal_curve", "boolean"), Key("baseline", "period"), Key("after", "period"),
+        Key("rollup", "table"), Key("csv", "table"),
+    ),
+    "metric.rollup": (Key("period", "choice", PERIODS, required=True),
+                      Key("statistic", "choice", STATISTICS, required=True)),
+    "metric.csv": (Key("delimiter", "char"), Key("decimal", "choice", (".", ",")),
+                   Key("encoding", "text"), Key("date_format", "text"), Key("timezone", "text")),
+    "portfolio": (
+        Key("title", "text"), Key("signal_rules", "choice", SIGNAL_RULES),
+        Key("run_rules", "choice", RUN_RULES), Key("quartiles", "choice", QUARTILE_METHODS),
+        Key("bins", "choice", BIN_RULES), Key("max_file_mb", "positive"),
+        Key("stale_after_days", "integer", minimum=1),
+    ),
+}
+
+
+def _names(table: str) -> tuple[str, ...]:
+    return tuple(k.name for k in KEYS[table])
+
+
+PROJECT_KEYS = _names("project")
+METRIC_KEYS = _names("metric")
+PORTFOLIO_KEYS = _names("portfolio")
+CSV_KEYS = _names("metric.csv")
+ROLLUP_KEYS = _names("metric.rollup")
+COMPARISON_KEYS = _names("comparison")
+EVENT_KEYS = _names("event")
 
 # Which columns each data type needs (besides the metric's "time", needed by all but categories).
 COLUMN_KEYS = ("time", "value", "subgroup", "count", "size", "category")
@@ -609,7 +665,7 @@ def load_project(folder: Path, root: Path | None = None,
     phase_dates: list[tuple[str, dt.date]] = []
     pd_table = r.table_("phase_dates")
     if pd_table is not None:
-        ck.unknown_keys(pd_table, PHASES, "phase_dates.", table="phase_dates")
+        ck.unknown_keys(pd_table, _names("phase_dates"), "phase_dates.", table="phase_dates")
         pr = _Reader(ck, pd_table, "phase_dates.", table="phase_dates")
         for ph in PHASES:
             if ph in pd_table:
@@ -624,7 +680,7 @@ def load_project(folder: Path, root: Path | None = None,
     comp_baseline = comp_after = None
     comp = r.table_("comparison")
     if comp is not None:
-        ck.unknown_keys(comp, ("baseline", "after"), "comparison.", table="comparison")
+        ck.unknown_keys(comp, COMPARISON_KEYS, "comparison.", table="comparison")
         cr = _Reader(ck, comp, "comparison.", table="comparison")
         comp_baseline, comp_after = cr.period("baseline"), cr.period("after")
         if comp_baseline and comp_after:
@@ -639,7 +695,7 @@ def load_project(folder: Path, root: Path | None = None,
         ev = []
     for i, e in enumerate(ev):
         er = _Reader(ck, e, f"event[{i + 1}].", table="event", index=i)
-        ck.unknown_keys(e, ("date", "label"), f"event[{i + 1}].", table="event", index=i)
+        ck.unknown_keys(e, EVENT_KEYS, f"event[{i + 1}].", table="event", index=i)
         label = er.text("label", required=True, what="a short label")
         if "date" not in e:
             er.missing("date", "the date of the event")
