@@ -1,0 +1,120 @@
+"""The hand-over pack: one self-contained HTML file per project, to print, mail or archive.
+
+The pack says what the project and history pages say, from the very same page sections (the
+card titles, summaries, findings, cautions, capability blocks and comparison tables that
+``site.project`` and ``site.history`` made for the pages), with every chart drawn at build
+time as an inline SVG by vl-convert from the chart spec the pages download. It carries no
+script, loads nothing (its styles sit in one ``<style>`` element, fonts come from the system)
+and forbids any request by its own Content-Security-Policy, so it reads the same anywhere,
+years later, with no network and no site beside it.
+
+vl-convert draws times in the time zone its JavaScript runtime started in; the runtime is
+started here under UTC (once per process), so that a pack's bytes never depend on the machine's
+time zone.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import re
+import time
+
+import orjson
+from markupsafe import Markup
+
+from ..config import ProjectSpec
+from .history import timeline
+from .templates import render, templates_dir
+
+PACK_FILE = "handover.html"
+
+# Nothing may be fetched or run: styles inline only, images only as data (none are used).
+PACK_CSP = ("default-src 'none'; style-src 'unsafe-inline'; img-src data:; "
+            "base-uri 'none'; form-action 'none'; object-src 'none'")
+
+
+@functools.lru_cache(maxsize=1)
+def _converter():
+    """vl_convert, its JavaScript runtime started under UTC (the zone it then keeps for every
+    drawing in this process); the process's own zone is put back afterwards."""
+    import vl_convert
+
+    before = os.environ.get("TZ")
+    os.environ["TZ"] = "UTC"
+    time.tzset()
+    try:
+        vl_convert.vegalite_to_svg({"mark": "point"}, allowed_base_urls=[])
+    finally:
+        if before is None:
+            del os.environ["TZ"]
+        else:
+            os.environ["TZ"] = before
+        time.tzset()
+    return vl_convert
+
+
+_ID = re.compile(r'\bid="([^"]+)"')
+_XML_DECL = re.compile(r"^\s*<\?xml[^>]*\?>\s*")
+
+
+def chart_svg(spec: dict, prefix: str) -> str:
+    """The chart drawn as SVG markup to place inline: no XML declaration, and every id the
+    drawing defines (clip paths, gradients) made unique to this chart by *prefix*, so that
+    several drawings on one page never point at each other's definitions."""
+    svg = _converter().vegalite_to_svg(spec, allowed_base_urls=[])
+    svg = _XML_DECL.sub("", svg)
+    ids = set(_ID.findall(svg))
+    for name in sorted(ids, key=len, reverse=True):
+        new = f"{prefix}-{name}"
+        svg = (svg.replace(f'id="{name}"', f'id="{new}"')
+               .replace(f"url(#{name})", f"url(#{new})")
+               .replace(f'href="#{name}"', f'href="#{new}"'))
+    return svg
+
+
+def _drawn(cards: list[dict], files: dict[str, bytes]) -> list[dict]:
+    """The page's cards with their charts drawn: each card's chart spec is the one the page
+    offers for download (``files[card["spec_href"]]``), so the pack draws what the page draws."""
+    out = []
+    for card in cards:
+        spec = orjson.loads(files[card["spec_href"]])
+        out.append(card | {"svg": Markup(chart_svg(spec, card["chart_id"]))})
+    return out
+
+
+@functools.lru_cache(maxsize=1)
+def _styles() -> Markup:
+    """The site's stylesheets, inlined: the screen sheet, and the print sheet for print."""
+    assets = templates_dir() / "assets"
+    screen = (assets / "steadyline.css").read_text(encoding="utf-8")
+    printed = (assets / "print.css").read_text(encoding="utf-8")
+    # A stylesheet cannot end the style element unless it holds "</": none of ours does.
+    text = f"{screen}\n@media print {{\n{printed}\n}}\n"
+    if "</" in text:
+        raise ValueError("a stylesheet holds '</', which would end the pack's style element")
+    return Markup(text)
+
+
+def pack_html(spec: ProjectSpec, project_ctx: dict, sections: list[dict],
+              history_sections: list[dict], files: dict[str, bytes], notes_html: str,
+              provenance: list[dict], warnings: list[dict], ctx: dict) -> bytes:
+    """The hand-over pack of a built project, from the sections its pages were rendered from
+    (*history_sections* empty when it has no history page) and the files made so far."""
+    history = {s["id"]: s for s in history_sections}
+    metrics = []
+    for s in sections:
+        m = dict(s)
+        if not s["broken"]:
+            m["displays"] = _drawn(s["displays"], files)
+            h = history.get(s["id"])
+            if h is not None:
+                h = h | {"displays": _drawn(h["displays"], files)}
+            m["history"] = h
+        metrics.append(m)
+    html = render("pack.html", project=project_ctx, metrics=metrics, notes_html=notes_html,
+                  provenance=provenance, warnings=warnings,
+                  timeline=timeline(spec) if history_sections else [],
+                  styles=_styles(), pack_csp=PACK_CSP, version=ctx["version"],
+                  portfolio_title=ctx["portfolio_title"])
+    return html.encode("utf-8")
