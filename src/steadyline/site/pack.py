@@ -58,11 +58,30 @@ _ID = re.compile(r'\bid="([^"]+)"')
 _XML_DECL = re.compile(r"^\s*<\?xml[^>]*\?>\s*")
 
 
+# The plot's width in a drawing: the pages' charts take the width of their box ("container"),
+# which a drawing has none of. About A4 portrait's text width (180 mm) at 96 px to the inch,
+# less the axes and the labels right of the plot; a wider drawing shrinks to the paper whole.
+DRAWN_WIDTH = 540
+
+
+def fixed_width(spec, width: int = DRAWN_WIDTH):
+    """A copy of the spec whose views that take their box's width have *width* instead (data
+    are shared with the spec, not copied: they are never changed)."""
+    if isinstance(spec, dict):
+        return {k: (width if k == "width" and v == "container" else
+                    v if k in ("data", "datasets") else fixed_width(v, width))
+                for k, v in spec.items()}
+    if isinstance(spec, list):
+        return [fixed_width(v, width) for v in spec]
+    return spec
+
+
 def chart_svg(spec: dict, prefix: str) -> str:
-    """The chart drawn as SVG markup to place inline: no XML declaration, and every id the
-    drawing defines (clip paths, gradients) made unique to this chart by *prefix*, so that
-    several drawings on one page never point at each other's definitions."""
-    svg = _converter().vegalite_to_svg(spec, allowed_base_urls=[])
+    """The chart drawn as SVG markup to place inline, at a fixed width (:func:`fixed_width`):
+    no XML declaration, and every id the drawing defines (clip paths, gradients) made unique
+    to this chart by *prefix*, so that several drawings on one page never point at each
+    other's definitions."""
+    svg = _converter().vegalite_to_svg(fixed_width(spec), allowed_base_urls=[])
     svg = _XML_DECL.sub("", svg)
     ids = set(_ID.findall(svg))
     for name in sorted(ids, key=len, reverse=True):
