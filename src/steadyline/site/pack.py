@@ -62,6 +62,7 @@ _XML_DECL = re.compile(r"^\s*<\?xml[^>]*\?>\s*")
 # which a drawing has none of. About A4 portrait's text width (180 mm) at 96 px to the inch,
 # less the axes and the labels right of the plot; a wider drawing shrinks to the paper whole.
 DRAWN_WIDTH = 540
+TEXT_ROOM = 80
 
 
 def fixed_width(spec, width: int = DRAWN_WIDTH):
@@ -81,7 +82,14 @@ def chart_svg(spec: dict, prefix: str) -> str:
     no XML declaration, and every id the drawing defines (clip paths, gradients) made unique
     to this chart by *prefix*, so that several drawings on one page never point at each
     other's definitions."""
-    svg = _converter().vegalite_to_svg(fixed_width(spec), allowed_base_urls=[])
+    drawn = fixed_width(spec)
+    # Room on the right: texts are placed by vl-convert's measure of its own fonts, and a
+    # browser's font for the same family may run wider, past the drawing's edge.
+    pad = drawn.get("padding", drawn.get("config", {}).get("padding", 5))
+    pad = dict(pad) if isinstance(pad, dict) else dict.fromkeys(("left", "top", "bottom",
+                                                                  "right"), pad)
+    drawn["padding"] = pad | {"right": pad.get("right", 0) + TEXT_ROOM}
+    svg = _converter().vegalite_to_svg(drawn, allowed_base_urls=[])
     svg = _XML_DECL.sub("", svg)
     ids = set(_ID.findall(svg))
     for name in sorted(ids, key=len, reverse=True):
