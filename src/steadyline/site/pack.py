@@ -55,6 +55,7 @@ def _converter():
 
 
 _ID = re.compile(r'\bid="([^"]+)"')
+_TEXT = re.compile(r">([^<]+)<")
 _XML_DECL = re.compile(r"^\s*<\?xml[^>]*\?>\s*")
 
 
@@ -91,6 +92,12 @@ def chart_svg(spec: dict, prefix: str) -> str:
     drawn["padding"] = pad | {"right": pad.get("right", 0) + TEXT_ROOM}
     svg = _converter().vegalite_to_svg(drawn, allowed_base_urls=[])
     svg = _XML_DECL.sub("", svg)
+    # inline in HTML an svg element needs no namespace declarations
+    svg = svg.replace(' xmlns="http://www.w3.org/2000/svg"', "", 1).replace(
+        ' xmlns:xlink="http://www.w3.org/1999/xlink"', "", 1)
+    # quote marks in texts (category names, titles) escaped too, as the pages escape them
+    svg = _TEXT.sub(lambda m: ">" + m.group(1).replace('"', "&quot;").replace("'", "&#39;")
+                    + "<", svg)
     ids = set(_ID.findall(svg))
     for name in sorted(ids, key=len, reverse=True):
         new = f"{prefix}-{name}"
