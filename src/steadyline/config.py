@@ -795,9 +795,11 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     name = r.text("name", required=True, what="the metric's name")
     dtype = r.choice("type", DATA_TYPES, required=True)
     better = r.choice("better", BETTER, required=True)
-    file_ = r.text("file", required=True, what="the CSV file, relative to the project folder")
+    # folder None: the data come from elsewhere (a DataFrame, see metric_from_dict), no file
+    file_ = r.text("file", required=folder is not None,
+                   what="the CSV file, relative to the project folder")
     path = None
-    if file_ is not None:
+    if file_ is not None and folder is not None:
         p = folder / file_
         if Path(file_).is_absolute() or not _inside(p, folder):
             ck.add(f"{prefix}file", f"{file_!r} points outside the project folder; metric files "
@@ -867,8 +869,10 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
             bins = r.choice("bins", BIN_RULES, settings.bins)
 
     spec = MetricSpec(
-        id=mid or f"metric-{i + 1}", name=name or "", file=path or folder / (file_ or ""),
-        file_rel=rel(folder / (file_ or ""), root), type=dtype or "continuous",
+        id=mid or f"metric-{i + 1}", name=name or "",
+        file=path or (folder / (file_ or "") if folder is not None else ck.path),
+        file_rel=rel(folder / (file_ or ""), root) if folder is not None else ck.shown,
+        type=dtype or "continuous",
         better=better or "lower", subgroup_size=subgroup_size,
         unit=r.text("unit", default="") or "",
         spec_lower=r.number("spec_lower"), spec_upper=r.number("spec_upper"),
@@ -894,6 +898,31 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
             ck.add(f"{prefix}{key}", clash[1], r._line(key))
     if len([p for p in ck.problems[before:] if p.severity == "error"]):
         return None
+    return spec
+
+
+def metric_from_dict(data: dict, settings: PortfolioSettings | None = None,
+                     source: str = "<DataFrame>") -> MetricSpec:
+    """One metric's keys, as a ``[[metric]]`` table of project.toml holds them (dates as
+    ``datetime.date`` or ISO text), checked by the very rules a project's metrics are, for data
+    that come from elsewhere (a DataFrame): ``file`` is not needed (and not read when given).
+    *source* names the data in
+    messages. Returns the metric; raises ProjectError with every error (warnings are dropped:
+    :func:`steadyline.notebook.analyse_frame` reports the data's own)."""
+    settings = settings or PortfolioSettings()
+    ck = _Checker(Path(source), None, "")
+    if not isinstance(data, dict):
+        ck.add("metric", f"expected a dict of the metric's keys, got {_type_name(data)}")
+        raise ProjectError(ck.problems)
+    comp = {}
+    # a metric copied from project.toml keeps its `file`: not read, the DataFrame is the data
+    data = {k: v for k, v in data.items() if k != "file"}
+    for key in ("baseline", "after"):  # a period may be given as a tuple too
+        if isinstance(data.get(key), tuple):
+            comp[key] = list(data[key])
+    spec = _metric(ck, data | comp, 0, None, None, settings, None, None)
+    if spec is None or any(p.severity == "error" for p in ck.problems):
+        raise ProjectError(ck.problems)
     return spec
 
 

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import codecs
 import csv
+import datetime as dt
 import difflib
 import io
 import re
@@ -919,6 +920,65 @@ def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> 
     if df is None:
         out.raise_if_failed()
     assert df is not None
+    return _shape(spec, df, header, out)
+
+
+def load_frame(spec: MetricSpec, frame: pd.DataFrame) -> MetricData:
+    """:func:`load_metric` for data already in a DataFrame: every cell is written as the text
+    a CSV file would hold (numbers as Python writes them, times in ISO 8601, missing values
+    blank) and then read by the same checks and shaping, rows numbered as the lines of a CSV
+    file with a header (the frame's first row is line 2). Raises ProjectError with every
+    problem; the frame is not changed."""
+    out = _Rows(spec)
+    df = _frame_cells(frame, out)
+    if df is None:
+        out.raise_if_failed()
+    assert df is not None
+    return _shape(spec, df, list(df.columns), out)
+
+
+def _cell_text(v) -> str:
+    """One cell of a DataFrame as a CSV file would hold it."""
+    if v is None or v is pd.NaT or v is pd.NA:
+        return ""
+    if isinstance(v, bool | np.bool_):
+        return "1" if v else "0"
+    if isinstance(v, float | np.floating):
+        return "" if v != v else repr(float(v))
+    if isinstance(v, int | np.integer):
+        return str(int(v))
+    if isinstance(v, dt.datetime | dt.date):  # pandas' Timestamp too
+        return v.isoformat()
+    if isinstance(v, np.datetime64):
+        return "" if np.isnat(v) else str(v)
+    return str(v).strip()
+
+
+def _frame_cells(frame: pd.DataFrame, out: _Rows) -> pd.DataFrame | None:
+    """A DataFrame as the table of text cells :func:`_read_table` makes of a file."""
+    if not isinstance(frame, pd.DataFrame):
+        out.add(None, "", f"expected a pandas DataFrame, got {type(frame).__name__}")
+        return None
+    header = [str(c).strip() for c in frame.columns]
+    dup = sorted({h for h in header if header.count(h) > 1})
+    if dup:
+        out.add(1, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
+                "appear more than once; give each column its own name")
+        return None
+    if len(frame) == 0:
+        out.add(None, "", "the DataFrame has no rows")
+        return None
+    cells = {h: [_cell_text(v) for v in frame.iloc[:, i].tolist()]
+             for i, h in enumerate(header)}
+    df = pd.DataFrame(cells, columns=header, dtype=str)
+    df.index = np.arange(2, len(frame) + 2)  # as the lines of a CSV file with a header
+    return df
+
+
+def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) -> MetricData:
+    """A metric's table of text cells (indexed by line number) checked and shaped."""
+    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
+            "count": spec.count, "size": spec.size, "category": spec.category}
     ok = all([_require_column(header, k, c, spec, out) for k, c in cols.items()])
     if not ok:
         out.raise_if_failed()

@@ -78,6 +78,7 @@ from .drawn import (
 from .history import history_page, history_section
 from .index import csv_text
 from .notes import render_notes
+from .pack import PACK_FILE, pack_html
 from .serialise import dumps_bytes, plain, rounded_number
 from .templates import render
 
@@ -511,6 +512,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     if has_history:
         files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
+    files[PACK_FILE] = pack_html(spec, project_ctx, sections, history_sections, files,
+                                 notes_html, prov, page_warnings, ctx)
     head = next(a for a in loaded if a.spec.id == spec.headline.id)
     verdict = judge(headline_facts(head))
     doc = {
