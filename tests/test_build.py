@@ -163,7 +163,7 @@ def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
         import html
 
         assert "Content-Security-Policy" in text, page
-        if page.name == "handover.html":  # the pack runs no script at all (tests/test_pack.py)
+        if page.name == "handover.html":  # the pack runs no script at all (tests/test_handover.py)
             assert "script-src" not in html.unescape(text) and "<script" not in text, page
         else:
             assert "script-src 'self';" in html.unescape(text), page

@@ -49,11 +49,13 @@ def _ranked(c: Counter) -> list[str]:
 
 
 def _cards(page: str, metric_id: str) -> dict[str, tuple[str, str, str]]:
-    """(title, summary, spec JSON) of every card of one metric, by display key."""
+    """(title, summary, spec JSON) of every card of one metric, by display key. The summary is
+    the chart's description for readers who cannot see it (its aria-label): the card's lead
+    line under the title may be its most important finding instead."""
     out = {}
     for m in re.finditer(r'<figure class="display" id="(?:history-)?' + re.escape(metric_id)
-                         + r'-([a-z-]+)".*?<h4>(.*?)</h4>\s*<p class="summary">(.*?)</p>.*?'
-                         r'<script type="application/json"[^>]*>(.*?)</script>', page, re.S):
+                         + r'-([a-z-]+)".*?<h4>(.*?)</h4>.*?role="img" aria-label="[^"]*?: (.*?)">'
+                         r'.*?<script type="application/json"[^>]*>(.*?)</script>', page, re.S):
         out[m[1]] = (html.unescape(m[2]), html.unescape(m[3]), m[4])
     return out
 

@@ -22,6 +22,11 @@ def test_every_page_links_the_licences_published_beside_the_bundle(demo_site):
     pages = sorted(demo_site.rglob("*.html"))
     assert pages
     for page in pages:
+        if page.name == "handover.html":
+            # the hand-over pack carries no code of those libraries, only drawings they made;
+            # it is mailed on its own, where a link to the site's assets would lead nowhere
+            assert "Charts drawn with Vega and Vega-Lite" in page.read_text(encoding="utf-8")
+            continue
         depth = len(page.relative_to(demo_site).parts) - 1
         href = "../" * depth + f"assets/{LICENCES}"
         assert f'href="{href}"' in page.read_text(encoding="utf-8"), page

@@ -109,7 +109,7 @@ def test_counts_read_in_words_not_with_parenthesised_plurals(demo_site):
     assert "(s)" not in text
     assert "(1 rows" not in text
     assert re.search(r"crosses the median only \d+ times;", text)
-    assert "Numbers behind this chart (1 row)" in text
+    assert "Numbers and downloads (1 row)" in text
 
 
 def test_a_change_of_a_proportion_is_in_percentage_points(demo_site):

@@ -146,10 +146,11 @@ def _stat(fh) -> tuple[int, int] | None:
     return st.st_size, st.st_mtime_ns
 
 
-def read_needed(fh, codec: str, delim: str, needed: list[str]
+def read_needed(fh, codec: str, delim: str, needed: list[str] | None
                 ) -> tuple[list[str], dict[str, pa.ChunkedArray], int] | None:
     """(header, {name: column as text}, rows) of a plain file open for reading in binary (at
-    its start), only the *needed* columns that are in the header read; None for anything else,
+    its start), only the *needed* columns that are in the header read (every column when
+    *needed* is None); None for anything else,
     which the careful reader then reads. The file is read twice, a few mebibytes at a time,
     never whole: once to check it, once by pyarrow; None when it changed in between.
 
@@ -184,7 +185,8 @@ def read_needed(fh, codec: str, delim: str, needed: list[str]
         if not _plain_file(fh, codec):
             return None
         fh.seek(0)
-        wanted = [header.index(c) for c in dict.fromkeys(needed) if c in header]
+        wanted = (list(range(len(header))) if needed is None
+                  else [header.index(c) for c in dict.fromkeys(needed) if c in header])
         names = [str(i) for i in range(len(header))]
         table = pacsv.read_csv(
             pa.PythonFile(fh, mode="r"),

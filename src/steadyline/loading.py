@@ -340,10 +340,10 @@ def _width_fault(path, spec: MetricSpec) -> str | None:
 
 
 def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
-                needed: list[str]) -> tuple[pd.DataFrame | None, list[str]]:
+                needed: list[str] | None) -> tuple[pd.DataFrame | None, list[str]]:
     """(the file as a table of text cells indexed by physical line number, its header).
 
-    A plain file (see columns.read_needed) gives only the *needed* columns, as pyarrow text
+    A plain file (see columns.read_needed) gives only the *needed* columns (all when None), as pyarrow text
     that :func:`_text` turns into stripped cells where a column is not read in bulk; any other
     file gives every column, stripped. Python's csv module is used for the careful reading (not
     pandas' reader) because it reports the physical line each record starts on, also when a
@@ -359,7 +359,7 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
 
 
 def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
-                   needed: list[str]):
+                   needed: list[str] | None):
     path = spec.file
     try:
         size = path.stat().st_size

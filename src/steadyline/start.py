@@ -532,7 +532,7 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
     """Write ``project.toml`` beside *data*; the path written, the guesses and notes to print.
     Raises StartError when it cannot (no such file, a project.toml already there, nothing to
     chart); nothing is written then."""
-    from .loading import _read_table, _Rows
+    from .loading import _read_table, _Rows, _text
 
     columns = columns or {}
     if type_ is not None and type_ not in DATA_TYPES:
@@ -550,10 +550,11 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
     csv, sniffed = _sniff(raw)
     spec = _spec(data, shown, csv)
     out = _Rows(spec)
-    df = _read_table(spec, PortfolioSettings(), out)
+    df, _header = _read_table(spec, PortfolioSettings(), out, None)  # every column
     if df is None:
         first = next(p for p in out.problems if p.severity == "error")
         raise StartError(first.format())
+    df = pd.DataFrame({c: _text(df[c]) for c in df.columns}, index=df.index)  # stripped text
     for k, v in columns.items():
         if v is not None and v not in df.columns:
             raise StartError(f"{shown}: --{k} {v!r}: no such column; the file has columns: "

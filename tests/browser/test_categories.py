@@ -281,5 +281,14 @@ def test_thousands_of_categories_draw_the_largest_and_one_bar_for_the_others(
     (metric,) = results["metrics"]
     assert metric["pareto"]["gathered_categories"] == gathered
     assert metric["column_chart"]["gathered_categories"] == gathered
-    assert len(metric["pareto"]["categories"]) == MANY  # the figures keep every category
-    assert metric["pareto"]["vital_few"] == vital
+    # results.json lists the 200 largest categories and counts the rest (site.drawn); the
+    # total and percentages are of every category
+    listed = metric["pareto"]["categories"]
+    from steadyline.site.drawn import CATEGORIES_LISTED
+
+    assert len(listed) == CATEGORIES_LISTED
+    assert [many[c] for c in listed] == [many[c] for c in ranked[:CATEGORIES_LISTED]]
+    assert metric["pareto"]["categories_left_out"] == MANY - CATEGORIES_LISTED
+    assert metric["pareto"]["vital_few"] == [v for v in vital if v in set(listed)]
+    assert (len(metric["pareto"]["vital_few"]) + metric["pareto"]["vital_few_left_out"]
+            == len(vital))

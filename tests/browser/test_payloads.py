@@ -124,7 +124,9 @@ def test_no_payload_runs_on_any_page(chromium, hostile_url):
             )
             page.on("pageerror", lambda e, n=name: errors.append((n, str(e))))
             page.goto(base + name, wait_until="load")
-            charts = page.evaluate(DRAWN)
+            # the hand-over pack runs no script: its charts are drawings made at build time
+            # (tests/test_handover.py checks them); it is still opened and hovered here
+            charts = [] if name.endswith("handover.html") else page.evaluate(DRAWN)
             for chart_id, state, drawn in charts:
                 assert state == "done" and drawn, (name, chart_id, state)
             # hover across every chart so that tooltips with data text are shown

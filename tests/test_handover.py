@@ -36,13 +36,15 @@ class _Texts(HTMLParser):
         self.svgs = 0
         self.tags: list[tuple[str, dict]] = []
         self.skip = 0  # inside a data table (the pack does not repeat data tables)
+        self.details: list[bool] = []  # the open <details>: whether each is a data table
 
     def handle_starttag(self, tag, attrs):
         a = dict(attrs)
         self.tags.append((tag, a))
         classes = set((a.get("class") or "").split())
-        if tag == "details":
-            self.skip += 1
+        if tag == "details":  # a data table (the pack does not repeat it) is skipped
+            self.skip += "datatable" in classes
+            self.details.append("datatable" in classes)
         if tag == "div" and "chart" in classes:
             self.charts += 1
         if tag == "svg":
@@ -53,7 +55,7 @@ class _Texts(HTMLParser):
         if tag in ("li",) and "finding" not in classes and self.stack \
                 and self.stack[-1][1] == "caution-list":
             kind = "caution"
-        if tag == "ul" and self._in_cautions():
+        if tag == "ul" and (self._in_cautions() or "cautions" in classes):
             kind = "caution-list"
         self.stack.append((tag, kind, [], "cautions" in classes))
 
@@ -62,7 +64,7 @@ class _Texts(HTMLParser):
 
     def handle_endtag(self, tag):
         if tag == "details":
-            self.skip -= 1
+            self.skip -= self.details.pop()
         while self.stack:
             t, kind, parts, _ = self.stack.pop()
             if kind and kind != "caution-list" and not self.skip:
