@@ -196,7 +196,7 @@ def wheel_build_lead_time() -> dict[str, str]:
             {"date": D(2026, 4, 6), "label": "Wheel orders released to the cell by kanban card"},
         ],
         "metric": [
-            {"id": "lead-time-daily", "name": "Lead time, daily mean", "file": "orders.csv",
+            {"id": "lead-time-daily", "name": "Lead time, by day", "file": "orders.csv",
              "type": "continuous", "time": "completed", "value": "lead_time_h",
              "unit": "hours", "better": "lower", "spec_upper": 72.0, "headline": True,
              "rollup": {"period": "day", "statistic": "mean"}},
@@ -207,8 +207,6 @@ def wheel_build_lead_time() -> dict[str, str]:
         ],
     }
     notes = """\
-# Wheel-build lead time
-
 ## Background
 Custom wheel orders (mostly 28- and 32-spoke builds for small frame brands) waited in three
 queues: spoke cutting, lacing and truing. Only one truing stand was available, and work orders
@@ -295,8 +293,6 @@ def spoke_tension() -> dict[str, str]:
         ],
     }
     notes = """\
-# Spoke tension consistency
-
 ## Background
 One finished wheel a day is taken from the cell and five drive-side spokes are measured with a
 tensiometer (kgf). The rim maker's window for these rims is 110–130 kgf with 120 kgf as target.
@@ -379,8 +375,6 @@ def hub_bearing_press_fit() -> dict[str, str]:
         ],
     }
     notes = """\
-# Hub bearing press-fit force
-
 > Bearings that creep or are damaged at assembly can fail in use. This project is marked as
 > safety-related; any out-of-window lot is quarantined, not just charted.
 
@@ -452,8 +446,6 @@ def order_picking_errors() -> dict[str, str]:
         ],
     }
     notes = """\
-# Order picking errors
-
 ## Background
 Outbound orders (hubs, wheelsets and spares for bike brands and dealers) are checked at the
 packing bench against the pick list. Each week the number of orders checked varies between
@@ -525,8 +517,6 @@ def wheel_truing_first_pass_yield() -> dict[str, str]:
         ],
     }
     notes = """\
-# Wheel truing first-pass yield
-
 ## Background
 Every wheel leaving the truing stands passes an automatic true-and-dish check. Weekly volumes
 are 20,000–60,000 wheels across the three lines. With subgroups this large, ordinary p-chart
@@ -629,8 +619,6 @@ def paint_finish_defects() -> dict[str, str]:
         ],
     }
     notes = """\
-# Paint finish defects on frames
-
 ## Background
 Frames are powder coated in batches of 40–120 (one batch each Monday, Wednesday and Friday).
 Final inspection logs every visible finish defect with its type. Because batch sizes differ,
@@ -741,8 +729,6 @@ def customer_returns() -> dict[str, str]:
         ],
     }
     notes = """\
-# Customer returns
-
 ## Background
 Every returned component gets a return number (RMA) and a reason code when it arrives at
 goods-in. Shipped volume was close to constant through the year (about 9,000 components a
@@ -807,8 +793,6 @@ def frame_dropout_alignment() -> dict[str, str]:
         ],
     }
     notes = """\
-# Frame dropout alignment
-
 ## Background
 Aluminium frames are welded by a supplier and aligned on their fixture before heat treatment.
 On arrival we measure one frame a day on the alignment gauge: the deviation of the rear
@@ -878,8 +862,6 @@ def frame_weld_porosity() -> dict[str, str]:
         ],
     }
     notes = """\
-# Frame weld porosity
-
 ## Background
 Every in-house welded frame is inspected after heat treatment; `porosity_found` is 1 when
 porosity is found at any joint. The chart rolls the inspections up into ISO weeks and plots

@@ -299,6 +299,16 @@ def values_note(spec: MetricSpec, n: int) -> str:
             "which the specification limits apply to.")
 
 
+def values_brief(spec: MetricSpec, n: int) -> str:
+    """:func:`values_note` in a few words, for a chart's subtitle (the card's method line says
+    why): "The 412 individual values, not the daily means." ("" when not rolled up)."""
+    r = spec.rollup
+    if r is None:
+        return ""
+    return (f"The {n} individual values, not the "
+            f"{period_value(r.period, r.statistic, plural=True)}.")
+
+
 def _subject(name: str, kind: str) -> str:
     """The metric's name as the subject of a sentence: 'the proportion of orders with …'."""
     lowered = name[:1].lower() + name[1:] if name[1:2].islower() else name

@@ -190,10 +190,10 @@ def histogram_chart(
         if hist.bin_width is not None
         else "bins of unequal width"
     )
-    sub = [
-        *([note] if note else []),
-        f"{plural(hist.n, 'value')} in {plural(len(counts), 'bin')}, {width} ({hist.rule_label})",
-    ]
+    binning = f"{plural(len(counts), 'bin')}, {width} ({hist.rule_label})"
+    # a note names the values (and their number) already: the bins follow it on its line
+    sub = [f"{note.rstrip('.')}, in {binning}" if note
+           else f"{plural(hist.n, 'value')} in {binning}"]
     outside = []
     if hist.below_range:
         outside.append(f"{hist.below_range} below")
@@ -369,9 +369,8 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str, measure: s
     methods = sorted({b.method_label for _, b in groups})
     sub = [
         *([note] if note else []),
-        "quartiles: " + "; ".join(methods),
-        "whiskers reach the most extreme values within 1.5 \u00d7 IQR of the box; "
-        "points beyond are drawn one by one",
+        "quartiles: " + "; ".join(methods) + "; whiskers to 1.5 \u00d7 IQR, points beyond "
+        "drawn one by one",
     ]
     if hidden:
         sub.append(f"{hidden} outlying values nearer the fences are not drawn (the most "

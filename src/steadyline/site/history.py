@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import advice
-from ..analysis import MetricAnalysis, values_note
+from ..analysis import MetricAnalysis, values_brief, values_note
 from ..charts import (
     SeriesContext,
     box_chart,
@@ -161,7 +161,8 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         result["staged_control_chart"] = staged
     if len(a.phase_boxes) > 1:
         note = values_note(m, sum(b.n for _, b in a.phase_boxes))
-        chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=note)
+        brief = values_brief(m, sum(b.n for _, b in a.phase_boxes))
+        chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=brief)
         d.add("phase-box", "Box plots by phase" + (", individual values" if note else ""),
               chart, method=(f"{note} " if note else "") + "Both phases on one scale; "
               f"quartiles by {a.phase_boxes[0][1].method_label}.")
@@ -169,9 +170,10 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
         note = values_note(m, h.n)
+        brief = values_brief(m, h.n)
         chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
                                 target=m.target, title=f"{m.name}, {name.lower()}",
-                                measure=m.name, note=note)
+                                measure=m.name, note=brief)
         key = f"histogram-{name.lower().replace(' ', '-')}"
         d.add(key, f"Histogram, {name.lower()}" + (", individual values" if note else ""),
               chart, method=(f"{note} " if note else "") + "Same bin edges in every phase.")

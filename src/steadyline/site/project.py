@@ -22,6 +22,7 @@ from ..analysis import (
     MetricAnalysis,
     analyse,
     points_note,
+    values_brief,
     values_note,
 )
 from ..charts import (
@@ -245,16 +246,18 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         # a rolled-up metric's histogram, box plot and capability describe its individual
         # values, and say so (its run and control charts judge the period values)
         note = values_note(m, a.histogram.n)
+        brief = values_brief(m, a.histogram.n)
         chart = histogram_chart(a.histogram, unit=unit, lsl=m.spec_lower, usl=m.spec_upper,
                                 target=m.target, normal_curve=m.normal_curve,
-                                title=f"{m.name}, baseline", measure=m.name, note=note)
+                                title=f"{m.name}, baseline", measure=m.name, note=brief)
         d.add("histogram", "Histogram of the baseline" + (", individual values" if note else ""),
               chart, cautions=advice.histogram_cautions(a.histogram.n),
               method=_lead(note) + f"Bins by the {a.histogram.rule_label} rule.")
         result["histogram"] = a.histogram
     if a.box is not None:
         note = values_note(m, a.box.n)
-        chart = box_chart([("Baseline", a.box)], unit=unit, measure=m.name, note=note)
+        brief = values_brief(m, a.box.n)
+        chart = box_chart([("Baseline", a.box)], unit=unit, measure=m.name, note=brief)
         d.add("box", "Box plot of the baseline" + (", individual values" if note else ""), chart,
               cautions=advice.box_cautions(a.box.n),
               method=_lead(note)
