@@ -19,8 +19,12 @@ from .base import (
     with_unit,
 )
 
-VITAL_LABEL = "vital few"
-REST_LABEL = "remaining categories"
+# The bars of the smallest leading set that reaches 80% and the rest. The legend does not call
+# them "the vital few": whether they are a vital few is the card's finding (none is clear when it
+# takes more than half of the categories), which a legend cannot qualify.
+VITAL_LABEL = "first 80%"
+REST_LABEL = "the rest"
+IN_FIRST = "in the first 80%"  # the data tables' column
 _GROUPS = [VITAL_LABEL, REST_LABEL]
 
 # Category names are data, never code. Vega keeps the values of a band scale's field as keys of
@@ -331,7 +335,7 @@ def _gathered_line(rows: list[dict], n: int, total: float, vital: set[str]) -> s
     )
     in_rest = sum(1 for r in rest if r["category"] in vital)
     if in_rest:
-        line += f"; {in_rest:,} of the vital few are among them"
+        line += f"; {in_rest:,} of the first 80% are among them"
     return line
 
 
@@ -362,11 +366,11 @@ def pareto_chart(p: Pareto, period: str = "") -> ChartSpec:
     bars, n_gathered = _drawn(rows, total)
     thr = [{"cumulative": float(p.threshold), "text": f"{fmt(p.threshold)}%"}]
     named = f" ({vital_names(p.vital_few)})" if p.vital_few else ""
+    # what is drawn, not what it means: the card's sentences say which categories stand out
     sub = [period] if period else []
     sub += [
-        f"total {fmt(total, 4)}; vital few: {len(p.vital_few)} of {plural(len(cats), 'category', 'categories')} "
-        f"make up the first {fmt(p.threshold)}%" + named,
-        f"right axis: cumulative percentage, 100% at the total of {fmt(total, 4)}",
+        f"{plural(len(cats), 'category', 'categories')}, total {fmt(total, 4)}; right axis: "
+        f"cumulative percentage, 100% at the total; the first {fmt(p.threshold)}% set apart",
     ]
     if n_gathered:
         sub.append(_gathered_line(rows, n_gathered, total, vital))
@@ -383,7 +387,7 @@ def pareto_chart(p: Pareto, period: str = "") -> ChartSpec:
             "count": r["count"],
             "percent": r["percent"],
             "cumulative percent": r["cumulative"],
-            "vital few": "yes" if r["group"] == VITAL_LABEL else "no",
+            IN_FIRST: "yes" if r["group"] == VITAL_LABEL else "no",
         }
         for r in rows
     ]
@@ -397,7 +401,7 @@ def pareto_chart(p: Pareto, period: str = "") -> ChartSpec:
     return ChartSpec(
         spec=spec,
         table=table,
-        columns=("category", "count", "percent", "cumulative percent", "vital few"),
+        columns=("category", "count", "percent", "cumulative percent", IN_FIRST),
         summary=summary,
     )
 
@@ -464,7 +468,7 @@ def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
                     "count": r["count"],
                     "percent": r["percent"],
                     "cumulative percent": r["cumulative"],
-                    "vital few": "yes" if r["group"] == VITAL_LABEL else "no",
+                    IN_FIRST: "yes" if r["group"] == VITAL_LABEL else "no",
                 }
             )
         top = order[max(range(len(order)), key=lambda i: rows[i]["count"])] if order else ""
@@ -487,6 +491,6 @@ def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
     return ChartSpec(
         spec=spec,
         table=table,
-        columns=("phase", "category", "count", "percent", "cumulative percent", "vital few"),
+        columns=("phase", "category", "count", "percent", "cumulative percent", IN_FIRST),
         summary=summary,
     )

@@ -292,17 +292,26 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     # go right of the plot, beside their lines, so the two sets never print over each other.
     # In a narrow box (the page sets the parameter NARROW) the labels right of the plot move
     # inside it, right-aligned above the end of their lines, so that the plot keeps the width.
-    label_mark = (
-        vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2, color=style.INK)
-        if staged
-        else vl.mark("text", **_BESIDE_OR_INSIDE, color=style.INK)
-    )
-    labels = vl.view(
-        f"{prefix}labels",
-        label_mark,
-        {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
-    )
-    layers = [segs, labels]
+    # In a narrow box the after phase's own labels move inside the plot, to the right end where
+    # the carried ones are: the carried labels then move to the start of the after phase (x0).
+    # Two layers shown by turns (no transform: a layer's own data flow would make Vega warn of
+    # an empty extent where a chart has no such labels).
+    xy = {"y": _y("y", y_slot), "text": vl.field("text:N")}
+    if staged:
+        labels = [
+            vl.view(f"{prefix}labels",
+                    vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2,
+                            color=style.INK, opacity={"expr": f"{NARROW} ? 0 : 1"}),
+                    {"x": x_encoding(is_time), **xy}),
+            vl.view(f"{prefix}labels",
+                    vl.mark("text", align="left", baseline="bottom", dx=2, dy=-2,
+                            color=style.INK, opacity={"expr": f"{NARROW} ? 1 : 0"}),
+                    {"x": x_encoding(is_time, field="x0"), **xy}),
+        ]
+    else:
+        labels = [vl.view(f"{prefix}labels", vl.mark("text", **_BESIDE_OR_INSIDE, color=style.INK),
+                          {"x": x_encoding(is_time), **xy})]
+    layers = [segs, *labels]
     if staged:
         layers.append(
             vl.view(
@@ -752,7 +761,13 @@ def _limit_rows(
             ids.tolist(), np.clip(pos, 0, last_mid).tolist(), which.tolist(), strict=True)]
         i = int(np.flatnonzero(fin)[-1])
         y = shown[int(np.searchsorted(cand, i, side="right") - 1)]
-        labels.append({"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind})
+        label = {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
+        if carried is not None:
+            # where the last piece starts: in a narrow box a carried label sits there, at the
+            # start of the after phase, so as not to print over the after phase's own labels
+            # at the right end
+            label["x0"] = xa.at(int(starts[starts <= i][-1]) + offset)
+        labels.append(label)
     return rows, labels
 
 

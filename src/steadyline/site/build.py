@@ -251,7 +251,13 @@ def _in_order(fn, tasks: list, jobs: int, pool: ProcessPoolExecutor | None = Non
     task at a time (small tasks leave no worker idle at the end while another finishes a
     batch)."""
     if pool is not None:
-        yield from pool.map(fn, tasks, chunksize=1)
+        try:
+            yield from pool.map(fn, tasks, chunksize=1)
+        except BaseException:
+            # end the workers before the caller removes the staging folder they write into
+            # (stopping the pool again afterwards does nothing)
+            _stop_pool(pool, abort=True)
+            raise
         return
     if jobs <= 1 or len(tasks) <= 2:
         yield from map(fn, tasks)

@@ -314,7 +314,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                                                  if m.target is not None else ""),
         "spec_text": spec_text(m),
         "rules_text": (f"{signal_label} on the control chart; {run_label} on the run chart"
-                       if a.data.kind != "categories" else "Pareto: the vital few reach 80%"),
+                       if a.data.kind != "categories" else "Pareto: the smallest set of categories reaching 80% set apart"),
         "displays": d.cards, "capability": cap, "open_signals": open_signals,
         "baseline_signals": baseline_signals,
         "problems": [{"severity": "warning", "text": f"{disp}: {msg}"}
