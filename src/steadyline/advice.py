@@ -89,6 +89,8 @@ def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point
     times = "" if len(group) == 1 else f"{len(group)} times, "
     plural = what if len(points) == 1 else what + "s"
     lead = f"{phase}: " if phase else ""
+    if len(points) >= len(x):  # a pattern of the whole series (the number of runs): no list
+        return f"{lead}{sig.description}{side}{chart}."
     return f"{lead}{sig.description}{side}{chart}: {times}{len(points)} {plural}, {dates}."
 
 
