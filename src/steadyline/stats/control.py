@@ -208,14 +208,11 @@ def _pair_key(chain: np.ndarray, aside: np.ndarray | None) -> np.ndarray:
 
 
 def _aside_note(aside: np.ndarray | None, ranges: bool) -> list[str]:
-    if aside is None:
+    """How the points set aside were handled, where it is not plain from their being left out
+    (the pages list them and their reasons themselves)."""
+    if aside is None or not ranges:
         return []
-    k = int(aside.sum())
-    out = (f"{k} point{'' if k == 1 else 's'} set aside (a known cause found and removed) "
-           f"{'is' if k == 1 else 'are'} left out of the centre line and limits")
-    if ranges:
-        out += "; moving ranges that involve them are not used"
-    return [out + "."]
+    return ["Moving ranges that involve a point set aside are not used for the limits."]
 
 
 def _chains(stage: np.ndarray, segment: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:

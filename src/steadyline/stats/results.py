@@ -88,7 +88,8 @@ class ControlChart:
     secondary: ControlChart | None = None
     extras: dict[str, float | str | None] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
-    set_aside: np.ndarray | None = None
+    # written to results.json only when some point is set aside
+    set_aside: np.ndarray | None = field(default=None, metadata={"json": "omit-none"})
 
 
 @dataclass(frozen=True)
