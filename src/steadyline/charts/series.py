@@ -820,12 +820,22 @@ def _when(x: str) -> str:
     return f"{day} {clock[:5] if clock.endswith(':00') and len(clock) == 8 else clock}"
 
 
-def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
+def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray,
+                     aside: np.ndarray | None = None) -> str:
+    """The period(s) the limits come from; with ``aside``, the points set aside are counted
+    in the period they lie in ("(50 points, 3 set aside)"): that period is named whole."""
+    if aside is not None:
+        fitted = np.asarray(fitted, dtype=bool) | aside
     mask = [bool(b) for b in np.asarray(fitted, dtype=bool)]
     n = len(mask)
+
+    def but(a: int, b: int) -> str:
+        k = 0 if aside is None else int(np.count_nonzero(aside[a:b + 1]))
+        return f", {_aside_words(k)}" if k else ""
+
     if n and all(mask):
         span = f"{_when(ctx.x[0])} to {_when(ctx.x[-1])}"
-        return f"limits from all {n} points ({span})"
+        return f"limits from all {n} points ({span}{but(0, n - 1)})"
     if not any(mask):
         return "limits given in advance, not computed from these points"
     parts = []
@@ -834,7 +844,7 @@ def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
             continue
         name = ctx.stage[a]
         span = f"{_when(ctx.x[a])} to {_when(ctx.x[b])}" if b > a else _when(ctx.x[a])
-        count = plural(b - a + 1, "point")
+        count = plural(b - a + 1, "point") + but(a, b)
         parts.append(f"{name}, {span} ({count})" if name else f"{span} ({count})")
     return "limits from " + "; ".join(parts)
 
@@ -1329,11 +1339,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     title = f"{ctx.metric_name} \u2014 {name}"
     # the period and values the limits come from; the signals are the card's sentences
     # the period the limits come from, whole: the points set aside inside it said apart
-    fitted = chart.fitted if not has else np.asarray(chart.fitted, dtype=bool) | aside
-    said = _fitted_sentence(ctx, fitted)
-    if has:  # "(50 points, 3 set aside)"
-        words = _aside_words(int(aside.sum()))
-        said = f"{said[:-1]}, {words})" if said.endswith(")") else f"{said}, {words}"
+    said = _fitted_sentence(ctx, chart.fitted, aside)
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         said + f"; sigma from {chart.sigma_method}" if chart.sigma_method else said,
@@ -1401,7 +1407,8 @@ def staged_control_chart(
     title = f"{ctx.metric_name} \u2014 {name} by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
     subtitle = [*([ctx.points_note] if ctx.points_note else []),
-                _fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
+                _fitted_sentence(ctx, carried.fitted, carried.set_aside)
+                + ", dashed where carried forward"]
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
