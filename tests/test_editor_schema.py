@@ -119,7 +119,8 @@ def _leaf_cases():
     """(table path in the demo project, key) for every key of KEYS in a project.toml."""
     paths = {"project": (), "phase_dates": ("phase_dates",), "comparison": ("comparison",),
              "event": ("event", 0), "metric": ("metric", 0),
-             "metric.rollup": ("metric", 0, "rollup"), "metric.csv": ("metric", 0, "csv")}
+             "metric.rollup": ("metric", 0, "rollup"), "metric.csv": ("metric", 0, "csv"),
+             "metric.set_aside": ("metric", 0, "set_aside", 0)}
     return [(table, paths[table], k) for table in paths for k in KEYS[table]]
 
 
@@ -144,7 +145,8 @@ def test_schema_and_validator_refuse_the_same_wrong_type(tmp_path, table, path, 
     where = ".".join(str(s) for s in path if isinstance(s, str))
     wheres = {p.where for p in e.value.problems if p.severity == "error"}
     prefix = {"event": "event[1].", "metric": "metric[1].", "metric.rollup": "metric[1].rollup.",
-              "metric.csv": "metric[1].csv.", "project": ""}.get(table, f"{where}.")
+              "metric.csv": "metric[1].csv.", "metric.set_aside": "metric[1].set_aside[1].",
+              "project": ""}.get(table, f"{where}.")
     assert any(w.startswith(prefix + key.name) or w == key.name for w in wheres), wheres
 
 

@@ -357,9 +357,12 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
         info_texts = ["LCL 1, CL 2, UCL 3", "CL 2", "LCL 1, CL 2, UCL 3", ""]
         # the staged chart's mark codes (2 * change + own), or none
         mark_codes = rng.integers(0, _MARK_CODES, m) if rng.random() < 0.5 else None
+        # the points set aside, or none
+        aside = rng.random(m) < 0.2 if rng.random() < 0.5 else None
         keys = _Keys()
         got = _series_rows(ctx, values, marks, keys, offset=offset,
-                           info=_Coded(info_codes, info_texts), fitted=fitted, marks=mark_codes)
+                           info=_Coded(info_codes, info_texts), fitted=fitted, marks=mark_codes,
+                           aside=aside)
         point_keys: dict = {}
         info_keys: dict = {}
         want_k, want_i, want_idx = [], [], []
@@ -370,7 +373,7 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
             mc = 0 if mark_codes is None else int(mark_codes[k])
             t = (stage[i], None if fitted is None else bool(fitted[k]),
                  "; ".join(marked[i]) if i in marked else "", _MARK_TEXTS[mc // 2],
-                 bool(mc % 2))
+                 bool(mc % 2), aside is not None and bool(aside[k]))
             want_k.append(point_keys.setdefault(t, len(point_keys)))
             want_i.append(info_keys.setdefault(info_texts[info_codes[k]], len(info_keys)))
             want_idx.append(i)

@@ -27,6 +27,9 @@ COLUMN_MAX_CATEGORIES = 7
 CONTROL_MIN_FIT_POINTS = 20
 # A box plot of fewer than 5 values says little beyond the values themselves (common practice).
 BOX_MIN_POINTS = 5
+# More than this share of the baseline's points set aside: a caution (common practice; with a
+# quarter removed the remaining points may no longer describe the process the limits are for).
+ASIDE_SHARE_MAX = 0.25
 # A sentence names the first few dates of a signal and counts the rest: the card's data table
 # names them all.
 MAX_DATES_LISTED = 3
@@ -247,6 +250,17 @@ def control_cautions(chart: ControlChart) -> list[str]:
     if chart.secondary is not None:
         out.extend(n for n in chart.secondary.notes if n not in out)
     return out
+
+
+def aside_cautions(aside: int, baseline: int) -> list[str]:
+    """A caution when a large share of the baseline's points is set aside: the limits then
+    describe only what is left, and what is left may no longer be the process."""
+    if baseline and aside / baseline > ASIDE_SHARE_MAX:
+        return [f"{aside} of the baseline's {baseline} points are set aside, more than "
+                f"{ASIDE_SHARE_MAX:.0%} (common practice): the limits describe only the rest. "
+                "Check that each removed cause explains its points, or collect a fresh "
+                "baseline."]
+    return []
 
 
 def histogram_cautions(n: int) -> list[str]:

@@ -74,6 +74,12 @@ class MetricAnalysis:
     # "individual values", "periods"): said beside its figures on the history page
     compared: str = ""
     counted: str = ""
+    # per point of the run and control charts: set aside (a known cause found and removed,
+    # `set_aside` in project.toml), None when the metric sets none aside
+    aside: np.ndarray | None = None
+    # the individual values left out of the baseline's histogram, box plot and capability
+    values_aside: int = 0
+    aside_counts: tuple[int, ...] = ()  # points per entry of spec.set_aside
 
     @property
     def spec(self) -> MetricSpec:
@@ -113,27 +119,29 @@ def _try(result: MetricAnalysis, display: str, fn, *args, **kwargs):
 
 def _control(kind: str, data: MetricData, stage: np.ndarray, limits: str) -> ControlChart:
     pts = data.points
+    # points set aside are left out of every fit (the revised trial limits of phase I)
+    aside = pts["aside"].to_numpy(bool) if "aside" in pts else None
     # a rolled-up series starts a new segment after missing periods: a moving range never
     # spans that gap (the line breaks there and the limits do not use that range either)
     segment = pts["segment"].to_numpy(np.int64) if "segment" in pts else None
     if kind == "xmr":
         return control.individuals(pts["value"].to_numpy(float), stage=stage, limits=limits,
-                                   segment=segment)
+                                   segment=segment, set_aside=aside)
     if kind in ("xbar-r", "xbar-s"):
         fn = control.xbar_r if kind == "xbar-r" else control.xbar_s
-        return fn(data.subgroups, stage=stage, limits=limits)
+        return fn(data.subgroups, stage=stage, limits=limits, set_aside=aside)
     counts = pts["count"].to_numpy(float)
     sizes = pts["size"].to_numpy(float)
     if kind in ("laney-p", "laney-u"):
         fn = control.laney_p if kind == "laney-p" else control.laney_u
-        return fn(counts, sizes, stage=stage, limits=limits, segment=segment)
+        return fn(counts, sizes, stage=stage, limits=limits, segment=segment, set_aside=aside)
     fns = {"p": control.p_chart, "u": control.u_chart}
     if kind in fns:
-        return fns[kind](counts, sizes, stage=stage, limits=limits)
+        return fns[kind](counts, sizes, stage=stage, limits=limits, set_aside=aside)
     if kind == "np":
-        return control.np_chart(counts, sizes, stage=stage, limits=limits)
+        return control.np_chart(counts, sizes, stage=stage, limits=limits, set_aside=aside)
     if kind == "c":
-        return control.c_chart(counts, stage=stage, limits=limits)
+        return control.c_chart(counts, stage=stage, limits=limits, set_aside=aside)
     raise StatsError(f"unknown chart {kind!r}")
 
 
@@ -165,11 +173,20 @@ def analyse(data: MetricData) -> MetricAnalysis:
     res.stage_names = phase_names(stage)
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE
+    if "aside" in pts:
+        res.aside = pts["aside"].to_numpy(bool)
+        days = pts["period"].to_numpy().astype("datetime64[D]")
+        res.aside_counts = tuple(
+            int(((days >= np.datetime64(e.start, "D")) & (days <= np.datetime64(e.end, "D"))
+                 ).sum()) for e in spec.set_aside)
+    kept = base if res.aside is None else base & ~res.aside  # the baseline without them
 
-    # Run chart: the median of the baseline is the centre line carried over later points.
-    base_vals = values[base] if base.any() else values
+    # Run chart: the median of the baseline is the centre line carried over later points; the
+    # points set aside are left out of it, as they are of the control limits.
+    base_vals = values[kept] if kept.any() else values
     res.run = _try(res, "run chart", runs.analyse_runs, values, spec.run_rules,
-                   median=float(np.median(base_vals)) if len(base_vals) else None)
+                   median=float(np.median(base_vals)) if len(base_vals) else None,
+                   set_aside=res.aside)
 
     # Control chart.
     res.choice = _try(res, "control chart", _choose, data)
@@ -192,6 +209,12 @@ def analyse(data: MetricData) -> MetricAnalysis:
     if data.values is not None and len(data.values):
         vals = data.values["value"].to_numpy(float)
         vstage = data.values["stage"].to_numpy(int)
+        if "aside" in data.values:
+            # the baseline describes the process without the removed cause: the values of the
+            # points set aside are left out of its histogram, box plot and capability
+            vaside = data.values["aside"].to_numpy(bool)
+            res.values_aside = int((vaside & (vstage == STAGE_BASELINE)).sum())
+            vstage = np.where(vaside, -1, vstage)
         vbase = vals[vstage == STAGE_BASELINE] if (vstage == STAGE_BASELINE).any() else vals
         res.box = _try(res, "box plot", distribution.box_summary, vbase, spec.quartiles)
         res.histogram = _try(res, "histogram", distribution.histogram, vbase, spec.bins)
@@ -234,7 +257,8 @@ def analyse(data: MetricData) -> MetricAnalysis:
             if h is not None:
                 res.phase_histograms.append((name, h, c))
 
-    # Before / after.
+    # Before / after: the baseline without the points set aside, as its charts describe it.
+    base = kept
     if res.has_after and base.any():
         after = stage == STAGE_AFTER
         dtype = {"continuous": "continuous", "subgroups": "continuous",
@@ -250,6 +274,8 @@ def analyse(data: MetricData) -> MetricAnalysis:
             res.counted = res.compared
         elif data.kind in ("continuous", "subgroups") and data.values is not None:
             vv, vs = data.values["value"].to_numpy(float), data.values["stage"].to_numpy(int)
+            if "aside" in data.values:
+                vs = np.where(data.values["aside"].to_numpy(bool), -1, vs)
             b_arr, a_arr, bs, as_ = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
             res.compared = res.counted = "individual values"
         else:

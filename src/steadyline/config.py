@@ -16,7 +16,7 @@ import difflib
 import os
 import re
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -90,6 +90,27 @@ class Event:
 
 
 @dataclass(frozen=True)
+class SetAside:
+    """Days of a metric's baseline where an assignable cause was found and removed: their
+    points are drawn but left out of the baseline's statistics. ``start`` to ``end`` inclusive
+    (one day when equal); ``where`` names the entry in messages ("metric[1].set_aside[2]"),
+    ``source`` and ``line`` the file and line it was written at."""
+
+    start: dt.date
+    end: dt.date
+    reason: str
+    where: str = ""
+    source: str = ""
+    line: int | None = None
+
+    def label(self) -> str:
+        """The days in words, as the pages and messages give them."""
+        if self.start == self.end:
+            return self.start.isoformat()
+        return f"{self.start.isoformat()} to {self.end.isoformat()}"
+
+
+@dataclass(frozen=True)
 class PortfolioSettings:
     title: str = "Improvement portfolio"
     signal_rules: str = "western-electric"
@@ -134,6 +155,7 @@ class MetricSpec:
     rollup: Rollup | None = None
     csv: CsvOptions = field(default_factory=CsvOptions)
     line: int | None = None  # line of its [[metric]] header in project.toml
+    set_aside: tuple[SetAside, ...] = ()  # sorted by start, never overlapping
 
 
 @dataclass(frozen=True)
@@ -195,7 +217,7 @@ class _Locator:
     def _end(self, start: int, inner: str | None) -> int:
         """Where the table whose header is at *start* ends: the next header, not counting the
         sub-tables ``[inner.…]`` when *inner* is given."""
-        own = re.compile(r"^\s*\[\s*" + re.escape(inner) + r"\.") if inner else None
+        own = re.compile(r"^\s*\[\[?\s*" + re.escape(inner) + r"\.") if inner else None
         for i in range(start + 1, len(self.lines)):
             line = self.lines[i]
             if self._HEADER.match(line) and not (own and own.match(line)):
@@ -214,6 +236,31 @@ class _Locator:
             if kp.match(self.lines[i]):
                 return i
         return None
+
+    def entry_line(self, key: str | None, table: str, index: int, sub: str,
+                   entry: int) -> int | None:
+        """The line of *key* in the entry-th table of the list *sub* of the index-th
+        ``[[table]]``: written ``[[table.sub]]`` (the entry's header, or its key beneath it) or
+        inline (``sub = [{...}, ...]``: the line where the entry's brace opens, else the line
+        of ``sub``)."""
+        start = self._table_start(table, index)
+        if start is None:
+            return self.line_of(sub, table, index)
+        own = re.compile(r"^\s*\[\[?\s*" + re.escape(table) + r"\.")
+        end = next((i for i in range(start + 1, len(self.lines))
+                    if self._HEADER.match(self.lines[i]) and not own.match(self.lines[i])),
+                   len(self.lines))
+        pat = re.compile(r"^\s*\[\[\s*" + re.escape(f"{table}.{sub}") + r"\s*\]\]")
+        heads = [i for i in range(start + 1, end) if pat.match(self.lines[i])]
+        if entry < len(heads):
+            h = heads[entry]
+            found = None if key is None else self._find(key, h + 1, self._end(h, None))
+            return (found if found is not None else h) + 1
+        at = self._find(sub, start + 1, self._end(start, None))
+        if at is None:
+            return start + 1
+        braces = [i for i in range(at, end) if "{" in self.lines[i]]
+        return (braces[entry] if entry < len(braces) else at) + 1
 
     def header_line(self, table: str) -> int | None:
         """The line of a plain ``[table]`` header, or None when there is none."""
@@ -460,10 +507,12 @@ KEYS: dict[str, tuple[Key, ...]] = {
         Key("run_rules", "choice", RUN_RULES), Key("limits", "choice", LIMIT_MODES),
         Key("quartiles", "choice", QUARTILE_METHODS), Key("bins", "bins", BIN_RULES),
         Key("normal_curve", "boolean"), Key("baseline", "period"), Key("after", "period"),
-        Key("rollup", "table"), Key("csv", "table"),
+        Key("rollup", "table"), Key("csv", "table"), Key("set_aside", "tables"),
     ),
     "metric.rollup": (Key("period", "choice", PERIODS, required=True),
                       Key("statistic", "choice", STATISTICS, required=True)),
+    "metric.set_aside": (Key("dates", "period", required=True),
+                         Key("reason", "text", required=True)),
     "metric.csv": (Key("delimiter", "char"), Key("decimal", "choice", (".", ",")),
                    Key("encoding", "text"), Key("date_format", "text"), Key("timezone", "text")),
     "portfolio": (
@@ -486,6 +535,7 @@ CSV_KEYS = _names("metric.csv")
 ROLLUP_KEYS = _names("metric.rollup")
 COMPARISON_KEYS = _names("comparison")
 EVENT_KEYS = _names("event")
+SET_ASIDE_KEYS = _names("metric.set_aside")
 
 # Which columns each data type needs (besides the metric's "time", needed by all but categories).
 COLUMN_KEYS = ("time", "value", "subgroup", "count", "size", "category")
@@ -886,6 +936,8 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         baseline=own_baseline or comp_baseline, after=own_after or comp_after,
         rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), **cols,
     )
+    if "set_aside" in m:
+        spec = replace(spec, set_aside=_set_aside(ck, m["set_aside"], i, spec))
     if dtype is not None:
         _check_metric_shape(ck, spec, prefix, r)
     # Periods the metric sets itself are checked here, at the metric's own key; a clash of the
@@ -899,6 +951,84 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     if len([p for p in ck.problems[before:] if p.severity == "error"]):
         return None
     return spec
+
+
+class _EntryReader(_Reader):
+    """A reader of one entry of a list of tables inside a metric (``[[metric.set_aside]]``),
+    whose messages name the entry's own line."""
+
+    def __init__(self, ck: _Checker, data: dict, prefix: str, index: int, sub: str, entry: int):
+        super().__init__(ck, data, prefix, table="metric", index=index)
+        self.sub_name, self.entry = sub, entry
+
+    def _line(self, key):
+        return self.ck.loc.entry_line(key, "metric", self.index, self.sub_name, self.entry)
+
+    def missing(self, key, what):
+        self.ck.add(f"{self.prefix}{key}", f"required key is missing: {what}", self._line(None))
+
+
+def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAside, ...]:
+    """The metric's set-aside days, checked on their own and against the baseline period:
+    each inside the baseline, none overlapping another, not all of the baseline. Whether any
+    point falls in them is checked with the data (:mod:`steadyline.loading`)."""
+    prefix = f"metric[{i + 1}].set_aside"
+    line = ck.loc.entry_line(None, "metric", i, "set_aside", 0)
+    if not isinstance(raw, list) or not all(isinstance(e, dict) for e in raw):
+        ck.add(prefix, "expected [[metric.set_aside]] tables, each with dates and reason, got "
+               f"{_type_name(raw)} {raw!r}", line)
+        return ()
+    if spec.type == "categories":
+        ck.add(prefix, "a categories metric has no control limits or centre line to set points "
+               "aside from; remove set_aside", line)
+        return ()
+    out: list[SetAside] = []
+    for j, e in enumerate(raw):
+        where = f"{prefix}[{j + 1}]"
+        er = _EntryReader(ck, e, f"{where}.", i, "set_aside", j)
+        for key in e:
+            if key not in SET_ASIDE_KEYS:
+                guess = difflib.get_close_matches(key, SET_ASIDE_KEYS, n=1, cutoff=0.6)
+                hint = f"did you mean '{guess[0]}'?" if guess else "allowed keys are: " + \
+                    ", ".join(SET_ASIDE_KEYS)
+                ck.add(f"{where}.{key}", f"unknown key; {hint}", er._line(key))
+        reason = er.text("reason", required=True, what="why these points are set aside: the "
+                         "cause found and removed")
+        if "dates" not in e:
+            er.missing("dates", "[day] or [first day, last day] of the points set aside")
+            continue
+        p = er.period("dates")
+        if p is None or reason is None:
+            continue
+        entry = SetAside(p.start, p.end or p.start, reason, where, ck.shown, er._line("dates"))
+        b = spec.baseline
+        if b is not None and (entry.start < b.start or (b.end is not None and entry.end > b.end)):
+            ck.add(f"{where}.dates", f"{entry.label()} is not inside the baseline period "
+                   f"({b.label()}); only baseline points can be set aside", entry.line)
+            continue
+        out.append(entry)
+    out.sort(key=lambda e: (e.start, e.end))
+    kept: list[SetAside] = []
+    for e in out:
+        if kept and e.start <= kept[-1].end:
+            ck.add(f"{e.where}.dates", f"{e.label()} overlaps {kept[-1].where} "
+                   f"({kept[-1].label()}); give each day once: merge them into one range",
+                   e.line)
+            continue
+        kept.append(e)
+    b = spec.baseline
+    if kept and b is not None and b.end is not None:
+        day, covered = b.start, True
+        for e in kept:
+            if e.start > day:
+                covered = False
+                break
+            day = max(day, e.end + dt.timedelta(days=1))
+        if covered and day > b.end:
+            ck.add(prefix, f"the days set aside cover the whole baseline period ({b.label()}); "
+                   "no point would be left to compute the baseline from", line)
+            return ()
+    return tuple(kept)
 
 
 def metric_from_dict(data: dict, settings: PortfolioSettings | None = None,

@@ -805,6 +805,62 @@ def assign_stage(times: pd.Series | np.ndarray, baseline: Period | None,
     return stage
 
 
+def _days(times: pd.Series | np.ndarray) -> np.ndarray:
+    """Each time's calendar day (wall-clock, in the series' own zone), as assign_stage
+    reads it."""
+    t = times
+    if isinstance(t, pd.Series):
+        if len(t) and t.dt.tz is not None:
+            t = t.dt.tz_localize(None)
+        t = t.to_numpy()
+    return np.asarray(t).astype("datetime64[D]")
+
+
+def _set_aside(spec: MetricSpec, period: np.ndarray, stage: np.ndarray,
+               out: _Rows) -> np.ndarray:
+    """Per point: set aside or not. A point is set aside when its date (the first day of its
+    period, by which it also falls in the baseline) is one of an entry's days. An entry no point
+    falls on, and entries that leave no baseline point, are errors of project.toml."""
+    days = _days(period)
+    aside = np.zeros(len(days), dtype=bool)
+    first, last = (str(days.min()), str(days.max())) if len(days) else ("", "")
+    for e in spec.set_aside:
+        hit = (days >= np.datetime64(e.start, "D")) & (days <= np.datetime64(e.end, "D"))
+        if not hit.any():
+            span = f"the data run {first} to {last}" if first else "the metric has no data"
+            per = "" if spec.rollup is None else (
+                f" (a point is dated by the first day of its {spec.rollup.period})")
+            out.problems.append(Problem(
+                e.source, e.line, f"{e.where}.dates",
+                f"no point of {spec.file_rel!r} falls on {e.label()}{per}; {span}"))
+        aside |= hit
+    base = stage == STAGE_BASELINE
+    if base.any() and aside[base].all():
+        e = spec.set_aside[0]
+        out.problems.append(Problem(
+            e.source, e.line, e.where.rsplit("[", 1)[0],
+            f"every point of the baseline of {spec.file_rel!r} is set aside; no point would be "
+            "left to compute the centre line and limits from"))
+    return aside
+
+
+def _values_aside(frame: pd.DataFrame, spec: MetricSpec, aside: np.ndarray,
+                  period: np.ndarray, subgroups: bool, by_period: bool) -> np.ndarray:
+    """Per individual value: whether the point it belongs to is set aside, so that the
+    histogram, box plot and capability of the baseline leave out the same rows as its charts."""
+    if subgroups:  # the user's subgroups, numbered as _subgroups numbers them
+        if spec.subgroup is not None:
+            codes = pd.factorize(frame["subgroup"], sort=False)[0]
+        else:
+            codes = np.arange(len(frame)) // (spec.subgroup_size or 1)
+        return aside[codes]
+    if not by_period:  # one point per row
+        return aside.copy()
+    # periods: each row belongs to the last period that starts on or before its day
+    at = np.searchsorted(_days(period), _days(frame["t"]), side="right") - 1
+    return aside[np.clip(at, 0, len(aside) - 1)]
+
+
 _PERIOD_FREQ = {"day": "D", "week": "W-MON", "month": "MS", "quarter": "QS", "year": "YS"}
 
 
@@ -1109,6 +1165,12 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
     cols["label"] = (_labels(period) if period_of_points is None
                      else _period_labels(period, period_of_points))
     cols["stage"] = assign_stage(period, spec.baseline, spec.after)
+    if spec.set_aside:
+        cols["aside"] = _set_aside(spec, period, cols["stage"], out)
+        if values is not None:
+            values["aside"] = _values_aside(frame, spec, cols["aside"], period,
+                                            kind == "subgroups" and by_period is None,
+                                            period_of_points is not None)
     pts = pd.DataFrame(cols)
     out.raise_if_failed()
     return MetricData(spec, kind, pts, subgroups=subgroups, values=values, raw_rows=raw_rows,

@@ -56,6 +56,8 @@ from .base import (
 
 MARK_ORDINARY = "point"
 MARK_SIGNAL = "part of a signal"
+# a point set aside (`set_aside` in project.toml): drawn, left out of the baseline's statistics
+MARK_ASIDE = "set aside"
 _MARK_DOMAIN = [MARK_ORDINARY, MARK_SIGNAL]
 # The control chart by phase tells a change from instability: a point outside the baseline
 # judged against the baseline's limits carried forward, in a signal there, is evidence of a
@@ -127,7 +129,7 @@ def _x_tip(is_time: bool) -> dict:
 
 
 def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
-                  staged: bool = False) -> list[dict]:
+                  staged: bool = False, aside: bool = False) -> list[dict]:
     """Line broken at segment changes and gaps, plus points whose shape marks signals.
 
     Staged chart: a point's mark ("mark" in ``point_info``) says whether it is evidence of a
@@ -139,6 +141,8 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
     fields = ["stage", "fitted", "signals"] if with_limits else ["stage", "signals"]
     if staged:
         fields += ["mark", "own"]
+    if aside:  # the chart of a metric with points set aside: a mark of their own
+        fields.append("aside")
     line = vl.view(
         "points",
         vl.mark("line", color=style.DATA, strokeWidth=1.3),
@@ -161,7 +165,9 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             if with_limits
             else []
         ),
-        {"calculate": _STAGED_MARK if staged else _SIGNAL_TEST, "as": "marker"},
+        {"calculate": _STAGED_MARK if staged else (
+            f"datum.aside ? '{MARK_ASIDE}' : ({_SIGNAL_TEST})" if aside else _SIGNAL_TEST),
+         "as": "marker"},
         {"calculate": "datum.signals || 'none'", "as": "signals"},
         # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
         # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
@@ -201,6 +207,14 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'", "value": style.SIZE_SIGNAL},
             "value": style.SIZE_POINT,
         }
+        if aside:
+            scales[0]["domain"].append(MARK_ASIDE)
+            scales[0]["range"].append(style.SHAPE_ASIDE)
+            scales[1]["domain"].append(MARK_ASIDE)
+            scales[1]["range"].append(style.ASIDE)
+            size = {"condition": [dict(size["condition"]), {
+                "test": f"datum.marker == '{MARK_ASIDE}'", "value": style.SIZE_ASIDE}],
+                "value": style.SIZE_POINT}
         mark = vl.mark("point", filled=True, opacity=1)
 
     def marks(size_enc: dict, mark_def: dict, more: list) -> dict:
@@ -323,7 +337,8 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     return layers
 
 
-def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -> dict:
+def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str,
+                 aside: bool = False) -> dict:
     prefix = "secondary_" if suf else ""
     layers = band_layers(is_time) + event_layers(is_time, labelled=not suf)
     if refs == "limits":
@@ -335,7 +350,7 @@ def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str) -
     if not suf:  # room above the points for the event labels (the chart beneath has none)
         layers.append(headroom_layer(_y("y", y_slot)))
     layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median",
-                            staged=refs == "staged")
+                            staged=refs == "staged", aside=aside)
     return vl.layer(*layers, width="container", height=height)
 
 
@@ -365,18 +380,20 @@ _BESIDE_OR_INSIDE = {
 }
 
 
-def _run_template(is_time: bool) -> dict:
-    chart = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs="median")
+def _run_template(is_time: bool, aside: bool = False) -> dict:
+    chart = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs="median", aside=aside)
     return finish_template(chart, "run-chart")
 
 
-def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits") -> dict:
+def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits",
+                      aside: bool = False) -> dict:
     display = "staged-control-chart" if refs == "staged" else "control-chart"
-    main = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs=refs)
+    main = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs=refs, aside=aside)
     narrow = [{"name": NARROW, "value": False}]
     if not has_secondary:
         return finish_template({**main, "params": narrow}, display)
-    second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs)
+    second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs,
+                          aside=aside)
     chart = {"params": narrow, "vconcat": [main, second], "spacing": 18,
              "resolve": {"scale": {"x": "shared"}}}
     return finish_template(chart, display)
@@ -491,8 +508,8 @@ class _Keys:
         self.staged = staged  # every row says its mark and whether it is in an own signal
 
     def key(self, stage: str, fitted: bool | None, signals: str, mark: str = "",
-            own: bool = False) -> int:
-        t = (stage, fitted, signals, mark, own)
+            own: bool = False, aside: bool = False) -> int:
+        t = (stage, fitted, signals, mark, own, aside)
         k = self.points.get(t)
         if k is None:
             k = self.points[t] = len(self.points)
@@ -506,7 +523,7 @@ class _Keys:
 
     def point_rows(self) -> list[dict]:
         out = []
-        for (stage, fitted, signals, mark, own), k in self.points.items():
+        for (stage, fitted, signals, mark, own, aside), k in self.points.items():
             row: dict = {"k": k, "stage": stage}
             if fitted is not None:
                 row["fitted"] = "yes" if fitted else "no"
@@ -515,6 +532,8 @@ class _Keys:
             if self.staged:
                 row["mark"] = mark
                 row["own"] = own
+            if aside:  # only on a chart with points set aside: others stay as they were
+                row["aside"] = True
             out.append(row)
         return out
 
@@ -574,6 +593,7 @@ def _series_rows(
     info: _Coded | None = None,
     fitted: Sequence[bool] | None = None,
     marks: np.ndarray | None = None,
+    aside: np.ndarray | None = None,
 ) -> _Series:
     """The drawn points of a series (finite values), with line pieces that break at segment
     changes and at missing values, and their keys into ``keys``. Keys are numbered in order of
@@ -605,15 +625,19 @@ def _series_rows(
     code *= _MARK_CODES
     if marks is not None:
         code += np.asarray(marks, dtype=np.int64)[kp]
+    code *= 2
+    if aside is not None:
+        code += np.asarray(aside, dtype=np.int64)[kp]
     distinct, first, point_key = np.unique(code, return_index=True, return_inverse=True)
     key_of = np.zeros(len(distinct), dtype=np.int64)
     for j in np.argsort(first, kind="stable").tolist():  # in order of first use
-        rest, m = divmod(int(distinct[j]), _MARK_CODES)
+        rest, put = divmod(int(distinct[j]), 2)
+        rest, m = divmod(rest, _MARK_CODES)
         pair, t = divmod(rest, width)
         s, f = divmod(pair, 3)
         change, own = divmod(m, 2)
         key_of[j] = keys.key(names[s], None if f == 2 else bool(f), texts[t - 1] if t else "",
-                             _MARK_TEXTS[change], bool(own))
+                             _MARK_TEXTS[change], bool(own), bool(put))
     point_key = key_of[point_key.ravel()]
 
     lim = None
@@ -811,12 +835,22 @@ def _when(x: str) -> str:
     return f"{day} {clock[:5] if clock.endswith(':00') and len(clock) == 8 else clock}"
 
 
-def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
+def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray,
+                     aside: np.ndarray | None = None) -> str:
+    """The period(s) the limits come from; with ``aside``, the points set aside are counted
+    in the period they lie in ("(50 points, 3 set aside)"): that period is named whole."""
+    if aside is not None:
+        fitted = np.asarray(fitted, dtype=bool) | aside
     mask = [bool(b) for b in np.asarray(fitted, dtype=bool)]
     n = len(mask)
+
+    def but(a: int, b: int) -> str:
+        k = 0 if aside is None else int(np.count_nonzero(aside[a:b + 1]))
+        return f", {_aside_words(k)}" if k else ""
+
     if n and all(mask):
         span = f"{_when(ctx.x[0])} to {_when(ctx.x[-1])}"
-        return f"limits from all {n} points ({span})"
+        return f"limits from all {n} points ({span}{but(0, n - 1)})"
     if not any(mask):
         return "limits given in advance, not computed from these points"
     parts = []
@@ -825,9 +859,14 @@ def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray) -> str:
             continue
         name = ctx.stage[a]
         span = f"{_when(ctx.x[a])} to {_when(ctx.x[b])}" if b > a else _when(ctx.x[a])
-        count = plural(b - a + 1, "point")
+        count = plural(b - a + 1, "point") + but(a, b)
         parts.append(f"{name}, {span} ({count})" if name else f"{span} ({count})")
     return "limits from " + "; ".join(parts)
+
+
+def _aside_words(k: int) -> str:
+    """The subtitle's words for the points set aside: '3 set aside'."""
+    return f"{k} set aside"
 
 
 def _signals_sentence(signals: Sequence[Signal], max_kinds: int | None = None) -> str:
@@ -854,20 +893,29 @@ def _check_len(name: str, arr, n: int) -> None:
 # ------------------------------------------------------------------------------------------------
 
 
-def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSpec:
-    """Values over time with their median; points in a run/shift/trend signal marked by shape."""
+def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
+              aside: np.ndarray | None = None) -> ChartSpec:
+    """Values over time with their median; points in a run/shift/trend signal marked by shape.
+
+    ``aside``: per point, set aside (a known cause found and removed): drawn in a mark of
+    their own, left out of the median (``analysis`` was computed so)."""
     vals = list(values)
     n = len(ctx.x)
     _check_len("values", vals, n)
+    if aside is not None:
+        _check_len("aside", aside, n)
+        aside = np.asarray(aside, dtype=bool) if np.any(aside) else None
     xa = x_axis(ctx)
-    tpl = cached_template(("run-chart", ctx.x_is_time), lambda: _run_template(ctx.x_is_time))
+    has = aside is not None
+    tpl = cached_template(("run-chart", ctx.x_is_time) + (("aside",) if has else ()),
+                          lambda: _run_template(ctx.x_is_time, aside=has))
 
     # Mark points of pattern signals; a signal spanning every point (too few / too many
     # crossings) is a statement about the whole series and is named in the subtitle only.
     local = [s for s in analysis.signals if 0 < len(s.indices) < n]
     marked = _signal_text(local, n)
     keys = _Keys()
-    points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys))
+    points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys, aside=aside))
     median = num(analysis.median)
     median_text = "median " + (proportion_text(median, ctx.unit, fmt)
                                if is_proportion_unit(ctx.unit) else
@@ -906,6 +954,8 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
         *([ctx.points_note] if ctx.points_note else []),
         f"{rules}: " + ", ".join(facts),
     ]
+    if has:
+        subtitle[-1] += f"; {_aside_words(int(aside.sum()))}"
     spec = make_spec(
         tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
         exact=_exact(ctx, datasets),
@@ -915,10 +965,12 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis) -> ChartSp
     has_stage = any(ctx.stage)
     all_marked = _signal_text(analysis.signals, n)
     columns = (x_col,) + (("phase",) if has_stage else ()) + ("value", "median", "signals")
-    table = ColumnTable(columns, {
-        x_col: ctx.x, "phase": ctx.stage, "value": num_list(vals),
-        "median": [median] * n,
-        "signals": _signal_column(n, all_marked)})
+    cells = {x_col: ctx.x, "phase": ctx.stage, "value": num_list(vals),
+             "median": [median] * n, "signals": _signal_column(n, all_marked)}
+    if has:
+        columns += ("set aside",)
+        cells["set aside"] = _yes_no(aside)
+    table = ColumnTable(columns, cells)
     summary = (
         f"Run chart of {ctx.metric_name}: {plural(n, 'point')}, {median_text}; "
         f"{_signals_sentence(analysis.signals)}."
@@ -956,6 +1008,16 @@ def _secondary_fitted(chart: ControlChart, offset: int) -> np.ndarray:
     if len(sec.fitted) == len(sec.values):
         return np.asarray(sec.fitted, dtype=bool)
     return np.asarray(chart.fitted, dtype=bool)[offset:]
+
+
+def _secondary_aside(chart: ControlChart, offset: int) -> np.ndarray | None:
+    """The companion chart's set-aside mask, aligned with its values (None when none)."""
+    sec = chart.secondary
+    if sec.set_aside is not None and len(sec.set_aside) == len(sec.values):
+        return np.asarray(sec.set_aside, dtype=bool)
+    if chart.set_aside is None:
+        return None
+    return np.asarray(chart.set_aside, dtype=bool)[offset:]
 
 
 def _secondary_stage(chart: ControlChart, offset: int) -> np.ndarray:
@@ -1066,6 +1128,7 @@ def _control_parts(
         info=info_of(chart, own, own_stage),
         fitted=chart.fitted,
         marks=main_marks,
+        aside=None if staged else chart.set_aside,
     )
     limits, labels = _limit_rows(
         xa,
@@ -1099,6 +1162,7 @@ def _control_parts(
             info=info_of(sec, own_sec, osstage),
             fitted=sfit,
             marks=sec_marks,
+            aside=None if staged else _secondary_aside(chart, offset),
         )
         s_limits, s_labels = _limit_rows(
             xa, sec, offset, parts, carried=carried_mask(sec, sstage, sfit), set_name=set_name
@@ -1277,8 +1341,11 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     sec = chart.secondary
     is_time = ctx.x_is_time
     has_sec = sec is not None
+    aside = chart.set_aside if chart.set_aside is not None and np.any(chart.set_aside) else None
+    has = aside is not None
     tpl = cached_template(
-        ("control-chart", is_time, has_sec), lambda: _control_template(is_time, has_sec)
+        ("control-chart", is_time, has_sec) + (("aside",) if has else ()),
+        lambda: _control_template(is_time, has_sec, aside=has)
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(ctx, chart, signals, offset)
 
@@ -1286,14 +1353,17 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     name = _kind_name(chart)
     title = f"{ctx.metric_name} \u2014 {name}"
     # the period and values the limits come from; the signals are the card's sentences
+    # the period the limits come from, whole: the points set aside inside it said apart
+    said = _fitted_sentence(ctx, chart.fitted, aside)
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
-        _fitted_sentence(ctx, chart.fitted) + f"; sigma from {chart.sigma_method}"
-        if chart.sigma_method
-        else _fitted_sentence(ctx, chart.fitted),
+        said + f"; sigma from {chart.sigma_method}" if chart.sigma_method else said,
     ]
     spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
     table, columns = _control_table(ctx, chart, offset, marked, sec_marked)
+    if has:
+        columns = columns + ("set aside",)
+        table = ColumnTable(columns, {**table.cols, "set aside": _yes_no(aside)})
 
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
@@ -1352,7 +1422,8 @@ def staged_control_chart(
     title = f"{ctx.metric_name} \u2014 {name} by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
     subtitle = [*([ctx.points_note] if ctx.points_note else []),
-                _fitted_sentence(ctx, carried.fitted) + ", dashed where carried forward"]
+                _fitted_sentence(ctx, carried.fitted, carried.set_aside)
+                + ", dashed where carried forward"]
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(

@@ -36,6 +36,9 @@ CHANGE_BETTER = "#5cc39a"  # square (L* 72)
 CHANGE_WORSE = "#ee99aa"  # cross (L* 72)
 CHANGE_UNJUDGED = "#b0b0b0"  # triangle, direction not judged (L* 72)
 CHANGE_OUTLINE = INK
+# A point set aside (a known cause found and removed): drawn, but left out of the baseline's
+# statistics; a grey square, set apart from the ordinary points in shape as well as colour.
+ASIDE = "#8c8c8c"  # (L* 58)
 GRID = "#e3e3e3"
 WHITE = "#ffffff"
 
@@ -114,6 +117,8 @@ SHAPE_MEAN = "cross"
 SHAPE_CHANGE_BETTER = "square"
 SHAPE_CHANGE_WORSE = "cross"
 SHAPE_CHANGE_UNJUDGED = "triangle-up"
+SHAPE_ASIDE = "square"
+SIZE_ASIDE = 44
 SIZE_POINT = 28
 SIZE_SIGNAL = 90
 SIZE_CHANGE = 70

@@ -211,12 +211,16 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         result["points"] = {"label": list(a.x), "period": list(ctx.x),
                             "value": pts["value"].to_numpy(float),
                             "stage": [s for s in a.stage_names]}
+        aside_caution = _aside_caution(a)
         if a.run is not None:
-            chart = run_chart(ctx, pts["value"].to_numpy(float), a.run)
+            chart = run_chart(ctx, pts["value"].to_numpy(float), a.run, aside=a.aside)
             d.add("run", "Run chart with median", chart,
-                  advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
-                  _lead(points_note(m)) + "Median of the baseline as centre line; rules: "
-                  f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]})."
+                  advice.run_findings(a.run, a.x, run_label),
+                  advice.run_cautions(a.run) + (aside_caution if a.control is None else []),
+                  _lead(points_note(m)) + "Median of the baseline as centre line"
+                  + (" (without the points set aside)" if a.aside is not None else "")
+                  + f"; rules: {run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]})."
+                  + (f" {aside_text(a)}" if a.control is None else "")
                   + by_period_text(a),
                   notes=a.run.notes)
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
@@ -229,12 +233,13 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                 a.control.secondary.kind if a.control.secondary is not None else None).label
             d.add("control", title, chart,
                   advice.control_findings(a.control, a.signals, a.x, signal_label, a.stage_names),
-                  advice.control_cautions(a.control),
+                  advice.control_cautions(a.control) + aside_caution,
                   _lead(points_note(m))
                   + f"{_sentence(a.choice.reason) if a.choice else ''} "
                   f"Sigma: {a.control.sigma_method}. "
                   f"Limits from {'the baseline, carried forward' if m.limits == 'baseline' else 'each phase separately'}"
-                  f"; rules: {signal_label}." + by_period_text(a),
+                  f"; rules: {signal_label}." + by_period_text(a)
+                  + (f" {aside_text(a)}" if a.aside is not None else ""),
                   notes=_drawing_notes(a.control))
             result["control_chart"] = {
                 "choice": a.choice, "chart": a.control,
@@ -251,7 +256,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                                 title=f"{m.name}, baseline", measure=m.name, note=brief)
         d.add("histogram", "Histogram of the baseline" + (", individual values" if note else ""),
               chart, cautions=advice.histogram_cautions(a.histogram.n),
-              method=_lead(note) + f"Bins by the {a.histogram.rule_label} rule.")
+              method=_lead(note) + _lead(aside_values_text(a))
+              + f"Bins by the {a.histogram.rule_label} rule.")
         result["histogram"] = a.histogram
     if a.box is not None:
         note = values_note(m, a.box.n)
@@ -259,7 +265,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         chart = box_chart([("Baseline", a.box)], unit=unit, measure=m.name, note=brief)
         d.add("box", "Box plot of the baseline" + (", individual values" if note else ""), chart,
               cautions=advice.box_cautions(a.box.n),
-              method=_lead(note)
+              method=_lead(note) + _lead(aside_values_text(a))
               + f"Quartiles by {a.box.method_label}; whiskers reach the most extreme values "
                      "inside the Tukey fences at 1.5 × IQR; points beyond are drawn one by one.")
         result["box_plot"] = box_json(a.box)
@@ -290,9 +296,13 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         c = a.capability
         cap = {"trustworthy": c.trustworthy, "verdict": advice.capability_verdict(c),
                "reasons": list(c.reasons), "view": capability_view(c, unit)}
+        if aside_values_text(a):
+            cap["view"]["basis"] = [*cap["view"]["basis"], aside_values_text(a)]
         result["capability"] = c
     if a.normality is not None:
         result["normality"] = a.normality
+    if m.set_aside and a.data.kind != "categories":
+        result["set_aside"] = set_aside_json(a)
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:
@@ -322,6 +332,49 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     }
     result["open_signals"] = open_signals
     return section, result
+
+
+def aside_text(a: MetricAnalysis) -> str:
+    """The card's one sentence on the points set aside, with their days and reasons: "Set
+    aside, a known cause found and removed (grey squares; left out of the centre line, limits
+    and median, and not judged): 2026-02-16 to 2026-02-18, 3 points: rims held at customs." """
+    parts = []
+    for e, k in zip(a.spec.set_aside, a.aside_counts, strict=True):
+        parts.append(f"{e.label()}, {k} point{'' if k == 1 else 's'}: "
+                     f"{e.reason.rstrip('.')}")
+    return ("Set aside, a known cause found and removed (grey squares; left out of the centre "
+            "line, limits and median, and not judged): " + "; ".join(parts) + ".")
+
+
+def aside_values_text(a: MetricAnalysis) -> str:
+    """What the baseline's histogram, box plot and capability leave out ("" when nothing)."""
+    k = a.values_aside
+    if not k:
+        return ""
+    return (f"Without the {k} value{'' if k == 1 else 's'} of the points set aside (a known "
+            "cause found and removed).")
+
+
+def _aside_caution(a: MetricAnalysis) -> list[str]:
+    if a.aside is None:
+        return []
+    base = np.asarray(a.data.points["stage"].to_numpy(int) == STAGE_BASELINE)
+    return advice.aside_cautions(int((a.aside & base).sum()), int(base.sum()))
+
+
+def set_aside_json(a: MetricAnalysis) -> dict:
+    """results.json's account of the points set aside (README, results.json schema)."""
+    base = a.data.points["stage"].to_numpy(int) == STAGE_BASELINE
+    aside = a.aside if a.aside is not None else np.zeros(len(base), dtype=bool)
+    k, n = int((aside & base).sum()), int(base.sum())
+    return {
+        "points": k, "baseline_points": n, "share": k / n if n else None,
+        "values": a.values_aside,
+        "labels": [x for x, s in zip(a.x, aside.tolist(), strict=True) if s],
+        "entries": [{"dates": [e.start, e.end], "reason": e.reason, "points": c}
+                    for e, c in zip(a.spec.set_aside, a.aside_counts, strict=True)],
+        "caution": advice.aside_cautions(k, n)[0] if advice.aside_cautions(k, n) else None,
+    }
 
 
 def _lead(sentence: str) -> str:

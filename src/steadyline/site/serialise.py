@@ -128,6 +128,27 @@ def _field_names(cls: type) -> tuple[str, ...]:
     return tuple(f.name for f in dataclasses.fields(cls))
 
 
+# Fields written only when they hold something (a field added for an option that most results
+# lack, e.g. ControlChart.set_aside, marked with metadata {"json": "omit-none"}): results.json
+# of everything without the option stays as it was.
+_OMIT_NONE: dict[type, tuple[str, ...]] = {}
+
+
+def _omitted(cls: type) -> tuple[str, ...]:
+    names = _OMIT_NONE.get(cls)
+    if names is None:
+        names = _OMIT_NONE[cls] = tuple(f.name for f in dataclasses.fields(cls)
+                                        if f.metadata.get("json") == "omit-none")
+    return names
+
+
+def _drop_none(cls: type, out: dict) -> dict:
+    for name in _omitted(cls):
+        if out.get(name, 0) is None:
+            del out[name]
+    return out
+
+
 def plain(obj: Any) -> Any:
     """A JSON-able copy of *obj*."""
     t = type(obj)
@@ -148,6 +169,8 @@ def plain(obj: Any) -> Any:
                 return seen[1]
         out = {name: v if type(v) in _AS_IS else plain(v)
                for name, v in zip(names, map(obj.__getattribute__, names), strict=True)}
+        if _omitted(t):
+            _drop_none(t, out)
         if _SEEN is not None:
             _SEEN[id(obj)] = (obj, out)
         return out
@@ -171,7 +194,7 @@ def plain(obj: Any) -> Any:
         return bool(obj)
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
         _DATACLASS_FIELDS[t] = _field_names(t)
-        return {name: plain(getattr(obj, name)) for name in _field_names(t)}
+        return _drop_none(t, {name: plain(getattr(obj, name)) for name in _field_names(t)})
     if isinstance(obj, dict):
         return {str(k): plain(v) for k, v in obj.items()}
     if isinstance(obj, np.ndarray):

@@ -46,6 +46,16 @@ new stage, or at the first point after a gap in the periods (``segment``), is un
 plotted (nan) and not used -- and a fit uses only moving ranges between consecutive points of
 its own fitted set with no change of stage or segment between them.
 
+``set_aside``
+    optional boolean mask of points set aside: an assignable cause was found and removed there,
+    so they are left out of every fit, the practice of revising trial limits (Montgomery,
+    *Introduction to Statistical Quality Control*, on phase I control charts, from memory). They
+    keep their place on the chart, are never judged by the signal rules (``rules`` skips them)
+    and the chart's ``set_aside`` carries the mask. A moving range that involves a set-aside
+    point is no moving range of the process without that cause: it is plotted (and set aside on
+    the moving-range chart) but never enters the sigma estimate, and the points either side of
+    a set-aside point do not form a moving range either (they are not successive observations).
+
 ``segment`` (individuals and Laney charts)
     optional segment number per point, as a rolled-up series numbers its runs of periods: a new
     segment starts after one or more missing periods. Two points either side of a gap are not
@@ -178,6 +188,33 @@ def _check_segment(segment: Any, m: int) -> np.ndarray | None:
     return f.astype(np.int64)
 
 
+def _check_aside(set_aside: Any, m: int) -> np.ndarray | None:
+    """The set-aside mask as booleans, or None when no point is set aside."""
+    if set_aside is None:
+        return None
+    a = np.asarray(set_aside)
+    if a.ndim != 1 or a.size != m:
+        raise StatsError(f"set_aside must give one true/false per point ({m}), got {a.size}")
+    a = a.astype(bool)
+    return a if a.any() else None
+
+
+def _pair_key(chain: np.ndarray, aside: np.ndarray | None) -> np.ndarray:
+    """A number per point that changes at every break of ``chain`` and at every set-aside
+    point, so that :func:`_consecutive_pairs` never pairs points across a set-aside one."""
+    if aside is None:
+        return chain
+    return chain + np.cumsum(aside)
+
+
+def _aside_note(aside: np.ndarray | None, ranges: bool) -> list[str]:
+    """How the points set aside were handled, where it is not plain from their being left out
+    (the pages list them and their reasons themselves)."""
+    if aside is None or not ranges:
+        return []
+    return ["Moving ranges that involve a point set aside are not used for the limits."]
+
+
 def _chains(stage: np.ndarray, segment: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:
     """(break, chain): ``break`` marks each point that starts a new stage or segment (its moving
     range is undefined); ``chain`` numbers the runs of points between breaks."""
@@ -290,6 +327,7 @@ def individuals(
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
     segment: Sequence[int] | np.ndarray | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Individuals chart with its moving-range chart (``secondary``).
 
@@ -311,7 +349,9 @@ def individuals(
     notes: list[str] = []
 
     seg = _check_segment(segment, m)
+    aside = _check_aside(set_aside, m)
     boundary, chain = _chains(st, seg)
+    pair_key = _pair_key(chain, aside)
     mr = np.full(m, np.nan)
     mr[1:] = np.abs(np.diff(x))
     mr[boundary] = np.nan
@@ -322,7 +362,7 @@ def individuals(
     mr_fitted = np.zeros(m, dtype=bool)
 
     def fit(mask: np.ndarray) -> _XmrFit:
-        a, b = _consecutive_pairs(mask, chain)
+        a, b = _consecutive_pairs(mask, pair_key)
         if a.size < 1:
             raise _TooFew(
                 "needs at least two consecutive points to compute a moving range, "
@@ -332,8 +372,14 @@ def individuals(
         mr_fitted[b] = True
         return _XmrFit(_mean(x[mask]), mr_bar, mr_bar / d2(2), int(a.size))
 
-    groups = _fit_groups(st, limits, np.ones(m, dtype=bool), fit, notes)
+    notes += _aside_note(aside, ranges=True)
+    usable = np.ones(m, dtype=bool) if aside is None else ~aside
+    groups = _fit_groups(st, limits, usable, fit, notes)
     notes += _zero_sigma_note(groups, lambda r: r.sigma, "average moving range")
+    mr_aside = None
+    if aside is not None:  # the range at i spans points i - 1 and i
+        mr_aside = aside.copy()
+        mr_aside[1:] |= aside[:-1]
 
     centre, sigma = _fill(groups, m, lambda r, idx: (r.mean, r.sigma))
     lower, upper = _limits(centre, sigma, k)
@@ -369,6 +415,7 @@ def individuals(
         fitted=mr_fitted,
         stage=st.copy(),
         notes=("The first point has no moving range.",),
+        set_aside=mr_aside,
     )
     return ControlChart(
         kind="individuals",
@@ -385,6 +432,7 @@ def individuals(
         secondary=secondary,
         extras=extras,
         notes=tuple(notes),
+        set_aside=aside,
     )
 
 
@@ -437,11 +485,13 @@ def _subgroup_chart(
     stage: Any,
     limits: str,
     sigma_multiple: float,
+    set_aside: Any = None,
 ) -> ControlChart:
     sizes, flat = _subgroups(subgroups)
     m = len(sizes)
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
+    aside = _check_aside(set_aside, m)
     n = sizes.astype(float)
     multi = n >= 2
     # Per-subgroup means, ranges and standard deviations in a few vectorised passes (one Python
@@ -494,7 +544,9 @@ def _subgroup_chart(
             sigma = bar / c4(int(dof) + 1)
         return _SubgroupFit(grand, sigma, bar, constant)
 
-    groups = _fit_groups(st, limits, np.ones(m, dtype=bool), fit, notes)
+    notes += _aside_note(aside, ranges=False)
+    usable = np.ones(m, dtype=bool) if aside is None else ~aside
+    groups = _fit_groups(st, limits, usable, fit, notes)
     word = "average range" if spread == "range" else "average standard deviation"
     notes += _zero_sigma_note(groups, lambda r: r.sigma, word)
 
@@ -565,6 +617,7 @@ def _subgroup_chart(
         fitted=fitted & multi,
         stage=st.copy(),
         sizes=n.copy(),
+        set_aside=None if aside is None else aside.copy(),
     )
     return ControlChart(
         kind="xbar",
@@ -582,6 +635,7 @@ def _subgroup_chart(
         secondary=secondary,
         extras=extras,
         notes=tuple(notes),
+        set_aside=aside,
     )
 
 
@@ -591,6 +645,7 @@ def xbar_r(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Xbar chart with its range chart (``secondary``), for subgroups of 2 to 10 values.
 
@@ -603,7 +658,7 @@ def xbar_r(
     >>> round(float(ch.centre[0]), 3), round(float(ch.secondary.centre[0]), 3)
     (2.333, 2.0)
     """
-    return _subgroup_chart(subgroups, "range", stage, limits, sigma_multiple)
+    return _subgroup_chart(subgroups, "range", stage, limits, sigma_multiple, set_aside)
 
 
 def xbar_s(
@@ -612,6 +667,7 @@ def xbar_s(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Xbar chart with its standard-deviation chart (``secondary``), any subgroup size.
 
@@ -621,7 +677,7 @@ def xbar_s(
     sqrt(sum (n_i-1) s_i^2 / sum (n_i-1)); limits X-double-bar +- A3(n_i) s-bar and
     B3(n_i) s-bar .. B4(n_i) s-bar step with n_i; process sigma = s-bar / c4(sum(n_i-1)+1).
     """
-    return _subgroup_chart(subgroups, "stdev", stage, limits, sigma_multiple)
+    return _subgroup_chart(subgroups, "stdev", stage, limits, sigma_multiple, set_aside)
 
 
 # --------------------------------------------------------------------------------------------
@@ -644,6 +700,7 @@ def _rate_chart(
     sigma_multiple: float,
     laney: bool,
     segment: Any = None,
+    set_aside: Any = None,
 ) -> ControlChart:
     proportion = kind == "p"
     d = _as_counts(counts, "counts")
@@ -666,6 +723,8 @@ def _rate_chart(
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
     _brk, chain = _chains(st, _check_segment(segment, m))
+    aside = _check_aside(set_aside, m)
+    chain = _pair_key(chain, aside)
     notes: list[str] = []
     usable = a > 0
     if (~usable).any():
@@ -714,7 +773,8 @@ def _rate_chart(
         sigma_z = float(np.mean(np.abs(z[pb] - z[pa])) / d2(2))
         return _RateFit(rate, sigma_z, True)
 
-    groups = _fit_groups(st, limits, usable, fit, notes)
+    notes += _aside_note(aside, ranges=False)
+    groups = _fit_groups(st, limits, usable if aside is None else usable & ~aside, fit, notes)
     for g in groups:
         r = g.result
         if r is not None and (r.rate == 0 or (proportion and r.rate == 1) or r.sigma_z == 0):
@@ -778,6 +838,7 @@ def _rate_chart(
         sizes=a.copy(),
         extras=extras,
         notes=tuple(notes),
+        set_aside=aside,
     )
 
 
@@ -788,6 +849,7 @@ def p_chart(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Proportion-defective chart: p-bar = sum d / sum n (not the mean of the p_i).
 
@@ -798,7 +860,8 @@ def p_chart(
     >>> round(float(ch.centre[0]), 3), round(float(ch.upper[0]), 4)
     (0.05, 0.1154)
     """
-    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=False)
+    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=False,
+                       set_aside=set_aside)
 
 
 def laney_p(
@@ -809,6 +872,7 @@ def laney_p(
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
     segment: Sequence[int] | np.ndarray | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Laney p′ chart (Laney 2002): p chart limits widened by sigma_z.
 
@@ -819,7 +883,7 @@ def laney_p(
     range spans a gap (see the module docstring).
     """
     return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=True,
-                       segment=segment)
+                       segment=segment, set_aside=set_aside)
 
 
 def u_chart(
@@ -829,13 +893,15 @@ def u_chart(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Defects-per-unit chart: u-bar = sum c / sum a, limits u-bar +- k sqrt(u-bar / a_i).
 
     The limits step with the area of opportunity a_i; LCL truncated at 0. Areas of 0 are dropped
     (nan) with a note.
     """
-    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=False)
+    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=False,
+                       set_aside=set_aside)
 
 
 def laney_u(
@@ -846,10 +912,11 @@ def laney_u(
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
     segment: Sequence[int] | np.ndarray | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Laney u′ chart: u chart limits widened by sigma_z (see :func:`laney_p`)."""
     return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=True,
-                       segment=segment)
+                       segment=segment, set_aside=set_aside)
 
 
 @dataclass(frozen=True)
@@ -865,12 +932,14 @@ def _count_chart(
     stage: Any,
     limits: str,
     sigma_multiple: float,
+    set_aside: Any = None,
 ) -> ControlChart:
     d = _as_counts(counts, "counts")
     m = d.size
     k = float(sigma_multiple)
     st = _check_common(m, stage, limits, k)
-    notes: list[str] = []
+    aside = _check_aside(set_aside, m)
+    notes: list[str] = _aside_note(aside, ranges=False)
 
     def fit(mask: np.ndarray) -> _CountFit:
         if not mask.any():
@@ -882,7 +951,8 @@ def _count_chart(
         pbar = float(d[mask].sum() / (size * mask.sum()))
         return _CountFit(size * pbar, math.sqrt(size * pbar * (1 - pbar)))
 
-    groups = _fit_groups(st, limits, np.ones(m, dtype=bool), fit, notes)
+    usable = np.ones(m, dtype=bool) if aside is None else ~aside
+    groups = _fit_groups(st, limits, usable, fit, notes)
     notes += _zero_sigma_note(groups, lambda r: r.sigma, "sigma")
     centre, sigma = _fill(groups, m, lambda r, idx: (r.centre, r.sigma))
     lower, upper = _limits(centre, sigma, k, floor=0.0, cap=size if kind == "np" else None)
@@ -918,6 +988,7 @@ def _count_chart(
         sizes=sizes,
         extras=extras,
         notes=tuple(notes),
+        set_aside=aside,
     )
 
 
@@ -928,6 +999,7 @@ def np_chart(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Number-defective chart for a constant number checked n.
 
@@ -950,7 +1022,7 @@ def np_chart(
         raise StatsError(
             f"defectives cannot exceed the number checked ({n:g}) at positions {_positions(d > n)}"
         )
-    return _count_chart("np", d, n, stage, limits, sigma_multiple)
+    return _count_chart("np", d, n, stage, limits, sigma_multiple, set_aside)
 
 
 def c_chart(
@@ -959,6 +1031,7 @@ def c_chart(
     stage: Sequence[int] | np.ndarray | None = None,
     limits: str = "baseline",
     sigma_multiple: float = 3.0,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Defect-count chart for a constant area of opportunity: c-bar +- k sqrt(c-bar), LCL >= 0.
 
@@ -966,7 +1039,7 @@ def c_chart(
     >>> float(ch.lower[0]), float(ch.upper[0])
     (4.0, 28.0)
     """
-    return _count_chart("c", counts, None, stage, limits, sigma_multiple)
+    return _count_chart("c", counts, None, stage, limits, sigma_multiple, set_aside)
 
 
 CHART_FUNCTIONS: dict[str, Callable[..., ControlChart]] = {

@@ -69,6 +69,8 @@ class ControlChart:
     secondary:     the companion dispersion chart (mR, R or S) where there is one.
     extras:        chart-specific figures, e.g. {"sigma_z": 1.54} for Laney charts.
     notes:         plain sentences on degenerate handling.
+    set_aside:     boolean mask of the points set aside (a known cause found and removed):
+                   left out of every fit and never judged by the signal rules; None when none.
     """
 
     kind: str
@@ -86,6 +88,8 @@ class ControlChart:
     secondary: ControlChart | None = None
     extras: dict[str, float | str | None] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
+    # written to results.json only when some point is set aside
+    set_aside: np.ndarray | None = field(default=None, metadata={"json": "omit-none"})
 
 
 @dataclass(frozen=True)

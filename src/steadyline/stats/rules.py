@@ -292,6 +292,10 @@ def _chart_signals(
     stage = np.asarray(chart.stage, dtype=int)
     z = _zscores(chart)
     ok = ~(np.isnan(v) | np.isnan(c) | np.isnan(s))
+    if chart.set_aside is not None:
+        # a point set aside (its cause found and removed) is not judged, and the points either
+        # side of it are judged as neighbours, as around a point with no value
+        ok &= ~np.asarray(chart.set_aside, dtype=bool)
     signals: list[Signal] = []
     if v.size == 0:
         return signals
@@ -326,7 +330,8 @@ def detect_signals(
 ) -> tuple[Signal, ...]:
     """All signals of ``rule_set`` on ``chart`` and (beyond-limits only) on its secondary chart.
 
-    ``only_stage`` restricts the search to the points of one stage. Signals are sorted by chart
+    ``only_stage`` restricts the search to the points of one stage. Points the chart sets aside
+    (``chart.set_aside``) are skipped like points with no value. Signals are sorted by chart
     ("main" first), then by their first point.
 
     >>> from steadyline.stats.control import c_chart

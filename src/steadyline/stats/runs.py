@@ -286,17 +286,29 @@ def analyse_runs(
     values: Sequence[float] | np.ndarray,
     rule_set: str = "anhoj",
     median: float | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> RunChartAnalysis:
     """Analyse a run chart with the Anhøj rules (default) or the Perla et al. rules.
 
     ``median`` may be given to judge the points against a fixed centre line (e.g. the baseline
     median when looking at after-improvement data); otherwise it is the median of the values.
+    ``set_aside`` marks points whose known cause was found and removed: like missing values
+    they are left out of the median (when it is not given), the runs and the crossings, and
+    the points either side of one are neighbours.
     """
     if rule_set not in RULE_SETS:
         raise StatsError(f"unknown run-chart rule set {rule_set!r}; choose 'anhoj' or 'perla'")
     x = _as_array(values)
     n = int(len(x))
     finite = np.isfinite(x)
+    n_aside = 0
+    if set_aside is not None:
+        aside = np.asarray(set_aside, dtype=bool)
+        if aside.shape != x.shape:
+            raise StatsError(f"set_aside must give one true/false per point ({n}), "
+                             f"got {aside.size}")
+        n_aside = int((aside & finite).sum())
+        finite = finite & ~aside
     n_finite = int(finite.sum())
     if n_finite == 0:
         raise StatsError("a run chart needs at least one data point, got none")
@@ -308,9 +320,12 @@ def analyse_runs(
         if not math.isfinite(centre):
             raise StatsError("the reference median must be a finite number")
         notes.append(f"Points are judged against a fixed median of {_sig(centre)}.")
-    if n_finite < n:
-        k = n - n_finite
+    if n_finite + n_aside < n:
+        k = n - n_finite - n_aside
         notes.append(f"{_count(k, 'missing value')} {_are(k)} left out of the analysis.")
+    if n_aside:
+        notes.append(f"{_count(n_aside, 'point')} set aside {_are(n_aside)} left out of the "
+                     "runs and crossings.")
 
     useful_mask = finite & (x != centre)
     useful_idx = np.flatnonzero(useful_mask)
