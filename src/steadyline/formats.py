@@ -85,6 +85,26 @@ def cell_text(v, date_format: str | None = None) -> str:
     return str(v).strip()
 
 
+def column_text(column: list, date_format: str | None = None) -> list[str]:
+    """:func:`cell_text` of every cell of a column, in bulk when the column holds one kind of
+    value (the common case: a sheet's column of numbers or of dates; a 100,000-row column took
+    a third of a second cell by cell)."""
+    kinds = set(map(type, column))
+    if kinds == {str}:
+        return list(map(str.strip, column))
+    if kinds == {float}:
+        texts = np.array(list(map(repr, column)), dtype=object)
+        a = np.array(column, dtype=float)
+        whole = (a == np.floor(a)) & (np.abs(a) < 2**53)
+        if whole.any():
+            texts[whole] = a[whole].astype(np.int64).astype(str).astype(object)
+        return texts.tolist()
+    if not date_format and kinds and kinds <= {dt.datetime, dt.date}:
+        # (a workbook's date-time at midnight comes as a date)
+        return [v.isoformat() for v in column]
+    return [cell_text(v, date_format) for v in column]
+
+
 def _is_number(v) -> bool:
     return isinstance(v, int | float | np.integer | np.floating) and not isinstance(v, bool)
 
@@ -189,25 +209,29 @@ def read_workbook(raw: bytes, needed: list[str] | None, out,
         out.add(header_row, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
                 "appear more than once; give each column its own name")
         return None
-    body = [(header_row + i, r) for i, r in enumerate(rows[1:], start=1)
-            if any(c != "" for c in r)]
-    if not body:
+    # The range is a rectangle: every row has the header's width. Rows holding nothing are
+    # skipped, as blank lines of a CSV file are.
+    blank = [""] * len(rows[0])
+    kept = [i for i in range(1, len(rows)) if rows[i] != blank]
+    if not kept:
         out.add(header_row, "", "the sheet has a header but no data rows")
         return None
+    body = rows[1:] if len(kept) == len(rows) - 1 else [rows[i] for i in kept]
+    lines = header_row + np.array(kept)
     wanted = [(j, h) for j, h in named if needed is None or h in needed]
+    columns = list(zip(*body, strict=True)) if wanted else []
     time_col = spec.time
-    date_format = spec.csv.date_format
     cells: dict[str, list[str]] = {}
     for j, h in wanted:
-        column = [r[j] if j < len(r) else "" for _, r in body]
+        column = list(columns[j])
         if h == time_col:
-            out.number_cells[h] = [line for (line, _), v in zip(body, column, strict=True)
-                                   if _is_number(v)]
-            cells[h] = [cell_text(v, date_format) for v in column]
+            if any(t in (int, float) for t in set(map(type, column))):
+                out.number_cells[h] = lines[[_is_number(v) for v in column]].tolist()
+            cells[h] = column_text(column, spec.csv.date_format)
         else:
-            cells[h] = [cell_text(v) for v in column]
+            cells[h] = column_text(column)
     df = pd.DataFrame(cells, columns=[h for _, h in wanted], dtype=str)
-    df.index = np.array([line for line, _ in body])
+    df.index = lines
     return df, header
 
 
@@ -289,7 +313,7 @@ def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
         if pa.types.is_dictionary(col.type):
             col = col.cast(col.type.value_type)
         fmt = date_format if roles.get(h) == "time" else None
-        cells[h] = [cell_text(v, fmt) for v in col.to_pylist()]
+        cells[h] = column_text(col.to_pylist(), fmt)
     df = pd.DataFrame(cells, columns=wanted, dtype=str)
     df.index = np.arange(1, table.num_rows + 1)
     return df, header
