@@ -371,7 +371,7 @@ def bench_workbook(work: Path, n: int, rows_out: list):
     rows_out.append((f"a {n:,}-row workbook ({size}, 3 columns): read and checked",
                      f"{wsecs:.2f} s", f"the same data as CSV {csecs:.2f} s",
                      f"{wsecs / csecs:.1f}x", "none set"))
-    rows_out.append((f"the same workbook's sheet read by python-calamine (the reader used)",
+    rows_out.append(("the same workbook's sheet read by python-calamine (the reader used)",
                      f"{ksecs:.2f} s", f"openpyxl, read-only and values only {osecs:.2f} s",
                      f"{ksecs / osecs:.2f}x", "none set"))
     shutil.rmtree(root)

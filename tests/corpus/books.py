@@ -20,7 +20,7 @@ def xlsx(sheets: dict[str, list[list]], *, at: str = "A1") -> bytes:
     """A workbook of {sheet name: rows} (the first row the header), the first sheet first; the
     rows start at cell *at* of each sheet."""
     import openpyxl
-    from openpyxl.utils.cell import coordinate_from_string, column_index_from_string
+    from openpyxl.utils.cell import column_index_from_string, coordinate_from_string
 
     col, row = coordinate_from_string(at)
     c0 = column_index_from_string(col)
