@@ -218,3 +218,38 @@ def test_demo_workbook_and_parquet_file_are_written_deterministically():
     assert cells(committed.read_bytes()) == cells(paint[0])
     shipped = pq.read_table(ROOT / "projects" / "frame-weld-porosity" / "weld_inspection.parquet")
     assert shipped.equals(pq.read_table(pa.BufferReader(weld[0])))
+
+
+def test_damaged_workbooks_give_a_problem_never_an_exception(tmp_path):
+    """Bytes changed at random inside the parts of a valid workbook (its zip archive intact):
+    each read either succeeds or ends in problems naming the file; nothing else escapes."""
+    import io
+    import random
+    import zipfile
+
+    from steadyline.errors import ProjectError
+
+    z = zipfile.ZipFile(io.BytesIO(xlsx({"Audit": good_rows()})))
+    parts = {i.filename: z.read(i.filename) for i in z.infolist()}
+    rnd = random.Random(7)
+    root = write(tmp_path / "projects", {"p/project.toml": meta(metric={"file": "data.xlsx"})})
+    settings, _ = load_portfolio(root)
+    outcomes = set()
+    for _ in range(60):
+        name = rnd.choice(sorted(parts))
+        data = bytearray(parts[name])
+        for _ in range(rnd.randint(1, 4)):
+            data[rnd.randrange(len(data))] = rnd.randrange(256)
+        out = io.BytesIO()
+        with zipfile.ZipFile(out, "w") as w:
+            for n, d in parts.items():
+                w.writestr(n, bytes(data) if n == name else d)
+        (root / "p" / "data.xlsx").write_bytes(out.getvalue())
+        spec, _ = load_project(root / "p", root, settings)
+        try:
+            load_metric(spec.metrics[0], settings)
+            outcomes.add("read")
+        except ProjectError as e:
+            assert all(p.path == "p/data.xlsx" for p in e.problems), e.problems
+            outcomes.add("refused")
+    assert outcomes == {"read", "refused"}
