@@ -100,7 +100,13 @@ def column_text(column: list, date_format: str | None = None) -> list[str]:
             texts[whole] = a[whole].astype(np.int64).astype(str).astype(object)
         return texts.tolist()
     if not date_format and kinds and kinds <= {dt.datetime, dt.date}:
-        # (a workbook's date-time at midnight comes as a date)
+        # Naive dates and date-times (a workbook's date-time at midnight comes as a date),
+        # written by numpy in one pass: ISO 8601 to the second, or to the microsecond when any
+        # has a fraction of a second. A date at midnight reads the same as the date alone.
+        if not any(getattr(v, "tzinfo", None) is not None for v in column):
+            a = np.array(column, dtype="datetime64[us]")
+            unit = "s" if (a == a.astype("datetime64[s]")).all() else "us"
+            return np.datetime_as_string(a, unit=unit).astype(object).tolist()
         return [v.isoformat() for v in column]
     return [cell_text(v, date_format) for v in column]
 
