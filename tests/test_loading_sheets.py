@@ -253,3 +253,23 @@ def test_damaged_workbooks_give_a_problem_never_an_exception(tmp_path):
             assert all(p.path == "p/data.xlsx" for p in e.problems), e.problems
             outcomes.add("refused")
     assert outcomes == {"read", "refused"}
+
+
+def test_start_reads_a_parquet_file_past_columns_of_lists(tmp_path):
+    """`steadyline start` reads every column of a file: a Parquet column of lists (no single
+    values, nothing to guess from) is passed over, not a reason to refuse the file."""
+    import tomllib
+
+    from steadyline.cli import main
+
+    folder = tmp_path / "projects" / "weld"
+    folder.mkdir(parents=True)
+    (folder / "data.parquet").write_bytes(parquet({
+        "date": pa.array([dt.date.fromisoformat(d) for d in dates(30)]),
+        "tags": pa.array([["a"]] * 30), "value": pa.array(VALUES)}))
+    assert main(["start", str(folder / "data.parquet"), "--quiet"]) == 0
+    meta_ = tomllib.loads((folder / "project.toml").read_text(encoding="utf-8"))
+    m = meta_["metric"][0]
+    assert (m["file"], m["type"], m["time"], m["value"]) == ("data.parquet", "continuous",
+                                                             "date", "value")
+    assert "sheet" not in m and "csv" not in m

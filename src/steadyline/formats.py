@@ -295,7 +295,10 @@ def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
         out.add(None, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
                 "appear more than once; give each column its own name")
         return None
-    wanted = [h for h in header if needed is None or h in needed]
+    if needed is None:  # every column (steadyline start): those that hold single values
+        wanted = [h for h in header if _type_fault("", schema.field(h).type) is None]
+    else:
+        wanted = [h for h in header if h in needed]
     bad = False
     for h in wanted:
         why = _type_fault(roles.get(h, ""), schema.field(h).type)
