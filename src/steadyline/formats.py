@@ -46,17 +46,21 @@ _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 UNPACKED_RATIO = 20
 
 
+def _suffix(name: str) -> str:
+    """The ending of a file name or path, lower-cased (".xlsx"), or ""."""
+    base = name.replace("\\", "/").rsplit("/", 1)[-1]
+    return "." + base.rsplit(".", 1)[-1].lower() if "." in base else ""
+
+
 def data_format(name: str) -> str:
     """csv, workbook or parquet, by the file name's ending (any case); a name with any other
     ending is read as CSV text, as before."""
-    suffix = "." + name.rsplit(".", 1)[-1].lower() if "." in name else ""
-    return _SUFFIXES.get(suffix, CSV)
+    return _SUFFIXES.get(_suffix(name), CSV)
 
 
 def unread_sheet_kind(name: str) -> str | None:
     """What a spreadsheet file that is not read is ("an OpenDocument spreadsheet"), or None."""
-    suffix = "." + name.rsplit(".", 1)[-1].lower() if "." in name else ""
-    return _OTHER_SHEETS.get(suffix)
+    return _OTHER_SHEETS.get(_suffix(name))
 
 
 def cell_text(v, date_format: str | None = None) -> str:

@@ -384,7 +384,9 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
                 f"{settings.max_file_mb:g} MB (max_file_mb in portfolio.toml); roll the data up "
                 "before committing it, or raise max_file_mb")
         return None
-    kind = formats.data_format(path.name)
+    # the kind by the name project.toml gives (a link is read as what it is named, as the
+    # metadata's checks judged it)
+    kind = formats.data_format(spec.file_rel)
     if kind != formats.CSV:
         try:
             raw = files.read_bytes(path)  # read-only, and only a regular file
@@ -507,7 +509,7 @@ def _require_column(cols: list[str], key: str, col: str | None, spec: MetricSpec
     if guess:
         hint = f"; did you mean '{guess[0]}'?"
     elif (len(cols) == 1 and any(c in cols[0] for c in ";,\t|")
-          and formats.data_format(spec.file.name) == formats.CSV):
+          and formats.data_format(spec.file_rel) == formats.CSV):
         sep = next(c for c in ";\t|," if c in cols[0])
         hint = (f"; the header was read as one column {cols[0]!r}: the file seems separated by "
                 f"{sep!r}; set [metric.csv] delimiter = {sep!r}")
