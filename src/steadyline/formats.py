@@ -25,11 +25,15 @@ import difflib
 import io
 import zipfile
 from decimal import Decimal
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
-import pyarrow as pa
-import pyarrow.parquet as pq
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+# pandas, pyarrow and python-calamine are imported where a file is read: config imports this
+# module for data_format, and the index's status needs none of them (tests/test_status.py).
 
 CSV, WORKBOOK, PARQUET = "csv", "workbook", "parquet"
 _SUFFIXES = {".xlsx": WORKBOOK, ".parquet": PARQUET, ".pq": PARQUET}
@@ -65,7 +69,7 @@ def unread_sheet_kind(name: str) -> str | None:
 
 def cell_text(v, date_format: str | None = None) -> str:
     """One cell of a workbook or Parquet file as a CSV file would hold it."""
-    if v is None or v is pd.NaT or v is pd.NA:
+    if v is None or type(v).__name__ in ("NaTType", "NAType"):  # pandas' missing values
         return ""
     if isinstance(v, str):
         return v.strip()
@@ -176,6 +180,7 @@ def read_workbook(raw: bytes, needed: list[str] | None, out,
     The table is the sheet's used range: its first row is the header, rows holding nothing are
     skipped (as blank lines of a CSV file are), columns without a name are left out. Only the
     *needed* columns' cells are made into text (all when None)."""
+    import pandas as pd
     import python_calamine as pc
 
     why = _workbook_fault(raw, limit_bytes)
@@ -256,8 +261,11 @@ def _short(e: Exception) -> str:
 _NUMBER_ROLES = {"value", "count", "size"}
 
 
-def _type_fault(role: str, t: pa.DataType) -> str | None:
-    """Why a Parquet column of type *t* cannot serve as the metric's *role* column, or None."""
+def _type_fault(role: str, t) -> str | None:
+    """Why a Parquet column of (pyarrow) type *t* cannot serve as the metric's *role* column,
+    or None."""
+    import pyarrow as pa
+
     if pa.types.is_dictionary(t):
         t = t.value_type
     text = (pa.types.is_string(t) or pa.types.is_large_string(t)
@@ -285,6 +293,10 @@ def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
     column names), or None with the problem added to *out*. *roles* maps each needed column to
     the metric's key naming it (time, value, ...): a column of a type that cannot serve it is
     refused with one line before anything else is read."""
+    import pandas as pd
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
     out.header_line = None
     out.records = True
     try:
