@@ -19,7 +19,9 @@ Figures:
    and the same for a 300 MB file of 16 columns (target: within 2 GB), and the time to refuse a
    file of a million columns (target: under a second) against reading its bytes once;
 5. all statistics of a 10^6-row metric against a plain pandas read of the same file (target:
-   under one second).
+   under one second);
+6. reading and checking a 100,000-row workbook against the same data as a CSV file, and the
+   workbook reader used against openpyxl reading the same sheet.
 Results go to stdout and to benchmarks/out/results.md.
 """
 
@@ -299,6 +301,82 @@ def bench_stats(work: Path, n: int, rows_out: list):
                      f"pandas read {read_secs:.2f} s", f"{secs / read_secs:.1f}x", "under 1 s"))
 
 
+def _write_workbook_pair(root: Path, n: int) -> tuple[Path, Path]:
+    """The same *n* rows (a date-time, a measured value, a shift name) as a workbook (dates as
+    spreadsheet dates, values as numbers) and as a CSV file, each in its own project."""
+    import numpy as np
+    import openpyxl
+    import pandas as pd
+
+    rng = np.random.default_rng(11)
+    start = pd.Timestamp("2026-01-05 06:00")
+    minutes = np.sort(rng.integers(0, 330 * 24 * 60, n))
+    times = [start + pd.Timedelta(minutes=int(m)) for m in minutes]
+    values = np.round(20 + rng.normal(0, 1, n), 3).tolist()
+    shifts = [("early", "late", "night")[i % 3] for i in range(n)]
+    paths = []
+    for kind in ("xlsx", "csv"):
+        folder = root / kind
+        folder.mkdir(parents=True)
+        (folder / "project.toml").write_text(
+            f'title = "Workbook {kind}"\nowner = "Bench"\nphase = "measure"\n'
+            f'problem = "Reading speed."\n\n[[metric]]\nid = "m"\nname = "M"\n'
+            f'file = "data.{kind}"\ntype = "continuous"\ntime = "t"\nvalue = "v"\n'
+            f'better = "lower"\n\n[metric.rollup]\nperiod = "day"\nstatistic = "mean"\n')
+        path = folder / f"data.{kind}"
+        if kind == "csv":
+            pd.DataFrame({"t": [t.strftime("%Y-%m-%dT%H:%M") for t in times], "v": values,
+                          "shift": shifts}).to_csv(path, index=False)
+        else:
+            wb = openpyxl.Workbook(write_only=True)
+            ws = wb.create_sheet("Data")
+            ws.append(["t", "v", "shift"])
+            for row in zip((t.to_pydatetime() for t in times), values, shifts, strict=True):
+                ws.append(row)
+            wb.save(path)
+        paths.append(path)
+    return paths[0], paths[1]
+
+
+def bench_workbook(work: Path, n: int, rows_out: list):
+    """Reading and checking a metric of *n* rows from a workbook, against the same data as a
+    CSV file, in one process (the median of five reads of each, alternating); and the reader
+    chosen (python-calamine) against openpyxl's fastest mode (read-only, values only) reading
+    the same sheet."""
+    root = work / "workbook"
+    xlsx, csv = _write_workbook_pair(root, n)
+    code = (f"from pathlib import Path\nimport statistics, time\n"
+            f"from steadyline.config import load_portfolio, load_project\n"
+            f"from steadyline.loading import load_metric\nimport openpyxl, python_calamine\n"
+            f"root = Path({str(root)!r})\ns, _ = load_portfolio(root)\n"
+            f"specs = {{k: load_project(root / k, root, s)[0].metrics[0] for k in "
+            f"('xlsx', 'csv')}}\nt = {{'xlsx': [], 'csv': [], 'openpyxl': [], 'calamine': []}}\n"
+            f"for _ in range(5):\n"
+            f"    for k in ('xlsx', 'csv'):\n"
+            f"        t0 = time.perf_counter()\n        load_metric(specs[k], s)\n"
+            f"        t[k].append(time.perf_counter() - t0)\n"
+            f"    t0 = time.perf_counter()\n"
+            f"    wb = openpyxl.load_workbook({str(xlsx)!r}, read_only=True, data_only=True)\n"
+            f"    rows = list(wb['Data'].iter_rows(values_only=True))\n    wb.close()\n"
+            f"    t['openpyxl'].append(time.perf_counter() - t0)\n"
+            f"    t0 = time.perf_counter()\n"
+            f"    rows = python_calamine.CalamineWorkbook.from_path({str(xlsx)!r})"
+            f".get_sheet_by_name('Data').to_python()\n"
+            f"    t['calamine'].append(time.perf_counter() - t0)\n"
+            f"print(*(statistics.median(t[k]) for k in ('xlsx', 'csv', 'openpyxl', 'calamine')))\n")
+    out = subprocess.run([sys.executable, "-c", code], env=ENV, capture_output=True,
+                         text=True, check=True).stdout.split()
+    wsecs, csecs, osecs, ksecs = (float(x) for x in out)
+    size = f"{xlsx.stat().st_size / 1e6:.1f} MB; CSV {csv.stat().st_size / 1e6:.1f} MB"
+    rows_out.append((f"a {n:,}-row workbook ({size}, 3 columns): read and checked",
+                     f"{wsecs:.2f} s", f"the same data as CSV {csecs:.2f} s",
+                     f"{wsecs / csecs:.1f}x", "none set"))
+    rows_out.append(("the same workbook's sheet read by python-calamine (the reader used)",
+                     f"{ksecs:.2f} s", f"openpyxl, read-only and values only {osecs:.2f} s",
+                     f"{ksecs / osecs:.2f}x", "none set"))
+    shutil.rmtree(root)
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--quick", action="store_true", help="small sizes, to check the script")
@@ -311,6 +389,7 @@ def main() -> None:
         work = Path(tmp)
         if a.quick:
             bench_stats(work, 100_000, rows)
+            bench_workbook(work, 20_000, rows)
             bench_rows(work, [1_000, 10_000, 100_000], rows)
             bench_large_file(work, 20, rows)
             bench_many_columns(work, 100_000, rows)
@@ -318,6 +397,7 @@ def main() -> None:
                 bench_portfolio(work, 6, 3, 2_000, rows)
         else:
             bench_stats(work, 1_000_000, rows)
+            bench_workbook(work, 100_000, rows)
             top = 7 if a.max_rows is None else round(math.log10(a.max_rows))
             bench_rows(work, [10**k for k in range(3, top + 1)], rows)
             bench_large_file(work, 300, rows)

@@ -3,7 +3,9 @@
 
 "Kestrel Cycle Works" is a fictional contract manufacturer of bicycle wheels, hubs and frames
 running an improvement programme in 2026. Every project folder written here follows the project
-folder format (project.toml, CSV files, notes.md) and every number is simulated.
+folder format (project.toml, data files, notes.md) and every number is simulated. Most data
+files are CSV; one is an Excel workbook and one a Parquet file, as exported by the systems that
+hold such data.
 
 Run from the repository root:
 
@@ -11,9 +13,13 @@ Run from the repository root:
     python scripts/generate_demo.py --check    # also print a summary of the planted signals
 
 Output is deterministic: each project draws from its own numpy Generator seeded with a fixed
-value, floats are written with explicit formats, and files use "\\n" line endings, so two runs
-give byte-identical files. Only the project folders named here and projects/portfolio.toml are
-(re)written; a project folder is emptied before it is written, so no stale files remain.
+value, floats are written with explicit formats, files use "\\n" line endings, and every
+timestamp inside the workbook and the Parquet file is pinned, so two runs give byte-identical
+files (the Parquet file names the pyarrow version that wrote it, and the workbook is compressed
+by zlib: the same versions give the same bytes). Writing the workbook needs openpyxl (the
+"demo" extra: pip install -e ".[demo]"). Only the project folders named here and
+projects/portfolio.toml are (re)written; a project folder is emptied before it is written, so no
+stale files remain.
 """
 
 from __future__ import annotations
@@ -90,6 +96,60 @@ def csv_text(header: Sequence[str], rows: Iterable[Sequence[object]], delimiter:
         assert all(isinstance(c, str) for c in row), row
         w.writerow(row)
     return ("\ufeff" if bom else "") + buf.getvalue()
+
+
+# Every timestamp a workbook or Parquet file could carry is this one, so that two runs give
+# the same bytes: the zip entries' dates and the workbook's created and modified properties.
+PINNED = dt.datetime(2026, 1, 5, 0, 0, 0)
+
+
+def xlsx_bytes(sheets: Sequence[tuple[str, Sequence[str], Sequence[Sequence[object]]]]) -> bytes:
+    """An .xlsx workbook of (sheet name, header, rows) sheets, first sheet first; dates are
+    written as spreadsheet dates, numbers as numbers. openpyxl (the optional "demo" extra)
+    writes it; its zip archive is then written again with every entry's date pinned and the
+    document properties' times replaced by PINNED."""
+    import re
+    import zipfile
+
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    for i, (name, header, rows) in enumerate(sheets):
+        ws = wb.active if i == 0 else wb.create_sheet()
+        ws.title = name
+        ws.append(list(header))
+        for row in rows:
+            ws.append(list(row))
+    wb.properties.creator = "Kestrel Cycle Works"
+    wb.properties.created = wb.properties.modified = PINNED
+    buf = io.BytesIO()
+    wb.save(buf)
+    stamp = PINNED.strftime("%Y-%m-%dT%H:%M:%SZ").encode()
+    out = io.BytesIO()
+    with zipfile.ZipFile(buf) as src, zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info in src.infolist():
+            data = src.read(info.filename)
+            if info.filename == "docProps/core.xml":
+                data = re.sub(rb"(<dcterms:(?:created|modified)[^>]*>)[^<]*", rb"\g<1>" + stamp,
+                              data)
+            pinned = zipfile.ZipInfo(info.filename, date_time=PINNED.timetuple()[:6])
+            pinned.compress_type = zipfile.ZIP_DEFLATED
+            pinned.create_system = 3
+            pinned.external_attr = 0o644 << 16
+            dst.writestr(pinned, data)
+    return out.getvalue()
+
+
+def parquet_bytes(columns: dict[str, object]) -> bytes:
+    """A Parquet file of pyarrow arrays, one row group. It holds no timestamp of its own; its
+    footer names the writing library's version ("created_by"), the same on every run with the
+    same pyarrow."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    buf = pa.BufferOutputStream()
+    pq.write_table(pa.table(columns), buf, compression="snappy")
+    return buf.getvalue().to_pybytes()
 
 
 def f1(x: float) -> str:
@@ -586,7 +646,7 @@ def paint_finish_defects() -> dict[str, str]:
         frames = int(rng.integers(40, 121))
         c = int(rng.poisson(u * frames))
         batch = f"PB-{2600 + i:04d}"
-        batch_rows.append([batch, day.isoformat(), str(frames), str(c)])
+        batch_rows.append([batch, day, frames, c])
         cats = rng.choice(len(PAINT_CATEGORIES), size=c, p=probs)
         for k in cats:
             n_def += 1
@@ -613,7 +673,8 @@ def paint_finish_defects() -> dict[str, str]:
         ],
         "metric": [
             {"id": "defects-per-frame", "name": "Finish defects per frame",
-             "file": "paint_batches.csv", "type": "defects", "time": "painted",
+             "file": "paint_batches.xlsx", "sheet": "Batches", "type": "defects",
+             "time": "painted",
              "count": "defects", "size": "frames_painted", "unit": "defects per frame",
              "better": "lower", "headline": True},
             {"id": "scanner-blemishes", "name": "Scanner blemishes per square metre",
@@ -648,7 +709,8 @@ at air handling in the booth rather than at the powder or the gun settings.
 | Share of dust inclusions | about 35 % | about 13 % |
 | Defect types logged | 10 | 10 |
 
-Batch totals are in [paint_batches.csv](paint_batches.csv), single defects in
+Batch totals are in the workbook [paint_batches.xlsx](paint_batches.xlsx) (sheet "Batches"),
+single defects in
 [paint_defects.csv](paint_defects.csv).
 """
     scan_rng = rng_for(60)  # a stream of its own: the other files stay as they were
@@ -665,8 +727,11 @@ Batch totals are in [paint_batches.csv](paint_batches.csv), single defects in
     return {"project.toml": toml_text(meta),
             "paint_scanner_weekly.csv": csv_text(["week_start", "area_m2", "blemishes"],
                                                  scan_rows),
-            "paint_batches.csv": csv_text(["batch_id", "painted", "frames_painted", "defects"],
-                                          batch_rows),
+            "paint_batches.xlsx": xlsx_bytes([
+                ("Batches", ["batch_id", "painted", "frames_painted", "defects"], batch_rows),
+                ("About", ["note"], [["One row per powder-coating batch: the day it was "
+                                      "painted, frames painted, finish defects found at final "
+                                      "inspection."]])]),
             "paint_defects.csv": csv_text(["defect_id", "batch_id", "found", "frame_in_batch",
                                            "defect_type"], defect_rows),
             "notes.md": notes}
@@ -845,7 +910,7 @@ def frame_weld_porosity() -> dict[str, str]:
                                                                            strict=True))
         for t, flag in zip(stamps, flags, strict=True):
             n_frame += 1
-            rows.append([f"AF-{260000 + n_frame}", iso_dt(t), "1" if flag else "0"])
+            rows.append([f"AF-{260000 + n_frame}", t, 1 if flag else 0])
     meta = {
         "title": "Frame weld porosity",
         "owner": "Fatima Al-Sayed",
@@ -863,7 +928,7 @@ def frame_weld_porosity() -> dict[str, str]:
         ],
         "metric": [
             {"id": "porosity-rate", "name": "Frames with weld porosity",
-             "file": "weld_inspection.csv", "type": "defectives", "time": "inspected",
+             "file": "weld_inspection.parquet", "type": "defectives", "time": "inspected",
              "value": "porosity_found", "unit": "frames", "better": "lower",
              "headline": True, "rollup": {"period": "week", "statistic": "proportion"}},
         ],
@@ -888,12 +953,23 @@ Porous joints are being sectioned to separate gas-related porosity from contamin
 | Gas flow at cell 2 | flow meter reads low at full manifold load |
 | Fit-up gap at the chainstay | not yet checked |
 
-Inspection records: [weld_inspection.csv](weld_inspection.csv).
+Inspection records (a Parquet file exported from the inspection system):
+[weld_inspection.parquet](weld_inspection.parquet).
 """
     return {"project.toml": toml_text(meta),
-            "weld_inspection.csv": csv_text(["frame_serial", "inspected", "porosity_found"],
-                                            rows),
+            "weld_inspection.parquet": _weld_parquet(rows),
             "notes.md": notes}
+
+
+def _weld_parquet(rows: list[list]) -> bytes:
+    """The inspection records as an inspection system exports them: the serial as text, the
+    time as a timestamp (to the second), the flag as a small integer."""
+    import pyarrow as pa
+
+    serial, inspected, flag = zip(*rows, strict=True)
+    return parquet_bytes({"frame_serial": pa.array(serial, pa.string()),
+                          "inspected": pa.array(inspected, pa.timestamp("s")),
+                          "porosity_found": pa.array(flag, pa.int8())})
 
 
 PROJECT_BUILDERS: dict[str, Callable[[], dict[str, str]]] = {
@@ -931,7 +1007,10 @@ def write_all(out: Path, projects: dict[str, dict[str, str]]) -> None:
             shutil.rmtree(folder)
         folder.mkdir()
         for name, text in files.items():
-            (folder / name).write_text(text, encoding="utf-8", newline="\n")
+            if isinstance(text, bytes):  # a workbook or a Parquet file
+                (folder / name).write_bytes(text)
+            else:
+                (folder / name).write_text(text, encoding="utf-8", newline="\n")
 
 
 # --------------------------------------------------------------------------------------------
@@ -955,6 +1034,11 @@ def check(out: Path) -> None:
 
     def read(slug, m):
         opts = m.get("csv", {})
+        if m["file"].endswith(".xlsx"):
+            return pd.read_excel(out / slug / m["file"], sheet_name=m.get("sheet", 0),
+                                 engine="calamine")
+        if m["file"].endswith(".parquet"):
+            return pd.read_parquet(out / slug / m["file"])
         return pd.read_csv(out / slug / m["file"], sep=opts.get("delimiter", ","),
                            decimal=opts.get("decimal", "."), encoding="utf-8-sig")
 

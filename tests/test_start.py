@@ -23,7 +23,8 @@ from steadyline.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "projects"
-DATA_FILES = sorted(p.relative_to(DEMO).as_posix() for p in DEMO.glob("*/*.csv"))
+DATA_FILES = sorted(p.relative_to(DEMO).as_posix() for p in DEMO.glob("*/*")
+                    if p.suffix in (".csv", ".xlsx", ".parquet"))
 COLUMNS = ("time", "value", "subgroup", "count", "size", "category")
 
 
@@ -50,6 +51,7 @@ def started(tmp_path: Path, rel: str, *args: str) -> tuple[Path, dict]:
 
 def test_every_demo_data_file_is_tried():
     assert len(DATA_FILES) >= 13
+    assert {Path(p).suffix for p in DATA_FILES} == {".csv", ".xlsx", ".parquet"}
 
 
 @pytest.mark.parametrize("rel", DATA_FILES)
@@ -75,7 +77,8 @@ def test_guesses_match_the_demos_own_metadata(tmp_path, rel, capsys):
 
 @pytest.mark.parametrize("rel", ["order-picking-errors/picking_audit.csv",
                                  "frame-dropout-alignment/supplier_alignment_export.csv",
-                                 "frame-weld-porosity/weld_inspection.csv"])
+                                 "frame-weld-porosity/weld_inspection.parquet",
+                                 "paint-finish-defects/paint_batches.xlsx"])
 def test_every_guess_is_explained_in_a_comment(tmp_path, rel):
     folder, meta = started(tmp_path, rel)
     lines = (folder / "project.toml").read_text(encoding="utf-8").splitlines()

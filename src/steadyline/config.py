@@ -20,7 +20,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from . import files
+from . import files, formats
 from .errors import Problem, ProjectError, rel
 from .status import STALE_AFTER_DAYS
 from .vocab import ChartKind, DataType, RollupPeriod, RollupStatistic, RunRules, SignalRules
@@ -156,6 +156,7 @@ class MetricSpec:
     csv: CsvOptions = field(default_factory=CsvOptions)
     line: int | None = None  # line of its [[metric]] header in project.toml
     set_aside: tuple[SetAside, ...] = ()  # sorted by start, never overlapping
+    sheet: str | None = None  # a workbook's sheet to read (None: the first)
 
 
 @dataclass(frozen=True)
@@ -497,7 +498,8 @@ KEYS: dict[str, tuple[Key, ...]] = {
     "event": (Key("date", "date", required=True), Key("label", "text", required=True)),
     "metric": (
         Key("id", "id", required=True), Key("name", "text", required=True),
-        Key("file", "text", required=True), Key("type", "choice", DATA_TYPES, required=True),
+        Key("file", "text", required=True), Key("sheet", "text"),
+        Key("type", "choice", DATA_TYPES, required=True),
         Key("time", "text"), Key("value", "text"), Key("subgroup", "text"),
         Key("subgroup_size", "integer", minimum=1), Key("count", "text"), Key("size", "text"),
         Key("category", "text"), Key("unit", "text"),
@@ -847,7 +849,7 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     better = r.choice("better", BETTER, required=True)
     # folder None: the data come from elsewhere (a DataFrame, see metric_from_dict), no file
     file_ = r.text("file", required=folder is not None,
-                   what="the CSV file, relative to the project folder")
+                   what="the data file (CSV, .xlsx or .parquet), relative to the project folder")
     path = None
     if file_ is not None and folder is not None:
         p = folder / file_
@@ -855,13 +857,18 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
             ck.add(f"{prefix}file", f"{file_!r} points outside the project folder; metric files "
                    "must live inside it", r._line("file"))
         elif not files.exists(p):
-            near = difflib.get_close_matches(file_, sorted(x.name for x in folder.glob("*.csv")), 1)
+            near = difflib.get_close_matches(file_, sorted(
+                x.name for x in folder.iterdir()
+                if x.suffix.lower() in (".csv", ".xlsx", ".parquet")), 1)
             hint = f"; did you mean '{near[0]}'?" if near else ""
             ck.add(f"{prefix}file", f"the file {file_!r} does not exist{hint}", r._line("file"))
         elif (why := _file_fault(p, file_)) is not None:
             ck.add(f"{prefix}file", why, r._line("file"))
         else:
             path = p.resolve()
+    sheet = r.text("sheet")
+    if file_ is not None and folder is not None:
+        _check_format(ck, file_, sheet, m.get("csv"), prefix, r)
     cols = {k: r.text(k) for k in COLUMN_KEYS}
     subgroup_size = r.integer("subgroup_size", minimum=1)
     rollup = None
@@ -934,7 +941,7 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         quartiles=r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
         bins=bins, normal_curve=r.boolean("normal_curve"),
         baseline=own_baseline or comp_baseline, after=own_after or comp_after,
-        rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), **cols,
+        rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), sheet=sheet, **cols,
     )
     if "set_aside" in m:
         spec = replace(spec, set_aside=_set_aside(ck, m["set_aside"], i, spec))
@@ -1029,6 +1036,32 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
                    "no point would be left to compute the baseline from", line)
             return ()
     return tuple(kept)
+
+
+# [metric.csv] keys that say how text is stored, which a workbook or Parquet file does not have.
+_TEXT_ONLY_KEYS = ("delimiter", "encoding")
+
+
+def _check_format(ck: _Checker, file_: str, sheet: str | None, csv_table, prefix: str,
+                  r: _Reader) -> None:
+    """What the data file's kind (by its name's ending) allows: `sheet` only for a workbook;
+    a spreadsheet of a kind that is not read is named with what to do; the [metric.csv] keys
+    of text files do nothing for a workbook or Parquet file (a warning)."""
+    kind = formats.data_format(file_)
+    other = formats.unread_sheet_kind(file_)
+    if other is not None:
+        ck.add(f"{prefix}file", f"{file_!r} is {other}, which is not read; save it as an Excel "
+               "Workbook (.xlsx) or export the data as CSV", r._line("file"))
+    if sheet is not None and kind != formats.WORKBOOK:
+        ck.add(f"{prefix}sheet", f"'sheet' names a sheet of a workbook (.xlsx), but {file_!r} "
+               "is not one; remove the key", r._line("sheet"))
+    if kind != formats.CSV and isinstance(csv_table, dict):
+        what = "a workbook" if kind == formats.WORKBOOK else "a Parquet file"
+        for key in _TEXT_ONLY_KEYS:
+            if key in csv_table:
+                ck.add(f"{prefix}csv.{key}", f"has no effect on {what}: its cells are read as "
+                       "stored; remove the key", ck.loc.line_of(key, "metric", r.index, "csv"),
+                       severity="warning")
 
 
 def metric_from_dict(data: dict, settings: PortfolioSettings | None = None,

@@ -29,10 +29,14 @@ class Problem:
     """One problem found in the input.
 
     path:     the file (relative to the portfolio root when possible, for stable messages).
-    line:     1-based line number in that file where known (CSV rows: the physical line).
+    line:     1-based line number in that file where known (CSV rows: the physical line; a
+              workbook's or Parquet file's rows: the row number, see *sheet* and *rows*).
     where:    the key, column or row in words: "metric[2].spec_upper", "column 'value'".
     message:  what is wrong and what to do.
     severity: "error" stops the project building; "warning" is shown and the build goes on.
+    sheet:    the workbook's sheet the problem is in (shown as ``data.xlsx:sheet 'Audit' row
+              12:``), or None for a file that has no sheets.
+    rows:     *line* counts rows, not lines of text (a Parquet file: ``data.parquet:row 12:``).
     """
 
     path: str
@@ -40,12 +44,32 @@ class Problem:
     where: str
     message: str
     severity: str = "error"
+    sheet: str | None = None
+    rows: bool = False
 
     def format(self) -> str:
-        loc = self.path if self.line is None else f"{self.path}:{self.line}"
+        if self.sheet is not None:
+            loc = f"{self.path}:sheet {self.sheet!r}"
+            if self.line is not None:
+                loc += f" row {self.line}"
+        elif self.rows and self.line is not None:
+            loc = f"{self.path}:row {self.line}"
+        else:
+            loc = self.path if self.line is None else f"{self.path}:{self.line}"
         where = f" {self.where}:" if self.where else ""
         tag = "" if self.severity == "error" else f" {self.severity}:"
         return _visible(f"{loc}:{tag}{where} {self.message}")
+
+    def as_dict(self) -> dict:
+        """The fields as a manifest keeps them (``Problem(**d)`` gives the problem back); the
+        workbook's and Parquet file's fields only when set, so that a CSV file's problems are
+        kept as they always were."""
+        d = dict(self.__dict__)
+        if d["sheet"] is None:
+            del d["sheet"]
+        if not d["rows"]:
+            del d["rows"]
+        return d
 
     def __str__(self) -> str:  # pragma: no cover - convenience
         return self.format()

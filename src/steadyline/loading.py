@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from . import columns, files
+from . import columns, files, formats
 from .config import MetricSpec, Period, PortfolioSettings
 from .errors import Problem, ProjectError
 
@@ -99,14 +99,25 @@ class ByPeriod:
 
 
 class _Rows:
-    """Collects problems for one CSV file."""
+    """Collects problems for one data file.
+
+    A CSV file's rows are named by line; a workbook's by sheet and row (*sheet* set by
+    :func:`steadyline.formats.read_workbook`), a Parquet file's by row (*records*).
+    *header_line* is where the column names are (None: a Parquet file, which has no header
+    row); *number_cells* lists, per column, the rows whose cell a workbook stores as a number
+    (a time column's are refused with their own words)."""
 
     def __init__(self, spec: MetricSpec):
         self.spec = spec
         self.problems: list[Problem] = []
+        self.sheet: str | None = None
+        self.records = False
+        self.header_line: int | None = 1
+        self.number_cells: dict[str, list[int]] = {}
 
     def add(self, line: int | None, where: str, message: str, severity: str = "error"):
-        self.problems.append(Problem(self.spec.file_rel, line, where, message, severity))
+        self.problems.append(Problem(self.spec.file_rel, line, where, message, severity,
+                                     self.sheet, self.records))
 
     def rows(self, lines: list[int], where: str, message: str, severity: str = "error"):
         """One problem for a set of rows: the first line is the location, the rest are listed."""
@@ -114,7 +125,8 @@ class _Rows:
             return
         shown = ", ".join(str(x) for x in lines[:MAX_LISTED_ROWS])
         more = f" and {len(lines) - MAX_LISTED_ROWS} more" if len(lines) > MAX_LISTED_ROWS else ""
-        lines_txt = f" (lines {shown}{more})" if len(lines) > 1 else ""
+        word = "rows" if self.sheet is not None or self.records else "lines"
+        lines_txt = f" ({word} {shown}{more})" if len(lines) > 1 else ""
         self.add(lines[0], where, message + lines_txt, severity)
 
     @property
@@ -372,6 +384,20 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
                 f"{settings.max_file_mb:g} MB (max_file_mb in portfolio.toml); roll the data up "
                 "before committing it, or raise max_file_mb")
         return None
+    # the kind by the name project.toml gives (a link is read as what it is named, as the
+    # metadata's checks judged it)
+    kind = formats.data_format(spec.file_rel)
+    if kind != formats.CSV:
+        try:
+            raw = files.read_bytes(path)  # read-only, and only a regular file
+        except files.Unreadable as e:
+            out.add(None, "", str(e))
+            return None
+        if kind == formats.WORKBOOK:
+            out.records = True
+            return formats.read_workbook(raw, needed, out, limit)
+        roles = {c: k for k, c in _columns_of(spec).items() if c is not None}
+        return formats.read_parquet(raw, needed, roles, out)
     try:
         # read-only, and only a regular file: a named pipe put in its place would block for ever
         wide = _width_fault(path, spec)
@@ -482,13 +508,15 @@ def _require_column(cols: list[str], key: str, col: str | None, spec: MetricSpec
     guess = difflib.get_close_matches(col, cols, n=1, cutoff=0.6)
     if guess:
         hint = f"; did you mean '{guess[0]}'?"
-    elif len(cols) == 1 and any(c in cols[0] for c in ";,\t|"):
+    elif (len(cols) == 1 and any(c in cols[0] for c in ";,\t|")
+          and formats.data_format(spec.file_rel) == formats.CSV):
         sep = next(c for c in ";\t|," if c in cols[0])
         hint = (f"; the header was read as one column {cols[0]!r}: the file seems separated by "
                 f"{sep!r}; set [metric.csv] delimiter = {sep!r}")
     else:
         hint = f"; the file has columns: {', '.join(cols)}"
-    out.add(1, f"column '{col}'", f"not found (metric {spec.id!r}, key '{key}'){hint}")
+    out.add(out.header_line, f"column '{col}'",
+            f"not found (metric {spec.id!r}, key '{key}'){hint}")
     return False
 
 
@@ -760,6 +788,13 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
              f"{s[far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
              "charted; check the date" if far.any() else "")
     bad = t.isna() & ~blank & ~far
+    numbers = out.number_cells.get(col)
+    if numbers and bad.any():  # a workbook's cells stored as numbers, not dates
+        is_number = bad & df.index.isin(numbers)
+        out.rows(list(df.index[is_number]), f"column '{col}'",
+                 f"{s[is_number].iloc[0]!r} is a number, not a date; give the column a date "
+                 "format in the workbook, or write the dates as text" if is_number.any() else "")
+        bad &= ~is_number
     out.rows(list(df.index[bad]), f"column '{col}'",
              f"{s[bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "")
     return t.astype("datetime64[ns]")
@@ -966,12 +1001,17 @@ def _has_gap(v) -> bool:
     return bool(v.hasnans)
 
 
+def _columns_of(spec: MetricSpec) -> dict[str, str | None]:
+    """The metric's keys that name a column, and the column each names (or None)."""
+    return {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
+            "count": spec.count, "size": spec.size, "category": spec.category}
+
+
 def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> MetricData:
     """Read, validate and shape one metric's data. Raises ProjectError with every problem."""
     settings = settings or PortfolioSettings()
     out = _Rows(spec)
-    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
-            "count": spec.count, "size": spec.size, "category": spec.category}
+    cols = _columns_of(spec)
     df, header = _read_table(spec, settings, out, [c for c in cols.values() if c is not None])
     if df is None:
         out.raise_if_failed()

@@ -1,7 +1,8 @@
 """Start a project from a data file: guess its columns and write a commented project.toml.
 
-``steadyline start DATA.csv`` reads the file with the same reader and the same number and date
-parsing as a build (:mod:`steadyline.loading`, which opens files only through
+``steadyline start DATA.csv`` (or a workbook, .xlsx, whose first sheet is read, or a Parquet
+file) reads the file with the same reader and the same number and date parsing as a build
+(:mod:`steadyline.loading`, which opens files only through
 :mod:`steadyline.files`), guesses which column holds the time, the values, the subgroups, the
 counts, the sizes or the categories, and so the metric's data type, and writes ``project.toml``
 beside the file. Each guess is written with a comment saying what it rests on, so the owner can
@@ -29,7 +30,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import files
+from . import files, formats
 from .config import (
     DATA_TYPES,
     PROJECT_FILE,
@@ -97,6 +98,7 @@ class Guess:
     csv: CsvOptions = dataclasses.field(default_factory=CsvOptions)
     dates: tuple[dt.date, dt.date] | None = None
     rows: int = 0
+    sheet: str | None = None  # the workbook's sheet read (a workbook only)
 
 
 # ----------------------------------------------------------------------------- reading
@@ -495,6 +497,9 @@ def render(folder: Path, data: str, g: Guess, sniffed: list[str], owner: str, ti
     key("id", _q(mid), "From the charted column's name.")
     key("name", _q(name), "From the charted column's name; say what is measured.")
     key("file", _q(data), "The data file this project was started from.")
+    if g.sheet is not None:
+        key("sheet", _q(g.sheet), "The workbook's first sheet, which was read; name another "
+            "sheet here to chart it instead.")
     key("type", _q(g.type), g.why["type"] + ".")
     for col in COLUMN_OPTIONS:
         if col in g.columns:
@@ -547,7 +552,10 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
         raw = files.read_bytes(data)  # only a regular file is opened, read-only
     except files.Unreadable as e:
         raise StartError(f"{shown}: {e}") from None
-    csv, sniffed = _sniff(raw)
+    if formats.data_format(data.name) == formats.CSV:
+        csv, sniffed = _sniff(raw)
+    else:  # a workbook's or Parquet file's cells are read as stored: nothing to sniff
+        csv, sniffed = CsvOptions(), []
     spec = _spec(data, shown, csv)
     out = _Rows(spec)
     df, _header = _read_table(spec, PortfolioSettings(), out, None)  # every column
@@ -562,6 +570,7 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
     cols = _profile(df, spec)
     g = guess(cols, len(df), columns, type_)
     g.csv = csv
+    g.sheet = out.sheet
     t = next((c for c in cols if c.name == g.columns.get("time")), None)
     if t is not None and t.kind == "time" and t.values is not None and t.values.size:
         lo, hi = t.values.min(), t.values.max()

@@ -475,7 +475,7 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         # 5. index and manifest
         index_out = index_page(list(entries.values()), settings, opts.live)
         index = index_out["index.html"]
-        problems_of = {o.slug: [p.__dict__ for p in o.problems] for o in outcomes}
+        problems_of = {o.slug: [p.as_dict() for p in o.problems] for o in outcomes}
         new_manifest = {
             "version": __version__,
             "assets": akey,
