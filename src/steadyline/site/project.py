@@ -510,7 +510,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
         if a.spec.measurement_study is not None:
             sid = a.spec.measurement_study
             section["gauge"], result["measurement_study"] = gauge_summary(
-                a.spec, studies.get(sid), any(b.spec.id == sid for b in not_built))
+                a.spec, studies.get(sid), any(b.spec.id == sid for b in not_built),
+                next(x.name for x in spec.metrics if x.id == sid))
         sections.append(section)
         results.append(result)
         if has_history:

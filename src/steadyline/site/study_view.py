@@ -130,23 +130,23 @@ def _appraiser_means(sa: StudyAnalysis) -> dict[str, float]:
     return {o: sum(vs) / len(vs) for o, vs in sums.items()}
 
 
-def gauge_summary(m: MetricSpec, study: StudyAnalysis | None, not_built: bool) -> tuple[dict,
-                                                                                         dict]:
+def gauge_summary(m: MetricSpec, study: StudyAnalysis | None, not_built: bool,
+                  study_name: str) -> tuple[dict, dict]:
     """What a process metric says of the study named by its ``measurement_study``: the
     section's fact (the study's name and its verdict in words) and the results.json entry."""
     sid = m.measurement_study
+    none = {"id": sid, "name": study_name, "verdict": None, "verdict_words": None,
+            "study_percent": None, "tolerance_percent": None, "distinct_categories": None,
+            "not_built": not_built}
     if study is None:
-        name = sid
         text = ("not built: its data have problems, listed in its place" if not_built
                 else "no verdict")
-        return ({"id": sid, "name": name, "text": text},
-                {"id": sid, "verdict": None, "not_built": not_built})
+        return {"id": sid, "name": study_name, "text": text}, none
     name = study.spec.name
     s = study.study
     if s is None:
         why = "; ".join(msg for _, msg in study.failures)
-        return ({"id": sid, "name": name, "text": f"no verdict ({why})"},
-                {"id": sid, "name": name, "verdict": None, "not_built": False})
+        return ({"id": sid, "name": name, "text": f"no verdict ({why})"}, none)
     code = advice.gauge_verdict(s)
     ms = s.component("measurement system")
     text = (f"{advice.GAUGE_WORDS[code]} by the guide ({advice.gauge_shares_text(s)}; "
