@@ -1301,6 +1301,17 @@ def load_study(spec: MetricSpec, settings: PortfolioSettings | None = None) -> S
     return _study_shape(spec, df, header, out)
 
 
+def load_study_frame(spec: MetricSpec, frame: pd.DataFrame) -> StudyData:
+    """:func:`load_study` for data in a DataFrame, its cells read as a CSV file's (see
+    :func:`load_frame`). Raises ProjectError with every problem; the frame is not changed."""
+    out = _Rows(spec)
+    df = _frame_cells(frame, out)
+    if df is None:
+        out.raise_if_failed()
+    assert df is not None
+    return _study_shape(spec, df, list(df.columns), out)
+
+
 def _study_shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) -> StudyData:
     cols = {"part": spec.part, "appraiser": spec.appraiser, "value": spec.value}
     if not all([_require_column(header, k, c, spec, out) for k, c in cols.items()]):

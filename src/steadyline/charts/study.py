@@ -134,8 +134,7 @@ def _ranges_template() -> dict:
                        "labelFontSize": 9})
     y_title = slot("y_title")
     colour = vl.field("appraiser_key:N", title=None, legend=_legend_keyed("appraiser"),
-                      scale={"range": [style.DATA, style.CURVE, style.EVENT, "#4d8f2a",
-                                       style.SPEC, "#8a8a8a"]})
+                      scale={"range": list(style.SERIES)})
     detail = vl.field("appraiser_key:N")
     tooltip = [
         vl.tip("appraiser:N", "appraiser"),
@@ -213,8 +212,7 @@ def _measurements_template() -> dict:
     x = vl.field("part_key:N", title="part", sort=None,
                  axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60})
     colour = vl.field("appraiser_key:N", title=None, legend=_legend_keyed("appraiser"),
-                      scale={"range": [style.DATA, style.CURVE, style.EVENT, "#4d8f2a",
-                                       style.SPEC, "#8a8a8a"]})
+                      scale={"range": list(style.SERIES)})
     y = vl.field("value:Q", title=slot("y_title"), scale={"zero": False})
     means = vl.view(
         "means",

@@ -77,6 +77,10 @@ PALETTE = {
     "change_outline": CHANGE_OUTLINE,
 }
 
+# The appraisers of a measurement study, in the order they appear: the colours of the config's
+# category range, the one that ends in green before the specification's rust-brown.
+SERIES = (DATA, CURVE, EVENT, "#4d8f2a", SPEC, "#8a8a8a")
+
 # Pairs that are drawn on top of or next to each other (checked for lightness difference >= 15).
 CONTRASTING_PAIRS = (
     ("data", "signal"),
