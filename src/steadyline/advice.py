@@ -447,5 +447,10 @@ def appraiser_findings(study, means: dict[str, float], unit: str = "") -> list[F
 
 
 def _num(v: float, unit: str) -> str:
-    text = f"{v:.4g}"
+    """Four significant figures, trailing zeros kept (120.0, 0.9100), whole numbers whole."""
+    if v == 0 or not np.isfinite(v):
+        text = f"{v:g}"
+    else:
+        decimals = max(0, 3 - int(np.floor(np.log10(abs(v)))))
+        text = f"{v:.{decimals}f}"
     return f"{text} {unit}".strip()

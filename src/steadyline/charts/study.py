@@ -8,6 +8,7 @@ fixed label expression that cuts the key off.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 
 import numpy as np
@@ -26,6 +27,20 @@ SHARE_STUDY = "share of the study variation"
 SHARE_CONTRIBUTION = "share of the variance (contribution)"
 SHARE_TOLERANCE = "share of the tolerance"
 _HEIGHT_STUDY = 190
+_DIGITS = re.compile(r"(\d+)")
+
+
+def natural_order(names) -> list[str]:
+    """Part names in the order a reader looks for them: digits compared as numbers ("S2"
+    before "S10"), the rest as text; the file's order of measuring is no order to read by.
+
+    >>> natural_order(["S10", "S2", "b", "A"])
+    ['A', 'b', 'S2', 'S10']
+    """
+    def key(name: str):
+        return [(0, int(t), "") if t.isdigit() else (1, 0, t.casefold())
+                for t in _DIGITS.split(name) if t]
+    return sorted(dict.fromkeys(names), key=key)
 
 
 def _legend_keyed(title: str | None) -> dict:
@@ -171,18 +186,21 @@ def _ranges_template() -> dict:
 
 
 def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = "",
-                 measure: str = "") -> ChartSpec:
+                 measure: str = "reading") -> ChartSpec:
     """One range chart per appraiser, side by side along one axis: each part's range over the
     appraiser's trials, the appraiser's average range (solid) and upper limit D4·R̄ (dashed);
     a range above its limit is marked. ``measure``: what was measured (the axis' title)."""
     tpl = cached_template(("study-ranges",), _ranges_template)
     appr_keys = bar_keys([r.appraiser for r in ranges])
     n_parts = len(ranges[0].parts) if ranges else 0
+    order = ([ranges[0].parts.index(p) for p in natural_order(ranges[0].parts)] if ranges
+             else [])
     width = len(str(len(ranges) * n_parts))
     rows, table = [], []
     k = 0
     for ak, r in zip(appr_keys, ranges, strict=True):
-        for i, (part, v) in enumerate(zip(r.parts, r.ranges, strict=True)):
+        for i in order:
+            part, v = r.parts[i], r.ranges[i]
             k += 1
             out = i in r.beyond
             rows.append({"key": f"{k:0{width}d} {part}", "part": part, "appraiser": r.appraiser,
@@ -194,7 +212,7 @@ def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = 
     limits = "; ".join(f"{r.appraiser} {fmt(r.centre)} and {fmt(r.upper)}" for r in ranges)
     sub = [f"each part's range over {plural(trials, 'trial')}, by appraiser; average range and "
            f"upper limit (D4 × average range): {limits}"]
-    y_title = titled(f"Range{f' of {measure}' if measure else ''}", unit)
+    y_title = titled(f"Range of the {measure}s", unit)
     spec = make_spec(tpl, {"y_title": y_title}, {"ranges": rows}, "Ranges by appraiser", sub)
     n_beyond = sum(len(r.beyond) for r in ranges)
     summary = (f"Range chart of {plural(len(ranges), 'appraiser')} over "
@@ -209,7 +227,8 @@ def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = 
 
 
 def _measurements_template() -> dict:
-    x = vl.field("part_key:N", title="part", sort=None,
+    # keys sort as the parts stand (zero-padded places): the default ascending order
+    x = vl.field("part_key:N", title="part",
                  axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60})
     colour = vl.field("appraiser_key:N", title=None, legend=_legend_keyed("appraiser"),
                       scale={"range": list(style.SERIES)})
@@ -234,12 +253,12 @@ def _measurements_template() -> dict:
 
 
 def measurements_chart(values: Sequence[float], parts: Sequence[str], appraisers: Sequence[str],
-                       *, unit: str = "", measure: str = "") -> ChartSpec:
+                       *, unit: str = "", measure: str = "reading") -> ChartSpec:
     """Every measurement by part (x) and appraiser (colour and shape, side by side within a
     part), each appraiser's mean of a part's trials joined by a line: lines that run apart
     show an appraiser effect, lines that cross an interaction of part and appraiser."""
     tpl = cached_template(("study-measurements",), _measurements_template)
-    part_names = list(dict.fromkeys(parts))
+    part_names = natural_order(parts)
     appr_names = list(dict.fromkeys(appraisers))
     pk = dict(zip(part_names, bar_keys(part_names), strict=True))
     ak = dict(zip(appr_names, bar_keys(appr_names), strict=True))
@@ -260,7 +279,7 @@ def measurements_chart(values: Sequence[float], parts: Sequence[str], appraisers
     n_trials = max(trial.values()) if trial else 0
     sub = [f"{plural(len(part_names), 'part')} × {plural(len(appr_names), 'appraiser')} × "
            f"{plural(n_trials, 'trial')}; lines join each appraiser's mean of a part's trials"]
-    spec = make_spec(tpl, {"y_title": titled(measure or "value", unit)},
+    spec = make_spec(tpl, {"y_title": titled(measure.capitalize(), unit)},
                      {"values": rows, "means": means}, "Measurements by part and appraiser", sub)
     summary = (f"Dot plot of {plural(len(rows), 'measurement')} of "
                f"{plural(len(part_names), 'part')} by {plural(len(appr_names), 'appraiser')}, "

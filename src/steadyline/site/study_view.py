@@ -53,15 +53,14 @@ def study_section(sa: StudyAnalysis, spec: ProjectSpec, files: dict[str, bytes],
               advice.gauge_findings(study, m.unit), [advice.GAUGE_DECISION, *study.notes],
               METHOD + " " + _anova_text(study), notes=study.notes)
     if sa.ranges is not None:
-        chart = ranges_chart(sa.ranges, trials=trials, unit=m.unit, measure=m.name)
+        chart = ranges_chart(sa.ranges, trials=trials, unit=m.unit)
         d.add("ranges", "Ranges by appraiser", chart,
               advice.appraiser_range_findings(sa.ranges, m.unit),
               method="Each point is the range (largest less smallest) of one appraiser's trials "
               "of one part; the centre line is that appraiser's average range R̄ and the upper "
               "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
               "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.")
-    chart = measurements_chart(sa.data.values, sa.data.parts, sa.data.appraisers, unit=m.unit,
-                               measure=m.name)
+    chart = measurements_chart(sa.data.values, sa.data.parts, sa.data.appraisers, unit=m.unit)
     findings = []
     if study is not None:
         findings = advice.appraiser_findings(study, _appraiser_means(sa), m.unit)
