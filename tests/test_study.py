@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import csv
 import json
-from html import unescape
 import math
 import re
 import tomllib
+from html import unescape
 from pathlib import Path
 
 import numpy as np

@@ -20,7 +20,6 @@ from .stats.choice import choose_chart
 from .stats.compare import compare
 from .stats.evidence import PointEvidence, point_evidence
 from .stats.gauge import appraiser_ranges, gauge_study
-from .stats.results_studies import AppraiserRanges, GaugeStudy
 from .stats.pareto import pareto, pareto_in_order
 from .stats.results import (
     BoxSummary,
@@ -35,6 +34,7 @@ from .stats.results import (
     Signal,
     StatsError,
 )
+from .stats.results_studies import AppraiserRanges, GaugeStudy
 from .vocab import PeriodKind, period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history

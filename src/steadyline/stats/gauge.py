@@ -45,8 +45,8 @@ from collections.abc import Sequence
 import numpy as np
 
 from ._lazy import lazy
-from .results import StatsError
 from .constants import d3_factor, d4_factor
+from .results import StatsError
 from .results_studies import AnovaRow, AppraiserRanges, GaugeStudy, VarianceComponent
 
 _st = lazy("scipy.stats")
