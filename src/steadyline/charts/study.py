@@ -174,12 +174,14 @@ def _ranges_template() -> dict:
         {"x": x, "y": vl.field("range:Q", title=y_title, scale={"zero": True}),
          "color": colour, "detail": detail, "tooltip": tooltip},
     )
+    # drawn on every range, seen on those above the limit: a layer filtered to none of them
+    # would leave Vega an empty domain to warn about
     beyond = vl.view(
         "ranges",
         vl.mark("point", shape=style.SHAPE_SIGNAL, size=style.SIZE_SIGNAL, filled=True,
                 color=style.SIGNAL),
-        {"x": x, "y": vl.field("range:Q"), "tooltip": tooltip},
-        transform=[{"filter": "datum.beyond"}],
+        {"x": x, "y": vl.field("range:Q"), "tooltip": tooltip,
+         "opacity": {"condition": {"test": "datum.beyond", "value": 1}, "value": 0}},
     )
     chart = vl.layer(upper, centre, line, beyond, width="container", height=_HEIGHT_STUDY)
     return finish_template(chart, "study-ranges")
