@@ -74,7 +74,7 @@ def _without(rows, part: str, appraiser: str):
 CASES = [
     Case("study-unbalanced-cell", project(_drop(study_rows(), 14)),
          [r"^p/study\.csv:4: column 'part': part 'P3' has 1 measurement by appraiser 'A1' "
-          r"\(lines 4\), the other pairs 2; every part needs the same number of trials by every "
+          r"\(line 4\), the other pairs 2; every part needs the same number of trials by every "
           r"appraiser$"], 1),
     Case("study-missing-cell", project(_without(study_rows(), "P2", "A2")),
          [r"^p/study\.csv: column 'who': appraiser 'A2' never measured part 'P2'; in a crossed "

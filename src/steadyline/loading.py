@@ -1329,8 +1329,8 @@ def _study_shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Ro
                  f"blank cell; every measurement names its {key}")
         labels[key] = cells.to_numpy(dtype=object)
     out.rows(list(df.index[(_text(df[spec.value]) == "").to_numpy()]),
-             f"column '{spec.value}'", "blank cell; a measurement study needs every trial measured "
-        "(a missing trial leaves its part and appraiser short of the others)")
+             f"column '{spec.value}'", "blank cell; a measurement study needs every trial "
+             "measured (a missing trial leaves its part and appraiser short of the others)")
     out.raise_if_failed()
     parts, apprs = labels["part"], labels["appraiser"]
     lines = df.index.to_numpy(dtype=np.int64)
@@ -1363,7 +1363,8 @@ def _study_shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Ro
         shown = ", ".join(str(x) for x in cl[:MAX_LISTED_ROWS])
         out.add(cl[0], f"column '{spec.part}'",
                 f"part {p!r} has {plural_rows(len(cl), 'measurement')} by appraiser {o!r} "
-                f"(lines {shown}{' …' if len(cl) > MAX_LISTED_ROWS else ''}), the other "
+                f"({'line' if len(cl) == 1 else 'lines'} {shown}"
+                f"{' …' if len(cl) > MAX_LISTED_ROWS else ''}), the other "
                 f"pairs {usual}; every part needs the same number of trials by every appraiser")
     if len(odd) > STUDY_CELLS_LISTED:
         out.add(None, f"column '{spec.part}'", f"and {len(odd) - STUDY_CELLS_LISTED} more pairs "
