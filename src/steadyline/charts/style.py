@@ -77,8 +77,9 @@ PALETTE = {
     "change_outline": CHANGE_OUTLINE,
 }
 
-# The appraisers of a measurement study, in the order they appear: the colours of the config's
-# category range, the one that ends in green before the specification's rust-brown.
+# The appraisers of a measurement study, in the order they appear: the six colours of the
+# config's category range, the specification's rust-brown moved after the green so that the
+# first three appraisers get the three most distinct hues.
 SERIES = (DATA, CURVE, EVENT, "#4d8f2a", SPEC, "#8a8a8a")
 
 # Pairs that are drawn on top of or next to each other (checked for lightness difference >= 15).
