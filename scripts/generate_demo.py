@@ -356,7 +356,12 @@ def spoke_tension() -> dict[str, str]:
              "file": "spoke_tension.csv", "type": "subgroups", "time": "measured",
              "value": "tension_kgf", "subgroup": "wheel_id", "unit": "kgf",
              "better": "target", "spec_lower": 110.0, "spec_upper": 130.0, "target": 120.0,
-             "headline": True, "normal_curve": True, "quartiles": "tukey-hinges"},
+             "headline": True, "normal_curve": True, "quartiles": "tukey-hinges",
+             "measurement_study": "tension-meter"},
+            {"id": "tension-meter", "name": "Tension-meter study", "file":
+             "tension_meter_study.csv", "type": "measurement-study", "part": "spoke",
+             "appraiser": "builder", "value": "reading_kgf", "unit": "kgf",
+             "spec_lower": 110.0, "spec_upper": 130.0},
         ],
     }
     notes = """\
@@ -383,11 +388,31 @@ from 6 April and used on all stands from 13 April.
 | Within-wheel spread (σ) | about 4 kgf | about 2 kgf |
 | Cpk | below 1 | above 1.33 |
 
-Raw readings: [spoke_tension.csv](spoke_tension.csv).
+Raw readings: [spoke_tension.csv](spoke_tension.csv). After T-3 was recalibrated, the three
+builders each measured ten marked spokes of one reference wheel three times, in a new order
+each round: [tension_meter_study.csv](tension_meter_study.csv).
 """
     return {"project.toml": toml_text(meta), "spoke_tension.csv":
             csv_text(["wheel_id", "measured", "spoke_no", "builder", "tension_kgf"], rows),
+            "tension_meter_study.csv": tension_meter_study(builders_before),
             "notes.md": notes}
+
+
+def tension_meter_study(builders: list[str]) -> str:
+    """A crossed study of tensiometer T-3 after its recalibration: 10 marked spokes of one
+    reference wheel, tensioned across the process's range, each read 3 times by each of the
+    3 builders, the spokes in a new random order each round (a stream of its own: the other
+    files stay as they were)."""
+    rng = rng_for(20)
+    spokes = 120.0 + rng.normal(0.0, 3.0, 10)  # the spokes' true tensions
+    bias = {b: d for b, d in zip(builders, (0.0, 0.35, -0.25), strict=True)}  # how each reads
+    rows = []
+    for _round in range(3):
+        for b in builders:
+            for i in rng.permutation(10):
+                reading = spokes[i] + bias[b] + rng.normal(0.0, 0.55)
+                rows.append([f"S{i + 1:02d}", b, f1(reading)])
+    return csv_text(["spoke", "builder", "reading_kgf"], rows)
 
 
 def hub_bearing_press_fit() -> dict[str, str]:

@@ -23,8 +23,23 @@ from steadyline.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "projects"
+
+
+def _study_files() -> set[str]:
+    """The demo files of measurement studies: `start` writes process metrics only (a study
+    names its part, appraiser and value columns by hand), so these are not tried."""
+    out = set()
+    for meta in DEMO.glob("*/project.toml"):
+        for m in tomllib.loads(meta.read_text(encoding="utf-8"))["metric"]:
+            if m["type"] == "measurement-study":
+                out.add(f"{meta.parent.name}/{m['file']}")
+    return out
+
+
+STUDY_FILES = _study_files()
 DATA_FILES = sorted(p.relative_to(DEMO).as_posix() for p in DEMO.glob("*/*")
-                    if p.suffix in (".csv", ".xlsx", ".parquet"))
+                    if p.suffix in (".csv", ".xlsx", ".parquet")
+                    and p.relative_to(DEMO).as_posix() not in STUDY_FILES)
 COLUMNS = ("time", "value", "subgroup", "count", "size", "category")
 
 
@@ -52,6 +67,19 @@ def started(tmp_path: Path, rel: str, *args: str) -> tuple[Path, dict]:
 def test_every_demo_data_file_is_tried():
     assert len(DATA_FILES) >= 13
     assert {Path(p).suffix for p in DATA_FILES} == {".csv", ".xlsx", ".parquet"}
+
+
+def test_a_measurement_study_is_not_started(tmp_path, capsys):
+    rel = sorted(STUDY_FILES)[0]
+    src = DEMO / rel
+    folder = tmp_path / "projects" / "study"
+    folder.mkdir(parents=True)
+    shutil.copyfile(src, folder / src.name)
+    code = main(["start", str(folder / src.name), "--type", "measurement-study", "--quiet"])
+    assert code == 2
+    assert "start writes process metrics; a measurement study names its part, appraiser and " \
+        "value columns by hand" in capsys.readouterr().err
+    assert not (folder / "project.toml").exists()
 
 
 @pytest.mark.parametrize("rel", DATA_FILES)

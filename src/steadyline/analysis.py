@@ -13,12 +13,13 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .config import MetricSpec
-from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, STAGE_OTHER, MetricData
+from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, STAGE_OTHER, MetricData, StudyData
 from .stats import control, distribution, rules, runs
 from .stats.capability import capability as capability_of
 from .stats.choice import choose_chart
 from .stats.compare import compare
 from .stats.evidence import PointEvidence, point_evidence
+from .stats.gauge import appraiser_ranges, gauge_study
 from .stats.pareto import pareto, pareto_in_order
 from .stats.results import (
     BoxSummary,
@@ -33,6 +34,7 @@ from .stats.results import (
     Signal,
     StatsError,
 )
+from .stats.results_studies import AppraiserRanges, GaugeStudy
 from .vocab import PeriodKind, period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history
@@ -441,3 +443,30 @@ def after_order(baseline: Pareto, after: Pareto) -> list[str]:
     order = list(baseline.categories) + [c for c in after.categories if c not in seen]
     last = [c for c in order if c.strip().lower() == "other"]
     return [c for c in order if c not in last] + last
+
+
+# ----------------------------------------------------------------------------- measurement studies
+
+
+@dataclass
+class StudyAnalysis:
+    """A measurement study's figures: the ANOVA study and each appraiser's range chart (None
+    when the statistics refused the data, with the reason in ``failures``)."""
+
+    spec: MetricSpec
+    data: StudyData
+    study: GaugeStudy | None = None
+    ranges: tuple[AppraiserRanges, ...] | None = None
+    failures: list[tuple[str, str]] = field(default_factory=list)
+
+
+def analyse_study(data: StudyData) -> StudyAnalysis:
+    """The ANOVA study (with the metric's specification limits, for the shares of the
+    tolerance when both are given) and the ranges by appraiser."""
+    m = data.spec
+    res = StudyAnalysis(m, data)
+    res.study = _try(res, "measurement study", gauge_study, data.values, data.parts,
+                     data.appraisers, lsl=m.spec_lower, usl=m.spec_upper)
+    res.ranges = _try(res, "ranges by appraiser", appraiser_ranges, data.values, data.parts,
+                      data.appraisers)
+    return res

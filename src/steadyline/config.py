@@ -31,6 +31,7 @@ NOTES_DEFAULT = "notes.md"
 
 PHASES = ("define", "measure", "analyze", "improve", "control")
 DATA_TYPES = DataType.codes()
+STUDY = DataType.STUDY.value  # a measurement system study: no time, no better direction
 BETTER = ("lower", "higher", "target")
 CHARTS = ChartKind.codes()
 SIGNAL_RULES = SignalRules.codes()
@@ -138,6 +139,9 @@ class MetricSpec:
     count: str | None = None
     size: str | None = None
     category: str | None = None
+    part: str | None = None  # measurement studies: the column naming the part measured
+    appraiser: str | None = None  # … and the column naming who measured it
+    measurement_study: str | None = None  # the id of the study that checks this metric's gauge
     unit: str = ""
     spec_lower: float | None = None
     spec_upper: float | None = None
@@ -178,10 +182,13 @@ class ProjectSpec:
 
     @property
     def headline(self) -> MetricSpec:
+        """The metric the index judges the project by: the one marked, else the first that is
+        no measurement study (a study qualifies a gauge, it is no process to improve; a project
+        holds at least one other metric, checked when it is read)."""
         for m in self.metrics:
             if m.headline:
                 return m
-        return self.metrics[0]
+        return next((m for m in self.metrics if m.type != STUDY), self.metrics[0])
 
 
 # ----------------------------------------------------------------------------- key locating
@@ -502,14 +509,17 @@ KEYS: dict[str, tuple[Key, ...]] = {
         Key("type", "choice", DATA_TYPES, required=True),
         Key("time", "text"), Key("value", "text"), Key("subgroup", "text"),
         Key("subgroup_size", "integer", minimum=1), Key("count", "text"), Key("size", "text"),
-        Key("category", "text"), Key("unit", "text"),
-        Key("better", "choice", BETTER, required=True), Key("spec_lower", "number"),
+        Key("category", "text"), Key("part", "text"), Key("appraiser", "text"),
+        Key("unit", "text"),
+        # required of every type but a measurement study (checked in _check_metric_shape)
+        Key("better", "choice", BETTER), Key("spec_lower", "number"),
         Key("spec_upper", "number"), Key("target", "number"), Key("headline", "boolean"),
         Key("chart", "choice", CHARTS), Key("signal_rules", "choice", SIGNAL_RULES),
         Key("run_rules", "choice", RUN_RULES), Key("limits", "choice", LIMIT_MODES),
         Key("quartiles", "choice", QUARTILE_METHODS), Key("bins", "bins", BIN_RULES),
         Key("normal_curve", "boolean"), Key("baseline", "period"), Key("after", "period"),
-        Key("rollup", "table"), Key("csv", "table"), Key("set_aside", "tables"),
+        Key("measurement_study", "id"), Key("rollup", "table"), Key("csv", "table"),
+        Key("set_aside", "tables"),
     ),
     "metric.rollup": (Key("period", "choice", PERIODS, required=True),
                       Key("statistic", "choice", STATISTICS, required=True)),
@@ -540,7 +550,7 @@ EVENT_KEYS = _names("event")
 SET_ASIDE_KEYS = _names("metric.set_aside")
 
 # Which columns each data type needs (besides the metric's "time", needed by all but categories).
-COLUMN_KEYS = ("time", "value", "subgroup", "count", "size", "category")
+COLUMN_KEYS = ("time", "value", "subgroup", "count", "size", "category", "part", "appraiser")
 
 
 def _read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Problem]]:
@@ -775,6 +785,7 @@ def load_project(folder: Path, root: Path | None = None,
         ck.add("metric", "the list of metrics is empty; a project needs at least one [[metric]] "
                "table", ck.loc.line_of("metric"))
     seen_ids: set[str] = set()
+    indexed: list[tuple[int, MetricSpec]] = []
     for i, m in enumerate(raw_metrics):
         spec = _metric(ck, m, i, folder, root, settings, comp_baseline, comp_after)
         if spec is None:
@@ -785,6 +796,9 @@ def load_project(folder: Path, root: Path | None = None,
             continue
         seen_ids.add(spec.id)
         metrics.append(spec)
+        indexed.append((i, spec))
+    if len(indexed) == len(raw_metrics):  # else the link may name a metric with errors
+        check_study_links(ck, indexed)
     if sum(m.headline for m in metrics) > 1:
         ck.add("metric.headline", "more than one metric is marked headline = true; mark one")
     # What the project holds but does not use, and could not be read: a warning, never more.
@@ -846,7 +860,7 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
                "hyphens", r._line("id"))
     name = r.text("name", required=True, what="the metric's name")
     dtype = r.choice("type", DATA_TYPES, required=True)
-    better = r.choice("better", BETTER, required=True)
+    better = r.choice("better", BETTER, required=dtype != STUDY)
     # folder None: the data come from elsewhere (a DataFrame, see metric_from_dict), no file
     file_ = r.text("file", required=folder is not None,
                    what="the data file (CSV, .xlsx or .parquet), relative to the project folder")
@@ -870,6 +884,11 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     if file_ is not None and folder is not None:
         _check_format(ck, file_, sheet, m.get("csv"), prefix, r)
     cols = {k: r.text(k) for k in COLUMN_KEYS}
+    study_id = r.text("measurement_study")
+    if study_id is not None and not SLUG_RE.match(study_id):
+        ck.add(f"{prefix}measurement_study", f"{study_id!r} is not a metric id; name the id of "
+               "the measurement study metric of this project", r._line("measurement_study"))
+        study_id = None
     subgroup_size = r.integer("subgroup_size", minimum=1)
     rollup = None
     rt = r.table_("rollup")
@@ -930,7 +949,7 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         file=path or (folder / (file_ or "") if folder is not None else ck.path),
         file_rel=rel(folder / (file_ or ""), root) if folder is not None else ck.shown,
         type=dtype or "continuous",
-        better=better or "lower", subgroup_size=subgroup_size,
+        better=better or ("" if dtype == STUDY else "lower"), subgroup_size=subgroup_size,
         unit=r.text("unit", default="") or "",
         spec_lower=r.number("spec_lower"), spec_upper=r.number("spec_upper"),
         target=r.number("target"), headline=r.boolean("headline"),
@@ -941,7 +960,8 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         quartiles=r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
         bins=bins, normal_curve=r.boolean("normal_curve"),
         baseline=own_baseline or comp_baseline, after=own_after or comp_after,
-        rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), sheet=sheet, **cols,
+        rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), sheet=sheet,
+        measurement_study=study_id, **cols,
     )
     if "set_aside" in m:
         spec = replace(spec, set_aside=_set_aside(ck, m["set_aside"], i, spec))
@@ -1097,6 +1117,13 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
         if getattr(m, key) is None:
             ck.add(f"{prefix}{key}", f"a {m.type} metric needs '{key}': {what}", line)
 
+    if m.type == STUDY:
+        _check_study_shape(ck, m, prefix, r, need)
+        return
+    for key in ("part", "appraiser"):
+        if getattr(m, key) is not None:
+            ck.add(f"{prefix}{key}", f"'{key}' names a column of a measurement study (type = "
+                   f"\"{STUDY}\"); a {m.type} metric has none: remove it", r._line(key))
     if m.type != "categories":
         need("time", "the column with the date or time of each row")
     if m.type == "continuous":
@@ -1148,9 +1175,71 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
     if m.better == "target" and m.target is None:
         ck.add(f"{prefix}target", "better = \"target\" needs a target value", line,
                severity="warning")
-    if m.type != "categories" and m.baseline is None:
+    if m.type not in ("categories", STUDY) and m.baseline is None:
         ck.add(f"{prefix}baseline", "no baseline period (here or in [comparison]); all the data "
                "is treated as baseline", line, severity="warning")
+
+
+# Keys a measurement study has no use for: it has no time axis, no direction of better, no
+# control chart and no periods of its own (the project's [comparison] does not apply to it).
+_NOT_FOR_STUDY = ("time", "subgroup", "subgroup_size", "count", "size", "category", "better",
+                  "target", "chart", "signal_rules", "run_rules", "limits", "quartiles", "bins",
+                  "normal_curve", "baseline", "after", "rollup", "measurement_study")
+
+
+def _check_study_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader, need) -> None:
+    """A measurement study names its value, part and appraiser columns; every key of a process
+    metric is refused by name, so that nothing in its table is silently ignored."""
+    need("value", "the column with each measurement")
+    need("part", "the column naming the part measured")
+    need("appraiser", "the column naming who measured it")
+    for key in _NOT_FOR_STUDY:
+        if key in r.data:
+            why = ("a study's measurements of one part and appraiser are its trials, in the "
+                   "file's order" if key == "time" else
+                   "a study is named by the process metric it checks, not the other way round"
+                   if key == "measurement_study" else "it has no time axis, control chart or "
+                   "direction of better")
+            ck.add(f"{prefix}{key}", f"'{key}' does not apply to a measurement study ({why}); "
+                   "remove it", r._line(key))
+    if m.spec_lower is not None and m.spec_upper is not None and m.spec_lower >= m.spec_upper:
+        ck.add(f"{prefix}spec_lower", f"spec_lower ({m.spec_lower:g}) must be below spec_upper "
+               f"({m.spec_upper:g})", r._line("spec_lower"))
+
+
+def check_study_links(ck: _Checker, indexed: list[tuple[int, MetricSpec]]) -> None:
+    """What only the whole project can tell of its measurement studies: a metric's
+    ``measurement_study`` names a study of the same project; a study is never the headline
+    (the index judges a process by it); a project holds at least one metric besides its
+    studies."""
+    by_id = {m.id: m for _, m in indexed}
+    for i, m in indexed:
+        sid = m.measurement_study
+        if sid is None:
+            continue
+        line = ck.loc.line_of("measurement_study", "metric", i)
+        target = by_id.get(sid)
+        if target is None:
+            studies = [x.id for _, x in indexed if x.type == STUDY]
+            near = difflib.get_close_matches(sid, studies, n=1, cutoff=0.6)
+            hint = (f"; did you mean '{near[0]}'?" if near else
+                    f"; its studies are: {', '.join(studies)}" if studies else
+                    f"; it has no metric of type \"{STUDY}\"")
+            ck.add(f"metric[{i + 1}].measurement_study",
+                   f"no metric of this project has the id {sid!r}{hint}", line)
+        elif target.type != STUDY:
+            ck.add(f"metric[{i + 1}].measurement_study",
+                   f"{sid!r} is a {target.type} metric, not a measurement study (type = "
+                   f"\"{STUDY}\")", line)
+    for i, m in indexed:
+        if m.type == STUDY and m.headline:
+            ck.add(f"metric[{i + 1}].headline", "a measurement study cannot be the headline "
+                   "metric: the index judges a project by a process metric; mark one of those",
+                   ck.loc.line_of("headline", "metric", i))
+    if indexed and all(m.type == STUDY for _, m in indexed):
+        ck.add("metric", "every metric is a measurement study; a project needs at least one "
+               "process metric for its measurements to qualify and its status to judge",
+               ck.loc.line_of(None, "metric", 0))
 
 
 def _num(x: float) -> str:

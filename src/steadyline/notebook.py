@@ -31,9 +31,17 @@ import orjson
 import pandas as pd
 
 from . import memo
-from .analysis import MetricAnalysis, analyse
-from .config import PHASES, Event, MetricSpec, PortfolioSettings, ProjectSpec, metric_from_dict
-from .loading import MetricData, load_frame
+from .analysis import MetricAnalysis, StudyAnalysis, analyse, analyse_study
+from .config import (
+    PHASES,
+    STUDY,
+    Event,
+    MetricSpec,
+    PortfolioSettings,
+    ProjectSpec,
+    metric_from_dict,
+)
+from .loading import MetricData, StudyData, load_frame, load_study_frame
 
 SOURCE = "<DataFrame>"
 _SCHEMA_MAJOR = re.compile(r"/vega-lite/v(\d+)")
@@ -88,15 +96,17 @@ class FrameAnalysis:
     ``history-…``) and the data's warnings as printed lines."""
 
     spec: MetricSpec
-    data: MetricData
-    analysis: MetricAnalysis
+    data: MetricData | StudyData
+    analysis: MetricAnalysis | StudyAnalysis
     results: dict
     history: dict | None
     charts: dict[str, Chart] = field(default_factory=dict)
     warnings: tuple[str, ...] = ()
 
     def __repr__(self) -> str:
-        return (f"<FrameAnalysis {self.spec.id}: {len(self.data.points)} points, charts "
+        n = (f"{len(self.data.values)} measurements" if isinstance(self.data, StudyData)
+             else f"{len(self.data.points)} points")
+        return (f"<FrameAnalysis {self.spec.id}: {n}, charts "
                 f"{', '.join(self.charts) or 'none'}>")
 
 
@@ -116,6 +126,8 @@ def analyse_frame(frame: pd.DataFrame, metric: dict, *, events=None,
 
     settings = settings or PortfolioSettings()
     spec = metric_from_dict(metric, settings, SOURCE)
+    if spec.type == STUDY:
+        return _study_frame(spec, frame, events)
     data = load_frame(spec, frame)
     a = analyse(data)
     project = _project(spec, events or ())
@@ -142,6 +154,34 @@ def analyse_frame(frame: pd.DataFrame, metric: dict, *, events=None,
     warnings = tuple(p.format() for p in data.problems) + tuple(
         f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures)
     return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=history,
+                         charts=charts, warnings=warnings)
+
+
+def _study_frame(spec: MetricSpec, frame: pd.DataFrame, events) -> FrameAnalysis:
+    """A measurement study from a DataFrame: its figures and its three charts, made by the
+    code that makes its section of a project page (no history: a study has no periods)."""
+    from .site.serialise import dumps_bytes
+    from .site.study_view import study_section
+
+    data = load_study_frame(spec, frame)
+    a = analyse_study(data)
+    files: dict[str, bytes] = {}
+    try:
+        section, result = study_section(a, _project(spec, events or ()), files,
+                                        list(data.problems), [])
+        results = orjson.loads(dumps_bytes(result))
+    finally:
+        memo.forget()
+    charts = {}
+    for c in section["displays"]:
+        key = c["anchor"].replace(f"{spec.id}-", "", 1)
+        charts[key] = Chart(key=key, title=c["title"], summary=c["summary"],
+                            spec=orjson.loads(files[c["spec_href"]]),
+                            findings=tuple(f["text"] for f in c["findings"]),
+                            cautions=tuple(c["cautions"]), method=c["method"])
+    warnings = tuple(p.format() for p in data.problems) + tuple(
+        f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures)
+    return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=None,
                          charts=charts, warnings=warnings)
 
 

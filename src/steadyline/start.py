@@ -40,7 +40,10 @@ from .config import (
     PortfolioSettings,
 )
 from .errors import SteadylineError
+from .vocab import DataType
 
+# the types a data file's guesses can end in: a measurement study has no time column to guess by
+PROCESS_TYPES = tuple(t for t in DATA_TYPES if t != DataType.STUDY)
 COLUMN_OPTIONS = ("time", "value", "subgroup", "count", "size", "category")
 
 # Words in column names (matched on the lower-cased name split at "_", "-", spaces).
@@ -540,8 +543,11 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
     from .loading import _read_table, _Rows, _text
 
     columns = columns or {}
-    if type_ is not None and type_ not in DATA_TYPES:
-        raise StartError(f"--type must be one of {', '.join(DATA_TYPES)}, got {type_!r}")
+    if type_ == DataType.STUDY:  # no time column, no guess to make: written by hand
+        raise StartError(f"--type {type_}: start writes process metrics; a measurement study "
+                         "names its part, appraiser and value columns by hand (see the README)")
+    if type_ is not None and type_ not in PROCESS_TYPES:
+        raise StartError(f"--type must be one of {', '.join(PROCESS_TYPES)}, got {type_!r}")
     folder = data.parent
     target = folder / PROJECT_FILE
     shown = os.fspath(data)

@@ -81,6 +81,7 @@ class DataType(_Worded):
     DEFECTIVES = "defectives"
     DEFECTS = "defects"
     CATEGORIES = "categories"
+    STUDY = "measurement-study"
 
 
 class RollupPeriod(_Worded):
@@ -132,6 +133,7 @@ _LABELS: dict[type, dict] = {
         DataType.DEFECTIVES: "defective items out of items checked",
         DataType.DEFECTS: "defects counted over an area of opportunity",
         DataType.CATEGORIES: "one category per row",
+        DataType.STUDY: "parts measured repeatedly by several appraisers",
     },
     RollupPeriod: {
         RollupPeriod.DAY: "daily",

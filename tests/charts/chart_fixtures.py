@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from steadyline.charts import SeriesContext
+from steadyline.stats import appraiser_ranges, gauge_study
 from steadyline.stats.results import (
     BoxSummary,
     ControlChart,
@@ -470,7 +471,44 @@ def all_chart_specs():
             ),
         ),
     ]
+    values, parts, appraisers = make_study_rows()
+    study = gauge_study(values, parts, appraisers, lsl=110, usl=130)
+    out += [
+        ("study-components tolerance", charts.components_chart(study, values_text="a study")),
+        (
+            "study-components no tolerance",
+            charts.components_chart(gauge_study(values, parts, appraisers)),
+        ),
+        (
+            "study-ranges",
+            charts.ranges_chart(appraiser_ranges(values, parts, appraisers), trials=3,
+                                unit="kgf", measure="Spoke tension"),
+        ),
+        (
+            "study-measurements",
+            charts.measurements_chart(values, parts, appraisers, unit="kgf",
+                                      measure="Spoke tension"),
+        ),
+    ]
     return out
+
+
+def make_study_rows():
+    """A crossed study of 10 parts × 3 appraisers × 3 trials (seeded), one reading far off so
+    that a range stands above its limit; an appraiser named like an inherited property, which
+    the charts must show as a name (see charts.categorical)."""
+    rng = np.random.default_rng(11)
+    part = rng.normal(0, 2, 10)
+    names = ["Ana", "constructor", "__proto__"]
+    values, parts, appraisers = [], [], []
+    for k in range(3):
+        for j, who in enumerate(names):
+            for i in range(10):
+                values.append(120 + part[i] + 0.3 * j + rng.normal(0, 0.4) + (3 if (i, j, k) ==
+                                                                               (5, 0, 1) else 0))
+                parts.append(f"W{i + 1}")
+                appraisers.append(who)
+    return values, parts, appraisers
 
 
 def run_fresh(code: str, **env_extra: str) -> str:

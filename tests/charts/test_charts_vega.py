@@ -22,6 +22,9 @@ EXPECTED_DISPLAY = {
     "pareto": "pareto",
     "pareto-by-phase": "pareto-by-phase",
     "staged-control-chart": "staged-control-chart",
+    "study-components": "study-components",
+    "study-ranges": "study-ranges",
+    "study-measurements": "study-measurements",
 }
 
 

@@ -3,13 +3,14 @@
 Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 ``usermeta.steadyline.display`` naming the display: "run-chart", "control-chart",
 "histogram", "box-plot", "column-chart", "pareto", "pareto-by-phase",
-"staged-control-chart".
+"staged-control-chart", "study-components", "study-ranges", "study-measurements".
 """
 
 from .base import ChartSpec, SeriesContext, clear_template_cache
 from .categorical import column_chart, pareto_chart, phase_pareto_chart
 from .distribution import box_chart, histogram_chart
 from .series import control_chart, run_chart, staged_control_chart
+from .study import components_chart, measurements_chart, ranges_chart
 
 __all__ = [
     "ChartSpec",
@@ -17,9 +18,12 @@ __all__ = [
     "box_chart",
     "clear_template_cache",
     "column_chart",
+    "components_chart",
     "control_chart",
     "histogram_chart",
+    "measurements_chart",
     "pareto_chart",
+    "ranges_chart",
     "phase_pareto_chart",
     "run_chart",
     "staged_control_chart",

@@ -80,6 +80,10 @@ PALETTE = {
     "change_outline": CHANGE_OUTLINE,
 }
 
+# Series told apart by colour (the appraisers of a measurement study, in the order they
+# appear): the config's category range, named once here.
+SERIES = (DATA, CURVE, EVENT, SPEC, "#4d8f2a", "#8a8a8a")
+
 # Pairs that are drawn on top of or next to each other (checked for lightness difference >= 15).
 CONTRASTING_PAIRS = (
     ("data", "signal"),
@@ -198,5 +202,5 @@ def vega_config() -> dict:
         "text": {"font": FONT, "fontSize": FONT_SIZE - 1, "color": INK},
         "line": {"strokeWidth": 1.5},
         "point": {"filled": True},
-        "range": {"category": [DATA, CURVE, EVENT, SPEC, "#4d8f2a", "#8a8a8a"]},
+        "range": {"category": list(SERIES)},
     }

@@ -20,7 +20,9 @@ from .. import __version__, advice, memo
 from ..analysis import (
     AFTER_OWN_LIMITS_MIN,
     MetricAnalysis,
+    StudyAnalysis,
     analyse,
+    analyse_study,
     points_note,
     values_brief,
     values_note,
@@ -46,7 +48,7 @@ from ..config import (
 )
 from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
-from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric
+from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric, load_study
 from ..stats.compare import format_p_value
 from ..status import HeadlineFacts, judge
 from ..vocab import (
@@ -81,6 +83,7 @@ from .index import csv_text
 from .notes import render_notes
 from .pack import PACK_FILE, pack_html
 from .serialise import dumps_bytes, plain, rounded_number
+from .study_view import gauge_summary, is_study, study_section
 from .templates import render
 
 RESULTS_SCHEMA = "steadyline-results/2"
@@ -313,7 +316,8 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
     result["warnings"] = warnings
     result["failures"] = [{"display": disp, "message": msg} for disp, msg in a.failures]
     section = {
-        "id": m.id, "name": m.name, "unit": unit, "broken": False,
+        "id": m.id, "name": m.name, "unit": unit, "broken": False, "study": False,
+        "gauge": None,  # the study that checks its measurements (set by the caller)
         "data_text": f"{DataType(m.type).label} from {Path(m.file_rel).name} "
                      f"({a.data.raw_rows} rows{_rollup_text(m)}"
                      f"{by_period_brief(a)})",
@@ -473,8 +477,8 @@ def check_project(folder: Path, root: Path, settings: PortfolioSettings,
     try:
         spec, warnings = load_project(folder, root, settings)
         loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
-        analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
-        return problems + _not_built_problems(loaded) + _stats_notes(analyses)
+        built = [a for a in loaded if not isinstance(a, NotBuilt)]
+        return problems + _not_built_problems(loaded) + _stats_notes(built)
     except ProjectError as e:
         return list(e.problems)
     except Exception:  # a bug of ours: reported like any problem
@@ -483,18 +487,23 @@ def check_project(folder: Path, root: Path, settings: PortfolioSettings,
 
 def _load_and_analyse(spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings,
                       debug: bool = False
-                      ) -> tuple[list[MetricAnalysis | NotBuilt], list[Problem]]:
+                      ) -> tuple[list[MetricAnalysis | StudyAnalysis | NotBuilt],
+                                 list[Problem]]:
     """Every metric read and analysed on its own, in the metadata's order: its analysis, or
     :class:`NotBuilt` with its problems when its data have errors; and the warnings of the
     metadata and of the metrics analysed. ProjectError with every problem when no metric can
     be read (then there is nothing to publish but the problems). A bug of ours met while
     reading or analysing a metric costs that metric alone, reported as an internal error."""
     problems: list[Problem] = list(warnings)
-    loaded: list[MetricAnalysis | NotBuilt] = []
+    loaded: list[MetricAnalysis | StudyAnalysis | NotBuilt] = []
     for m in spec.metrics:
         try:
-            data = load_metric(m, settings)
-            analysis = analyse(data)
+            if is_study(m):  # a measurement study: parts × appraisers × trials, no time axis
+                data = load_study(m, settings)
+                analysis = analyse_study(data)
+            else:
+                data = load_metric(m, settings)
+                analysis = analyse(data)
         except ProjectError as e:  # costs this metric only
             loaded.append(NotBuilt(m, tuple(e.problems)))
             continue
@@ -513,7 +522,7 @@ def _not_built_problems(loaded: list[MetricAnalysis | NotBuilt]) -> list[Problem
     return [p for x in loaded if isinstance(x, NotBuilt) for p in x.problems]
 
 
-def _stats_notes(analyses: list[MetricAnalysis]) -> list[Problem]:
+def _stats_notes(analyses: list[MetricAnalysis | StudyAnalysis]) -> list[Problem]:
     """Displays the statistics could not draw: warnings for `check` and the terminal too."""
     return [Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
             for a in analyses for disp, msg in dict.fromkeys(a.failures)]
@@ -525,6 +534,7 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     files: dict[str, bytes] = {}
     loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
     analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
+    studies = {a.spec.id: a for a in loaded if isinstance(a, StudyAnalysis)}
     not_built = [b for b in loaded if isinstance(b, NotBuilt)]
     sections, results = [], []
     has_history = any(a.has_after or a.phase_paretos for a in analyses)
@@ -540,8 +550,20 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
             results.append(result)
             continue
         mp = [p for p in problems if p.path == a.spec.file_rel]
+        if isinstance(a, StudyAnalysis):
+            checked = [m for m in spec.metrics if m.measurement_study == a.spec.id]
+            section, result = study_section(a, spec, files, mp, checked)
+            sections.append(section)
+            results.append(result)
+            memo.forget()
+            continue
         sctx = series_context(a, spec) if a.data.kind != "categories" else None
         section, result = metric_section(a, spec, files, mp, sctx)
+        if a.spec.measurement_study is not None:
+            sid = a.spec.measurement_study
+            section["gauge"], result["measurement_study"] = gauge_summary(
+                a.spec, studies.get(sid), any(b.spec.id == sid for b in not_built),
+                next(x.name for x in spec.metrics if x.id == sid))
         sections.append(section)
         results.append(result)
         if has_history:
@@ -597,7 +619,8 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
                                        "problem_count": b.errors} for b in not_built]
         entry["problem_count"] = sum(b.errors for b in not_built)
     return ProjectOutcome(spec.slug, not not_built, files, entry,
-                          problems + _not_built_problems(loaded) + _stats_notes(analyses))
+                          problems + _not_built_problems(loaded)
+                          + _stats_notes([a for a in loaded if not isinstance(a, NotBuilt)]))
 
 
 def project_view(spec: ProjectSpec) -> dict:

@@ -42,7 +42,7 @@ from .distribution import (
     histogram,
     normal_curve,
 )
-from .gauge import gauge_study
+from .gauge import appraiser_ranges, gauge_study
 from .mix import mix_change
 from .pareto import pareto, pareto_in_order
 from .results import (
@@ -61,6 +61,7 @@ from .results import (
 from .results_studies import (
     AfterSamplePlan,
     AnovaRow,
+    AppraiserRanges,
     BusinessFigures,
     CapabilityChange,
     GaugeStudy,
@@ -72,14 +73,14 @@ from .rules import detect_signals
 from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
 
 __all__ = [
-    "AfterSamplePlan", "AnovaRow", "BusinessFigures", "CapabilityChange", "GaugeStudy",
+    "AfterSamplePlan", "AnovaRow", "AppraiserRanges", "BusinessFigures", "CapabilityChange", "GaugeStudy",
     "MixChange", "PowerReached", "VarianceComponent",
     "after_sample_needed", "power_reached",
     "BoxSummary", "Capability", "ChartChoice", "Comparison", "ControlChart", "Histogram",
     "NormalityTest", "Pareto", "QUARTILE_METHODS", "RunChartAnalysis", "Signal", "StatsError",
     "analyse_runs", "anderson_darling", "anhoj_limits", "bissell_interval", "box_summary",
     "c4", "c_chart", "capability", "capability_change", "choose_chart", "compare", "d2", "d3", "defect_figures", "defective_figures", "detect_signals",
-    "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
+    "appraiser_ranges", "factor_table", "factors", "format_p_value", "gauge_study", "histogram", "individuals", "laney_p",
     "laney_u", "measured_figures", "mix_change", "normal_curve", "np_chart", "p_chart", "pareto", "pareto_in_order",
     "perla_runs_limits", "shift_against", "sigma_level", "u_chart", "xbar_r", "xbar_s",
 ]

@@ -45,8 +45,9 @@ from collections.abc import Sequence
 import numpy as np
 
 from ._lazy import lazy
+from .constants import d3_factor, d4_factor
 from .results import StatsError
-from .results_studies import AnovaRow, GaugeStudy, VarianceComponent
+from .results_studies import AnovaRow, AppraiserRanges, GaugeStudy, VarianceComponent
 
 _st = lazy("scipy.stats")
 
@@ -287,3 +288,35 @@ def gauge_study(
         usl=None if usl is None else float(usl),
         notes=tuple(notes),
     )
+
+
+def appraiser_ranges(
+    values: Sequence[float] | np.ndarray, parts: Sequence, appraisers: Sequence
+) -> tuple[AppraiserRanges, ...]:
+    """The range chart of each appraiser of a crossed study: each part's range over its trials,
+    the appraiser's average range R̄ as centre line and D3·R̄, D4·R̄ as limits (the factors of
+    the R chart for subgroups of the number of trials; Montgomery, *Introduction to SQC*, §6.2
+    and Appendix VI). A range above its upper limit says that appraiser's trials of that part
+    disagree more than the rest: a reading or recording slip, or a part hard to measure.
+
+    The study must be balanced (as :func:`gauge_study` requires), so every range spans the same
+    number of trials.
+
+    >>> r = appraiser_ranges([1.0, 1.2, 2.0, 2.1, 1.1, 1.1, 2.3, 2.0],
+    ...                      ["a", "a", "b", "b"] * 2, ["x"] * 4 + ["y"] * 4)
+    >>> [round(x, 2) for x in r[0].ranges], round(r[0].centre, 2), round(r[0].upper, 3)
+    ([0.2, 0.1], 0.15, 0.49)
+    """
+    y, part_names, appr_names = _cube(values, parts, appraisers)
+    r = y.shape[2]
+    ranges = y.max(axis=2) - y.min(axis=2)  # parts × appraisers
+    out = []
+    for j, name in enumerate(appr_names):
+        col = ranges[:, j]
+        centre = float(col.mean())
+        upper, lower = d4_factor(r) * centre, d3_factor(r) * centre
+        beyond = tuple(int(i) for i in np.flatnonzero(col > upper * (1 + 1e-12)))
+        out.append(AppraiserRanges(str(name), tuple(str(p) for p in part_names),
+                                   tuple(float(x) for x in col), centre, float(upper),
+                                   float(lower), beyond))
+    return tuple(out)

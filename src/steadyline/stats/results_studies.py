@@ -89,6 +89,25 @@ class GaugeStudy:
 
 
 @dataclass(frozen=True)
+class AppraiserRanges:
+    """One appraiser's range chart of a measurement study: the range of each part's trials.
+
+    parts:   the part names, in the study's order; ranges: the range of each, in that order.
+    centre:  the appraiser's average range R̄; upper / lower: D4·R̄ and D3·R̄ for subgroups of
+             ``trials`` (Montgomery §6.2; the AIAG range method draws the same chart).
+    beyond:  the indices of the parts whose range is above ``upper``.
+    """
+
+    appraiser: str
+    parts: tuple[str, ...]
+    ranges: tuple[float, ...]
+    centre: float
+    upper: float
+    lower: float
+    beyond: tuple[int, ...]
+
+
+@dataclass(frozen=True)
 class MixChange:
     """Whether the shares of categories differ between baseline and after.
 
