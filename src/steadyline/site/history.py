@@ -23,6 +23,19 @@ from ..vocab import RunRules, percentage_points, proportion_text, proportion_uni
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
 from .drawn import box_json, by_period_text, pareto_json
+from .studies import (
+    business_json,
+    business_note,
+    business_rows,
+    capability_json,
+    capability_rows,
+    capability_sentence,
+    mix_json,
+    mix_rows,
+    mix_sentence,
+    power_json,
+    power_row,
+)
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -197,11 +210,31 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         result["comparison"] = a.comparison
     if a.after_shift is not None:
         result["sustained_shift"] = bool(a.after_shift.signals)
+    rows, sentence = comparison_rows(a), a.comparison.sentence if a.comparison else ""
+    if a.mix is not None:
+        rows, sentence = mix_rows(a), mix_sentence(a)
+        result["mix_change"] = mix_json(a)
+    if (row := power_row(a)) is not None and rows:
+        rows.append(row)
+    if a.after_power is not None:
+        result["after_sample_power"] = power_json(a)
+    cap_rows = capability_rows(a)
+    if a.capability_change is not None:
+        result["capability_change"] = capability_json(a)
+    if len(a.business) > 1:
+        result["business"] = {name: business_json(f, m.sigma_level) for name, f in a.business}
+    if cap_rows:
+        # the indices are said once, in the table side by side: the phases' blocks keep
+        # their verdict, drawing and basis
+        for c in caps:
+            c["view"] = c["view"] | {"tiles": []}
     section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-               "comparison": comparison_rows(a), "note": after_note(a),
-               "sentence": a.comparison.sentence if a.comparison else "",
+               "comparison": rows, "note": after_note(a), "sentence": sentence,
                "improved": a.comparison.improved if a.comparison else None,
-               "capabilities": caps}
+               "neutral": a.mix is not None, "capabilities": caps,
+               "capability_rows": cap_rows, "capability_sentence": capability_sentence(a),
+               "business_rows": business_rows(a),
+               "business_note": business_note(a) if len(a.business) > 1 else ""}
     return section, result
 
 
