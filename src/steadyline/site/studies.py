@@ -21,11 +21,10 @@ from .cards import fmt
 from .serialise import plain
 
 SIGMA_WORDS = {
-    "with-shift": "with the conventional 1.5-sigma shift: the trade assumes the process mean "
-                  "drifts by 1.5 sigma in the long run, a convention and not a law (common "
-                  "practice)",
-    "without-shift": "the normal quantile of the yield, without the conventional 1.5-sigma "
-                     "shift (common practice)",
+    "with-shift": "with the trade's 1.5-sigma shift for long-run drift (a convention, not a "
+                  "law: common practice)",
+    "without-shift": "the normal quantile of the yield, without the trade's 1.5-sigma shift "
+                     "(common practice)",
 }
 
 
@@ -165,17 +164,17 @@ def _point_word(a: MetricAnalysis, n: int) -> str:
         return plural(n, "subgroup")
     if a.data.kind == "continuous":
         return plural(n, "value")
-    return plural(n, "point") + " (rows of the data file)"
+    return plural(n, "row") + " of data"
 
 
 def _change_text(a: MetricAnalysis) -> str:
     m, p = a.spec, a.after_plan
     if p.kind == "defectives":
-        return (f"{percentage_points(p.target - p.baseline)} (from {100 * p.baseline:.2f}% to "
-                f"{100 * p.target:.2f}%)")
+        return (f"{percentage_points(p.target - p.baseline)}, from {100 * p.baseline:.2f}% to "
+                f"{100 * p.target:.2f}%")
     sign = "+" if p.target > p.baseline else "−"
-    return (f"{sign}{fmt(abs(p.target - p.baseline), m.unit)} (from "
-            f"{fmt(p.baseline, m.unit)} to {fmt(p.target, m.unit)})")
+    return (f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, from "
+            f"{fmt(p.baseline, m.unit)} to {fmt(p.target, m.unit)}")
 
 
 def plan_fact(a: MetricAnalysis) -> dict | None:
@@ -184,7 +183,7 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
     if p is None:
         return None
     measure = {"continuous": "mean", "defectives": "proportion", "defects": "rate"}[p.kind]
-    lead = (f"To detect the expected change of the {measure}, {_change_text(a)}, with the "
+    lead = (f"To detect the expected change of the {measure} ({_change_text(a)}) with the "
             f"{p.test} at the {100 * p.alpha:g}% level and {100 * p.power:g}% power (common "
             "practice): ")
     if p.points is None:
@@ -306,6 +305,7 @@ def capability_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
             ("Ppk", _index_ci(b.ppk, None), _index_ci(f.ppk, None))]
     if b.cp is not None or b.pp is not None:
         rows.insert(1, ("Cp", _index_ci(b.cp, None), _index_ci(f.cp, None)))
+    rows = [r for r in rows if r[1:] != ("—", "—")]
     rows.append(("Counted outside", f"{counted_outside(b)} of {b.n}", f"{counted_outside(f)} of {f.n}"))
     rows.append(("Expected outside, sigma of all values", _outside(b.ppm_expected_overall),
                  _outside(f.ppm_expected_overall)))
