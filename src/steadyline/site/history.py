@@ -121,8 +121,9 @@ def after_note(a: MetricAnalysis) -> str:
             total = fmt(p.total, a.spec.unit or ("values" if a.spec.count is None else ""), 4)
             return total if a.spec.count is None else f"{total} from {chart_fmt(float(rows))} rows"
 
+        why = "; ".join(msg for disp, msg in a.failures if disp == "change in mix")
         return (f"Categories are compared by their Pareto charts below, phase by phase, with no "
-                f"test of the change: the {b_name.lower()} counts "
+                f"test of the change{f' ({why})' if why else ''}: the {b_name.lower()} counts "
                 f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
                 f"{counted(f, after)}.")
     why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
