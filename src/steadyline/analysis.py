@@ -375,6 +375,15 @@ def _after_sample(res: MetricAnalysis) -> None:
         level = float(counts[base].sum()) / n1 if n1 > 0 else float("nan")
     per_point = n1 / int(base.sum())
     target = level + float(spec.expected_change)
+    if kind == "defectives" and not 0 < target < 1 or kind == "defects" and not target > 0:
+        what = "proportion" if kind == "defectives" else "rate"
+        show = (lambda v: f"{100 * v:.3g}%") if kind == "defectives" else (lambda v: f"{v:.4g}")
+        bound = "between 0% and 100%" if kind == "defectives" else "above 0"
+        res.failures.append(("after sample", (
+            f"expected_change ({spec.expected_change:g}) takes the baseline {what} "
+            f"{show(level)} to {show(target)}, which is not {bound}; no after sample is "
+            "planned")))
+        return
     res.after_points = int(after.sum())
     res.after_plan = _try(res, "after sample", after_sample_needed, kind, level, target, n1,
                           size_per_point=per_point, sd=sd)

@@ -218,7 +218,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                   advice.run_findings(a.run, a.x, run_label), advice.run_cautions(a.run),
                   _lead(points_note(m)) + "Median of the baseline as centre line; rules: "
                   f"{run_label} ({RUN_RULES_DETAIL[RunRules(m.run_rules)]})."
-                  
+
                   + by_period_text(a),
                   notes=a.run.notes)
             result["run_chart"] = plain(a.run) | {"signals": signals_json(a.run.signals, a.x)}
