@@ -284,9 +284,9 @@ def test_after_sample_of_measured_values_is_statsmodels_t_test_power(demo_site):
     assert plan["achieved_power"] == pytest.approx(power(n2), rel=1e-6)
     assert plan["points"] == n2 and plan["baseline_size"] == n1
     text = _text(demo_site, slug, "index.html")
-    assert (f"with the two-sample t test (equal standard deviations) at the 5% level and 80% "
-            f"power (common practice): {n2} values after the change (the baseline has {n1} "
-            "values).") in text
+    assert f"After sample needed {n2} values, to detect the expected −0.15 mm in the mean (" in text
+    assert (f"two-sample t test, 5% level, 80% power (common practice), {n1} baseline "
+            "values.") in text
 
 
 def test_after_sample_of_a_rolled_up_metric_counts_its_days(demo_site):
@@ -308,7 +308,7 @@ def test_after_sample_of_a_rolled_up_metric_counts_its_days(demo_site):
     assert reached["after_points"] == len(after)
     assert reached["power"] == pytest.approx(power(len(after)), rel=1e-6)
     text = _text(demo_site, slug, "history.html")
-    assert f"After sample {len(after)} days of {plan['points']} days power " in text
+    assert f"After sample {len(after)} days; {plan['points']} needed power " in text
 
 
 def test_after_sample_of_defectives_is_statsmodels_two_proportion_power(demo_site):

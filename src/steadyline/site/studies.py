@@ -164,17 +164,23 @@ def _point_word(a: MetricAnalysis, n: int) -> str:
         return plural(n, "subgroup")
     if a.data.kind == "continuous":
         return plural(n, "value")
-    return plural(n, "row") + " of data"
+    return plural(n, "point")
+
+
+def _by_row(a: MetricAnalysis) -> bool:
+    """Whether a point of the metric is one row of its data (attributes, no roll-up)."""
+    return (a.spec.rollup is None and a.data.by_period is None
+            and a.data.kind in ("defectives", "defects"))
 
 
 def _change_text(a: MetricAnalysis) -> str:
     m, p = a.spec, a.after_plan
     if p.kind == "defectives":
-        return (f"{percentage_points(p.target - p.baseline)}, from {100 * p.baseline:.2f}% to "
+        return (f"{percentage_points(p.target - p.baseline)}, {100 * p.baseline:.2f}% → "
                 f"{100 * p.target:.2f}%")
     sign = "+" if p.target > p.baseline else "−"
-    return (f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, from "
-            f"{fmt(p.baseline, m.unit)} to {fmt(p.target, m.unit)}")
+    return (f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, {fmt(p.baseline)} → "
+            f"{fmt(p.target, m.unit)}")
 
 
 def plan_fact(a: MetricAnalysis) -> dict | None:
@@ -183,16 +189,19 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
     if p is None:
         return None
     measure = {"continuous": "mean", "defectives": "proportion", "defects": "rate"}[p.kind]
-    lead = (f"To detect the expected change of the {measure} ({_change_text(a)}) with the "
-            f"{p.test} at the {100 * p.alpha:g}% level and {100 * p.power:g}% power (common "
-            "practice): ")
+    # the answer first; the test by its name (the plan's assumptions are in results.json and
+    # the methods), the exact rate test's approximation said since the plan uses it
+    test = p.test if p.kind == "defects" else p.test.split(" (")[0]
+    step, span = _change_text(a).split(", ", 1)
+    why = (f"to detect the expected {step} in the {measure} ({span}): {test}, "
+           f"{100 * p.alpha:g}% level, {100 * p.power:g}% power (common practice)")
     if p.points is None:
         return {"term": "After sample needed",
-                "text": lead + "not reachable with this baseline. " + " ".join(p.notes)}
+                "text": f"Not reachable with this baseline, {why}. " + " ".join(p.notes)}
     return {"term": "After sample needed",
-            "text": lead + f"{_point_word(a, p.points)} after the change "
-                           f"(the baseline has {_count(p.baseline_size)} "
-                           f"{_size_word(a)})."}
+            "text": f"{_point_word(a, p.points)}"
+                    + (" (a point per row of data)" if _by_row(a) else "")
+                    + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a)}."}
 
 
 def _size_word(a: MetricAnalysis) -> str:
@@ -210,12 +219,13 @@ def power_row(a: MetricAnalysis) -> tuple[str, str, str] | None:
     p, r = a.after_plan, a.after_power
     if p is None:
         return None
-    needed = "not reachable" if p.points is None else _point_word(a, p.points)
+    needed = ("no after sample reaches the power wanted" if p.points is None
+              else f"{p.points} needed")
     so_far = _point_word(a, a.after_points)
     if r is None:
-        return ("After sample", f"{so_far} of {needed}", "no after data yet")
+        return ("After sample", f"{so_far}; {needed}", "no after data yet")
     verdict = ("reached" if r.reached else "not reached yet")
-    return ("After sample", f"{so_far} of {needed}",
+    return ("After sample", f"{so_far}; {needed}",
             f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(a)}); "
             f"{100 * POWER:g}% wanted: {verdict}")
 
