@@ -28,6 +28,7 @@ from .studies import (
     business_note,
     business_rows,
     capability_json,
+    capability_note,
     capability_rows,
     capability_sentence,
     mix_json,
@@ -234,6 +235,7 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
                "improved": a.comparison.improved if a.comparison else None,
                "neutral": a.mix is not None, "capabilities": caps,
                "capability_rows": cap_rows, "capability_sentence": capability_sentence(a),
+               "capability_note": capability_note(a) if cap_rows else "",
                "business_rows": business_rows(a),
                "business_note": business_note(a) if len(a.business) > 1 else ""}
     return section, result

@@ -34,7 +34,7 @@ def yield_text(y: float) -> str:
     if bad <= 0:
         return "100%"
     if bad < 1e-4:
-        return f"above 99.99% ({fmt(1e6 * bad, digits=2)} per million outside)"
+        return "above 99.99%"  # the share outside, per million, is said beside it
     return f"{100 * y:.2f}%"
 
 
@@ -339,9 +339,27 @@ def capability_sentence(a: MetricAnalysis) -> str:
         beyond = "the 95% intervals overlap, so the change is not shown beyond them"
     else:
         beyond = "the 95% intervals do not overlap: the change is beyond them"
-    notes = "".join(f" {n}" for n in x.notes)
+    caps = [c for _, _, c in a.phase_histograms if c is not None]
+    # which period's Cpk is not to be trusted, in a clause: the reasons are each phase's
+    # block's own (said there, once)
+    doubt = [name for name, c in (("baseline", caps[0]), ("after period", caps[-1]))
+             if not c.trustworthy]
+    trust = ("" if not doubt else
+             " Neither Cpk is to be trusted yet, nor its interval (the phases' blocks below "
+             "say why)." if len(doubt) == 2 else
+             f" The {doubt[0]}'s Cpk is not to be trusted yet, nor its interval (its block "
+             f"below says why).")
     return (f"Cpk {direction} from {x.cpk_before:.2f} to {x.cpk_after:.2f}: {beyond}; the "
-            f"{x.test} gives {format_p_value(x.p_value)}.{notes}")
+            f"{x.test} gives {format_p_value(x.p_value)}.{trust}")
+
+
+def capability_note(a: MetricAnalysis) -> str:
+    """What the capability table's figures rest on, said once under it."""
+    note = ("Expected shares and yields assume a normal distribution; each phase's block below "
+            "says whether its figures can be trusted.")
+    if a.spec.sigma_level != "off" and any(f.kind == "measured" for _, f in a.business):
+        note += f" Sigma level: {SIGMA_WORDS[a.spec.sigma_level]}."
+    return note
 
 
 def capability_json(a: MetricAnalysis) -> dict | None:
