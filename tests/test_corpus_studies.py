@@ -9,7 +9,8 @@ lines matched, the exit code, no traceback); tests/test_check_build_parity.py ru
   without units are errors at the key;
 - ``expected_change`` is a number other than zero, not for categories, and for defectives a
   change of the proportion between −1 and 1; a change the baseline cannot take (a proportion
-  below 0) is a warning of the metric's after-sample display, and the project is built;
+  below 0) is a warning of the metric's after-sample display, and the project is built; a
+  change the worse way (by ``better``) is a warning at the key;
 - portfolio.toml's ``sigma_level`` is one of off, with-shift, without-shift.
 """
 
@@ -82,6 +83,10 @@ CASES = [
          [exact("p/data.csv: warning: metric 'm', after sample: expected_change (-0.5) takes "
                 "the baseline proportion 1.7% to -48.3%, which is not between 0% and 100%; no "
                 "after sample is planned")], 0),
+    Case("expected-change-the-worse-way", portfolio(toml=meta(metric={"expected_change": 2})),
+         [exact('p/project.toml:17: warning: metric[1].expected_change: 2 is a change for the '
+                'worse (better = "lower"); the after sample is sized to detect it all the same')],
+         0),
     Case("sigma-level-unknown",
          portfolio(files={"portfolio.toml": 'sigma_level = "yes"\n'}),
          [r"^portfolio\.toml:1: sigma_level: expected one of off, with-shift, without-shift, got \'yes\'$"], 1),

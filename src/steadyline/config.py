@@ -1032,6 +1032,10 @@ def _check_study_keys(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) -> N
         elif m.type == "defectives" and not -1 < change < 1:
             ck.add(key, f"a change of a proportion lies between -1 and 1 (write -0.02 for two "
                    f"percentage points down), got {_num(change)}", line)
+        elif (m.better, change > 0) in (("lower", True), ("higher", False)):
+            ck.add(key, f"{_num(change)} is a change for the worse (better = \"{m.better}\"); "
+                   "the after sample is sized to detect it all the same", line,
+                   severity="warning")
 
 
 def _num(x: float) -> str:
