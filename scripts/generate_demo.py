@@ -265,7 +265,8 @@ def wheel_build_lead_time() -> dict[str, str]:
             {"id": "lead-time-daily", "name": "Lead time, by day", "file": "orders.csv",
              "type": "continuous", "time": "completed", "value": "lead_time_h",
              "unit": "hours", "better": "lower", "spec_upper": 72.0, "headline": True,
-             "rollup": {"period": "day", "statistic": "mean"}, "set_aside": customs_aside},
+             "expected_change": -12.0, "rollup": {"period": "day", "statistic": "mean"},
+             "set_aside": customs_aside},
             {"id": "lead-time-order", "name": "Lead time per order", "file": "orders.csv",
              "type": "continuous", "time": "completed", "value": "lead_time_h",
              "unit": "hours", "better": "lower", "spec_upper": 72.0, "limits": "per-phase",
@@ -605,7 +606,7 @@ def wheel_truing_first_pass_yield() -> dict[str, str]:
             {"id": "nipple-audit", "name": "Cracked nipples in the daily audit of 200",
              "file": "nipple_audit.csv", "type": "defectives", "time": "audited",
              "count": "cracked", "size": "nipples_checked", "unit": "nipples",
-             "better": "lower"},
+             "better": "lower", "expected_change": -0.015},
         ],
     }
     notes = """\
@@ -701,7 +702,7 @@ def paint_finish_defects() -> dict[str, str]:
              "file": "paint_batches.xlsx", "sheet": "Batches", "type": "defects",
              "time": "painted",
              "count": "defects", "size": "frames_painted", "unit": "defects per frame",
-             "better": "lower", "headline": True},
+             "better": "lower", "headline": True, "opportunities_per_unit": 24},
             {"id": "scanner-blemishes", "name": "Scanner blemishes per square metre",
              "file": "paint_scanner_weekly.csv", "type": "defects", "time": "week_start",
              "count": "blemishes", "size": "area_m2", "unit": "blemishes per m²",
@@ -715,7 +716,8 @@ def paint_finish_defects() -> dict[str, str]:
 ## Background
 Frames are powder coated in batches of 40–120 (one batch each Monday, Wednesday and Friday).
 Final inspection logs every visible finish defect with its type. Because batch sizes differ,
-the chart plots defects **per frame**, with limits that depend on each batch's size.
+the chart plots defects **per frame**, with limits that depend on each batch's size. The
+inspection plan checks 24 zones on each frame, so a frame has 24 opportunities for a defect.
 
 On **18 February** the booth intake filters were clogged; that batch shows a burst of dust
 inclusions and is a known special cause.
@@ -886,7 +888,7 @@ def frame_dropout_alignment() -> dict[str, str]:
              "file": "supplier_alignment_export.csv", "type": "continuous",
              "time": "measured", "value": "dropout_offset_mm", "unit": "mm",
              "better": "lower", "spec_upper": 0.8, "headline": True, "bins": "sturges",
-             "csv": {"delimiter": ";", "decimal": ","}},
+             "expected_change": -0.15, "csv": {"delimiter": ";", "decimal": ","}},
         ],
     }
     notes = """\
@@ -1016,6 +1018,7 @@ PORTFOLIO = {
     "quartiles": "linear",
     "bins": "fd",
     "max_file_mb": 200,
+    "sigma_level": "with-shift",
 }
 
 

@@ -110,7 +110,10 @@ def test_no_sentence_denies_the_after_data_beside_its_chart(demo_site, case):
     section = page[page.index(f'id="metric-{mid}"'):]
     section = section[:section.index("</section>")]
     assert "No after period with data yet" not in section
-    assert "compared by their Pareto charts below" in section
+    # the change in mix is tested (its sentence and table), so no sentence says "no test"
+    assert "The shares of the categories " in section
+    assert "Pearson&#39;s chi-square test of homogeneity" in section
+    assert "with no test of the change" not in section
 
 
 def test_without_a_baseline_period_the_cards_say_all_data(tmp_path):

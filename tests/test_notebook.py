@@ -11,6 +11,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from steadyline.config import load_portfolio
 from steadyline.errors import ProjectError
 from steadyline.notebook import Chart, analyse_frame, vegalite_media_type
 
@@ -40,7 +41,9 @@ def test_a_frame_gives_what_the_build_of_its_csv_gives(demo_site, slug):
     frame = pd.read_csv(DEMO / slug / m["file"], parse_dates=[m["time"]] if "time" in m
                         else None)
     before = frame.copy()
-    r = analyse_frame(frame, m, events=events)
+    # the demo portfolio's settings (its sigma_level shows the sigma level)
+    settings, _ = load_portfolio(DEMO)
+    r = analyse_frame(frame, m, events=events, settings=settings)
     pd.testing.assert_frame_equal(frame, before)  # the frame is not changed
     built = json.loads((demo_site / "projects" / slug / "results.json").read_text())
     entry = next(e for e in built["metrics"] if e["id"] == m["id"])

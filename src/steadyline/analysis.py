@@ -15,11 +15,15 @@ import numpy as np
 from .config import MetricSpec
 from .loading import STAGE_AFTER, STAGE_BASELINE, STAGE_NAMES, STAGE_OTHER, MetricData, StudyData
 from .stats import control, distribution, rules, runs
+from .stats.after_sample import after_sample_needed, power_reached
+from .stats.business import defect_figures, defective_figures, measured_figures
 from .stats.capability import capability as capability_of
+from .stats.capability_change import capability_change
 from .stats.choice import choose_chart
 from .stats.compare import compare
 from .stats.evidence import PointEvidence, point_evidence
 from .stats.gauge import appraiser_ranges, gauge_study
+from .stats.mix import mix_change
 from .stats.pareto import pareto, pareto_in_order
 from .stats.results import (
     BoxSummary,
@@ -34,7 +38,15 @@ from .stats.results import (
     Signal,
     StatsError,
 )
-from .stats.results_studies import AppraiserRanges, GaugeStudy
+from .stats.results_studies import (
+    AfterSamplePlan,
+    AppraiserRanges,
+    BusinessFigures,
+    CapabilityChange,
+    GaugeStudy,
+    MixChange,
+    PowerReached,
+)
 from .vocab import PeriodKind, period_value
 
 # Fewer than this many points in the after phase: its own limits are not drawn on the history
@@ -82,6 +94,15 @@ class MetricAnalysis:
     # the individual values left out of the baseline's histogram, box plot and capability
     values_aside: int = 0
     aside_counts: tuple[int, ...] = ()  # points per entry of spec.set_aside
+    # the history page's studies: the change in mix of a categories metric, Cpk before vs after
+    mix: MixChange | None = None
+    capability_change: CapabilityChange | None = None
+    # the figures the business reports, per phase (baseline first, then after when it has data)
+    business: list[tuple[str, BusinessFigures]] = field(default_factory=list)
+    # the after sample needed to detect spec.expected_change, and the power reached so far
+    after_plan: AfterSamplePlan | None = None
+    after_power: PowerReached | None = None
+    after_points: int = 0  # points of the after phase (what the plan's points are counted in)
 
     @property
     def spec(self) -> MetricSpec:
@@ -294,7 +315,110 @@ def analyse(data: MetricData) -> MetricAnalysis:
         if res.run is not None:
             res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
                                    res.run.median, spec.run_rules)
+    _business(res)
+    if len(res.phase_histograms) > 1:
+        (_, _, cb), (_, _, ca) = res.phase_histograms[0], res.phase_histograms[-1]
+        if cb is not None and ca is not None and cb.cpk is not None and ca.cpk is not None:
+            res.capability_change = _try(res, "capability before and after",
+                                         capability_change, cb, ca)
+    if spec.expected_change is not None:
+        _after_sample(res)
     return res
+
+
+SHIFT = {"with-shift": True, "without-shift": False, "off": False}
+
+
+def _business(res: MetricAnalysis) -> None:
+    """The figures the business reports, for the baseline and (with data) the after period:
+    from each phase's totals (defectives; defects counted on units, ``size``), or from the
+    phase's capability study (measured values with specification limits)."""
+    data, spec = res.data, res.data.spec
+    shift = SHIFT[spec.sigma_level]
+    if data.kind in ("defectives", "defects"):
+        if data.kind == "defects" and spec.size is None:
+            return  # no units checked: no figure per unit
+        pts = data.points
+        stage = pts["stage"].to_numpy(int)
+        counts, sizes = pts["count"].to_numpy(float), pts["size"].to_numpy(float)
+        for st in (STAGE_BASELINE, STAGE_AFTER):
+            sel = stage == st
+            if not sel.any():
+                continue
+            d, u = float(counts[sel].sum()), float(sizes[sel].sum())
+            f = _try(res, "business figures", defective_figures, d, u, shift) \
+                if data.kind == "defectives" else \
+                _try(res, "business figures", defect_figures, d, u,
+                     spec.opportunities_per_unit, shift)
+            if f is not None:
+                res.business.append((STAGE_NAMES[st], f))
+    elif res.phase_histograms:
+        for name, _, c in res.phase_histograms:
+            if c is not None:
+                f = _try(res, "business figures", measured_figures, c, "overall", shift)
+                if f is not None:
+                    res.business.append((name, f))
+    elif res.capability is not None:
+        f = _try(res, "business figures", measured_figures, res.capability, "overall", shift)
+        if f is not None:
+            res.business.append((STAGE_NAMES[STAGE_BASELINE], f))
+
+
+PLAN_KIND = {"continuous": "continuous", "subgroups": "continuous", "defectives": "defectives",
+             "defects": "defects"}
+
+
+def _after_sample(res: MetricAnalysis) -> None:
+    """How many after points the comparison's test needs to detect the expected change, at its
+    5% level with 80% power, and the power the after phase has reached so far.
+
+    Sizes are what the test counts: values (the period values of a rolled-up metric), items
+    checked (defectives) or the area of opportunity (defects; each point counts 1 without a
+    ``size``); a point's size is the baseline's average per point."""
+    data, spec = res.data, res.data.spec
+    if data.kind not in PLAN_KIND:
+        return
+    pts = data.points
+    stage = pts["stage"].to_numpy(int)
+    base, after = stage == STAGE_BASELINE, stage == STAGE_AFTER
+    if not base.any():
+        res.failures.append(("after sample", "no baseline period with data to plan from"))
+        return
+    kind = PLAN_KIND[data.kind]
+    sd = None
+    if kind == "continuous":
+        if spec.rollup is None and data.values is not None:
+            vv = data.values["value"].to_numpy(float)
+            vs = data.values["stage"].to_numpy(int)
+            b, a = vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER]
+        else:
+            vals = pts["value"].to_numpy(float)
+            b, a = vals[base], vals[after]
+        b = b[np.isfinite(b)]
+        a = a[np.isfinite(a)]
+        level, n1, n2 = float(np.mean(b)) if len(b) else float("nan"), float(len(b)), len(a)
+        sd = float(np.std(b, ddof=1)) if len(b) > 1 else None
+    else:
+        counts, sizes = pts["count"].to_numpy(float), pts["size"].to_numpy(float)
+        n1, n2 = float(sizes[base].sum()), float(sizes[after].sum())
+        level = float(counts[base].sum()) / n1 if n1 > 0 else float("nan")
+    per_point = n1 / int(base.sum())
+    target = level + float(spec.expected_change)
+    if kind == "defectives" and not 0 < target < 1 or kind == "defects" and not target > 0:
+        what = "proportion" if kind == "defectives" else "rate"
+        show = (lambda v: f"{100 * v:.3g}%") if kind == "defectives" else (lambda v: f"{v:.4g}")
+        bound = "between 0% and 100%" if kind == "defectives" else "above 0"
+        res.failures.append(("after sample", (
+            f"expected_change ({spec.expected_change:g}) takes the baseline {what} "
+            f"{show(level)} to {show(target)}, which is not {bound}; no after sample is "
+            "planned")))
+        return
+    res.after_points = int(after.sum())
+    res.after_plan = _try(res, "after sample", after_sample_needed, kind, level, target, n1,
+                          size_per_point=per_point, sd=sd)
+    if res.after_plan is not None and n2 > 0:
+        res.after_power = _try(res, "after sample", power_reached, kind, level, target, n1, n2,
+                               sd=sd)
 
 
 def points_note(spec: MetricSpec) -> str:
@@ -433,6 +557,12 @@ def _categories(res: MetricAnalysis) -> None:
         if p is not None:
             res.phase_paretos = [(STAGE_NAMES[STAGE_BASELINE], res.pareto),
                                  (STAGE_NAMES[STAGE_AFTER], p)]
+            # the counts of every category in both periods, in the after period's bar order
+            b_tally = dict(zip(res.pareto.categories, res.pareto.counts, strict=True))
+            a_tally = dict(zip(p.categories, p.counts, strict=True))
+            res.mix = _try(res, "change in mix", mix_change, order,
+                           [b_tally.get(c, 0.0) for c in order],
+                           [a_tally.get(c, 0.0) for c in order])
 
 
 def after_order(baseline: Pareto, after: Pareto) -> list[str]:

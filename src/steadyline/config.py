@@ -34,6 +34,7 @@ DATA_TYPES = DataType.codes()
 STUDY = DataType.STUDY.value  # a measurement system study: no time, no better direction
 BETTER = ("lower", "higher", "target")
 CHARTS = ChartKind.codes()
+SIGMA_LEVELS = ("off", "with-shift", "without-shift")
 SIGNAL_RULES = SignalRules.codes()
 RUN_RULES = RunRules.codes()
 LIMIT_MODES = ("baseline", "per-phase")
@@ -122,6 +123,8 @@ class PortfolioSettings:
     # Only the index uses it, and the index is rendered on every build: kept out of repr, so
     # out of every project's input hash, and changing it rebuilds no project.
     stale_after_days: int = field(default=STALE_AFTER_DAYS, repr=False)
+    # whether the pages and results.json give the sigma level, and by which convention
+    sigma_level: str = "off"
 
 
 @dataclass(frozen=True)
@@ -154,6 +157,13 @@ class MetricSpec:
     quartiles: str = "linear"
     bins: str | tuple[float, ...] = "fd"
     normal_curve: bool = False
+    # the number of places on one unit where a defect can occur (defects: for DPMO)
+    opportunities_per_unit: float | None = None
+    # the change of the compared measure the project expects (mean, proportion or rate, in the
+    # metric's own terms): the after sample is sized to detect it
+    expected_change: float | None = None
+    # the portfolio's sigma_level, carried with each metric (analysis sees no portfolio)
+    sigma_level: str = "off"
     baseline: Period | None = None
     after: Period | None = None
     rollup: Rollup | None = None
@@ -517,7 +527,8 @@ KEYS: dict[str, tuple[Key, ...]] = {
         Key("chart", "choice", CHARTS), Key("signal_rules", "choice", SIGNAL_RULES),
         Key("run_rules", "choice", RUN_RULES), Key("limits", "choice", LIMIT_MODES),
         Key("quartiles", "choice", QUARTILE_METHODS), Key("bins", "bins", BIN_RULES),
-        Key("normal_curve", "boolean"), Key("baseline", "period"), Key("after", "period"),
+        Key("normal_curve", "boolean"), Key("opportunities_per_unit", "positive"),
+        Key("expected_change", "number"), Key("baseline", "period"), Key("after", "period"),
         Key("measurement_study", "id"), Key("rollup", "table"), Key("csv", "table"),
         Key("set_aside", "tables"),
     ),
@@ -532,6 +543,7 @@ KEYS: dict[str, tuple[Key, ...]] = {
         Key("run_rules", "choice", RUN_RULES), Key("quartiles", "choice", QUARTILE_METHODS),
         Key("bins", "choice", BIN_RULES), Key("max_file_mb", "positive"),
         Key("stale_after_days", "integer", minimum=1),
+        Key("sigma_level", "choice", SIGMA_LEVELS),
     ),
 }
 
@@ -603,6 +615,7 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
         bins=r.choice("bins", BIN_RULES, d.bins),
         max_file_mb=mb if mb and mb > 0 else d.max_file_mb,
         stale_after_days=r.integer("stale_after_days", minimum=1) or d.stale_after_days,
+        sigma_level=r.choice("sigma_level", SIGMA_LEVELS, d.sigma_level),
     )
     return settings, ck.problems
 
@@ -959,6 +972,8 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         limits=r.choice("limits", LIMIT_MODES, "baseline"),
         quartiles=r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
         bins=bins, normal_curve=r.boolean("normal_curve"),
+        opportunities_per_unit=r.number("opportunities_per_unit"),
+        expected_change=r.number("expected_change"), sigma_level=settings.sigma_level,
         baseline=own_baseline or comp_baseline, after=own_after or comp_after,
         rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), sheet=sheet,
         measurement_study=study_id, **cols,
@@ -1172,6 +1187,7 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
             ck.add(f"{prefix}target", f"the target {_num(t)} is {limits}; a process on target "
                    "would be out of specification: check the target and the limits",
                    r._line("target"))
+    _check_business_keys(ck, m, prefix, r)
     if m.better == "target" and m.target is None:
         ck.add(f"{prefix}target", "better = \"target\" needs a target value", line,
                severity="warning")
@@ -1184,7 +1200,8 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
 # control chart and no periods of its own (the project's [comparison] does not apply to it).
 _NOT_FOR_STUDY = ("time", "subgroup", "subgroup_size", "count", "size", "category", "better",
                   "target", "chart", "signal_rules", "run_rules", "limits", "quartiles", "bins",
-                  "normal_curve", "baseline", "after", "rollup", "measurement_study")
+                  "normal_curve", "baseline", "after", "rollup", "measurement_study",
+                  "opportunities_per_unit", "expected_change")
 
 
 def _check_study_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader, need) -> None:
@@ -1240,6 +1257,38 @@ def check_study_links(ck: _Checker, indexed: list[tuple[int, MetricSpec]]) -> No
         ck.add("metric", "every metric is a measurement study; a project needs at least one "
                "process metric for its measurements to qualify and its status to judge",
                ck.loc.line_of(None, "metric", 0))
+
+
+def _check_business_keys(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) -> None:
+    """opportunities_per_unit and expected_change: what each needs to mean anything."""
+    opp = m.opportunities_per_unit
+    if opp is not None:
+        key, line = f"{prefix}opportunities_per_unit", r._line("opportunities_per_unit")
+        if m.type != "defects":
+            ck.add(key, f"applies to defects metrics only (this one is {m.type}); remove it",
+                   line)
+        elif opp <= 0:
+            ck.add(key, f"must be a positive number of places a defect can occur on one "
+                   f"unit, got {_num(opp)}", line)
+        elif m.size is None:
+            ck.add(key, "needs 'size', the column with the number of units checked, to count "
+                   "the opportunities", line)
+    change = m.expected_change
+    if change is not None:
+        key, line = f"{prefix}expected_change", r._line("expected_change")
+        if m.type == "categories":
+            ck.add(key, "does not apply to a categories metric (no single measure to "
+                   "change); remove it", line)
+        elif change == 0:
+            ck.add(key, "must not be zero: it is the change the after sample is sized to "
+                   "detect", line)
+        elif m.type == "defectives" and not -1 < change < 1:
+            ck.add(key, f"a change of a proportion lies between -1 and 1 (write -0.02 for two "
+                   f"percentage points down), got {_num(change)}", line)
+        elif (m.better, change > 0) in (("lower", True), ("higher", False)):
+            ck.add(key, f"{_num(change)} is a change for the worse (better = \"{m.better}\"); "
+                   "the after sample is sized to detect it all the same", line,
+                   severity="warning")
 
 
 def _num(x: float) -> str:

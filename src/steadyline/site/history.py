@@ -23,6 +23,20 @@ from ..vocab import RunRules, percentage_points, proportion_text, proportion_uni
 from .capability_view import capability_view
 from .cards import Displays, fmt, pct, signals_json
 from .drawn import box_json, by_period_text, pareto_json
+from .studies import (
+    business_json,
+    business_note,
+    business_rows,
+    capability_json,
+    capability_note,
+    capability_rows,
+    capability_sentence,
+    mix_json,
+    mix_rows,
+    mix_sentence,
+    power_json,
+    power_row,
+)
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
@@ -108,8 +122,9 @@ def after_note(a: MetricAnalysis) -> str:
             total = fmt(p.total, a.spec.unit or ("values" if a.spec.count is None else ""), 4)
             return total if a.spec.count is None else f"{total} from {chart_fmt(float(rows))} rows"
 
+        why = "; ".join(msg for disp, msg in a.failures if disp == "change in mix")
         return (f"Categories are compared by their Pareto charts below, phase by phase, with no "
-                f"test of the change: the {b_name.lower()} counts "
+                f"test of the change{f' ({why})' if why else ''}: the {b_name.lower()} counts "
                 f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
                 f"{counted(f, after)}.")
     why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
@@ -197,11 +212,32 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         result["comparison"] = a.comparison
     if a.after_shift is not None:
         result["sustained_shift"] = bool(a.after_shift.signals)
+    rows, sentence = comparison_rows(a), a.comparison.sentence if a.comparison else ""
+    if a.mix is not None:
+        rows, sentence = mix_rows(a), mix_sentence(a)
+        result["mix_change"] = mix_json(a)
+    if (row := power_row(a)) is not None and rows:
+        rows.append(row)
+    if a.after_power is not None:
+        result["after_sample_power"] = power_json(a)
+    cap_rows = capability_rows(a)
+    if a.capability_change is not None:
+        result["capability_change"] = capability_json(a)
+    if len(a.business) > 1:
+        result["business"] = {name: business_json(f, m.sigma_level) for name, f in a.business}
+    if cap_rows:
+        # the indices are said once, in the table side by side: the phases' blocks keep
+        # their verdict, drawing and basis
+        for c in caps:
+            c["view"] = c["view"] | {"tiles": []}
     section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-               "comparison": comparison_rows(a), "note": after_note(a),
-               "sentence": a.comparison.sentence if a.comparison else "",
+               "comparison": rows, "note": after_note(a), "sentence": sentence,
                "improved": a.comparison.improved if a.comparison else None,
-               "capabilities": caps}
+               "neutral": a.mix is not None, "capabilities": caps,
+               "capability_rows": cap_rows, "capability_sentence": capability_sentence(a),
+               "capability_note": capability_note(a) if cap_rows else "",
+               "business_rows": business_rows(a),
+               "business_note": business_note(a) if len(a.business) > 1 else ""}
     return section, result
 
 

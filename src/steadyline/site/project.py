@@ -83,6 +83,7 @@ from .index import csv_text
 from .notes import render_notes
 from .pack import PACK_FILE, pack_html
 from .serialise import dumps_bytes, plain, rounded_number
+from .studies import business_fact, business_json, measured_line, plan_fact, plan_json
 from .study_view import gauge_summary, is_study, study_section
 from .templates import render
 
@@ -301,7 +302,15 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
                "reasons": list(c.reasons), "view": capability_view(c, unit)}
         if aside_values_text(a):
             cap["view"]["basis"] = [*cap["view"]["basis"], aside_values_text(a)]
+        if a.business and a.business[0][1].kind == "measured":
+            # the expected yield beside the expected share outside it is the complement of
+            cap["view"]["tiles"][-1]["lines"][-1:-1] = measured_line(a.business[0][1],
+                                                                    m.sigma_level)
         result["capability"] = c
+    if a.business:
+        result["business"] = business_json(a.business[0][1], m.sigma_level)
+    if a.after_plan is not None:
+        result["after_sample_plan"] = plan_json(a)
     if a.normality is not None:
         result["normality"] = a.normality
     if m.set_aside and a.data.kind != "categories":
@@ -326,6 +335,7 @@ def metric_section(a: MetricAnalysis, spec: ProjectSpec, files: dict[str, bytes]
         "better_text": BETTER_TEXT[m.better] + (f" (target {fmt(m.target, unit)})"
                                                  if m.target is not None else ""),
         "spec_text": spec_text(m),
+        "study_facts": [f for f in (business_fact(a), plan_fact(a)) if f is not None],
         "rules_text": (f"{signal_label} on the control chart; {run_label} on the run chart"
                        if a.data.kind != "categories" else "Pareto: the smallest set of categories reaching 80% set apart"),
         "displays": d.cards, "capability": cap, "open_signals": open_signals,
