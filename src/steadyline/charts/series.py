@@ -165,7 +165,8 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             if with_limits
             else []
         ),
-        {"calculate": _STAGED_MARK if staged else (
+        {"calculate": (f"datum.aside ? '{MARK_ASIDE}' : ({_STAGED_MARK})" if aside
+                       else _STAGED_MARK) if staged else (
             f"datum.aside ? '{MARK_ASIDE}' : ({_SIGNAL_TEST})" if aside else _SIGNAL_TEST),
          "as": "marker"},
         {"calculate": "datum.signals || 'none'", "as": "signals"},
@@ -189,15 +190,17 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             {"domain": list_slot("mark_domain"), "range": list_slot("mark_shapes")},
             {"domain": list_slot("mark_domain"), "range": list_slot("mark_colours")},
         )
+        # a point set aside is drawn at the ordinary size, without the change marks' outline
+        plain = (f"datum.marker == '{MARK_ORDINARY}' || datum.marker == '{MARK_ASIDE}'"
+                 if aside else f"datum.marker == '{MARK_ORDINARY}'")
         size = {
-            "condition": {"test": f"datum.marker == '{MARK_ORDINARY}'",
-                          "value": style.SIZE_POINT},
+            "condition": {"test": plain, "value": style.SIZE_POINT},
             "value": style.SIZE_CHANGE,
         }
         # a dark outline on the change marks, none on ordinary points (a mark property: a
         # "stroke" channel here would meet the limit lines' stroke in one legend)
         mark = vl.mark("point", filled=True, opacity=1, strokeWidth=1, stroke={
-            "expr": f"datum.marker != '{MARK_ORDINARY}' ? '{style.CHANGE_OUTLINE}' : null"})
+            "expr": f"({plain}) ? null : '{style.CHANGE_OUTLINE}'"})
     else:
         scales = (
             {"domain": list(_MARK_DOMAIN), "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
@@ -1128,7 +1131,7 @@ def _control_parts(
         info=info_of(chart, own, own_stage),
         fitted=chart.fitted,
         marks=main_marks,
-        aside=None if staged else chart.set_aside,
+        aside=chart.set_aside,
     )
     limits, labels = _limit_rows(
         xa,
@@ -1162,7 +1165,7 @@ def _control_parts(
             info=info_of(sec, own_sec, osstage),
             fitted=sfit,
             marks=sec_marks,
-            aside=None if staged else _secondary_aside(chart, offset),
+            aside=_secondary_aside(chart, offset),
         )
         s_limits, s_labels = _limit_rows(
             xa, sec, offset, parts, carried=carried_mask(sec, sstage, sfit), set_name=set_name
@@ -1409,14 +1412,21 @@ def staged_control_chart(
     sec = carried.secondary
     is_time = ctx.x_is_time
     has_sec = sec is not None
+    aside = (carried.set_aside if carried.set_aside is not None and np.any(carried.set_aside)
+             else None)
+    has = aside is not None
     tpl = cached_template(
-        ("staged-control-chart", is_time, has_sec),
-        lambda: _control_template(is_time, has_sec, refs="staged"),
+        ("staged-control-chart", is_time, has_sec) + (("aside",) if has else ()),
+        lambda: _control_template(is_time, has_sec, refs="staged", aside=has),
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(
         ctx, carried, signals, offset, own=own, staged=True, evidence=evidence,
         own_signals=own_signals,
     )
+    if has:  # the points set aside: a mark of their own, named in the legend
+        values_map["mark_domain"] = [*values_map["mark_domain"], MARK_ASIDE]
+        values_map["mark_shapes"] = [*values_map["mark_shapes"], style.SHAPE_ASIDE]
+        values_map["mark_colours"] = [*values_map["mark_colours"], style.ASIDE]
 
     name = _kind_name(carried)
     title = f"{ctx.metric_name} \u2014 {name} by phase"
