@@ -1019,6 +1019,7 @@ PORTFOLIO = {
     "bins": "fd",
     "max_file_mb": 200,
     "sigma_level": "with-shift",
+    "handover_pack": True,
 }
 
 

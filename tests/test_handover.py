@@ -107,6 +107,26 @@ def test_every_demo_project_has_its_pack_linked_from_its_page(projects):
         assert f'href="{PACK_FILE}"' in page, p.name
 
 
+def test_without_the_portfolio_key_no_pack_is_drawn_or_linked(tmp_path):
+    """The pack is asked for (handover_pack in portfolio.toml): a portfolio without the key
+    gets no pack and no link to one, and its pages are the same otherwise."""
+    import shutil
+
+    from steadyline.site.build import BuildOptions, build
+
+    root = tmp_path / "projects"
+    shutil.copytree(REPO / "projects" / "order-picking-errors", root / "order-picking-errors")
+    report = build(BuildOptions(root, tmp_path / "site", force=True, jobs=1))
+    assert report.ok
+    folder = tmp_path / "site" / "projects" / "order-picking-errors"
+    assert (folder / "index.html").is_file() and not (folder / PACK_FILE).exists()
+    assert PACK_FILE not in (folder / "index.html").read_text(encoding="utf-8")
+    (root / "portfolio.toml").write_text("handover_pack = true\n", encoding="utf-8")
+    assert build(BuildOptions(root, tmp_path / "site", jobs=1)).ok
+    assert (folder / PACK_FILE).is_file()
+    assert f'href="{PACK_FILE}"' in (folder / "index.html").read_text(encoding="utf-8")
+
+
 def test_the_pack_runs_nothing_and_loads_nothing(projects):
     for p in projects:
         text = (p / PACK_FILE).read_text(encoding="utf-8")

@@ -125,6 +125,9 @@ class PortfolioSettings:
     stale_after_days: int = field(default=STALE_AFTER_DAYS, repr=False)
     # whether the pages and results.json give the sigma level, and by which convention
     sigma_level: str = "off"
+    # whether each project also gets its hand-over pack (handover.html): drawing its charts
+    # as SVG costs several times a project's build, so a portfolio asks for it
+    handover_pack: bool = False
 
 
 @dataclass(frozen=True)
@@ -543,7 +546,7 @@ KEYS: dict[str, tuple[Key, ...]] = {
         Key("run_rules", "choice", RUN_RULES), Key("quartiles", "choice", QUARTILE_METHODS),
         Key("bins", "choice", BIN_RULES), Key("max_file_mb", "positive"),
         Key("stale_after_days", "integer", minimum=1),
-        Key("sigma_level", "choice", SIGMA_LEVELS),
+        Key("sigma_level", "choice", SIGMA_LEVELS), Key("handover_pack", "boolean"),
     ),
 }
 
@@ -616,6 +619,7 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
         max_file_mb=mb if mb and mb > 0 else d.max_file_mb,
         stale_after_days=r.integer("stale_after_days", minimum=1) or d.stale_after_days,
         sigma_level=r.choice("sigma_level", SIGMA_LEVELS, d.sigma_level),
+        handover_pack=bool(r.boolean("handover_pack")),
     )
     return settings, ck.problems
 

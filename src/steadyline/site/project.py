@@ -593,14 +593,16 @@ def _build_ok(spec: ProjectSpec, warnings: list[Problem], root: Path,
     project_ctx["not_built"] = [b.spec.name for b in not_built]  # named on the history page
     page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
     html = render("project.html", project=project_ctx, metrics=sections, notes_html=notes_html,
-                  provenance=prov, warnings=page_warnings, has_history=has_history, **ctx)
+                  provenance=prov, warnings=page_warnings, has_history=has_history,
+                  has_pack=settings.handover_pack, **ctx)
     files["index.html"] = html.encode()
     history = None
     if has_history:
         files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
         history = history_results
-    files[PACK_FILE] = pack_html(spec, project_ctx, sections, history_sections, files,
-                                 notes_html, prov, page_warnings, ctx)
+    if settings.handover_pack:  # asked for in portfolio.toml (it costs more than the pages)
+        files[PACK_FILE] = pack_html(spec, project_ctx, sections, history_sections, files,
+                                     notes_html, prov, page_warnings, ctx)
     head = next(a for a in loaded if a.spec.id == spec.headline.id)
     verdict = judge(headline_facts(head))
     doc = {
