@@ -294,10 +294,8 @@ safety stock), so those days are set aside from the baseline.
 |---|---|---|
 | Typical lead time | about 52 h | about 30 h |
 | Orders over 72 h | about 1 in 7 | none |
-| Truing stands | 1 | 2 |
 
-The raw order data (one row per work order) is in [orders.csv](orders.csv); the daily chart
-uses the mean of the orders completed that day.
+The daily chart takes the mean of the orders completed each day ([orders.csv](orders.csv)).
 """
     return {"project.toml": toml_text(meta), "orders.csv":
             csv_text(["order_id", "released", "completed", "lead_time_h"], rows),

@@ -18,6 +18,7 @@ import pytest
 
 from steadyline.charts import style
 from steadyline.charts.series import (
+    MARK_ASIDE,
     CHANGE_MARKS,
     MARK_CHANGE_BETTER,
     MARK_CHANGE_UNJUDGED,
@@ -214,6 +215,8 @@ def test_sentences_and_legend_agree_with_results_json(staged):
             drawn.add(p["mark"] or MARK_ORDINARY)
             if p["own"]:
                 drawn.add(MARK_OWN_SIGNAL)
+            if p.get("aside"):  # a point set aside has a mark of its own
+                drawn.add(MARK_ASIDE)
         point_views = [v for v in _views(spec) if v["mark"]["type"] == "point"
                        and v.get("data", {}).get("name") == "points"]
         assert point_views

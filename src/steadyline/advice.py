@@ -73,6 +73,11 @@ def list_dates(labels: Sequence[str]) -> str:
     return ", ".join(labels[:MAX_DATES_LISTED]) + f" and {len(labels) - MAX_DATES_LISTED} more"
 
 
+# Run-chart rules that judge the series as a whole (how often it crosses its median, how many
+# runs it makes): their points are every point of the series, so none is named.
+_WHOLE_SERIES = frozenset({"too-few-crossings", "too-few-runs", "too-many-runs"})
+
+
 def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point",
                    phase: str = "", line: str = "centre line") -> str:
     """One sentence for every occurrence of one rule (on one chart, in one phase); ``line`` is
@@ -92,8 +97,8 @@ def group_sentence(group: Sequence[Signal], x: Sequence[str], what: str = "point
     times = "" if len(group) == 1 else f"{len(group)} times, "
     plural = what if len(points) == 1 else what + "s"
     lead = f"{phase}: " if phase else ""
-    if len(points) >= len(x):  # a pattern of the whole series (the number of runs): no list
-        return f"{lead}{sig.description}{side}{chart}."
+    if sig.rule in _WHOLE_SERIES or len(points) >= len(x):
+        return f"{lead}{sig.description}{side}{chart}."  # the whole series': no list of points
     return f"{lead}{sig.description}{side}{chart}: {times}{len(points)} {plural}, {dates}."
 
 

@@ -602,10 +602,10 @@ def test_chart_downloads_match_the_page(visits):
                 problems.append(f"{where}: CSV header {rows[:1]} != table header {f['header']}")
                 continue
             body = rows[1:]
-            # "(N rows)", or for long tables "(N rows; the first K shown, all in the CSV download)"
+            # "(N rows)", or for long tables "(N rows; K shown, all in the CSV)"
             summary = f["summary"] or ""
             total = re.search(r"\((\d+) rows?\b", summary)
-            first = re.search(r"the first (\d+) shown", summary)
+            first = re.search(r"; (\d+) shown", summary)
             if not total or int(total.group(1)) != len(body):
                 problems.append(f"{where}: table summary {summary!r} but {len(body)} CSV rows")
             n_shown = int(first.group(1)) if first else len(body)
