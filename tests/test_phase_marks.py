@@ -225,7 +225,7 @@ def test_sentences_and_legend_agree_with_results_json(staged):
             assert set(domain) == drawn | {MARK_ORDINARY}, where
             assert v["encoding"]["shape"]["legend"] is not None
             order = [MARK_ORDINARY, MARK_CHANGE_BETTER, MARK_CHANGE_WORSE, MARK_CHANGE_UNJUDGED,
-                     MARK_OWN_SIGNAL]
+                     MARK_OWN_SIGNAL, MARK_ASIDE]
             assert domain == [m for m in order if m in domain]
 
 
