@@ -144,17 +144,27 @@ def analyse_frame(frame: pd.DataFrame, metric: dict, *, events=None,
         results = orjson.loads(dumps_bytes(result))  # as results.json writes it
     finally:
         memo.forget()
+    return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=history,
+                         charts=_charts(spec, cards, files), warnings=_warnings(data, a))
+
+
+def _charts(spec: MetricSpec, cards: list[dict], files: dict[str, bytes]) -> dict[str, Chart]:
+    """The cards' charts by key: "control", "history-staged-control" (the page's anchor less
+    the metric id)."""
     charts = {}
-    for c in cards:  # "control", "history-staged-control": the page's anchor less the metric id
+    for c in cards:
         key = c["anchor"].replace(f"{spec.id}-", "", 1)
         charts[key] = Chart(key=key, title=c["title"], summary=c["summary"],
                             spec=orjson.loads(files[c["spec_href"]]),
                             findings=tuple(f["text"] for f in c["findings"]),
                             cautions=tuple(c["cautions"]), method=c["method"])
-    warnings = tuple(p.format() for p in data.problems) + tuple(
+    return charts
+
+
+def _warnings(data, a) -> tuple[str, ...]:
+    """The data's problems and the displays that failed, as printed lines."""
+    return tuple(p.format() for p in data.problems) + tuple(
         f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures)
-    return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=history,
-                         charts=charts, warnings=warnings)
 
 
 def _study_frame(spec: MetricSpec, frame: pd.DataFrame, events) -> FrameAnalysis:
@@ -172,17 +182,9 @@ def _study_frame(spec: MetricSpec, frame: pd.DataFrame, events) -> FrameAnalysis
         results = orjson.loads(dumps_bytes(result))
     finally:
         memo.forget()
-    charts = {}
-    for c in section["displays"]:
-        key = c["anchor"].replace(f"{spec.id}-", "", 1)
-        charts[key] = Chart(key=key, title=c["title"], summary=c["summary"],
-                            spec=orjson.loads(files[c["spec_href"]]),
-                            findings=tuple(f["text"] for f in c["findings"]),
-                            cautions=tuple(c["cautions"]), method=c["method"])
-    warnings = tuple(p.format() for p in data.problems) + tuple(
-        f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures)
     return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=None,
-                         charts=charts, warnings=warnings)
+                         charts=_charts(spec, section["displays"], files),
+                         warnings=_warnings(data, a))
 
 
 def _project(spec: MetricSpec, events) -> ProjectSpec:
