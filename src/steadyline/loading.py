@@ -1025,12 +1025,19 @@ def load_frame(spec: MetricSpec, frame: pd.DataFrame) -> MetricData:
     blank) and then read by the same checks and shaping, rows numbered as the lines of a CSV
     file with a header (the frame's first row is line 2). Raises ProjectError with every
     problem; the frame is not changed."""
+    df, out = _frame_table(spec, frame)
+    return _shape(spec, df, list(df.columns), out)
+
+
+def _frame_table(spec: MetricSpec, frame: pd.DataFrame) -> tuple[pd.DataFrame, _Rows]:
+    """A DataFrame's cells as the text table a file becomes, with the collector of its
+    problems; raises ProjectError when the frame cannot be read at all."""
     out = _Rows(spec)
     df = _frame_cells(frame, out)
     if df is None:
         out.raise_if_failed()
     assert df is not None
-    return _shape(spec, df, list(df.columns), out)
+    return df, out
 
 
 def _cell_text(v) -> str:
@@ -1406,11 +1413,7 @@ def load_study(spec: MetricSpec, settings: PortfolioSettings | None = None) -> S
 def load_study_frame(spec: MetricSpec, frame: pd.DataFrame) -> StudyData:
     """:func:`load_study` for data in a DataFrame, its cells read as a CSV file's (see
     :func:`load_frame`). Raises ProjectError with every problem; the frame is not changed."""
-    out = _Rows(spec)
-    df = _frame_cells(frame, out)
-    if df is None:
-        out.raise_if_failed()
-    assert df is not None
+    df, out = _frame_table(spec, frame)
     return _study_shape(spec, df, list(df.columns), out)
 
 
