@@ -49,8 +49,10 @@ import synth  # noqa: E402
 # Commands run as on an ordinary installation: Python caches compiled modules (a shell that
 # sets PYTHONDONTWRITEBYTECODE would otherwise make every fresh process compile them again).
 ENV = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
-ENV.update(PYTHONPATH=os.pathsep.join(filter(None, [str(REPO / "src"),
-                                                   os.environ.get("PYTHONPATH")])), CI="1")
+ENV.update(
+    PYTHONPATH=os.pathsep.join(filter(None, [str(REPO / "src"), os.environ.get("PYTHONPATH")])),
+    CI="1",
+)
 
 
 def run(cmd: list[str]) -> float:
@@ -61,10 +63,14 @@ def run(cmd: list[str]) -> float:
 
 def child_peak_kib(code: str) -> tuple[float, int]:
     """Run Python code in a fresh process; return (seconds, peak RSS in KiB)."""
-    wrapper = ("import resource,sys,time\nt=time.perf_counter()\n" + code +
-               "\nprint(time.perf_counter()-t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)")
-    out = subprocess.run([sys.executable, "-c", wrapper], env=ENV, check=True,
-                         capture_output=True, text=True).stdout.split()
+    wrapper = (
+        "import resource,sys,time\nt=time.perf_counter()\n"
+        + code
+        + "\nprint(time.perf_counter()-t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", wrapper], env=ENV, check=True, capture_output=True, text=True
+    ).stdout.split()
     return float(out[-2]), int(out[-1])
 
 
@@ -74,12 +80,14 @@ def steadyline(*args: str) -> list[str]:
 
 def floor_read_write(root: Path, out_bytes: int, scratch: Path) -> float:
     """Read every CSV with pandas and write out_bytes to disk: the work no build can avoid."""
-    code = (f"import pandas as pd, pathlib, os\n"
-            f"for p in sorted(pathlib.Path({str(root)!r}).rglob('*.csv')): pd.read_csv(p)\n"
-            f"d = pathlib.Path({str(scratch)!r}); d.mkdir(exist_ok=True)\n"
-            f"chunk = b'x' * (1 << 20); left = {out_bytes}; i = 0\n"
-            f"while left > 0:\n"
-            f"    n = min(left, 1 << 20); (d / f'f{{i}}').write_bytes(chunk[:n]); left -= n; i += 1\n")
+    code = (
+        f"import pandas as pd, pathlib, os\n"
+        f"for p in sorted(pathlib.Path({str(root)!r}).rglob('*.csv')): pd.read_csv(p)\n"
+        f"d = pathlib.Path({str(scratch)!r}); d.mkdir(exist_ok=True)\n"
+        f"chunk = b'x' * (1 << 20); left = {out_bytes}; i = 0\n"
+        f"while left > 0:\n"
+        f"    n = min(left, 1 << 20); (d / f'f{{i}}').write_bytes(chunk[:n]); left -= n; i += 1\n"
+    )
     t = time.perf_counter()
     subprocess.run([sys.executable, "-c", code], env=ENV, check=True)
     return time.perf_counter() - t
@@ -112,8 +120,9 @@ def forget_digests(root: Path) -> None:
     digest_memo_for(root).path.unlink(missing_ok=True)
 
 
-def bench_portfolio(work: Path, projects: int, metrics: int, rows: int, rows_out: list,
-                    rounds: int = 5):
+def bench_portfolio(
+    work: Path, projects: int, metrics: int, rows: int, rows_out: list, rounds: int = 5
+):
     root = synth.generate(work / "portfolio", projects, metrics, rows)
     # Full builds and floors alternate, each after the disk has caught up, five rounds: this
     # machine's speed drifts over minutes, and the floor (mostly writing the bytes) takes from
@@ -134,33 +143,62 @@ def bench_portfolio(work: Path, projects: int, metrics: int, rows: int, rows_out
         floors.append(floor_read_write(root, tree_bytes(site), work / f"floor-{i}"))
     shutil.rmtree(work / f"floor-{rounds - 1}", ignore_errors=True)
     full, floor = sorted(fulls)[rounds // 2], sorted(floors)[rounds // 2]
-    rows_out.append((f"full build, {projects} projects x {metrics} metrics x {rows:,} rows "
-                     f"(median of {rounds}: {', '.join(f'{t:.1f}' for t in fulls)} s)",
-                     f"{full:.1f} s",
-                     f"floor {floor:.1f} s (median of {', '.join(f'{t:.1f}' for t in floors)})",
-                     f"{full / floor:.1f}x", "within 5x"))
+    rows_out.append(
+        (
+            f"full build, {projects} projects x {metrics} metrics x {rows:,} rows "
+            f"(median of {rounds}: {', '.join(f'{t:.1f}' for t in fulls)} s)",
+            f"{full:.1f} s",
+            f"floor {floor:.1f} s (median of {', '.join(f'{t:.1f}' for t in floors)})",
+            f"{full / floor:.1f}x",
+            "within 5x",
+        )
+    )
     settle()
     base = read_all(root)
     settle()
     noop = run(steadyline("build", str(root), "--out", str(site), "--quiet"))
-    rows_out.append(("no-op rebuild", f"{noop:.2f} s", f"read inputs {base:.2f} s",
-                     f"{noop / base:.1f}x", "under 1 s"))
+    rows_out.append(
+        (
+            "no-op rebuild",
+            f"{noop:.2f} s",
+            f"read inputs {base:.2f} s",
+            f"{noop / base:.1f}x",
+            "under 1 s",
+        )
+    )
     csv = sorted((root / "p0000").glob("*.csv"))[0]
     csv.write_text(csv.read_text() + csv.read_text().splitlines()[-1] + "\n")
     settle()
     one = run(steadyline("build", str(root), "--out", str(site), "--quiet"))
-    rows_out.append(("rebuild after one CSV changed", f"{one:.2f} s", f"read inputs {base:.2f} s",
-                     f"{one / base:.1f}x", "under 1 s"))
+    rows_out.append(
+        (
+            "rebuild after one CSV changed",
+            f"{one:.2f} s",
+            f"read inputs {base:.2f} s",
+            f"{one / base:.1f}x",
+            "under 1 s",
+        )
+    )
     settle()
     lat = watch_latency(root, work / "watch-site", csv)
-    rows_out.append(("watch: saved CSV to rewritten page", f"{lat:.2f} s",
-                     f"read inputs {base:.2f} s", f"{lat / base:.1f}x", "under 1 s"))
+    rows_out.append(
+        (
+            "watch: saved CSV to rewritten page",
+            f"{lat:.2f} s",
+            f"read inputs {base:.2f} s",
+            f"{lat / base:.1f}x",
+            "under 1 s",
+        )
+    )
 
 
 def watch_latency(root: Path, site: Path, csv: Path, rounds: int = 3) -> float:
-    proc = subprocess.Popen(steadyline("watch", str(root), "--out", str(site), "--no-serve",
-                                       "--quiet"), env=ENV, stdout=subprocess.DEVNULL,
-                            stderr=subprocess.DEVNULL)
+    proc = subprocess.Popen(
+        steadyline("watch", str(root), "--out", str(site), "--no-serve", "--quiet"),
+        env=ENV,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+    )
     page = site / "projects" / csv.parent.name / "results.json"
     try:
         deadline = time.time() + 900
@@ -193,8 +231,10 @@ def _mib(kib: int) -> str:
 
 
 def _build_code(root: Path, site: Path) -> str:
-    return (f"from steadyline.site.build import build, BuildOptions\nfrom pathlib import Path\n"
-            f"build(BuildOptions(Path({str(root)!r}), Path({str(site)!r}), jobs=1))")
+    return (
+        f"from steadyline.site.build import build, BuildOptions\nfrom pathlib import Path\n"
+        f"build(BuildOptions(Path({str(root)!r}), Path({str(site)!r}), jobs=1))"
+    )
 
 
 def _pandas_read(csv: Path) -> tuple[float, int]:
@@ -219,14 +259,33 @@ def bench_rows(work: Path, sizes: list[int], rows_out: list):
         pages[n] = page
         size = f"{csv.stat().st_size / 1e6:,.0f} MB" if n >= 10**5 else "small"
         what = f"one metric, {n:,} rows ({size}, 5 columns, a daily roll-up)"
-        rows_out.append((f"{what}: page weight", f"{page / 1024:.0f} KiB",
-                         f"page at {sizes[0]:,} rows {pages[sizes[0]] / 1024:.0f} KiB",
-                         f"{page / pages[sizes[0]]:.2f}x", "flat in rows"))
-        rows_out.append((f"{what}: peak memory of the build", _mib(peak),
-                         f"pandas read {_mib(rpeak)}", f"{peak / rpeak:.2f}x",
-                         "under 3 GB at 10^7 rows" if n >= 10**7 else "bounded by the file"))
-        rows_out.append((f"{what}: build time", f"{secs:.1f} s", f"pandas read {rsecs:.1f} s",
-                         f"{secs / rsecs:.1f}x", "none set"))
+        rows_out.append(
+            (
+                f"{what}: page weight",
+                f"{page / 1024:.0f} KiB",
+                f"page at {sizes[0]:,} rows {pages[sizes[0]] / 1024:.0f} KiB",
+                f"{page / pages[sizes[0]]:.2f}x",
+                "flat in rows",
+            )
+        )
+        rows_out.append(
+            (
+                f"{what}: peak memory of the build",
+                _mib(peak),
+                f"pandas read {_mib(rpeak)}",
+                f"{peak / rpeak:.2f}x",
+                "under 3 GB at 10^7 rows" if n >= 10**7 else "bounded by the file",
+            )
+        )
+        rows_out.append(
+            (
+                f"{what}: build time",
+                f"{secs:.1f} s",
+                f"pandas read {rsecs:.1f} s",
+                f"{secs / rsecs:.1f}x",
+                "none set",
+            )
+        )
         shutil.rmtree(root)
         shutil.rmtree(site)
 
@@ -243,11 +302,24 @@ def bench_large_file(work: Path, megabytes: int, rows_out: list):
     settle()
     rsecs, rpeak = _pandas_read(csv)
     what = f"a {csv.stat().st_size / 1e6:,.0f} MB file ({rows:,} rows, 16 columns, 2 used)"
-    rows_out.append((f"{what}: peak memory of the build", _mib(peak),
-                     f"pandas read {_mib(rpeak)}", f"{peak / rpeak:.2f}x",
-                     "under 2 GB for 300 MB"))
-    rows_out.append((f"{what}: build time", f"{secs:.1f} s", f"pandas read {rsecs:.1f} s",
-                     f"{secs / rsecs:.1f}x", "none set"))
+    rows_out.append(
+        (
+            f"{what}: peak memory of the build",
+            _mib(peak),
+            f"pandas read {_mib(rpeak)}",
+            f"{peak / rpeak:.2f}x",
+            "under 2 GB for 300 MB",
+        )
+    )
+    rows_out.append(
+        (
+            f"{what}: build time",
+            f"{secs:.1f} s",
+            f"pandas read {rsecs:.1f} s",
+            f"{secs / rsecs:.1f}x",
+            "none set",
+        )
+    )
     shutil.rmtree(root)
     shutil.rmtree(site)
 
@@ -258,22 +330,37 @@ def bench_many_columns(work: Path, columns: int, rows_out: list):
     reading the first line of the file (pandas takes minutes to read a header this wide)."""
     root = work / "many-columns"
     csv = synth.write_many_columns(root / "one", columns)
-    code = (f"from pathlib import Path\nfrom steadyline.config import load_portfolio, "
-            f"load_project\nfrom steadyline.loading import load_metric\n"
-            f"from steadyline.errors import ProjectError\nroot = Path({str(root)!r})\n"
-            f"s, _ = load_portfolio(root)\nspec, _ = load_project(root / 'one', root, s)\n"
-            f"t0 = time.perf_counter()\ntry:\n    load_metric(spec.metrics[0], s)\n"
-            f"except ProjectError as e:\n    assert 'columns, over the limit' in "
-            f"str(e.problems[0]), e.problems\nt = time.perf_counter() - t0\n")
-    code += (f"t0 = time.perf_counter()\nopen({str(csv)!r}, encoding='utf-8').readline()\n"
-             f"print(t, time.perf_counter() - t0)\n")
-    out = subprocess.run([sys.executable, "-c", "import time\n" + code], env=ENV,
-                         capture_output=True, text=True, check=True).stdout.split()
+    code = (
+        f"from pathlib import Path\nfrom steadyline.config import load_portfolio, "
+        f"load_project\nfrom steadyline.loading import load_metric\n"
+        f"from steadyline.errors import ProjectError\nroot = Path({str(root)!r})\n"
+        f"s, _ = load_portfolio(root)\nspec, _ = load_project(root / 'one', root, s)\n"
+        f"t0 = time.perf_counter()\ntry:\n    load_metric(spec.metrics[0], s)\n"
+        f"except ProjectError as e:\n    assert 'columns, over the limit' in "
+        f"str(e.problems[0]), e.problems\nt = time.perf_counter() - t0\n"
+    )
+    code += (
+        f"t0 = time.perf_counter()\nopen({str(csv)!r}, encoding='utf-8').readline()\n"
+        f"print(t, time.perf_counter() - t0)\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", "import time\n" + code],
+        env=ENV,
+        capture_output=True,
+        text=True,
+        check=True,
+    ).stdout.split()
     secs, base = float(out[0]), float(out[1])
-    rows_out.append((f"a file of {columns:,} columns ({csv.stat().st_size / 1e6:,.0f} MB): "
-                     "refused, its width named", f"{secs:.2f} s",
-                     f"Python reads its first line {base:.2f} s", f"{secs / base:.1f}x",
-                     "under 1 s"))
+    rows_out.append(
+        (
+            f"a file of {columns:,} columns ({csv.stat().st_size / 1e6:,.0f} MB): "
+            "refused, its width named",
+            f"{secs:.2f} s",
+            f"Python reads its first line {base:.2f} s",
+            f"{secs / base:.1f}x",
+            "under 1 s",
+        )
+    )
     shutil.rmtree(root)
 
 
@@ -286,19 +373,33 @@ def bench_stats(work: Path, n: int, rows_out: list):
     pd.DataFrame({"v": np.round(rng.normal(10, 1, n), 4)}).to_csv(csv, index=False)
     read_secs, _ = child_peak_kib(f"import pandas as pd\npd.read_csv({str(csv)!r})")
     # scipy is imported before the clock starts: the figure is the computation, not the imports
-    code = (f"import pandas as pd, numpy as np\nv = pd.read_csv({str(csv)!r})['v'].to_numpy()\n"
-            "import scipy.stats, scipy.special, scipy.integrate\n"
-            "from steadyline import stats\nt0=time.perf_counter()\n"
-            "c = stats.individuals(v)\ns = stats.detect_signals(c, 'nelson')\n"
-            "r = stats.analyse_runs(v)\nb = stats.box_summary(v)\nh = stats.histogram(v)\n"
-            "a = stats.anderson_darling(v)\n"
-            "k = stats.capability(v, c.process_sigma, lsl=6, usl=14, normality=a)\n"
-            "t = time.perf_counter()-t0\nprint(t, 0)\nraise SystemExit\n")
-    out = subprocess.run([sys.executable, "-c", "import time\n" + code], env=ENV,
-                         capture_output=True, text=True, check=True).stdout.split()
+    code = (
+        f"import pandas as pd, numpy as np\nv = pd.read_csv({str(csv)!r})['v'].to_numpy()\n"
+        "import scipy.stats, scipy.special, scipy.integrate\n"
+        "from steadyline import stats\nt0=time.perf_counter()\n"
+        "c = stats.individuals(v)\ns = stats.detect_signals(c, 'nelson')\n"
+        "r = stats.analyse_runs(v)\nb = stats.box_summary(v)\nh = stats.histogram(v)\n"
+        "a = stats.anderson_darling(v)\n"
+        "k = stats.capability(v, c.process_sigma, lsl=6, usl=14, normality=a)\n"
+        "t = time.perf_counter()-t0\nprint(t, 0)\nraise SystemExit\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", "import time\n" + code],
+        env=ENV,
+        capture_output=True,
+        text=True,
+        check=True,
+    ).stdout.split()
     secs = float(out[0])
-    rows_out.append((f"all statistics of a {n:,}-row metric", f"{secs:.2f} s",
-                     f"pandas read {read_secs:.2f} s", f"{secs / read_secs:.1f}x", "under 1 s"))
+    rows_out.append(
+        (
+            f"all statistics of a {n:,}-row metric",
+            f"{secs:.2f} s",
+            f"pandas read {read_secs:.2f} s",
+            f"{secs / read_secs:.1f}x",
+            "under 1 s",
+        )
+    )
 
 
 def _write_workbook_pair(root: Path, n: int) -> tuple[Path, Path]:
@@ -322,11 +423,13 @@ def _write_workbook_pair(root: Path, n: int) -> tuple[Path, Path]:
             f'title = "Workbook {kind}"\nowner = "Bench"\nphase = "measure"\n'
             f'problem = "Reading speed."\n\n[[metric]]\nid = "m"\nname = "M"\n'
             f'file = "data.{kind}"\ntype = "continuous"\ntime = "t"\nvalue = "v"\n'
-            f'better = "lower"\n\n[metric.rollup]\nperiod = "day"\nstatistic = "mean"\n')
+            f'better = "lower"\n\n[metric.rollup]\nperiod = "day"\nstatistic = "mean"\n'
+        )
         path = folder / f"data.{kind}"
         if kind == "csv":
-            pd.DataFrame({"t": [t.strftime("%Y-%m-%dT%H:%M") for t in times], "v": values,
-                          "shift": shifts}).to_csv(path, index=False)
+            pd.DataFrame(
+                {"t": [t.strftime("%Y-%m-%dT%H:%M") for t in times], "v": values, "shift": shifts}
+            ).to_csv(path, index=False)
         else:
             wb = openpyxl.Workbook(write_only=True)
             ws = wb.create_sheet("Data")
@@ -345,35 +448,50 @@ def bench_workbook(work: Path, n: int, rows_out: list):
     the same sheet."""
     root = work / "workbook"
     xlsx, csv = _write_workbook_pair(root, n)
-    code = (f"from pathlib import Path\nimport statistics, time\n"
-            f"from steadyline.config import load_portfolio, load_project\n"
-            f"from steadyline.loading import load_metric\nimport openpyxl, python_calamine\n"
-            f"root = Path({str(root)!r})\ns, _ = load_portfolio(root)\n"
-            f"specs = {{k: load_project(root / k, root, s)[0].metrics[0] for k in "
-            f"('xlsx', 'csv')}}\nt = {{'xlsx': [], 'csv': [], 'openpyxl': [], 'calamine': []}}\n"
-            f"for _ in range(5):\n"
-            f"    for k in ('xlsx', 'csv'):\n"
-            f"        t0 = time.perf_counter()\n        load_metric(specs[k], s)\n"
-            f"        t[k].append(time.perf_counter() - t0)\n"
-            f"    t0 = time.perf_counter()\n"
-            f"    wb = openpyxl.load_workbook({str(xlsx)!r}, read_only=True, data_only=True)\n"
-            f"    rows = list(wb['Data'].iter_rows(values_only=True))\n    wb.close()\n"
-            f"    t['openpyxl'].append(time.perf_counter() - t0)\n"
-            f"    t0 = time.perf_counter()\n"
-            f"    rows = python_calamine.CalamineWorkbook.from_path({str(xlsx)!r})"
-            f".get_sheet_by_name('Data').to_python()\n"
-            f"    t['calamine'].append(time.perf_counter() - t0)\n"
-            f"print(*(statistics.median(t[k]) for k in ('xlsx', 'csv', 'openpyxl', 'calamine')))\n")
-    out = subprocess.run([sys.executable, "-c", code], env=ENV, capture_output=True,
-                         text=True, check=True).stdout.split()
+    code = (
+        f"from pathlib import Path\nimport statistics, time\n"
+        f"from steadyline.config import load_portfolio, load_project\n"
+        f"from steadyline.loading import load_metric\nimport openpyxl, python_calamine\n"
+        f"root = Path({str(root)!r})\ns, _ = load_portfolio(root)\n"
+        f"specs = {{k: load_project(root / k, root, s)[0].metrics[0] for k in "
+        f"('xlsx', 'csv')}}\nt = {{'xlsx': [], 'csv': [], 'openpyxl': [], 'calamine': []}}\n"
+        f"for _ in range(5):\n"
+        f"    for k in ('xlsx', 'csv'):\n"
+        f"        t0 = time.perf_counter()\n        load_metric(specs[k], s)\n"
+        f"        t[k].append(time.perf_counter() - t0)\n"
+        f"    t0 = time.perf_counter()\n"
+        f"    wb = openpyxl.load_workbook({str(xlsx)!r}, read_only=True, data_only=True)\n"
+        f"    rows = list(wb['Data'].iter_rows(values_only=True))\n    wb.close()\n"
+        f"    t['openpyxl'].append(time.perf_counter() - t0)\n"
+        f"    t0 = time.perf_counter()\n"
+        f"    rows = python_calamine.CalamineWorkbook.from_path({str(xlsx)!r})"
+        f".get_sheet_by_name('Data').to_python()\n"
+        f"    t['calamine'].append(time.perf_counter() - t0)\n"
+        f"print(*(statistics.median(t[k]) for k in ('xlsx', 'csv', 'openpyxl', 'calamine')))\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], env=ENV, capture_output=True, text=True, check=True
+    ).stdout.split()
     wsecs, csecs, osecs, ksecs = (float(x) for x in out)
     size = f"{xlsx.stat().st_size / 1e6:.1f} MB; CSV {csv.stat().st_size / 1e6:.1f} MB"
-    rows_out.append((f"a {n:,}-row workbook ({size}, 3 columns): read and checked",
-                     f"{wsecs:.2f} s", f"the same data as CSV {csecs:.2f} s",
-                     f"{wsecs / csecs:.1f}x", "none set"))
-    rows_out.append(("the same workbook's sheet read by python-calamine (the reader used)",
-                     f"{ksecs:.2f} s", f"openpyxl, read-only and values only {osecs:.2f} s",
-                     f"{ksecs / osecs:.2f}x", "none set"))
+    rows_out.append(
+        (
+            f"a {n:,}-row workbook ({size}, 3 columns): read and checked",
+            f"{wsecs:.2f} s",
+            f"the same data as CSV {csecs:.2f} s",
+            f"{wsecs / csecs:.1f}x",
+            "none set",
+        )
+    )
+    rows_out.append(
+        (
+            "the same workbook's sheet read by python-calamine (the reader used)",
+            f"{ksecs:.2f} s",
+            f"openpyxl, read-only and values only {osecs:.2f} s",
+            f"{ksecs / osecs:.2f}x",
+            "none set",
+        )
+    )
     shutil.rmtree(root)
 
 
@@ -381,8 +499,12 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--quick", action="store_true", help="small sizes, to check the script")
     ap.add_argument("--skip-portfolio", action="store_true")
-    ap.add_argument("--max-rows", type=int, default=None,
-                    help="the largest one-metric file, a power of ten (default 10^7)")
+    ap.add_argument(
+        "--max-rows",
+        type=int,
+        default=None,
+        help="the largest one-metric file, a power of ten (default 10^7)",
+    )
     a = ap.parse_args()
     rows: list[tuple] = []
     with tempfile.TemporaryDirectory(prefix="steadyline-bench-") as tmp:
@@ -404,14 +526,17 @@ def main() -> None:
             bench_many_columns(work, 1_000_000, rows)
             if not a.skip_portfolio:
                 bench_portfolio(work, 200, 3, 5_000, rows)
-    lines = ["| figure | measured | baseline (same run) | ratio | target |",
-             "|---|---|---|---|---|"]
+    lines = [
+        "| figure | measured | baseline (same run) | ratio | target |",
+        "|---|---|---|---|---|",
+    ]
     lines += ["| " + " | ".join(r) + " |" for r in rows]
     text = "\n".join(lines)
     print(text)
     (HERE / "out").mkdir(exist_ok=True)
     (HERE / "out" / "results.md").write_text(
-        f"machine: {os.cpu_count()} cores; python {sys.version.split()[0]}\n\n{text}\n")
+        f"machine: {os.cpu_count()} cores; python {sys.version.split()[0]}\n\n{text}\n"
+    )
     shutil.rmtree(HERE / "__pycache__", ignore_errors=True)
     _ = resource  # imported for child measurement helpers
 

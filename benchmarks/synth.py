@@ -23,37 +23,73 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
     minutes = np.sort(rng.integers(0, 330 * 24 * 60, rows))
     times = pd.to_datetime(start + minutes.astype("timedelta64[m]"))
     stamps = times.strftime("%Y-%m-%dT%H:%M")
-    toml = [f'title = "Synthetic project {index}"', f'owner = "Owner {index % 17}"',
-            f'phase = "{("measure", "analyze", "improve", "control")[index % 4]}"',
-            'problem = "A synthetic project for benchmarks."', f'tags = ["bench", "group-{index % 5}"]',
-            "", "[comparison]", "baseline = [2026-01-05, 2026-04-30]", "after = [2026-06-01]", ""]
+    toml = [
+        f'title = "Synthetic project {index}"',
+        f'owner = "Owner {index % 17}"',
+        f'phase = "{("measure", "analyze", "improve", "control")[index % 4]}"',
+        'problem = "A synthetic project for benchmarks."',
+        f'tags = ["bench", "group-{index % 5}"]',
+        "",
+        "[comparison]",
+        "baseline = [2026-01-05, 2026-04-30]",
+        "after = [2026-06-01]",
+        "",
+    ]
     for m in range(metrics):
         kind = KINDS[m % len(KINDS)]
         name = f"m{m}.csv"
         shift = np.where(times >= pd.Timestamp("2026-06-01"), -0.8, 0.0)
         if kind == "continuous":
             df = pd.DataFrame({"t": stamps, "v": np.round(20 + shift + rng.normal(0, 1, rows), 3)})
-            extra = ['value = "v"', "spec_upper = 24.0", "", "[metric.rollup]",
-                     'period = "day"', 'statistic = "mean"']
+            extra = [
+                'value = "v"',
+                "spec_upper = 24.0",
+                "",
+                "[metric.rollup]",
+                'period = "day"',
+                'statistic = "mean"',
+            ]
         elif kind == "subgroups":
-            df = pd.DataFrame({"t": stamps, "v": np.round(5 + shift / 4 + rng.normal(0, 0.2, rows), 4)})
+            df = pd.DataFrame(
+                {"t": stamps, "v": np.round(5 + shift / 4 + rng.normal(0, 0.2, rows), 4)}
+            )
             extra = ['value = "v"', "subgroup_size = 5", "spec_lower = 4.2", "spec_upper = 5.8"]
         elif kind == "defectives":
             p = np.where(times >= pd.Timestamp("2026-06-01"), 0.03, 0.06)
             df = pd.DataFrame({"t": stamps, "v": (rng.random(rows) < p).astype(int)})
-            extra = ['value = "v"', "", "[metric.rollup]", 'period = "day"',
-                     'statistic = "proportion"']
+            extra = [
+                'value = "v"',
+                "",
+                "[metric.rollup]",
+                'period = "day"',
+                'statistic = "proportion"',
+            ]
         else:
-            cats = np.array(["scratch", "dent", "misaligned", "missing part", "wrong colour",
-                             "loose", "other"])
+            cats = np.array(
+                ["scratch", "dent", "misaligned", "missing part", "wrong colour", "loose", "other"]
+            )
             w = np.array([30, 20, 15, 12, 10, 8, 5], float)
             df = pd.DataFrame({"t": stamps, "c": cats[rng.choice(len(cats), rows, p=w / w.sum())]})
             extra = ['category = "c"']
         df.to_csv(folder / name, index=False, lineterminator="\n")
-        dtype = {"continuous": "continuous", "subgroups": "subgroups",
-                 "defectives": "defectives", "categories": "categories"}[kind]
-        toml += ["[[metric]]", f'id = "m{m}"', f'name = "Metric {m} ({kind})"', f'file = "{name}"',
-                 f'type = "{dtype}"', 'time = "t"', 'better = "lower"', 'unit = "u"', *extra, ""]
+        dtype = {
+            "continuous": "continuous",
+            "subgroups": "subgroups",
+            "defectives": "defectives",
+            "categories": "categories",
+        }[kind]
+        toml += [
+            "[[metric]]",
+            f'id = "m{m}"',
+            f'name = "Metric {m} ({kind})"',
+            f'file = "{name}"',
+            f'type = "{dtype}"',
+            'time = "t"',
+            'better = "lower"',
+            'unit = "u"',
+            *extra,
+            "",
+        ]
     (folder / "project.toml").write_text("\n".join(toml) + "\n", "utf-8")
 
 
@@ -72,9 +108,12 @@ def write_wide_rows(folder: Path, rows: int, columns: int = 5, seed: int = 11) -
         for at in range(0, rows, step):
             n = min(step, rows - at)
             minutes = (np.arange(at, at + n) * span) // max(rows, 1)
-            df = pd.DataFrame({"t": np.datetime_as_string(start + minutes.astype("timedelta64[m]"),
-                                                          unit="m"),
-                               "v": np.round(20 + rng.normal(0, 1, n), 3)})
+            df = pd.DataFrame(
+                {
+                    "t": np.datetime_as_string(start + minutes.astype("timedelta64[m]"), unit="m"),
+                    "v": np.round(20 + rng.normal(0, 1, n), 3),
+                }
+            )
             for j in range(columns - 2):
                 if j % 3 == 0:
                     df[f"line{j}"] = rng.integers(1, 9, n)
@@ -83,13 +122,36 @@ def write_wide_rows(folder: Path, rows: int, columns: int = 5, seed: int = 11) -
                 else:
                     df[f"temp{j}"] = np.round(rng.normal(21, 2, n), 2)
             df.to_csv(fh, index=False, header=at == 0, lineterminator="\n")
-    (folder / "project.toml").write_text("\n".join([
-        'title = "One large log"', 'owner = "Owner"', 'phase = "measure"',
-        'problem = "A synthetic project for benchmarks."', "", "[comparison]",
-        "baseline = [2026-01-05, 2026-04-30]", "after = [2026-06-01]", "", "[[metric]]",
-        'id = "m"', 'name = "Cycle time"', 'file = "log.csv"', 'type = "continuous"',
-        'time = "t"', 'value = "v"', 'better = "lower"', 'unit = "s"', "", "[metric.rollup]",
-        'period = "day"', 'statistic = "mean"']) + "\n", "utf-8")
+    (folder / "project.toml").write_text(
+        "\n".join(
+            [
+                'title = "One large log"',
+                'owner = "Owner"',
+                'phase = "measure"',
+                'problem = "A synthetic project for benchmarks."',
+                "",
+                "[comparison]",
+                "baseline = [2026-01-05, 2026-04-30]",
+                "after = [2026-06-01]",
+                "",
+                "[[metric]]",
+                'id = "m"',
+                'name = "Cycle time"',
+                'file = "log.csv"',
+                'type = "continuous"',
+                'time = "t"',
+                'value = "v"',
+                'better = "lower"',
+                'unit = "s"',
+                "",
+                "[metric.rollup]",
+                'period = "day"',
+                'statistic = "mean"',
+            ]
+        )
+        + "\n",
+        "utf-8",
+    )
     return csv
 
 

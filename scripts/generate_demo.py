@@ -47,6 +47,7 @@ D = dt.date
 # small helpers
 # --------------------------------------------------------------------------------------------
 
+
 def rng_for(stream: int) -> np.random.Generator:
     """One independent, fixed stream per project, so editing one project leaves the others."""
     return np.random.default_rng([SEED, stream])
@@ -86,8 +87,9 @@ def iso_dt(t: dt.datetime) -> str:
     return t.strftime("%Y-%m-%dT%H:%M:%S")
 
 
-def csv_text(header: Sequence[str], rows: Iterable[Sequence[object]], delimiter: str = ",",
-             bom: bool = False) -> str:
+def csv_text(
+    header: Sequence[str], rows: Iterable[Sequence[object]], delimiter: str = ",", bom: bool = False
+) -> str:
     """CSV text with "\\n" line endings; every cell must already be a string."""
     buf = io.StringIO()
     w = csv.writer(buf, delimiter=delimiter, lineterminator="\n", quoting=csv.QUOTE_MINIMAL)
@@ -130,8 +132,9 @@ def xlsx_bytes(sheets: Sequence[tuple[str, Sequence[str], Sequence[Sequence[obje
         for info in src.infolist():
             data = src.read(info.filename)
             if info.filename == "docProps/core.xml":
-                data = re.sub(rb"(<dcterms:(?:created|modified)[^>]*>)[^<]*", rb"\g<1>" + stamp,
-                              data)
+                data = re.sub(
+                    rb"(<dcterms:(?:created|modified)[^>]*>)[^<]*", rb"\g<1>" + stamp, data
+                )
             pinned = zipfile.ZipInfo(info.filename, date_time=PINNED.timetuple()[:6])
             pinned.compress_type = zipfile.ZIP_DEFLATED
             pinned.create_system = 3
@@ -168,6 +171,7 @@ def f3(x: float) -> str:
 # TOML writing (the standard library reads TOML but does not write it)
 # --------------------------------------------------------------------------------------------
 
+
 def tv(v: object) -> str:
     """One TOML value."""
     if isinstance(v, bool):
@@ -200,8 +204,9 @@ def toml_text(meta: dict) -> str:
         lines += ["", "[[event]]"] + [f"{k} = {tv(v)}" for k, v in ev.items()]
     for m in meta.get("metric", []):
         lines += ["", "[[metric]]"]
-        lines += [f"{k} = {tv(v)}" for k, v in m.items()
-                  if not isinstance(v, dict) and k != "set_aside"]
+        lines += [
+            f"{k} = {tv(v)}" for k, v in m.items() if not isinstance(v, dict) and k != "set_aside"
+        ]
         for k, v in m.items():
             if isinstance(v, dict):
                 lines += [f"[metric.{k}]"] + [f"{kk} = {tv(vv)}" for kk, vv in v.items()]
@@ -213,6 +218,7 @@ def toml_text(meta: dict) -> str:
 # --------------------------------------------------------------------------------------------
 # the projects; each builder returns {file name: text}
 # --------------------------------------------------------------------------------------------
+
 
 def wheel_build_lead_time() -> dict[str, str]:
     rng = rng_for(1)
@@ -237,41 +243,71 @@ def wheel_build_lead_time() -> dict[str, str]:
             done = dt.datetime.combine(day, dt.time()) + dt.timedelta(minutes=int(m))
             received = done - dt.timedelta(hours=round(lt, 1))
             n_order += 1
-            rows.append([f"KCW-WO-{26000 + n_order:05d}", iso_dt(received), iso_dt(done),
-                         f1(lt)])
+            rows.append([f"KCW-WO-{26000 + n_order:05d}", iso_dt(received), iso_dt(done), f1(lt)])
     # the customs hold is a cause found and removed: its days are set aside from the baseline
-    customs_aside = [{"dates": [min(customs), max(customs)],
-                      "reason": "Rim shipment held at customs; orders waited for rims"}]
+    customs_aside = [
+        {
+            "dates": [min(customs), max(customs)],
+            "reason": "Rim shipment held at customs; orders waited for rims",
+        }
+    ]
     meta = {
         "title": "Wheel-build lead time",
         "owner": "Ingrid Solberg",
         "phase": "control",
-        "problem": ("Custom wheel orders took more than two days from order release to packed "
-                    "wheel, and the promised 72-hour turnaround was missed on about one order "
-                    "in seven."),
+        "problem": (
+            "Custom wheel orders took more than two days from order release to packed "
+            "wheel, and the promised 72-hour turnaround was missed on about one order "
+            "in seven."
+        ),
         "tags": ["wheels", "lead time", "flow"],
         "safety_related": False,
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 19),
-                        "analyze": D(2026, 3, 2), "improve": D(2026, 3, 30),
-                        "control": D(2026, 6, 1)},
-        "comparison": {"baseline": [D(2026, 1, 19), D(2026, 3, 27)],
-                       "after": [D(2026, 4, 13), D(2026, 8, 28)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 19),
+            "analyze": D(2026, 3, 2),
+            "improve": D(2026, 3, 30),
+            "control": D(2026, 6, 1),
+        },
+        "comparison": {
+            "baseline": [D(2026, 1, 19), D(2026, 3, 27)],
+            "after": [D(2026, 4, 13), D(2026, 8, 28)],
+        },
         "event": [
             {"date": D(2026, 2, 16), "label": "Rim shipment held at customs for three days"},
             {"date": D(2026, 3, 30), "label": "Second truing stand commissioned"},
             {"date": D(2026, 4, 6), "label": "Wheel orders released to the cell by kanban card"},
         ],
         "metric": [
-            {"id": "lead-time-daily", "name": "Lead time, by day", "file": "orders.csv",
-             "type": "continuous", "time": "completed", "value": "lead_time_h",
-             "unit": "hours", "better": "lower", "spec_upper": 72.0, "headline": True,
-             "expected_change": -12.0, "rollup": {"period": "day", "statistic": "mean"},
-             "set_aside": customs_aside},
-            {"id": "lead-time-order", "name": "Lead time per order", "file": "orders.csv",
-             "type": "continuous", "time": "completed", "value": "lead_time_h",
-             "unit": "hours", "better": "lower", "spec_upper": 72.0, "limits": "per-phase",
-             "bins": [0.0, 12.0, 24.0, 36.0, 48.0, 60.0, 72.0, 84.0, 96.0, 108.0, 120.0],
-             "set_aside": customs_aside},
+            {
+                "id": "lead-time-daily",
+                "name": "Lead time, by day",
+                "file": "orders.csv",
+                "type": "continuous",
+                "time": "completed",
+                "value": "lead_time_h",
+                "unit": "hours",
+                "better": "lower",
+                "spec_upper": 72.0,
+                "headline": True,
+                "expected_change": -12.0,
+                "rollup": {"period": "day", "statistic": "mean"},
+                "set_aside": customs_aside,
+            },
+            {
+                "id": "lead-time-order",
+                "name": "Lead time per order",
+                "file": "orders.csv",
+                "type": "continuous",
+                "time": "completed",
+                "value": "lead_time_h",
+                "unit": "hours",
+                "better": "lower",
+                "spec_upper": 72.0,
+                "limits": "per-phase",
+                "bins": [0.0, 12.0, 24.0, 36.0, 48.0, 60.0, 72.0, 84.0, 96.0, 108.0, 120.0],
+                "set_aside": customs_aside,
+            },
         ],
     }
     notes = """\
@@ -297,9 +333,11 @@ safety stock), so those days are set aside from the baseline.
 
 The daily chart takes the mean of the orders completed each day ([orders.csv](orders.csv)).
 """
-    return {"project.toml": toml_text(meta), "orders.csv":
-            csv_text(["order_id", "released", "completed", "lead_time_h"], rows),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "orders.csv": csv_text(["order_id", "released", "completed", "lead_time_h"], rows),
+        "notes.md": notes,
+    }
 
 
 def spoke_tension() -> dict[str, str]:
@@ -326,41 +364,70 @@ def spoke_tension() -> dict[str, str]:
         if in_range(day, *gauge_low):
             wheel_mu -= 4.5
         t = dt.datetime.combine(day, dt.time(8, 0)) + dt.timedelta(
-            minutes=int(rng.integers(0, 8 * 60)))
+            minutes=int(rng.integers(0, 8 * 60))
+        )
         wheel_id = f"W26-{1000 + i:04d}"
         for spoke in range(1, 6):
             x = wheel_mu + rng.normal(0.0, sd)
-            rows.append([wheel_id, iso_dt(t + dt.timedelta(minutes=spoke)), str(spoke),
-                         builder, f1(x)])
+            rows.append(
+                [wheel_id, iso_dt(t + dt.timedelta(minutes=spoke)), str(spoke), builder, f1(x)]
+            )
     meta = {
         "title": "Spoke tension consistency",
         "owner": "Mateo Fernández",
         "phase": "improve",
-        "problem": ("Spoke tension on finished road wheels varied so widely that some wheels "
-                    "left the cell below the 110 kgf minimum, which shows up later as wheels "
-                    "going out of true."),
+        "problem": (
+            "Spoke tension on finished road wheels varied so widely that some wheels "
+            "left the cell below the 110 kgf minimum, which shows up later as wheels "
+            "going out of true."
+        ),
         "tags": ["wheels", "tension", "capability"],
-        "phase_dates": {"define": D(2026, 1, 12), "measure": D(2026, 2, 2),
-                        "analyze": D(2026, 3, 23), "improve": D(2026, 4, 6)},
-        "comparison": {"baseline": [D(2026, 2, 2), D(2026, 3, 27)],
-                       "after": [D(2026, 4, 20)]},
+        "phase_dates": {
+            "define": D(2026, 1, 12),
+            "measure": D(2026, 2, 2),
+            "analyze": D(2026, 3, 23),
+            "improve": D(2026, 4, 6),
+        },
+        "comparison": {"baseline": [D(2026, 2, 2), D(2026, 3, 27)], "after": [D(2026, 4, 20)]},
         "event": [
             {"date": trainee_day, "label": "Trainee built a wheel without a tension check"},
-            {"date": gauge_low[0], "label": "Tensiometer T-3 dropped; it read low until "
-                                            "recalibrated on 20 March"},
+            {
+                "date": gauge_low[0],
+                "label": "Tensiometer T-3 dropped; it read low until recalibrated on 20 March",
+            },
             {"date": jig_day, "label": "New spoke tensioning jig in use"},
         ],
         "metric": [
-            {"id": "tension", "name": "Spoke tension (5 spokes per wheel)",
-             "file": "spoke_tension.csv", "type": "subgroups", "time": "measured",
-             "value": "tension_kgf", "subgroup": "wheel_id", "unit": "kgf",
-             "better": "target", "spec_lower": 110.0, "spec_upper": 130.0, "target": 120.0,
-             "headline": True, "normal_curve": True, "quartiles": "tukey-hinges",
-             "measurement_study": "tension-meter"},
-            {"id": "tension-meter", "name": "Tension-meter study", "file":
-             "tension_meter_study.csv", "type": "measurement-study", "part": "spoke",
-             "appraiser": "builder", "value": "reading_kgf", "unit": "kgf",
-             "spec_lower": 110.0, "spec_upper": 130.0},
+            {
+                "id": "tension",
+                "name": "Spoke tension (5 spokes per wheel)",
+                "file": "spoke_tension.csv",
+                "type": "subgroups",
+                "time": "measured",
+                "value": "tension_kgf",
+                "subgroup": "wheel_id",
+                "unit": "kgf",
+                "better": "target",
+                "spec_lower": 110.0,
+                "spec_upper": 130.0,
+                "target": 120.0,
+                "headline": True,
+                "normal_curve": True,
+                "quartiles": "tukey-hinges",
+                "measurement_study": "tension-meter",
+            },
+            {
+                "id": "tension-meter",
+                "name": "Tension-meter study",
+                "file": "tension_meter_study.csv",
+                "type": "measurement-study",
+                "part": "spoke",
+                "appraiser": "builder",
+                "value": "reading_kgf",
+                "unit": "kgf",
+                "spec_lower": 110.0,
+                "spec_upper": 130.0,
+            },
         ],
     }
     notes = """\
@@ -391,10 +458,14 @@ Raw readings: [spoke_tension.csv](spoke_tension.csv). After T-3 was recalibrated
 builders each measured ten marked spokes of one reference wheel three times, in a new order
 each round: [tension_meter_study.csv](tension_meter_study.csv).
 """
-    return {"project.toml": toml_text(meta), "spoke_tension.csv":
-            csv_text(["wheel_id", "measured", "spoke_no", "builder", "tension_kgf"], rows),
-            "tension_meter_study.csv": tension_meter_study(builders_before),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "spoke_tension.csv": csv_text(
+            ["wheel_id", "measured", "spoke_no", "builder", "tension_kgf"], rows
+        ),
+        "tension_meter_study.csv": tension_meter_study(builders_before),
+        "notes.md": notes,
+    }
 
 
 def tension_meter_study(builders: list[str]) -> str:
@@ -441,28 +512,53 @@ def hub_bearing_press_fit() -> dict[str, str]:
         "title": "Hub bearing press-fit force",
         "owner": "Aisha Rahman",
         "phase": "control",
-        "problem": ("Press-fit force for the 6902 cartridge bearings in rear hub shells spread "
-                    "outside the 2.0–4.0 kN window: too low lets the bearing creep in the "
-                    "shell, too high damages the races."),
+        "problem": (
+            "Press-fit force for the 6902 cartridge bearings in rear hub shells spread "
+            "outside the 2.0–4.0 kN window: too low lets the bearing creep in the "
+            "shell, too high damages the races."
+        ),
         "tags": ["hubs", "bearings", "press fit", "safety"],
         "safety_related": True,
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 12),
-                        "analyze": D(2026, 2, 23), "improve": D(2026, 3, 23),
-                        "control": D(2026, 5, 18)},
-        "comparison": {"baseline": [D(2026, 1, 12), D(2026, 3, 20)],
-                       "after": [D(2026, 4, 13), D(2026, 7, 31)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 12),
+            "analyze": D(2026, 2, 23),
+            "improve": D(2026, 3, 23),
+            "control": D(2026, 5, 18),
+        },
+        "comparison": {
+            "baseline": [D(2026, 1, 12), D(2026, 3, 20)],
+            "after": [D(2026, 4, 13), D(2026, 7, 31)],
+        },
         "event": [
-            {"date": oversize_lot, "label": "Hub shells from machining batch HS-0211 bored "
-                                            "oversize"},
+            {
+                "date": oversize_lot,
+                "label": "Hub shells from machining batch HS-0211 bored oversize",
+            },
             {"date": loose_arbor, "label": "Press arbor found loose and re-seated"},
-            {"date": D(2026, 4, 1), "label": "Servo press with force–distance monitoring "
-                                            "installed"},
+            {
+                "date": D(2026, 4, 1),
+                "label": "Servo press with force–distance monitoring installed",
+            },
         ],
         "metric": [
-            {"id": "press-fit-force", "name": "Bearing press-fit force", "file": "press_fit.csv",
-             "type": "subgroups", "time": "pressed", "value": "force_kn", "subgroup": "lot_id",
-             "unit": "kN", "better": "target", "spec_lower": 2.0, "spec_upper": 4.0,
-             "target": 3.0, "headline": True, "normal_curve": True, "signal_rules": "nelson"},
+            {
+                "id": "press-fit-force",
+                "name": "Bearing press-fit force",
+                "file": "press_fit.csv",
+                "type": "subgroups",
+                "time": "pressed",
+                "value": "force_kn",
+                "subgroup": "lot_id",
+                "unit": "kN",
+                "better": "target",
+                "spec_lower": 2.0,
+                "spec_upper": 4.0,
+                "target": 3.0,
+                "headline": True,
+                "normal_curve": True,
+                "signal_rules": "nelson",
+            },
         ],
     }
     notes = """\
@@ -492,9 +588,11 @@ once a shift to every 20 shells.
 
 Readings per hub: [press_fit.csv](press_fit.csv).
 """
-    return {"project.toml": toml_text(meta), "press_fit.csv":
-            csv_text(["lot_id", "pressed", "hub_serial", "force_kn"], rows),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "press_fit.csv": csv_text(["lot_id", "pressed", "hub_serial", "force_kn"], rows),
+        "notes.md": notes,
+    }
 
 
 def order_picking_errors() -> dict[str, str]:
@@ -517,23 +615,39 @@ def order_picking_errors() -> dict[str, str]:
         "title": "Order picking errors",
         "owner": "Tomasz Wiśniewski",
         "phase": "control",
-        "problem": ("About one shipped order in twenty had a picking error (wrong part, wrong "
-                    "quantity or a missing item), each costing a re-shipment and a complaint."),
+        "problem": (
+            "About one shipped order in twenty had a picking error (wrong part, wrong "
+            "quantity or a missing item), each costing a re-shipment and a complaint."
+        ),
         "tags": ["warehouse", "logistics", "errors"],
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 12),
-                        "analyze": D(2026, 4, 6), "improve": D(2026, 5, 11),
-                        "control": D(2026, 7, 6)},
-        "comparison": {"baseline": [D(2026, 1, 5), D(2026, 5, 22)],
-                       "after": [D(2026, 6, 8), D(2026, 11, 20)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 12),
+            "analyze": D(2026, 4, 6),
+            "improve": D(2026, 5, 11),
+            "control": D(2026, 7, 6),
+        },
+        "comparison": {
+            "baseline": [D(2026, 1, 5), D(2026, 5, 22)],
+            "after": [D(2026, 6, 8), D(2026, 11, 20)],
+        },
         "event": [
             {"date": stock_take, "label": "Stock-take week: agency pickers on the floor"},
             {"date": D(2026, 5, 25), "label": "Barcode scan confirmation at every pick face"},
         ],
         "metric": [
-            {"id": "picking-error-rate", "name": "Orders with a picking error",
-             "file": "picking_audit.csv", "type": "defectives", "time": "week_start",
-             "count": "orders_with_error", "size": "orders_checked", "unit": "orders",
-             "better": "lower", "headline": True},
+            {
+                "id": "picking-error-rate",
+                "name": "Orders with a picking error",
+                "file": "picking_audit.csv",
+                "type": "defectives",
+                "time": "week_start",
+                "count": "orders_with_error",
+                "size": "orders_checked",
+                "unit": "orders",
+                "better": "lower",
+                "headline": True,
+            },
         ],
     }
     notes = """\
@@ -556,9 +670,11 @@ handheld refuses a wrong part and asks for a recount when the quantity is off.
 
 Weekly audit counts: [picking_audit.csv](picking_audit.csv).
 """
-    return {"project.toml": toml_text(meta), "picking_audit.csv":
-            csv_text(["week_start", "orders_checked", "orders_with_error"], rows),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "picking_audit.csv": csv_text(["week_start", "orders_checked", "orders_with_error"], rows),
+        "notes.md": notes,
+    }
 
 
 def wheel_truing_first_pass_yield() -> dict[str, str]:
@@ -583,28 +699,52 @@ def wheel_truing_first_pass_yield() -> dict[str, str]:
         "title": "Wheel truing first-pass yield",
         "owner": "Mei-Lin Chou",
         "phase": "improve",
-        "problem": ("Across the three wheel lines about 7.5 % of wheels failed the automatic "
-                    "true-and-dish check after the first truing pass and had to be re-trued "
-                    "by hand."),
+        "problem": (
+            "Across the three wheel lines about 7.5 % of wheels failed the automatic "
+            "true-and-dish check after the first truing pass and had to be re-trued "
+            "by hand."
+        ),
         "tags": ["wheels", "truing", "yield", "overdispersion"],
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 19),
-                        "analyze": D(2026, 4, 13), "improve": D(2026, 5, 25)},
-        "comparison": {"baseline": [D(2026, 1, 5), D(2026, 5, 29)],
-                       "after": [D(2026, 6, 15)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 19),
+            "analyze": D(2026, 4, 13),
+            "improve": D(2026, 5, 25),
+        },
+        "comparison": {"baseline": [D(2026, 1, 5), D(2026, 5, 29)], "after": [D(2026, 6, 15)]},
         "event": [
             {"date": rim_lot, "label": "Rim lot R-3316 with misaligned seams"},
-            {"date": D(2026, 6, 1), "label": "Stress-relief step added before the final "
-                                            "truing pass"},
+            {
+                "date": D(2026, 6, 1),
+                "label": "Stress-relief step added before the final truing pass",
+            },
         ],
         "metric": [
-            {"id": "retrue-rate", "name": "Wheels needing re-truing", "file": "truing_weekly.csv",
-             "type": "defectives", "time": "week_start", "count": "wheels_retrued",
-             "size": "wheels_checked", "unit": "wheels", "better": "lower", "headline": True,
-             "chart": "laney-p"},
-            {"id": "nipple-audit", "name": "Cracked nipples in the daily audit of 200",
-             "file": "nipple_audit.csv", "type": "defectives", "time": "audited",
-             "count": "cracked", "size": "nipples_checked", "unit": "nipples",
-             "better": "lower", "expected_change": -0.015},
+            {
+                "id": "retrue-rate",
+                "name": "Wheels needing re-truing",
+                "file": "truing_weekly.csv",
+                "type": "defectives",
+                "time": "week_start",
+                "count": "wheels_retrued",
+                "size": "wheels_checked",
+                "unit": "wheels",
+                "better": "lower",
+                "headline": True,
+                "chart": "laney-p",
+            },
+            {
+                "id": "nipple-audit",
+                "name": "Cracked nipples in the daily audit of 200",
+                "file": "nipple_audit.csv",
+                "type": "defectives",
+                "time": "audited",
+                "count": "cracked",
+                "size": "nipples_checked",
+                "unit": "nipples",
+                "better": "lower",
+                "expected_change": -0.015,
+            },
         ],
     }
     notes = """\
@@ -635,18 +775,32 @@ Weekly counts: [truing_weekly.csv](truing_weekly.csv).
     for day in working_days(D(2026, 1, 5), D(2026, 10, 30)):
         p_crack = 0.03 if day < D(2026, 6, 1) else 0.015
         audit_rows.append([day.isoformat(), "200", str(int(audit_rng.binomial(200, p_crack)))])
-    notes = notes.replace("Weekly counts:", "A sample of 200 spoke nipples is checked for "
-                          "cracks each working day:\n[nipple_audit.csv](nipple_audit.csv).\n\n"
-                          "Weekly counts:")
-    return {"project.toml": toml_text(meta),
-            "nipple_audit.csv": csv_text(["audited", "nipples_checked", "cracked"], audit_rows),
-            "truing_weekly.csv":
-            csv_text(["week_start", "wheels_checked", "wheels_retrued"], rows),
-            "notes.md": notes}
+    notes = notes.replace(
+        "Weekly counts:",
+        "A sample of 200 spoke nipples is checked for "
+        "cracks each working day:\n[nipple_audit.csv](nipple_audit.csv).\n\n"
+        "Weekly counts:",
+    )
+    return {
+        "project.toml": toml_text(meta),
+        "nipple_audit.csv": csv_text(["audited", "nipples_checked", "cracked"], audit_rows),
+        "truing_weekly.csv": csv_text(["week_start", "wheels_checked", "wheels_retrued"], rows),
+        "notes.md": notes,
+    }
 
 
-PAINT_CATEGORIES = ["Dust inclusion", "Orange peel", "Runs", "Sag", "Thin coverage", "Chip",
-                    "Colour mismatch", "Fisheye", "Masking bleed", "Pinholes"]
+PAINT_CATEGORIES = [
+    "Dust inclusion",
+    "Orange peel",
+    "Runs",
+    "Sag",
+    "Thin coverage",
+    "Chip",
+    "Colour mismatch",
+    "Fisheye",
+    "Masking bleed",
+    "Pinholes",
+]
 PAINT_P_BEFORE = [0.30, 0.16, 0.10, 0.08, 0.10, 0.09, 0.06, 0.05, 0.04, 0.02]
 PAINT_P_AFTER = [0.12, 0.20, 0.10, 0.08, 0.14, 0.12, 0.08, 0.06, 0.06, 0.04]
 PAINT_P_DUSTY = [0.75, 0.06, 0.03, 0.02, 0.04, 0.04, 0.02, 0.02, 0.01, 0.01]
@@ -675,39 +829,70 @@ def paint_finish_defects() -> dict[str, str]:
         for k in cats:
             n_def += 1
             frame_no = int(rng.integers(1, frames + 1))
-            defect_rows.append([f"PD-{n_def:05d}", batch, day.isoformat(), str(frame_no),
-                                PAINT_CATEGORIES[int(k)]])
+            defect_rows.append(
+                [f"PD-{n_def:05d}", batch, day.isoformat(), str(frame_no), PAINT_CATEGORIES[int(k)]]
+            )
     meta = {
         "title": "Paint finish defects on frames",
         "owner": "Kwame Asante",
         "phase": "improve",
-        "problem": ("Powder-coated frames averaged about one visible finish defect per three "
-                    "frames at final inspection, and each one means sanding and a touch-up or a "
-                    "full re-coat."),
+        "problem": (
+            "Powder-coated frames averaged about one visible finish defect per three "
+            "frames at final inspection, and each one means sanding and a touch-up or a "
+            "full re-coat."
+        ),
         "tags": ["frames", "paint", "finish", "defects"],
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 12),
-                        "analyze": D(2026, 3, 9), "improve": D(2026, 4, 13)},
-        "comparison": {"baseline": [D(2026, 1, 12), D(2026, 4, 3)],
-                       "after": [D(2026, 5, 4)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 12),
+            "analyze": D(2026, 3, 9),
+            "improve": D(2026, 4, 13),
+        },
+        "comparison": {"baseline": [D(2026, 1, 12), D(2026, 4, 3)], "after": [D(2026, 5, 4)]},
         "event": [
             {"date": clogged, "label": "Booth intake filters clogged; replaced next morning"},
-            {"date": D(2026, 4, 20), "label": "Booth kept at over-pressure; filters changed "
-                                             "every two weeks"},
+            {
+                "date": D(2026, 4, 20),
+                "label": "Booth kept at over-pressure; filters changed every two weeks",
+            },
             {"date": D(2026, 4, 27), "label": "Tack-cloth wipe-down before the booth"},
         ],
         "metric": [
-            {"id": "defects-per-frame", "name": "Finish defects per frame",
-             "file": "paint_batches.xlsx", "sheet": "Batches", "type": "defects",
-             "time": "painted",
-             "count": "defects", "size": "frames_painted", "unit": "defects per frame",
-             "better": "lower", "headline": True, "opportunities_per_unit": 24},
-            {"id": "scanner-blemishes", "name": "Scanner blemishes per square metre",
-             "file": "paint_scanner_weekly.csv", "type": "defects", "time": "week_start",
-             "count": "blemishes", "size": "area_m2", "unit": "blemishes per m²",
-             "better": "lower"},
-            {"id": "defect-types", "name": "Finish defects by type", "file": "paint_defects.csv",
-             "type": "categories", "time": "found", "category": "defect_type",
-             "unit": "defects", "better": "lower"},
+            {
+                "id": "defects-per-frame",
+                "name": "Finish defects per frame",
+                "file": "paint_batches.xlsx",
+                "sheet": "Batches",
+                "type": "defects",
+                "time": "painted",
+                "count": "defects",
+                "size": "frames_painted",
+                "unit": "defects per frame",
+                "better": "lower",
+                "headline": True,
+                "opportunities_per_unit": 24,
+            },
+            {
+                "id": "scanner-blemishes",
+                "name": "Scanner blemishes per square metre",
+                "file": "paint_scanner_weekly.csv",
+                "type": "defects",
+                "time": "week_start",
+                "count": "blemishes",
+                "size": "area_m2",
+                "unit": "blemishes per m²",
+                "better": "lower",
+            },
+            {
+                "id": "defect-types",
+                "name": "Finish defects by type",
+                "file": "paint_defects.csv",
+                "type": "categories",
+                "time": "found",
+                "category": "defect_type",
+                "unit": "defects",
+                "better": "lower",
+            },
         ],
     }
     notes = """\
@@ -746,31 +931,58 @@ single defects in
         rate *= float(np.exp(scan_rng.normal(0.0, 0.12)))
         area = float(scan_rng.uniform(1800.0, 3200.0))
         scan_rows.append([wk.isoformat(), f"{area:.1f}", str(int(scan_rng.poisson(rate * area)))])
-    notes = notes.replace("Batch totals are in", "The inline scanner counts small blemishes over "
-                          "the painted area each week:\n[paint_scanner_weekly.csv]"
-                          "(paint_scanner_weekly.csv).\n\nBatch totals are in")
-    return {"project.toml": toml_text(meta),
-            "paint_scanner_weekly.csv": csv_text(["week_start", "area_m2", "blemishes"],
-                                                 scan_rows),
-            "paint_batches.xlsx": xlsx_bytes([
+    notes = notes.replace(
+        "Batch totals are in",
+        "The inline scanner counts small blemishes over "
+        "the painted area each week:\n[paint_scanner_weekly.csv]"
+        "(paint_scanner_weekly.csv).\n\nBatch totals are in",
+    )
+    return {
+        "project.toml": toml_text(meta),
+        "paint_scanner_weekly.csv": csv_text(["week_start", "area_m2", "blemishes"], scan_rows),
+        "paint_batches.xlsx": xlsx_bytes(
+            [
                 ("Batches", ["batch_id", "painted", "frames_painted", "defects"], batch_rows),
-                ("About", ["note"], [["One row per powder-coating batch: the day it was "
-                                      "painted, frames painted, finish defects found at final "
-                                      "inspection."]])]),
-            "paint_defects.csv": csv_text(["defect_id", "batch_id", "found", "frame_in_batch",
-                                           "defect_type"], defect_rows),
-            "notes.md": notes}
+                (
+                    "About",
+                    ["note"],
+                    [
+                        [
+                            "One row per powder-coating batch: the day it was "
+                            "painted, frames painted, finish defects found at final "
+                            "inspection."
+                        ]
+                    ],
+                ),
+            ]
+        ),
+        "paint_defects.csv": csv_text(
+            ["defect_id", "batch_id", "found", "frame_in_batch", "defect_type"], defect_rows
+        ),
+        "notes.md": notes,
+    }
 
 
-RETURN_REASONS = ["Wheel out of true", "Bearing noise or play", "Spoke or nipple failure",
-                  "Paint or finish damage", "Wrong part or quantity", "Transit damage",
-                  "Frame alignment"]
+RETURN_REASONS = [
+    "Wheel out of true",
+    "Bearing noise or play",
+    "Spoke or nipple failure",
+    "Paint or finish damage",
+    "Wrong part or quantity",
+    "Transit damage",
+    "Frame alignment",
+]
 RETURN_P_BEFORE = [0.32, 0.20, 0.16, 0.12, 0.08, 0.07, 0.05]
 RETURN_P_AFTER = [0.17, 0.19, 0.14, 0.18, 0.12, 0.12, 0.08]
-RETURN_COMPONENT = {"Wheel out of true": "wheel", "Bearing noise or play": "hub",
-                    "Spoke or nipple failure": "wheel", "Paint or finish damage": "frame",
-                    "Wrong part or quantity": None, "Transit damage": None,
-                    "Frame alignment": "frame"}
+RETURN_COMPONENT = {
+    "Wheel out of true": "wheel",
+    "Bearing noise or play": "hub",
+    "Spoke or nipple failure": "wheel",
+    "Paint or finish damage": "frame",
+    "Wrong part or quantity": None,
+    "Transit damage": None,
+    "Frame alignment": "frame",
+}
 
 
 def customer_returns() -> dict[str, str]:
@@ -801,28 +1013,53 @@ def customer_returns() -> dict[str, str]:
         "title": "Customer returns",
         "owner": "Priya Natarajan",
         "phase": "control",
-        "problem": ("Bike brands returned about 16 components a week under warranty or as "
-                    "wrong deliveries, at a fairly constant shipped volume of about 9,000 "
-                    "components a week."),
+        "problem": (
+            "Bike brands returned about 16 components a week under warranty or as "
+            "wrong deliveries, at a fairly constant shipped volume of about 9,000 "
+            "components a week."
+        ),
         "tags": ["customers", "returns", "warranty"],
-        "phase_dates": {"define": D(2026, 1, 5), "measure": D(2026, 1, 12),
-                        "analyze": D(2026, 4, 6), "improve": D(2026, 5, 4),
-                        "control": D(2026, 8, 3)},
-        "comparison": {"baseline": [D(2026, 1, 5), D(2026, 5, 29)],
-                       "after": [D(2026, 7, 6), D(2026, 11, 20)]},
+        "phase_dates": {
+            "define": D(2026, 1, 5),
+            "measure": D(2026, 1, 12),
+            "analyze": D(2026, 4, 6),
+            "improve": D(2026, 5, 4),
+            "control": D(2026, 8, 3),
+        },
+        "comparison": {
+            "baseline": [D(2026, 1, 5), D(2026, 5, 29)],
+            "after": [D(2026, 7, 6), D(2026, 11, 20)],
+        },
         "event": [
             {"date": dry_hubs, "label": "Hub lot H-0312 shipped with under-greased bearings"},
-            {"date": D(2026, 6, 1), "label": "True-and-dish check and grease dosing check "
-                                            "added at packing"},
+            {
+                "date": D(2026, 6, 1),
+                "label": "True-and-dish check and grease dosing check added at packing",
+            },
         ],
         "metric": [
-            {"id": "returns-weekly", "name": "Returned components per week",
-             "file": "returns_weekly.csv", "type": "defects", "time": "week_start",
-             "count": "returns", "unit": "returns per week", "better": "lower",
-             "headline": True, "run_rules": "perla"},
-            {"id": "return-reasons", "name": "Return reasons", "file": "returns.csv",
-             "type": "categories", "time": "received", "category": "reason",
-             "unit": "returns", "better": "lower"},
+            {
+                "id": "returns-weekly",
+                "name": "Returned components per week",
+                "file": "returns_weekly.csv",
+                "type": "defects",
+                "time": "week_start",
+                "count": "returns",
+                "unit": "returns per week",
+                "better": "lower",
+                "headline": True,
+                "run_rules": "perla",
+            },
+            {
+                "id": "return-reasons",
+                "name": "Return reasons",
+                "file": "returns.csv",
+                "type": "categories",
+                "time": "received",
+                "category": "reason",
+                "unit": "returns",
+                "better": "lower",
+            },
         ],
     }
     notes = """\
@@ -847,10 +1084,12 @@ dosing nozzle on hub assembly is checked by weight at the start of each shift.
 One row per returned component: [returns.csv](returns.csv); weekly totals:
 [returns_weekly.csv](returns_weekly.csv).
 """
-    return {"project.toml": toml_text(meta),
-            "returns.csv": csv_text(["rma_id", "received", "component", "reason"], ret_rows),
-            "returns_weekly.csv": csv_text(["week_start", "returns"], weekly_rows),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "returns.csv": csv_text(["rma_id", "received", "component", "reason"], ret_rows),
+        "returns_weekly.csv": csv_text(["week_start", "returns"], weekly_rows),
+        "notes.md": notes,
+    }
 
 
 def frame_dropout_alignment() -> dict[str, str]:
@@ -869,24 +1108,37 @@ def frame_dropout_alignment() -> dict[str, str]:
         "title": "Frame dropout alignment",
         "owner": "Lukas Brenner",
         "phase": "measure",
-        "problem": ("Frames from our welding supplier arrive with rear dropouts out of "
-                    "alignment often enough that assembly has to cold-set some of them; we "
-                    "first need a baseline of how far off they are."),
+        "problem": (
+            "Frames from our welding supplier arrive with rear dropouts out of "
+            "alignment often enough that assembly has to cold-set some of them; we "
+            "first need a baseline of how far off they are."
+        ),
         "tags": ["frames", "supplier", "alignment"],
         "phase_dates": {"define": D(2026, 9, 7), "measure": D(2026, 9, 28)},
         "comparison": {"baseline": [D(2026, 9, 28), D(2026, 10, 23)]},
         "event": [
-            {"date": D(2026, 10, 5), "label": "Repeatability check of the alignment gauge "
-                                             "passed"},
-            {"date": second_fixture, "label": "Supplier moved our frames to a second welding "
-                                             "fixture"},
+            {"date": D(2026, 10, 5), "label": "Repeatability check of the alignment gauge passed"},
+            {
+                "date": second_fixture,
+                "label": "Supplier moved our frames to a second welding fixture",
+            },
         ],
         "metric": [
-            {"id": "dropout-offset", "name": "Rear dropout alignment deviation",
-             "file": "supplier_alignment_export.csv", "type": "continuous",
-             "time": "measured", "value": "dropout_offset_mm", "unit": "mm",
-             "better": "lower", "spec_upper": 0.8, "headline": True, "bins": "sturges",
-             "expected_change": -0.15, "csv": {"delimiter": ";", "decimal": ","}},
+            {
+                "id": "dropout-offset",
+                "name": "Rear dropout alignment deviation",
+                "file": "supplier_alignment_export.csv",
+                "type": "continuous",
+                "time": "measured",
+                "value": "dropout_offset_mm",
+                "unit": "mm",
+                "better": "lower",
+                "spec_upper": 0.8,
+                "headline": True,
+                "bins": "sturges",
+                "expected_change": -0.15,
+                "csv": {"delimiter": ";", "decimal": ","},
+            },
         ],
     }
     notes = """\
@@ -912,11 +1164,16 @@ us; that frame is well above the rest.
 
 Supplier export: [supplier_alignment_export.csv](supplier_alignment_export.csv).
 """
-    return {"project.toml": toml_text(meta),
-            "supplier_alignment_export.csv":
-                csv_text(["frame_serial", "measured", "dropout_offset_mm", "supplier_batch"],
-                         rows, delimiter=";", bom=True),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "supplier_alignment_export.csv": csv_text(
+            ["frame_serial", "measured", "dropout_offset_mm", "supplier_batch"],
+            rows,
+            delimiter=";",
+            bom=True,
+        ),
+        "notes.md": notes,
+    }
 
 
 def frame_weld_porosity() -> dict[str, str]:
@@ -930,9 +1187,11 @@ def frame_weld_porosity() -> dict[str, str]:
         flags = rng.random(n) < p
         days = np.sort(rng.integers(0, 5, size=n))
         mins = rng.integers(6 * 60, 22 * 60, size=n)
-        stamps = sorted(dt.datetime.combine(wk + dt.timedelta(days=int(dd)), dt.time())
-                        + dt.timedelta(minutes=int(mm)) for dd, mm in zip(days, mins,
-                                                                           strict=True))
+        stamps = sorted(
+            dt.datetime.combine(wk + dt.timedelta(days=int(dd)), dt.time())
+            + dt.timedelta(minutes=int(mm))
+            for dd, mm in zip(days, mins, strict=True)
+        )
         for t, flag in zip(stamps, flags, strict=True):
             n_frame += 1
             rows.append([f"AF-{260000 + n_frame}", t, 1 if flag else 0])
@@ -940,22 +1199,35 @@ def frame_weld_porosity() -> dict[str, str]:
         "title": "Frame weld porosity",
         "owner": "Fatima Al-Sayed",
         "phase": "analyze",
-        "problem": ("About 6 % of in-house welded aluminium frames show porosity at the "
-                    "bottom-bracket and chainstay joints on inspection and must be repaired "
-                    "or scrapped."),
+        "problem": (
+            "About 6 % of in-house welded aluminium frames show porosity at the "
+            "bottom-bracket and chainstay joints on inspection and must be repaired "
+            "or scrapped."
+        ),
         "tags": ["frames", "welding", "scrap"],
-        "phase_dates": {"define": D(2026, 1, 26), "measure": D(2026, 2, 2),
-                        "analyze": D(2026, 5, 4)},
+        "phase_dates": {
+            "define": D(2026, 1, 26),
+            "measure": D(2026, 2, 2),
+            "analyze": D(2026, 5, 4),
+        },
         "comparison": {"baseline": [D(2026, 2, 2), D(2026, 5, 1)]},
         "event": [
             {"date": wrong_gas, "label": "Wrong shielding-gas mix connected to weld cell 2"},
             {"date": D(2026, 5, 4), "label": "Sectioning study of porous joints started"},
         ],
         "metric": [
-            {"id": "porosity-rate", "name": "Frames with weld porosity",
-             "file": "weld_inspection.parquet", "type": "defectives", "time": "inspected",
-             "value": "porosity_found", "unit": "frames", "better": "lower",
-             "headline": True, "rollup": {"period": "week", "statistic": "proportion"}},
+            {
+                "id": "porosity-rate",
+                "name": "Frames with weld porosity",
+                "file": "weld_inspection.parquet",
+                "type": "defectives",
+                "time": "inspected",
+                "value": "porosity_found",
+                "unit": "frames",
+                "better": "lower",
+                "headline": True,
+                "rollup": {"period": "week", "statistic": "proportion"},
+            },
         ],
     }
     notes = """\
@@ -981,9 +1253,11 @@ Porous joints are being sectioned to separate gas-related porosity from contamin
 Inspection records (a Parquet file exported from the inspection system):
 [weld_inspection.parquet](weld_inspection.parquet).
 """
-    return {"project.toml": toml_text(meta),
-            "weld_inspection.parquet": _weld_parquet(rows),
-            "notes.md": notes}
+    return {
+        "project.toml": toml_text(meta),
+        "weld_inspection.parquet": _weld_parquet(rows),
+        "notes.md": notes,
+    }
 
 
 def _weld_parquet(rows: list[list]) -> bytes:
@@ -992,9 +1266,13 @@ def _weld_parquet(rows: list[list]) -> bytes:
     import pyarrow as pa
 
     serial, inspected, flag = zip(*rows, strict=True)
-    return parquet_bytes({"frame_serial": pa.array(serial, pa.string()),
-                          "inspected": pa.array(inspected, pa.timestamp("s")),
-                          "porosity_found": pa.array(flag, pa.int8())})
+    return parquet_bytes(
+        {
+            "frame_serial": pa.array(serial, pa.string()),
+            "inspected": pa.array(inspected, pa.timestamp("s")),
+            "porosity_found": pa.array(flag, pa.int8()),
+        }
+    )
 
 
 PROJECT_BUILDERS: dict[str, Callable[[], dict[str, str]]] = {
@@ -1045,6 +1323,7 @@ def write_all(out: Path, projects: dict[str, dict[str, str]]) -> None:
 # (standard formulas as collected in the project's methods notes; d2(2) = 1.128, d2(5) = 2.326)
 # --------------------------------------------------------------------------------------------
 
+
 def _longest_side_run(x: np.ndarray, cl: float) -> int:
     best = run = 0
     prev = 0
@@ -1062,12 +1341,17 @@ def check(out: Path) -> None:
     def read(slug, m):
         opts = m.get("csv", {})
         if m["file"].endswith(".xlsx"):
-            return pd.read_excel(out / slug / m["file"], sheet_name=m.get("sheet", 0),
-                                 engine="calamine")
+            return pd.read_excel(
+                out / slug / m["file"], sheet_name=m.get("sheet", 0), engine="calamine"
+            )
         if m["file"].endswith(".parquet"):
             return pd.read_parquet(out / slug / m["file"])
-        return pd.read_csv(out / slug / m["file"], sep=opts.get("delimiter", ","),
-                           decimal=opts.get("decimal", "."), encoding="utf-8-sig")
+        return pd.read_csv(
+            out / slug / m["file"],
+            sep=opts.get("delimiter", ","),
+            decimal=opts.get("decimal", "."),
+            encoding="utf-8-sig",
+        )
 
     def periods(meta, m):
         b = m.get("baseline", meta["comparison"]["baseline"])
@@ -1097,9 +1381,11 @@ def check(out: Path) -> None:
                 tb = pd.to_datetime(df[m["time"]])
                 vc_b = df[mask(tb, b)][m["category"]].value_counts()
                 vc_a = df[mask(tb, a)][m["category"]].value_counts()
-                print(line + f"{df[m['category']].nunique()} categories; baseline top "
-                      f"{vc_b.index[0]} {vc_b.iloc[0] / vc_b.sum():.0%}; after top "
-                      f"{vc_a.index[0]} {vc_a.iloc[0] / vc_a.sum():.0%}")
+                print(
+                    line + f"{df[m['category']].nunique()} categories; baseline top "
+                    f"{vc_b.index[0]} {vc_b.iloc[0] / vc_b.sum():.0%}; after top "
+                    f"{vc_a.index[0]} {vc_a.iloc[0] / vc_a.sum():.0%}"
+                )
                 continue
             tcol = pd.to_datetime(df[m["time"]])
             if t == "continuous":
@@ -1113,13 +1399,16 @@ def check(out: Path) -> None:
                 cl = xb.mean()
                 mr = np.abs(np.diff(xb)).mean()
                 ucl, lcl = cl + 2.66 * mr, cl - 2.66 * mr
-                out_b = [str(d.date()) for d, v in zip(tt[mb], xb, strict=True)
-                         if v > ucl or v < lcl]
+                out_b = [
+                    str(d.date()) for d, v in zip(tt[mb], xb, strict=True) if v > ucl or v < lcl
+                ]
                 ma = mask(tt, a)
                 after = f"after mean {x[ma].mean():.3f}" if ma.any() else "no after"
-                print(line + f"{len(x)} points, baseline CL {cl:.3f} UCL {ucl:.3f} "
-                      f"LCL {lcl:.3f}; beyond: {out_b}; longest run {_longest_side_run(xb, cl)}"
-                      f"; {after}")
+                print(
+                    line + f"{len(x)} points, baseline CL {cl:.3f} UCL {ucl:.3f} "
+                    f"LCL {lcl:.3f}; beyond: {out_b}; longest run {_longest_side_run(xb, cl)}"
+                    f"; {after}"
+                )
             elif t == "subgroups":
                 g = df.assign(_t=tcol).groupby(m["subgroup"], sort=False)
                 tt = pd.DatetimeIndex(g["_t"].min())
@@ -1141,12 +1430,16 @@ def check(out: Path) -> None:
                     msg = f"{name}: mean {xx:.3f} sigma {sig:.3f} Cpk≈{cpk:.2f}"
                     if name == "baseline":
                         lim = 3 * sig / np.sqrt(n[mm])
-                        beyond = [str(d.date()) for d, v, l_ in zip(tt[mm], xbar[mm], lim,
-                                                                    strict=True)
-                                  if abs(v - xx) > l_]
-                        msg += (f"; means beyond: {beyond}; longest run "
-                                f"{_longest_side_run(xbar[mm], xx)}; max s {s[mm].max():.3f} "
-                                f"on {tt[mm][int(np.argmax(s[mm]))].date()}")
+                        beyond = [
+                            str(d.date())
+                            for d, v, l_ in zip(tt[mm], xbar[mm], lim, strict=True)
+                            if abs(v - xx) > l_
+                        ]
+                        msg += (
+                            f"; means beyond: {beyond}; longest run "
+                            f"{_longest_side_run(xbar[mm], xx)}; max s {s[mm].max():.3f} "
+                            f"on {tt[mm][int(np.argmax(s[mm]))].date()}"
+                        )
                     print(line + msg)
                     line = "    "
             elif t in ("defectives", "defects"):
@@ -1167,13 +1460,15 @@ def check(out: Path) -> None:
                 z = (c / n - pbar) / sd
                 sigz = np.abs(np.diff(z[mb])).mean() / 1.128
                 k = sigz if m.get("chart") == "laney-p" else 1.0
-                beyond = [str(d.date()) for d, zz in zip(tt[mb], z[mb], strict=True)
-                          if abs(zz) > 3 * k]
+                beyond = [
+                    str(d.date()) for d, zz in zip(tt[mb], z[mb], strict=True) if abs(zz) > 3 * k
+                ]
                 ma = mask(tt, a)
-                after = (f"after rate {c[ma].sum() / n[ma].sum():.4f}" if ma.any()
-                         else "no after")
-                print(line + f"{len(c)} points; baseline rate {pbar:.4f}; sigma_z {sigz:.2f}; "
-                      f"beyond ({'Laney' if k != 1 else 'plain'}): {beyond}; {after}")
+                after = f"after rate {c[ma].sum() / n[ma].sum():.4f}" if ma.any() else "no after"
+                print(
+                    line + f"{len(c)} points; baseline rate {pbar:.4f}; sigma_z {sigz:.2f}; "
+                    f"beyond ({'Laney' if k != 1 else 'plain'}): {beyond}; {after}"
+                )
 
 
 def main(argv: Sequence[str] | None = None) -> int:

@@ -50,13 +50,18 @@ def render(n_max: int = N_MAX) -> str:
 
 
 def main() -> int:
-    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap = argparse.ArgumentParser(
+        description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter
+    )
     ap.add_argument("--check", action="store_true", help="compare with the file, write nothing")
     args = ap.parse_args()
     if not TABLE.exists():
         # steadyline.stats imports the table; an empty one lets it load so the table can be made
-        TABLE.write_text("TABLE_MAX_N = 1\n" + "".join(
-            f"{name}: dict[int, float] = {{}}\n" for name in ("D2", "D3", "C4")), "utf-8")
+        TABLE.write_text(
+            "TABLE_MAX_N = 1\n"
+            + "".join(f"{name}: dict[int, float] = {{}}\n" for name in ("D2", "D3", "C4")),
+            "utf-8",
+        )
     text = render()
     if args.check:
         current = TABLE.read_text("utf-8") == text

@@ -23,7 +23,12 @@ from pathlib import Path
 
 import vl_convert
 
-OUT = Path(__file__).resolve().parent.parent / "site_templates" / "assets" / "THIRD-PARTY-LICENCES.txt"
+OUT = (
+    Path(__file__).resolve().parent.parent
+    / "site_templates"
+    / "assets"
+    / "THIRD-PARTY-LICENCES.txt"
+)
 LICENCE_FILES = re.compile(r"^(licen[cs]e|copying)(\.(md|txt|markdown))?$", re.IGNORECASE)
 
 
@@ -48,7 +53,7 @@ def packages(root: Path) -> list[Path]:
     for pj in sorted((root / "node_modules").glob("**/package.json")):
         parts = pj.relative_to(root).parts[:-1]
         last = len(parts) - 1 - parts[::-1].index("node_modules")
-        rest = parts[last + 1:]
+        rest = parts[last + 1 :]
         if len(rest) == 1 or (len(rest) == 2 and rest[0].startswith("@")):
             found.append(pj.parent)
     return found
@@ -67,8 +72,10 @@ def text_of(folder: Path) -> tuple[str, str, str, str]:
         author = meta.get("author")
         if isinstance(author, dict):
             author = author.get("name")
-        body = (f"The package ships no licence file; its package.json declares the licence "
-                f"{licence}" + (f", author {author}" if author else "") + ".")
+        body = (
+            f"The package ships no licence file; its package.json declares the licence "
+            f"{licence}" + (f", author {author}" if author else "") + "."
+        )
     return name, version, licence, body
 
 
@@ -77,9 +84,19 @@ def main() -> int:
     with tempfile.TemporaryDirectory() as tmp:
         root = Path(tmp)
         (root / "package.json").write_text('{"name": "licences", "private": true}\n')
-        subprocess.run(["npm", "install", "--no-audit", "--no-fund", "--omit=dev",
-                        *(f"{n}@{v}" for n, v in versions.items())], cwd=root, check=True,
-                       stdout=subprocess.DEVNULL)
+        subprocess.run(
+            [
+                "npm",
+                "install",
+                "--no-audit",
+                "--no-fund",
+                "--omit=dev",
+                *(f"{n}@{v}" for n, v in versions.items()),
+            ],
+            cwd=root,
+            check=True,
+            stdout=subprocess.DEVNULL,
+        )
         seen: dict[tuple[str, str], tuple[str, str]] = {}
         for folder in packages(root):
             name, version, licence, body = text_of(folder)

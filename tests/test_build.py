@@ -25,8 +25,11 @@ SMALL = ("order-picking-errors", "frame-dropout-alignment", "customer-returns")
 
 
 def tree_hashes(root: Path) -> dict[str, str]:
-    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(root.rglob("*")) if p.is_file()}
+    return {
+        p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(root.rglob("*"))
+        if p.is_file()
+    }
 
 
 def copy_projects(dst: Path, slugs=SMALL) -> Path:
@@ -67,8 +70,14 @@ def test_all_six_display_families_across_the_demo(demo_site: Path):
         for key in ("run", "control", "histogram", "box", "column", "pareto"):
             if f'data-display="{key}"' in text:
                 seen_cards.add(key)
-    assert {"run_chart", "control_chart", "histogram", "box_plot", "column_chart",
-            "pareto"} <= seen_keys
+    assert {
+        "run_chart",
+        "control_chart",
+        "histogram",
+        "box_plot",
+        "column_chart",
+        "pareto",
+    } <= seen_keys
     assert seen_cards == {"run", "control", "histogram", "box", "column", "pareto"}
 
 
@@ -88,20 +97,40 @@ def test_the_demo_uses_every_setting_of_the_methods(demo_site: Path):
             if m["type"] == "measurement-study":  # no rules: no chart of a process
                 continue
             r = m["rules"]
-            rules |= {("signal", r["signal_rules"]), ("runs", r["run_rules"]),
-                      ("limits", r["limits"]), ("quartiles", r["quartiles"]),
-                      ("bins", "edges" if isinstance(r["bins"], list) else r["bins"])}
-    assert {("signal", "western-electric"), ("signal", "nelson"), ("runs", "anhoj"),
-            ("runs", "perla"), ("limits", "baseline"), ("limits", "per-phase"),
-            ("quartiles", "linear"), ("quartiles", "tukey-hinges"), ("bins", "fd"),
-            ("bins", "sturges"), ("bins", "edges")} <= rules
+            rules |= {
+                ("signal", r["signal_rules"]),
+                ("runs", r["run_rules"]),
+                ("limits", r["limits"]),
+                ("quartiles", r["quartiles"]),
+                ("bins", "edges" if isinstance(r["bins"], list) else r["bins"]),
+            }
+    assert {
+        ("signal", "western-electric"),
+        ("signal", "nelson"),
+        ("runs", "anhoj"),
+        ("runs", "perla"),
+        ("limits", "baseline"),
+        ("limits", "per-phase"),
+        ("quartiles", "linear"),
+        ("quartiles", "tukey-hinges"),
+        ("bins", "fd"),
+        ("bins", "sturges"),
+        ("bins", "edges"),
+    } <= rules
 
 
 def test_a_defectives_run_chart_is_labelled_as_a_proportion(demo_site: Path):
     # the metric's unit names the items checked ("wheels"); the chart plots the proportion,
     # a share of those items: its median reads as a percentage of them, its axis likewise
-    spec = json.loads((demo_site / "projects" / "wheel-truing-first-pass-yield" / "data"
-                       / "retrue-rate-run.vl.json").read_text("utf-8"))
+    spec = json.loads(
+        (
+            demo_site
+            / "projects"
+            / "wheel-truing-first-pass-yield"
+            / "data"
+            / "retrue-rate-run.vl.json"
+        ).read_text("utf-8")
+    )
     (centre,) = spec["datasets"]["centre"]
     assert re.fullmatch(r"median \d+\.\d+% of wheels", centre["text"]), centre["text"]
     assert "Wheels needing re-truing (proportion)" in json.dumps(spec)
@@ -139,8 +168,11 @@ def test_index_counts_the_projects_by_phase(demo_site: Path):
 
     index = (demo_site / "index.html").read_text("utf-8")
     # reference: the phase each demo project's metadata names
-    phases = Counter(re.search(r'^phase = "(\w+)"', (d / "project.toml").read_text("utf-8"),
-                               re.M)[1] for d in DEMO.iterdir() if (d / "project.toml").is_file())
+    phases = Counter(
+        re.search(r'^phase = "(\w+)"', (d / "project.toml").read_text("utf-8"), re.M)[1]
+        for d in DEMO.iterdir()
+        if (d / "project.toml").is_file()
+    )
     order = ["define", "measure", "analyze", "improve", "control"]
     expected = ", ".join(f"{phases[p]} in {p}" for p in order if phases[p])
     assert f"By phase: {expected}." in index
@@ -151,8 +183,8 @@ def test_index_cards_say_how_fresh_each_projects_data_are(demo_site: Path):
     for res in (demo_site / "projects").glob("*/results.json"):
         doc = json.loads(res.read_text("utf-8"))
         last = max(m["points"]["period"][-1][:10] for m in doc["metrics"] if "points" in m)
-        card = index[index.index(f'href="projects/{res.parent.name}/index.html"'):]
-        shown = re.search(r"data to (\d{4}-\d{2}-\d{2})", card[:card.index("</li>")])
+        card = index[index.index(f'href="projects/{res.parent.name}/index.html"') :]
+        shown = re.search(r"data to (\d{4}-\d{2}-\d{2})", card[: card.index("</li>")])
         assert shown and shown[1] >= last, res.parent.name
         assert doc["project"]["data_to"] == shown[1]  # results.json says the same
         page = (res.parent / "index.html").read_text("utf-8")
@@ -169,7 +201,7 @@ def test_pages_carry_the_csp_and_load_nothing_from_elsewhere(demo_site: Path):
             assert "script-src" not in html.unescape(text) and "<script" not in text, page
         else:
             assert "script-src 'self';" in html.unescape(text), page
-        for attr in ('src="http', "src='http", 'href="//', "src=\"//", "@import"):
+        for attr in ('src="http', "src='http", 'href="//', 'src="//', "@import"):
             assert attr not in text, (page, attr)
         # Only the site's own scripts and JSON data blocks: no inline code.
         import re
@@ -238,8 +270,9 @@ def test_force_rebuilds_everything(tmp_path: Path):
 def test_a_broken_project_is_a_notice_and_the_rest_still_builds(tmp_path: Path, capsys):
     projects = copy_projects(tmp_path / "projects", SMALL[:2])
     toml = projects / "frame-dropout-alignment" / "project.toml"
-    toml.write_text(toml.read_text("utf-8").replace('type = "continuous"', 'type = "continous"'),
-                    "utf-8")
+    toml.write_text(
+        toml.read_text("utf-8").replace('type = "continuous"', 'type = "continous"'), "utf-8"
+    )
     out = tmp_path / "site"
     code = main(["build", str(projects), "--out", str(out), "--jobs", "1", "--quiet"])
     err = capsys.readouterr().err
@@ -292,8 +325,19 @@ def test_a_killed_build_leaves_the_published_site_whole(tmp_path: Path):
     new = tree_hashes(reference)
     assert new != old
     env = dict(os.environ, PYTHONPATH=str(REPO / "src"))
-    cmd = [sys.executable, "-m", "steadyline", "build", str(projects), "--out", str(out),
-           "--jobs", "1", "--force", "--quiet"]
+    cmd = [
+        sys.executable,
+        "-m",
+        "steadyline",
+        "build",
+        str(projects),
+        "--out",
+        str(out),
+        "--jobs",
+        "1",
+        "--force",
+        "--quiet",
+    ]
     # A full build takes a few seconds; kill at random points through it.
     t0 = time.monotonic()
     subprocess.run(cmd, env=env, check=True)
@@ -309,8 +353,7 @@ def test_a_killed_build_leaves_the_published_site_whole(tmp_path: Path):
         build(BuildOptions(projects, out, jobs=1, force=True))
         assert tree_hashes(out) == old
         save("\n".join(lines) + "\n", new_mtime)
-        proc = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL,
-                                stderr=subprocess.DEVNULL)
+        proc = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
         time.sleep(rng.uniform(0.2, full * 1.1))
         proc.send_signal(signal.SIGKILL)
         proc.wait()
@@ -325,8 +368,9 @@ def test_the_demo_with_several_projects_broken_publishes_the_healthy_ones(tmp_pa
     shutil.copytree(DEMO, projects)
     # three projects broken three ways: a TOML syntax error, a bad CSV cell, a missing file
     toml = projects / "spoke-tension" / "project.toml"
-    toml.write_text(toml.read_text("utf-8").replace('phase = "improve"', 'phase = improve'),
-                    "utf-8")
+    toml.write_text(
+        toml.read_text("utf-8").replace('phase = "improve"', "phase = improve"), "utf-8"
+    )
     csv = projects / "order-picking-errors" / "picking_audit.csv"
     lines = csv.read_text("utf-8").splitlines()
     lines[7] = lines[7].rsplit(",", 1)[0] + ",twelve"
@@ -369,7 +413,8 @@ def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_
     subprocess.run([*git, "add", "."], cwd=root, check=True)
     subprocess.run([*git, "commit", "-q", "-m", "data"], cwd=root, check=True)
     (root / slugs[3] / "project.toml").write_text(
-        (root / slugs[3] / "project.toml").read_text("utf-8") + "\n", "utf-8")  # uncommitted
+        (root / slugs[3] / "project.toml").read_text("utf-8") + "\n", "utf-8"
+    )  # uncommitted
     out = tmp_path / "site"
     build(BuildOptions(root, out, jobs=1))
     settings, _ = load_portfolio(root)
@@ -377,13 +422,19 @@ def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_
         spec, _ = load_project(root / s, root, settings)
         got = json.loads((out / "projects" / s / "results.json").read_text("utf-8"))
         assert got["provenance"] == provenance(spec, root), s
-    hows = {p["how"] for s in slugs for p in json.loads(
-        (out / "projects" / s / "results.json").read_text("utf-8"))["provenance"]}
+    hows = {
+        p["how"]
+        for s in slugs
+        for p in json.loads((out / "projects" / s / "results.json").read_text("utf-8"))[
+            "provenance"
+        ]
+    }
     assert hows == {"last commit", "file modification time"}
 
 
-def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_build(tmp_path: Path,
-                                                                       monkeypatch):
+def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_build(
+    tmp_path: Path, monkeypatch
+):
     # Enough projects for a pool, nothing published: the pool starts before the inputs are
     # hashed. Its site must be the one a build in this process writes.
     import steadyline.site.build as build_module
@@ -394,14 +445,16 @@ def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_buil
         shutil.copytree(DEMO / SMALL[i % len(SMALL)], projects / f"copy-{i:02d}")
     started = []
     real = build_module._early_pool
-    monkeypatch.setattr(build_module, "_early_pool",
-                        lambda jobs: started.append(jobs) or real(jobs))
+    monkeypatch.setattr(
+        build_module, "_early_pool", lambda jobs: started.append(jobs) or real(jobs)
+    )
     # a build of this many projects also flushes the staging folder while the workers write
     flushed = []
     real_syncfs = build_module.syncfs
     monkeypatch.setattr(build_module, "FLUSH_EVERY_S", 0.01)
-    monkeypatch.setattr(build_module, "syncfs",
-                        lambda folder: flushed.append(folder) or real_syncfs(folder))
+    monkeypatch.setattr(
+        build_module, "syncfs", lambda folder: flushed.append(folder) or real_syncfs(folder)
+    )
     pooled = build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
     assert started == [2]
     assert flushed and all(".staging-" in f.name for f in flushed)

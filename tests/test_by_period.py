@@ -35,8 +35,16 @@ def _times(rng, n: int, minutes: int = MINUTES) -> pd.Series:
     return pd.Series(pd.to_datetime(START + mins.astype("timedelta64[m]")))
 
 
-def write_project(root: Path, name: str, n: int, kind: str = "continuous", *, seed: int = 3,
-                  extra: str = "", minutes: int = MINUTES) -> Path:
+def write_project(
+    root: Path,
+    name: str,
+    n: int,
+    kind: str = "continuous",
+    *,
+    seed: int = 3,
+    extra: str = "",
+    minutes: int = MINUTES,
+) -> Path:
     """One project of one metric of *n* raw rows (invented data), without a roll-up."""
     rng = np.random.default_rng(seed)
     folder = root / name
@@ -45,21 +53,22 @@ def write_project(root: Path, name: str, n: int, kind: str = "continuous", *, se
     stamps = t.dt.strftime("%Y-%m-%dT%H:%M")
     after = (t >= pd.Timestamp("2026-06-01")).to_numpy()
     if kind in ("continuous", "subgroups"):
-        df = pd.DataFrame({"t": stamps, "v": np.round(20 - 0.8 * after
-                                                      + rng.standard_t(4, n), 3)})
+        df = pd.DataFrame({"t": stamps, "v": np.round(20 - 0.8 * after + rng.standard_t(4, n), 3)})
         keys = 'value = "v"\nspec_upper = 26.0\nunit = "h"'
         if kind == "subgroups":
             keys += "\nsubgroup_size = 5"
     elif kind == "defectives":
         size = rng.integers(20, 60, n)
-        df = pd.DataFrame({"t": stamps, "d": rng.binomial(size, np.where(after, 0.03, 0.06)),
-                           "n": size})
+        df = pd.DataFrame(
+            {"t": stamps, "d": rng.binomial(size, np.where(after, 0.03, 0.06)), "n": size}
+        )
         keys = 'count = "d"\nsize = "n"\nunit = "frames"'
     else:  # defects, one row per unit inspected
         df = pd.DataFrame({"t": stamps, "c": rng.poisson(np.where(after, 1.5, 2.0))})
         keys = 'count = "c"\nunit = "defects"'
     df.to_csv(folder / "m.csv", index=False, lineterminator="\n")
-    (folder / "project.toml").write_text(f'''title = "Rows {n}"
+    (folder / "project.toml").write_text(
+        f'''title = "Rows {n}"
 owner = "Someone"
 phase = "measure"
 problem = "Many rows."
@@ -77,7 +86,9 @@ time = "t"
 better = "lower"
 {keys}
 {extra}
-''', "utf-8")
+''',
+        "utf-8",
+    )
     return folder
 
 
@@ -97,8 +108,13 @@ def loaded(folder: Path):
 
 def weight(files: dict[str, bytes]) -> dict[str, int]:
     """Bytes per kind of file: the page, the history page, results.json, specs, CSVs."""
-    w = {"page": len(files["index.html"]), "history": len(files.get("history.html", b"")),
-         "results": len(files["results.json"]), "specs": 0, "csv": 0}
+    w = {
+        "page": len(files["index.html"]),
+        "history": len(files.get("history.html", b"")),
+        "results": len(files["results.json"]),
+        "specs": 0,
+        "csv": 0,
+    }
     for name, data in files.items():
         if name.endswith(".vl.json"):
             w["specs"] += len(data)
@@ -178,8 +194,9 @@ def test_defectives_are_drawn_by_each_periods_totals(tmp_path):
     d, n = g["d"].sum().to_numpy()[base], g["n"].sum().to_numpy()[base]
     pbar = d.sum() / n.sum()
     np.testing.assert_allclose(a.control.centre[base], pbar, rtol=1e-12)
-    np.testing.assert_allclose(a.control.upper[base],
-                               pbar + 3 * np.sqrt(pbar * (1 - pbar) / n), rtol=1e-9)
+    np.testing.assert_allclose(
+        a.control.upper[base], pbar + 3 * np.sqrt(pbar * (1 - pbar) / n), rtol=1e-9
+    )
 
 
 def test_defects_without_an_area_are_drawn_per_row_inspected(tmp_path):
@@ -204,15 +221,21 @@ def test_an_xmr_chart_asked_for_is_drawn_on_period_means(tmp_path):
     data = loaded(folder)
     assert (data.kind, data.by_period.how) == ("continuous", "mean")
     raw = pd.read_csv(folder / "m.csv", parse_dates=["t"])
-    np.testing.assert_allclose(data.points["value"],
-                               raw.groupby(raw["t"].dt.normalize())["v"].mean(), rtol=1e-12)
+    np.testing.assert_allclose(
+        data.points["value"], raw.groupby(raw["t"].dt.normalize())["v"].mean(), rtol=1e-12
+    )
     assert analyse(data).choice.kind == "xmr"
 
 
 def test_the_users_own_rollup_wins(tmp_path):
     # 700 days of data rolled up by day by the user: 700 points, drawn as asked
-    folder = write_project(tmp_path, "r", 3000, minutes=700 * 24 * 60,
-                           extra='[metric.rollup]\nperiod = "day"\nstatistic = "median"')
+    folder = write_project(
+        tmp_path,
+        "r",
+        3000,
+        minutes=700 * 24 * 60,
+        extra='[metric.rollup]\nperiod = "day"\nstatistic = "median"',
+    )
     data = loaded(folder)
     assert data.by_period is None and len(data.points) > DRAWN_POINTS_MAX
     doc = json.loads(build(folder)["results.json"])
@@ -273,8 +296,9 @@ def test_box_plot_outliers_are_capped_at_the_most_extreme(tmp_path):
     out = np.sort(base[(base < q1 - 1.5 * (q3 - q1)) | (base > q3 + 1.5 * (q3 - q1))])
     assert len(out) > 200
     assert box["outliers_left_out"] == len(out) - 200
-    np.testing.assert_allclose(sorted(box["outlier_values"]),
-                               np.concatenate([out[:100], out[-100:]]), rtol=1e-9)
+    np.testing.assert_allclose(
+        sorted(box["outlier_values"]), np.concatenate([out[:100], out[-100:]]), rtol=1e-9
+    )
     far = (base < q1 - 3 * (q3 - q1)) | (base > q3 + 3 * (q3 - q1))
     assert len(box["far_out_indices"]) + box["far_out_left_out"] == int(far.sum())
 
@@ -287,7 +311,8 @@ def test_free_text_categories_are_capped_in_results(tmp_path):
     t = _times(rng, n).dt.strftime("%Y-%m-%dT%H:%M")
     reasons = [f"reason {k}" for k in rng.zipf(1.3, n)]  # a long tail of distinct texts
     pd.DataFrame({"t": t, "c": reasons}).to_csv(folder / "m.csv", index=False)
-    (folder / "project.toml").write_text('''title = "Reasons"
+    (folder / "project.toml").write_text(
+        """title = "Reasons"
 owner = "Someone"
 phase = "measure"
 problem = "Many reasons."
@@ -304,7 +329,9 @@ type = "categories"
 time = "t"
 category = "c"
 better = "lower"
-''', "utf-8")
+""",
+        "utf-8",
+    )
     doc = json.loads(build(folder)["results.json"])
     # the project page's Pareto counts the baseline's rows (scope "baseline"): pandas' own
     # count of those rows is the outside tally
@@ -320,8 +347,10 @@ better = "lower"
     assert p["counts"][:5] == tally.iloc[:5].tolist()
     col = doc["metrics"][0]["column_chart"]
     assert col["categories"] == sorted(p["categories"], key=str.casefold)
-    assert (col["categories_left_out"], col["count_left_out"]) == (p["categories_left_out"],
-                                                                  p["count_left_out"])
+    assert (col["categories_left_out"], col["count_left_out"]) == (
+        p["categories_left_out"],
+        p["count_left_out"],
+    )
     for phase in doc["history"][0]["paretos"].values():
         assert len(phase["categories"]) <= 200
         assert sum(phase["counts"]) + phase["count_left_out"] == phase["total"]

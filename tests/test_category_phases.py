@@ -29,10 +29,24 @@ from corpus.kit import meta, write  # noqa: E402
 
 DEMO = Path(__file__).resolve().parents[1] / "projects"
 CASES = [  # slug, metric id, file, time column, category column, baseline, after
-    ("customer-returns", "return-reasons", "returns.csv", "received", "reason",
-     ("2026-01-05", "2026-05-29"), ("2026-07-06", "2026-11-20")),
-    ("paint-finish-defects", "defect-types", "paint_defects.csv", "found", "defect_type",
-     ("2026-01-12", "2026-04-03"), ("2026-05-04", None)),
+    (
+        "customer-returns",
+        "return-reasons",
+        "returns.csv",
+        "received",
+        "reason",
+        ("2026-01-05", "2026-05-29"),
+        ("2026-07-06", "2026-11-20"),
+    ),
+    (
+        "paint-finish-defects",
+        "defect-types",
+        "paint_defects.csv",
+        "found",
+        "defect_type",
+        ("2026-01-12", "2026-04-03"),
+        ("2026-05-04", None),
+    ),
 ]
 
 
@@ -40,8 +54,9 @@ def _tally(file: Path, time: str, column: str, period) -> Counter:
     start = date.fromisoformat(period[0])
     end = date.fromisoformat(period[1]) if period[1] else date.max
     with file.open(newline="", encoding="utf-8") as f:
-        return Counter(r[column] for r in csv.DictReader(f)
-                       if start <= date.fromisoformat(r[time][:10]) <= end)
+        return Counter(
+            r[column] for r in csv.DictReader(f) if start <= date.fromisoformat(r[time][:10]) <= end
+        )
 
 
 def _ranked(c: Counter) -> list[str]:
@@ -53,9 +68,14 @@ def _cards(page: str, metric_id: str) -> dict[str, tuple[str, str, str]]:
     the chart's description for readers who cannot see it (its aria-label): the card's lead
     line under the title may be its most important finding instead."""
     out = {}
-    for m in re.finditer(r'<figure class="display" id="(?:history-)?' + re.escape(metric_id)
-                         + r'-([a-z-]+)".*?<h4>(.*?)</h4>.*?role="img" aria-label="[^"]*?: (.*?)">'
-                         r'.*?<script type="application/json"[^>]*>(.*?)</script>', page, re.S):
+    for m in re.finditer(
+        r'<figure class="display" id="(?:history-)?'
+        + re.escape(metric_id)
+        + r'-([a-z-]+)".*?<h4>(.*?)</h4>.*?role="img" aria-label="[^"]*?: (.*?)">'
+        r'.*?<script type="application/json"[^>]*>(.*?)</script>',
+        page,
+        re.S,
+    ):
         out[m[1]] = (html.unescape(m[2]), html.unescape(m[3]), m[4])
     return out
 
@@ -70,8 +90,9 @@ def test_project_page_counts_the_baseline_and_says_so(demo_site, case):
     assert m["pareto"]["counts"] == [base[c] for c in _ranked(base)]
     assert m["pareto"]["scope"] == "baseline"
     assert m["pareto"]["values"] == sum(base.values())
-    assert dict(zip(m["column_chart"]["categories"], m["column_chart"]["counts"],
-                    strict=True)) == base
+    assert (
+        dict(zip(m["column_chart"]["categories"], m["column_chart"]["counts"], strict=True)) == base
+    )
     page = (demo_site / "projects" / slug / "index.html").read_text("utf-8")
     cards = _cards(page, mid)
     assert set(cards) == {"pareto", "column"}
@@ -99,16 +120,15 @@ def test_history_pareto_takes_the_baseline_order(demo_site, case):
         bars = spec["datasets"][panel]
         assert [b["category"] for b in bars] == order, panel
         assert [b["count"] for b in bars] == [tally[c] for c in order], panel
-    assert [b["count"] for b in spec["datasets"]["p0_bars"]] == sorted(base.values(),
-                                                                        reverse=True)
+    assert [b["count"] for b in spec["datasets"]["p0_bars"]] == sorted(base.values(), reverse=True)
 
 
 @pytest.mark.parametrize("case", CASES, ids=[c[0] for c in CASES])
 def test_no_sentence_denies_the_after_data_beside_its_chart(demo_site, case):
     slug, mid, *_ = case
     page = (demo_site / "projects" / slug / "history.html").read_text("utf-8")
-    section = page[page.index(f'id="metric-{mid}"'):]
-    section = section[:section.index("</section>")]
+    section = page[page.index(f'id="metric-{mid}"') :]
+    section = section[: section.index("</section>")]
     assert "No after period with data yet" not in section
     # the change in mix is tested (its sentence and table), so no sentence says "no test"
     assert "The shares of the categories " in section
@@ -120,11 +140,16 @@ def test_without_a_baseline_period_the_cards_say_all_data(tmp_path):
     from steadyline.site.build import BuildOptions, build
 
     rows = ["day,reason"] + [f"2026-01-{1 + i % 28:02d},{'ab'[i % 3 == 0]}" for i in range(30)]
-    projects = write(tmp_path / "projects", {
-        "p/project.toml": meta(metric={"type": "categories", "value": None, "category": "reason",
-                                       "time": "day"}, comparison=None),
-        "p/data.csv": "\n".join(rows) + "\n",
-    })
+    projects = write(
+        tmp_path / "projects",
+        {
+            "p/project.toml": meta(
+                metric={"type": "categories", "value": None, "category": "reason", "time": "day"},
+                comparison=None,
+            ),
+            "p/data.csv": "\n".join(rows) + "\n",
+        },
+    )
     report = build(BuildOptions(projects, tmp_path / "site", force=True, jobs=1))
     assert report.ok
     page = (tmp_path / "site" / "projects" / "p" / "index.html").read_text("utf-8")

@@ -53,8 +53,11 @@ def test_every_corpus_is_compared():
 def test_check_and_build_print_the_same(module, case, tmp_path, capsys, no_flush):
     root = prepare(case, tmp_path / "projects")
     checked = run(case, ["check", "--quiet", str(root)], capsys)
-    built = run(case, ["build", "--quiet", "--jobs", "1", str(root), "--out",
-                       str(tmp_path / "site")], capsys)
+    built = run(
+        case,
+        ["build", "--quiet", "--jobs", "1", str(root), "--out", str(tmp_path / "site")],
+        capsys,
+    )
     assert "internal error" not in built[2] and "Traceback" not in built[2], built[2]
     assert built[1] == checked[1], f"build printed:\n{built[2]}\ncheck printed:\n{checked[2]}"
     assert built[0] == checked[0] == case.code, (built[0], checked[0], case.code)

@@ -47,13 +47,25 @@ def copy_projects(dst: Path, copies: int = 0) -> Path:
 
 
 def build_cmd(projects: Path, out: Path, *extra: str, quiet: bool = True) -> list[str]:
-    return [sys.executable, "-m", "steadyline", "build", str(projects), "--out", str(out),
-            *(["--quiet"] if quiet else []), *extra]
+    return [
+        sys.executable,
+        "-m",
+        "steadyline",
+        "build",
+        str(projects),
+        "--out",
+        str(out),
+        *(["--quiet"] if quiet else []),
+        *extra,
+    ]
 
 
 def leftovers(out: Path) -> list[str]:
-    return sorted(p.name for p in out.parent.iterdir()
-                  if p.name.startswith((f".{out.name}.staging-", f".{out.name}.retired-")))
+    return sorted(
+        p.name
+        for p in out.parent.iterdir()
+        if p.name.startswith((f".{out.name}.staging-", f".{out.name}.retired-"))
+    )
 
 
 def wait_until(cond, timeout: float, step: float = 0.02):
@@ -71,10 +83,12 @@ def wait_until(cond, timeout: float, step: float = 0.02):
 
 def _holder_script(out: Path, kind: str) -> list[str]:
     """A process that takes the lock of *out*, says so, and holds it until killed."""
-    code = ("import sys, time\nfrom pathlib import Path\n"
-            "from steadyline.site.publish import lock_output\n"
-            "lock = lock_output(Path(sys.argv[1]), sys.argv[2])\n"
-            "print('held', flush=True)\ntime.sleep(60)\n")
+    code = (
+        "import sys, time\nfrom pathlib import Path\n"
+        "from steadyline.site.publish import lock_output\n"
+        "lock = lock_output(Path(sys.argv[1]), sys.argv[2])\n"
+        "print('held', flush=True)\ntime.sleep(60)\n"
+    )
     return [sys.executable, "-c", code, str(out), kind]
 
 
@@ -95,8 +109,9 @@ def test_a_second_build_waits_for_the_first_and_names_it(tmp_path: Path):
         assert wait_until(lambda: said, 5.0)
         time.sleep(0.3)
         assert not got, "took a lock another process holds"
-        assert said == [f"steadyline: waiting for the build of {out} by process {holder.pid} "
-                        "to finish"]
+        assert said == [
+            f"steadyline: waiting for the build of {out} by process {holder.pid} to finish"
+        ]
     finally:
         holder.kill()  # kill -9: the kernel drops its lock
         holder.wait()
@@ -122,8 +137,9 @@ def test_a_build_refuses_an_output_a_watch_session_holds(tmp_path: Path, capsys)
         assert main(["build", str(projects), "--out", str(out)]) == 2
         assert time.monotonic() - t0 < 5.0  # at once, not after a wait
         err = capsys.readouterr().err
-        assert err.startswith(f"steadyline: {out}: process {holder.pid} is watching this "
-                              "output (steadyline watch)"), err
+        assert err.startswith(
+            f"steadyline: {out}: process {holder.pid} is watching this output (steadyline watch)"
+        ), err
         assert not out.exists() and not leftovers(out)
     finally:
         holder.kill()
@@ -135,13 +151,28 @@ def test_a_watch_waits_for_a_build_then_holds_the_lock_until_it_stops(tmp_path: 
     projects = copy_projects(tmp_path / "projects")
     out = tmp_path / "site"
     holder = _start_holder(out, "build")
-    proc = subprocess.Popen([sys.executable, "-m", "steadyline", "watch", str(projects), "--out",
-                             str(out), "--no-serve", "--jobs", "1"], env=ENV,
-                            stderr=subprocess.PIPE, text=True)
+    proc = subprocess.Popen(
+        [
+            sys.executable,
+            "-m",
+            "steadyline",
+            "watch",
+            str(projects),
+            "--out",
+            str(out),
+            "--no-serve",
+            "--jobs",
+            "1",
+        ],
+        env=ENV,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
     try:
         assert proc.stderr is not None
-        assert proc.stderr.readline() == (f"steadyline: waiting for the build of {out} by "
-                                          f"process {holder.pid} to finish\n")
+        assert proc.stderr.readline() == (
+            f"steadyline: waiting for the build of {out} by process {holder.pid} to finish\n"
+        )
         holder.kill()
         holder.wait()
         lines = []
@@ -153,9 +184,22 @@ def test_a_watch_waits_for_a_build_then_holds_the_lock_until_it_stops(tmp_path: 
         # between rebuilds too: a build refuses at once
         with pytest.raises(BuildError, match=rf"process {proc.pid} is watching"):
             build(BuildOptions(projects, out, jobs=1, force=True))
-        second = subprocess.run([sys.executable, "-m", "steadyline", "watch", str(projects),
-                                 "--out", str(out), "--no-serve"], env=ENV, timeout=30,
-                                capture_output=True, text=True)
+        second = subprocess.run(
+            [
+                sys.executable,
+                "-m",
+                "steadyline",
+                "watch",
+                str(projects),
+                "--out",
+                str(out),
+                "--no-serve",
+            ],
+            env=ENV,
+            timeout=30,
+            capture_output=True,
+            text=True,
+        )
         assert second.returncode == 2
         assert f"process {proc.pid} is watching this output" in second.stderr
     finally:
@@ -172,11 +216,15 @@ def test_a_builds_own_folders_are_left_to_it_while_it_runs(tmp_path: Path):
     try:
         start = process_start(sleeper.pid)
         assert start is not None
-        live = [tmp_path / f".site.staging-{sleeper.pid}-{start}",
-                tmp_path / f".site.retired-{sleeper.pid}-{start}-123"]
+        live = [
+            tmp_path / f".site.staging-{sleeper.pid}-{start}",
+            tmp_path / f".site.retired-{sleeper.pid}-{start}-123",
+        ]
         # the same process id with another start time: a process that is gone
-        gone = [tmp_path / f".site.staging-{sleeper.pid}-{start + 1}",
-                tmp_path / f".site.retired-{sleeper.pid}-{start + 1}-123"]
+        gone = [
+            tmp_path / f".site.staging-{sleeper.pid}-{start + 1}",
+            tmp_path / f".site.retired-{sleeper.pid}-{start + 1}-123",
+        ]
         other = [tmp_path / ".site.staging-notes", tmp_path / ".other.staging-1"]
         for d in live + gone + other:
             (d / "projects").mkdir(parents=True)
@@ -212,9 +260,11 @@ def _observe(out: Path) -> tuple[str, object]:
         except (OSError, ValueError) as e:
             manifest = {"projects": {}}
             missing.append(f"manifest: {e}")
-        names = ["index.html"] + [f"projects/{slug}/{name}"
-                                  for slug, p in manifest["projects"].items()
-                                  for name in p["files"]]
+        names = ["index.html"] + [
+            f"projects/{slug}/{name}"
+            for slug, p in manifest["projects"].items()
+            for name in p["files"]
+        ]
         for name in names:
             try:
                 if os.stat(name, dir_fd=fd).st_size == 0 and name.endswith(".html"):
@@ -229,8 +279,11 @@ def _observe(out: Path) -> tuple[str, object]:
             still = False
         # Published from the first look to the last: it was published all along (a retired
         # folder is never published again), so files were missing from a published site.
-        return ("partial", f"{len(missing)} of {len(names)} missing, e.g. {missing[:3]}"
-                ) if still else ("moved", None)
+        return (
+            ("partial", f"{len(missing)} of {len(names)} missing, e.g. {missing[:3]}")
+            if still
+            else ("moved", None)
+        )
     finally:
         os.close(fd)
 
@@ -269,25 +322,35 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
     races, waited, published = 20, 0, 0
     try:
         for i in range(races):
-            forced = subprocess.Popen(build_cmd(projects, out, "--jobs", "1", "--force",
-                                                quiet=False),
-                                      env=ENV, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                      text=True)
+            forced = subprocess.Popen(
+                build_cmd(projects, out, "--jobs", "1", "--force", quiet=False),
+                env=ENV,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                text=True,
+            )
             time.sleep(rng.uniform(0, full))
             # a save (atomic, as editors do), so that the other build has a project to build
             lines[3] = lines[3].rsplit(",", 1)[0] + f",{20 + i}"
             (tmp_path / "saved.csv").write_text("\n".join(lines) + "\n", "utf-8")
             os.replace(tmp_path / "saved.csv", csv)
-            other = subprocess.Popen(build_cmd(projects, out, "--jobs", "1", quiet=False),
-                                     env=ENV, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                     text=True)
+            other = subprocess.Popen(
+                build_cmd(projects, out, "--jobs", "1", quiet=False),
+                env=ENV,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                text=True,
+            )
             for p in (forced, other):
                 _, err = p.communicate(timeout=120)
                 assert p.returncode == 0, (err, partial[:2])
-                said = re.fullmatch(r"(steadyline: waiting for the build of .* by process "
-                                    rf"(?:{forced.pid}|{other.pid}) to finish\n)?"
-                                    r"steadyline: \d+ built, \d+ unchanged, 0 with errors; "
-                                    r"site (published|unchanged, nothing written) at .*\n", err)
+                said = re.fullmatch(
+                    r"(steadyline: waiting for the build of .* by process "
+                    rf"(?:{forced.pid}|{other.pid}) to finish\n)?"
+                    r"steadyline: \d+ built, \d+ unchanged, 0 with errors; "
+                    r"site (published|unchanged, nothing written) at .*\n",
+                    err,
+                )
                 assert said, err
                 waited += said[1] is not None
                 published += said[2] == "published"
@@ -299,8 +362,9 @@ def test_racing_builds_never_publish_a_partial_site(tmp_path: Path):
     assert not partial, f"a reader saw a partial site: {partial[:5]}"
     assert seen["ok"] > races, seen  # the reader looked all along
     assert waited, "no build ever waited: the races did not overlap"
-    print(f"{races} races: {published} sites published, {waited} builds waited, the reader "
-          f"saw {seen}")
+    print(
+        f"{races} races: {published} sites published, {waited} builds waited, the reader saw {seen}"
+    )
     # the site published last is that of the last inputs: a build finds nothing to do
     assert not build(BuildOptions(projects, out, jobs=1)).written
     assert wait_until(lambda: not leftovers(out), 15.0), leftovers(out)
@@ -318,7 +382,7 @@ def _session(sid: int) -> list[tuple[int, str]]:
             continue
         try:
             stat = Path(f"/proc/{d}/stat").read_bytes()
-            fields = stat[stat.rindex(b")") + 2:].split()
+            fields = stat[stat.rindex(b")") + 2 :].split()
             if int(fields[3]) != sid or fields[0] in (b"Z", b"X"):
                 continue
             cmd = Path(f"/proc/{d}/cmdline").read_bytes().replace(b"\0", b" ").decode()
@@ -333,8 +397,10 @@ def _workers(sid: int) -> list[int]:
 
 
 def _staged_projects(out: Path) -> int:
-    return sum(len(list((p / "projects").glob("*/index.html")))
-               for p in out.parent.glob(f".{out.name}.staging-*"))
+    return sum(
+        len(list((p / "projects").glob("*/index.html")))
+        for p in out.parent.glob(f".{out.name}.staging-*")
+    )
 
 
 @pytest.mark.slow
@@ -350,12 +416,17 @@ def test_a_killed_pooled_build_leaves_no_process_and_the_next_build_no_folder(tm
         "half the projects are staged": lambda sid: _staged_projects(out) >= 6 and _workers(sid),
     }
     for moment, reached in moments.items():
-        proc = subprocess.Popen(build_cmd(projects, out, "--jobs", "2", "--force"), env=ENV,
-                                start_new_session=True, stderr=subprocess.DEVNULL)
+        proc = subprocess.Popen(
+            build_cmd(projects, out, "--jobs", "2", "--force"),
+            env=ENV,
+            start_new_session=True,
+            stderr=subprocess.DEVNULL,
+        )
         sid = proc.pid  # a session leader's id is its session's
         try:
-            assert wait_until(lambda p=proc, f=reached: f(p.pid) or p.poll() is not None, 60.0,
-                              0.005)
+            assert wait_until(
+                lambda p=proc, f=reached: f(p.pid) or p.poll() is not None, 60.0, 0.005
+            )
             assert proc.poll() is None, f"the build ended before {moment}"
             workers = _workers(sid)
             assert workers, moment
@@ -369,8 +440,9 @@ def test_a_killed_pooled_build_leaves_no_process_and_the_next_build_no_folder(tm
     assert any(".staging-" in name for name in leftovers(out))
     # Nothing changed since the published build: the next build publishes nothing, but it
     # still removes what the killed builds left (the retired folders in the background).
-    done = subprocess.run(build_cmd(projects, out, "--jobs", "2"), env=ENV,
-                          capture_output=True, text=True)
+    done = subprocess.run(
+        build_cmd(projects, out, "--jobs", "2"), env=ENV, capture_output=True, text=True
+    )
     assert done.returncode == 0, done.stderr
     assert wait_until(lambda: not leftovers(out), 15.0), leftovers(out)
 
@@ -381,12 +453,18 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
     projects = copy_projects(tmp_path / "projects", copies=9)
     out = tmp_path / "site"
     for sig, code in ((signal.SIGTERM, -signal.SIGTERM), (signal.SIGINT, 130)):
-        proc = subprocess.Popen(build_cmd(projects, out, "--jobs", "2"), env=ENV,
-                                start_new_session=True, stderr=subprocess.PIPE, text=True)
+        proc = subprocess.Popen(
+            build_cmd(projects, out, "--jobs", "2"),
+            env=ENV,
+            start_new_session=True,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
         sid = proc.pid
         try:
-            assert wait_until(lambda p=proc: _staged_projects(out) >= 1 or p.poll() is not None,
-                              60.0, 0.005)
+            assert wait_until(
+                lambda p=proc: _staged_projects(out) >= 1 or p.poll() is not None, 60.0, 0.005
+            )
             workers = _workers(sid)
             assert proc.poll() is None and workers
             os.kill(proc.pid, sig)
@@ -405,10 +483,13 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
 
 
 def test_a_worker_whose_build_is_already_gone_ends_at_once():
-    code = ("import os\nfrom steadyline.site.build import _die_with_parent\n"
-            "_die_with_parent(os.getppid() + 1)\nprint('still here')\n")
-    done = subprocess.run([sys.executable, "-c", code], env=ENV, capture_output=True, text=True,
-                          timeout=30)
+    code = (
+        "import os\nfrom steadyline.site.build import _die_with_parent\n"
+        "_die_with_parent(os.getppid() + 1)\nprint('still here')\n"
+    )
+    done = subprocess.run(
+        [sys.executable, "-c", code], env=ENV, capture_output=True, text=True, timeout=30
+    )
     assert done.returncode == 1 and "still here" not in done.stdout
 
 

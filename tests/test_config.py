@@ -43,8 +43,9 @@ delimter = ";"
 
 
 def _problems(tmp_path, text, files=None):
-    root = write(tmp_path / "projects", {"p/project.toml": text, "p/data.csv": good_csv(),
-                                         **(files or {})})
+    root = write(
+        tmp_path / "projects", {"p/project.toml": text, "p/data.csv": good_csv(), **(files or {})}
+    )
     with pytest.raises(ProjectError) as e:
         load_project(root / "p", root)
     return {p.where: p for p in e.value.problems}
@@ -63,7 +64,9 @@ def test_lines_inside_the_second_metric_and_its_sub_tables(tmp_path):
 
 
 def test_a_valid_file_loads(tmp_path):
-    text = TOML.replace("valeu = 3\n", "").replace('"dya"', '"day"').replace("delimter", "delimiter")
+    text = (
+        TOML.replace("valeu = 3\n", "").replace('"dya"', '"day"').replace("delimter", "delimiter")
+    )
     text = text.replace('delimiter = ";"', 'delimiter = ","')
     root = write(tmp_path / "projects", {"p/project.toml": text, "p/data.csv": good_csv()})
     spec, warnings = load_project(root / "p", root)
@@ -71,13 +74,16 @@ def test_a_valid_file_loads(tmp_path):
     assert spec.metrics[1].rollup.period == "day"
 
 
-@pytest.mark.parametrize("text, where, line, words", [
-    ("max_file_mb = -1\n", "max_file_mb", 1, "must be a positive number"),
-    ("max_file_mb = 0\n", "max_file_mb", 1, "must be a positive number"),
-    ('title = "x"\nbins = "fdd"\n', "bins", 2, "did you mean 'fd'"),
-    ('quartiles = "tukey"\n', "quartiles", 1, "did you mean 'tukey-hinges'"),
-    ('max_file_mb = "big"\n', "max_file_mb", 1, "expected a number"),
-])
+@pytest.mark.parametrize(
+    "text, where, line, words",
+    [
+        ("max_file_mb = -1\n", "max_file_mb", 1, "must be a positive number"),
+        ("max_file_mb = 0\n", "max_file_mb", 1, "must be a positive number"),
+        ('title = "x"\nbins = "fdd"\n', "bins", 2, "did you mean 'fd'"),
+        ('quartiles = "tukey"\n', "quartiles", 1, "did you mean 'tukey-hinges'"),
+        ('max_file_mb = "big"\n', "max_file_mb", 1, "expected a number"),
+    ],
+)
 def test_portfolio_settings_problems(tmp_path, text, where, line, words):
     root = write(tmp_path / "projects", {"portfolio.toml": text})
     settings, problems = load_portfolio(root)

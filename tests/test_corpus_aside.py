@@ -57,74 +57,190 @@ def _v_inline(root):
 
 
 CASES = [
-    Case("aside-end-before-start",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10, 2026-01-08]",
-                                                   reason='"x"')),
-         [exact("p/project.toml:19: metric[1].set_aside[1].dates: the end 2026-01-08 is before "
-                "the start 2026-01-10; write [start, end]")], 1),
-    Case("aside-no-reason", portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]")),
-         [exact("p/project.toml:18: metric[1].set_aside[1].reason: required key is missing: why "
-                "these points are set aside: the cause found and removed")], 1),
-    Case("aside-empty-reason",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]", reason='" "')),
-         [exact("p/project.toml:20: metric[1].set_aside[1].reason: expected non-empty text, got "
-                "text ' '")], 1),
-    Case("aside-no-dates",
-         portfolio(toml=meta(comparison=B) + entry(reason='"Scale out of calibration"')),
-         [exact("p/project.toml:18: metric[1].set_aside[1].dates: required key is missing: [day] "
-                "or [first day, last day] of the points set aside")], 1),
-    Case("aside-outside-baseline",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-26]", reason='"x"')),
-         [exact("p/project.toml:19: metric[1].set_aside[1].dates: 2026-01-26 is not inside the "
+    Case(
+        "aside-end-before-start",
+        portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10, 2026-01-08]", reason='"x"')),
+        [
+            exact(
+                "p/project.toml:19: metric[1].set_aside[1].dates: the end 2026-01-08 is before "
+                "the start 2026-01-10; write [start, end]"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-no-reason",
+        portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]")),
+        [
+            exact(
+                "p/project.toml:18: metric[1].set_aside[1].reason: required key is missing: why "
+                "these points are set aside: the cause found and removed"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-empty-reason",
+        portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]", reason='" "')),
+        [
+            exact(
+                "p/project.toml:20: metric[1].set_aside[1].reason: expected non-empty text, got "
+                "text ' '"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-no-dates",
+        portfolio(toml=meta(comparison=B) + entry(reason='"Scale out of calibration"')),
+        [
+            exact(
+                "p/project.toml:18: metric[1].set_aside[1].dates: required key is missing: [day] "
+                "or [first day, last day] of the points set aside"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-outside-baseline",
+        portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-26]", reason='"x"')),
+        [
+            exact(
+                "p/project.toml:19: metric[1].set_aside[1].dates: 2026-01-26 is not inside the "
                 "baseline period (2026-01-05 to 2026-01-24); only baseline points can be set "
-                "aside")], 1),
-    Case("aside-outside-data",
-         portfolio(toml=meta() + entry(dates="[2026-03-01, 2026-03-04]", reason='"x"')),
-         [exact("p/project.toml:18: metric[1].set_aside[1].dates: no point of 'p/data.csv' falls "
-                "on 2026-03-01 to 2026-03-04; the data run 2026-01-05 to 2026-02-03")], 1),
-    Case("aside-overlap",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10, 2026-01-12]", reason='"a"')
-                   + entry(dates="[2026-01-12]", reason='"b"')),
-         [exact("p/project.toml:22: metric[1].set_aside[2].dates: 2026-01-12 overlaps "
+                "aside"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-outside-data",
+        portfolio(toml=meta() + entry(dates="[2026-03-01, 2026-03-04]", reason='"x"')),
+        [
+            exact(
+                "p/project.toml:18: metric[1].set_aside[1].dates: no point of 'p/data.csv' falls "
+                "on 2026-03-01 to 2026-03-04; the data run 2026-01-05 to 2026-02-03"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-overlap",
+        portfolio(
+            toml=meta(comparison=B)
+            + entry(dates="[2026-01-10, 2026-01-12]", reason='"a"')
+            + entry(dates="[2026-01-12]", reason='"b"')
+        ),
+        [
+            exact(
+                "p/project.toml:22: metric[1].set_aside[2].dates: 2026-01-12 overlaps "
                 "metric[1].set_aside[1] (2026-01-10 to 2026-01-12); give each day once: merge "
-                "them into one range")], 1),
-    Case("aside-duplicate",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]", reason='"a"')
-                   + entry(dates="[2026-01-10]", reason='"a"')),
-         [exact("p/project.toml:22: metric[1].set_aside[2].dates: 2026-01-10 overlaps "
+                "them into one range"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-duplicate",
+        portfolio(
+            toml=meta(comparison=B)
+            + entry(dates="[2026-01-10]", reason='"a"')
+            + entry(dates="[2026-01-10]", reason='"a"')
+        ),
+        [
+            exact(
+                "p/project.toml:22: metric[1].set_aside[2].dates: 2026-01-10 overlaps "
                 "metric[1].set_aside[1] (2026-01-10); give each day once: merge them into one "
-                "range")], 1),
-    Case("aside-whole-baseline",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-05, 2026-01-14]", reason='"a"')
-                   + entry(dates="[2026-01-15, 2026-01-24]", reason='"b"')),
-         [exact("p/project.toml:18: metric[1].set_aside: the days set aside cover the whole "
+                "range"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-whole-baseline",
+        portfolio(
+            toml=meta(comparison=B)
+            + entry(dates="[2026-01-05, 2026-01-14]", reason='"a"')
+            + entry(dates="[2026-01-15, 2026-01-24]", reason='"b"')
+        ),
+        [
+            exact(
+                "p/project.toml:18: metric[1].set_aside: the days set aside cover the whole "
                 "baseline period (2026-01-05 to 2026-01-24); no point would be left to compute "
-                "the baseline from")], 1),
-    Case("aside-every-baseline-point",
-         portfolio(toml=meta(comparison="baseline = [2026-01-01, 2026-01-24]\n"
-                                        "after = [2026-01-25]")
-                   + entry(dates="[2026-01-05, 2026-01-24]", reason='"a"')),
-         [exact("p/project.toml:19: metric[1].set_aside: every point of the baseline of "
+                "the baseline from"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-every-baseline-point",
+        portfolio(
+            toml=meta(comparison="baseline = [2026-01-01, 2026-01-24]\nafter = [2026-01-25]")
+            + entry(dates="[2026-01-05, 2026-01-24]", reason='"a"')
+        ),
+        [
+            exact(
+                "p/project.toml:19: metric[1].set_aside: every point of the baseline of "
                 "'p/data.csv' is set aside; no point would be left to compute the centre line "
-                "and limits from")], 1),
-    Case("aside-categories",
-         portfolio(toml=meta(metric=CATEGORIES) + entry(dates="[2026-01-10]", reason='"a"'),
-                   data="reason\nLager\nBüro\n"),
-         [exact("p/project.toml:16: metric[1].set_aside: a categories metric has no control "
-                "limits or centre line to set points aside from; remove set_aside")], 1),
-    Case("aside-unknown-key",
-         portfolio(toml=meta(comparison=B) + entry(dates="[2026-01-10]", reason='"a"',
-                                                   reasons='"b"')),
-         [exact("p/project.toml:21: metric[1].set_aside[1].reasons: unknown key; did you mean "
-                "'reason'?")], 1),
-    Case("aside-not-tables",
-         portfolio(toml=meta(comparison=B, metric={"set_aside": "2026-01-10"})),
-         [exact("p/project.toml:18: metric[1].set_aside: expected [[metric.set_aside]] tables, "
-                "each with dates and reason, got text '2026-01-10'")], 1),
-    Case("aside-inline-good",
-         portfolio(toml=meta(comparison=B, metric={"set_aside": raw(
-             '[{dates = [2026-01-10, 2026-01-11], reason = "Scale out of calibration"}]')})),
-         [], 0, verify=_v_inline),
+                "and limits from"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-categories",
+        portfolio(
+            toml=meta(metric=CATEGORIES) + entry(dates="[2026-01-10]", reason='"a"'),
+            data="reason\nLager\nBüro\n",
+        ),
+        [
+            exact(
+                "p/project.toml:16: metric[1].set_aside: a categories metric has no control "
+                "limits or centre line to set points aside from; remove set_aside"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-unknown-key",
+        portfolio(
+            toml=meta(comparison=B) + entry(dates="[2026-01-10]", reason='"a"', reasons='"b"')
+        ),
+        [
+            exact(
+                "p/project.toml:21: metric[1].set_aside[1].reasons: unknown key; did you mean "
+                "'reason'?"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-not-tables",
+        portfolio(toml=meta(comparison=B, metric={"set_aside": "2026-01-10"})),
+        [
+            exact(
+                "p/project.toml:18: metric[1].set_aside: expected [[metric.set_aside]] tables, "
+                "each with dates and reason, got text '2026-01-10'"
+            )
+        ],
+        1,
+    ),
+    Case(
+        "aside-inline-good",
+        portfolio(
+            toml=meta(
+                comparison=B,
+                metric={
+                    "set_aside": raw(
+                        '[{dates = [2026-01-10, 2026-01-11], reason = "Scale out of calibration"}]'
+                    )
+                },
+            )
+        ),
+        [],
+        0,
+        verify=_v_inline,
+    ),
 ]
 
 
@@ -178,12 +294,16 @@ def test_a_build_leaves_the_days_out_and_says_so(tmp_path):
     for s in m["control_chart"]["signals"] + m["run_chart"]["signals"]:
         assert not set(s["indices"]) & {7, 8, 9}, s
     assert m["set_aside"] == {
-        "points": 3, "baseline_points": 20, "share": 0.15, "values": 3,
+        "points": 3,
+        "baseline_points": 20,
+        "share": 0.15,
+        "values": 3,
         "labels": ["2026-01-12", "2026-01-13", "2026-01-14"],
         "entries": [{"dates": ["2026-01-12", "2026-01-14"], "reason": REASON, "points": 3}],
-        "caution": None}
+        "caution": None,
+    }
     # the card lists the days and reason once; the baseline's displays say what they leave out
-    sentence = (f"2026-01-12 to 2026-01-14, 3 points: {REASON}.")
+    sentence = f"2026-01-12 to 2026-01-14, 3 points: {REASON}."
     assert page.count(sentence) == 1
     assert "Without the 3 values of the points set aside" in page
     assert "Median of the baseline as centre line (without the points set aside)" in page
@@ -204,12 +324,16 @@ def test_without_set_aside_the_chart_spec_names_no_such_mark(tmp_path):
 
 def test_a_large_share_set_aside_gets_a_caution(tmp_path):
     # 6 of 20 baseline points (30%) is more than the 25% (common practice) the caution is for
-    toml = (meta(comparison=B) + entry(dates="[2026-01-06, 2026-01-08]", reason='"a"')
-            + entry(dates="[2026-01-12, 2026-01-14]", reason='"b"'))
+    toml = (
+        meta(comparison=B)
+        + entry(dates="[2026-01-06, 2026-01-08]", reason='"a"')
+        + entry(dates="[2026-01-12, 2026-01-14]", reason='"b"')
+    )
     _out, page, m = _build(tmp_path, SPIKED, toml)
     caution = m["set_aside"]["caution"]
-    assert caution.startswith("6 of the baseline's 20 points are set aside, more than 25% "
-                              "(common practice)")
+    assert caution.startswith(
+        "6 of the baseline's 20 points are set aside, more than 25% (common practice)"
+    )
     assert caution in m["warnings"]
     assert caution.replace("'", "&#39;") in page
     # the same limits as the stats module gives on that mask

@@ -33,8 +33,15 @@ from test_corpus_files import assert_case, prepare, run
 from steadyline.cli import main
 
 PERIODS = "baseline = [2026-01-01, 2026-01-19]\nafter = [2026-01-20]"
-SECOND = {"id": "second", "name": "Second metric", "file": "second.csv", "type": "continuous",
-          "time": "date", "value": "value", "better": "lower"}
+SECOND = {
+    "id": "second",
+    "name": "Second metric",
+    "file": "second.csv",
+    "type": "continuous",
+    "time": "date",
+    "value": "value",
+    "better": "lower",
+}
 NOT_A_NUMBER = "'n/a' is not a number; leave the cell blank for a missing value"
 
 
@@ -45,26 +52,48 @@ def bad_csv(line: int = 5, cell: str = "n/a") -> str:
     return "\n".join(lines) + "\n"
 
 
-def two_metrics(*, headline_second: bool = False, top: dict | None = None,
-                first: str | None = None, second: str | None = None) -> dict:
+def two_metrics(
+    *,
+    headline_second: bool = False,
+    top: dict | None = None,
+    first: str | None = None,
+    second: str | None = None,
+) -> dict:
     """Project 'p' with metric 'm' (data.csv) and 'second' (second.csv)."""
     more = dict(SECOND) | ({"headline": True} if headline_second else {})
-    return {"p/project.toml": meta(top=top, comparison=PERIODS, more_metrics=[more]),
-            "p/data.csv": first or good_csv(), "p/second.csv": second or good_csv()}
+    return {
+        "p/project.toml": meta(top=top, comparison=PERIODS, more_metrics=[more]),
+        "p/data.csv": first or good_csv(),
+        "p/second.csv": second or good_csv(),
+    }
 
 
 CASES = [
-    Case("metric-bad-cell-beside-a-good-metric", two_metrics(second=bad_csv()),
-         [r"^p/second\.csv:5: column 'value': " + re.escape(NOT_A_NUMBER) + "$"], 1),
-    Case("headline-metric-bad-cell", two_metrics(headline_second=True, second=bad_csv(7)),
-         [r"^p/second\.csv:7: column 'value': " + re.escape(NOT_A_NUMBER) + "$"], 1),
-    Case("first-metric-bad-cell", two_metrics(first=bad_csv(3, "12,5")),
-         [r"^p/data\.csv:3: "], 1),
-    Case("every-metric-bad", two_metrics(first=bad_csv(4), second=bad_csv(6)),
-         [r"^p/data\.csv:4: column 'value': ", r"^p/second\.csv:6: column 'value': "], 1),
-    Case("metric-missing-column-beside-a-good-metric",
-         two_metrics(second="date,amount\n2026-01-05,1\n"),
-         [r"^p/second\.csv:1: column 'value': "], 1),
+    Case(
+        "metric-bad-cell-beside-a-good-metric",
+        two_metrics(second=bad_csv()),
+        [r"^p/second\.csv:5: column 'value': " + re.escape(NOT_A_NUMBER) + "$"],
+        1,
+    ),
+    Case(
+        "headline-metric-bad-cell",
+        two_metrics(headline_second=True, second=bad_csv(7)),
+        [r"^p/second\.csv:7: column 'value': " + re.escape(NOT_A_NUMBER) + "$"],
+        1,
+    ),
+    Case("first-metric-bad-cell", two_metrics(first=bad_csv(3, "12,5")), [r"^p/data\.csv:3: "], 1),
+    Case(
+        "every-metric-bad",
+        two_metrics(first=bad_csv(4), second=bad_csv(6)),
+        [r"^p/data\.csv:4: column 'value': ", r"^p/second\.csv:6: column 'value': "],
+        1,
+    ),
+    Case(
+        "metric-missing-column-beside-a-good-metric",
+        two_metrics(second="date,amount\n2026-01-05,1\n"),
+        [r"^p/second\.csv:1: column 'value': "],
+        1,
+    ),
 ]
 
 
@@ -77,8 +106,7 @@ def test_case(case: Case, tmp_path, capsys):
 
 # ----------------------------------------------------------------------------- what is published
 
-BAD_TOML = meta(top={"title": "Readable title", "phase": "improve"},
-                metric={"type": "continous"})
+BAD_TOML = meta(top={"title": "Readable title", "phase": "improve"}, metric={"type": "continous"})
 
 
 @pytest.fixture(scope="module")
@@ -88,15 +116,29 @@ def site(tmp_path_factory):
     errors but a readable title and phase), 's' (a TOML syntax error), 'g' (healthy)."""
     root = tmp_path_factory.mktemp("broken-metric") / "projects"
     files = {f"p/{k[2:]}": v for k, v in two_metrics(second=bad_csv()).items()}
-    files |= {f"h/{k[2:]}": v for k, v in two_metrics(
-        headline_second=True, second=bad_csv(7), top={"title": "Headline broken",
-                                                       "phase": "control"}).items()}
-    files |= {f"all/{k[2:]}": v for k, v in two_metrics(
-        first=bad_csv(4), second=bad_csv(6), top={"title": "Nothing readable",
-                                                  "phase": "analyze"}).items()}
-    files |= {"t/project.toml": BAD_TOML, "t/data.csv": good_csv(),
-              "s/project.toml": 'title = "Never seen"\nphase = improve\n',
-              "g/project.toml": meta(top={"title": "Healthy"}), "g/data.csv": good_csv()}
+    files |= {
+        f"h/{k[2:]}": v
+        for k, v in two_metrics(
+            headline_second=True,
+            second=bad_csv(7),
+            top={"title": "Headline broken", "phase": "control"},
+        ).items()
+    }
+    files |= {
+        f"all/{k[2:]}": v
+        for k, v in two_metrics(
+            first=bad_csv(4),
+            second=bad_csv(6),
+            top={"title": "Nothing readable", "phase": "analyze"},
+        ).items()
+    }
+    files |= {
+        "t/project.toml": BAD_TOML,
+        "t/data.csv": good_csv(),
+        "s/project.toml": 'title = "Never seen"\nphase = improve\n',
+        "g/project.toml": meta(top={"title": "Healthy"}),
+        "g/data.csv": good_csv(),
+    }
     write(root, files)
     out = root.parent / "site"
     return root, out
@@ -129,10 +171,12 @@ def test_the_good_metric_is_published_and_the_bad_one_shows_its_problem_in_place
     assert good < bad  # in the metadata's order
     good_section = page[good:bad]
     assert 'data-display="run"' in good_section and 'data-display="control"' in good_section
-    bad_section = page[bad:page.index("</section>", bad)]
+    bad_section = page[bad : page.index("</section>", bad)]
     assert "Second metric" in bad_section and "Not built" in bad_section
-    assert ("<code>p/second.csv:5: column &#39;value&#39;: &#39;n/a&#39; is not a number; "
-            "leave the cell blank for a missing value</code>") in bad_section
+    assert (
+        "<code>p/second.csv:5: column &#39;value&#39;: &#39;n/a&#39; is not a number; "
+        "leave the cell blank for a missing value</code>"
+    ) in bad_section
     assert "data-display" not in bad_section  # no charts
     assert not any(f.name.startswith("second-") for f in (out / "projects/p/data").iterdir())
     assert (out / "projects/p/data/m-control.csv").is_file()
@@ -145,9 +189,15 @@ def test_results_json_lists_the_metric_with_its_problems(site, built):
     first, second = doc["metrics"]
     assert first["id"] == "m" and "not_built" not in first and "control_chart" in first
     assert second == {
-        "id": "second", "name": "Second metric", "unit": "", "type": "continuous",
-        "better": "lower", "file": "p/second.csv", "not_built": True,
-        "problems": [f"p/second.csv:5: column 'value': {NOT_A_NUMBER}"]}
+        "id": "second",
+        "name": "Second metric",
+        "unit": "",
+        "type": "continuous",
+        "better": "lower",
+        "file": "p/second.csv",
+        "not_built": True,
+        "problems": [f"p/second.csv:5: column 'value': {NOT_A_NUMBER}"],
+    }
     assert [h["id"] for h in doc["history"]] == ["m"]  # left out of the history
     assert doc["status"]["metric"] == "m" and doc["status"]["code"] != "not-built"
 
@@ -163,8 +213,9 @@ def test_a_broken_headline_metric_is_said_plainly(site, built):
     _, out = site
     doc = json.loads(_page(out, "h", "results.json"))
     assert doc["status"]["code"] == "not-built" and doc["status"]["metric"] == "second"
-    assert doc["status"]["reason"].startswith("Second metric: the headline metric could not "
-                                              "be built: 1 problem in its data")
+    assert doc["status"]["reason"].startswith(
+        "Second metric: the headline metric could not be built: 1 problem in its data"
+    )
     assert [m.get("not_built", False) for m in doc["metrics"]] == [False, True]
     index = (out / "index.html").read_text("utf-8")
     card = _card(index, "h")
@@ -174,8 +225,11 @@ def test_a_broken_headline_metric_is_said_plainly(site, built):
     assert '<p class="headline-change">Not built: 1 problem in its data.</p>' in card
     assert 'class="broken-lead"' not in card  # said once, by the status and the headline
     assert 'href="projects/h/index.html#metric-second"' in card  # what to fix
-    row = next(r for r in csv.DictReader((out / "headline-figures.csv").open(encoding="utf-8"))
-               if r["project"] == "h")
+    row = next(
+        r
+        for r in csv.DictReader((out / "headline-figures.csv").open(encoding="utf-8"))
+        if r["project"] == "h"
+    )
     assert row["status"] == "not built" and row["headline_metric"] == "Second metric"
     assert row["baseline"] == row["after"] == ""
 
@@ -184,8 +238,10 @@ def test_a_project_with_a_good_headline_keeps_its_status_and_names_the_metric(si
     _, out = site
     card = _card((out / "index.html").read_text("utf-8"), "p")
     assert 'data-status="not-built"' not in card and "card-broken" not in card
-    assert ('Not built: <a href="projects/p/index.html#metric-second">Second metric</a> '
-            "(1 problem in its data)") in card
+    assert (
+        'Not built: <a href="projects/p/index.html#metric-second">Second metric</a> '
+        "(1 problem in its data)"
+    ) in card
 
 
 def test_a_project_with_every_metric_broken_is_a_notice_named_by_its_title(site, built):
@@ -241,7 +297,7 @@ def _card(index: str, slug: str) -> str:
     start = index.index('<li class="card')
     start = index.index(f'data-slug="{slug}"', start)
     start = index.rindex("<li", 0, start)
-    return index[start:index.index("</li>", start)]
+    return index[start : index.index("</li>", start)]
 
 
 def test_the_partial_read_reads_only_what_the_project_may(tmp_path):
@@ -250,8 +306,14 @@ def test_the_partial_read_reads_only_what_the_project_may(tmp_path):
     from steadyline.config import read_heading
 
     root = tmp_path / "projects"
-    write(root, {"q/project.toml": 'title = "Mine"\nphase = "improv"\nowner = 3\n',
-                 "r/data.csv": "x\n", "s/project.toml": b'title = "\xff"\n'})
+    write(
+        root,
+        {
+            "q/project.toml": 'title = "Mine"\nphase = "improv"\nowner = 3\n',
+            "r/data.csv": "x\n",
+            "s/project.toml": b'title = "\xff"\n',
+        },
+    )
     (tmp_path / "outside.toml").write_text('title = "Outside"\nphase = "control"\n', "utf-8")
     (root / "r" / "project.toml").symlink_to(tmp_path / "outside.toml")
     assert read_heading(root / "q", root) == {"title": "Mine"}
@@ -279,10 +341,15 @@ def test_a_bug_met_in_one_metric_costs_that_metric_alone(tmp_path, capsys, monke
     out = tmp_path / "site"
     assert main(["build", "--quiet", "--jobs", "1", str(root), "--out", str(out)]) == 1
     built = capsys.readouterr().err.splitlines()
-    assert built == checked == [
-        "p/second.csv: metric 'second': internal error while building this metric "
-        "(ZeroDivisionError: float division by zero); please report it (run with --debug for "
-        "the traceback)"]
+    assert (
+        built
+        == checked
+        == [
+            "p/second.csv: metric 'second': internal error while building this metric "
+            "(ZeroDivisionError: float division by zero); please report it (run with --debug for "
+            "the traceback)"
+        ]
+    )
     page = _page(out, "p")
     assert 'data-display="control"' in page and "metric-broken" in page
     assert "ZeroDivisionError" in page

@@ -59,35 +59,78 @@ def _unused_columns(rows: int = 30) -> str:
     junk = ["n/a", "", "  x  ", "\u00e9t\u00e9", "12 5", "; ;", "\u2028", "NaN"]
     return "date,note,value,extra\n" + "".join(
         f"{d},{junk[i % len(junk)]},{v},{junk[(i + 3) % len(junk)]}\n"
-        for i, (d, v) in enumerate(zip(dates(rows), VALUES, strict=False)))
+        for i, (d, v) in enumerate(zip(dates(rows), VALUES, strict=False))
+    )
 
 
 CASES = [
-    Case("far-too-wide", portfolio(data=_wide(20_000), files=OTHER),
-         [exact("p/data.csv:1: header: the header has 20,002 columns, over the limit of 10,000"
-                + WIDE)], 1, absent=[r"^q/"]),
-    Case("far-too-wide-utf16",
-         portfolio(data=_wide(12_000).encode("utf-16"),
-                   toml=meta(csv={"encoding": "utf-16"})),
-         [exact("p/data.csv:1: header: the header has 12,002 columns, over the limit of 10,000"
-                + WIDE)], 1),
-    Case("far-too-wide-binary-rows",  # the width is counted before anything else is read
-         portfolio(data=_wide(10_001, rows=0).encode() + b"\x00\x01" * 100),
-         [exact("p/data.csv:1: header: the header has 10,003 columns, over the limit of 10,000"
-                + WIDE)], 1),
-    Case("wide-quoted-names-counted-as-read",  # 9,998 quoted names holding the delimiter
-         portfolio(data=_wide(9_998, name=lambda i: f'"c,{i}"')), [], 0, verify=_v_values),
+    Case(
+        "far-too-wide",
+        portfolio(data=_wide(20_000), files=OTHER),
+        [
+            exact(
+                "p/data.csv:1: header: the header has 20,002 columns, over the limit of 10,000"
+                + WIDE
+            )
+        ],
+        1,
+        absent=[r"^q/"],
+    ),
+    Case(
+        "far-too-wide-utf16",
+        portfolio(data=_wide(12_000).encode("utf-16"), toml=meta(csv={"encoding": "utf-16"})),
+        [
+            exact(
+                "p/data.csv:1: header: the header has 12,002 columns, over the limit of 10,000"
+                + WIDE
+            )
+        ],
+        1,
+    ),
+    Case(
+        "far-too-wide-binary-rows",  # the width is counted before anything else is read
+        portfolio(data=_wide(10_001, rows=0).encode() + b"\x00\x01" * 100),
+        [
+            exact(
+                "p/data.csv:1: header: the header has 10,003 columns, over the limit of 10,000"
+                + WIDE
+            )
+        ],
+        1,
+    ),
+    Case(
+        "wide-quoted-names-counted-as-read",  # 9,998 quoted names holding the delimiter
+        portfolio(data=_wide(9_998, name=lambda i: f'"c,{i}"')),
+        [],
+        0,
+        verify=_v_values,
+    ),
     Case("wide-at-the-limit", portfolio(data=_wide(9_998)), [], 0, verify=_v_values),
-    Case("wide-semicolons-one-over",
-         portfolio(data=_wide(9_999, sep=";"), toml=meta(csv={"delimiter": ";"})),
-         [exact("p/data.csv:1: header: the header has 10,001 columns, over the limit of 10,000"
-                + WIDE)], 1),
-    Case("unused-columns-hold-anything", portfolio(data=_unused_columns()), [], 0,
-         verify=_v_values),
-    Case("unused-column-invalid-utf8",
-         portfolio(data=_unused_columns().encode().replace(b"\xc3\xa9", b"\xe9", 1)),
-         [exact("p/data.csv:2: byte 0xe9 is not valid utf-8 text; save the file as UTF-8, or "
-                "set [metric.csv] encoding = \"latin-1\" if it comes from an older system")], 1),
+    Case(
+        "wide-semicolons-one-over",
+        portfolio(data=_wide(9_999, sep=";"), toml=meta(csv={"delimiter": ";"})),
+        [
+            exact(
+                "p/data.csv:1: header: the header has 10,001 columns, over the limit of 10,000"
+                + WIDE
+            )
+        ],
+        1,
+    ),
+    Case(
+        "unused-columns-hold-anything", portfolio(data=_unused_columns()), [], 0, verify=_v_values
+    ),
+    Case(
+        "unused-column-invalid-utf8",
+        portfolio(data=_unused_columns().encode().replace(b"\xc3\xa9", b"\xe9", 1)),
+        [
+            exact(
+                "p/data.csv:2: byte 0xe9 is not valid utf-8 text; save the file as UTF-8, or "
+                'set [metric.csv] encoding = "latin-1" if it comes from an older system'
+            )
+        ],
+        1,
+    ),
 ]
 
 

@@ -28,8 +28,11 @@ README = (ROOT / "README.md").read_text(encoding="utf-8")
 
 
 def shipped(file: str) -> dict:
-    text = resources.files("steadyline").joinpath("schemas", SCHEMA_FILES[file]).read_text(
-        encoding="utf-8")
+    text = (
+        resources.files("steadyline")
+        .joinpath("schemas", SCHEMA_FILES[file])
+        .read_text(encoding="utf-8")
+    )
     return json.loads(text)
 
 
@@ -56,7 +59,8 @@ def validator(file: str) -> jsonschema.Draft4Validator:
 def test_shipped_schema_is_the_generators_output(file):
     path = ROOT / "src" / "steadyline" / "schemas" / SCHEMA_FILES[file]
     assert path.read_text(encoding="utf-8") == render(file, README), (
-        "run python scripts/make_schemas.py")
+        "run python scripts/make_schemas.py"
+    )
 
 
 DEMO_PROJECTS = sorted(p.parent.name for p in DEMO.glob("*/project.toml"))
@@ -82,11 +86,17 @@ def _demo(slug="wheel-build-lead-time") -> dict:
     return as_json(tomllib.loads((DEMO / slug / "project.toml").read_text(encoding="utf-8")))
 
 
-@pytest.mark.parametrize("where, right, wrong", [
-    ((), "title", "titel"), (("metric", 0), "better", "beter"),
-    (("metric", 0, "rollup"), "period", "periode"), (("comparison",), "baseline", "basline"),
-    (("event", 0), "label", "lable"), (("phase_dates",), "analyze", "analyse"),
-])
+@pytest.mark.parametrize(
+    "where, right, wrong",
+    [
+        ((), "title", "titel"),
+        (("metric", 0), "better", "beter"),
+        (("metric", 0, "rollup"), "period", "periode"),
+        (("comparison",), "baseline", "basline"),
+        (("event", 0), "label", "lable"),
+        (("phase_dates",), "analyze", "analyse"),
+    ],
+)
 def test_a_misspelt_key_fails(where, right, wrong):
     data = _demo()
     table = data
@@ -110,22 +120,42 @@ def test_a_value_outside_its_choices_fails():
 
 
 # A value of a type no key of that kind takes: the validator and the schema must both refuse it.
-WRONG = {"text": 5, "id": "Lead Time", "choice": 5, "number": "x", "integer": 1.5,
-         "positive": -1, "boolean": "yes", "date": True, "period": "2026-01-05",
-         "text-list": "a", "char": ";;", "bins": True, "table": 5, "tables": 5}
+WRONG = {
+    "text": 5,
+    "id": "Lead Time",
+    "choice": 5,
+    "number": "x",
+    "integer": 1.5,
+    "positive": -1,
+    "boolean": "yes",
+    "date": True,
+    "period": "2026-01-05",
+    "text-list": "a",
+    "char": ";;",
+    "bins": True,
+    "table": 5,
+    "tables": 5,
+}
 
 
 def _leaf_cases():
     """(table path in the demo project, key) for every key of KEYS in a project.toml."""
-    paths = {"project": (), "phase_dates": ("phase_dates",), "comparison": ("comparison",),
-             "event": ("event", 0), "metric": ("metric", 0),
-             "metric.rollup": ("metric", 0, "rollup"), "metric.csv": ("metric", 0, "csv"),
-             "metric.set_aside": ("metric", 0, "set_aside", 0)}
+    paths = {
+        "project": (),
+        "phase_dates": ("phase_dates",),
+        "comparison": ("comparison",),
+        "event": ("event", 0),
+        "metric": ("metric", 0),
+        "metric.rollup": ("metric", 0, "rollup"),
+        "metric.csv": ("metric", 0, "csv"),
+        "metric.set_aside": ("metric", 0, "set_aside", 0),
+    }
     return [(table, paths[table], k) for table in paths for k in KEYS[table]]
 
 
-@pytest.mark.parametrize("table, path, key", _leaf_cases(),
-                         ids=[f"{t}.{k.name}" for t, _, k in _leaf_cases()])
+@pytest.mark.parametrize(
+    "table, path, key", _leaf_cases(), ids=[f"{t}.{k.name}" for t, _, k in _leaf_cases()]
+)
 def test_schema_and_validator_refuse_the_same_wrong_type(tmp_path, table, path, key):
     data = _demo()
     data["metric"][0].setdefault("csv", {})
@@ -144,9 +174,14 @@ def test_schema_and_validator_refuse_the_same_wrong_type(tmp_path, table, path, 
         load_project(folder, tmp_path)
     where = ".".join(str(s) for s in path if isinstance(s, str))
     wheres = {p.where for p in e.value.problems if p.severity == "error"}
-    prefix = {"event": "event[1].", "metric": "metric[1].", "metric.rollup": "metric[1].rollup.",
-              "metric.csv": "metric[1].csv.", "metric.set_aside": "metric[1].set_aside[1].",
-              "project": ""}.get(table, f"{where}.")
+    prefix = {
+        "event": "event[1].",
+        "metric": "metric[1].",
+        "metric.rollup": "metric[1].rollup.",
+        "metric.csv": "metric[1].csv.",
+        "metric.set_aside": "metric[1].set_aside[1].",
+        "project": "",
+    }.get(table, f"{where}.")
     assert any(w.startswith(prefix + key.name) or w == key.name for w in wheres), wheres
 
 
@@ -161,6 +196,7 @@ def test_the_portfolio_validator_refuses_what_the_schema_refuses(tmp_path):
 
 def _toml(data: dict) -> str:
     """A small TOML writer for the shapes above: inline values, tables and arrays of tables."""
+
     def value(v):
         if isinstance(v, bool):
             return "true" if v else "false"
@@ -174,9 +210,11 @@ def _toml(data: dict) -> str:
             return "{" + ", ".join(f"{k} = {value(x)}" for k, x in v.items()) + "}"
         return repr(v)
 
-    lines = [f"{k} = {value(v)}" for k, v in data.items()
-             if not isinstance(v, dict) and not (isinstance(v, list) and v
-                                                 and isinstance(v[0], dict))]
+    lines = [
+        f"{k} = {value(v)}"
+        for k, v in data.items()
+        if not isinstance(v, dict) and not (isinstance(v, list) and v and isinstance(v[0], dict))
+    ]
     for k, v in data.items():
         if isinstance(v, dict):
             lines += [f"[{k}]"] + [f"{kk} = {value(x)}" for kk, x in v.items()]

@@ -13,8 +13,28 @@ from markupsafe import escape
 from steadyline.site.cards import _cell, _csv_cells, _csv_field, _html_cells, safe_cell
 from steadyline.site.serialise import dumps, plain
 
-EDGES = [0.0, -0.0, 1.0, -1.0, 12.0, 999999.5, 1e15, -1e15, 1e16, 1e-320, 3.5e300,
-         0.1 + 0.2, 2.5, -3.5, float("nan"), float("inf"), float("-inf"), None, 7, -3]
+EDGES = [
+    0.0,
+    -0.0,
+    1.0,
+    -1.0,
+    12.0,
+    999999.5,
+    1e15,
+    -1e15,
+    1e16,
+    1e-320,
+    3.5e300,
+    0.1 + 0.2,
+    2.5,
+    -3.5,
+    float("nan"),
+    float("inf"),
+    float("-inf"),
+    None,
+    7,
+    -3,
+]
 
 
 def _values(seed: int, n: int = 400) -> list:
@@ -46,12 +66,33 @@ def test_csv_number_columns_match_repr_over_the_whole_float_range():
 
 
 def test_csv_text_columns_match_the_cell_by_cell_writer():
-    col = ["plain", "=1+1", "+SUM(A1)", "-3.5", "a,b", 'say "hi"', "line\nbreak", "@cmd", None,
-           "2026-01-05", "", "-", "\t=1"]
+    col = [
+        "plain",
+        "=1+1",
+        "+SUM(A1)",
+        "-3.5",
+        "a,b",
+        'say "hi"',
+        "line\nbreak",
+        "@cmd",
+        None,
+        "2026-01-05",
+        "",
+        "-",
+        "\t=1",
+    ]
     assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
     # all-text columns take the bulk check: plain ones, and ones with a cell to quote or guard
-    for col in (["2026-01-05", "2026-01-06T10:00Z", "baseline"], ["a", "b,c"], ["a", "=x"],
-                ["a", "-1"], ["a", 'q"'], ["a", "\rb"], [""], ["a", "\t=1"]):
+    for col in (
+        ["2026-01-05", "2026-01-06T10:00Z", "baseline"],
+        ["a", "b,c"],
+        ["a", "=x"],
+        ["a", "-1"],
+        ["a", 'q"'],
+        ["a", "\rb"],
+        [""],
+        ["a", "\t=1"],
+    ):
         assert _csv_cells(col) == [_csv_field(safe_cell(v)) for v in col]
 
 
@@ -67,10 +108,16 @@ def test_dumps_matches_plain_json_for_long_float_lists():
     # reference: the standard library's json encoder on the plain() copy, value for value
     for seed in range(3):
         vals = [v for v in _values(seed) if v is None or isinstance(v, float)]
-        doc = {"a": vals, "b": {"c": vals[:40], "d": ["x", 1, 2.5, "é\u2028<"]},
-               "e": np.array(vals[:64]), "f": [True, False], "ü": 2**70}
-        reference = json.dumps(plain(doc), sort_keys=True, ensure_ascii=False, allow_nan=False,
-                               separators=(",", ":"))
+        doc = {
+            "a": vals,
+            "b": {"c": vals[:40], "d": ["x", 1, 2.5, "é\u2028<"]},
+            "e": np.array(vals[:64]),
+            "f": [True, False],
+            "ü": 2**70,
+        }
+        reference = json.dumps(
+            plain(doc), sort_keys=True, ensure_ascii=False, allow_nan=False, separators=(",", ":")
+        )
         text = dumps(doc, indent=None)
         assert json.loads(text) == json.loads(reference)
         assert list(json.loads(text)) == sorted(json.loads(text))  # keys sorted
@@ -89,10 +136,9 @@ def test_awkward_text_check_matches_the_regular_expression():
     awkward = re.compile(r'"|\n[ \t\r]*\n|^[ \t\r]*\n|\r(?!\n)')  # the full expression
 
     rng = random.Random(5)
-    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    alphabet = ["a", "1", ",", " ", "\t", "\r", "\n", '"', "\r\n", "\n\n", " \n", "\n \r\n"]
     cases = ["", "a,b\n1,2\n", "\na,b\n", " \na", "a\r\nb\r\n", "a\rb", "a\n \t\nb", "a\n\r\nb"]
-    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12)))
-              for _ in range(5000)]
+    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12))) for _ in range(5000)]
     for text in cases:
         assert _awkward(text) == (awkward.search(text) is not None), repr(text)
 
@@ -112,11 +158,13 @@ def test_display_rounding_in_bulk_matches_the_text_rounding():
     from steadyline.charts.base import _round6, _round6_array
 
     rng = np.random.default_rng(21)
-    arrays = [rng.normal(0, 1, 3000) * 10.0 ** rng.integers(-30, 30, 3000),
-              np.round(rng.normal(20, 3, 3000), 4),
-              (rng.integers(1, 10**7, 3000) + 0.5) / 10.0 ** rng.integers(0, 9, 3000),
-              rng.integers(-10**9, 10**9, 3000).astype(float),
-              10.0 ** rng.integers(-20, 20, 3000) * (1 + rng.choice([-1e-16, 0, 5e-7], 3000))]
+    arrays = [
+        rng.normal(0, 1, 3000) * 10.0 ** rng.integers(-30, 30, 3000),
+        np.round(rng.normal(20, 3, 3000), 4),
+        (rng.integers(1, 10**7, 3000) + 0.5) / 10.0 ** rng.integers(0, 9, 3000),
+        rng.integers(-(10**9), 10**9, 3000).astype(float),
+        10.0 ** rng.integers(-20, 20, 3000) * (1 + rng.choice([-1e-16, 0, 5e-7], 3000)),
+    ]
     for a in arrays:
         a[:6] = [0.0, -0.0, np.nan, np.inf, -np.inf, 1e300]
         got = _round6_array(a)
@@ -188,9 +236,16 @@ def test_results_rounded_in_one_pass_equal_array_by_array():
     from steadyline.site.serialise import _batched
 
     rng = np.random.default_rng(4)
-    doc = {"a": [np.array(_values(s, 50)[:40], dtype=float) for s in range(4)],
-           "b": {"c": rng.normal(0, 1, 7), "d": [1.5, None, 2.25], "e": np.zeros(0),
-                 "f": np.array([[1.25, 2.5], [3.0, -0.0]]), "g": np.array([0.0, -0.0, 1e-320])}}
+    doc = {
+        "a": [np.array(_values(s, 50)[:40], dtype=float) for s in range(4)],
+        "b": {
+            "c": rng.normal(0, 1, 7),
+            "d": [1.5, None, 2.25],
+            "e": np.zeros(0),
+            "f": np.array([[1.25, 2.5], [3.0, -0.0]]),
+            "g": np.array([0.0, -0.0, 1e-320]),
+        },
+    }
     assert json.dumps(_batched(doc), allow_nan=False) == json.dumps(plain(doc), allow_nan=False)
 
 
@@ -214,12 +269,21 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
     rng = np.random.default_rng(8)
     for _ in range(200):
         n = int(rng.integers(1, 400))
-        t = pd.Series(np.sort(np.datetime64("2026-01-01T00:00") + rng.integers(
-            0, 60 * 24 * 90, n).astype("timedelta64[m]")))
+        t = pd.Series(
+            np.sort(
+                np.datetime64("2026-01-01T00:00")
+                + rng.integers(0, 60 * 24 * 90, n).astype("timedelta64[m]")
+            )
+        )
         key = t.dt.normalize().to_numpy()
-        frame = pd.DataFrame({"t": t, "value": np.round(rng.normal(20, 5, n) * 10.0 ** int(
-            rng.integers(-6, 9)), 4), "count": rng.integers(0, 9, n).astype(float),
-            "size": rng.integers(9, 30, n).astype(float)})
+        frame = pd.DataFrame(
+            {
+                "t": t,
+                "value": np.round(rng.normal(20, 5, n) * 10.0 ** int(rng.integers(-6, 9)), 4),
+                "count": rng.integers(0, 9, n).astype(float),
+                "size": rng.integers(9, 30, n).astype(float),
+            }
+        )
         g = frame.groupby(key, sort=True)
         for stat in ("mean", "sum", "count"):
             got = pd.DataFrame(_rollup_sorted(frame, key, stat, "continuous", False))
@@ -238,8 +302,9 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
         periods = got["period"]
         full = pd.date_range(periods.iloc[0], periods.iloc[-1], freq="D")
         pos = full.get_indexer(pd.DatetimeIndex(periods))
-        assert (_segments_for_periods(periods, "day") ==
-                np.cumsum(np.diff(pos, prepend=pos[0]) > 1)).all()
+        assert (
+            _segments_for_periods(periods, "day") == np.cumsum(np.diff(pos, prepend=pos[0]) > 1)
+        ).all()
 
 
 def test_plain_decimal_columns_read_by_numpy_match_pandas_and_the_careful_parse():
@@ -272,8 +337,18 @@ def test_plain_decimal_columns_read_by_numpy_match_pandas_and_the_careful_parse(
     assert np.array_equal(got[unsigned], pandas_values[unsigned])
     assert got.tolist() == [float(c) for c in cells]
     # anything else is left to the careful path
-    for odd in (["1", ""], ["1", "nan"], ["1", "inf"], ["1", "1,5"], ["1", "1_000"],
-                ["1", "\u0661"], ["1", "e5"], ["1", "1e"], ["1", "+-1"], ["1", " 2"]):
+    for odd in (
+        ["1", ""],
+        ["1", "nan"],
+        ["1", "inf"],
+        ["1", "1,5"],
+        ["1", "1_000"],
+        ["1", "\u0661"],
+        ["1", "e5"],
+        ["1", "1e"],
+        ["1", "+-1"],
+        ["1", " 2"],
+    ):
         assert _plain_decimals(np.array(odd, dtype=object)) is None, odd
 
 
@@ -287,17 +362,35 @@ def test_plain_iso_times_read_by_numpy_match_pandas():
     base = np.datetime64("2019-01-01T00:00:00")
     stamps = base + rng.integers(0, 12 * 365 * 86400, 2000).astype("timedelta64[s]")
     text = np.datetime_as_string(stamps, unit="s").tolist()
-    for cells in ([t[:10] for t in text], [t[:16] for t in text], text,
-                  [t[:10] + " " + t[11:16] for t in text], [t[:10] + " " + t[11:] for t in text]):
+    for cells in (
+        [t[:10] for t in text],
+        [t[:16] for t in text],
+        text,
+        [t[:10] + " " + t[11:16] for t in text],
+        [t[:10] + " " + t[11:] for t in text],
+    ):
         got = _plain_iso(np.array(cells, dtype=object))
         assert got is not None
         want = pd.to_datetime(pd.Series(cells), format="ISO8601").to_numpy()
         assert np.array_equal(got.astype("datetime64[ns]"), want), cells[:2]
-    for odd in (["2026-01-05", "2026-1-05"], ["2026-01-05", "2026-01-05T10:00"],
-                ["2026-02-30"], ["2026-13-01"], ["2026-01-05T24:00"], ["2026-01-05T10:60"],
-                ["2026-01-05T10:00Z"], ["2026-01-05T10:00+01:00"], ["2026-01-05T10:00:00.5"],
-                ["2026/01/05"], ["2026-01-05x10:00"], ["05.01.2026"], ["\u0662026-01-05"],
-                ["2026-01-05", ""], ["NaT"], ["today"]):
+    for odd in (
+        ["2026-01-05", "2026-1-05"],
+        ["2026-01-05", "2026-01-05T10:00"],
+        ["2026-02-30"],
+        ["2026-13-01"],
+        ["2026-01-05T24:00"],
+        ["2026-01-05T10:60"],
+        ["2026-01-05T10:00Z"],
+        ["2026-01-05T10:00+01:00"],
+        ["2026-01-05T10:00:00.5"],
+        ["2026/01/05"],
+        ["2026-01-05x10:00"],
+        ["05.01.2026"],
+        ["\u0662026-01-05"],
+        ["2026-01-05", ""],
+        ["NaT"],
+        ["today"],
+    ):
         assert _plain_iso(np.array(odd, dtype=object)) is None, odd
 
 
@@ -321,8 +414,14 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
         n = int(rng.integers(1, 300))
         stage = tuple(rng.choice(["", "Baseline", "After"], n).tolist())
         segment = tuple(np.cumsum(rng.random(n) < 0.05).tolist())
-        ctx = SeriesContext(x=tuple(str(i) for i in range(n)), x_is_time=False, stage=stage,
-                            segment=segment, unit="", metric_name="m")
+        ctx = SeriesContext(
+            x=tuple(str(i) for i in range(n)),
+            x_is_time=False,
+            stage=stage,
+            segment=segment,
+            unit="",
+            metric_name="m",
+        )
         offset = int(trial % 2) if n > 1 else 0
         m = n - offset
         values = rng.normal(size=m)
@@ -333,8 +432,15 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
         for _ in range(int(rng.integers(0, 12))):
             start = int(rng.integers(-offset, n))
             idx = tuple(range(start, min(n + 2, start + int(rng.integers(1, 9)))))
-            signals.append(Signal(rule="r", description=str(rng.choice(texts)), indices=idx,
-                                  side=None, chart="main"))
+            signals.append(
+                Signal(
+                    rule="r",
+                    description=str(rng.choice(texts)),
+                    indices=idx,
+                    side=None,
+                    chart="main",
+                )
+            )
         # the descriptions per point, signal by signal, as a plain loop lists them
         marked: dict[int, list[str]] = {}
         for sig in signals:
@@ -343,7 +449,8 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
                     marked.setdefault(j + offset, []).append(sig.description)
         marks = _signal_text(signals, n, offset)
         assert [marks.texts[c - 1] if c else "" for c in marks.codes.tolist()] == [
-            "; ".join(marked.get(i, [])) for i in range(n)]
+            "; ".join(marked.get(i, [])) for i in range(n)
+        ]
         # the table's column joins the main chart's texts and the companion's
         other = _signal_text(signals[::-1], n)
         other_marked: dict[int, list[str]] = {}
@@ -352,7 +459,8 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
                 if 0 <= j < n and sig.description not in other_marked.get(j, []):
                     other_marked.setdefault(j, []).append(sig.description)
         assert _signal_column(n, marks, other) == [
-            "; ".join(marked.get(i, []) + other_marked.get(i, [])) for i in range(n)]
+            "; ".join(marked.get(i, []) + other_marked.get(i, [])) for i in range(n)
+        ]
         info_codes = rng.integers(0, 4, m)
         info_texts = ["LCL 1, CL 2, UCL 3", "CL 2", "LCL 1, CL 2, UCL 3", ""]
         # the staged chart's mark codes (2 * change + own), or none
@@ -360,9 +468,17 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
         # the points set aside, or none
         aside = rng.random(m) < 0.2 if rng.random() < 0.5 else None
         keys = _Keys()
-        got = _series_rows(ctx, values, marks, keys, offset=offset,
-                           info=_Coded(info_codes, info_texts), fitted=fitted, marks=mark_codes,
-                           aside=aside)
+        got = _series_rows(
+            ctx,
+            values,
+            marks,
+            keys,
+            offset=offset,
+            info=_Coded(info_codes, info_texts),
+            fitted=fitted,
+            marks=mark_codes,
+            aside=aside,
+        )
         point_keys: dict = {}
         info_keys: dict = {}
         want_k, want_i, want_idx = [], [], []
@@ -371,9 +487,14 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
                 continue
             i = k + offset
             mc = 0 if mark_codes is None else int(mark_codes[k])
-            t = (stage[i], None if fitted is None else bool(fitted[k]),
-                 "; ".join(marked[i]) if i in marked else "", _MARK_TEXTS[mc // 2],
-                 bool(mc % 2), aside is not None and bool(aside[k]))
+            t = (
+                stage[i],
+                None if fitted is None else bool(fitted[k]),
+                "; ".join(marked[i]) if i in marked else "",
+                _MARK_TEXTS[mc // 2],
+                bool(mc % 2),
+                aside is not None and bool(aside[k]),
+            )
             want_k.append(point_keys.setdefault(t, len(point_keys)))
             want_i.append(info_keys.setdefault(info_texts[info_codes[k]], len(info_keys)))
             want_idx.append(i)
@@ -432,10 +553,18 @@ def test_plain_reader_splitting_matches_pandas_reader(split_max, monkeypatch):
     for text, delim in texts:
         got = _read_plain(text, delim)
         header = [h.strip() for h in text.split("\n", 1)[0].rstrip("\r").split(delim)]
-        if text.count("\n") and all(line.count(delim) == len(header) - 1
-                                    for line in text.rstrip("\n").split("\n")):
-            want = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
-                               engine="c", header=0, names=header)
+        if text.count("\n") and all(
+            line.count(delim) == len(header) - 1 for line in text.rstrip("\n").split("\n")
+        ):
+            want = pd.read_csv(
+                io.StringIO(text),
+                sep=delim,
+                dtype=str,
+                keep_default_na=False,
+                engine="c",
+                header=0,
+                names=header,
+            )
             want = want.apply(lambda c: c.str.strip())
             want.index = np.arange(2, len(want) + 2)
             assert got is not None, text
@@ -450,11 +579,21 @@ def test_signal_texts_of_points_in_many_kinds_of_signal():
     from steadyline.charts.series import _signal_text
     from steadyline.stats.results import Signal
 
-    signals = [Signal(rule="r", description=f"pattern {k}", indices=tuple(range(k % 3, 6)),
-                      side=None, chart="main") for k in range(20)]
+    signals = [
+        Signal(
+            rule="r",
+            description=f"pattern {k}",
+            indices=tuple(range(k % 3, 6)),
+            side=None,
+            chart="main",
+        )
+        for k in range(20)
+    ]
     marks = _signal_text(signals, 8)
-    want = ["; ".join(f"pattern {k}" for k in range(20) if k % 3 <= i) if i < 6 else ""
-            for i in range(8)]
+    want = [
+        "; ".join(f"pattern {k}" for k in range(20) if k % 3 <= i) if i < 6 else ""
+        for i in range(8)
+    ]
     assert [marks.texts[c - 1] if c else "" for c in marks.codes.tolist()] == want
 
 
@@ -466,10 +605,9 @@ def test_plain_bytes_check_matches_the_text_check():
     from steadyline.loading import _awkward
 
     rng = random.Random(8)
-    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    alphabet = ["a", "1", ",", " ", "\t", "\r", "\n", '"', "\r\n", "\n\n", " \n", "\n \r\n"]
     cases = ["", "a,b\n1,2\n", "\na,b\n", " \na", "a\r\nb\r\n", "a\rb", "a\n \t\nb", "a\n\r\nb"]
-    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12)))
-              for _ in range(5000)]
+    cases += ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 12))) for _ in range(5000)]
     for text in cases:
         assert _plain_bytes(text.encode()) == (not _awkward(text)), repr(text)
 
@@ -487,20 +625,56 @@ def test_decimals_read_from_bytes_equal_python_float():
     from steadyline.loading import _plain_decimals
 
     rng = np.random.default_rng(4)
-    odd = ["+1.5", "-0", "+0.0", "1.", ".5", "5e-324", "2e-324", "1e308", "1e309", "-1e-400",
-           "1e5", "1E+05", "0.1e-3", "e5", ".", "-", "+", "1e", "1e+", "1-2", "1.2.3", "..5",
-           "--1", "+-1", "00012", "9007199254740993", "0.30000000000000004441", "1e0001",
-           "123456789012345678901234567890", "", "1", "-.5e-2", "+.5E+2"]
+    odd = [
+        "+1.5",
+        "-0",
+        "+0.0",
+        "1.",
+        ".5",
+        "5e-324",
+        "2e-324",
+        "1e308",
+        "1e309",
+        "-1e-400",
+        "1e5",
+        "1E+05",
+        "0.1e-3",
+        "e5",
+        ".",
+        "-",
+        "+",
+        "1e",
+        "1e+",
+        "1-2",
+        "1.2.3",
+        "..5",
+        "--1",
+        "+-1",
+        "00012",
+        "9007199254740993",
+        "0.30000000000000004441",
+        "1e0001",
+        "123456789012345678901234567890",
+        "",
+        "1",
+        "-.5e-2",
+        "+.5E+2",
+    ]
     for cell in odd:
         got = plain_decimals(_arrow_text([cell]))
         want = _plain_decimals(np.array([cell], dtype=object))
         if got is not None:
             assert want is not None and got.tobytes() == want.tobytes(), cell
     digits = rng.integers(0, 10**9, 20000).astype(str)
-    cells = [f"{s}{d[:3]}.{d[3:]}e{e}" for s, d, e in
-             zip(rng.choice(["", "-", "+"], 20000), digits, rng.integers(-330, 310, 20000),
-                 strict=True)]
-    cells += [repr(float(x)) for x in rng.normal(0, 1, 5000) * 10.0 ** rng.integers(-300, 300, 5000)]
+    cells = [
+        f"{s}{d[:3]}.{d[3:]}e{e}"
+        for s, d, e in zip(
+            rng.choice(["", "-", "+"], 20000), digits, rng.integers(-330, 310, 20000), strict=True
+        )
+    ]
+    cells += [
+        repr(float(x)) for x in rng.normal(0, 1, 5000) * 10.0 ** rng.integers(-300, 300, 5000)
+    ]
     for chunk in (cells[:100], cells[100:], cells):
         got = plain_decimals(_arrow_text(chunk))
         want = np.array([float(c) for c in chunk])
@@ -521,10 +695,20 @@ def test_iso_times_read_from_bytes_equal_the_numpy_read():
     from steadyline.columns import plain_iso
     from steadyline.loading import _ISO_DIGITS, _ISO_MARKS, _plain_iso
 
-    columns = [["2026-01-05", "2026-12-31"], ["2026-01-05T06:30", "2026-01-05 07:45"],
-               ["2026-01-05T06:30:59"], ["2026-02-30"], ["2026-01-05", "2026-1-06"],
-               ["2026-01-05", "2026-01-05T06:00"], ["2026/01/05"], ["2026-01-05T06:3x"],
-               ["20260105"], ["2026-01-05 "], ["\u00e9026-01-05"], ["2026-01-05Z06:30"]]
+    columns = [
+        ["2026-01-05", "2026-12-31"],
+        ["2026-01-05T06:30", "2026-01-05 07:45"],
+        ["2026-01-05T06:30:59"],
+        ["2026-02-30"],
+        ["2026-01-05", "2026-1-06"],
+        ["2026-01-05", "2026-01-05T06:00"],
+        ["2026/01/05"],
+        ["2026-01-05T06:3x"],
+        ["20260105"],
+        ["2026-01-05 "],
+        ["\u00e9026-01-05"],
+        ["2026-01-05Z06:30"],
+    ]
     for cells in columns:
         got = plain_iso(_arrow_text(cells), _ISO_DIGITS, _ISO_MARKS)
         want = _plain_iso(np.array(cells, dtype=object))
@@ -536,15 +720,18 @@ def test_iso_times_read_from_bytes_equal_the_numpy_read():
 
     # a column pyarrow parsed in several blocks: one form for the whole column, as above
     two = pa.chunked_array([["2026-01-05"], ["2026-01-06", "2026-01-07"]])
-    assert (plain_iso(two, _ISO_DIGITS, _ISO_MARKS)
-            == _plain_iso(np.array(["2026-01-05", "2026-01-06", "2026-01-07"], dtype=object))
-            ).all()
+    assert (
+        plain_iso(two, _ISO_DIGITS, _ISO_MARKS)
+        == _plain_iso(np.array(["2026-01-05", "2026-01-06", "2026-01-07"], dtype=object))
+    ).all()
     mixed = pa.chunked_array([["2026-01-05"], ["2026-01-06T06:00"]])
     assert plain_iso(mixed, _ISO_DIGITS, _ISO_MARKS) is None
     assert _plain_iso(np.array(["2026-01-05", "2026-01-06T06:00"], dtype=object)) is None
     sliced = _arrow_text(["x", "2026-01-05", "2026-01-06", "y"]).slice(1, 2)
-    assert (plain_iso(sliced, _ISO_DIGITS, _ISO_MARKS)
-            == np.array(["2026-01-05", "2026-01-06"], dtype="datetime64[s]")).all()
+    assert (
+        plain_iso(sliced, _ISO_DIGITS, _ISO_MARKS)
+        == np.array(["2026-01-05", "2026-01-06"], dtype="datetime64[s]")
+    ).all()
 
 
 def test_needed_columns_reader_gives_the_plain_readers_cells():
@@ -601,7 +788,7 @@ def test_plain_file_check_in_pieces_matches_the_whole_text_check(piece, monkeypa
 
     monkeypatch.setattr(columns, "_PIECE", piece)
     rng = random.Random(piece)
-    alphabet = ['a', '1', ',', ' ', '\t', '\r', '\n', '"', '\r\n', '\n\n', ' \n', '\n \r\n']
+    alphabet = ["a", "1", ",", " ", "\t", "\r", "\n", '"', "\r\n", "\n\n", " \n", "\n \r\n"]
     for _ in range(1500):
         text = "".join(rng.choice(alphabet) for _ in range(rng.randint(0, 14)))
         got = columns._plain_file(io.BytesIO(text.encode()), "utf-8")
@@ -620,10 +807,16 @@ def test_header_width_counts_the_fields_the_csv_reader_reads(chunk, monkeypatch)
     monkeypatch.setattr(columns, "_CHUNK", chunk)
     rng = random.Random(12)
     alphabet = ["a", "\u00e9", ",", ";", '"', '""', "\n", "\r\n", "\r", " "]
-    texts = ["a,b,c\n1,2,3\n", '"a,b",c\n', '"a\nb",c,d\ne\n', "a,b", ",,,\n", "a\r\nb,c",
-             "\u00e9,\u00e8;x\n"]
-    texts += ["".join(rng.choice(alphabet) for _ in range(rng.randint(1, 14)))
-              for _ in range(3000)]
+    texts = [
+        "a,b,c\n1,2,3\n",
+        '"a,b",c\n',
+        '"a\nb",c,d\ne\n',
+        "a,b",
+        ",,,\n",
+        "a\r\nb,c",
+        "\u00e9,\u00e8;x\n",
+    ]
+    texts += ["".join(rng.choice(alphabet) for _ in range(rng.randint(1, 14))) for _ in range(3000)]
     for text in texts:
         try:
             first = next(csv.reader(io.StringIO(text, newline="")))

@@ -99,8 +99,7 @@ def test_the_input_hash_counts_what_it_does_not_read(tmp_path):
     assert linked == input_hash(p, "x", root=root) != plain
 
 
-def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_path,
-                                                                           monkeypatch):
+def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_path, monkeypatch):
     """The notes are read when the page is made, after the project was loaded: a named pipe
     put there in between is a problem of the project, not an internal error."""
     from corpus.kit import portfolio, write
@@ -121,4 +120,5 @@ def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_p
         outcome = project.build_project(root / "p", root, PortfolioSettings())
     assert not outcome.ok
     assert [p.format() for p in outcome.problems] == [
-        "p/notes.md: this is a named pipe (FIFO), not a regular file"]
+        "p/notes.md: this is a named pipe (FIFO), not a regular file"
+    ]

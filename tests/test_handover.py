@@ -24,9 +24,16 @@ class _Texts(HTMLParser):
     that must not be in a pack (scripts, links to files, external references)."""
 
     WANTED = {"h1": "title", "h4": "card", "th": "cell", "td": "cell", "dd": "fact"}
-    WANTED_CLASSES = {"summary": "summary", "finding": "finding", "problem": "problem",
-                      "owner": "owner", "verdict": "verdict", "fit-lead": "fit",
-                      "empty": "note", "method": "method"}
+    WANTED_CLASSES = {
+        "summary": "summary",
+        "finding": "finding",
+        "problem": "problem",
+        "owner": "owner",
+        "verdict": "verdict",
+        "fit-lead": "fit",
+        "empty": "note",
+        "method": "method",
+    }
 
     def __init__(self):
         super().__init__()
@@ -52,8 +59,12 @@ class _Texts(HTMLParser):
         kind = self.WANTED.get(tag)
         for c in classes:
             kind = self.WANTED_CLASSES.get(c, kind)
-        if tag in ("li",) and "finding" not in classes and self.stack \
-                and self.stack[-1][1] == "caution-list":
+        if (
+            tag in ("li",)
+            and "finding" not in classes
+            and self.stack
+            and self.stack[-1][1] == "caution-list"
+        ):
             kind = "caution"
         if tag == "ul" and (self._in_cautions() or "cautions" in classes):
             kind = "caution-list"
@@ -136,12 +147,16 @@ def test_the_pack_runs_nothing_and_loads_nothing(projects):
         assert "<iframe" not in low and "<object" not in low and "<embed" not in low, p.name
         # no attribute that loads or links anything outside the file (namespaces are names,
         # not requests: xmlns="http://www.w3.org/2000/svg" is allowed)
-        refs = re.findall(r'\b(?:src|href|xlink:href|action|poster|srcset)\s*=\s*"([^"]*)"', text,
-                          re.I)
-        assert all(r.startswith("#") for r in refs), (p.name, [r for r in refs
-                                                               if not r.startswith("#")][:5])
-        assert not re.search(r"\bon[a-z]+\s*=", re.sub(r"<svg.*?</svg>", "", text, flags=re.S)
-                             ), p.name
+        refs = re.findall(
+            r'\b(?:src|href|xlink:href|action|poster|srcset)\s*=\s*"([^"]*)"', text, re.I
+        )
+        assert all(r.startswith("#") for r in refs), (
+            p.name,
+            [r for r in refs if not r.startswith("#")][:5],
+        )
+        assert not re.search(r"\bon[a-z]+\s*=", re.sub(r"<svg.*?</svg>", "", text, flags=re.S)), (
+            p.name
+        )
         # CSS: url() only to a definition inside the file
         urls = re.findall(r"url\(\s*['\"]?([^'\")]*)", text, re.I)
         assert all(u.startswith("#") for u in urls), (p.name, urls[:5])
@@ -213,14 +228,18 @@ def test_chart_svg_makes_ids_unique_and_drops_the_declaration(monkeypatch):
         @staticmethod
         def vegalite_to_svg(spec, allowed_base_urls):
             assert allowed_base_urls == []
-            return ('<?xml version="1.0"?><svg><defs><clipPath id="clip1"/><clipPath id="clip12"/>'
-                    '</defs><g clip-path="url(#clip1)"/><use href="#clip12"/></svg>')
+            return (
+                '<?xml version="1.0"?><svg><defs><clipPath id="clip1"/><clipPath id="clip12"/>'
+                '</defs><g clip-path="url(#clip1)"/><use href="#clip12"/></svg>'
+            )
 
     monkeypatch.setattr("steadyline.site.pack._converter", lambda: Fake)
     svg = chart_svg({}, "chart-a")
-    assert svg == ('<svg><defs><clipPath id="chart-a-clip1"/><clipPath id="chart-a-clip12"/>'
-                   '</defs><g clip-path="url(#chart-a-clip1)"/><use href="#chart-a-clip12"/>'
-                   '</svg>')
+    assert svg == (
+        '<svg><defs><clipPath id="chart-a-clip1"/><clipPath id="chart-a-clip12"/>'
+        '</defs><g clip-path="url(#chart-a-clip1)"/><use href="#chart-a-clip12"/>'
+        "</svg>"
+    )
 
 
 @pytest.mark.slow
@@ -228,15 +247,22 @@ def test_the_drawing_does_not_depend_on_the_machines_time_zone(demo_site):
     """vl-convert draws times in its runtime's zone: the pack starts it under UTC, so a build
     on a machine in Tokyo or New York writes the same bytes. The process keeps its own zone."""
     spec = next((demo_site / "projects").glob("*/data/*-run.vl.json"))
-    code = ("import json,sys,time;from steadyline.site.pack import chart_svg;"
-            "s=chart_svg(json.load(open(sys.argv[1])),'c');"
-            "print(time.strftime('%z',time.localtime(0)));print(len(s));"
-            "import hashlib;print(hashlib.sha256(s.encode()).hexdigest())")
+    code = (
+        "import json,sys,time;from steadyline.site.pack import chart_svg;"
+        "s=chart_svg(json.load(open(sys.argv[1])),'c');"
+        "print(time.strftime('%z',time.localtime(0)));print(len(s));"
+        "import hashlib;print(hashlib.sha256(s.encode()).hexdigest())"
+    )
     out = {}
     for tz in ("UTC", "Asia/Tokyo", "America/New_York"):
         env = os.environ | {"TZ": tz, "PYTHONPATH": str(REPO / "src")}
-        r = subprocess.run([sys.executable, "-c", code, str(spec)], env=env, capture_output=True,
-                           text=True, check=True)
+        r = subprocess.run(
+            [sys.executable, "-c", code, str(spec)],
+            env=env,
+            capture_output=True,
+            text=True,
+            check=True,
+        )
         out[tz] = r.stdout.split()
     assert out["Asia/Tokyo"][0] == "+0900"  # the process's own zone is put back
     assert out["UTC"][1:] == out["Asia/Tokyo"][1:] == out["America/New_York"][1:]

@@ -66,14 +66,23 @@ def test_the_after_phase_own_limits_come_from_the_after_data_alone(demo_site):
     mr_bar = mr_bar_within_runs(own, days[after])
     chart = staged["after_chart"]
     assert np.allclose(np.array(chart["centre"], float)[after], centre, rtol=1e-9)
-    assert np.allclose(np.array(chart["upper"], float)[after], centre + 3 * mr_bar / D2_2,
-                       rtol=1e-9)
+    assert np.allclose(
+        np.array(chart["upper"], float)[after], centre + 3 * mr_bar / D2_2, rtol=1e-9
+    )
 
 
 def test_p_chart_limits_over_the_after_phase_step_with_n_around_the_baseline_p_bar(demo_site):
     m, h = metric(demo_site, "order-picking-errors", "picking-error-rate")
-    raw = (Path(__file__).resolve().parent.parent / "projects" / "order-picking-errors"
-           / "picking_audit.csv").read_text("utf-8").splitlines()
+    raw = (
+        (
+            Path(__file__).resolve().parent.parent
+            / "projects"
+            / "order-picking-errors"
+            / "picking_audit.csv"
+        )
+        .read_text("utf-8")
+        .splitlines()
+    )
     header = raw[0].split(",")
     rows = [dict(zip(header, line.split(","), strict=True)) for line in raw[1:]]
     stage = np.array(m["points"]["stage"])
@@ -91,11 +100,16 @@ def test_p_chart_limits_over_the_after_phase_step_with_n_around_the_baseline_p_b
     assert np.allclose(np.array(chart["lower"], float)[after], lcl[after], rtol=1e-9, atol=1e-12)
 
 
-@pytest.mark.parametrize("slug,mid", [
-    ("wheel-build-lead-time", "lead-time-daily"), ("spoke-tension", "tension"),
-    ("order-picking-errors", "picking-error-rate"), ("customer-returns", "returns-weekly"),
-    ("paint-finish-defects", "defects-per-frame"),
-])
+@pytest.mark.parametrize(
+    "slug,mid",
+    [
+        ("wheel-build-lead-time", "lead-time-daily"),
+        ("spoke-tension", "tension"),
+        ("order-picking-errors", "picking-error-rate"),
+        ("customer-returns", "returns-weekly"),
+        ("paint-finish-defects", "defects-per-frame"),
+    ],
+)
 def test_results_carry_the_comparison_with_its_test_and_p_value(demo_site, slug, mid):
     m, h = metric(demo_site, slug, mid)
     c = h["comparison"]

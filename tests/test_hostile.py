@@ -24,8 +24,18 @@ from steadyline.loading import clean_label
 from steadyline.site.cards import safe_cell
 from steadyline.site.notes import render_markdown
 
-URL_ATTRS = {"href", "src", "action", "formaction", "xlink:href", "data", "poster", "background",
-             "srcdoc", "content"}
+URL_ATTRS = {
+    "href",
+    "src",
+    "action",
+    "formaction",
+    "xlink:href",
+    "data",
+    "poster",
+    "background",
+    "srcdoc",
+    "content",
+}
 
 
 class Page(HTMLParser):
@@ -110,16 +120,27 @@ def test_no_event_handler_or_javascript_address(site):
             for k, v in attrs.items():
                 assert not k.startswith("on"), (page, tag, k, v)
                 if k in URL_ATTRS or k == "style":
-                    assert not _is_javascript_url(v) and "javascript:" not in v.lower(), \
-                        (page, tag, k, v)
+                    assert not _is_javascript_url(v) and "javascript:" not in v.lower(), (
+                        page,
+                        tag,
+                        k,
+                        v,
+                    )
 
 
 def test_payloads_appear_only_as_text(site):
     """The raw payload never appears unescaped in a page (it may as text, escaped)."""
     for page in _pages(site):
         text = page.read_text(encoding="utf-8")
-        for marker in ("<script>window", "<img src=x", "<svg onload", "<iframe", "</script><script>",
-                       "onerror=\"window", "<svg xmlns"):
+        for marker in (
+            "<script>window",
+            "<img src=x",
+            "<svg onload",
+            "<iframe",
+            "</script><script>",
+            'onerror="window',
+            "<svg xmlns",
+        ):
             assert marker not in text, (page, marker)
     evil = _parse((site / "projects" / "evil" / "index.html").read_text(encoding="utf-8"))
     # the title is shown, as text
@@ -130,8 +151,9 @@ def test_payloads_appear_only_as_text(site):
 
 def _json_blocks(page: Path) -> list:
     doc = _parse(page.read_text(encoding="utf-8"))
-    return [json.loads(body) for attrs, body in doc.scripts
-            if attrs.get("type") == "application/json"]
+    return [
+        json.loads(body) for attrs, body in doc.scripts if attrs.get("type") == "application/json"
+    ]
 
 
 def _strings(obj) -> set[str]:
@@ -189,12 +211,23 @@ def test_error_pages_escape_the_problem_messages(site):
 
 def test_notes_are_sanitised(site):
     text = (site / "projects" / "evil" / "index.html").read_text(encoding="utf-8")
-    notes = text[text.index('class="notes-body"'):]
-    notes = notes[:notes.index("</section>")]
+    notes = text[text.index('class="notes-body"') :]
+    notes = notes[: notes.index("</section>")]
     doc = _parse(notes)
     tags = {t for t, _ in doc.tags}
-    assert not tags & {"script", "svg", "iframe", "img", "style", "form", "object", "embed",
-                       "math", "button", "details"}
+    assert not tags & {
+        "script",
+        "svg",
+        "iframe",
+        "img",
+        "style",
+        "form",
+        "object",
+        "embed",
+        "math",
+        "button",
+        "details",
+    }
     hrefs = [a.get("href", "") for t, a in doc.tags if t == "a"]
     assert "https://example.invalid/page" in hrefs
     assert all(not _is_javascript_url(h) for h in hrefs)
@@ -245,11 +278,26 @@ def test_csv_downloads_keep_the_category_text_and_the_numbers(site):
     assert PAYLOADS[0] in cells  # plain text stays as it was (a CSV is not a page)
 
 
-@pytest.mark.parametrize("value, expected", [
-    (-3.5, "-3.5"), (2, "2"), (0.1, "0.1"), ("-3.5", "-3.5"), ("+4", "+4"), ("-1e-3", "-1e-3"),
-    ("=1+1", "'=1+1"), ("+SUM(1)", "'+SUM(1)"), ("-2+3", "'-2+3"), ("@cmd", "'@cmd"),
-    ("\t=1", "'\t=1"), ("\r=1", "'\r=1"), ("plain", "plain"), (float("nan"), ""), (None, ""),
-])
+@pytest.mark.parametrize(
+    "value, expected",
+    [
+        (-3.5, "-3.5"),
+        (2, "2"),
+        (0.1, "0.1"),
+        ("-3.5", "-3.5"),
+        ("+4", "+4"),
+        ("-1e-3", "-1e-3"),
+        ("=1+1", "'=1+1"),
+        ("+SUM(1)", "'+SUM(1)"),
+        ("-2+3", "'-2+3"),
+        ("@cmd", "'@cmd"),
+        ("\t=1", "'\t=1"),
+        ("\r=1", "'\r=1"),
+        ("plain", "plain"),
+        (float("nan"), ""),
+        (None, ""),
+    ],
+)
 def test_safe_cell(value, expected):
     assert safe_cell(value) == expected
 
@@ -258,9 +306,13 @@ def test_terminal_control_characters_are_escaped_in_messages(tmp_path, capsys):
     """A file's text quoted in a message cannot clear, retitle or reorder the terminal."""
     from corpus.kit import meta, portfolio
 
-    root = write(tmp_path / "projects", portfolio(
-        toml=meta(metric={"value": "v\u202eeulav"}),
-        data="date,\x1b]0;owned\x07x\x1b[2J\n2026-01-05,\u202e1\n"))
+    root = write(
+        tmp_path / "projects",
+        portfolio(
+            toml=meta(metric={"value": "v\u202eeulav"}),
+            data="date,\x1b]0;owned\x07x\x1b[2J\n2026-01-05,\u202e1\n",
+        ),
+    )
     assert main(["check", str(root)]) == 1
     out = capsys.readouterr().out
     assert out.strip()

@@ -25,23 +25,35 @@ DEMO = Path(__file__).resolve().parent.parent / "projects"
 # the build date conftest.py sets for every build of the tests
 DEMO_BUILD_DATE = dt.datetime.fromtimestamp(int(os.environ["SOURCE_DATE_EPOCH"]), dt.UTC).date()
 
-CARD = re.compile(r'<li class="card[^"]*" data-slug="([^"]+)" data-status="([^"]+)" '
-                  r'data-result-status="([^"]+)"(.*?)</li>', re.S)
+CARD = re.compile(
+    r'<li class="card[^"]*" data-slug="([^"]+)" data-status="([^"]+)" '
+    r'data-result-status="([^"]+)"(.*?)</li>',
+    re.S,
+)
 
 
 def cards(index: str) -> dict[str, dict]:
     out = {}
     for slug, shown, result, body in CARD.findall(index):
-        label = re.search(r'<span class="status status-[a-z-]+"><span class="status-mark" '
-                          r'aria-hidden="true"></span>([^<]+)</span>', body)
-        out[slug] = {"status": shown, "result": result, "label": html.unescape(label[1]),
-                     "body": body}
+        label = re.search(
+            r'<span class="status status-[a-z-]+"><span class="status-mark" '
+            r'aria-hidden="true"></span>([^<]+)</span>',
+            body,
+        )
+        out[slug] = {
+            "status": shown,
+            "result": result,
+            "label": html.unescape(label[1]),
+            "body": body,
+        }
     return out
 
 
 def results(site: Path) -> dict[str, dict]:
-    return {p.parent.name: json.loads(p.read_text("utf-8"))
-            for p in sorted((site / "projects").glob("*/results.json"))}
+    return {
+        p.parent.name: json.loads(p.read_text("utf-8"))
+        for p in sorted((site / "projects").glob("*/results.json"))
+    }
 
 
 def stale(data_to: str, days: int = STALE_AFTER_DAYS) -> bool:
@@ -58,8 +70,9 @@ def test_every_demo_card_shows_its_results_status(demo_site: Path):
         card, status = shown[slug], doc["status"]
         assert card["result"] == status["code"], slug
         assert status["label"] == Status(status["code"]).label
-        assert status["metric"] == next(m["id"] for m in doc["metrics"]
-                                        if m["id"] == status["metric"])
+        assert status["metric"] == next(
+            m["id"] for m in doc["metrics"] if m["id"] == status["metric"]
+        )
         if stale(doc["project"]["data_to"]):
             assert card["status"] == "data-stale", slug
             assert f"up to then: {status['label']}" in html.unescape(card["body"]), slug
@@ -68,7 +81,11 @@ def test_every_demo_card_shows_its_results_status(demo_site: Path):
         assert card["label"].lower() == Status(card["status"]).label, slug
     # the demo shows the statuses a portfolio mostly has
     assert {c["status"] for c in shown.values()} >= {
-        "gain-holds", "gain-not-yet-stable", "baseline-only", "data-stale"}
+        "gain-holds",
+        "gain-not-yet-stable",
+        "baseline-only",
+        "data-stale",
+    }
 
 
 def test_results_status_agrees_with_its_own_figures(demo_site: Path):
@@ -97,12 +114,14 @@ def test_results_status_agrees_with_its_own_figures(demo_site: Path):
 def test_the_index_offers_every_projects_headline_figures_as_csv(demo_site: Path):
     index = (demo_site / "index.html").read_text("utf-8")
     assert '<a href="headline-figures.csv" download>' in index
-    rows = list(csv.DictReader(io.StringIO(
-        (demo_site / "headline-figures.csv").read_text("utf-8"))))
+    rows = list(
+        csv.DictReader(io.StringIO((demo_site / "headline-figures.csv").read_text("utf-8")))
+    )
     shown = cards(index)
     docs = results(demo_site)
-    assert [r["project"] for r in rows] == [s for s, _ in sorted(
-        shown.items(), key=lambda kv: index.index(f'data-slug="{kv[0]}"'))]
+    assert [r["project"] for r in rows] == [
+        s for s, _ in sorted(shown.items(), key=lambda kv: index.index(f'data-slug="{kv[0]}"'))
+    ]
     for r in rows:
         doc = docs[r["project"]]
         m = next(x for x in doc["metrics"] if x["id"] == doc["status"]["metric"])
@@ -124,7 +143,8 @@ def _small(tmp_path: Path, extra: str = "") -> Path:
     projects = tmp_path / "projects"
     projects.mkdir()
     (projects / "portfolio.toml").write_text(
-        (DEMO / "portfolio.toml").read_text("utf-8") + extra, "utf-8")
+        (DEMO / "portfolio.toml").read_text("utf-8") + extra, "utf-8"
+    )
     for slug in ("frame-weld-porosity", "order-picking-errors"):
         shutil.copytree(DEMO / slug, projects / slug)
     return projects
@@ -134,8 +154,10 @@ def test_the_staleness_setting_changes_the_index_and_rebuilds_no_project(tmp_pat
     projects = _small(tmp_path)
     out = tmp_path / "site"
     first = build(BuildOptions(projects, out, jobs=1))
-    assert cards((out / "index.html").read_text("utf-8"))["frame-weld-porosity"]["status"] \
-        == "data-stale"  # data to 2026-04-27
+    assert (
+        cards((out / "index.html").read_text("utf-8"))["frame-weld-porosity"]["status"]
+        == "data-stale"
+    )  # data to 2026-04-27
     toml = projects / "portfolio.toml"
     toml.write_text(toml.read_text("utf-8") + "stale_after_days = 400\n", "utf-8")
     second = build(BuildOptions(projects, out, jobs=1))
@@ -149,8 +171,10 @@ def test_a_bad_staleness_setting_is_named_and_the_default_used(tmp_path: Path):
     projects = _small(tmp_path, "stale_after_days = 0\n")
     report = build(BuildOptions(projects, tmp_path / "site", jobs=1))
     lines = [p.format() for p in report.problems]
-    assert any(re.match(r"portfolio\.toml:\d+: stale_after_days: must be at least 1, got 0", x)
-               for x in lines), lines
+    assert any(
+        re.match(r"portfolio\.toml:\d+: stale_after_days: must be at least 1, got 0", x)
+        for x in lines
+    ), lines
     index = (tmp_path / "site" / "index.html").read_text("utf-8")
     assert f"data are stale after {STALE_AFTER_DAYS} days" in index
 
@@ -172,8 +196,10 @@ def test_the_build_date_comes_from_source_date_epoch(tmp_path: Path, monkeypatch
 
 # ------------------------------------------------------------------ statuses of built projects
 
-def _project(tmp_path: Path, base: list[float], after: list[float], name: str,
-             better: str = "lower") -> dict:
+
+def _project(
+    tmp_path: Path, base: list[float], after: list[float], name: str, better: str = "lower"
+) -> dict:
     """results.json of a one-metric project: the *base* values as its baseline, then *after*."""
     from steadyline.config import PortfolioSettings
     from steadyline.site.project import build_project
@@ -190,7 +216,9 @@ def _project(tmp_path: Path, base: list[float], after: list[float], name: str,
         'title = "T"\nowner = "O"\nphase = "improve"\nproblem = "P"\n\n[comparison]\n'
         f"baseline = [{d0}, {end}]\nafter = [{start}]\n\n[[metric]]\n"
         f'id = "m"\nname = "Metric"\nfile = "data.csv"\ntype = "continuous"\n'
-        f'time = "date"\nvalue = "value"\nbetter = "{better}"\n', "utf-8")
+        f'time = "date"\nvalue = "value"\nbetter = "{better}"\n',
+        "utf-8",
+    )
     outcome = build_project(folder, tmp_path, PortfolioSettings())
     assert outcome.ok, [p.format() for p in outcome.problems]
     doc = json.loads(outcome.files["results.json"])
@@ -227,8 +255,11 @@ def test_a_later_build_date_rewrites_only_the_index_and_its_csv(tmp_path: Path, 
     import hashlib
 
     def hashes(root: Path) -> dict[str, str]:
-        return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-                for p in sorted(root.rglob("*")) if p.is_file()}
+        return {
+            p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in sorted(root.rglob("*"))
+            if p.is_file()
+        }
 
     projects = _small(tmp_path)
     out = tmp_path / "site"
@@ -239,5 +270,4 @@ def test_a_later_build_date_rewrites_only_the_index_and_its_csv(tmp_path: Path, 
     report = build(BuildOptions(projects, out, jobs=1))
     assert report.built == [] and report.written
     after = hashes(out)
-    assert {k for k in after if before.get(k) != after[k]} == {"index.html",
-                                                                "headline-figures.csv"}
+    assert {k for k in after if before.get(k) != after[k]} == {"index.html", "headline-figures.csv"}

@@ -27,16 +27,25 @@ WRITE_FLAGS = os.O_WRONLY | os.O_RDWR | os.O_APPEND | os.O_CREAT | os.O_TRUNC
 
 def _rich_portfolio() -> dict:
     """Two projects, several metric types, notes, a portfolio.toml: every kind of input file."""
-    files = portfolio(files={
-        "portfolio.toml": 'title = "Test portfolio"\n',
-        "p/notes.md": "# Notes\n\nSome *text*.\n",
-        "q/project.toml": meta(metric={"type": "defectives", "value": None, "count": "bad",
-                                       "size": "checked", "file": "counts.csv"}),
-        "q/counts.csv": "date,bad,checked\n" + "".join(
-            f"{d},{i % 5},40\n" for i, d in enumerate(dates(25))),
-        "broken/project.toml": meta(metric={"type": "continous"}),
-        "broken/data.csv": good_csv(),
-    })
+    files = portfolio(
+        files={
+            "portfolio.toml": 'title = "Test portfolio"\n',
+            "p/notes.md": "# Notes\n\nSome *text*.\n",
+            "q/project.toml": meta(
+                metric={
+                    "type": "defectives",
+                    "value": None,
+                    "count": "bad",
+                    "size": "checked",
+                    "file": "counts.csv",
+                }
+            ),
+            "q/counts.csv": "date,bad,checked\n"
+            + "".join(f"{d},{i % 5},40\n" for i, d in enumerate(dates(25))),
+            "broken/project.toml": meta(metric={"type": "continous"}),
+            "broken/data.csv": good_csv(),
+        }
+    )
     return files
 
 
@@ -76,8 +85,9 @@ def test_build_and_check_never_change_an_input_file(tmp_path, monkeypatch, capsy
     assert report.broken == ["broken"] and sorted(report.built) == ["p", "q"]
     check(root)
     assert main(["check", str(root)]) == 1
-    assert main(["build", str(root), "--out", str(tmp_path / "site"), "--force",
-                 "--jobs", "1"]) == 1
+    assert (
+        main(["build", str(root), "--out", str(tmp_path / "site"), "--force", "--jobs", "1"]) == 1
+    )
     capsys.readouterr()
     assert spy.writes == []
     assert tree_hashes(root) == before  # content, mode and modification time of every file
@@ -164,8 +174,9 @@ def test_broken_project_keeps_nothing_of_a_healthy_one_lost(tmp_path, capsys):
     assert "p" in report.broken
     page = (out / "projects" / "p" / "index.html").read_text()
     assert "&#39;abc&#39; is not a number" in page or "'abc' is not a number" in page
-    q_after = {k: v.split(":")[0] for k, v in tree_hashes(out).items()
-               if k.startswith("projects/q/")}
+    q_after = {
+        k: v.split(":")[0] for k, v in tree_hashes(out).items() if k.startswith("projects/q/")
+    }
     assert q_after == {k: v.split(":")[0] for k, v in q_before.items()}
 
 
@@ -179,11 +190,17 @@ def _load(tmp_path, toml, data):
 
 
 def test_stages_are_inclusive_at_both_ends():
-    t = pd.Series(pd.to_datetime(["2026-01-01", "2026-01-31 23:59", "2026-02-01", "2026-02-10",
-                                  "2026-02-11"], format="ISO8601"))
-    st = assign_stage(t, Period(pd.Timestamp("2026-01-01").date(),
-                                pd.Timestamp("2026-01-31").date()),
-                      Period(pd.Timestamp("2026-02-10").date()))
+    t = pd.Series(
+        pd.to_datetime(
+            ["2026-01-01", "2026-01-31 23:59", "2026-02-01", "2026-02-10", "2026-02-11"],
+            format="ISO8601",
+        )
+    )
+    st = assign_stage(
+        t,
+        Period(pd.Timestamp("2026-01-01").date(), pd.Timestamp("2026-01-31").date()),
+        Period(pd.Timestamp("2026-02-10").date()),
+    )
     assert st.tolist() == [0, 0, 2, 1, 1]
 
 
@@ -212,8 +229,14 @@ def test_problems_name_physical_lines_after_blank_lines_and_quoted_newlines(tmp_
 
 def test_rollup_proportion_of_flags(tmp_path):
     data = "date,ok\n" + "".join(f"{d},{int(i % 4 == 0)}\n" for i, d in enumerate(dates(14)))
-    m = _load(tmp_path, meta(metric={"type": "defectives", "value": "ok"},
-                             rollup={"period": "week", "statistic": "proportion"}), data)
+    m = _load(
+        tmp_path,
+        meta(
+            metric={"type": "defectives", "value": "ok"},
+            rollup={"period": "week", "statistic": "proportion"},
+        ),
+        data,
+    )
     # 2026-01-05 is a Monday: two full weeks of 7 days; rows 0, 4 in the first, 8, 12 second
     assert m.points["count"].tolist() == [2.0, 2.0]
     assert m.points["size"].tolist() == [7.0, 7.0]

@@ -56,12 +56,16 @@ def test_workbook_reads_as_the_csv_does(tmp_path, from_csv, as_text):
 def test_workbook_date_times_and_the_named_sheet(tmp_path):
     """Date-time cells keep their time of day; the sheet named is read, not the first."""
     stamps = [dt.datetime(2026, 1, 5, 6, 30) + dt.timedelta(hours=7 * i) for i in range(30)]
-    text = "date,value\n" + "".join(f"{t:%Y-%m-%dT%H:%M},{v}\n"
-                                    for t, v in zip(stamps, VALUES, strict=True))
+    text = "date,value\n" + "".join(
+        f"{t:%Y-%m-%dT%H:%M},{v}\n" for t, v in zip(stamps, VALUES, strict=True)
+    )
     want = _load(tmp_path / "csv", {"p/data.csv": text})
-    book = xlsx({"Notes": [["not the data"]],
-                 "Audit": [["date", "value"]] + [[t, v] for t, v in zip(stamps, VALUES,
-                                                                        strict=True)]})
+    book = xlsx(
+        {
+            "Notes": [["not the data"]],
+            "Audit": [["date", "value"]] + [[t, v] for t, v in zip(stamps, VALUES, strict=True)],
+        }
+    )
     got = _load(tmp_path, {"p/data.xlsx": book}, {"file": "data.xlsx", "sheet": "Audit"})
     _same(got, want)
     assert got.points["label"].iloc[1] == "2026-01-05 13:30"
@@ -74,19 +78,32 @@ def test_workbook_date_format_applies_to_text_and_date_cells(tmp_path, from_csv)
     for r in rows[1::2]:
         if isinstance(r[0], dt.date):
             r[0] = r[0].strftime("%d.%m.%Y")
-    got = _load(tmp_path, {"p/data.xlsx": xlsx({"Audit": rows})}, {"file": "data.xlsx"},
-                csv={"date_format": "%d.%m.%Y"})
+    got = _load(
+        tmp_path,
+        {"p/data.xlsx": xlsx({"Audit": rows})},
+        {"file": "data.xlsx"},
+        csv={"date_format": "%d.%m.%Y"},
+    )
     _same(got, from_csv)
 
 
 def test_whole_numbers_read_as_shown(tmp_path):
     """A category stored as a number reads as the spreadsheet shows it ("3", not "3.0"), and a
     count stored as a number is a whole number."""
-    rows = [["date", "reason", "n"]] + [[dt.date(2026, 1, 5 + i), (i % 3) + 1, 2]
-                                        for i in range(12)]
-    got = _load(tmp_path, {"p/data.xlsx": xlsx({"Audit": rows})},
-                {"file": "data.xlsx", "type": "categories", "value": None,
-                 "category": "reason", "count": "n"})
+    rows = [["date", "reason", "n"]] + [
+        [dt.date(2026, 1, 5 + i), (i % 3) + 1, 2] for i in range(12)
+    ]
+    got = _load(
+        tmp_path,
+        {"p/data.xlsx": xlsx({"Audit": rows})},
+        {
+            "file": "data.xlsx",
+            "type": "categories",
+            "value": None,
+            "category": "reason",
+            "count": "n",
+        },
+    )
     assert sorted(set(got.points["category"])) == ["1", "2", "3"]
     assert got.points["weight"].tolist() == [2.0] * 12
 
@@ -98,14 +115,17 @@ def test_formulas_read_as_their_cached_values(tmp_path, from_csv):
     rows = good_rows()
     rows[3][1] = "=40+9.9"  # row 4 holds VALUES[2] = 49.9 once calculated
     book = xlsx({"Audit": rows})
-    got = _load(tmp_path / "cached", {"p/data.xlsx": with_cached(book, {"B4": "49.9"})},
-                {"file": "data.xlsx"})
+    got = _load(
+        tmp_path / "cached",
+        {"p/data.xlsx": with_cached(book, {"B4": "49.9"})},
+        {"file": "data.xlsx"},
+    )
     _same(got, from_csv)
     uncached = _load(tmp_path / "uncached", {"p/data.xlsx": book}, {"file": "data.xlsx"})
     assert len(uncached.points) == 29
     assert [p.format() for p in uncached.problems] == [
-        "p/data.xlsx:sheet 'Audit' row 4: warning: column 'value': blank cell; the row is "
-        "left out"]
+        "p/data.xlsx:sheet 'Audit' row 4: warning: column 'value': blank cell; the row is left out"
+    ]
 
 
 def test_first_sheet_by_default_and_blank_rows_skipped(tmp_path, from_csv):
@@ -119,10 +139,13 @@ def test_first_sheet_by_default_and_blank_rows_skipped(tmp_path, from_csv):
 @pytest.mark.parametrize("kind", ["date32", "timestamp", "text"])
 def test_parquet_reads_as_the_csv_does(tmp_path, from_csv, kind):
     days = [dt.date.fromisoformat(d) for d in dates(30)]
-    time = {"date32": pa.array(days, pa.date32()),
-            "timestamp": pa.array([dt.datetime.combine(d, dt.time()) for d in days],
-                                  pa.timestamp("us")),
-            "text": pa.array(dates(30), pa.string())}[kind]
+    time = {
+        "date32": pa.array(days, pa.date32()),
+        "timestamp": pa.array(
+            [dt.datetime.combine(d, dt.time()) for d in days], pa.timestamp("us")
+        ),
+        "text": pa.array(dates(30), pa.string()),
+    }[kind]
     data = parquet({"date": time, "value": pa.array(VALUES), "extra": pa.array([[1]] * 30)})
     got = _load(tmp_path, {"p/data.parquet": data}, {"file": "data.parquet"})
     _same(got, from_csv)
@@ -131,15 +154,18 @@ def test_parquet_reads_as_the_csv_does(tmp_path, from_csv, kind):
 def test_parquet_times_with_a_zone_follow_the_timezone_key(tmp_path):
     """Timestamps stored with a zone are converted to the metric's timezone, as times with a
     UTC offset in a CSV file are."""
-    utc = [dt.datetime(2026, 1, 5, 23, 30, tzinfo=dt.UTC) + dt.timedelta(days=i)
-           for i in range(30)]
-    text = "date,value\n" + "".join(f"{t.isoformat()},{v}\n"
-                                    for t, v in zip(utc, VALUES, strict=True))
+    utc = [dt.datetime(2026, 1, 5, 23, 30, tzinfo=dt.UTC) + dt.timedelta(days=i) for i in range(30)]
+    text = "date,value\n" + "".join(
+        f"{t.isoformat()},{v}\n" for t, v in zip(utc, VALUES, strict=True)
+    )
     want = _load(tmp_path / "csv", {"p/data.csv": text}, csv={"timezone": "Europe/Berlin"})
-    data = parquet({"date": pa.array(utc, pa.timestamp("s", tz="UTC")),
-                    "value": pa.array(VALUES)})
-    got = _load(tmp_path, {"p/data.parquet": data}, {"file": "data.parquet"},
-                csv={"timezone": "Europe/Berlin"})
+    data = parquet({"date": pa.array(utc, pa.timestamp("s", tz="UTC")), "value": pa.array(VALUES)})
+    got = _load(
+        tmp_path,
+        {"p/data.parquet": data},
+        {"file": "data.parquet"},
+        csv={"timezone": "Europe/Berlin"},
+    )
     _same(got, want)
     assert got.points["label"].iloc[0] == "2026-01-06 00:30"
 
@@ -148,25 +174,34 @@ def test_parquet_integers_and_flags(tmp_path):
     """0/1 flags stored as small integers roll up into proportions, as the CSV's do."""
     flags = [i % 4 == 0 for i in range(28)]
     stamps = [dt.datetime(2026, 1, 5, 8) + dt.timedelta(hours=6 * i) for i in range(28)]
-    text = "t,bad\n" + "".join(f"{s:%Y-%m-%dT%H:%M},{int(f)}\n"
-                               for s, f in zip(stamps, flags, strict=True))
+    text = "t,bad\n" + "".join(
+        f"{s:%Y-%m-%dT%H:%M},{int(f)}\n" for s, f in zip(stamps, flags, strict=True)
+    )
     metric = {"type": "defectives", "time": "t", "value": "bad"}
     roll = {"period": "day", "statistic": "proportion"}
     want = _load(tmp_path / "csv", {"p/data.csv": text}, metric, rollup=roll)
-    data = parquet({"t": pa.array(stamps, pa.timestamp("s")),
-                    "bad": pa.array([int(f) for f in flags], pa.int8())})
-    got = _load(tmp_path, {"p/data.parquet": data}, metric | {"file": "data.parquet"},
-                rollup=roll)
+    data = parquet(
+        {
+            "t": pa.array(stamps, pa.timestamp("s")),
+            "bad": pa.array([int(f) for f in flags], pa.int8()),
+        }
+    )
+    got = _load(tmp_path, {"p/data.parquet": data}, metric | {"file": "data.parquet"}, rollup=roll)
     _same(got, want)
 
 
 def test_input_files_are_never_modified(tmp_path):
     book = xlsx({"Audit": good_rows()})
     data = parquet({"date": pa.array(dates(30)), "value": pa.array(VALUES)})
-    root = write(tmp_path / "projects", {"p/project.toml": meta(metric={"file": "data.xlsx"}),
-                                         "p/data.xlsx": book,
-                                         "q/project.toml": meta(metric={"file": "data.parquet"}),
-                                         "q/data.parquet": data})
+    root = write(
+        tmp_path / "projects",
+        {
+            "p/project.toml": meta(metric={"file": "data.xlsx"}),
+            "p/data.xlsx": book,
+            "q/project.toml": meta(metric={"file": "data.parquet"}),
+            "q/data.parquet": data,
+        },
+    )
     before = {p: hashlib.sha256(p.read_bytes()).hexdigest() for p in root.rglob("*.*")}
     settings, _ = load_portfolio(root)
     for slug in ("p", "q"):
@@ -178,18 +213,26 @@ def test_input_files_are_never_modified(tmp_path):
 def test_problem_locations_and_their_manifest_form():
     sheet = Problem("p/a.xlsx", 12, "column 'n'", "bad", sheet="Audit", rows=True)
     assert sheet.format() == "p/a.xlsx:sheet 'Audit' row 12: column 'n': bad"
-    assert Problem("p/a.xlsx", None, "", "gone", sheet="Audit").format() == \
-        "p/a.xlsx:sheet 'Audit': gone"
+    assert (
+        Problem("p/a.xlsx", None, "", "gone", sheet="Audit").format()
+        == "p/a.xlsx:sheet 'Audit': gone"
+    )
     assert Problem("p/a.parquet", 3, "", "bad", rows=True).format() == "p/a.parquet:row 3: bad"
     plain = Problem("p/a.csv", 3, "", "bad")
-    assert plain.as_dict() == {"path": "p/a.csv", "line": 3, "where": "", "message": "bad",
-                               "severity": "error"}  # as a CSV file's problems always were
+    assert plain.as_dict() == {
+        "path": "p/a.csv",
+        "line": 3,
+        "where": "",
+        "message": "bad",
+        "severity": "error",
+    }  # as a CSV file's problems always were
     assert Problem(**sheet.as_dict()) == sheet
 
 
 def _generator():
-    spec = importlib.util.spec_from_file_location("generate_demo",
-                                                  ROOT / "scripts" / "generate_demo.py")
+    spec = importlib.util.spec_from_file_location(
+        "generate_demo", ROOT / "scripts" / "generate_demo.py"
+    )
     mod = importlib.util.module_from_spec(spec)
     sys.modules["generate_demo"] = mod
     spec.loader.exec_module(mod)
@@ -264,12 +307,22 @@ def test_start_reads_a_parquet_file_past_columns_of_lists(tmp_path):
 
     folder = tmp_path / "projects" / "weld"
     folder.mkdir(parents=True)
-    (folder / "data.parquet").write_bytes(parquet({
-        "date": pa.array([dt.date.fromisoformat(d) for d in dates(30)]),
-        "tags": pa.array([["a"]] * 30), "value": pa.array(VALUES)}))
+    (folder / "data.parquet").write_bytes(
+        parquet(
+            {
+                "date": pa.array([dt.date.fromisoformat(d) for d in dates(30)]),
+                "tags": pa.array([["a"]] * 30),
+                "value": pa.array(VALUES),
+            }
+        )
+    )
     assert main(["start", str(folder / "data.parquet"), "--quiet"]) == 0
     meta_ = tomllib.loads((folder / "project.toml").read_text(encoding="utf-8"))
     m = meta_["metric"][0]
-    assert (m["file"], m["type"], m["time"], m["value"]) == ("data.parquet", "continuous",
-                                                             "date", "value")
+    assert (m["file"], m["type"], m["time"], m["value"]) == (
+        "data.parquet",
+        "continuous",
+        "date",
+        "value",
+    )
     assert "sheet" not in m and "csv" not in m

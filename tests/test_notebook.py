@@ -38,8 +38,7 @@ def test_a_frame_gives_what_the_build_of_its_csv_gives(demo_site, slug):
     project.toml, gives the same figures as the built site's results.json (every key but the
     file's name), and the same charts as the site's chart downloads."""
     m, events = _demo_metric(slug)
-    frame = pd.read_csv(DEMO / slug / m["file"], parse_dates=[m["time"]] if "time" in m
-                        else None)
+    frame = pd.read_csv(DEMO / slug / m["file"], parse_dates=[m["time"]] if "time" in m else None)
     before = frame.copy()
     # the demo portfolio's settings (its sigma_level shows the sigma level)
     settings, _ = load_portfolio(DEMO)
@@ -50,15 +49,19 @@ def test_a_frame_gives_what_the_build_of_its_csv_gives(demo_site, slug):
     assert r.results["file"] == "<DataFrame>"
     # a frame holds one metric: the study a metric names (measurement_study) is not there
     own = ("file", "measurement_study")
-    assert {k: v for k, v in r.results.items() if k not in own} == \
-        {k: v for k, v in entry.items() if k not in own}
+    assert {k: v for k, v in r.results.items() if k not in own} == {
+        k: v for k, v in entry.items() if k not in own
+    }
     if built["history"]:
         assert r.history == next(h for h in built["history"] if h["id"] == m["id"])
     data = demo_site / "projects" / slug / "data"
     assert r.charts
     for key, chart in r.charts.items():
-        name = f"{key.replace('history-', 'history-' + m['id'] + '-', 1)}" \
-            if key.startswith("history-") else f"{m['id']}-{key}"
+        name = (
+            f"{key.replace('history-', 'history-' + m['id'] + '-', 1)}"
+            if key.startswith("history-")
+            else f"{m['id']}-{key}"
+        )
         assert chart.spec == json.loads((data / f"{name}.vl.json").read_text()), key
         assert chart.title and chart.summary
 
@@ -93,20 +96,29 @@ def test_the_charts_display_themselves(demo_site):
 
 
 def test_bad_keys_and_bad_cells_are_named_like_a_files():
-    frame = pd.DataFrame({"day": pd.date_range("2026-01-01", periods=6),
-                          "v": [1.0, 2.0, "x", 4.0, None, 6.0]})
-    keys = {"id": "a", "name": "A", "type": "continuous", "better": "lower", "time": "day",
-            "value": "v"}
+    frame = pd.DataFrame(
+        {"day": pd.date_range("2026-01-01", periods=6), "v": [1.0, 2.0, "x", 4.0, None, 6.0]}
+    )
+    keys = {
+        "id": "a",
+        "name": "A",
+        "type": "continuous",
+        "better": "lower",
+        "time": "day",
+        "value": "v",
+    }
     with pytest.raises(ProjectError) as e:
         analyse_frame(frame, keys | {"better": "sideways"})
     assert [p.format() for p in e.value.problems if p.severity == "error"] == [
-        "<DataFrame>: metric[1].better: expected one of lower, higher, target, got 'sideways'"]
+        "<DataFrame>: metric[1].better: expected one of lower, higher, target, got 'sideways'"
+    ]
     with pytest.raises(ProjectError) as e:
         analyse_frame(frame, keys)
     # rows numbered as the lines of a CSV file with a header: the third row is line 4
     assert [p.format() for p in e.value.problems] == [
         "<DataFrame>:4: column 'v': 'x' is not a number",
-        "<DataFrame>:6: warning: column 'v': blank cell; the row is left out"]
+        "<DataFrame>:6: warning: column 'v': blank cell; the row is left out",
+    ]
     with pytest.raises(ProjectError) as e:
         analyse_frame(frame, keys | {"value": "w"})
     assert "column 'w': not found" in e.value.problems[0].format()
@@ -116,10 +128,18 @@ def test_bad_keys_and_bad_cells_are_named_like_a_files():
 
 
 def test_a_file_key_copied_from_project_toml_is_not_read():
-    frame = pd.DataFrame({"day": pd.date_range("2026-01-01", periods=20),
-                          "v": [float(i % 5) for i in range(20)]})
-    keys = {"id": "a", "name": "A", "type": "continuous", "better": "lower", "time": "day",
-            "value": "v", "baseline": ("2026-01-01", "2026-01-10")}
+    frame = pd.DataFrame(
+        {"day": pd.date_range("2026-01-01", periods=20), "v": [float(i % 5) for i in range(20)]}
+    )
+    keys = {
+        "id": "a",
+        "name": "A",
+        "type": "continuous",
+        "better": "lower",
+        "time": "day",
+        "value": "v",
+        "baseline": ("2026-01-01", "2026-01-10"),
+    }
     r = analyse_frame(frame, keys | {"file": "no/such/file.csv"})
     assert r.results["file"] == "<DataFrame>"
     assert r.results["periods"]["baseline"] == ["2026-01-01", "2026-01-10"]

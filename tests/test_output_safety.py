@@ -185,10 +185,23 @@ def _link_loop(tmp: Path, projects: Path):
     return tmp / "a", "it is a symbolic link to nothing"
 
 
-CASES = [_file, _folder_of_other_files, _only_a_hidden_file, _forged_marker, _marker_is_a_folder,
-         _projects_folder, _project_inside_projects, _absent_folder_inside_projects,
-         _folder_containing_projects, _link_to_folder_of_other_files, _link_to_projects,
-         _relative_link_to_parent, _link_to_file, _dangling_link, _link_loop]
+CASES = [
+    _file,
+    _folder_of_other_files,
+    _only_a_hidden_file,
+    _forged_marker,
+    _marker_is_a_folder,
+    _projects_folder,
+    _project_inside_projects,
+    _absent_folder_inside_projects,
+    _folder_containing_projects,
+    _link_to_folder_of_other_files,
+    _link_to_projects,
+    _relative_link_to_parent,
+    _link_to_file,
+    _dangling_link,
+    _link_loop,
+]
 
 
 @pytest.mark.parametrize("case", CASES, ids=[c.__name__.lstrip("_") for c in CASES])
@@ -222,8 +235,9 @@ def test_out_dot_from_a_repository_root_is_refused(tmp_path, monkeypatch, capsys
     monkeypatch.chdir(repo)
     before = snapshot(tmp_path)
     refused(Path("."), Path("projects"), capsys, why="it is the working directory")
-    refused(Path("."), Path("projects"), capsys, why="it is the working directory",
-            extra=["--force"])
+    refused(
+        Path("."), Path("projects"), capsys, why="it is the working directory", extra=["--force"]
+    )
     assert snapshot(tmp_path) == before
 
 
@@ -267,14 +281,36 @@ def test_watch_refuses_before_serving_or_building(tmp_path):
     projects = portfolio(tmp / "projects")
     out, _ = _folder_of_other_files(tmp, projects)
     before = snapshot(tmp_path)
-    env = dict(os.environ, PYTHONPATH=os.pathsep.join(
-        [str(REPO / "src")] + ([os.environ["PYTHONPATH"]] if os.environ.get("PYTHONPATH") else [])))
-    for args, cwd, why in [([str(out)], tmp, "it is a folder of other files"),
-                           (["."], tmp, "it is the working directory")]:
+    env = dict(
+        os.environ,
+        PYTHONPATH=os.pathsep.join(
+            [str(REPO / "src")]
+            + ([os.environ["PYTHONPATH"]] if os.environ.get("PYTHONPATH") else [])
+        ),
+    )
+    for args, cwd, why in [
+        ([str(out)], tmp, "it is a folder of other files"),
+        (["."], tmp, "it is the working directory"),
+    ]:
         proc = subprocess.run(
-            [sys.executable, "-m", "steadyline", "watch", str(projects), "--out", *args,
-             "--no-serve", "--jobs", "1"], cwd=cwd, env=env, capture_output=True, text=True,
-            timeout=60)
+            [
+                sys.executable,
+                "-m",
+                "steadyline",
+                "watch",
+                str(projects),
+                "--out",
+                *args,
+                "--no-serve",
+                "--jobs",
+                "1",
+            ],
+            cwd=cwd,
+            env=env,
+            capture_output=True,
+            text=True,
+            timeout=60,
+        )
         lines = proc.stderr.splitlines()
         assert proc.returncode == 2 and len(lines) == 1, proc.stderr
         assert "refused as output: " + why in lines[0], lines[0]
@@ -343,6 +379,7 @@ def _fail_writes(err: int):
         if ".staging-" in os.fspath(path) and "w" in mode:
             raise OSError(err, os.strerror(err), os.fspath(path))
         return open(path, mode, *args, **kwargs)
+
     return fake_open
 
 
@@ -366,6 +403,7 @@ class _FailingFile:
 def _fail_exchange(err: int):
     def fake_exchange(a, b):
         raise OSError(err, os.strerror(err), str(a))
+
     return fake_exchange
 
 
@@ -383,15 +421,18 @@ FAULTS = [
 
 
 @pytest.mark.parametrize("name,err,cause,where", FAULTS, ids=[f[0] for f in FAULTS])
-def test_a_fault_is_one_line_and_the_published_site_stays(published, name, err, cause, where,
-                                                          monkeypatch, capsys):
+def test_a_fault_is_one_line_and_the_published_site_stays(
+    published, name, err, cause, where, monkeypatch, capsys
+):
     projects, out = published
     before, listing = snapshot(out), sorted(os.listdir(out.parent))
     if where == "open":
         monkeypatch.setattr(publish, "open", _fail_writes(err), raising=False)
     elif where == "write":
+
         def fail_writing(path, mode="r", *a, **k):  # reading (e.g. /proc) goes on as usual
             return _FailingFile(err) if "w" in mode else open(path, mode, *a, **k)
+
         monkeypatch.setattr(publish, "open", fail_writing, raising=False)
     elif where == "mkdir":
         real_mkdir = os.mkdir
@@ -400,11 +441,13 @@ def test_a_fault_is_one_line_and_the_published_site_stays(published, name, err, 
             if ".staging-" in os.fspath(path):
                 raise OSError(err, os.strerror(err), os.fspath(path))
             return real_mkdir(path, *args, **kwargs)
+
         monkeypatch.setattr(os, "mkdir", fake_mkdir)
     else:
         monkeypatch.setattr(publish, "exchange", _fail_exchange(err))
-    code, lines = cli(["build", str(projects), "--out", str(out), "--force", "--jobs", "1",
-                       "--quiet"], capsys)
+    code, lines = cli(
+        ["build", str(projects), "--out", str(out), "--force", "--jobs", "1", "--quiet"], capsys
+    )
     assert code == 2 and len(lines) == 1, lines
     line = lines[0]
     assert line.startswith(f"steadyline: {out}: not published: {cause}"), line
@@ -431,8 +474,9 @@ def test_a_failed_fallback_swap_puts_the_published_site_back(published, monkeypa
 
     monkeypatch.setattr(publish, "exchange", lambda a, b: False)
     monkeypatch.setattr(os, "rename", fake_rename)
-    code, lines = cli(["build", str(projects), "--out", str(out), "--force", "--jobs", "1",
-                       "--quiet"], capsys)
+    code, lines = cli(
+        ["build", str(projects), "--out", str(out), "--force", "--jobs", "1", "--quiet"], capsys
+    )
     monkeypatch.undo()
     assert code == 2 and len(lines) == 1 and "not published: disk full" in lines[0], lines
     after = snapshot(out)
@@ -456,8 +500,9 @@ def test_a_fault_during_watch_is_named_and_watching_goes_on(published, monkeypat
     finally:
         lock.release()
     lines = capsys.readouterr().err.splitlines()
-    assert len(lines) == 1 and lines[0].startswith(f"steadyline: {out}: not published: disk "
-                                                   "full at "), lines
+    assert len(lines) == 1 and lines[0].startswith(
+        f"steadyline: {out}: not published: disk full at "
+    ), lines
     monkeypatch.undo()
     assert snapshot(out) == before
 
@@ -474,16 +519,20 @@ def test_other_errors_are_not_dressed_up_as_faults_of_the_machine(err, tmp_path)
 def _env() -> dict:
     env = dict(os.environ)
     env["PYTHONPATH"] = os.pathsep.join(
-        [str(REPO / "src")] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
+        [str(REPO / "src")] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else [])
+    )
     env.pop("CI", None)
     return env
 
 
 def _snapshot_script(folder: Path) -> Path:
     script = folder / "snapshot.py"
-    script.write_text("import hashlib, json, os, stat, sys\n\n"
-                      + inspect.getsource(snapshot)
-                      + "\nprint(json.dumps(snapshot(sys.argv[1])))\n", "utf-8")
+    script.write_text(
+        "import hashlib, json, os, stat, sys\n\n"
+        + inspect.getsource(snapshot)
+        + "\nprint(json.dumps(snapshot(sys.argv[1])))\n",
+        "utf-8",
+    )
     return script
 
 
@@ -496,9 +545,11 @@ def test_a_full_disk_a_read_only_disk_and_a_mount_point_for_real(tmp_path):
         pytest.skip("no unshare command to make a mount namespace")
     probe_dir = tmp_path / "probe"
     probe_dir.mkdir()
-    probe = subprocess.run(["unshare", "-m", "sh", "-c",
-                            f"mount -t tmpfs -o size=64k tmpfs {probe_dir}"],
-                           capture_output=True, text=True)
+    probe = subprocess.run(
+        ["unshare", "-m", "sh", "-c", f"mount -t tmpfs -o size=64k tmpfs {probe_dir}"],
+        capture_output=True,
+        text=True,
+    )
     if probe.returncode != 0:
         pytest.skip(f"cannot mount a tmpfs here: {probe.stderr.strip() or probe.returncode}")
     projects = portfolio(tmp_path / "projects")
@@ -527,8 +578,13 @@ print((s.f_blocks - s.f_bfree) * s.f_frsize * 3 // 2 // 1024)")
         {build_cmd} --out {mnt} 2> {res}/mnt.err; echo $? > {res}/mnt.rc
         {py} {snap} {mnt} > {res}/mnt.json
         """)
-    proc = subprocess.run(["unshare", "-m", "sh", "-c", script], env=_env(),
-                          capture_output=True, text=True, timeout=240)
+    proc = subprocess.run(
+        ["unshare", "-m", "sh", "-c", script],
+        env=_env(),
+        capture_output=True,
+        text=True,
+        timeout=240,
+    )
     assert proc.returncode == 0, proc.stderr
 
     def result(name):
@@ -541,15 +597,17 @@ print((s.f_blocks - s.f_bfree) * s.f_frsize * 3 // 2 // 1024)")
         assert rc == 2 and len(lines) == 1, (name, lines)
         # where the disk refused: the staging folder, or (read-only) already the lock file
         # beside the output, which a build makes first
-        assert lines[0].startswith(f"steadyline: {disk}/site: not published: {cause} at "
-                                   f"{disk}/.site."), lines[0]
+        assert lines[0].startswith(
+            f"steadyline: {disk}/site: not published: {cause} at {disk}/.site."
+        ), lines[0]
         assert json.loads((res / f"{name}.json").read_text("utf-8")) == before, name
         # the site and the lock file beside it (never deleted): no staging folder left
         assert (res / f"{name}.ls").read_text().split() == [".site.lock", "site"], name
     rc, lines = result("mnt")
     assert rc == 2 and len(lines) == 1 and "refused as output: it is a mount point" in lines[0]
-    assert (json.loads((res / "mnt.json").read_text("utf-8"))
-            == json.loads((res / "mnt-before.json").read_text("utf-8")))
+    assert json.loads((res / "mnt.json").read_text("utf-8")) == json.loads(
+        (res / "mnt-before.json").read_text("utf-8")
+    )
 
 
 @pytest.mark.slow
@@ -572,13 +630,31 @@ def test_permission_denied_for_real(tmp_path):
     locked.chmod(0o555)
     try:
         before, listing = snapshot(out), sorted(os.listdir(locked))
-        proc = subprocess.run([*drop, sys.executable, "-m", "steadyline", "build", str(projects),
-                               "--out", str(out), "--force", "--jobs", "1", "--quiet"],
-                              env=_env(), capture_output=True, text=True, timeout=120)
+        proc = subprocess.run(
+            [
+                *drop,
+                sys.executable,
+                "-m",
+                "steadyline",
+                "build",
+                str(projects),
+                "--out",
+                str(out),
+                "--force",
+                "--jobs",
+                "1",
+                "--quiet",
+            ],
+            env=_env(),
+            capture_output=True,
+            text=True,
+            timeout=120,
+        )
         lines = proc.stderr.splitlines()
         assert proc.returncode == 2 and len(lines) == 1, proc.stderr
-        assert lines[0].startswith(f"steadyline: {out}: not published: permission denied at "
-                                   f"{locked}/.site.staging-"), lines[0]
+        assert lines[0].startswith(
+            f"steadyline: {out}: not published: permission denied at {locked}/.site.staging-"
+        ), lines[0]
         assert snapshot(out) == before and sorted(os.listdir(locked)) == listing
     finally:
         locked.chmod(0o755)
@@ -607,8 +683,9 @@ def test_the_readme_refusal_examples_are_what_the_command_prints(tmp_path, monke
     assert printed == lines
 
 
-def test_the_readme_fault_table_and_example_are_what_the_command_prints(tmp_path, monkeypatch,
-                                                                         capsys):
+def test_the_readme_fault_table_and_example_are_what_the_command_prints(
+    tmp_path, monkeypatch, capsys
+):
     from steadyline.site.output_rule import _FAULTS
 
     readme = _readme()

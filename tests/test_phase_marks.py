@@ -18,8 +18,8 @@ import pytest
 
 from steadyline.charts import style
 from steadyline.charts.series import (
-    MARK_ASIDE,
     CHANGE_MARKS,
+    MARK_ASIDE,
     MARK_CHANGE_BETTER,
     MARK_CHANGE_UNJUDGED,
     MARK_CHANGE_WORSE,
@@ -28,8 +28,11 @@ from steadyline.charts.series import (
 )
 
 HIGHER = {"above": True, "up": True, "below": False, "down": False}
-DIRECTION_WORDS = {"better": "on the better side", "worse": "on the worse side",
-                   "not judged": "with no side to judge a direction by"}
+DIRECTION_WORDS = {
+    "better": "on the better side",
+    "worse": "on the worse side",
+    "not judged": "with no side to judge a direction by",
+}
 
 
 def _views(node):
@@ -51,8 +54,9 @@ def _staged(site: Path):
         for h in r["history"] or []:
             if "staged_control_chart" not in h:
                 continue
-            spec = json.loads((res.parent / "data" / f"history-{h['id']}-staged-control.vl.json")
-                              .read_text())
+            spec = json.loads(
+                (res.parent / "data" / f"history-{h['id']}-staged-control.vl.json").read_text()
+            )
             page = (res.parent / "history.html").read_text()
             out.append((r["project"]["slug"], metrics[h["id"]], h, spec, page))
     return out
@@ -124,16 +128,24 @@ def test_marks_agree_with_results_json(staged):
         sc = h["staged_control_chart"]
         stage = metric["points"]["stage"]
         stage_code = [{"Baseline": 0, "After": 1}.get(s, 2) for s in stage]
-        recorded = {(g["chart"], i): g["direction"]
-                    for g in sc["change_evidence"] for i in g["indices"]}
+        recorded = {
+            (g["chart"], i): g["direction"] for g in sc["change_evidence"] for i in g["indices"]
+        }
         charts = [("main", "", sc["chart"], 0)]
         sec = sc["chart"].get("secondary")
         if sec:
             charts.append(("secondary", "2", sec, len(sc["chart"]["values"]) - len(sec["values"])))
         for which, suffix, chart, offset in charts:
             st = stage_code[offset:]
-            expect = _expected(chart, sc["signals"], sc.get("after_signals", []), which, st,
-                               metric["better"], metric["spec_limits"]["target"])
+            expect = _expected(
+                chart,
+                sc["signals"],
+                sc.get("after_signals", []),
+                which,
+                st,
+                metric["better"],
+                metric["spec_limits"]["target"],
+            )
             drawn = _drawn(spec, suffix, [i + offset for i in _finite(chart["values"])])
             for i in _finite(chart["values"]):
                 direction, own = expect[i]
@@ -151,24 +163,30 @@ def test_marks_agree_with_results_json(staged):
                 assert got["own"] == own, where
                 if st[i] == 1 and which == "main":
                     after_marked += bool(direction)
-                    in_after = any(i in s["indices"] for s in sc.get("after_signals", [])
-                                   if s["chart"] == "main")
+                    in_after = any(
+                        i in s["indices"]
+                        for s in sc.get("after_signals", [])
+                        if s["chart"] == "main"
+                    )
                     assert got["own"] == in_after, where
     assert after_marked > 100  # the demo's after phases moved: the test has marks to check
 
 
 def _findings(page: str, metric_id: str) -> list[str]:
     start = page.index(f'id="history-{metric_id}-staged-control"')
-    card = page[start:page.index("</figure>", start)]
-    return [html.unescape(re.sub(r"<[^>]+>", "", li)).strip()
-            for li in re.findall(r'<(?:li|p) class="(?:summary )?finding[^"]*">(.*?)</(?:li|p)>',
-                                 card, re.S)]
+    card = page[start : page.index("</figure>", start)]
+    return [
+        html.unescape(re.sub(r"<[^>]+>", "", li)).strip()
+        for li in re.findall(
+            r'<(?:li|p) class="(?:summary )?finding[^"]*">(.*?)</(?:li|p)>', card, re.S
+        )
+    ]
 
 
 def _chart_label(page: str, metric_id: str) -> str:
     """The chart's description for readers who cannot see it (its aria-label)."""
     start = page.index(f'id="history-{metric_id}-staged-control"')
-    card = page[start:page.index("</figure>", start)]
+    card = page[start : page.index("</figure>", start)]
     return html.unescape(re.search(r'class="chart"[^>]* aria-label="([^"]*)"', card).group(1))
 
 
@@ -189,8 +207,10 @@ def test_sentences_and_legend_agree_with_results_json(staged):
             words = f"against the baseline's limits {DIRECTION_WORDS[d]}"
             if n:
                 verb = "takes" if n == 1 else "take"
-                assert (f"{n} of {len(after)} after points {verb} part in signals {words} "
-                        f"(marked “{CHANGE_MARKS[d]}”)") in text, where
+                assert (
+                    f"{n} of {len(after)} after points {verb} part in signals {words} "
+                    f"(marked “{CHANGE_MARKS[d]}”)"
+                ) in text, where
             else:
                 assert words not in text, where
         if not any(counts.values()):
@@ -207,8 +227,10 @@ def test_sentences_and_legend_agree_with_results_json(staged):
         sub = " ".join(spec["title"]["subtitle"])
         assert "signal" not in sub, where
         if k:
-            assert (f"against the baseline's limits {k} of {len(after)} after points"
-                    in _chart_label(page, metric["id"])), where
+            assert (
+                f"against the baseline's limits {k} of {len(after)} after points"
+                in _chart_label(page, metric["id"])
+            ), where
         # the legend names every mark drawn (on either chart), and nothing else
         drawn = set()
         for p in spec["datasets"]["point_info"]:
@@ -217,15 +239,24 @@ def test_sentences_and_legend_agree_with_results_json(staged):
                 drawn.add(MARK_OWN_SIGNAL)
             if p.get("aside"):  # a point set aside has a mark of its own
                 drawn.add(MARK_ASIDE)
-        point_views = [v for v in _views(spec) if v["mark"]["type"] == "point"
-                       and v.get("data", {}).get("name") == "points"]
+        point_views = [
+            v
+            for v in _views(spec)
+            if v["mark"]["type"] == "point" and v.get("data", {}).get("name") == "points"
+        ]
         assert point_views
         for v in point_views:
             domain = v["encoding"]["shape"]["scale"]["domain"]
             assert set(domain) == drawn | {MARK_ORDINARY}, where
             assert v["encoding"]["shape"]["legend"] is not None
-            order = [MARK_ORDINARY, MARK_CHANGE_BETTER, MARK_CHANGE_WORSE, MARK_CHANGE_UNJUDGED,
-                     MARK_OWN_SIGNAL, MARK_ASIDE]
+            order = [
+                MARK_ORDINARY,
+                MARK_CHANGE_BETTER,
+                MARK_CHANGE_WORSE,
+                MARK_CHANGE_UNJUDGED,
+                MARK_OWN_SIGNAL,
+                MARK_ASIDE,
+            ]
             assert domain == [m for m in order if m in domain]
 
 
@@ -242,8 +273,13 @@ def _expected_kinds(stages: list[str]) -> list[str]:
             seen_after = True
             out.append("after")
         else:
-            out.append("after the after period" if seen_after
-                       else "between periods" if seen_base else "before the baseline")
+            out.append(
+                "after the after period"
+                if seen_after
+                else "between periods"
+                if seen_base
+                else "before the baseline"
+            )
     return out
 
 
@@ -253,8 +289,11 @@ def test_every_band_is_filled_by_its_kind_of_period_and_named_in_the_legend(demo
     for path in sorted(demo_site.glob("projects/*/data/*.vl.json")):
         spec = json.loads(path.read_text())
         bands = spec.get("datasets", {}).get("bands")
-        rects = [v for v in _views(spec) if v.get("data", {}).get("name") == "bands"
-                 and v["mark"]["type"] == "rect"]
+        rects = [
+            v
+            for v in _views(spec)
+            if v.get("data", {}).get("name") == "bands" and v["mark"]["type"] == "rect"
+        ]
         if bands is None:
             assert not rects, path
             continue
@@ -271,8 +310,9 @@ def test_every_band_is_filled_by_its_kind_of_period_and_named_in_the_legend(demo
                 assert scale[b["kind"]] == style.PERIOD_FILLS[b["kind"]], (path, b)
             # the legend names exactly the kinds drawn, in the order of the periods
             assert enc["legend"]["title"] == "period"
-            assert enc["scale"]["domain"] == [k for k in style.PERIOD_KINDS
-                                              if k in {b["kind"] for b in bands}]
+            assert enc["scale"]["domain"] == [
+                k for k in style.PERIOD_KINDS if k in {b["kind"] for b in bands}
+            ]
         kinds_seen.update(b["kind"] for b in bands)
         checked += 1
     assert checked >= 30
@@ -289,13 +329,21 @@ def test_a_metric_without_after_data_on_a_history_page(tmp_path):
     from steadyline.site.build import BuildOptions, build
 
     lower = [v - 12 for v in VALUES[16:]]
-    changed = "\n".join(["date,value"] + [f"{d},{v}" for d, v in zip(
-        dates(30), VALUES[:16] + lower, strict=True)]) + "\n"
-    toml = meta(metric={"baseline": raw("[2026-01-05, 2026-01-20]"),
-                        "after": raw("[2026-01-21]")},
-                more_metrics=[dict(DEFAULT_METRIC, id="n", name="Other", file="other.csv")])
-    root = write(tmp_path / "projects", {"p/project.toml": toml, "p/data.csv": changed,
-                                         "p/other.csv": good_csv()})
+    changed = (
+        "\n".join(
+            ["date,value"]
+            + [f"{d},{v}" for d, v in zip(dates(30), VALUES[:16] + lower, strict=True)]
+        )
+        + "\n"
+    )
+    toml = meta(
+        metric={"baseline": raw("[2026-01-05, 2026-01-20]"), "after": raw("[2026-01-21]")},
+        more_metrics=[dict(DEFAULT_METRIC, id="n", name="Other", file="other.csv")],
+    )
+    root = write(
+        tmp_path / "projects",
+        {"p/project.toml": toml, "p/data.csv": changed, "p/other.csv": good_csv()},
+    )
     out = tmp_path / "site"
     report = build(BuildOptions(root, out, jobs=1))
     assert report.ok, [p.format() for p in report.problems]

@@ -20,7 +20,8 @@ from steadyline.site.cards import FINDINGS_SHOWN
 
 FIGURE = re.compile(r'<figure class="display" id="([^"]+)".*?</figure>', re.S)
 FINDING = re.compile(
-    r'<(?:p|li) class="(?:summary )?finding finding-([a-z-]+)">(.*?)</(?:p|li)>', re.S)
+    r'<(?:p|li) class="(?:summary )?finding finding-([a-z-]+)">(.*?)</(?:p|li)>', re.S
+)
 ISO_DATE = re.compile(r"\b\d{4}-\d{2}-\d{2}\b")
 KIND_RANK = {"signal": 0, "clear": 2}
 
@@ -40,8 +41,9 @@ def _pages(site):
 def _cards(page: str):
     for m in FIGURE.finditer(page):
         card = m.group(0)
-        found = [(kind, _text(body).lstrip("◆●■✚▲ ").strip())
-                 for kind, body in FINDING.findall(card)]
+        found = [
+            (kind, _text(body).lstrip("◆●■✚▲ ").strip()) for kind, body in FINDING.findall(card)
+        ]
         yield m.group(1), card, found
 
 
@@ -83,10 +85,18 @@ def test_each_finding_is_said_once_on_its_card(cards):
         # outside its finding sentences the card names no signal: not in the chart's subtitle,
         # not in a summary line of its own
         rest = _text(FINDING.sub(" ", card))
-        spec = json.loads(html.unescape(re.search(
-            r'<script type="application/json"[^>]*>(.*?)</script>', card, re.S).group(1)))
-        subtitle = " ".join(spec.get("title", {}).get("subtitle", [])) \
-            if isinstance(spec.get("title"), dict) else ""
+        spec = json.loads(
+            html.unescape(
+                re.search(r'<script type="application/json"[^>]*>(.*?)</script>', card, re.S).group(
+                    1
+                )
+            )
+        )
+        subtitle = (
+            " ".join(spec.get("title", {}).get("subtitle", []))
+            if isinstance(spec.get("title"), dict)
+            else ""
+        )
         for desc in descriptions:
             assert desc not in subtitle, (where, desc)
             if found:
@@ -101,8 +111,11 @@ def test_findings_are_ordered_instability_first_by_date(cards):
     for where, _card, found, _d in cards:
         ranks = [KIND_RANK.get(kind, 1) for kind, _s in found]
         assert ranks == sorted(ranks), (where, found)
-        dates = [ISO_DATE.search(s).group(0) for kind, s in found
-                 if kind == "signal" and ISO_DATE.search(s)]
+        dates = [
+            ISO_DATE.search(s).group(0)
+            for kind, s in found
+            if kind == "signal" and ISO_DATE.search(s)
+        ]
         assert dates == sorted(dates), (where, dates)
         dated += len(dates) > 1
     assert dated >= 3  # several cards list more than one dated signal

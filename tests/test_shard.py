@@ -18,13 +18,17 @@ DEMO = Path(__file__).resolve().parent.parent / "projects"
 
 
 def tree_hashes(root: Path) -> dict[str, str]:
-    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(root.rglob("*")) if p.is_file()}
+    return {
+        p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(root.rglob("*"))
+        if p.is_file()
+    }
 
 
 def shard_build(projects: Path, out: Path, shard: str) -> int:
-    return main(["build", str(projects), "--out", str(out), "--shard", shard, "--jobs", "1",
-                 "--quiet"])
+    return main(
+        ["build", str(projects), "--out", str(out), "--shard", shard, "--jobs", "1", "--quiet"]
+    )
 
 
 @pytest.fixture(scope="module")
@@ -40,8 +44,9 @@ def manifest(site: Path) -> dict:
 
 
 @pytest.mark.slow  # the demo built in two shards, and once whole (shared with other tests)
-def test_two_shards_merged_are_byte_identical_to_one_build(demo_shards, demo_site: Path,
-                                                            tmp_path: Path, capsys):
+def test_two_shards_merged_are_byte_identical_to_one_build(
+    demo_shards, demo_site: Path, tmp_path: Path, capsys
+):
     one, two = demo_shards
     slugs = sorted(manifest(demo_site)["projects"])
     mine, theirs = set(manifest(one)["projects"]), set(manifest(two)["projects"])
@@ -51,11 +56,14 @@ def test_two_shards_merged_are_byte_identical_to_one_build(demo_shards, demo_sit
     assert main(["merge", str(two), str(one), "--out", str(merged)]) == 0
     assert tree_hashes(merged) == tree_hashes(demo_site)
     # listings too: no empty folder or extra file the hashes would not show
-    assert sorted(p.relative_to(merged).as_posix() for p in merged.rglob("*")) == \
-        sorted(p.relative_to(demo_site).as_posix() for p in demo_site.rglob("*"))
-    assert capsys.readouterr().err.strip() == \
-        f"steadyline: 2 shards merged: {len(slugs)} projects, 0 with errors; site " \
+    assert sorted(p.relative_to(merged).as_posix() for p in merged.rglob("*")) == sorted(
+        p.relative_to(demo_site).as_posix() for p in demo_site.rglob("*")
+    )
+    assert (
+        capsys.readouterr().err.strip()
+        == f"steadyline: 2 shards merged: {len(slugs)} projects, 0 with errors; site "
         f"published at {merged}"
+    )
     # and a later build of the whole portfolio into the merged site has nothing to do
     assert main(["build", str(DEMO), "--out", str(merged), "--jobs", "1"]) == 0
     assert "unchanged, nothing written" in capsys.readouterr().err
@@ -100,50 +108,68 @@ def test_missing_overlapping_and_unlike_shards_are_refused(tmp_path: Path, capsy
     out = str(tmp_path / "out")
     a1, a2, a3 = (str(tmp_path / f"a{i}") for i in (1, 2, 3))
 
-    assert refused(capsys, a1, a3, "--out", out) == \
-        "steadyline: merge: missing shard 2/3 (given: 1/3, 3/3)"
+    assert (
+        refused(capsys, a1, a3, "--out", out)
+        == "steadyline: merge: missing shard 2/3 (given: 1/3, 3/3)"
+    )
     shutil.copytree(a2, tmp_path / "again")
-    assert refused(capsys, a1, a2, str(tmp_path / "again"), a3, "--out", out) == \
-        f"steadyline: {tmp_path / 'again'}: overlapping shards: {a2} is shard 2/3 too"
-    assert refused(capsys, a1, str(tmp_path / "b2"), a3, "--out", out) == \
-        f"steadyline: {tmp_path / 'b2'}: shard 2/3 was built with other settings than {a1} " \
+    assert (
+        refused(capsys, a1, a2, str(tmp_path / "again"), a3, "--out", out)
+        == f"steadyline: {tmp_path / 'again'}: overlapping shards: {a2} is shard 2/3 too"
+    )
+    assert (
+        refused(capsys, a1, str(tmp_path / "b2"), a3, "--out", out)
+        == f"steadyline: {tmp_path / 'b2'}: shard 2/3 was built with other settings than {a1} "
         "(shard 1/3); build every shard from the same portfolio and settings"
-    assert refused(capsys, a1, str(tmp_path / "a2of2"), a3, "--out", out) == \
-        f"steadyline: {tmp_path / 'a2of2'}: shard 2/2 was built with another number of " \
+    )
+    assert (
+        refused(capsys, a1, str(tmp_path / "a2of2"), a3, "--out", out)
+        == f"steadyline: {tmp_path / 'a2of2'}: shard 2/2 was built with another number of "
         f"shards than {a1} (shard 1/3); build every shard from the same portfolio and settings"
-    assert refused(capsys, a1, str(tmp_path / "whole"), "--out", out) == \
-        f"steadyline: {tmp_path / 'whole'}: not a shard (its manifest has no shard record); " \
+    )
+    assert (
+        refused(capsys, a1, str(tmp_path / "whole"), "--out", out)
+        == f"steadyline: {tmp_path / 'whole'}: not a shard (its manifest has no shard record); "
         "build it with `steadyline build --shard I/N`"
+    )
     old = tmp_path / "old"
     shutil.copytree(a2, old)
     m = manifest(old)
     m["version"] = "0.0.1"
     (old / MANIFEST).write_text(json.dumps(m), "utf-8")
     assert refused(capsys, a1, str(old), a3, "--out", out).startswith(
-        f"steadyline: {old}: shard built by steadyline 0.0.1, this is ")
+        f"steadyline: {old}: shard built by steadyline 0.0.1, this is "
+    )
     m = manifest(old)
     m["version"], m["shard"]["index"] = manifest(Path(a1))["version"], "2"
     (old / MANIFEST).write_text(json.dumps(m), "utf-8")
-    assert refused(capsys, a1, str(old), a3, "--out", out) == \
-        f"steadyline: {old}/{MANIFEST}: the shard record is damaged; build the shard again"
-    assert refused(capsys, a1, a2, a3, "--out", a2) == \
-        f"steadyline: {a2}: refused as output: it is, is inside or contains the shard {a2}; " \
+    assert (
+        refused(capsys, a1, str(old), a3, "--out", out)
+        == f"steadyline: {old}/{MANIFEST}: the shard record is damaged; build the shard again"
+    )
+    assert (
+        refused(capsys, a1, a2, a3, "--out", a2)
+        == f"steadyline: {a2}: refused as output: it is, is inside or contains the shard {a2}; "
         "choose another folder"
+    )
     assert not Path(out).exists()  # nothing was written by any refusal
     assert main(["merge", a1, a2, a3, "--out", out, "--quiet"]) == 0
     assert tree_hashes(Path(out)) == tree_hashes(tmp_path / "whole")
 
 
 @pytest.mark.slow
-def test_a_shard_missing_a_file_is_refused_and_nothing_is_published(demo_shards,
-                                                                    tmp_path: Path, capsys):
+def test_a_shard_missing_a_file_is_refused_and_nothing_is_published(
+    demo_shards, tmp_path: Path, capsys
+):
     one, two = demo_shards
     broken = tmp_path / "broken"
     shutil.copytree(two, broken)
     slug = sorted(manifest(broken)["projects"])[0]
     (broken / "projects" / slug / "results.json").unlink()
-    assert refused(capsys, str(one), str(broken), "--out", str(tmp_path / "out")) == \
-        f"steadyline: {broken}: shard 2/2 is incomplete: projects/{slug}/results.json is missing"
+    assert (
+        refused(capsys, str(one), str(broken), "--out", str(tmp_path / "out"))
+        == f"steadyline: {broken}: shard 2/2 is incomplete: projects/{slug}/results.json is missing"
+    )
     assert not (tmp_path / "out").exists()
     assert not list(tmp_path.glob(".out.staging-*"))
 

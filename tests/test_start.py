@@ -37,9 +37,12 @@ def _study_files() -> set[str]:
 
 
 STUDY_FILES = _study_files()
-DATA_FILES = sorted(p.relative_to(DEMO).as_posix() for p in DEMO.glob("*/*")
-                    if p.suffix in (".csv", ".xlsx", ".parquet")
-                    and p.relative_to(DEMO).as_posix() not in STUDY_FILES)
+DATA_FILES = sorted(
+    p.relative_to(DEMO).as_posix()
+    for p in DEMO.glob("*/*")
+    if p.suffix in (".csv", ".xlsx", ".parquet")
+    and p.relative_to(DEMO).as_posix() not in STUDY_FILES
+)
 COLUMNS = ("time", "value", "subgroup", "count", "size", "category")
 
 
@@ -77,8 +80,10 @@ def test_a_measurement_study_is_not_started(tmp_path, capsys):
     shutil.copyfile(src, folder / src.name)
     code = main(["start", str(folder / src.name), "--type", "measurement-study", "--quiet"])
     assert code == 2
-    assert "start writes process metrics; a measurement study names its part, appraiser and " \
+    assert (
+        "start writes process metrics; a measurement study names its part, appraiser and "
         "value columns by hand" in capsys.readouterr().err
+    )
     assert not (folder / "project.toml").exists()
 
 
@@ -103,10 +108,15 @@ def test_guesses_match_the_demos_own_metadata(tmp_path, rel, capsys):
     assert capsys.readouterr().out == ""
 
 
-@pytest.mark.parametrize("rel", ["order-picking-errors/picking_audit.csv",
-                                 "frame-dropout-alignment/supplier_alignment_export.csv",
-                                 "frame-weld-porosity/weld_inspection.parquet",
-                                 "paint-finish-defects/paint_batches.xlsx"])
+@pytest.mark.parametrize(
+    "rel",
+    [
+        "order-picking-errors/picking_audit.csv",
+        "frame-dropout-alignment/supplier_alignment_export.csv",
+        "frame-weld-porosity/weld_inspection.parquet",
+        "paint-finish-defects/paint_batches.xlsx",
+    ],
+)
 def test_every_guess_is_explained_in_a_comment(tmp_path, rel):
     folder, meta = started(tmp_path, rel)
     lines = (folder / "project.toml").read_text(encoding="utf-8").splitlines()
@@ -118,8 +128,11 @@ def test_every_guess_is_explained_in_a_comment(tmp_path, rel):
 
 def test_the_written_file_passes_the_editor_schema(tmp_path):
     _folder, meta = started(tmp_path, "paint-finish-defects/paint_scanner_weekly.csv")
-    schema = json.loads(resources.files("steadyline").joinpath(
-        "schemas", "project.schema.json").read_text(encoding="utf-8"))
+    schema = json.loads(
+        resources.files("steadyline")
+        .joinpath("schemas", "project.schema.json")
+        .read_text(encoding="utf-8")
+    )
 
     def as_json(v):
         if isinstance(v, dict):
@@ -135,20 +148,35 @@ def test_the_baseline_is_all_the_data(tmp_path):
     _folder, meta = started(tmp_path, "customer-returns/returns_weekly.csv")
     weeks = (DEMO / "customer-returns/returns_weekly.csv").read_text().split()[1:]
     first, last = weeks[0].split(",")[0], weeks[-1].split(",")[0]
-    assert meta["comparison"]["baseline"] == [dt.date.fromisoformat(first),
-                                              dt.date.fromisoformat(last)]
+    assert meta["comparison"]["baseline"] == [
+        dt.date.fromisoformat(first),
+        dt.date.fromisoformat(last),
+    ]
 
 
 def test_options_set_what_is_not_guessed(tmp_path):
-    _folder, meta = started(tmp_path, "wheel-build-lead-time/orders.csv", "--time", "released",
-                            "--owner", "Ingrid Solberg", "--title", "Lead time",
-                            "--problem", "Orders wait.")
+    _folder, meta = started(
+        tmp_path,
+        "wheel-build-lead-time/orders.csv",
+        "--time",
+        "released",
+        "--owner",
+        "Ingrid Solberg",
+        "--title",
+        "Lead time",
+        "--problem",
+        "Orders wait.",
+    )
     assert meta["metric"][0]["time"] == "released"
     assert meta["metric"][0]["value"] == "lead_time_h"
-    assert (meta["owner"], meta["title"], meta["problem"]) == ("Ingrid Solberg", "Lead time",
-                                                               "Orders wait.")
-    _folder, meta = started(tmp_path / "b", "hub-bearing-press-fit/press_fit.csv",
-                            "--type", "continuous")
+    assert (meta["owner"], meta["title"], meta["problem"]) == (
+        "Ingrid Solberg",
+        "Lead time",
+        "Orders wait.",
+    )
+    _folder, meta = started(
+        tmp_path / "b", "hub-bearing-press-fit/press_fit.csv", "--type", "continuous"
+    )
     assert meta["metric"][0]["type"] == "continuous"
     assert "subgroup" not in meta["metric"][0]
 
@@ -202,12 +230,16 @@ def test_a_type_without_its_columns_is_refused(tmp_path, capsys):
     assert not (folder / "project.toml").exists()
 
 
-@pytest.mark.parametrize("encoding, declared", [("utf-16-le", "utf-16-le"),
-                                                ("utf-16", None), ("latin-1", "latin-1"),
-                                                ("utf-8-sig", None)])
+@pytest.mark.parametrize(
+    "encoding, declared",
+    [("utf-16-le", "utf-16-le"), ("utf-16", None), ("latin-1", "latin-1"), ("utf-8-sig", None)],
+)
 def test_other_encodings_are_read_and_declared_when_needed(tmp_path, encoding, declared, capsys):
-    text = (DEMO / "frame-dropout-alignment/supplier_alignment_export.csv").read_text(
-        encoding="utf-8-sig").replace("VB-2639", "Lieferung Müller")
+    text = (
+        (DEMO / "frame-dropout-alignment/supplier_alignment_export.csv")
+        .read_text(encoding="utf-8-sig")
+        .replace("VB-2639", "Lieferung Müller")
+    )
     folder = tmp_path / "projects" / "alignment"
     folder.mkdir(parents=True)
     (folder / "export.csv").write_bytes(text.encode(encoding))  # "utf-16" writes a mark

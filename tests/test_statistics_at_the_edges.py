@@ -106,11 +106,24 @@ def test_a_rolled_up_series_has_no_moving_range_across_a_missing_period(tmp_path
     # two working weeks, rolled up by day; Saturday and Sunday have no rows, so the series
     # has a gap between Friday 9 and Monday 12 January, and the level moves across it.
     # Two rows a day whose mean is the day's value.
-    days = ["2026-01-05", "2026-01-06", "2026-01-07", "2026-01-08", "2026-01-09",
-            "2026-01-12", "2026-01-13", "2026-01-14", "2026-01-15", "2026-01-16"]
+    days = [
+        "2026-01-05",
+        "2026-01-06",
+        "2026-01-07",
+        "2026-01-08",
+        "2026-01-09",
+        "2026-01-12",
+        "2026-01-13",
+        "2026-01-14",
+        "2026-01-15",
+        "2026-01-16",
+    ]
     means = [10.0, 12.0, 11.0, 13.0, 12.0, 30.0, 31.0, 29.0, 30.0, 32.0]
-    rows = [f"{d}T{h},{m + s}" for d, m in zip(days, means, strict=True)
-            for h, s in (("08:00", -0.5), ("14:00", 0.5))]
+    rows = [
+        f"{d}T{h},{m + s}"
+        for d, m in zip(days, means, strict=True)
+        for h, s in (("08:00", -0.5), ("14:00", 0.5))
+    ]
     result, _page = _build(tmp_path, ROLLUP_TOML, "w.csv", "t,v\n" + "\n".join(rows) + "\n")
     (m,) = result["metrics"]
     assert m["points"]["value"] == means

@@ -11,9 +11,20 @@ import pytest
 from steadyline import status as st
 from steadyline.status import HeadlineFacts, Status, Verdict, judge, on_index
 
-IMPROVED = dict(metric_id="m", metric_name="Lead time", has_after=True, compared=True,
-                improved=True, p_value=0.001, p_text="p = 0.001", change=-5.0,
-                percent_change=-25.0, after_points=20, own_limits=True, after_signals=0)
+IMPROVED = dict(
+    metric_id="m",
+    metric_name="Lead time",
+    has_after=True,
+    compared=True,
+    improved=True,
+    p_value=0.001,
+    p_text="p = 0.001",
+    change=-5.0,
+    percent_change=-25.0,
+    after_points=20,
+    own_limits=True,
+    after_signals=0,
+)
 
 
 def facts(**kw) -> HeadlineFacts:
@@ -23,17 +34,22 @@ def facts(**kw) -> HeadlineFacts:
 def test_gain_holds_when_better_unlikely_chance_and_stable_on_its_own_limits():
     v = judge(facts())
     assert v.status is Status.GAIN_HOLDS
-    assert v.reason == ("Lead time down 25%, better, unlikely to be chance (p = 0.001); the after "
-                        "phase is stable on its own control limits (20 points)")
+    assert v.reason == (
+        "Lead time down 25%, better, unlikely to be chance (p = 0.001); the after "
+        "phase is stable on its own control limits (20 points)"
+    )
     assert v.note == "the after phase is stable on its own control limits (20 points)"
 
 
-@pytest.mark.parametrize("kw, words", [
-    (dict(after_signals=3), "3 signals on the after phase's own control limits"),
-    (dict(after_signals=1), "1 signal on the after phase's own control limits"),
-    (dict(own_limits=False, after_points=7), "the after phase has 7 points; 12 are needed"),
-    (dict(control=False), "no control chart"),
-])
+@pytest.mark.parametrize(
+    "kw, words",
+    [
+        (dict(after_signals=3), "3 signals on the after phase's own control limits"),
+        (dict(after_signals=1), "1 signal on the after phase's own control limits"),
+        (dict(own_limits=False, after_points=7), "the after phase has 7 points; 12 are needed"),
+        (dict(control=False), "no control chart"),
+    ],
+)
 def test_a_gain_is_not_yet_stable_until_the_after_phase_is_shown_stable(kw, words):
     v = judge(facts(**kw))
     assert v.status is Status.NOT_STABLE
@@ -80,7 +96,11 @@ def test_one_vocabulary():
     assert len(set(st.LABELS.values())) == len(Status)
     assert [s.rank for s in Status] == list(range(len(Status)))
     assert Verdict(Status.WORSE, "r", "n").as_json() == {
-        "code": "worse", "label": "worse", "reason": "r", "note": "n"}
+        "code": "worse",
+        "label": "worse",
+        "reason": "r",
+        "note": "n",
+    }
 
 
 def test_staleness_is_judged_on_the_index_against_the_build_date():
@@ -89,19 +109,24 @@ def test_staleness_is_judged_on_the_index_against_the_build_date():
     assert on_index(v, "2026-08-25", today, 90) is v  # 90 days: not more than 90
     stale = on_index(v, "2026-08-24", today, 90)  # 91 days
     assert stale.status is Status.STALE
-    assert stale.reason == ("no data after 2026-08-24, 91 days before this build on 2026-11-23 "
-                            "(more than 90); up to then: gain holds")
+    assert stale.reason == (
+        "no data after 2026-08-24, 91 days before this build on 2026-11-23 "
+        "(more than 90); up to then: gain holds"
+    )
     assert on_index(v, "", today, 90) is v  # no data: nothing to be stale
 
 
 def test_a_headline_metric_not_built_is_not_built_whatever_else_holds():
     v = judge(facts(built=False, problem_count=2))  # the other facts are never looked at
     assert v.status is Status.NOT_BUILT
-    assert v.note == ("the headline metric could not be built: 2 problems in its data; the other "
-                      "metrics are published")
+    assert v.note == (
+        "the headline metric could not be built: 2 problems in its data; the other "
+        "metrics are published"
+    )
     assert v.reason == "Lead time: " + v.note
     assert judge(facts(built=False, problem_count=1)).note.startswith(
-        "the headline metric could not be built: 1 problem in its data")
+        "the headline metric could not be built: 1 problem in its data"
+    )
     # what to fix comes first: never turned into "data stale"
     assert on_index(v, "2026-01-01", dt.date(2026, 11, 23), 90) is v
     assert st.look_at(Status.NOT_BUILT, "m", False) == ("what to fix", "index.html#metric-m")
@@ -121,7 +146,9 @@ def test_build_date_honours_source_date_epoch():
 
 def test_look_at_points_to_the_page_that_answers():
     assert st.look_at(Status.GAIN_HOLDS, "m", True) == (
-        "the control chart by phase", "history.html#history-m-staged-control")
+        "the control chart by phase",
+        "history.html#history-m-staged-control",
+    )
     assert st.look_at(Status.NOT_STABLE, "m", False)[1] == "history.html#metric-m"
     assert st.look_at(Status.WORSE, "m", True)[1] == "history.html#metric-m"
     assert st.look_at(Status.STALE, "m", True)[1] == "index.html#prov-h"
@@ -131,15 +158,30 @@ def test_look_at_points_to_the_page_that_answers():
 def test_the_status_module_loads_nothing_heavy():
     import subprocess
 
-    code = ("import sys, steadyline.status, steadyline.site.index; "
-            "print(sorted(m for m in ('pandas', 'scipy', 'steadyline.stats', 'steadyline.charts')"
-            " if m in sys.modules))")
+    code = (
+        "import sys, steadyline.status, steadyline.site.index; "
+        "print(sorted(m for m in ('pandas', 'scipy', 'steadyline.stats', 'steadyline.charts')"
+        " if m in sys.modules))"
+    )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
 
 
-@pytest.mark.parametrize("text", ["plain", "=SUM(A1)", "+1", "-2.5", "@x", "a,b", 'say "hi"',
-                                  "two\nlines", "-", "Mateo Fernández"])
+@pytest.mark.parametrize(
+    "text",
+    [
+        "plain",
+        "=SUM(A1)",
+        "+1",
+        "-2.5",
+        "@x",
+        "a,b",
+        'say "hi"',
+        "two\nlines",
+        "-",
+        "Mateo Fernández",
+    ],
+)
 def test_index_csv_cells_agree_with_the_chart_downloads(text):
     from steadyline.site.cards import _csv_field, safe_cell
     from steadyline.site.index import csv_text

@@ -44,9 +44,12 @@ def _text(site: Path, slug: str, page: str, mid: str | None = None) -> str:
     """A page's text, or the text of one metric's section of it."""
     s = (site / "projects" / slug / page).read_text("utf-8")
     if mid is not None:
-        s = s[s.index(f'id="metric-{mid}"'):]
-        s = s[:s.index('<section class="metric"', 1) if '<section class="metric"' in s[1:]
-              else len(s)]
+        s = s[s.index(f'id="metric-{mid}"') :]
+        s = s[
+            : s.index('<section class="metric"', 1)
+            if '<section class="metric"' in s[1:]
+            else len(s)
+        ]
     s = re.sub(r"<script.*?</script>", " ", s, flags=re.S)
     return re.sub(r"\s+", " ", html.unescape(re.sub(r"<[^>]+>", " ", s)))
 
@@ -71,10 +74,13 @@ def _in(dates: pd.Series, period) -> pd.Series:
 # ----------------------------------------------------------------------------- change in mix
 
 
-@pytest.mark.parametrize("slug,mid,file,time,cat", [
-    ("paint-finish-defects", "defect-types", "paint_defects.csv", "found", "defect_type"),
-    ("customer-returns", "return-reasons", "returns.csv", "received", "reason"),
-])
+@pytest.mark.parametrize(
+    "slug,mid,file,time,cat",
+    [
+        ("paint-finish-defects", "defect-types", "paint_defects.csv", "found", "defect_type"),
+        ("customer-returns", "return-reasons", "returns.csv", "received", "reason"),
+    ],
+)
 def test_change_in_mix_is_scipys_chi_square(demo_site, slug, mid, file, time, cat):
     _, b, a = _periods(slug, mid)
     rows = pd.read_csv(DEMO / slug / file)
@@ -82,8 +88,12 @@ def test_change_in_mix_is_scipys_chi_square(demo_site, slug, mid, file, time, ca
     after = rows[_in(rows[time], a)][cat].value_counts()
     mix = _metric(_results(demo_site, slug), mid, "history")["mix_change"]
     assert mix["merged"] == [] and mix["expected_rule_met"]
-    table = np.array([[before.get(c, 0) for c in mix["categories"]],
-                      [after.get(c, 0) for c in mix["categories"]]])
+    table = np.array(
+        [
+            [before.get(c, 0) for c in mix["categories"]],
+            [after.get(c, 0) for c in mix["categories"]],
+        ]
+    )
     assert sorted(mix["categories"]) == sorted(set(before.index) | set(after.index))
     chi2, p, df, expected = st.chi2_contingency(table, correction=False)
     assert mix["test"] == "Pearson's chi-square test of homogeneity"
@@ -94,11 +104,15 @@ def test_change_in_mix_is_scipys_chi_square(demo_site, slug, mid, file, time, ca
     assert mix["shares_changed"] == (p < 0.05)
     text = _text(demo_site, slug, "history.html", mid)
     p_text = "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
-    assert ("The shares of the categories changed between the baseline and the after period "
-            f"(Pearson's chi-square test of homogeneity, {p_text}).") in text
+    assert (
+        "The shares of the categories changed between the baseline and the after period "
+        f"(Pearson's chi-square test of homogeneity, {p_text})."
+    ) in text
     assert f"chi-square {chi2:.2f} on {df} degrees of freedom" in text
-    assert ("met by every category as counted every expected count at least 1 and at most 20% "
-            "of them below 5 (Cochran 1954, common practice)") in text
+    assert (
+        "met by every category as counted every expected count at least 1 and at most 20% "
+        "of them below 5 (Cochran 1954, common practice)"
+    ) in text
 
 
 def _categories_site(tmp_path: Path, before: dict, after: dict) -> Path:
@@ -106,12 +120,16 @@ def _categories_site(tmp_path: Path, before: dict, after: dict) -> Path:
     for day, counts in (("2026-01-10", before), ("2026-03-10", after)):
         for c, n in counts.items():
             rows += [f"{day},{c}"] * n
-    projects = write(tmp_path / "projects", {
-        "p/project.toml": meta(metric={"type": "categories", "value": None,
-                                       "category": "reason", "time": "day"},
-                               comparison="baseline = [2026-01-01, 2026-01-31]\n"
-                                          "after = [2026-03-01, 2026-03-31]"),
-        "p/data.csv": "\n".join(rows) + "\n"})
+    projects = write(
+        tmp_path / "projects",
+        {
+            "p/project.toml": meta(
+                metric={"type": "categories", "value": None, "category": "reason", "time": "day"},
+                comparison="baseline = [2026-01-01, 2026-01-31]\nafter = [2026-03-01, 2026-03-31]",
+            ),
+            "p/data.csv": "\n".join(rows) + "\n",
+        },
+    )
     report = build(BuildOptions(projects, tmp_path / "site", force=True, jobs=1))
     assert report.ok
     return tmp_path / "site"
@@ -139,22 +157,28 @@ def test_too_few_counts_for_chi_square_use_fishers_exact_test(tmp_path):
     site = _categories_site(tmp_path, {"a": 6, "b": 1}, {"a": 1, "b": 5})
     mix = _metric(_results(site, "p"), "m", "history")["mix_change"]
     table = np.array([[6, 1], [1, 5]])
-    res = st.fisher_exact(table[:, [mix["categories"].index("a"),
-                                    mix["categories"].index("b")]])
+    res = st.fisher_exact(table[:, [mix["categories"].index("a"), mix["categories"].index("b")]])
     assert mix["test"] == "Fisher's exact test" and mix["statistic"] is None
     assert mix["p_value"] == pytest.approx(res.pvalue, rel=1e-9)
     text = _text(site, "p", "history.html")
-    assert "not met even with the categories merged into two groups: Fisher's exact test is " \
-           "used instead" in text
+    assert (
+        "not met even with the categories merged into two groups: Fisher's exact test is "
+        "used instead" in text
+    )
     assert f"(Fisher's exact test, p = {res.pvalue:.3f})" in text
 
 
 # ----------------------------------------------------------------------------- capability
 
 
-@pytest.mark.parametrize("slug,mid", [("spoke-tension", "tension"),
-                                      ("hub-bearing-press-fit", "press-fit-force"),
-                                      ("wheel-build-lead-time", "lead-time-order")])
+@pytest.mark.parametrize(
+    "slug,mid",
+    [
+        ("spoke-tension", "tension"),
+        ("hub-bearing-press-fit", "press-fit-force"),
+        ("wheel-build-lead-time", "lead-time-order"),
+    ],
+)
 def test_capability_change_is_bissells_z_test(demo_site, slug, mid):
     h = _metric(_results(demo_site, slug), mid, "history")
     cb, ca = h["capability"]["Baseline"], h["capability"]["After"]
@@ -170,9 +194,11 @@ def test_capability_change_is_bissells_z_test(demo_site, slug, mid):
     assert ch["intervals_overlap"] == overlap and ch["beyond_intervals"] == (not overlap)
     text = _text(demo_site, slug, "history.html", mid)
     i = text.index("Capability, before and after")
-    block = text[i:text.index("Fit to the specification, baseline", i)]
-    assert (f"Cpk rose from {cb['cpk']:.2f} to {ca['cpk']:.2f}" in block
-            or f"Cpk fell from {cb['cpk']:.2f} to {ca['cpk']:.2f}" in block)
+    block = text[i : text.index("Fit to the specification, baseline", i)]
+    assert (
+        f"Cpk rose from {cb['cpk']:.2f} to {ca['cpk']:.2f}" in block
+        or f"Cpk fell from {cb['cpk']:.2f} to {ca['cpk']:.2f}" in block
+    )
     assert ("do not overlap: the change is beyond them" in block) == (not overlap)
     ci = cb["cpk_ci"]
     assert f"{cb['cpk']:.2f} ({ci[0]:.2f} to {ci[1]:.2f})" in block
@@ -187,12 +213,15 @@ def test_dpmo_and_poisson_yield_of_paint_defects(demo_site):
     slug, mid = "paint-finish-defects", "defects-per-frame"
     metric, b, a = _periods(slug, mid)
     # the workbook read by pandas (openpyxl, a test dependency): an outside reader of the file
-    rows = pd.read_excel(DEMO / slug / "paint_batches.xlsx", sheet_name="Batches",
-                         engine="openpyxl")
+    rows = pd.read_excel(
+        DEMO / slug / "paint_batches.xlsx", sheet_name="Batches", engine="openpyxl"
+    )
     doc = _results(demo_site, slug)
     m = metric["opportunities_per_unit"]
-    for period, got in ((b, _metric(doc, mid)["business"]),
-                        (a, _metric(doc, mid, "history")["business"]["After"])):
+    for period, got in (
+        (b, _metric(doc, mid)["business"]),
+        (a, _metric(doc, mid, "history")["business"]["After"]),
+    ):
         sel = rows[_in(rows["painted"], period)]
         d, u = sel["defects"].sum(), sel["frames_painted"].sum()
         assert got["dpu"] == pytest.approx(d / u, rel=1e-9)
@@ -203,10 +232,13 @@ def test_dpmo_and_poisson_yield_of_paint_defects(demo_site):
         assert got["sigma_basis"] == "opportunities" and got["shift_applied"]
     f = _metric(doc, mid)["business"]
     text = _text(demo_site, slug, "index.html")
-    assert (f"{f['dpmo']:,.0f} defects per million opportunities (DPMO), at 24 opportunities "
-            "per unit") in text
-    assert ("with the trade's 1.5-sigma shift for long-run drift (a convention, not a law: "
-            "common practice)") in text
+    assert (
+        f"{f['dpmo']:,.0f} defects per million opportunities (DPMO), at 24 opportunities per unit"
+    ) in text
+    assert (
+        "with the trade's 1.5-sigma shift for long-run drift (a convention, not a law: "
+        "common practice)"
+    ) in text
 
 
 def test_first_pass_yield_of_wheel_truing(demo_site):
@@ -214,8 +246,10 @@ def test_first_pass_yield_of_wheel_truing(demo_site):
     _, b, a = _periods(slug, mid)
     rows = pd.read_csv(DEMO / slug / "truing_weekly.csv")
     doc = _results(demo_site, slug)
-    for period, got in ((b, _metric(doc, mid)["business"]),
-                        (a, _metric(doc, mid, "history")["business"]["After"])):
+    for period, got in (
+        (b, _metric(doc, mid)["business"]),
+        (a, _metric(doc, mid, "history")["business"]["After"]),
+    ):
         sel = rows[_in(rows["week_start"], period)]
         p = sel["wheels_retrued"].sum() / sel["wheels_checked"].sum()
         assert got["first_pass_yield"] == pytest.approx(1 - p, rel=1e-9)
@@ -224,8 +258,9 @@ def test_first_pass_yield_of_wheel_truing(demo_site):
     text = _text(demo_site, slug, "history.html")
     fb = _metric(doc, mid)["business"]
     fa = _metric(doc, mid, "history")["business"]["After"]
-    assert (f"First-pass yield {100 * fb['first_pass_yield']:.2f}% "
-            f"{100 * fa['first_pass_yield']:.2f}%") in text
+    assert (
+        f"First-pass yield {100 * fb['first_pass_yield']:.2f}% {100 * fa['first_pass_yield']:.2f}%"
+    ) in text
 
 
 def test_expected_yield_of_measured_values_is_the_normal_models(demo_site):
@@ -234,27 +269,44 @@ def test_expected_yield_of_measured_values_is_the_normal_models(demo_site):
     h = _metric(doc, mid, "history")
     for phase in ("Baseline", "After"):
         c = h["capability"][phase]
-        outside = (st.norm.cdf(c["lsl"], c["mean"], c["sigma_overall"])
-                   + st.norm.sf(c["usl"], c["mean"], c["sigma_overall"]))
+        outside = st.norm.cdf(c["lsl"], c["mean"], c["sigma_overall"]) + st.norm.sf(
+            c["usl"], c["mean"], c["sigma_overall"]
+        )
         assert h["business"][phase]["yield"] == pytest.approx(1 - outside, rel=1e-9)
     base = h["business"]["Baseline"]
     assert _metric(doc, mid)["business"] == base
     text = _text(demo_site, slug, "index.html")
-    assert (f"Expected yield, inside the specification: {100 * base['yield']:.2f}% (normal "
-            "model, sigma of all values).") in text
+    assert (
+        f"Expected yield, inside the specification: {100 * base['yield']:.2f}% (normal "
+        "model, sigma of all values)."
+    ) in text
 
 
 def test_without_the_portfolio_key_no_sigma_level_is_given(tmp_path):
-    rows = ["date,bad,checked"] + [f"2026-01-{d:02d},{k},200" for d, k in
-                                   zip(range(1, 29), [5, 7, 4, 6, 8, 5, 3, 6, 7, 5, 4, 6, 5, 7,
-                                                      2, 3, 1, 2, 3, 2, 1, 2, 3, 2, 1, 2, 3, 2],
-                                       strict=True)]
-    projects = write(tmp_path / "projects", {
-        "p/project.toml": meta(metric={"type": "defectives", "value": None, "count": "bad",
-                                       "size": "checked", "unit": "parts"},
-                               comparison="baseline = [2026-01-01, 2026-01-14]\n"
-                                          "after = [2026-01-15]"),
-        "p/data.csv": "\n".join(rows) + "\n"})
+    rows = ["date,bad,checked"] + [
+        f"2026-01-{d:02d},{k},200"
+        for d, k in zip(
+            range(1, 29),
+            [5, 7, 4, 6, 8, 5, 3, 6, 7, 5, 4, 6, 5, 7, 2, 3, 1, 2, 3, 2, 1, 2, 3, 2, 1, 2, 3, 2],
+            strict=True,
+        )
+    ]
+    projects = write(
+        tmp_path / "projects",
+        {
+            "p/project.toml": meta(
+                metric={
+                    "type": "defectives",
+                    "value": None,
+                    "count": "bad",
+                    "size": "checked",
+                    "unit": "parts",
+                },
+                comparison="baseline = [2026-01-01, 2026-01-14]\nafter = [2026-01-15]",
+            ),
+            "p/data.csv": "\n".join(rows) + "\n",
+        },
+    )
     assert build(BuildOptions(projects, tmp_path / "site", force=True, jobs=1)).ok
     doc = _results(tmp_path / "site", "p")
     f = _metric(doc, "m")["business"]
@@ -272,8 +324,9 @@ def test_without_the_portfolio_key_no_sigma_level_is_given(tmp_path):
 def test_after_sample_of_measured_values_is_statsmodels_t_test_power(demo_site):
     slug, mid = "frame-dropout-alignment", "dropout-offset"
     metric, b, _ = _periods(slug, mid)
-    rows = pd.read_csv(DEMO / slug / "supplier_alignment_export.csv", sep=";", decimal=",",
-                       encoding="utf-8-sig")
+    rows = pd.read_csv(
+        DEMO / slug / "supplier_alignment_export.csv", sep=";", decimal=",", encoding="utf-8-sig"
+    )
     x = rows[_in(rows["measured"], b)]["dropout_offset_mm"].to_numpy(float)
     plan = _metric(_results(demo_site, slug), mid)["after_sample_plan"]
     d = metric["expected_change"] / np.std(x, ddof=1)
@@ -287,8 +340,9 @@ def test_after_sample_of_measured_values_is_statsmodels_t_test_power(demo_site):
     assert plan["points"] == n2 and plan["baseline_size"] == n1
     text = _text(demo_site, slug, "index.html")
     assert f"After sample needed {n2} values, to detect the expected −0.15 mm in the mean (" in text
-    assert (f"two-sample t test, 5% level, 80% power (common practice), {n1} baseline "
-            "values.") in text
+    assert (
+        f"two-sample t test, 5% level, 80% power (common practice), {n1} baseline values."
+    ) in text
 
 
 def test_after_sample_of_a_rolled_up_metric_counts_its_days(demo_site):
@@ -302,8 +356,9 @@ def test_after_sample_of_a_rolled_up_metric_counts_its_days(demo_site):
     d = -12.0 / np.std(base, ddof=1)
 
     def power(n):
-        return TTestIndPower().power(effect_size=d, nobs1=len(base), ratio=n / len(base),
-                                     alpha=0.05)
+        return TTestIndPower().power(
+            effect_size=d, nobs1=len(base), ratio=n / len(base), alpha=0.05
+        )
 
     assert power(plan["points"]) >= 0.8 > power(plan["points"] - 1)
     reached = _metric(doc, mid, "history")["after_sample_power"]
@@ -325,8 +380,7 @@ def test_after_sample_of_defectives_is_statsmodels_two_proportion_power(demo_sit
     plan = _metric(doc, mid)["after_sample_plan"]
 
     def power(n):
-        return power_proportions_2indep(p2 - p1, p1, nobs1=n, ratio=n1 / n,
-                                        alpha=0.05).power
+        return power_proportions_2indep(p2 - p1, p1, nobs1=n, ratio=n1 / n, alpha=0.05).power
 
     n2 = plan["required_size"]
     assert power(n2) >= 0.8 > power(n2 - 1)

@@ -41,9 +41,13 @@ def _entry(doc: dict, mid: str) -> dict:
 def _demo_frame() -> pd.DataFrame:
     with (DEMO / "tension_meter_study.csv").open(encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
-    return pd.DataFrame({"y": [float(r["reading_kgf"]) for r in rows],
-                         "part": [r["spoke"] for r in rows],
-                         "appr": [r["builder"] for r in rows]})
+    return pd.DataFrame(
+        {
+            "y": [float(r["reading_kgf"]) for r in rows],
+            "part": [r["spoke"] for r in rows],
+            "appr": [r["builder"] for r in rows],
+        }
+    )
 
 
 def _statsmodels(df: pd.DataFrame):
@@ -59,15 +63,20 @@ def test_demo_study_figures_equal_statsmodels(demo_site):
     study = _entry(_demo_results(demo_site), STUDY_ID)["study"]
     df = _demo_frame()
     full, additive = _statsmodels(df)
-    names = {"part": "C(part)", "appraiser": "C(appr)", "part × appraiser": "C(part):C(appr)",
-             "repeatability": "Residual"}
+    names = {
+        "part": "C(part)",
+        "appraiser": "C(appr)",
+        "part × appraiser": "C(part):C(appr)",
+        "repeatability": "Residual",
+    }
     rows = {r["source"]: r for r in study["anova"]}
     for source, sm in names.items():
         assert rows[source]["df"] == full.loc[sm, "df"]
         assert rows[source]["sum_of_squares"] == pytest.approx(full.loc[sm, "sum_sq"], rel=1e-8)
     # the interaction is tested against repeatability: statsmodels' F and p of that line
-    assert study["interaction_p_value"] == pytest.approx(full.loc["C(part):C(appr)", "PR(>F)"],
-                                                         rel=1e-6)
+    assert study["interaction_p_value"] == pytest.approx(
+        full.loc["C(part):C(appr)", "PR(>F)"], rel=1e-6
+    )
     assert study["interaction_pooled"] == (full.loc["C(part):C(appr)", "PR(>F)"] > 0.25)
     assert study["interaction_pooled"]  # the demo is made without an interaction
     reduced = {r["source"]: r for r in study["reduced_anova"]}
@@ -89,9 +98,11 @@ def test_demo_study_figures_equal_statsmodels(demo_site):
     assert comp["part-to-part"]["variance"] == pytest.approx(v_p, rel=1e-8)
     ms_sd = math.sqrt(v_rep + v_o)
     assert comp["measurement system"]["study_percent"] == pytest.approx(
-        100 * ms_sd / math.sqrt(total), rel=1e-6)
+        100 * ms_sd / math.sqrt(total), rel=1e-6
+    )
     assert comp["measurement system"]["tolerance_percent"] == pytest.approx(
-        100 * 6 * ms_sd / (130 - 110), rel=1e-6)
+        100 * 6 * ms_sd / (130 - 110), rel=1e-6
+    )
     assert study["distinct_categories"] == math.floor(1.41 * math.sqrt(v_p) / ms_sd)
 
 
@@ -99,8 +110,10 @@ def test_demo_verdict_follows_the_guide_and_is_shown_where_the_metric_is(demo_si
     doc = _demo_results(demo_site)
     entry = _entry(doc, STUDY_ID)
     comp = {c["source"]: c for c in entry["study"]["components"]}
-    shares = [comp["measurement system"]["study_percent"],
-              comp["measurement system"]["tolerance_percent"]]
+    shares = [
+        comp["measurement system"]["study_percent"],
+        comp["measurement system"]["tolerance_percent"],
+    ]
 
     def band(x):  # AIAG MSA 4th ed. (from memory): under 10, 10 to 30, over 30
         return "adequate" if x < 10 else "depends on use" if x <= 30 else "inadequate"
@@ -119,12 +132,15 @@ def test_demo_verdict_follows_the_guide_and_is_shown_where_the_metric_is(demo_si
     assert STUDY_ID not in {h["id"] for h in doc["history"]}
     html = (demo_site / "projects" / "spoke-tension" / "index.html").read_text()
     text = unescape(re.sub(r"<[^>]+>", "", html))
-    assert ("Measurements checked byTension-meter study: may be acceptable, depending on its "
-            "use by the guide (" in text)
+    assert (
+        "Measurements checked byTension-meter study: may be acceptable, depending on its "
+        "use by the guide (" in text
+    )
     assert f"{shares[0]:.1f}% of the study variation, {shares[1]:.1f}% of the tolerance" in text
     assert "decided by your organisation's own procedures" in text  # the usual caution
-    pack = re.sub(r"<[^>]+>", "", (demo_site / "projects" / "spoke-tension" /
-                                   "handover.html").read_text())
+    pack = re.sub(
+        r"<[^>]+>", "", (demo_site / "projects" / "spoke-tension" / "handover.html").read_text()
+    )
     assert "Measurements checked byTension-meter study: may be acceptable" in pack
 
 
@@ -135,8 +151,9 @@ def test_demo_study_in_a_notebook_equals_the_build(demo_site):
     r = analyse_frame(frame, keys)
     built = _entry(_demo_results(demo_site), STUDY_ID)
     # the frame alone knows no metric that names the study
-    assert {k: v for k, v in r.results.items() if k not in ("file", "qualifies")} == \
-        {k: v for k, v in built.items() if k not in ("file", "qualifies")}
+    assert {k: v for k, v in r.results.items() if k not in ("file", "qualifies")} == {
+        k: v for k, v in built.items() if k not in ("file", "qualifies")
+    }
     data = demo_site / "projects" / "spoke-tension" / "data"
     assert set(r.charts) == {"components", "ranges", "measurements"}
     for key, chart in r.charts.items():
@@ -146,13 +163,27 @@ def test_demo_study_in_a_notebook_equals_the_build(demo_site):
 def _study_project(root: Path, cube: np.ndarray, *, limits=(5.0, 60.0)) -> None:
     values, parts, appraisers = long_form(cube)
     text = "part,who,reading\n" + "".join(
-        f"{p},{a},{v:g}\n" for v, p, a in zip(values, parts, appraisers, strict=True))
-    study = {"id": "gauge", "name": "Gauge study", "file": "study.csv",
-             "type": "measurement-study", "part": "part", "appraiser": "who",
-             "value": "reading", "spec_lower": limits[0], "spec_upper": limits[1]}
-    write(root, {"p/project.toml": meta(metric={"measurement_study": "gauge"},
-                                        more_metrics=[study]),
-                 "p/data.csv": good_csv(), "p/study.csv": text})
+        f"{p},{a},{v:g}\n" for v, p, a in zip(values, parts, appraisers, strict=True)
+    )
+    study = {
+        "id": "gauge",
+        "name": "Gauge study",
+        "file": "study.csv",
+        "type": "measurement-study",
+        "part": "part",
+        "appraiser": "who",
+        "value": "reading",
+        "spec_lower": limits[0],
+        "spec_upper": limits[1],
+    }
+    write(
+        root,
+        {
+            "p/project.toml": meta(metric={"measurement_study": "gauge"}, more_metrics=[study]),
+            "p/data.csv": good_csv(),
+            "p/study.csv": text,
+        },
+    )
 
 
 def test_montgomery_worked_example_through_a_build(tmp_path, capsys):
@@ -166,7 +197,8 @@ def test_montgomery_worked_example_through_a_build(tmp_path, capsys):
     # Montgomery §8.7 (from memory): SS 1185.425, 2.617, 27.05, 59.5; pooled; σ²_repeat 0.88,
     # σ²_operator 0.0108, σ²_part 10.25; P/T ≈ 10% for USL 60, LSL 5; ndc 4 (computed)
     assert [r["sum_of_squares"] for r in s["anova"]] == pytest.approx(
-        [1185.425, 2.6167, 27.05, 59.5], abs=5e-4)
+        [1185.425, 2.6167, 27.05, 59.5], abs=5e-4
+    )
     assert s["interaction_pooled"]
     comp = {c["source"]: c for c in s["components"]}
     assert comp["repeatability"]["variance"] == pytest.approx(0.88, abs=0.005)
@@ -186,21 +218,32 @@ def test_montgomery_worked_example_through_a_build(tmp_path, capsys):
         assert rng["lower"] == 0
         assert rng["beyond"] == [i for i, x in enumerate(ranges) if x > rng["upper"]]
     html = unescape(re.sub(r"<[^>]+>", "", (out / "projects" / "p" / "index.html").read_text()))
-    assert "It tells the parts apart in 4 distinct categories; the guide asks for at least 5." \
-        in html
+    assert (
+        "It tells the parts apart in 4 distinct categories; the guide asks for at least 5." in html
+    )
 
 
 def _simulated(seed: int, appraiser_sd: float) -> pd.DataFrame:
     rng = np.random.default_rng(seed)
     parts, apprs, trials = 10, 3, 3
-    y = (50 + rng.normal(0, 2.0, (parts, 1, 1)) + rng.normal(0, appraiser_sd, (1, apprs, 1))
-         + rng.normal(0, 0.5, (parts, apprs, trials)))
+    y = (
+        50
+        + rng.normal(0, 2.0, (parts, 1, 1))
+        + rng.normal(0, appraiser_sd, (1, apprs, 1))
+        + rng.normal(0, 0.5, (parts, apprs, trials))
+    )
     rows = [(f"P{i}", f"A{j}", float(y[i, j, k])) for i, j, k in np.ndindex(*y.shape)]
     return pd.DataFrame(rows, columns=["part", "who", "reading"])
 
 
-KEYS = {"id": "g", "name": "G", "type": "measurement-study", "part": "part",
-        "appraiser": "who", "value": "reading"}
+KEYS = {
+    "id": "g",
+    "name": "G",
+    "type": "measurement-study",
+    "part": "part",
+    "appraiser": "who",
+    "value": "reading",
+}
 
 
 def _reproducibility(df: pd.DataFrame) -> tuple[float, float]:

@@ -47,30 +47,43 @@ DEMO = REPO / "projects"
 # ignored names
 
 
-@pytest.mark.parametrize("name", [
-    ".#picking_audit.csv",          # Emacs lock (a dangling symlink)
-    "#picking_audit.csv#",          # Emacs auto-save
-    "picking_audit.csv~",           # backup
-    ".picking_audit.csv.swp",       # Vim swap
-    ".picking_audit.csv.swx",
-    "picking_audit.csv.swp",
-    "4913",                         # Vim's "can I write here" test file
-    ".~lock.picking_audit.csv#",    # office lock
-    "~$returns.xlsx",               # office lock
-    "returns.csv.tmp",
-    "returns.csv.part",
-    ".goutputstream-ABC123",        # an atomic save's temporary file
-    ".hidden.csv",
-    "",
-])
+@pytest.mark.parametrize(
+    "name",
+    [
+        ".#picking_audit.csv",  # Emacs lock (a dangling symlink)
+        "#picking_audit.csv#",  # Emacs auto-save
+        "picking_audit.csv~",  # backup
+        ".picking_audit.csv.swp",  # Vim swap
+        ".picking_audit.csv.swx",
+        "picking_audit.csv.swp",
+        "4913",  # Vim's "can I write here" test file
+        ".~lock.picking_audit.csv#",  # office lock
+        "~$returns.xlsx",  # office lock
+        "returns.csv.tmp",
+        "returns.csv.part",
+        ".goutputstream-ABC123",  # an atomic save's temporary file
+        ".hidden.csv",
+        "",
+    ],
+)
 def test_editor_temporary_files_are_ignored(name):
     assert is_ignored(name)
 
 
-@pytest.mark.parametrize("name", [
-    "picking_audit.csv", "project.toml", "notes.md", "returns_weekly.csv", "portfolio.toml",
-    "data.2026.csv", "a#b.csv", "x~y.csv", "swp.csv",
-])
+@pytest.mark.parametrize(
+    "name",
+    [
+        "picking_audit.csv",
+        "project.toml",
+        "notes.md",
+        "returns_weekly.csv",
+        "portfolio.toml",
+        "data.2026.csv",
+        "a#b.csv",
+        "x~y.csv",
+        "swp.csv",
+    ],
+)
 def test_real_input_files_are_not_ignored(name):
     assert not is_ignored(name)
 
@@ -81,13 +94,17 @@ def test_real_input_files_are_not_ignored(name):
 
 def test_slug_is_first_component_under_the_portfolio(tmp_path):
     root = tmp_path / "projects"
-    paths = [root / "spoke-tension" / "tension.csv",
-             root / "customer-returns" / "data" / "2026" / "returns.csv",  # nested
-             root / "spoke-tension" / "project.toml"]
+    paths = [
+        root / "spoke-tension" / "tension.csv",
+        root / "customer-returns" / "data" / "2026" / "returns.csv",  # nested
+        root / "spoke-tension" / "project.toml",
+    ]
     assert changed_slugs(paths, root) == {"spoke-tension", "customer-returns"}
     # str paths and relative paths are the same thing
-    assert changed_slugs([str(p) for p in paths], str(root)) == {"spoke-tension",
-                                                               "customer-returns"}
+    assert changed_slugs([str(p) for p in paths], str(root)) == {
+        "spoke-tension",
+        "customer-returns",
+    }
     rel_root = os.path.relpath(root)
     assert changed_slugs([os.path.join(rel_root, "a", "x.csv")], root) == {"a"}
 
@@ -105,12 +122,12 @@ def test_noise_maps_to_no_project(tmp_path):
         root / "spoke-tension" / ".tension.csv.swp",
         root / "spoke-tension" / "tension.csv~",
         root / "spoke-tension" / ".#tension.csv",
-        root / "spoke-tension" / ".git" / "index",       # hidden folder inside a project
-        root / ".git" / "HEAD",                          # hidden folder at the top
-        root / "_drafts" / "idea.csv",                   # "_" folders are not projects
-        root,                                            # the portfolio folder itself
-        tmp_path / "site" / "index.html",                # outside the portfolio
-        tmp_path / "projects-old" / "a" / "x.csv",       # a sibling sharing the prefix
+        root / "spoke-tension" / ".git" / "index",  # hidden folder inside a project
+        root / ".git" / "HEAD",  # hidden folder at the top
+        root / "_drafts" / "idea.csv",  # "_" folders are not projects
+        root,  # the portfolio folder itself
+        tmp_path / "site" / "index.html",  # outside the portfolio
+        tmp_path / "projects-old" / "a" / "x.csv",  # a sibling sharing the prefix
     ]
     assert changed_slugs(noise, root) == set()
     for p in noise:
@@ -133,8 +150,9 @@ def test_top_level_names_are_kept_only_when_they_are_or_were_projects(tmp_path):
     (root / "live").mkdir(parents=True)
     (root / "README.txt").write_text("loose file")
     (out / "projects" / "deleted").mkdir(parents=True)
-    slugs = changed_slugs([root / "live", root / "README.txt", root / "deleted",
-                           root / "never-existed"], root)
+    slugs = changed_slugs(
+        [root / "live", root / "README.txt", root / "deleted", root / "never-existed"], root
+    )
     assert slugs == {"live", "README.txt", "deleted", "never-existed"}
     assert known_slugs(slugs, root, out) == {"live", "deleted"}
 
@@ -170,7 +188,7 @@ def test_debouncer_quiet_period_restarts_with_each_event():
     d = Debouncer(0.3, 3.0)
     d.add(["a"], 0.0)
     d.add(["b"], 0.25)
-    assert d.take(0.3) is None        # 0.3 after the first, but only 0.05 after the last
+    assert d.take(0.3) is None  # 0.3 after the first, but only 0.05 after the last
     assert d.due_in(0.3) == pytest.approx(0.25)
     assert d.take(0.55) == {"a", "b"}
 
@@ -221,24 +239,35 @@ class FakeReport:
 
 
 def test_problem_lines_are_sorted_unique_and_filtered():
-    ps = [Problem("b/x.csv", 9, "column 'v'", "'q' is not a number"),
-          Problem("a/x.csv", 3, "", "bad"),
-          Problem("a/x.csv", 3, "", "bad"),
-          Problem("portfolio.toml", 2, "bins", "unknown rule", "warning")]
-    assert problem_lines(ps) == ["a/x.csv:3: bad", "b/x.csv:9: column 'v': 'q' is not a number",
-                                 "portfolio.toml:2: warning: bins: unknown rule"]
+    ps = [
+        Problem("b/x.csv", 9, "column 'v'", "'q' is not a number"),
+        Problem("a/x.csv", 3, "", "bad"),
+        Problem("a/x.csv", 3, "", "bad"),
+        Problem("portfolio.toml", 2, "bins", "unknown rule", "warning"),
+    ]
+    assert problem_lines(ps) == [
+        "a/x.csv:3: bad",
+        "b/x.csv:9: column 'v': 'q' is not a number",
+        "portfolio.toml:2: warning: bins: unknown rule",
+    ]
     assert problem_lines(ps, {"b"}) == ["b/x.csv:9: column 'v': 'q' is not a number"]
 
 
 def test_rebuild_line():
     ok = FakeReport(built=["spoke-tension"], reused=["customer-returns"])
     assert rebuild_line(ok, {"spoke-tension"}, 0.4213) == "rebuilt spoke-tension in 0.42 s"
-    broken = FakeReport(broken=["spoke-tension"], reused=["customer-returns"],
-                        problems=[Problem("spoke-tension/t.csv", 4, "", "x"),
-                                  Problem("spoke-tension/t.csv", 5, "", "y"),
-                                  Problem("spoke-tension/t.csv", 6, "", "z", "warning")])
+    broken = FakeReport(
+        broken=["spoke-tension"],
+        reused=["customer-returns"],
+        problems=[
+            Problem("spoke-tension/t.csv", 4, "", "x"),
+            Problem("spoke-tension/t.csv", 5, "", "y"),
+            Problem("spoke-tension/t.csv", 6, "", "z", "warning"),
+        ],
+    )
     assert rebuild_line(broken, {"spoke-tension"}, 0.1) == (
-        "rebuilt spoke-tension in 0.10 s - spoke-tension: 2 errors, shown on its page")
+        "rebuilt spoke-tension in 0.10 s - spoke-tension: 2 errors, shown on its page"
+    )
     gone = FakeReport(reused=["customer-returns"])
     assert rebuild_line(gone, {"spoke-tension"}, 0.05) == "removed spoke-tension in 0.05 s"
     assert rebuild_line(FakeReport(reused=["a"]), None, 0.05) == "no change (in 0.05 s)"
@@ -294,8 +323,11 @@ def test_server_port_in_use_is_a_clear_error(tmp_path):
 
 
 def _tree_hashes(root: Path, skip: set[Path]) -> dict[str, str]:
-    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(root.rglob("*")) if p.is_file() and p not in skip}
+    return {
+        p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(root.rglob("*"))
+        if p.is_file() and p not in skip
+    }
 
 
 class Proc:
@@ -304,11 +336,18 @@ class Proc:
     def __init__(self, args: list[str], cwd: Path):
         env = dict(os.environ)
         env["PYTHONPATH"] = os.pathsep.join(
-            [str(REPO / "src")] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
+            [str(REPO / "src")] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else [])
+        )
         env.pop("CI", None)
-        self.p = subprocess.Popen([sys.executable, "-m", "steadyline", "watch", *args],
-                                  cwd=cwd, env=env, stdin=subprocess.DEVNULL,
-                                  stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+        self.p = subprocess.Popen(
+            [sys.executable, "-m", "steadyline", "watch", *args],
+            cwd=cwd,
+            env=env,
+            stdin=subprocess.DEVNULL,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
         self.lines: list[str] = []
         self._lock = threading.Lock()
         self._t = threading.Thread(target=self._read, daemon=True)
@@ -429,8 +468,9 @@ def test_watch_rebuilds_on_save_shows_errors_recovers_and_stops(tmp_path):
         t_save = time.perf_counter()
         with open(csv, "ab") as fh:
             fh.write(b"2026-11-23,512,6\n")
-        page1 = _wait_for(lambda: (b := _fetch(base, page)) and b != page0 and b, "the page",
-                          proc=proc)
+        page1 = _wait_for(
+            lambda: (b := _fetch(base, page)) and b != page0 and b, "the page", proc=proc
+        )
         latency = time.perf_counter() - t_save
         print(f"\nsave -> rewritten page: {latency:.2f} s (valid row appended)")
         results1 = json.loads(_fetch(base, f"projects/{SLUG}/results.json"))
@@ -440,8 +480,10 @@ def test_watch_rebuilds_on_save_shows_errors_recovers_and_stops(tmp_path):
         assert all(state1[s] == state0[s] for s in OTHERS)  # the others were reused
         assert all(_fetch(base, f"projects/{s}/index.html") == others0[s] for s in OTHERS)
         index_stat1 = os.stat(out / "index.html")
-        assert (index_stat1.st_ino, index_stat1.st_mtime_ns) != (index_stat0.st_ino,
-                                                                 index_stat0.st_mtime_ns)
+        assert (index_stat1.st_ino, index_stat1.st_mtime_ns) != (
+            index_stat0.st_ino,
+            index_stat0.st_mtime_ns,
+        )
         proc.wait_line(rf"^rebuilt {SLUG} in \d+\.\d\d s$", start=mark)
         assert not any(o in line for line in proc.lines[mark:] for o in OTHERS), proc.text()
         assert b"problem-error" not in page1
@@ -453,8 +495,9 @@ def test_watch_rebuilds_on_save_shows_errors_recovers_and_stops(tmp_path):
         t_save = time.perf_counter()
         csv.write_bytes(broken)
         where = f"{SLUG}/picking_audit.csv:{bad_line}:".encode()
-        page2 = _wait_for(lambda: (b := _fetch(base, page)) and where in b and b, "the error page",
-                          proc=proc)
+        page2 = _wait_for(
+            lambda: (b := _fetch(base, page)) and where in b and b, "the error page", proc=proc
+        )
         print(f"save -> error page: {time.perf_counter() - t_save:.2f} s (broken cell)")
         assert b"six" in page2
         assert b'name="steadyline-live"' in page2  # the error page still reloads itself
@@ -475,8 +518,11 @@ def test_watch_rebuilds_on_save_shows_errors_recovers_and_stops(tmp_path):
         os.replace(tmp, csv)
         # the page and results.json name each file's modification time (provenance), which the
         # fix changed; everything else is as it was before the first edit
-        _wait_for(lambda: _no_times(_fetch(base, page)) == _no_times(page0), "the recovered page",
-                  proc=proc)
+        _wait_for(
+            lambda: _no_times(_fetch(base, page)) == _no_times(page0),
+            "the recovered page",
+            proc=proc,
+        )
         print(f"save -> recovered page: {time.perf_counter() - t_save:.2f} s (atomic save)")
         results3 = _fetch(base, f"projects/{SLUG}/results.json")
         assert _no_times(results3) == _no_times(results0_bytes)

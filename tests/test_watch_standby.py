@@ -19,8 +19,11 @@ SMALL = ("order-picking-errors", "frame-dropout-alignment", "customer-returns")
 
 
 def tree_hashes(root: Path) -> dict[str, str]:
-    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(root.rglob("*")) if p.is_file()}
+    return {
+        p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(root.rglob("*"))
+        if p.is_file()
+    }
 
 
 @pytest.mark.slow  # four builds of two or three projects
@@ -40,8 +43,18 @@ def test_rebuilds_from_a_standby_folder_equal_a_fresh_build(tmp_path: Path):
 
         def rebuild(only: set[str]):
             standby.prepare()
-            return build(BuildOptions(projects, out, live=True, jobs=1, lock=lock, only=only,
-                                      trust_unnamed=True, standby=standby))
+            return build(
+                BuildOptions(
+                    projects,
+                    out,
+                    live=True,
+                    jobs=1,
+                    lock=lock,
+                    only=only,
+                    trust_unnamed=True,
+                    standby=standby,
+                )
+            )
 
         def same_as_fresh(name: str):
             fresh = tmp_path / name

@@ -27,8 +27,9 @@ def _pages(site: Path) -> str:
 
 
 def _specs(site: Path) -> dict[str, dict]:
-    return {p.name: json.loads(p.read_text(encoding="utf-8"))
-            for p in sorted(site.rglob("*.vl.json"))}
+    return {
+        p.name: json.loads(p.read_text(encoding="utf-8")) for p in sorted(site.rglob("*.vl.json"))
+    }
 
 
 # ----------------------------------------------------------------------------- the vocabulary
@@ -59,11 +60,17 @@ def _readme_choices(key: str) -> list[str]:
     return [re.split(r"[\s:(]", w.strip())[0] for w in m.group(1).split("|")]
 
 
-@pytest.mark.parametrize(("key", "enum"), [
-    ("type", vocab.DataType), ("chart", vocab.ChartKind), ("signal_rules", vocab.SignalRules),
-    ("run_rules", vocab.RunRules), ("period", vocab.RollupPeriod),
-    ("statistic", vocab.RollupStatistic),
-])
+@pytest.mark.parametrize(
+    ("key", "enum"),
+    [
+        ("type", vocab.DataType),
+        ("chart", vocab.ChartKind),
+        ("signal_rules", vocab.SignalRules),
+        ("run_rules", vocab.RunRules),
+        ("period", vocab.RollupPeriod),
+        ("statistic", vocab.RollupStatistic),
+    ],
+)
 def test_readme_lists_equal_the_vocabulary(key, enum):
     assert _readme_choices(key) == list(enum.codes())
 
@@ -76,8 +83,10 @@ def test_readme_names_of_rule_sets_chart_kinds_and_periods_are_the_vocabulary():
         if len(cells) == 3 and cells[1].startswith("`"):
             rows.setdefault(cells[0], []).append((cells[1].strip("`"), cells[2]))
     want = {
-        "signal rules": vocab.SignalRules, "run rules": vocab.RunRules,
-        "chart": vocab.ChartKind, "kind of period": vocab.PeriodKind,
+        "signal rules": vocab.SignalRules,
+        "run rules": vocab.RunRules,
+        "chart": vocab.ChartKind,
+        "kind of period": vocab.PeriodKind,
         "type of data": vocab.DataType,
     }
     for what, enum in want.items():
@@ -123,8 +132,9 @@ def test_a_change_of_a_proportion_is_in_percentage_points(demo_site):
     assert re.search(r"baseline median \d+\.\d+% of orders by the Anhøj rules", hist)
     index = (demo_site / "index.html").read_text("utf-8")
     assert "down 3.13 percentage points" in index
-    results = json.loads((demo_site / "projects/order-picking-errors/results.json")
-                         .read_text("utf-8"))
+    results = json.loads(
+        (demo_site / "projects/order-picking-errors/results.json").read_text("utf-8")
+    )
     assert "percentage points" in results["metrics"][0]["comparison"]["sentence"]
 
 
@@ -146,28 +156,35 @@ def test_y_axes_are_the_measure_with_its_unit(demo_site):
     specs = _specs(demo_site)
     titles = {}
     for name, spec in specs.items():
+
         def walk(node, name=name):
             if isinstance(node, dict):
                 for k, v in node.items():
                     if k == "axis" and isinstance(v, dict) and v.get("title"):
                         t = v["title"]
-                        titles.setdefault(name, set()).add(t if isinstance(t, str)
-                                                           else " ".join(t))
+                        titles.setdefault(name, set()).add(t if isinstance(t, str) else " ".join(t))
                     walk(v)
             elif isinstance(node, list):
                 for v in node:
                     walk(v)
+
         walk(spec)
     flat = {t for ts in titles.values() for t in ts}
     # never the chart's name: these were the y-axes of p, Laney p′, np and X-bar charts
-    for old in ("Laney p′ chart", "Proportion defective (p)", "Number defective (np)",
-                "Subgroup mean (X̄), kgf", "Defects per unit (u)"):
+    for old in (
+        "Laney p′ chart",
+        "Proportion defective (p)",
+        "Number defective (np)",
+        "Subgroup mean (X̄), kgf",
+        "Defects per unit (u)",
+    ):
         assert old not in flat
     retrue = titles["retrue-rate-control.vl.json"]
     assert "Wheels needing re-truing (proportion)" in retrue
     tension = titles["tension-control.vl.json"]
-    assert any(t.startswith("Spoke tension") and "subgroup mean" in t and "kgf" in t
-               for t in tension)
+    assert any(
+        t.startswith("Spoke tension") and "subgroup mean" in t and "kgf" in t for t in tension
+    )
     box = titles["press-fit-force-box.vl.json"]
     assert any(t.startswith("Bearing press-fit force") and "kN" in t for t in box)
 
@@ -177,15 +194,18 @@ def test_y_axes_are_the_measure_with_its_unit(demo_site):
 
 def test_every_display_of_a_rolled_up_metric_says_which_values_it_uses(demo_site):
     page = (demo_site / "projects/wheel-build-lead-time/index.html").read_text("utf-8")
-    section = page.split('id="metric-lead-time-daily"', 1)[1].split('id="metric-lead-time-order"', 1)[0]
+    section = page.split('id="metric-lead-time-daily"', 1)[1].split(
+        'id="metric-lead-time-order"', 1
+    )[0]
     assert "Each point is a daily mean" in section  # run and control charts
     assert "Histogram of the baseline, individual values" in section
     assert "Box plot of the baseline, individual values" in section
     assert "individual values before the roll-up, not from the daily means" in section
     specs = _specs(demo_site)
     for chart in ("lead-time-daily-run", "lead-time-daily-control"):
-        assert "Each point is a daily mean" in json.dumps(specs[f"{chart}.vl.json"]["title"],
-                                                          ensure_ascii=False)
+        assert "Each point is a daily mean" in json.dumps(
+            specs[f"{chart}.vl.json"]["title"], ensure_ascii=False
+        )
     for chart in ("lead-time-daily-histogram", "lead-time-daily-box"):
         assert "individual values" in json.dumps(specs[f"{chart}.vl.json"]["title"])
     # the metric that is not rolled up says nothing of the kind

@@ -126,8 +126,13 @@ def phase_names(stage: np.ndarray) -> tuple[str, ...]:
         first_base = int(base[0]) if len(base) else len(stage)
         first_after = int(after[0]) if len(after) else len(stage)
         for i in np.flatnonzero(other).tolist():
-            kind = (PeriodKind.BEFORE if i < first_base and i < first_after
-                    else PeriodKind.LATER if i > first_after else PeriodKind.BETWEEN)
+            kind = (
+                PeriodKind.BEFORE
+                if i < first_base and i < first_after
+                else PeriodKind.LATER
+                if i > first_after
+                else PeriodKind.BETWEEN
+            )
             names[i] = kind.label[:1].upper() + kind.label[1:]
     return tuple(names)
 
@@ -148,8 +153,13 @@ def _control(kind: str, data: MetricData, stage: np.ndarray, limits: str) -> Con
     # spans that gap (the line breaks there and the limits do not use that range either)
     segment = pts["segment"].to_numpy(np.int64) if "segment" in pts else None
     if kind == "xmr":
-        return control.individuals(pts["value"].to_numpy(float), stage=stage, limits=limits,
-                                   segment=segment, set_aside=aside)
+        return control.individuals(
+            pts["value"].to_numpy(float),
+            stage=stage,
+            limits=limits,
+            segment=segment,
+            set_aside=aside,
+        )
     if kind in ("xbar-r", "xbar-s"):
         fn = control.xbar_r if kind == "xbar-r" else control.xbar_s
         return fn(data.subgroups, stage=stage, limits=limits, set_aside=aside)
@@ -177,8 +187,12 @@ def _choose(data: MetricData) -> ChartChoice:
     if data.kind == "subgroups":
         sizes = [len(g) for g in data.subgroups or []]
         return choose_chart("continuous", subgroup_sizes=sizes, override=override)
-    return choose_chart(data.kind, sizes=pts["size"].to_numpy(float),
-                                   counts=pts["count"].to_numpy(float), override=override)
+    return choose_chart(
+        data.kind,
+        sizes=pts["size"].to_numpy(float),
+        counts=pts["count"].to_numpy(float),
+        override=override,
+    )
 
 
 def analyse(data: MetricData) -> MetricAnalysis:
@@ -200,33 +214,45 @@ def analyse(data: MetricData) -> MetricAnalysis:
         res.aside = pts["aside"].to_numpy(bool)
         days = pts["period"].to_numpy().astype("datetime64[D]")
         res.aside_counts = tuple(
-            int(((days >= np.datetime64(e.start, "D")) & (days <= np.datetime64(e.end, "D"))
-                 ).sum()) for e in spec.set_aside)
+            int(((days >= np.datetime64(e.start, "D")) & (days <= np.datetime64(e.end, "D"))).sum())
+            for e in spec.set_aside
+        )
     kept = base if res.aside is None else base & ~res.aside  # the baseline without them
 
     # Run chart: the median of the baseline is the centre line carried over later points; the
     # points set aside are left out of it, as they are of the control limits.
     base_vals = values[kept] if kept.any() else values
-    res.run = _try(res, "run chart", runs.analyse_runs, values, spec.run_rules,
-                   median=float(np.median(base_vals)) if len(base_vals) else None,
-                   set_aside=res.aside)
+    res.run = _try(
+        res,
+        "run chart",
+        runs.analyse_runs,
+        values,
+        spec.run_rules,
+        median=float(np.median(base_vals)) if len(base_vals) else None,
+        set_aside=res.aside,
+    )
 
     # Control chart.
     res.choice = _try(res, "control chart", _choose, data)
     if res.choice is not None:
-        res.control = _try(res, "control chart", _control, res.choice.kind, data, stage,
-                           spec.limits)
+        res.control = _try(
+            res, "control chart", _control, res.choice.kind, data, stage, spec.limits
+        )
         if res.control is not None:
             res.signals = tuple(rules.detect_signals(res.control, spec.signal_rules))
             if res.has_after and int((stage == STAGE_AFTER).sum()) >= AFTER_OWN_LIMITS_MIN:
-                res.after_limits = _try(res, "history", _control, res.choice.kind, data, stage,
-                                        "per-phase")
+                res.after_limits = _try(
+                    res, "history", _control, res.choice.kind, data, stage, "per-phase"
+                )
                 if res.after_limits is not None:
-                    res.after_signals = _try(res, "history", _after_signals, res.after_limits,
-                                             spec.signal_rules) or ()
+                    res.after_signals = (
+                        _try(res, "history", _after_signals, res.after_limits, spec.signal_rules)
+                        or ()
+                    )
             # also without after data: the history page shows every metric of its project
-            res.evidence = point_evidence(res.control, res.signals, res.after_signals,
-                                          spec.better, spec.target)
+            res.evidence = point_evidence(
+                res.control, res.signals, res.after_signals, spec.better, spec.target
+            )
 
     # Distribution displays on individual values (continuous and subgrouped data).
     if data.values is not None and len(data.values):
@@ -265,12 +291,22 @@ def analyse(data: MetricData) -> MetricAnalysis:
             if st == STAGE_BASELINE and grid is not None and grid == res.histogram.edges:
                 h = res.histogram  # the baseline's own bins serve every phase
             else:
-                h = _try(res, "history", distribution.histogram, sel,
-                         grid if grid is not None else spec.bins)
+                h = _try(
+                    res,
+                    "history",
+                    distribution.histogram,
+                    sel,
+                    grid if grid is not None else spec.bins,
+                )
                 if h is not None and grid is not None and not given:
-                    h = replace(h, rule=res.histogram.rule, rule_label=(
-                        f"{res.histogram.rule_label}, the baseline's bins"
-                        + ("" if grid == res.histogram.edges else ", extended on the same grid")))
+                    h = replace(
+                        h,
+                        rule=res.histogram.rule,
+                        rule_label=(
+                            f"{res.histogram.rule_label}, the baseline's bins"
+                            + ("" if grid == res.histogram.edges else ", extended on the same grid")
+                        ),
+                    )
             if spec.spec_lower is None and spec.spec_upper is None:
                 c = None
             elif st == STAGE_BASELINE:
@@ -284,8 +320,12 @@ def analyse(data: MetricData) -> MetricAnalysis:
     base = kept
     if res.has_after and base.any():
         after = stage == STAGE_AFTER
-        dtype = {"continuous": "continuous", "subgroups": "continuous",
-                 "defectives": "defectives", "defects": "defects"}[data.kind]
+        dtype = {
+            "continuous": "continuous",
+            "subgroups": "continuous",
+            "defectives": "defectives",
+            "defects": "defects",
+        }[data.kind]
         if data.kind == "continuous" and spec.rollup is not None:
             # A rolled-up metric compares its period values, the points its charts judge: the
             # rows of one period share that period's conditions and are not independent, as
@@ -305,22 +345,37 @@ def analyse(data: MetricData) -> MetricAnalysis:
             b_arr, a_arr = pts["count"].to_numpy(float)[base], pts["count"].to_numpy(float)[after]
             bs, as_ = pts["size"].to_numpy(float)[base], pts["size"].to_numpy(float)[after]
             # each phase's totals: all its items checked, or all its area, pooled
-            res.compared = ("items checked, pooled over each phase" if data.kind == "defectives"
-                            else "defects over the area checked, pooled over each phase")
+            res.compared = (
+                "items checked, pooled over each phase"
+                if data.kind == "defectives"
+                else "defects over the area checked, pooled over each phase"
+            )
             res.counted = "periods"  # n of these tests counts the periods pooled
-        res.comparison = _try(res, "comparison", compare, b_arr, a_arr, dtype,
-                              spec.better, baseline_sizes=bs, after_sizes=as_,
-                              target=spec.target, metric=_subject(spec.name, data.kind),
-                              unit=spec.unit)
+        res.comparison = _try(
+            res,
+            "comparison",
+            compare,
+            b_arr,
+            a_arr,
+            dtype,
+            spec.better,
+            baseline_sizes=bs,
+            after_sizes=as_,
+            target=spec.target,
+            metric=_subject(spec.name, data.kind),
+            unit=spec.unit,
+        )
         if res.run is not None:
-            res.after_shift = _try(res, "comparison", runs.shift_against, values[after],
-                                   res.run.median, spec.run_rules)
+            res.after_shift = _try(
+                res, "comparison", runs.shift_against, values[after], res.run.median, spec.run_rules
+            )
     _business(res)
     if len(res.phase_histograms) > 1:
         (_, _, cb), (_, _, ca) = res.phase_histograms[0], res.phase_histograms[-1]
         if cb is not None and ca is not None and cb.cpk is not None and ca.cpk is not None:
-            res.capability_change = _try(res, "capability before and after",
-                                         capability_change, cb, ca)
+            res.capability_change = _try(
+                res, "capability before and after", capability_change, cb, ca
+            )
     if spec.expected_change is not None:
         _after_sample(res)
     return res
@@ -346,10 +401,19 @@ def _business(res: MetricAnalysis) -> None:
             if not sel.any():
                 continue
             d, u = float(counts[sel].sum()), float(sizes[sel].sum())
-            f = _try(res, "business figures", defective_figures, d, u, shift) \
-                if data.kind == "defectives" else \
-                _try(res, "business figures", defect_figures, d, u,
-                     spec.opportunities_per_unit, shift)
+            f = (
+                _try(res, "business figures", defective_figures, d, u, shift)
+                if data.kind == "defectives"
+                else _try(
+                    res,
+                    "business figures",
+                    defect_figures,
+                    d,
+                    u,
+                    spec.opportunities_per_unit,
+                    shift,
+                )
+            )
             if f is not None:
                 res.business.append((STAGE_NAMES[st], f))
     elif res.phase_histograms:
@@ -364,8 +428,12 @@ def _business(res: MetricAnalysis) -> None:
             res.business.append((STAGE_NAMES[STAGE_BASELINE], f))
 
 
-PLAN_KIND = {"continuous": "continuous", "subgroups": "continuous", "defectives": "defectives",
-             "defects": "defects"}
+PLAN_KIND = {
+    "continuous": "continuous",
+    "subgroups": "continuous",
+    "defectives": "defectives",
+    "defects": "defects",
+}
 
 
 def _after_sample(res: MetricAnalysis) -> None:
@@ -408,17 +476,33 @@ def _after_sample(res: MetricAnalysis) -> None:
         what = "proportion" if kind == "defectives" else "rate"
         show = (lambda v: f"{100 * v:.3g}%") if kind == "defectives" else (lambda v: f"{v:.4g}")
         bound = "between 0% and 100%" if kind == "defectives" else "above 0"
-        res.failures.append(("after sample", (
-            f"expected_change ({spec.expected_change:g}) takes the baseline {what} "
-            f"{show(level)} to {show(target)}, which is not {bound}; no after sample is "
-            "planned")))
+        res.failures.append(
+            (
+                "after sample",
+                (
+                    f"expected_change ({spec.expected_change:g}) takes the baseline {what} "
+                    f"{show(level)} to {show(target)}, which is not {bound}; no after sample is "
+                    "planned"
+                ),
+            )
+        )
         return
     res.after_points = int(after.sum())
-    res.after_plan = _try(res, "after sample", after_sample_needed, kind, level, target, n1,
-                          size_per_point=per_point, sd=sd)
+    res.after_plan = _try(
+        res,
+        "after sample",
+        after_sample_needed,
+        kind,
+        level,
+        target,
+        n1,
+        size_per_point=per_point,
+        sd=sd,
+    )
     if res.after_plan is not None and n2 > 0:
-        res.after_power = _try(res, "after sample", power_reached, kind, level, target, n1, n2,
-                               sd=sd)
+        res.after_power = _try(
+            res, "after sample", power_reached, kind, level, target, n1, n2, sd=sd
+        )
 
 
 def points_note(spec: MetricSpec) -> str:
@@ -431,11 +515,17 @@ def points_note(spec: MetricSpec) -> str:
     if spec.type == "defectives" or r.statistic == "proportion":
         what = f"the defective items over the items checked that {r.period}"
     elif spec.type == "defects":
-        what = (f"the defects per unit of area that {r.period}" if r.statistic == "mean"
-                else f"the defects counted that {r.period}")
+        what = (
+            f"the defects per unit of area that {r.period}"
+            if r.statistic == "mean"
+            else f"the defects counted that {r.period}"
+        )
     else:
-        what = (f"the number of rows with a value that {r.period}" if r.statistic == "count"
-                else f"the {r.statistic} of that {r.period}'s values")
+        what = (
+            f"the number of rows with a value that {r.period}"
+            if r.statistic == "count"
+            else f"the {r.statistic} of that {r.period}'s values"
+        )
     return f"Each point is a {one}: {what}, not a single value."
 
 
@@ -446,9 +536,11 @@ def values_note(spec: MetricSpec, n: int) -> str:
     r = spec.rollup
     if r is None:
         return ""
-    return (f"Drawn from the {n} individual values before the roll-up, not from the "
-            f"{period_value(r.period, r.statistic, plural=True)}: the spread of single items, "
-            "which the specification limits apply to.")
+    return (
+        f"Drawn from the {n} individual values before the roll-up, not from the "
+        f"{period_value(r.period, r.statistic, plural=True)}: the spread of single items, "
+        "which the specification limits apply to."
+    )
 
 
 def values_brief(spec: MetricSpec, n: int) -> str:
@@ -457,8 +549,7 @@ def values_brief(spec: MetricSpec, n: int) -> str:
     r = spec.rollup
     if r is None:
         return ""
-    return (f"The {n} individual values, not the "
-            f"{period_value(r.period, r.statistic, plural=True)}.")
+    return f"The {n} individual values, not the {period_value(r.period, r.statistic, plural=True)}."
 
 
 def _subject(name: str, kind: str) -> str:
@@ -486,8 +577,9 @@ def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
     return None if sigma is None else float(sigma)
 
 
-def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
-                normality: NormalityTest | None = None) -> Capability | None:
+def _capability(
+    res: MetricAnalysis, vals: np.ndarray, stage: int, normality: NormalityTest | None = None
+) -> Capability | None:
     """Capability of *vals*; *normality*, when given, is the Anderson–Darling result already
     computed for these same values."""
     spec = res.data.spec
@@ -498,31 +590,50 @@ def _capability(res: MetricAnalysis, vals: np.ndarray, stage: int,
         own = [s for s in res.signals if any(map(here.__getitem__, s.indices))]
         if own:
             stable = False
-            reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} on the control chart "
-                      "in this period")
+            reason = (
+                f"{len(own)} signal{'' if len(own) == 1 else 's'} on the control chart "
+                "in this period"
+            )
     elif chart is not None:
         # a later phase is judged on its own limits (those of the baseline would flag the
         # very change the project made)
         if res.after_limits is None:
             stable = False
-            reason = (f"the phase has too few points for limits of its own "
-                      f"({AFTER_OWN_LIMITS_MIN} are needed), so its stability is not yet judged")
+            reason = (
+                f"the phase has too few points for limits of its own "
+                f"({AFTER_OWN_LIMITS_MIN} are needed), so its stability is not yet judged"
+            )
         else:
             own = res.after_signals
             if own:
                 stable = False
-                reason = (f"{len(own)} signal{'' if len(own) == 1 else 's'} against the phase's "
-                          "own control limits")
+                reason = (
+                    f"{len(own)} signal{'' if len(own) == 1 else 's'} against the phase's "
+                    "own control limits"
+                )
     no_sigma = None
     if res.data.spec.rollup is not None:
-        no_sigma = (f"{values_note(res.data.spec, len(vals))} The control chart judges the "
-                    "period values, so the within-subgroup sigma of single values is not "
-                    "known; only Pp and Ppk (overall sigma) are given.")
+        no_sigma = (
+            f"{values_note(res.data.spec, len(vals))} The control chart judges the "
+            "period values, so the within-subgroup sigma of single values is not "
+            "known; only Pp and Ppk (overall sigma) are given."
+        )
     if normality is None and len(vals) >= distribution.AD_MIN_POINTS:
         normality = _try(res, "capability", distribution.anderson_darling, vals)
-    return _try(res, "capability", capability_of, vals, _sigma_within(res, stage),
-                lsl=spec.spec_lower, usl=spec.spec_upper, target=spec.target, stable=stable,
-                normality=normality, unstable_reason=reason, no_sigma_reason=no_sigma)
+    return _try(
+        res,
+        "capability",
+        capability_of,
+        vals,
+        _sigma_within(res, stage),
+        lsl=spec.spec_lower,
+        usl=spec.spec_upper,
+        target=spec.target,
+        stable=stable,
+        normality=normality,
+        unstable_reason=reason,
+        no_sigma_reason=no_sigma,
+    )
 
 
 def _categories(res: MetricAnalysis) -> None:
@@ -555,14 +666,21 @@ def _categories(res: MetricAnalysis) -> None:
         order = after_order(res.pareto, pareto(cats[after], weights[after]))
         p = _try(res, "history", pareto_in_order, cats[after], weights[after], order)
         if p is not None:
-            res.phase_paretos = [(STAGE_NAMES[STAGE_BASELINE], res.pareto),
-                                 (STAGE_NAMES[STAGE_AFTER], p)]
+            res.phase_paretos = [
+                (STAGE_NAMES[STAGE_BASELINE], res.pareto),
+                (STAGE_NAMES[STAGE_AFTER], p),
+            ]
             # the counts of every category in both periods, in the after period's bar order
             b_tally = dict(zip(res.pareto.categories, res.pareto.counts, strict=True))
             a_tally = dict(zip(p.categories, p.counts, strict=True))
-            res.mix = _try(res, "change in mix", mix_change, order,
-                           [b_tally.get(c, 0.0) for c in order],
-                           [a_tally.get(c, 0.0) for c in order])
+            res.mix = _try(
+                res,
+                "change in mix",
+                mix_change,
+                order,
+                [b_tally.get(c, 0.0) for c in order],
+                [a_tally.get(c, 0.0) for c in order],
+            )
 
 
 def after_order(baseline: Pareto, after: Pareto) -> list[str]:
@@ -595,8 +713,17 @@ def analyse_study(data: StudyData) -> StudyAnalysis:
     tolerance when both are given) and the ranges by appraiser."""
     m = data.spec
     res = StudyAnalysis(m, data)
-    res.study = _try(res, "measurement study", gauge_study, data.values, data.parts,
-                     data.appraisers, lsl=m.spec_lower, usl=m.spec_upper)
-    res.ranges = _try(res, "ranges by appraiser", appraiser_ranges, data.values, data.parts,
-                      data.appraisers)
+    res.study = _try(
+        res,
+        "measurement study",
+        gauge_study,
+        data.values,
+        data.parts,
+        data.appraisers,
+        lsl=m.spec_lower,
+        usl=m.spec_upper,
+    )
+    res.ranges = _try(
+        res, "ranges by appraiser", appraiser_ranges, data.values, data.parts, data.appraisers
+    )
     return res

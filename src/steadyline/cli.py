@@ -35,14 +35,19 @@ def _progress(total: int, enabled: bool):
         return None, lambda slug: None
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
 
-    prog = Progress(TextColumn("building"), BarColumn(), MofNCompleteColumn(),
-                    TextColumn("{task.description}"), transient=True)
+    prog = Progress(
+        TextColumn("building"),
+        BarColumn(),
+        MofNCompleteColumn(),
+        TextColumn("{task.description}"),
+        transient=True,
+    )
     task = prog.add_task("", total=total)
     return prog, lambda slug: prog.update(task, advance=1, description=slug)
 
 
 def _show_progress(args) -> bool:
-    return (not args.quiet and sys.stderr.isatty() and not os.environ.get("CI"))
+    return not args.quiet and sys.stderr.isatty() and not os.environ.get("CI")
 
 
 def cmd_build(args) -> int:
@@ -58,8 +63,9 @@ def cmd_build(args) -> int:
         folders = [f for f in folders if shard_of(f.name, args.shard[1]) == args.shard[0]]
     total = len(folders)
     prog, cb = _progress(total, _show_progress(args))
-    opts = BuildOptions(projects, out, force=args.force, jobs=args.jobs, debug=args.debug,
-                        shard=args.shard)
+    opts = BuildOptions(
+        projects, out, force=args.force, jobs=args.jobs, debug=args.debug, shard=args.shard
+    )
     if prog is not None:
         with prog:
             report = build(opts, cb)
@@ -68,11 +74,16 @@ def cmd_build(args) -> int:
     _print_problems(report.problems)
     if not args.quiet:
         state = "published" if report.written else "unchanged, nothing written"
-        settings = "" if report.ok or report.broken else \
-            f"; {PORTFOLIO_FILE} has errors, its defaults were used"
-        print(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-              f"{len(report.broken)} with errors{settings}; site {state} at {out}",
-              file=sys.stderr)
+        settings = (
+            ""
+            if report.ok or report.broken
+            else f"; {PORTFOLIO_FILE} has errors, its defaults were used"
+        )
+        print(
+            f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+            f"{len(report.broken)} with errors{settings}; site {state} at {out}",
+            file=sys.stderr,
+        )
     if args.strict and any(p.severity == "warning" for p in report.problems):
         return 1
     return 0 if report.ok else 1
@@ -86,8 +97,11 @@ def cmd_check(args) -> int:
     errors = sum(p.severity == "error" for p in problems)
     warnings = len(problems) - errors
     if not args.quiet:
-        print(f"steadyline check: {errors} error{'s' if errors != 1 else ''}, {warnings} "
-              f"warning{'s' if warnings != 1 else ''}", file=sys.stderr)
+        print(
+            f"steadyline check: {errors} error{'s' if errors != 1 else ''}, {warnings} "
+            f"warning{'s' if warnings != 1 else ''}",
+            file=sys.stderr,
+        )
     if errors or (args.strict and warnings):
         return 1
     return 0
@@ -100,10 +114,12 @@ def cmd_merge(args) -> int:
     report = merge([Path(d) for d in args.shard_dirs], out)
     _print_problems(report.problems)
     if not args.quiet:
-        print(f"steadyline: {len(args.shard_dirs)} shards merged: "
-              f"{len(report.built) + len(report.broken)} projects, {len(report.broken)} with "
-              f"errors; site published at {out}",
-              file=sys.stderr)
+        print(
+            f"steadyline: {len(args.shard_dirs)} shards merged: "
+            f"{len(report.built) + len(report.broken)} projects, {len(report.broken)} with "
+            f"errors; site published at {out}",
+            file=sys.stderr,
+        )
     return 0 if report.ok else 1
 
 
@@ -121,20 +137,36 @@ def _shard(text: str) -> tuple[int, int]:
 def cmd_watch(args) -> int:
     from .watch import watch
 
-    return watch(Path(args.projects_dir), Path(args.out), port=args.port, serve=not args.no_serve,
-                 jobs=args.jobs, debug=args.debug, quiet=args.quiet)
+    return watch(
+        Path(args.projects_dir),
+        Path(args.out),
+        port=args.port,
+        serve=not args.no_serve,
+        jobs=args.jobs,
+        debug=args.debug,
+        quiet=args.quiet,
+    )
 
 
 def cmd_start(args) -> int:
     from .start import COLUMN_OPTIONS, start
 
     columns = {k: getattr(args, k) for k in COLUMN_OPTIONS}
-    path, guess, notes = start(Path(args.data), type_=args.type, columns=columns,
-                               owner=args.owner, title=args.title, problem=args.problem)
+    path, guess, notes = start(
+        Path(args.data),
+        type_=args.type,
+        columns=columns,
+        owner=args.owner,
+        title=args.title,
+        problem=args.problem,
+    )
     if not args.quiet:
         cols = ", ".join(f"{k} '{v}'" for k, v in guess.columns.items())
-        print(f"steadyline: wrote {path}: a {guess.type} metric ({cols}); the comments say what "
-              "each guess rests on: check them, then run steadyline check", file=sys.stderr)
+        print(
+            f"steadyline: wrote {path}: a {guess.type} metric ({cols}); the comments say what "
+            "each guess rests on: check them, then run steadyline check",
+            file=sys.stderr,
+        )
     for note in notes:
         print(f"steadyline: note: {note}", file=sys.stderr)
     return 0
@@ -144,28 +176,44 @@ def parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="steadyline",
         description="Build a static site of baseline and before/after displays from project "
-                    "folders of CSV files and a project.toml each.")
+        "folders of CSV files and a project.toml each.",
+    )
     p.add_argument("--version", action="version", version=f"steadyline {__version__}")
     sub = p.add_subparsers(dest="command", required=True)
 
     def common(sp, out=True):
-        sp.add_argument("projects_dir", nargs="?", default="projects",
-                        help="the portfolio folder with one sub-folder per project "
-                             "(default: projects)")
+        sp.add_argument(
+            "projects_dir",
+            nargs="?",
+            default="projects",
+            help="the portfolio folder with one sub-folder per project (default: projects)",
+        )
         if out:
             sp.add_argument("--out", default="site", help="output folder (default: site)")
-            sp.add_argument("--jobs", type=int, default=None,
-                            help="projects built in parallel (default: number of cores)")
+            sp.add_argument(
+                "--jobs",
+                type=int,
+                default=None,
+                help="projects built in parallel (default: number of cores)",
+            )
         sp.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
         sp.add_argument("--quiet", action="store_true", help="print only problems")
 
     b = sub.add_parser("build", help="build the static site")
     common(b)
-    b.add_argument("--force", action="store_true",
-                   help="rebuild every project, even those whose inputs did not change")
+    b.add_argument(
+        "--force",
+        action="store_true",
+        help="rebuild every project, even those whose inputs did not change",
+    )
     b.add_argument("--strict", action="store_true", help="exit 1 on warnings too")
-    b.add_argument("--shard", type=_shard, default=None, metavar="I/N",
-                   help="build only shard I of N of the projects (see merge)")
+    b.add_argument(
+        "--shard",
+        type=_shard,
+        default=None,
+        metavar="I/N",
+        help="build only shard I of N of the projects (see merge)",
+    )
     b.set_defaults(func=cmd_build)
 
     c = sub.add_parser("check", help="validate every project without writing anything")
@@ -180,25 +228,37 @@ def parser() -> argparse.ArgumentParser:
     w.set_defaults(func=cmd_watch)
 
     m = sub.add_parser("merge", help="merge sites built with build --shard into one site")
-    m.add_argument("shard_dirs", nargs="+", metavar="SHARD_DIR",
-                   help="the output folder of each shard's build")
+    m.add_argument(
+        "shard_dirs", nargs="+", metavar="SHARD_DIR", help="the output folder of each shard's build"
+    )
     m.add_argument("--out", default="site", help="output folder (default: site)")
     m.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
     m.add_argument("--quiet", action="store_true", help="print only problems")
     m.set_defaults(func=cmd_merge)
 
-    s = sub.add_parser("start", help="write a commented project.toml for a data file, guessing "
-                       "its columns and data type (never overwrites a file)")
+    s = sub.add_parser(
+        "start",
+        help="write a commented project.toml for a data file, guessing "
+        "its columns and data type (never overwrites a file)",
+    )
     s.add_argument("data", help="the CSV file, in the new project's folder")
-    s.add_argument("--type", default=None, help="the data type instead of the guess: "
-                   "continuous, subgroups, defectives, defects or categories")
+    s.add_argument(
+        "--type",
+        default=None,
+        help="the data type instead of the guess: "
+        "continuous, subgroups, defectives, defects or categories",
+    )
     for col in ("time", "value", "subgroup", "count", "size", "category"):
-        s.add_argument(f"--{col}", default=None, metavar="COLUMN",
-                       help=f"the {col} column instead of the guess")
-    s.add_argument("--owner", default=None, help="who leads the project (default: your user "
-                   "name)")
-    s.add_argument("--title", default=None, help="the project's title (default: from the "
-                   "folder's name)")
+        s.add_argument(
+            f"--{col}",
+            default=None,
+            metavar="COLUMN",
+            help=f"the {col} column instead of the guess",
+        )
+    s.add_argument("--owner", default=None, help="who leads the project (default: your user name)")
+    s.add_argument(
+        "--title", default=None, help="the project's title (default: from the folder's name)"
+    )
     s.add_argument("--problem", default=None, help="the problem statement")
     s.add_argument("--quiet", action="store_true", help="print only problems")
     s.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
@@ -220,8 +280,11 @@ def main(argv: list[str] | None = None) -> int:
         if getattr(args, "debug", False):
             traceback.print_exc()
         else:
-            print(f"steadyline: internal error: {type(e).__name__}: {e} (run with --debug for "
-                  "the traceback)", file=sys.stderr)
+            print(
+                f"steadyline: internal error: {type(e).__name__}: {e} (run with --debug for "
+                "the traceback)",
+                file=sys.stderr,
+            )
         return 2
 
 

@@ -49,7 +49,7 @@ def header_width(fh, codec: str, delim: str) -> int:
         carry = ""
         if chunk and text.endswith('"'):  # whether the last is doubled shows in the next chunk
             kept = text.rstrip('"')
-            text, carry = kept, text[len(kept):]
+            text, carry = kept, text[len(kept) :]
         pos, n = 0, len(text)
         while pos < n:
             q = text.find('"', pos)
@@ -76,8 +76,18 @@ def header_width(fh, codec: str, delim: str) -> int:
 
 
 # Codecs whose text is the bytes themselves when every byte is ASCII.
-_ASCII_SAFE = {"ascii", "latin-1", "iso8859-1", "iso8859-15", "cp1252", "cp1250", "cp1251",
-               "cp1257", "mac-roman", "iso8859-2"}
+_ASCII_SAFE = {
+    "ascii",
+    "latin-1",
+    "iso8859-1",
+    "iso8859-15",
+    "cp1252",
+    "cp1250",
+    "cp1251",
+    "cp1257",
+    "mac-roman",
+    "iso8859-2",
+}
 _ASCII_SPACE_BYTES = b" \t\x0b\x0c\x1c\x1d\x1e\x1f"
 _PIECE = 4 << 20  # the file is checked this many bytes at a time
 
@@ -146,8 +156,9 @@ def _stat(fh) -> tuple[int, int] | None:
     return st.st_size, st.st_mtime_ns
 
 
-def read_needed(fh, codec: str, delim: str, needed: list[str] | None
-                ) -> tuple[list[str], dict[str, pa.ChunkedArray], int] | None:
+def read_needed(
+    fh, codec: str, delim: str, needed: list[str] | None
+) -> tuple[list[str], dict[str, pa.ChunkedArray], int] | None:
     """(header, {name: column as text}, rows) of a plain file open for reading in binary (at
     its start), only the *needed* columns that are in the header read (every column when
     *needed* is None); None for anything else,
@@ -163,7 +174,7 @@ def read_needed(fh, codec: str, delim: str, needed: list[str] | None
     """
     if codec not in ("utf-8", "utf-8-sig") and codec not in _ASCII_SAFE:
         return None
-    if len(delim) != 1 or ord(delim) > 127 or delim in "\r\n\"":
+    if len(delim) != 1 or ord(delim) > 127 or delim in '\r\n"':
         return None
     try:
         before = _stat(fh)
@@ -185,20 +196,31 @@ def read_needed(fh, codec: str, delim: str, needed: list[str] | None
         if not _plain_file(fh, codec):
             return None
         fh.seek(0)
-        wanted = (list(range(len(header))) if needed is None
-                  else [header.index(c) for c in dict.fromkeys(needed) if c in header])
+        wanted = (
+            list(range(len(header)))
+            if needed is None
+            else [header.index(c) for c in dict.fromkeys(needed) if c in header]
+        )
         names = [str(i) for i in range(len(header))]
         table = pacsv.read_csv(
             pa.PythonFile(fh, mode="r"),
             read_options=pacsv.ReadOptions(skip_rows=1, column_names=names),
-            parse_options=pacsv.ParseOptions(delimiter=delim, quote_char=False,
-                                              escape_char=False, newlines_in_values=False,
-                                              ignore_empty_lines=False),
+            parse_options=pacsv.ParseOptions(
+                delimiter=delim,
+                quote_char=False,
+                escape_char=False,
+                newlines_in_values=False,
+                ignore_empty_lines=False,
+            ),
             convert_options=pacsv.ConvertOptions(
                 include_columns=[names[j] for j in wanted],
                 column_types={names[j]: pa.string() for j in wanted},
-                null_values=[], strings_can_be_null=False, quoted_strings_can_be_null=False,
-                check_utf8=False))  # checked above, for the whole file
+                null_values=[],
+                strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
+                check_utf8=False,
+            ),
+        )  # checked above, for the whole file
         after = _stat(fh)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError):
         return None
@@ -215,10 +237,9 @@ def _buffers(arr: pa.Array) -> tuple[np.ndarray, np.ndarray] | None:
         return None
     _, offs, data = arr.buffers()
     kind = np.int64 if pa.types.is_large_string(arr.type) else np.int32
-    offsets = np.frombuffer(offs, dtype=kind)[arr.offset: arr.offset + len(arr) + 1]
-    text = (np.frombuffer(data, dtype=np.uint8) if data is not None
-            else np.zeros(0, dtype=np.uint8))
-    return offsets, text[offsets[0]: offsets[-1]]
+    offsets = np.frombuffer(offs, dtype=kind)[arr.offset : arr.offset + len(arr) + 1]
+    text = np.frombuffer(data, dtype=np.uint8) if data is not None else np.zeros(0, dtype=np.uint8)
+    return offsets, text[offsets[0] : offsets[-1]]
 
 
 _DECIMAL_BYTES = np.zeros(256, dtype=bool)
@@ -246,8 +267,11 @@ def plain_decimals(arr: pa.Array | pa.ChunkedArray) -> np.ndarray | None:
         return None
 
 
-def plain_iso(arr: pa.Array | pa.ChunkedArray, digits: dict[int, list[int]],
-              marks: dict[int, dict[int, bytes]]) -> np.ndarray | None:
+def plain_iso(
+    arr: pa.Array | pa.ChunkedArray,
+    digits: dict[int, list[int]],
+    marks: dict[int, dict[int, bytes]],
+) -> np.ndarray | None:
     """The cells as datetime64[s] when every one is written in the same fixed-width ISO 8601
     form (*digits* and *marks*: per width, the places of digits and of separators), else None:
     ``loading._plain_iso`` on the column's bytes, read in place."""
@@ -257,8 +281,9 @@ def plain_iso(arr: pa.Array | pa.ChunkedArray, digits: dict[int, list[int]],
     return parts[0][1] if len(parts) == 1 else np.concatenate([a for _, a in parts])
 
 
-def _plain_iso_chunk(arr: pa.Array, digits: dict[int, list[int]],
-                     marks: dict[int, dict[int, bytes]]) -> tuple[int, np.ndarray] | None:
+def _plain_iso_chunk(
+    arr: pa.Array, digits: dict[int, list[int]], marks: dict[int, dict[int, bytes]]
+) -> tuple[int, np.ndarray] | None:
     bufs = _buffers(arr)
     if bufs is None or not len(arr):
         return None
@@ -276,8 +301,7 @@ def _plain_iso_chunk(arr: pa.Array, digits: dict[int, list[int]],
         if not np.isin(grid[:, at], np.frombuffer(allowed, dtype=np.uint8)).all():
             return None
     try:
-        return width, np.ascontiguousarray(grid).view(f"S{width}").ravel().astype(
-            "datetime64[s]")
+        return width, np.ascontiguousarray(grid).view(f"S{width}").ravel().astype("datetime64[s]")
     except ValueError:  # an impossible date or time, such as 2026-02-30
         return None
 
@@ -304,5 +328,13 @@ def arrow_of(s: pd.Series) -> pa.ChunkedArray:
     return s.array.__arrow_array__()  # the ChunkedArray behind the column (no copy)
 
 
-__all__ = ["MAX_COLUMNS", "arrow_of", "cells", "header_width", "is_arrow", "plain_decimals",
-           "plain_iso", "read_needed"]
+__all__ = [
+    "MAX_COLUMNS",
+    "arrow_of",
+    "cells",
+    "header_width",
+    "is_arrow",
+    "plain_decimals",
+    "plain_iso",
+    "read_needed",
+]

@@ -225,8 +225,11 @@ class _Locator:
         """The header's index (0-based), or None when the file has no such header."""
         if table is None:
             return None
-        pattern = re.compile(r"^\s*\[\[\s*" + re.escape(table) + r"\s*\]\]" if index is not None
-                             else r"^\s*\[\s*" + re.escape(table) + r"\s*\]")
+        pattern = re.compile(
+            r"^\s*\[\[\s*" + re.escape(table) + r"\s*\]\]"
+            if index is not None
+            else r"^\s*\[\s*" + re.escape(table) + r"\s*\]"
+        )
         seen = -1
         for i, line in enumerate(self.lines):
             if pattern.match(line):
@@ -258,8 +261,9 @@ class _Locator:
                 return i
         return None
 
-    def entry_line(self, key: str | None, table: str, index: int, sub: str,
-                   entry: int) -> int | None:
+    def entry_line(
+        self, key: str | None, table: str, index: int, sub: str, entry: int
+    ) -> int | None:
         """The line of *key* in the entry-th table of the list *sub* of the index-th
         ``[[table]]``: written ``[[table.sub]]`` (the entry's header, or its key beneath it) or
         inline (``sub = [{...}, ...]``: the line where the entry's brace opens, else the line
@@ -268,9 +272,14 @@ class _Locator:
         if start is None:
             return self.line_of(sub, table, index)
         own = re.compile(r"^\s*\[\[?\s*" + re.escape(table) + r"\.")
-        end = next((i for i in range(start + 1, len(self.lines))
-                    if self._HEADER.match(self.lines[i]) and not own.match(self.lines[i])),
-                   len(self.lines))
+        end = next(
+            (
+                i
+                for i in range(start + 1, len(self.lines))
+                if self._HEADER.match(self.lines[i]) and not own.match(self.lines[i])
+            ),
+            len(self.lines),
+        )
         pat = re.compile(r"^\s*\[\[\s*" + re.escape(f"{table}.{sub}") + r"\s*\]\]")
         heads = [i for i in range(start + 1, end) if pat.match(self.lines[i])]
         if entry < len(heads):
@@ -288,8 +297,13 @@ class _Locator:
         i = self._table_start(table, None)
         return None if i is None else i + 1
 
-    def line_of(self, key: str | None, table: str | None = None, index: int | None = None,
-                sub: str | None = None) -> int | None:
+    def line_of(
+        self,
+        key: str | None,
+        table: str | None = None,
+        index: int | None = None,
+        sub: str | None = None,
+    ) -> int | None:
         top_end = self._end(-1, None)  # top-level keys stand before the first header
         if table is None:
             found = None if key is None else self._find(key, 0, top_end)
@@ -300,8 +314,14 @@ class _Locator:
             if found is None:
                 found = self._find(table, 0, top_end)
             if found is None:
-                found = next((i for i in range(top_end) if re.match(
-                    r"^\s*" + re.escape(table) + r"\s*\.", self.lines[i])), None)
+                found = next(
+                    (
+                        i
+                        for i in range(top_end)
+                        if re.match(r"^\s*" + re.escape(table) + r"\s*\.", self.lines[i])
+                    ),
+                    None,
+                )
             return None if found is None else found + 1
         lo, hi = start, self._end(start, table)
         if sub is not None:
@@ -335,15 +355,20 @@ class _Checker:
     def add(self, where: str, message: str, line: int | None = None, severity: str = "error"):
         self.problems.append(Problem(self.shown, line, where, message, severity))
 
-    def unknown_keys(self, data: dict, allowed: tuple[str, ...], prefix: str, table=None,
-                     index=None, sub=None):
+    def unknown_keys(
+        self, data: dict, allowed: tuple[str, ...], prefix: str, table=None, index=None, sub=None
+    ):
         for key in data:
             if key not in allowed:
                 guess = difflib.get_close_matches(key, allowed, n=1, cutoff=0.6)
-                hint = f"; did you mean '{guess[0]}'?" if guess else \
-                    f"; allowed keys are: {', '.join(allowed)}"
-                self.add(f"{prefix}{key}", f"unknown key{hint}",
-                         self.loc.line_of(key, table, index, sub))
+                hint = (
+                    f"; did you mean '{guess[0]}'?"
+                    if guess
+                    else f"; allowed keys are: {', '.join(allowed)}"
+                )
+                self.add(
+                    f"{prefix}{key}", f"unknown key{hint}", self.loc.line_of(key, table, index, sub)
+                )
 
 
 def is_text_encoding(name: str) -> bool:
@@ -360,8 +385,16 @@ def is_text_encoding(name: str) -> bool:
 
 
 def _type_name(v: Any) -> str:
-    return {str: "text", int: "integer", float: "number", bool: "true/false", list: "list",
-            dict: "table", dt.date: "date", dt.datetime: "date-time"}.get(type(v), type(v).__name__)
+    return {
+        str: "text",
+        int: "integer",
+        float: "number",
+        bool: "true/false",
+        list: "list",
+        dict: "table",
+        dt.date: "date",
+        dt.datetime: "date-time",
+    }.get(type(v), type(v).__name__)
 
 
 def _as_date(v: Any) -> dt.date | None:
@@ -388,12 +421,18 @@ class _Reader:
         return self.ck.loc.line_of(key, self.table, self.index, self.sub)
 
     def _bad(self, key, expected, got):
-        self.ck.add(f"{self.prefix}{key}",
-                    f"expected {expected}, got {_type_name(got)} {got!r}", self._line(key))
+        self.ck.add(
+            f"{self.prefix}{key}",
+            f"expected {expected}, got {_type_name(got)} {got!r}",
+            self._line(key),
+        )
 
     def missing(self, key, what):
-        self.ck.add(f"{self.prefix}{key}", f"required key is missing: {what}",
-                    self.ck.loc.line_of(None, self.table, self.index, self.sub))
+        self.ck.add(
+            f"{self.prefix}{key}",
+            f"required key is missing: {what}",
+            self.ck.loc.line_of(None, self.table, self.index, self.sub),
+        )
 
     def text(self, key, required=False, default=None, what="text"):
         if key not in self.data:
@@ -415,8 +454,11 @@ class _Reader:
         if not isinstance(v, str) or v not in options:
             guess = difflib.get_close_matches(str(v), options, n=1, cutoff=0.5)
             hint = f"; did you mean '{guess[0]}'?" if guess else ""
-            self.ck.add(f"{self.prefix}{key}",
-                        f"expected one of {', '.join(options)}, got {v!r}{hint}", self._line(key))
+            self.ck.add(
+                f"{self.prefix}{key}",
+                f"expected one of {', '.join(options)}, got {v!r}{hint}",
+                self._line(key),
+            )
             return default
         return v
 
@@ -440,8 +482,9 @@ class _Reader:
             self._bad(key, "a whole number", v)
             return None
         if minimum is not None and v < minimum:
-            self.ck.add(f"{self.prefix}{key}", f"must be at least {minimum}, got {v}",
-                        self._line(key))
+            self.ck.add(
+                f"{self.prefix}{key}", f"must be at least {minimum}, got {v}", self._line(key)
+            )
             return None
         return v
 
@@ -473,8 +516,11 @@ class _Reader:
             self._bad(key, "a list [start] or [start, end] of dates like 2026-03-31", v)
             return None
         if len(dates) == 2 and dates[1] < dates[0]:
-            self.ck.add(f"{self.prefix}{key}", f"the end {dates[1]} is before the start "
-                        f"{dates[0]}; write [start, end]", self._line(key))
+            self.ck.add(
+                f"{self.prefix}{key}",
+                f"the end {dates[1]} is before the start {dates[0]}; write [start, end]",
+                self._line(key),
+            )
             return None
         return Period(dates[0], dates[1] if len(dates) == 2 else None)
 
@@ -507,46 +553,84 @@ class Key:
 # them ("allowed keys are: ..."). "project" and "portfolio" are the top levels of the two files.
 KEYS: dict[str, tuple[Key, ...]] = {
     "project": (
-        Key("title", "text", required=True), Key("owner", "text", required=True),
-        Key("phase", "choice", PHASES, required=True), Key("problem", "text", required=True),
-        Key("tags", "text-list"), Key("notes", "text"), Key("safety_related", "boolean"),
-        Key("phase_dates", "table"), Key("comparison", "table"), Key("event", "tables"),
+        Key("title", "text", required=True),
+        Key("owner", "text", required=True),
+        Key("phase", "choice", PHASES, required=True),
+        Key("problem", "text", required=True),
+        Key("tags", "text-list"),
+        Key("notes", "text"),
+        Key("safety_related", "boolean"),
+        Key("phase_dates", "table"),
+        Key("comparison", "table"),
+        Key("event", "tables"),
         Key("metric", "tables", required=True),
     ),
     "phase_dates": tuple(Key(p, "date") for p in PHASES),
     "comparison": (Key("baseline", "period"), Key("after", "period")),
     "event": (Key("date", "date", required=True), Key("label", "text", required=True)),
     "metric": (
-        Key("id", "id", required=True), Key("name", "text", required=True),
-        Key("file", "text", required=True), Key("sheet", "text"),
+        Key("id", "id", required=True),
+        Key("name", "text", required=True),
+        Key("file", "text", required=True),
+        Key("sheet", "text"),
         Key("type", "choice", DATA_TYPES, required=True),
-        Key("time", "text"), Key("value", "text"), Key("subgroup", "text"),
-        Key("subgroup_size", "integer", minimum=1), Key("count", "text"), Key("size", "text"),
-        Key("category", "text"), Key("part", "text"), Key("appraiser", "text"),
+        Key("time", "text"),
+        Key("value", "text"),
+        Key("subgroup", "text"),
+        Key("subgroup_size", "integer", minimum=1),
+        Key("count", "text"),
+        Key("size", "text"),
+        Key("category", "text"),
+        Key("part", "text"),
+        Key("appraiser", "text"),
         Key("unit", "text"),
         # required of every type but a measurement study (checked in _check_metric_shape)
-        Key("better", "choice", BETTER), Key("spec_lower", "number"),
-        Key("spec_upper", "number"), Key("target", "number"), Key("headline", "boolean"),
-        Key("chart", "choice", CHARTS), Key("signal_rules", "choice", SIGNAL_RULES),
-        Key("run_rules", "choice", RUN_RULES), Key("limits", "choice", LIMIT_MODES),
-        Key("quartiles", "choice", QUARTILE_METHODS), Key("bins", "bins", BIN_RULES),
-        Key("normal_curve", "boolean"), Key("opportunities_per_unit", "positive"),
-        Key("expected_change", "number"), Key("baseline", "period"), Key("after", "period"),
-        Key("measurement_study", "id"), Key("rollup", "table"), Key("csv", "table"),
+        Key("better", "choice", BETTER),
+        Key("spec_lower", "number"),
+        Key("spec_upper", "number"),
+        Key("target", "number"),
+        Key("headline", "boolean"),
+        Key("chart", "choice", CHARTS),
+        Key("signal_rules", "choice", SIGNAL_RULES),
+        Key("run_rules", "choice", RUN_RULES),
+        Key("limits", "choice", LIMIT_MODES),
+        Key("quartiles", "choice", QUARTILE_METHODS),
+        Key("bins", "bins", BIN_RULES),
+        Key("normal_curve", "boolean"),
+        Key("opportunities_per_unit", "positive"),
+        Key("expected_change", "number"),
+        Key("baseline", "period"),
+        Key("after", "period"),
+        Key("measurement_study", "id"),
+        Key("rollup", "table"),
+        Key("csv", "table"),
         Key("set_aside", "tables"),
     ),
-    "metric.rollup": (Key("period", "choice", PERIODS, required=True),
-                      Key("statistic", "choice", STATISTICS, required=True)),
-    "metric.set_aside": (Key("dates", "period", required=True),
-                         Key("reason", "text", required=True)),
-    "metric.csv": (Key("delimiter", "char"), Key("decimal", "choice", (".", ",")),
-                   Key("encoding", "text"), Key("date_format", "text"), Key("timezone", "text")),
+    "metric.rollup": (
+        Key("period", "choice", PERIODS, required=True),
+        Key("statistic", "choice", STATISTICS, required=True),
+    ),
+    "metric.set_aside": (
+        Key("dates", "period", required=True),
+        Key("reason", "text", required=True),
+    ),
+    "metric.csv": (
+        Key("delimiter", "char"),
+        Key("decimal", "choice", (".", ",")),
+        Key("encoding", "text"),
+        Key("date_format", "text"),
+        Key("timezone", "text"),
+    ),
     "portfolio": (
-        Key("title", "text"), Key("signal_rules", "choice", SIGNAL_RULES),
-        Key("run_rules", "choice", RUN_RULES), Key("quartiles", "choice", QUARTILE_METHODS),
-        Key("bins", "choice", BIN_RULES), Key("max_file_mb", "positive"),
+        Key("title", "text"),
+        Key("signal_rules", "choice", SIGNAL_RULES),
+        Key("run_rules", "choice", RUN_RULES),
+        Key("quartiles", "choice", QUARTILE_METHODS),
+        Key("bins", "choice", BIN_RULES),
+        Key("max_file_mb", "positive"),
         Key("stale_after_days", "integer", minimum=1),
-        Key("sigma_level", "choice", SIGMA_LEVELS), Key("handover_pack", "boolean"),
+        Key("sigma_level", "choice", SIGMA_LEVELS),
+        Key("handover_pack", "boolean"),
     ),
 }
 
@@ -587,8 +671,18 @@ def _read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Pr
         line = int(m.group(1)) if m else None
         msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", msg)
         col = f" column {m.group(2)}" if m else ""
-        return None, text, [Problem(shown, line, "", f"TOML syntax error at{col}: {msg}; "
-                                    "see the project format in the README")]
+        return (
+            None,
+            text,
+            [
+                Problem(
+                    shown,
+                    line,
+                    "",
+                    f"TOML syntax error at{col}: {msg}; see the project format in the README",
+                )
+            ],
+        )
 
 
 def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
@@ -596,9 +690,20 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
     if not files.exists(path):
         return PortfolioSettings(), []
     if not files.inside(path, root):
-        return PortfolioSettings(), [Problem(PORTFOLIO_FILE, None, "", _outside(
-            PORTFOLIO_FILE, path, "projects folder", _OUTSIDE_PORTFOLIO,
-            "copy the file in instead"))]
+        return PortfolioSettings(), [
+            Problem(
+                PORTFOLIO_FILE,
+                None,
+                "",
+                _outside(
+                    PORTFOLIO_FILE,
+                    path,
+                    "projects folder",
+                    _OUTSIDE_PORTFOLIO,
+                    "copy the file in instead",
+                ),
+            )
+        ]
     data, text, problems = _read_toml(path, root)
     if data is None:
         return PortfolioSettings(), problems
@@ -608,8 +713,12 @@ def load_portfolio(root: Path) -> tuple[PortfolioSettings, list[Problem]]:
     d = PortfolioSettings()
     mb = r.number("max_file_mb")
     if mb is not None and mb <= 0:
-        ck.add("max_file_mb", f"must be a positive number of megabytes, got {mb:g}; the default "
-               f"{d.max_file_mb:g} is used", ck.loc.line_of("max_file_mb"))
+        ck.add(
+            "max_file_mb",
+            f"must be a positive number of megabytes, got {mb:g}; the default "
+            f"{d.max_file_mb:g} is used",
+            ck.loc.line_of("max_file_mb"),
+        )
     settings = PortfolioSettings(
         title=r.text("title", default=d.title),
         signal_rules=r.choice("signal_rules", SIGNAL_RULES, d.signal_rules),
@@ -668,8 +777,9 @@ def _file_fault(path: Path, named: str) -> str | None:
     return None if why is None else f"{named!r} is {why}"
 
 
-def load_project(folder: Path, root: Path | None = None,
-                 settings: PortfolioSettings | None = None) -> tuple[ProjectSpec, list[Problem]]:
+def load_project(
+    folder: Path, root: Path | None = None, settings: PortfolioSettings | None = None
+) -> tuple[ProjectSpec, list[Problem]]:
     """Read and validate one project's metadata.
 
     Returns the model and the warnings; raises ProjectError with every error found.
@@ -677,23 +787,59 @@ def load_project(folder: Path, root: Path | None = None,
     settings = settings or PortfolioSettings()
     root = root or folder.parent
     if not files.inside(folder, root):
-        raise ProjectError([Problem(f"{folder.name}/", None, "", _outside(
-            "the project folder", folder, "projects folder", _OUTSIDE_PORTFOLIO,
-            "move the project in instead"))])
+        raise ProjectError(
+            [
+                Problem(
+                    f"{folder.name}/",
+                    None,
+                    "",
+                    _outside(
+                        "the project folder",
+                        folder,
+                        "projects folder",
+                        _OUTSIDE_PORTFOLIO,
+                        "move the project in instead",
+                    ),
+                )
+            ]
+        )
     try:
         with os.scandir(folder):
             pass
     except OSError as e:  # else every file in it would seem missing
-        raise ProjectError([Problem(rel(folder, root) + "/", None, "",
-                                    f"cannot read the folder: {e.strerror}")]) from None
+        raise ProjectError(
+            [Problem(rel(folder, root) + "/", None, "", f"cannot read the folder: {e.strerror}")]
+        ) from None
     meta = folder / PROJECT_FILE
     if not files.exists(meta):
-        raise ProjectError([Problem(rel(folder, root) + "/", None, "",
-                                    f"no {PROJECT_FILE} in this project folder; add one (see the "
-                                    "project format in the README) or move the folder out")])
+        raise ProjectError(
+            [
+                Problem(
+                    rel(folder, root) + "/",
+                    None,
+                    "",
+                    f"no {PROJECT_FILE} in this project folder; add one (see the "
+                    "project format in the README) or move the folder out",
+                )
+            ]
+        )
     if not files.inside(meta, folder):
-        raise ProjectError([Problem(rel(meta, root), None, "", _outside(
-            PROJECT_FILE, meta, "project folder", _OUTSIDE_PROJECT, "copy the file in instead"))])
+        raise ProjectError(
+            [
+                Problem(
+                    rel(meta, root),
+                    None,
+                    "",
+                    _outside(
+                        PROJECT_FILE,
+                        meta,
+                        "project folder",
+                        _OUTSIDE_PROJECT,
+                        "copy the file in instead",
+                    ),
+                )
+            ]
+        )
     if (why := _fault(meta)) is not None:
         raise ProjectError([Problem(rel(meta, root), None, "", why)])
     data, text, problems = _read_toml(meta, root)
@@ -702,8 +848,11 @@ def load_project(folder: Path, root: Path | None = None,
     ck = _Checker(meta, root, text)
     slug = folder.name
     if not SLUG_RE.match(slug):
-        ck.add("", f"the folder name {slug!r} is not a valid project slug; use lower-case "
-               "letters, digits and hyphens")
+        ck.add(
+            "",
+            f"the folder name {slug!r} is not a valid project slug; use lower-case "
+            "letters, digits and hyphens",
+        )
     ck.unknown_keys(data, PROJECT_KEYS, "")
     r = _Reader(ck, data, "")
     title = r.text("title", required=True, default=slug, what="the project's title")
@@ -722,19 +871,24 @@ def load_project(folder: Path, root: Path | None = None,
     if notes is not None:
         p = folder / notes
         if Path(notes).is_absolute() or not _inside(p, folder):
-            ck.add("notes", f"{notes!r} points outside the project folder; keep notes inside it",
-                   ck.loc.line_of("notes"))
+            ck.add(
+                "notes",
+                f"{notes!r} points outside the project folder; keep notes inside it",
+                ck.loc.line_of("notes"),
+            )
         elif (why := _fault(p)) == "":
             ck.add("notes", f"the notes file {notes!r} does not exist", ck.loc.line_of("notes"))
         elif why is not None:
-            ck.add("notes", _sentence(f"the notes file {notes!r}", why),
-                   ck.loc.line_of("notes"))
+            ck.add("notes", _sentence(f"the notes file {notes!r}", why), ck.loc.line_of("notes"))
         else:
             notes_path = p
     elif files.exists(folder / NOTES_DEFAULT):  # used when present, so it must be readable
         if not _inside(folder / NOTES_DEFAULT, folder):
-            ck.add("notes", f"the notes file {NOTES_DEFAULT!r} points outside the project folder "
-                   "(a link); keep notes inside it")
+            ck.add(
+                "notes",
+                f"the notes file {NOTES_DEFAULT!r} points outside the project folder "
+                "(a link); keep notes inside it",
+            )
         elif (why := _fault(folder / NOTES_DEFAULT)) is not None:
             ck.add("notes", _sentence(f"the notes file {NOTES_DEFAULT!r}", why))
         else:
@@ -753,8 +907,12 @@ def load_project(folder: Path, root: Path | None = None,
                     phase_dates.append((ph, d))
         for (a, da), (b, db) in zip(phase_dates, phase_dates[1:], strict=False):
             if db < da:
-                ck.add(f"phase_dates.{b}", f"{b} starts {db}, before {a} ({da}); phases run "
-                       "define, measure, analyze, improve, control", ck.loc.line_of(b, "phase_dates"))
+                ck.add(
+                    f"phase_dates.{b}",
+                    f"{b} starts {db}, before {a} ({da}); phases run "
+                    "define, measure, analyze, improve, control",
+                    ck.loc.line_of(b, "phase_dates"),
+                )
 
     comp_baseline = comp_after = None
     comp = r.table_("comparison")
@@ -792,15 +950,21 @@ def load_project(folder: Path, root: Path | None = None,
         ck.add("metric", "no [[metric]] table; a project needs at least one metric")
         raw_metrics = []
     elif isinstance(raw_metrics, dict):
-        ck.add("metric", "[metric] is a single table; write [[metric]] (double brackets) before "
-               "each metric", ck.loc.header_line("metric") or ck.loc.line_of("metric"))
+        ck.add(
+            "metric",
+            "[metric] is a single table; write [[metric]] (double brackets) before each metric",
+            ck.loc.header_line("metric") or ck.loc.line_of("metric"),
+        )
         raw_metrics = []
     elif not isinstance(raw_metrics, list) or not all(isinstance(m, dict) for m in raw_metrics):
         r._bad("metric", "[[metric]] tables", raw_metrics)
         raw_metrics = []
     elif not raw_metrics:
-        ck.add("metric", "the list of metrics is empty; a project needs at least one [[metric]] "
-               "table", ck.loc.line_of("metric"))
+        ck.add(
+            "metric",
+            "the list of metrics is empty; a project needs at least one [[metric]] table",
+            ck.loc.line_of("metric"),
+        )
     seen_ids: set[str] = set()
     indexed: list[tuple[int, MetricSpec]] = []
     for i, m in enumerate(raw_metrics):
@@ -808,8 +972,11 @@ def load_project(folder: Path, root: Path | None = None,
         if spec is None:
             continue
         if spec.id in seen_ids:
-            ck.add(f"metric[{i + 1}].id", f"the id {spec.id!r} is used by another metric; ids "
-                   "must be unique in a project", ck.loc.line_of("id", "metric", i))
+            ck.add(
+                f"metric[{i + 1}].id",
+                f"the id {spec.id!r} is used by another metric; ids must be unique in a project",
+                ck.loc.line_of("id", "metric", i),
+            )
             continue
         seen_ids.add(spec.id)
         metrics.append(spec)
@@ -820,20 +987,38 @@ def load_project(folder: Path, root: Path | None = None,
         ck.add("metric.headline", "more than one metric is marked headline = true; mark one")
     # What the project holds but does not use, and could not be read: a warning, never more.
     used = {os.path.normpath(folder / n) for n in (PROJECT_FILE, NOTES_DEFAULT, notes) if n}
-    used |= {os.path.normpath(folder / x["file"]) for x in raw_metrics
-             if isinstance(x.get("file"), str)}
+    used |= {
+        os.path.normpath(folder / x["file"]) for x in raw_metrics if isinstance(x.get("file"), str)
+    }
     for path, why in files.strays(folder, used, root):
-        ck.problems.append(Problem(rel(path, root), None, "", f"{why}; the project does not use "
-                                   "it, so it is left alone", "warning"))
+        ck.problems.append(
+            Problem(
+                rel(path, root),
+                None,
+                "",
+                f"{why}; the project does not use it, so it is left alone",
+                "warning",
+            )
+        )
 
     errors = [p for p in ck.problems if p.severity == "error"]
     if errors:
         raise ProjectError(ck.problems)
     project = ProjectSpec(
-        slug=slug, folder=folder, meta_path=meta, meta_rel=ck.shown, title=title or slug,
-        owner=owner or "", phase=phase or "define", problem=problem or "", tags=tags,
-        notes_path=notes_path, safety_related=safety, phase_dates=tuple(phase_dates),
-        events=tuple(events), metrics=tuple(metrics),
+        slug=slug,
+        folder=folder,
+        meta_path=meta,
+        meta_rel=ck.shown,
+        title=title or slug,
+        owner=owner or "",
+        phase=phase or "define",
+        problem=problem or "",
+        tags=tags,
+        notes_path=notes_path,
+        safety_related=safety,
+        phase_dates=tuple(phase_dates),
+        events=tuple(events),
+        metrics=tuple(metrics),
     )
     return project, [p for p in ck.problems if p.severity != "error"]
 
@@ -847,8 +1032,12 @@ def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
     root = root or folder.parent
     meta = folder / PROJECT_FILE
     try:
-        if (not files.inside(folder, root) or not files.exists(meta)
-                or not files.inside(meta, folder) or _fault(meta) is not None):
+        if (
+            not files.inside(folder, root)
+            or not files.exists(meta)
+            or not files.inside(meta, folder)
+            or _fault(meta) is not None
+        ):
             return {}
         data, _text, _problems = _read_toml(meta, root)
     except Exception:  # best effort while another error is reported: the folder's name then
@@ -865,32 +1054,55 @@ def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
     return out
 
 
-def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: PortfolioSettings,
-            comp_baseline: Period | None, comp_after: Period | None) -> MetricSpec | None:
+def _metric(
+    ck: _Checker,
+    m: dict,
+    i: int,
+    folder: Path,
+    root: Path,
+    settings: PortfolioSettings,
+    comp_baseline: Period | None,
+    comp_after: Period | None,
+) -> MetricSpec | None:
     prefix = f"metric[{i + 1}]."
     before = len(ck.problems)
     ck.unknown_keys(m, METRIC_KEYS, prefix, table="metric", index=i)
     r = _Reader(ck, m, prefix, table="metric", index=i)
     mid = r.text("id", required=True, what="a short id like 'lead-time'")
     if mid is not None and not SLUG_RE.match(mid):
-        ck.add(f"{prefix}id", f"{mid!r} is not a valid id; use lower-case letters, digits and "
-               "hyphens", r._line("id"))
+        ck.add(
+            f"{prefix}id",
+            f"{mid!r} is not a valid id; use lower-case letters, digits and hyphens",
+            r._line("id"),
+        )
     name = r.text("name", required=True, what="the metric's name")
     dtype = r.choice("type", DATA_TYPES, required=True)
     better = r.choice("better", BETTER, required=dtype != STUDY)
     # folder None: the data come from elsewhere (a DataFrame, see metric_from_dict), no file
-    file_ = r.text("file", required=folder is not None,
-                   what="the data file (CSV, .xlsx or .parquet), relative to the project folder")
+    file_ = r.text(
+        "file",
+        required=folder is not None,
+        what="the data file (CSV, .xlsx or .parquet), relative to the project folder",
+    )
     path = None
     if file_ is not None and folder is not None:
         p = folder / file_
         if Path(file_).is_absolute() or not _inside(p, folder):
-            ck.add(f"{prefix}file", f"{file_!r} points outside the project folder; metric files "
-                   "must live inside it", r._line("file"))
+            ck.add(
+                f"{prefix}file",
+                f"{file_!r} points outside the project folder; metric files must live inside it",
+                r._line("file"),
+            )
         elif not files.exists(p):
-            near = difflib.get_close_matches(file_, sorted(
-                x.name for x in folder.iterdir()
-                if x.suffix.lower() in (".csv", ".xlsx", ".parquet")), 1)
+            near = difflib.get_close_matches(
+                file_,
+                sorted(
+                    x.name
+                    for x in folder.iterdir()
+                    if x.suffix.lower() in (".csv", ".xlsx", ".parquet")
+                ),
+                1,
+            )
             hint = f"; did you mean '{near[0]}'?" if near else ""
             ck.add(f"{prefix}file", f"the file {file_!r} does not exist{hint}", r._line("file"))
         elif (why := _file_fault(p, file_)) is not None:
@@ -903,8 +1115,12 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     cols = {k: r.text(k) for k in COLUMN_KEYS}
     study_id = r.text("measurement_study")
     if study_id is not None and not SLUG_RE.match(study_id):
-        ck.add(f"{prefix}measurement_study", f"{study_id!r} is not a metric id; name the id of "
-               "the measurement study metric of this project", r._line("measurement_study"))
+        ck.add(
+            f"{prefix}measurement_study",
+            f"{study_id!r} is not a metric id; name the id of "
+            "the measurement study metric of this project",
+            r._line("measurement_study"),
+        )
         study_id = None
     subgroup_size = r.integer("subgroup_size", minimum=1)
     rollup = None
@@ -923,14 +1139,20 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
         cr = _Reader(ck, ct, prefix + "csv.", table="metric", index=i, sub="csv")
         delim = cr.text("delimiter", default=",")
         if delim is not None and len(delim) != 1:
-            ck.add(f"{prefix}csv.delimiter", f"expected one character, got {delim!r}",
-                   cr._line("delimiter"))
+            ck.add(
+                f"{prefix}csv.delimiter",
+                f"expected one character, got {delim!r}",
+                cr._line("delimiter"),
+            )
             delim = ","
         dec = cr.choice("decimal", (".", ","), default=".")
         enc = cr.text("encoding", default="utf-8")
         if enc is not None and not is_text_encoding(enc):
-            ck.add(f"{prefix}csv.encoding", f"unknown text encoding {enc!r}; try utf-8, utf-16 "
-                   "or latin-1", cr._line("encoding"))
+            ck.add(
+                f"{prefix}csv.encoding",
+                f"unknown text encoding {enc!r}; try utf-8, utf-16 or latin-1",
+                cr._line("encoding"),
+            )
             enc = "utf-8"
         tz = cr.text("timezone")
         if tz is not None:
@@ -939,12 +1161,19 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
 
                 zoneinfo.ZoneInfo(tz)
             except (zoneinfo.ZoneInfoNotFoundError, ValueError):
-                ck.add(f"{prefix}csv.timezone", f"unknown time zone {tz!r}; use a name like "
-                       "'Europe/Berlin' or 'UTC'", cr._line("timezone"))
+                ck.add(
+                    f"{prefix}csv.timezone",
+                    f"unknown time zone {tz!r}; use a name like 'Europe/Berlin' or 'UTC'",
+                    cr._line("timezone"),
+                )
                 tz = None
         if delim == dec:
-            ck.add(f"{prefix}csv", "the delimiter and the decimal mark are the same character; "
-                   "files with decimal commas use delimiter = \";\"", cr._line("decimal"))
+            ck.add(
+                f"{prefix}csv",
+                "the delimiter and the decimal mark are the same character; "
+                'files with decimal commas use delimiter = ";"',
+                cr._line("decimal"),
+            )
         csv = CsvOptions(delim or ",", dec or ".", enc or "utf-8", cr.text("date_format"), tz)
 
     own_baseline, own_after = r.period("baseline"), r.period("after")
@@ -952,9 +1181,11 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
     if "bins" in m:
         v = m["bins"]
         if isinstance(v, list):
-            if len(v) < 2 or not all(isinstance(x, int | float) and not isinstance(x, bool)
-                                     for x in v) or any(b <= a for a, b in zip(v, v[1:],
-                                                                                strict=False)):
+            if (
+                len(v) < 2
+                or not all(isinstance(x, int | float) and not isinstance(x, bool) for x in v)
+                or any(b <= a for a, b in zip(v, v[1:], strict=False))
+            ):
                 r._bad("bins", "a list of at least two increasing numbers", v)
             else:
                 bins = tuple(float(x) for x in v)
@@ -962,25 +1193,36 @@ def _metric(ck: _Checker, m: dict, i: int, folder: Path, root: Path, settings: P
             bins = r.choice("bins", BIN_RULES, settings.bins)
 
     spec = MetricSpec(
-        id=mid or f"metric-{i + 1}", name=name or "",
+        id=mid or f"metric-{i + 1}",
+        name=name or "",
         file=path or (folder / (file_ or "") if folder is not None else ck.path),
         file_rel=rel(folder / (file_ or ""), root) if folder is not None else ck.shown,
         type=dtype or "continuous",
-        better=better or ("" if dtype == STUDY else "lower"), subgroup_size=subgroup_size,
+        better=better or ("" if dtype == STUDY else "lower"),
+        subgroup_size=subgroup_size,
         unit=r.text("unit", default="") or "",
-        spec_lower=r.number("spec_lower"), spec_upper=r.number("spec_upper"),
-        target=r.number("target"), headline=r.boolean("headline"),
+        spec_lower=r.number("spec_lower"),
+        spec_upper=r.number("spec_upper"),
+        target=r.number("target"),
+        headline=r.boolean("headline"),
         chart=r.choice("chart", CHARTS, "auto"),
         signal_rules=r.choice("signal_rules", SIGNAL_RULES, settings.signal_rules),
         run_rules=r.choice("run_rules", RUN_RULES, settings.run_rules),
         limits=r.choice("limits", LIMIT_MODES, "baseline"),
         quartiles=r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
-        bins=bins, normal_curve=r.boolean("normal_curve"),
+        bins=bins,
+        normal_curve=r.boolean("normal_curve"),
         opportunities_per_unit=r.number("opportunities_per_unit"),
-        expected_change=r.number("expected_change"), sigma_level=settings.sigma_level,
-        baseline=own_baseline or comp_baseline, after=own_after or comp_after,
-        rollup=rollup, csv=csv, line=ck.loc.line_of(None, "metric", i), sheet=sheet,
-        measurement_study=study_id, **cols,
+        expected_change=r.number("expected_change"),
+        sigma_level=settings.sigma_level,
+        baseline=own_baseline or comp_baseline,
+        after=own_after or comp_after,
+        rollup=rollup,
+        csv=csv,
+        line=ck.loc.line_of(None, "metric", i),
+        sheet=sheet,
+        measurement_study=study_id,
+        **cols,
     )
     if "set_aside" in m:
         spec = replace(spec, set_aside=_set_aside(ck, m["set_aside"], i, spec))
@@ -1021,12 +1263,20 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
     prefix = f"metric[{i + 1}].set_aside"
     line = ck.loc.entry_line(None, "metric", i, "set_aside", 0)
     if not isinstance(raw, list) or not all(isinstance(e, dict) for e in raw):
-        ck.add(prefix, "expected [[metric.set_aside]] tables, each with dates and reason, got "
-               f"{_type_name(raw)} {raw!r}", line)
+        ck.add(
+            prefix,
+            "expected [[metric.set_aside]] tables, each with dates and reason, got "
+            f"{_type_name(raw)} {raw!r}",
+            line,
+        )
         return ()
     if spec.type == "categories":
-        ck.add(prefix, "a categories metric has no control limits or centre line to set points "
-               "aside from; remove set_aside", line)
+        ck.add(
+            prefix,
+            "a categories metric has no control limits or centre line to set points "
+            "aside from; remove set_aside",
+            line,
+        )
         return ()
     out: list[SetAside] = []
     for j, e in enumerate(raw):
@@ -1035,11 +1285,17 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
         for key in e:
             if key not in SET_ASIDE_KEYS:
                 guess = difflib.get_close_matches(key, SET_ASIDE_KEYS, n=1, cutoff=0.6)
-                hint = f"did you mean '{guess[0]}'?" if guess else "allowed keys are: " + \
-                    ", ".join(SET_ASIDE_KEYS)
+                hint = (
+                    f"did you mean '{guess[0]}'?"
+                    if guess
+                    else "allowed keys are: " + ", ".join(SET_ASIDE_KEYS)
+                )
                 ck.add(f"{where}.{key}", f"unknown key; {hint}", er._line(key))
-        reason = er.text("reason", required=True, what="why these points are set aside: the "
-                         "cause found and removed")
+        reason = er.text(
+            "reason",
+            required=True,
+            what="why these points are set aside: the cause found and removed",
+        )
         if "dates" not in e:
             er.missing("dates", "[day] or [first day, last day] of the points set aside")
             continue
@@ -1049,17 +1305,24 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
         entry = SetAside(p.start, p.end or p.start, reason, where, ck.shown, er._line("dates"))
         b = spec.baseline
         if b is not None and (entry.start < b.start or (b.end is not None and entry.end > b.end)):
-            ck.add(f"{where}.dates", f"{entry.label()} is not inside the baseline period "
-                   f"({b.label()}); only baseline points can be set aside", entry.line)
+            ck.add(
+                f"{where}.dates",
+                f"{entry.label()} is not inside the baseline period "
+                f"({b.label()}); only baseline points can be set aside",
+                entry.line,
+            )
             continue
         out.append(entry)
     out.sort(key=lambda e: (e.start, e.end))
     kept: list[SetAside] = []
     for e in out:
         if kept and e.start <= kept[-1].end:
-            ck.add(f"{e.where}.dates", f"{e.label()} overlaps {kept[-1].where} "
-                   f"({kept[-1].label()}); give each day once: merge them into one range",
-                   e.line)
+            ck.add(
+                f"{e.where}.dates",
+                f"{e.label()} overlaps {kept[-1].where} "
+                f"({kept[-1].label()}); give each day once: merge them into one range",
+                e.line,
+            )
             continue
         kept.append(e)
     b = spec.baseline
@@ -1071,8 +1334,12 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
                 break
             day = max(day, e.end + dt.timedelta(days=1))
         if covered and day > b.end:
-            ck.add(prefix, f"the days set aside cover the whole baseline period ({b.label()}); "
-                   "no point would be left to compute the baseline from", line)
+            ck.add(
+                prefix,
+                f"the days set aside cover the whole baseline period ({b.label()}); "
+                "no point would be left to compute the baseline from",
+                line,
+            )
             return ()
     return tuple(kept)
 
@@ -1081,30 +1348,43 @@ def _set_aside(ck: _Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[SetAsi
 _TEXT_ONLY_KEYS = ("delimiter", "encoding")
 
 
-def _check_format(ck: _Checker, file_: str, sheet: str | None, csv_table, prefix: str,
-                  r: _Reader) -> None:
+def _check_format(
+    ck: _Checker, file_: str, sheet: str | None, csv_table, prefix: str, r: _Reader
+) -> None:
     """What the data file's kind (by its name's ending) allows: `sheet` only for a workbook;
     a spreadsheet of a kind that is not read is named with what to do; the [metric.csv] keys
     of text files do nothing for a workbook or Parquet file (a warning)."""
     kind = formats.data_format(file_)
     other = formats.unread_sheet_kind(file_)
     if other is not None:
-        ck.add(f"{prefix}file", f"{file_!r} is {other}, which is not read; save it as an Excel "
-               "Workbook (.xlsx) or export the data as CSV", r._line("file"))
+        ck.add(
+            f"{prefix}file",
+            f"{file_!r} is {other}, which is not read; save it as an Excel "
+            "Workbook (.xlsx) or export the data as CSV",
+            r._line("file"),
+        )
     if sheet is not None and kind != formats.WORKBOOK:
-        ck.add(f"{prefix}sheet", f"'sheet' names a sheet of a workbook (.xlsx), but {file_!r} "
-               "is not one; remove the key", r._line("sheet"))
+        ck.add(
+            f"{prefix}sheet",
+            f"'sheet' names a sheet of a workbook (.xlsx), but {file_!r} "
+            "is not one; remove the key",
+            r._line("sheet"),
+        )
     if kind != formats.CSV and isinstance(csv_table, dict):
         what = "a workbook" if kind == formats.WORKBOOK else "a Parquet file"
         for key in _TEXT_ONLY_KEYS:
             if key in csv_table:
-                ck.add(f"{prefix}csv.{key}", f"has no effect on {what}: its cells are read as "
-                       "stored; remove the key", ck.loc.line_of(key, "metric", r.index, "csv"),
-                       severity="warning")
+                ck.add(
+                    f"{prefix}csv.{key}",
+                    f"has no effect on {what}: its cells are read as stored; remove the key",
+                    ck.loc.line_of(key, "metric", r.index, "csv"),
+                    severity="warning",
+                )
 
 
-def metric_from_dict(data: dict, settings: PortfolioSettings | None = None,
-                     source: str = "<DataFrame>") -> MetricSpec:
+def metric_from_dict(
+    data: dict, settings: PortfolioSettings | None = None, source: str = "<DataFrame>"
+) -> MetricSpec:
     """One metric's keys, as a ``[[metric]]`` table of project.toml holds them (dates as
     ``datetime.date`` or ISO text), checked by the very rules a project's metrics are, for data
     that come from elsewhere (a DataFrame): ``file`` is not needed (and not read when given).
@@ -1141,8 +1421,12 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
         return
     for key in ("part", "appraiser"):
         if getattr(m, key) is not None:
-            ck.add(f"{prefix}{key}", f"'{key}' names a column of a measurement study (type = "
-                   f"\"{STUDY}\"); a {m.type} metric has none: remove it", r._line(key))
+            ck.add(
+                f"{prefix}{key}",
+                f"'{key}' names a column of a measurement study (type = "
+                f'"{STUDY}"); a {m.type} metric has none: remove it',
+                r._line(key),
+            )
     if m.type != "categories":
         need("time", "the column with the date or time of each row")
     if m.type == "continuous":
@@ -1150,9 +1434,13 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
     elif m.type == "subgroups":
         need("value", "the column with the measured value")
         if (m.subgroup is None) == (m.subgroup_size is None):
-            ck.add(f"{prefix}subgroup", "a subgroups metric needs exactly one of 'subgroup' (the "
-                   "column naming each subgroup) or 'subgroup_size' (a fixed size over "
-                   "consecutive rows)", line)
+            ck.add(
+                f"{prefix}subgroup",
+                "a subgroups metric needs exactly one of 'subgroup' (the "
+                "column naming each subgroup) or 'subgroup_size' (a fixed size over "
+                "consecutive rows)",
+                line,
+            )
     elif m.type == "defectives":
         flags = m.value is not None and m.rollup is not None
         if not flags:
@@ -1164,18 +1452,24 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
         need("category", "the column with each row's category")
     if m.rollup is not None:
         if m.type in ("subgroups", "categories"):
-            ck.add(f"{prefix}rollup", f"a roll-up does not apply to a {m.type} metric; remove it",
-                   line)
+            ck.add(
+                f"{prefix}rollup", f"a roll-up does not apply to a {m.type} metric; remove it", line
+            )
         else:
             fits, what = rollup_statistics(m)
             if m.rollup.statistic not in fits:
                 use = " or ".join(f'"{f}"' for f in fits)
-                ck.add(f"{prefix}rollup.statistic",
-                       f'"{m.rollup.statistic}" does not fit {what}; use statistic = {use}',
-                       ck.loc.line_of("statistic", r.table, r.index, "rollup"))
+                ck.add(
+                    f"{prefix}rollup.statistic",
+                    f'"{m.rollup.statistic}" does not fit {what}; use statistic = {use}',
+                    ck.loc.line_of("statistic", r.table, r.index, "rollup"),
+                )
     if m.spec_lower is not None and m.spec_upper is not None and m.spec_lower >= m.spec_upper:
-        ck.add(f"{prefix}spec_lower", f"spec_lower ({m.spec_lower:g}) must be below spec_upper "
-               f"({m.spec_upper:g})", r._line("spec_lower"))
+        ck.add(
+            f"{prefix}spec_lower",
+            f"spec_lower ({m.spec_lower:g}) must be below spec_upper ({m.spec_upper:g})",
+            r._line("spec_lower"),
+        )
     # A target outside the specification limits is an error: a process run at its target would
     # be out of specification, so the limits or the target are mistyped, and what the pages say
     # about either (capability, closeness to target) could not be true. On a limit is allowed
@@ -1186,26 +1480,56 @@ def _check_metric_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) ->
             if lo is not None and hi is not None:
                 limits = f"outside the specification limits ({_num(lo)} to {_num(hi)})"
             else:
-                limits = f"below spec_lower ({_num(lo)})" if lo is not None else \
-                    f"above spec_upper ({_num(hi)})"
-            ck.add(f"{prefix}target", f"the target {_num(t)} is {limits}; a process on target "
-                   "would be out of specification: check the target and the limits",
-                   r._line("target"))
+                limits = (
+                    f"below spec_lower ({_num(lo)})"
+                    if lo is not None
+                    else f"above spec_upper ({_num(hi)})"
+                )
+            ck.add(
+                f"{prefix}target",
+                f"the target {_num(t)} is {limits}; a process on target "
+                "would be out of specification: check the target and the limits",
+                r._line("target"),
+            )
     _check_business_keys(ck, m, prefix, r)
     if m.better == "target" and m.target is None:
-        ck.add(f"{prefix}target", "better = \"target\" needs a target value", line,
-               severity="warning")
+        ck.add(
+            f"{prefix}target", 'better = "target" needs a target value', line, severity="warning"
+        )
     if m.type not in ("categories", STUDY) and m.baseline is None:
-        ck.add(f"{prefix}baseline", "no baseline period (here or in [comparison]); all the data "
-               "is treated as baseline", line, severity="warning")
+        ck.add(
+            f"{prefix}baseline",
+            "no baseline period (here or in [comparison]); all the data is treated as baseline",
+            line,
+            severity="warning",
+        )
 
 
 # Keys a measurement study has no use for: it has no time axis, no direction of better, no
 # control chart and no periods of its own (the project's [comparison] does not apply to it).
-_NOT_FOR_STUDY = ("time", "subgroup", "subgroup_size", "count", "size", "category", "better",
-                  "target", "chart", "signal_rules", "run_rules", "limits", "quartiles", "bins",
-                  "normal_curve", "baseline", "after", "rollup", "measurement_study",
-                  "opportunities_per_unit", "expected_change")
+_NOT_FOR_STUDY = (
+    "time",
+    "subgroup",
+    "subgroup_size",
+    "count",
+    "size",
+    "category",
+    "better",
+    "target",
+    "chart",
+    "signal_rules",
+    "run_rules",
+    "limits",
+    "quartiles",
+    "bins",
+    "normal_curve",
+    "baseline",
+    "after",
+    "rollup",
+    "measurement_study",
+    "opportunities_per_unit",
+    "expected_change",
+)
 
 
 def _check_study_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader, need) -> None:
@@ -1216,16 +1540,25 @@ def _check_study_shape(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader, nee
     need("appraiser", "the column naming who measured it")
     for key in _NOT_FOR_STUDY:
         if key in r.data:
-            why = ("a study's measurements of one part and appraiser are its trials, in the "
-                   "file's order" if key == "time" else
-                   "a study is named by the process metric it checks, not the other way round"
-                   if key == "measurement_study" else "it has no time axis, control chart or "
-                   "direction of better")
-            ck.add(f"{prefix}{key}", f"'{key}' does not apply to a measurement study ({why}); "
-                   "remove it", r._line(key))
+            why = (
+                "a study's measurements of one part and appraiser are its trials, in the "
+                "file's order"
+                if key == "time"
+                else "a study is named by the process metric it checks, not the other way round"
+                if key == "measurement_study"
+                else "it has no time axis, control chart or direction of better"
+            )
+            ck.add(
+                f"{prefix}{key}",
+                f"'{key}' does not apply to a measurement study ({why}); remove it",
+                r._line(key),
+            )
     if m.spec_lower is not None and m.spec_upper is not None and m.spec_lower >= m.spec_upper:
-        ck.add(f"{prefix}spec_lower", f"spec_lower ({m.spec_lower:g}) must be below spec_upper "
-               f"({m.spec_upper:g})", r._line("spec_lower"))
+        ck.add(
+            f"{prefix}spec_lower",
+            f"spec_lower ({m.spec_lower:g}) must be below spec_upper ({m.spec_upper:g})",
+            r._line("spec_lower"),
+        )
 
 
 def check_study_links(ck: _Checker, indexed: list[tuple[int, MetricSpec]]) -> None:
@@ -1243,24 +1576,39 @@ def check_study_links(ck: _Checker, indexed: list[tuple[int, MetricSpec]]) -> No
         if target is None:
             studies = [x.id for _, x in indexed if x.type == STUDY]
             near = difflib.get_close_matches(sid, studies, n=1, cutoff=0.6)
-            hint = (f"; did you mean '{near[0]}'?" if near else
-                    f"; its studies are: {', '.join(studies)}" if studies else
-                    f"; it has no metric of type \"{STUDY}\"")
-            ck.add(f"metric[{i + 1}].measurement_study",
-                   f"no metric of this project has the id {sid!r}{hint}", line)
+            hint = (
+                f"; did you mean '{near[0]}'?"
+                if near
+                else f"; its studies are: {', '.join(studies)}"
+                if studies
+                else f'; it has no metric of type "{STUDY}"'
+            )
+            ck.add(
+                f"metric[{i + 1}].measurement_study",
+                f"no metric of this project has the id {sid!r}{hint}",
+                line,
+            )
         elif target.type != STUDY:
-            ck.add(f"metric[{i + 1}].measurement_study",
-                   f"{sid!r} is a {target.type} metric, not a measurement study (type = "
-                   f"\"{STUDY}\")", line)
+            ck.add(
+                f"metric[{i + 1}].measurement_study",
+                f'{sid!r} is a {target.type} metric, not a measurement study (type = "{STUDY}")',
+                line,
+            )
     for i, m in indexed:
         if m.type == STUDY and m.headline:
-            ck.add(f"metric[{i + 1}].headline", "a measurement study cannot be the headline "
-                   "metric: the index judges a project by a process metric; mark one of those",
-                   ck.loc.line_of("headline", "metric", i))
+            ck.add(
+                f"metric[{i + 1}].headline",
+                "a measurement study cannot be the headline "
+                "metric: the index judges a project by a process metric; mark one of those",
+                ck.loc.line_of("headline", "metric", i),
+            )
     if indexed and all(m.type == STUDY for _, m in indexed):
-        ck.add("metric", "every metric is a measurement study; a project needs at least one "
-               "process metric for its measurements to qualify and its status to judge",
-               ck.loc.line_of(None, "metric", 0))
+        ck.add(
+            "metric",
+            "every metric is a measurement study; a project needs at least one "
+            "process metric for its measurements to qualify and its status to judge",
+            ck.loc.line_of(None, "metric", 0),
+        )
 
 
 def _check_business_keys(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) -> None:
@@ -1269,30 +1617,49 @@ def _check_business_keys(ck: _Checker, m: MetricSpec, prefix: str, r: _Reader) -
     if opp is not None:
         key, line = f"{prefix}opportunities_per_unit", r._line("opportunities_per_unit")
         if m.type != "defects":
-            ck.add(key, f"applies to defects metrics only (this one is {m.type}); remove it",
-                   line)
+            ck.add(key, f"applies to defects metrics only (this one is {m.type}); remove it", line)
         elif opp <= 0:
-            ck.add(key, f"must be a positive number of places a defect can occur on one "
-                   f"unit, got {_num(opp)}", line)
+            ck.add(
+                key,
+                f"must be a positive number of places a defect can occur on one "
+                f"unit, got {_num(opp)}",
+                line,
+            )
         elif m.size is None:
-            ck.add(key, "needs 'size', the column with the number of units checked, to count "
-                   "the opportunities", line)
+            ck.add(
+                key,
+                "needs 'size', the column with the number of units checked, to count "
+                "the opportunities",
+                line,
+            )
     change = m.expected_change
     if change is not None:
         key, line = f"{prefix}expected_change", r._line("expected_change")
         if m.type == "categories":
-            ck.add(key, "does not apply to a categories metric (no single measure to "
-                   "change); remove it", line)
+            ck.add(
+                key,
+                "does not apply to a categories metric (no single measure to change); remove it",
+                line,
+            )
         elif change == 0:
-            ck.add(key, "must not be zero: it is the change the after sample is sized to "
-                   "detect", line)
+            ck.add(
+                key, "must not be zero: it is the change the after sample is sized to detect", line
+            )
         elif m.type == "defectives" and not -1 < change < 1:
-            ck.add(key, f"a change of a proportion lies between -1 and 1 (write -0.02 for two "
-                   f"percentage points down), got {_num(change)}", line)
+            ck.add(
+                key,
+                f"a change of a proportion lies between -1 and 1 (write -0.02 for two "
+                f"percentage points down), got {_num(change)}",
+                line,
+            )
         elif (m.better, change > 0) in (("lower", True), ("higher", False)):
-            ck.add(key, f"{_num(change)} is a change for the worse (better = \"{m.better}\"); "
-                   "the after sample is sized to detect it all the same", line,
-                   severity="warning")
+            ck.add(
+                key,
+                f'{_num(change)} is a change for the worse (better = "{m.better}"); '
+                "the after sample is sized to detect it all the same",
+                line,
+                severity="warning",
+            )
 
 
 def _num(x: float) -> str:
@@ -1317,17 +1684,24 @@ def rollup_statistics(m: MetricSpec) -> tuple[tuple[str, ...], str]:
       counts over its summed size.
     """
     if m.type == "defectives":
-        src = ("the share of 1s in its 0/1 'value' column" if m.value is not None
-               else "its defective items over the items checked")
+        src = (
+            "the share of 1s in its 0/1 'value' column"
+            if m.value is not None
+            else "its defective items over the items checked"
+        )
         return ("proportion",), (f"a defectives metric: its roll-up plots {src} in each period")
     if m.type == "defects" and m.size is None:
-        return ("sum",), ("a defects metric without a 'size' column: its roll-up adds the "
-                          "defects counted in each period (a mean per row is a rate only with a "
-                          "'size' column, the area of opportunity of each row)")
+        return ("sum",), (
+            "a defects metric without a 'size' column: its roll-up adds the "
+            "defects counted in each period (a mean per row is a rate only with a "
+            "'size' column, the area of opportunity of each row)"
+        )
     if m.type == "defects":
-        return ("mean",), ("a defects metric with a 'size' column: its roll-up plots the "
-                           "defects per unit of 'size' in each period, the summed counts over "
-                           "the summed size")
+        return ("mean",), (
+            "a defects metric with a 'size' column: its roll-up plots the "
+            "defects per unit of 'size' in each period, the summed counts over "
+            "the summed size"
+        )
     return STATISTICS, "a continuous metric"
 
 
@@ -1344,21 +1718,29 @@ def period_clash(baseline: Period, after: Period) -> tuple[str, str] | None:
     """
     label = baseline.label()
     if after.end is not None and after.end < baseline.start:
-        return "after", (f"the after period ({after.label()}) ends before the baseline "
-                         f"({label}) starts; the after period follows the baseline")
+        return "after", (
+            f"the after period ({after.label()}) ends before the baseline "
+            f"({label}) starts; the after period follows the baseline"
+        )
     if after.start <= baseline.start:
         when = "before" if after.start < baseline.start else "on the day"
         fix = f", so start it after {baseline.end}" if baseline.end else ""
-        return "after", (f"the after period starts {after.start}, {when} the baseline ({label}) "
-                         f"starts; the after period follows the baseline{fix}")
+        return "after", (
+            f"the after period starts {after.start}, {when} the baseline ({label}) "
+            f"starts; the after period follows the baseline{fix}"
+        )
     if baseline.end is None:
-        return "baseline", (f"the baseline ({label}) has no end, so it overlaps the after period "
-                            f"({after.label()}); give the baseline an end before {after.start}")
+        return "baseline", (
+            f"the baseline ({label}) has no end, so it overlaps the after period "
+            f"({after.label()}); give the baseline an end before {after.start}"
+        )
     if after.start > baseline.end:
         return None
-    return "after", (f"the after period starts {after.start}, inside the baseline ({label}); a "
-                     f"day belongs to one period only, so start the after period after "
-                     f"{baseline.end}")
+    return "after", (
+        f"the after period starts {after.start}, inside the baseline ({label}); a "
+        f"day belongs to one period only, so start the after period after "
+        f"{baseline.end}"
+    )
 
 
 def discover(root: Path) -> list[Path]:
@@ -1370,8 +1752,11 @@ def discover(root: Path) -> list[Path]:
     """
     if not root.is_dir():
         return []
-    return sorted(p for p in root.iterdir() if p.is_dir() and p.name != PORTFOLIO_FILE
-                  and not p.name.startswith((".", "_")))
+    return sorted(
+        p
+        for p in root.iterdir()
+        if p.is_dir() and p.name != PORTFOLIO_FILE and not p.name.startswith((".", "_"))
+    )
 
 
 def stray_entries(root: Path) -> list[Problem]:
@@ -1389,6 +1774,13 @@ def stray_entries(root: Path) -> list[Problem]:
             continue
         why = files.readable_fault(p)
         if why is not None:
-            problems.append(Problem(rel(p, root), None, "", f"{why}; no project uses it, so it "
-                                    "is left alone", "warning"))
+            problems.append(
+                Problem(
+                    rel(p, root),
+                    None,
+                    "",
+                    f"{why}; no project uses it, so it is left alone",
+                    "warning",
+                )
+            )
     return problems

@@ -20,8 +20,12 @@ _CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029\u200e\u200f\u202a-\u202e
 
 
 def _visible(text: str) -> str:
-    return _CONTROL.sub(lambda m: f"\\x{ord(m.group()):02x}" if ord(m.group()) < 256
-                        else f"\\u{ord(m.group()):04x}", text)
+    return _CONTROL.sub(
+        lambda m: (
+            f"\\x{ord(m.group()):02x}" if ord(m.group()) < 256 else f"\\u{ord(m.group()):04x}"
+        ),
+        text,
+    )
 
 
 @dataclass(frozen=True, order=True)

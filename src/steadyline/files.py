@@ -30,11 +30,13 @@ def is_ignored(name: str) -> bool:
     """
     if not name:
         return True
-    return (name.startswith((".", "~"))
-            or name.endswith("~")
-            or (name.startswith("#") and name.endswith("#"))
-            or name.lower().endswith(_TEMP_SUFFIXES)
-            or name == "4913")
+    return (
+        name.startswith((".", "~"))
+        or name.endswith("~")
+        or (name.startswith("#") and name.endswith("#"))
+        or name.lower().endswith(_TEMP_SUFFIXES)
+        or name == "4913"
+    )
 
 
 class Unreadable(Exception):
@@ -159,5 +161,14 @@ def strays(folder: Path, used: set[str], within: Path) -> list[tuple[Path, str]]
     return sorted(found)
 
 
-__all__ = ["Unreadable", "exists", "fault", "inside", "is_ignored", "open_regular", "read_bytes",
-           "readable_fault", "strays"]
+__all__ = [
+    "Unreadable",
+    "exists",
+    "fault",
+    "inside",
+    "is_ignored",
+    "open_regular",
+    "read_bytes",
+    "readable_fault",
+    "strays",
+]

@@ -38,8 +38,12 @@ if TYPE_CHECKING:
 CSV, WORKBOOK, PARQUET = "csv", "workbook", "parquet"
 _SUFFIXES = {".xlsx": WORKBOOK, ".parquet": PARQUET, ".pq": PARQUET}
 # Endings of spreadsheet files not read, with what to do instead.
-_OTHER_SHEETS = {".xls": "an Excel 97-2003 workbook (.xls)", ".xlsm": "a macro-enabled workbook",
-                 ".xlsb": "a binary workbook (.xlsb)", ".ods": "an OpenDocument spreadsheet"}
+_OTHER_SHEETS = {
+    ".xls": "an Excel 97-2003 workbook (.xls)",
+    ".xlsm": "a macro-enabled workbook",
+    ".xlsb": "a binary workbook (.xlsb)",
+    ".ods": "an OpenDocument spreadsheet",
+}
 # How a workbook file starts: a zip archive; an OLE compound file (an old .xls workbook, or an
 # .xlsx workbook encrypted with a password, which Excel stores inside one).
 _ZIP_MAGIC = b"PK\x03\x04"
@@ -130,10 +134,14 @@ def _workbook_fault(raw: bytes, limit_bytes: float) -> str | None:
     """Why bytes named .xlsx cannot be read as a workbook, told before the reader sees them."""
     if raw.startswith(_OLE_MAGIC):
         if b"E\x00n\x00c\x00r\x00y\x00p\x00t\x00e\x00d\x00P\x00a\x00c\x00k\x00a\x00g\x00e" in raw:
-            return ("the workbook is protected by a password; save a copy without the password "
-                    "(File > Info > Protect Workbook) and use that")
-        return ("this is an Excel 97-2003 workbook (.xls) under an .xlsx name; save it as an "
-                "Excel Workbook (.xlsx)")
+            return (
+                "the workbook is protected by a password; save a copy without the password "
+                "(File > Info > Protect Workbook) and use that"
+            )
+        return (
+            "this is an Excel 97-2003 workbook (.xls) under an .xlsx name; save it as an "
+            "Excel Workbook (.xlsx)"
+        )
     if not raw.startswith(_ZIP_MAGIC):
         if not raw.strip():
             return "the file is empty; save the workbook again"
@@ -144,9 +152,11 @@ def _workbook_fault(raw: bytes, limit_bytes: float) -> str | None:
     except (zipfile.BadZipFile, ValueError, OSError):
         return "the workbook is damaged (it cannot be unpacked); save it again as .xlsx"
     if unpacked > limit_bytes * UNPACKED_RATIO:
-        return (f"the workbook unpacks to {unpacked / 1024 / 1024:,.0f} MB, more than "
-                f"{UNPACKED_RATIO} times the file-size limit (max_file_mb in portfolio.toml); "
-                "check the file, or raise max_file_mb")
+        return (
+            f"the workbook unpacks to {unpacked / 1024 / 1024:,.0f} MB, more than "
+            f"{UNPACKED_RATIO} times the file-size limit (max_file_mb in portfolio.toml); "
+            "check the file, or raise max_file_mb"
+        )
     return None
 
 
@@ -166,13 +176,18 @@ def _choose_sheet(book, sheet: str | None, out) -> str | None:
     near = difflib.get_close_matches(sheet, names, n=1, cutoff=0.6)
     hint = f"did you mean {near[0]!r}? " if near else ""
     listed = ", ".join(repr(n) for n in names) or "none"
-    out.add(None, "", f"no such sheet in the workbook (metric {out.spec.id!r}, key 'sheet'); "
-            f"{hint}its sheets are: {listed}")
+    out.add(
+        None,
+        "",
+        f"no such sheet in the workbook (metric {out.spec.id!r}, key 'sheet'); "
+        f"{hint}its sheets are: {listed}",
+    )
     return None
 
 
-def read_workbook(raw: bytes, needed: list[str] | None, out,
-                  limit_bytes: float) -> tuple[pd.DataFrame, list[str]] | None:
+def read_workbook(
+    raw: bytes, needed: list[str] | None, out, limit_bytes: float
+) -> tuple[pd.DataFrame, list[str]] | None:
     """(the sheet as a table of text cells indexed by row number, its header), or None with
     the problem added to *out* (loading's collector; its ``sheet``, ``header_line`` and
     ``number_cells`` are set here, for the messages of the checks that follow).
@@ -191,8 +206,12 @@ def read_workbook(raw: bytes, needed: list[str] | None, out,
     try:
         book = pc.CalamineWorkbook.from_filelike(io.BytesIO(raw))
     except pc.PasswordError:
-        out.add(None, "", "the workbook is protected by a password; save a copy without the "
-                "password and use that")
+        out.add(
+            None,
+            "",
+            "the workbook is protected by a password; save a copy without the "
+            "password and use that",
+        )
         return None
     except (pc.CalamineError, ValueError, OSError) as e:
         out.add(None, "", f"the workbook cannot be read ({_short(e)}); save it again as .xlsx")
@@ -221,8 +240,12 @@ def read_workbook(raw: bytes, needed: list[str] | None, out,
     header = [h for _, h in named]
     dup = sorted({h for h in header if header.count(h) > 1})
     if dup:
-        out.add(header_row, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
-                "appear more than once; give each column its own name")
+        out.add(
+            header_row,
+            "header",
+            f"the column name(s) {', '.join(repr(d) for d in dup)} "
+            "appear more than once; give each column its own name",
+        )
         return None
     # The range is a rectangle: every row has the header's width. Rows holding nothing are
     # skipped, as blank lines of a CSV file are.
@@ -268,10 +291,18 @@ def _type_fault(role: str, t) -> str | None:
 
     if pa.types.is_dictionary(t):
         t = t.value_type
-    text = (pa.types.is_string(t) or pa.types.is_large_string(t)
-            or pa.types.is_string_view(t) or pa.types.is_null(t))
-    if (pa.types.is_nested(t) or pa.types.is_binary(t) or pa.types.is_large_binary(t)
-            or pa.types.is_fixed_size_binary(t)):
+    text = (
+        pa.types.is_string(t)
+        or pa.types.is_large_string(t)
+        or pa.types.is_string_view(t)
+        or pa.types.is_null(t)
+    )
+    if (
+        pa.types.is_nested(t)
+        or pa.types.is_binary(t)
+        or pa.types.is_large_binary(t)
+        or pa.types.is_fixed_size_binary(t)
+    ):
         return f"holds {t} values, which are not single cells; store it as text or numbers"
     if text:
         return None  # text is read and checked cell by cell, as a CSV file's
@@ -280,15 +311,20 @@ def _type_fault(role: str, t) -> str | None:
             return None
         return f"holds {t} values, not dates or times; store it as a timestamp, a date or text"
     if role in _NUMBER_ROLES:
-        if (pa.types.is_integer(t) or pa.types.is_floating(t) or pa.types.is_decimal(t)
-                or pa.types.is_boolean(t)):
+        if (
+            pa.types.is_integer(t)
+            or pa.types.is_floating(t)
+            or pa.types.is_decimal(t)
+            or pa.types.is_boolean(t)
+        ):
             return None
         return f"holds {t} values, not numbers; store it as integers, floats or text"
     return None  # a subgroup or category: any single value names one
 
 
-def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
-                 out) -> tuple[pd.DataFrame, list[str]] | None:
+def read_parquet(
+    raw: bytes, needed: list[str] | None, roles: dict[str, str], out
+) -> tuple[pd.DataFrame, list[str]] | None:
     """(the needed columns as a table of text cells indexed by row number from 1, the file's
     column names), or None with the problem added to *out*. *roles* maps each needed column to
     the metric's key naming it (time, value, ...): a column of a type that cannot serve it is
@@ -308,8 +344,12 @@ def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
     header = [str(n) for n in schema.names]
     dup = sorted({h for h in header if header.count(h) > 1})
     if dup:
-        out.add(None, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
-                "appear more than once; give each column its own name")
+        out.add(
+            None,
+            "header",
+            f"the column name(s) {', '.join(repr(d) for d in dup)} "
+            "appear more than once; give each column its own name",
+        )
         return None
     if needed is None:  # every column (steadyline start): those that hold single values
         wanted = [h for h in header if _type_fault("", schema.field(h).type) is None]
@@ -344,5 +384,13 @@ def read_parquet(raw: bytes, needed: list[str] | None, roles: dict[str, str],
     return df, header
 
 
-__all__ = ["CSV", "PARQUET", "WORKBOOK", "cell_text", "data_format", "read_parquet",
-           "read_workbook", "unread_sheet_kind"]
+__all__ = [
+    "CSV",
+    "PARQUET",
+    "WORKBOOK",
+    "cell_text",
+    "data_format",
+    "read_parquet",
+    "read_workbook",
+    "unread_sheet_kind",
+]

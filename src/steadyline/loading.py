@@ -116,8 +116,9 @@ class _Rows:
         self.number_cells: dict[str, list[int]] = {}
 
     def add(self, line: int | None, where: str, message: str, severity: str = "error"):
-        self.problems.append(Problem(self.spec.file_rel, line, where, message, severity,
-                                     self.sheet, self.records))
+        self.problems.append(
+            Problem(self.spec.file_rel, line, where, message, severity, self.sheet, self.records)
+        )
 
     def rows(self, lines: list[int], where: str, message: str, severity: str = "error"):
         """One problem for a set of rows: the first line is the location, the rest are listed."""
@@ -139,10 +140,14 @@ class _Rows:
 
 
 # Byte-order marks, longest first: the UTF-32 little-endian mark begins with the UTF-16 one.
-_BOMS = ((b"\x00\x00\xfe\xff", "utf-32"), (b"\xff\xfe\x00\x00", "utf-32"),
-         (b"\xef\xbb\xbf", "utf-8-sig"), (b"\xfe\xff", "utf-16"), (b"\xff\xfe", "utf-16"))
-_WIDE = {"utf-16": 2, "utf-16-le": 2, "utf-16-be": 2, "utf-32": 4, "utf-32-le": 4,
-         "utf-32-be": 4}
+_BOMS = (
+    (b"\x00\x00\xfe\xff", "utf-32"),
+    (b"\xff\xfe\x00\x00", "utf-32"),
+    (b"\xef\xbb\xbf", "utf-8-sig"),
+    (b"\xfe\xff", "utf-16"),
+    (b"\xff\xfe", "utf-16"),
+)
+_WIDE = {"utf-16": 2, "utf-16-le": 2, "utf-16-be": 2, "utf-32": 4, "utf-32-le": 4, "utf-32-be": 4}
 _SNIFF = 4096
 
 
@@ -150,8 +155,8 @@ def _zero_share(raw: bytes, width: int) -> np.ndarray:
     """For each byte position within a code unit of *width* bytes, the share of zero bytes
     there in the file's first 4 KiB (a text of mostly ASCII characters in UTF-16 LE has zeros
     in every second byte, in UTF-16 BE in every first)."""
-    head = raw[:_SNIFF - _SNIFF % width]
-    head = head[:len(head) - len(head) % width]
+    head = raw[: _SNIFF - _SNIFF % width]
+    head = head[: len(head) - len(head) % width]
     if not head:
         return np.zeros(width)
     units = np.frombuffer(head, dtype=np.uint8).reshape(-1, width)
@@ -159,7 +164,7 @@ def _zero_share(raw: bytes, width: int) -> np.ndarray:
 
 
 def _byte_order(raw: bytes, width: int) -> str:
-    """"-le" or "-be" for a UTF-16 or UTF-32 file without a byte-order mark: on the side where
+    """ "-le" or "-be" for a UTF-16 or UTF-32 file without a byte-order mark: on the side where
     the high bytes of its (mostly ASCII) characters, the zeros, fall. Python's own choice would
     be the machine's byte order; with no zeros to tell, big-endian, the order the Unicode
     Standard gives a UTF-16 text with no mark and no other agreement (section 3.10, D98; the
@@ -213,11 +218,19 @@ def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
     if not wide and b"\x00" in raw[:_SNIFF]:
         guess = _wide_guess(raw)
         if guess:
-            out.add(None, "", f"the file holds NUL bytes: it looks like {guess.upper()} text "
-                    f"without a byte-order mark; set [metric.csv] encoding = \"{guess}\"")
+            out.add(
+                None,
+                "",
+                f"the file holds NUL bytes: it looks like {guess.upper()} text "
+                f'without a byte-order mark; set [metric.csv] encoding = "{guess}"',
+            )
         else:
-            out.add(None, "", "the file looks binary, not CSV text (it contains NUL bytes); "
-                    "export the data as CSV")
+            out.add(
+                None,
+                "",
+                "the file looks binary, not CSV text (it contains NUL bytes); "
+                "export the data as CSV",
+            )
         return None
     shown = enc
     if bom is not None and _family(name) != _family(bom):
@@ -227,16 +240,27 @@ def _decode(raw: bytes, enc: str, out: _Rows) -> str | None:
     except UnicodeDecodeError as e:
         line = raw[: e.start].decode(codec, errors="replace").count("\n") + 1
         if wide:
-            out.add(line, "", f"the bytes at offset {e.start} are not valid {shown} text "
-                    f"({e.reason}); save the file again as UTF-8 or UTF-16")
+            out.add(
+                line,
+                "",
+                f"the bytes at offset {e.start} are not valid {shown} text "
+                f"({e.reason}); save the file again as UTF-8 or UTF-16",
+            )
         else:
-            out.add(line, "", f"byte 0x{raw[e.start]:02x} is not valid {shown} text; save the "
-                    "file as UTF-8, or set [metric.csv] encoding = \"latin-1\" if it comes "
-                    "from an older system")
+            out.add(
+                line,
+                "",
+                f"byte 0x{raw[e.start]:02x} is not valid {shown} text; save the "
+                'file as UTF-8, or set [metric.csv] encoding = "latin-1" if it comes '
+                "from an older system",
+            )
         return None
     if wide and "\x00" in text[:_SNIFF]:
-        out.add(None, "", "the file looks binary, not CSV text (it holds NUL characters); export "
-                "the data as CSV")
+        out.add(
+            None,
+            "",
+            "the file looks binary, not CSV text (it holds NUL characters); export the data as CSV",
+        )
         return None
     return text
 
@@ -246,7 +270,7 @@ def _size_text(size: float) -> str:
     return f"{mb:.0f} MB" if mb >= 10 else f"{mb:.3g} MB" if mb >= 0.01 else f"{size:,.0f} bytes"
 
 
-_BLANK_LINE = re.compile(r'\n[ \t\r]*\n|^[ \t\r]*\n')
+_BLANK_LINE = re.compile(r"\n[ \t\r]*\n|^[ \t\r]*\n")
 # Whitespace str.strip() removes, besides the line ends the reader consumes.
 _ASCII_SPACES = " \t\x0b\x0c\x1c\x1d\x1e\x1f"
 
@@ -306,8 +330,16 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
     strip = not text.isascii() or any(c in text for c in _ASCII_SPACES)
     if delim not in _SPLIT_DELIMITERS or len(text) > _SPLIT_MAX_CHARS:
         try:
-            df = pd.read_csv(io.StringIO(text), sep=delim, dtype=str, keep_default_na=False,
-                             engine="c", skip_blank_lines=False, header=0, names=header)
+            df = pd.read_csv(
+                io.StringIO(text),
+                sep=delim,
+                dtype=str,
+                keep_default_na=False,
+                engine="c",
+                skip_blank_lines=False,
+                header=0,
+                names=header,
+            )
         except (pd.errors.ParserError, ValueError):
             return None
         if len(df) == 0:
@@ -329,8 +361,9 @@ def _read_plain(text: str, delim: str) -> pd.DataFrame | None:
         cells = [c.strip() for c in cells]
     width = len(header)
     grid = np.array(cells, dtype=object).reshape(-1, width)
-    return pd.DataFrame({h: grid[:, j] for j, h in enumerate(header)},
-                        index=np.arange(2, len(grid) + 2), dtype=str)
+    return pd.DataFrame(
+        {h: grid[:, j] for j, h in enumerate(header)}, index=np.arange(2, len(grid) + 2), dtype=str
+    )
 
 
 def _width_fault(path, spec: MetricSpec) -> str | None:
@@ -347,12 +380,15 @@ def _width_fault(path, spec: MetricSpec) -> str | None:
             return None  # the full read below names the fault
     if width <= columns.MAX_COLUMNS:
         return None
-    return (f"the header has {width:,} columns, over the limit of {columns.MAX_COLUMNS:,}; "
-            "a metric reads at most six of them: export only the columns the metrics use")
+    return (
+        f"the header has {width:,} columns, over the limit of {columns.MAX_COLUMNS:,}; "
+        "a metric reads at most six of them: export only the columns the metrics use"
+    )
 
 
-def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
-                needed: list[str] | None) -> tuple[pd.DataFrame | None, list[str]]:
+def _read_table(
+    spec: MetricSpec, settings: PortfolioSettings, out: _Rows, needed: list[str] | None
+) -> tuple[pd.DataFrame | None, list[str]]:
     """(the file as a table of text cells indexed by physical line number, its header).
 
     A plain file (see columns.read_needed) gives only the *needed* columns (all when None), as pyarrow text
@@ -370,8 +406,9 @@ def _read_table(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
     return df, list(df.columns)
 
 
-def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
-                   needed: list[str] | None):
+def _read_table_of(
+    spec: MetricSpec, settings: PortfolioSettings, out: _Rows, needed: list[str] | None
+):
     path = spec.file
     try:
         size = path.stat().st_size
@@ -380,9 +417,13 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
         return None
     limit = settings.max_file_mb * 1024 * 1024
     if size > limit:
-        out.add(None, "", f"the file is {_size_text(size)}, over the limit of "
-                f"{settings.max_file_mb:g} MB (max_file_mb in portfolio.toml); roll the data up "
-                "before committing it, or raise max_file_mb")
+        out.add(
+            None,
+            "",
+            f"the file is {_size_text(size)}, over the limit of "
+            f"{settings.max_file_mb:g} MB (max_file_mb in portfolio.toml); roll the data up "
+            "before committing it, or raise max_file_mb",
+        )
         return None
     # the kind by the name project.toml gives (a link is read as what it is named, as the
     # metadata's checks judged it)
@@ -419,8 +460,10 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
     if plain is not None:
         header, cols, n = plain
         index = pd.RangeIndex(2, n + 2)  # physical line numbers (header = line 1)
-        df = pd.DataFrame({c: pd.Series(pd.arrays.ArrowExtensionArray(a), index=index)
-                           for c, a in cols.items()}, index=index)
+        df = pd.DataFrame(
+            {c: pd.Series(pd.arrays.ArrowExtensionArray(a), index=index) for c, a in cols.items()},
+            index=index,
+        )
         return df, header
     text = _decode(raw, spec.csv.encoding, out)
     if text is None:
@@ -445,11 +488,12 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
         where = last + 1
         msg = str(e)
         if "end of data" in msg or "EOF" in msg:
-            msg = ("a quoted cell is never closed; check the quote marks (\") from this line "
-                   "on")
+            msg = 'a quoted cell is never closed; check the quote marks (") from this line on'
         elif "expected" in msg and "after" in msg:
-            msg = (f"a quote mark (\") inside a cell must be doubled (\"\"), or the whole cell "
-                   f"quoted ({msg})")
+            msg = (
+                f'a quote mark (") inside a cell must be doubled (""), or the whole cell '
+                f"quoted ({msg})"
+            )
         out.add(where, "", f"the file cannot be read as CSV: {msg}")
         return None
     if not records:
@@ -460,14 +504,21 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
     # Spreadsheets often add empty columns at the right: drop unnamed trailing columns whose
     # cells are all blank.
     width = len(header)
-    while width > 1 and header[width - 1] == "" and all(
-            len(r) < width or not r[width - 1].strip() for _, r in records[1:]):
+    while (
+        width > 1
+        and header[width - 1] == ""
+        and all(len(r) < width or not r[width - 1].strip() for _, r in records[1:])
+    ):
         width -= 1
     header = header[:width]
     dup = sorted({h for h in header if header.count(h) > 1})
     if dup:
-        out.add(header_line, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
-                "appear more than once; give each column its own name")
+        out.add(
+            header_line,
+            "header",
+            f"the column name(s) {', '.join(repr(d) for d in dup)} "
+            "appear more than once; give each column its own name",
+        )
         return None
     body = []
     ragged: dict[tuple[int, int], list[int]] = {}
@@ -479,8 +530,12 @@ def _read_table_of(spec: MetricSpec, settings: PortfolioSettings, out: _Rows,
             continue
         body.append((line, [c.strip() for c in row]))
     for (got, want), lines in sorted(ragged.items(), key=lambda kv: kv[1][0]):
-        out.rows(lines, "", f"this row has {got} field{'s' if got != 1 else ''} but the header "
-                 f"has {want}; check for a stray or missing delimiter ({delim!r}) or quote mark")
+        out.rows(
+            lines,
+            "",
+            f"this row has {got} field{'s' if got != 1 else ''} but the header "
+            f"has {want}; check for a stray or missing delimiter ({delim!r}) or quote mark",
+        )
     if ragged:
         return None
     if not body:
@@ -499,8 +554,9 @@ def _text(s: pd.Series) -> pd.Series:
     return pd.Series(columns.cells(columns.arrow_of(s)), index=s.index, dtype=str)
 
 
-def _require_column(cols: list[str], key: str, col: str | None, spec: MetricSpec,
-                    out: _Rows) -> bool:
+def _require_column(
+    cols: list[str], key: str, col: str | None, spec: MetricSpec, out: _Rows
+) -> bool:
     if col is None:
         return True
     if col in cols:
@@ -508,15 +564,21 @@ def _require_column(cols: list[str], key: str, col: str | None, spec: MetricSpec
     guess = difflib.get_close_matches(col, cols, n=1, cutoff=0.6)
     if guess:
         hint = f"; did you mean '{guess[0]}'?"
-    elif (len(cols) == 1 and any(c in cols[0] for c in ";,\t|")
-          and formats.data_format(spec.file_rel) == formats.CSV):
+    elif (
+        len(cols) == 1
+        and any(c in cols[0] for c in ";,\t|")
+        and formats.data_format(spec.file_rel) == formats.CSV
+    ):
         sep = next(c for c in ";\t|," if c in cols[0])
-        hint = (f"; the header was read as one column {cols[0]!r}: the file seems separated by "
-                f"{sep!r}; set [metric.csv] delimiter = {sep!r}")
+        hint = (
+            f"; the header was read as one column {cols[0]!r}: the file seems separated by "
+            f"{sep!r}; set [metric.csv] delimiter = {sep!r}"
+        )
     else:
         hint = f"; the file has columns: {', '.join(cols)}"
-    out.add(out.header_line, f"column '{col}'",
-            f"not found (metric {spec.id!r}, key '{key}'){hint}")
+    out.add(
+        out.header_line, f"column '{col}'", f"not found (metric {spec.id!r}, key '{key}'){hint}"
+    )
     return False
 
 
@@ -546,10 +608,9 @@ def _why_not_number(cell: str, what: str, decimal: str) -> str:
     if cell.lower() in _MISSING_WORDS:
         return text + "; leave the cell blank for a missing value"
     if decimal == "." and re.match(r"^[+-]?\d*,\d+$", cell):
-        return (text + "; for decimal commas set [metric.csv] decimal = \",\" and "
-                "delimiter = \";\"")
+        return text + '; for decimal commas set [metric.csv] decimal = "," and delimiter = ";"'
     if decimal == "," and "." in cell:
-        return text + "; the metric declares decimal commas (decimal = \",\"): write 1,5 not 1.5"
+        return text + '; the metric declares decimal commas (decimal = ","): write 1,5 not 1.5'
     return text
 
 
@@ -569,8 +630,16 @@ def _plain_decimals(cells: np.ndarray) -> np.ndarray | None:
         return None
 
 
-def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, integer=False,
-             minimum: float | None = None, what="a number") -> pd.Series:
+def _numbers(
+    df: pd.DataFrame,
+    col: str,
+    spec: MetricSpec,
+    out: _Rows,
+    *,
+    integer=False,
+    minimum: float | None = None,
+    what="a number",
+) -> pd.Series:
     s = df[col]
     dec = spec.csv.decimal
     quick = None
@@ -587,9 +656,12 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
             # pandas' parse can be one unit in the last place off on a cell with a leading
             # "+" (seen with pandas 3): such cells are read one by one below, by float()
             quick = np.where(s.str.startswith("+").to_numpy(dtype=bool), np.nan, quick)
-        if (np.isfinite(quick).all() and not (np.abs(quick) > MAX_MAGNITUDE).any()
-                and (not integer or (quick == np.floor(quick)).all())
-                and (minimum is None or (quick >= minimum).all())):
+        if (
+            np.isfinite(quick).all()
+            and not (np.abs(quick) > MAX_MAGNITUDE).any()
+            and (not integer or (quick == np.floor(quick)).all())
+            and (minimum is None or (quick >= minimum).all())
+        ):
             return pd.Series(quick, index=df.index)
     s = _text(s)
     blank = (s == "").to_numpy()
@@ -609,24 +681,42 @@ def _numbers(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows, *, intege
         num[careful] = vals
         bad_mask[careful] = np.array([table[c] is None for c in cells], dtype=bool)
     bad = pd.Series(bad_mask, index=df.index)
-    out.rows(list(df.index[bad]), f"column '{col}'",
-             _why_not_number(s[bad].iloc[0], what, dec) if bad.any() else "")
+    out.rows(
+        list(df.index[bad]),
+        f"column '{col}'",
+        _why_not_number(s[bad].iloc[0], what, dec) if bad.any() else "",
+    )
     # Beyond 1e100 no measurement is meant, and squares of such values overflow the statistics.
     nonfinite = np.abs(num.to_numpy()) > MAX_MAGNITUDE
-    out.rows(list(df.index[nonfinite]), f"column '{col}'", "the value is infinite or too large "
-             f"(over {MAX_MAGNITUDE:g}); write a finite number or leave the cell blank")
+    out.rows(
+        list(df.index[nonfinite]),
+        f"column '{col}'",
+        "the value is infinite or too large "
+        f"(over {MAX_MAGNITUDE:g}); write a finite number or leave the cell blank",
+    )
     num = num.where(~nonfinite)
-    out.rows(list(df.index[blank]), f"column '{col}'", "blank cell; the row is left out",
-             severity="warning")
+    out.rows(
+        list(df.index[blank]),
+        f"column '{col}'",
+        "blank cell; the row is left out",
+        severity="warning",
+    )
     if integer:
         frac = num.notna() & (num != np.floor(num))
-        out.rows(list(df.index[frac]), f"column '{col}'",
-                 f"expected a whole number, got {s[frac].iloc[0]!r}" if frac.any() else "")
+        out.rows(
+            list(df.index[frac]),
+            f"column '{col}'",
+            f"expected a whole number, got {s[frac].iloc[0]!r}" if frac.any() else "",
+        )
     if minimum is not None:
         low = num.notna() & (num < minimum)
-        out.rows(list(df.index[low]), f"column '{col}'",
-                 f"{num[low].iloc[0]:g} is below {minimum:g}; counts cannot be negative"
-                 if low.any() else "")
+        out.rows(
+            list(df.index[low]),
+            f"column '{col}'",
+            f"{num[low].iloc[0]:g} is below {minimum:g}; counts cannot be negative"
+            if low.any()
+            else "",
+        )
     return num
 
 
@@ -677,8 +767,9 @@ def _quick_naive(s: pd.Series) -> pd.Series | None:
 
 def _within_years(a: np.ndarray) -> bool:
     """Whether every time of a parsed naive column lies within the charted years."""
-    return not a.size or (a.min() >= _EARLIEST.to_datetime64()
-                          and a.max() <= _LATEST.to_datetime64())
+    return not a.size or (
+        a.min() >= _EARLIEST.to_datetime64() and a.max() <= _LATEST.to_datetime64()
+    )
 
 
 # The fixed-width ISO 8601 forms read by numpy: per length, the places of digits and of the
@@ -715,8 +806,9 @@ def _plain_iso(cells: np.ndarray) -> np.ndarray | None:
         if not np.isin(grid[:, at], np.frombuffer(allowed, dtype=np.uint8)).all():
             return None
     try:
-        return np.ascontiguousarray(grid[:, :width]).view(f"S{width}").ravel().astype(
-            "datetime64[s]")
+        return (
+            np.ascontiguousarray(grid[:, :width]).view(f"S{width}").ravel().astype("datetime64[s]")
+        )
     except ValueError:  # an impossible date or time, such as 2026-02-30
         return None
 
@@ -742,8 +834,12 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
                 return quick.astype("datetime64[ns]")
     s = _text(s)
     blank = s == ""
-    out.rows(list(df.index[blank]), f"column '{col}'", "blank date; the row is left out",
-             severity="warning")
+    out.rows(
+        list(df.index[blank]),
+        f"column '{col}'",
+        "blank date; the row is left out",
+        severity="warning",
+    )
     tz = spec.csv.timezone
     t = pd.Series(pd.NaT, index=df.index, dtype="datetime64[ns]")
     far = pd.Series(False, index=df.index)
@@ -763,10 +859,13 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
         if aware.any() and (~aware & ~blank).any() and not tz:
             first_naive = list(df.index[~aware & ~blank])
             first_aware = list(df.index[aware])
-            out.add(min(first_naive[0], first_aware[0]), f"column '{col}'",
-                    "the file mixes times with and without a UTC offset; write every time the "
-                    "same way, or set [metric.csv] timezone to say which zone the plain times "
-                    "are in")
+            out.add(
+                min(first_naive[0], first_aware[0]),
+                f"column '{col}'",
+                "the file mixes times with and without a UTC offset; write every time the "
+                "same way, or set [metric.csv] timezone to say which zone the plain times "
+                "are in",
+            )
             return t
         zone = tz or "UTC"
         if aware.any():
@@ -784,19 +883,32 @@ def _times(df: pd.DataFrame, col: str, spec: MetricSpec, out: _Rows) -> pd.Serie
             t[naive] = tn
             far[naive] = far_n
         expected = "an ISO 8601 date like 2026-03-31 (or set [metric.csv] date_format)"
-    out.rows(list(df.index[far]), f"column '{col}'",
-             f"{s[far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
-             "charted; check the date" if far.any() else "")
+    out.rows(
+        list(df.index[far]),
+        f"column '{col}'",
+        f"{s[far].iloc[0].strip()!r} is outside the years 1678 to 2261 that can be "
+        "charted; check the date"
+        if far.any()
+        else "",
+    )
     bad = t.isna() & ~blank & ~far
     numbers = out.number_cells.get(col)
     if numbers and bad.any():  # a workbook's cells stored as numbers, not dates
         is_number = bad & df.index.isin(numbers)
-        out.rows(list(df.index[is_number]), f"column '{col}'",
-                 f"{s[is_number].iloc[0]!r} is a number, not a date; give the column a date "
-                 "format in the workbook, or write the dates as text" if is_number.any() else "")
+        out.rows(
+            list(df.index[is_number]),
+            f"column '{col}'",
+            f"{s[is_number].iloc[0]!r} is a number, not a date; give the column a date "
+            "format in the workbook, or write the dates as text"
+            if is_number.any()
+            else "",
+        )
         bad &= ~is_number
-    out.rows(list(df.index[bad]), f"column '{col}'",
-             f"{s[bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "")
+    out.rows(
+        list(df.index[bad]),
+        f"column '{col}'",
+        f"{s[bad].iloc[0].strip()!r} is not {expected}" if bad.any() else "",
+    )
     return t.astype("datetime64[ns]")
 
 
@@ -811,8 +923,9 @@ def clean_label(text: str) -> str:
     return _LABEL_SPACE.sub(" ", text).strip()
 
 
-def assign_stage(times: pd.Series | np.ndarray, baseline: Period | None,
-                 after: Period | None) -> np.ndarray:
+def assign_stage(
+    times: pd.Series | np.ndarray, baseline: Period | None, after: Period | None
+) -> np.ndarray:
     """Stage of each time: 0 baseline, 1 after, 2 between / outside both periods.
 
     *times*: a Series (naive or with a time zone) or a numpy datetime64 array (naive). Without
@@ -851,8 +964,7 @@ def _days(times: pd.Series | np.ndarray) -> np.ndarray:
     return np.asarray(t).astype("datetime64[D]")
 
 
-def _set_aside(spec: MetricSpec, period: np.ndarray, stage: np.ndarray,
-               out: _Rows) -> np.ndarray:
+def _set_aside(spec: MetricSpec, period: np.ndarray, stage: np.ndarray, out: _Rows) -> np.ndarray:
     """Per point: set aside or not. A point is set aside when its date (the first day of its
     period, by which it also falls in the baseline) is one of an entry's days. An entry no point
     falls on, and entries that leave no baseline point, are errors of project.toml."""
@@ -863,24 +975,43 @@ def _set_aside(spec: MetricSpec, period: np.ndarray, stage: np.ndarray,
         hit = (days >= np.datetime64(e.start, "D")) & (days <= np.datetime64(e.end, "D"))
         if not hit.any():
             span = f"the data run {first} to {last}" if first else "the metric has no data"
-            per = "" if spec.rollup is None else (
-                f" (a point is dated by the first day of its {spec.rollup.period})")
-            out.problems.append(Problem(
-                e.source, e.line, f"{e.where}.dates",
-                f"no point of {spec.file_rel!r} falls on {e.label()}{per}; {span}"))
+            per = (
+                ""
+                if spec.rollup is None
+                else (f" (a point is dated by the first day of its {spec.rollup.period})")
+            )
+            out.problems.append(
+                Problem(
+                    e.source,
+                    e.line,
+                    f"{e.where}.dates",
+                    f"no point of {spec.file_rel!r} falls on {e.label()}{per}; {span}",
+                )
+            )
         aside |= hit
     base = stage == STAGE_BASELINE
     if base.any() and aside[base].all():
         e = spec.set_aside[0]
-        out.problems.append(Problem(
-            e.source, e.line, e.where.rsplit("[", 1)[0],
-            f"every point of the baseline of {spec.file_rel!r} is set aside; no point would be "
-            "left to compute the centre line and limits from"))
+        out.problems.append(
+            Problem(
+                e.source,
+                e.line,
+                e.where.rsplit("[", 1)[0],
+                f"every point of the baseline of {spec.file_rel!r} is set aside; no point would be "
+                "left to compute the centre line and limits from",
+            )
+        )
     return aside
 
 
-def _values_aside(frame: pd.DataFrame, spec: MetricSpec, aside: np.ndarray,
-                  period: np.ndarray, subgroups: bool, by_period: bool) -> np.ndarray:
+def _values_aside(
+    frame: pd.DataFrame,
+    spec: MetricSpec,
+    aside: np.ndarray,
+    period: np.ndarray,
+    subgroups: bool,
+    by_period: bool,
+) -> np.ndarray:
     """Per individual value: whether the point it belongs to is set aside, so that the
     histogram, box plot and capability of the baseline leave out the same rows as its charts."""
     if subgroups:  # the user's subgroups, numbered as _subgroups numbers them
@@ -914,8 +1045,9 @@ def period_start(t: pd.Series, period: str) -> pd.Series:
 
 def period_label(start: pd.Series, period: str) -> pd.Series:
     if period in ("day", "month"):
-        return pd.Series(_iso_array(start.to_numpy(), "D" if period == "day" else "M"),
-                         index=start.index)
+        return pd.Series(
+            _iso_array(start.to_numpy(), "D" if period == "day" else "M"), index=start.index
+        )
     if period == "week":
         iso = start.dt.isocalendar()
         return iso["year"].astype(str) + "-W" + iso["week"].astype(str).str.zfill(2)
@@ -941,8 +1073,9 @@ def _iso_array(t: np.ndarray, unit: str) -> np.ndarray:
     return text.astype(object)
 
 
-def _rollup_sorted(frame: pd.DataFrame, key: np.ndarray, stat: str, kind: str,
-                   flags: bool) -> dict | None:
+def _rollup_sorted(
+    frame: pd.DataFrame, key: np.ndarray, stat: str, kind: str, flags: bool
+) -> dict | None:
     """The roll-up by sums over runs of equal periods, for rows in time order (as load_metric
     leaves them): the same columns pandas' groupby gives (sums and means add each period's
     values in row order), without its overhead. None for what it does not cover (the median,
@@ -958,8 +1091,9 @@ def _rollup_sorted(frame: pd.DataFrame, key: np.ndarray, stat: str, kind: str,
         cols["size"] = sizes
     elif kind in ("defectives", "defects"):
         cols["count"] = np.add.reduceat(frame["count"].to_numpy(dtype=float), starts)
-        cols["size"] = (np.add.reduceat(frame["size"].to_numpy(dtype=float), starts)
-                        if "size" in frame else 1.0)
+        cols["size"] = (
+            np.add.reduceat(frame["size"].to_numpy(dtype=float), starts) if "size" in frame else 1.0
+        )
     elif stat == "count":
         cols["value"] = sizes
     else:
@@ -1003,8 +1137,14 @@ def _has_gap(v) -> bool:
 
 def _columns_of(spec: MetricSpec) -> dict[str, str | None]:
     """The metric's keys that name a column, and the column each names (or None)."""
-    return {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
-            "count": spec.count, "size": spec.size, "category": spec.category}
+    return {
+        "time": spec.time,
+        "value": spec.value,
+        "subgroup": spec.subgroup,
+        "count": spec.count,
+        "size": spec.size,
+        "category": spec.category,
+    }
 
 
 def load_metric(spec: MetricSpec, settings: PortfolioSettings | None = None) -> MetricData:
@@ -1065,14 +1205,17 @@ def _frame_cells(frame: pd.DataFrame, out: _Rows) -> pd.DataFrame | None:
     header = [str(c).strip() for c in frame.columns]
     dup = sorted({h for h in header if header.count(h) > 1})
     if dup:
-        out.add(1, "header", f"the column name(s) {', '.join(repr(d) for d in dup)} "
-                "appear more than once; give each column its own name")
+        out.add(
+            1,
+            "header",
+            f"the column name(s) {', '.join(repr(d) for d in dup)} "
+            "appear more than once; give each column its own name",
+        )
         return None
     if len(frame) == 0:
         out.add(None, "", "the DataFrame has no rows")
         return None
-    cells = {h: [_cell_text(v) for v in frame.iloc[:, i].tolist()]
-             for i, h in enumerate(header)}
+    cells = {h: [_cell_text(v) for v in frame.iloc[:, i].tolist()] for i, h in enumerate(header)}
     df = pd.DataFrame(cells, columns=header, dtype=str)
     df.index = np.arange(2, len(frame) + 2)  # as the lines of a CSV file with a header
     return df
@@ -1080,8 +1223,14 @@ def _frame_cells(frame: pd.DataFrame, out: _Rows) -> pd.DataFrame | None:
 
 def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) -> MetricData:
     """A metric's table of text cells (indexed by line number) checked and shaped."""
-    cols = {"time": spec.time, "value": spec.value, "subgroup": spec.subgroup,
-            "count": spec.count, "size": spec.size, "category": spec.category}
+    cols = {
+        "time": spec.time,
+        "value": spec.value,
+        "subgroup": spec.subgroup,
+        "count": spec.count,
+        "size": spec.size,
+        "category": spec.category,
+    }
     ok = all([_require_column(header, k, c, spec, out) for k, c in cols.items()])
     if not ok:
         out.raise_if_failed()
@@ -1101,17 +1250,23 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
     if kind == "categories":
         cat = _text(df[spec.category]).map(clean_label)
         blank = cat == ""
-        out.rows(list(df.index[blank]), f"column '{spec.category}'",
-                 "blank category; counted as '(blank)'", severity="warning")
+        out.rows(
+            list(df.index[blank]),
+            f"column '{spec.category}'",
+            "blank category; counted as '(blank)'",
+            severity="warning",
+        )
         fc["category"] = cat.where(~blank, "(blank)")
-        fc["weight"] = (_numbers(df, spec.count, spec, out, minimum=0, what="a count")
-                        if spec.count else 1.0)
+        fc["weight"] = (
+            _numbers(df, spec.count, spec, out, minimum=0, what="a count") if spec.count else 1.0
+        )
     elif flags:
         v = _numbers(df, spec.value, spec, out, what="0 or 1")
         va = v.to_numpy()
         badflag = ~np.isnan(va) & (va != 0.0) & (va != 1.0)
-        out.rows(list(df.index[badflag]), f"column '{spec.value}'",
-                 "expected 0 (fine) or 1 (defective)")
+        out.rows(
+            list(df.index[badflag]), f"column '{spec.value}'", "expected 0 (fine) or 1 (defective)"
+        )
         fc["value"] = v
     else:
         if spec.value is not None:
@@ -1119,11 +1274,13 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
         if spec.subgroup is not None:
             fc["subgroup"] = _text(df[spec.subgroup]).map(clean_label)
         if spec.count is not None:
-            fc["count"] = _numbers(df, spec.count, spec, out, integer=True, minimum=0,
-                                   what="a count")
+            fc["count"] = _numbers(
+                df, spec.count, spec, out, integer=True, minimum=0, what="a count"
+            )
         if spec.size is not None:
-            fc["size"] = _numbers(df, spec.size, spec, out, minimum=0,
-                                  what="a number of items or an area")
+            fc["size"] = _numbers(
+                df, spec.size, spec, out, minimum=0, what="a number of items or an area"
+            )
     index = df.index
     del df  # the text of the file is not needed any more: freed before the roll-up's arrays
     out.raise_if_failed()
@@ -1135,47 +1292,83 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
         frame = frame.dropna(how="any")
     if kind == "defectives" and not flags:
         over = frame["count"] > frame["size"]
-        out.rows(list(frame.index[over]), f"column '{spec.count}'",
-                 f"more defectives than items checked ('{spec.size}')")
+        out.rows(
+            list(frame.index[over]),
+            f"column '{spec.count}'",
+            f"more defectives than items checked ('{spec.size}')",
+        )
         zero = frame["size"] <= 0
-        out.rows(list(frame.index[zero]), f"column '{spec.size}'",
-                 "no items checked (size 0); the row is left out", severity="warning")
+        out.rows(
+            list(frame.index[zero]),
+            f"column '{spec.size}'",
+            "no items checked (size 0); the row is left out",
+            severity="warning",
+        )
         frame = frame[~zero]
     if kind == "defects" and "size" in frame:
         zero = frame["size"] <= 0
-        out.rows(list(frame.index[zero]), f"column '{spec.size}'",
-                 "area of opportunity is zero; the row is left out", severity="warning")
+        out.rows(
+            list(frame.index[zero]),
+            f"column '{spec.size}'",
+            "area of opportunity is zero; the row is left out",
+            severity="warning",
+        )
         frame = frame[~zero]
     out.raise_if_failed()
     if len(frame) == 0:
-        out.add(None, "", "no usable data rows are left after leaving out blank cells and rows "
-                "with nothing checked; see the warnings")
+        out.add(
+            None,
+            "",
+            "no usable data rows are left after leaving out blank cells and rows "
+            "with nothing checked; see the warnings",
+        )
         out.raise_if_failed()
 
     if "t" in frame:
         order_ok = frame["t"].is_monotonic_increasing
         if not order_ok:
             first_bad = int(np.argmax(np.diff(frame["t"].to_numpy()) < np.timedelta64(0))) + 1
-            out.add(int(frame.index[first_bad]), f"column '{spec.time}'",
-                    "rows are not in time order; they were sorted by time", severity="warning")
+            out.add(
+                int(frame.index[first_bad]),
+                f"column '{spec.time}'",
+                "rows are not in time order; they were sorted by time",
+                severity="warning",
+            )
             frame = frame.sort_values("t", kind="stable")
 
     if kind == "categories":
-        stage = (assign_stage(frame["t"].to_numpy(), spec.baseline, spec.after) if "t" in frame
-                 else np.zeros(len(frame), dtype=int))
-        pts = pd.DataFrame({"category": frame["category"].to_numpy(),
-                            "weight": frame["weight"].to_numpy(dtype=float), "stage": stage})
+        stage = (
+            assign_stage(frame["t"].to_numpy(), spec.baseline, spec.after)
+            if "t" in frame
+            else np.zeros(len(frame), dtype=int)
+        )
+        pts = pd.DataFrame(
+            {
+                "category": frame["category"].to_numpy(),
+                "weight": frame["weight"].to_numpy(dtype=float),
+                "stage": stage,
+            }
+        )
         if "t" in frame:
             pts["period"] = frame["t"].to_numpy()
-        return MetricData(spec, kind, pts, raw_rows=raw_rows,
-                          problems=[p for p in out.problems if p.severity != "error"])
+        return MetricData(
+            spec,
+            kind,
+            pts,
+            raw_rows=raw_rows,
+            problems=[p for p in out.problems if p.severity != "error"],
+        )
 
     subgroups = None
     values = None
     times = frame["t"].to_numpy()
     if kind in ("continuous", "subgroups"):
-        values = pd.DataFrame({"value": frame["value"].to_numpy(dtype=float),
-                               "stage": assign_stage(times, spec.baseline, spec.after)})
+        values = pd.DataFrame(
+            {
+                "value": frame["value"].to_numpy(dtype=float),
+                "stage": assign_stage(times, spec.baseline, spec.after),
+            }
+        )
     # the points' columns, in this order: period, the values, n, (subgroup), segment, ...
     cols: dict
     by_period = None
@@ -1195,9 +1388,12 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
     else:
         if kind == "continuous":
             dups = frame["t"].duplicated(keep=False)
-            out.rows(list(frame.index[dups]), f"column '{spec.time}'",
-                     "several rows share the same time; each is plotted as its own point",
-                     severity="warning")
+            out.rows(
+                list(frame.index[dups]),
+                f"column '{spec.time}'",
+                "several rows share the same time; each is plotted as its own point",
+                severity="warning",
+            )
         cols = {"period": times}
         if kind == "continuous":
             cols["value"] = frame["value"].to_numpy()
@@ -1209,20 +1405,33 @@ def _shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Rows) ->
     if kind in ("defectives", "defects"):
         cols["value"] = cols["count"] / cols["size"]
     period = np.asarray(cols["period"])
-    cols["label"] = (_labels(period) if period_of_points is None
-                     else _period_labels(period, period_of_points))
+    cols["label"] = (
+        _labels(period) if period_of_points is None else _period_labels(period, period_of_points)
+    )
     cols["stage"] = assign_stage(period, spec.baseline, spec.after)
     if spec.set_aside:
         cols["aside"] = _set_aside(spec, period, cols["stage"], out)
         if values is not None:
-            values["aside"] = _values_aside(frame, spec, cols["aside"], period,
-                                            kind == "subgroups" and by_period is None,
-                                            period_of_points is not None)
+            values["aside"] = _values_aside(
+                frame,
+                spec,
+                cols["aside"],
+                period,
+                kind == "subgroups" and by_period is None,
+                period_of_points is not None,
+            )
     pts = pd.DataFrame(cols)
     out.raise_if_failed()
-    return MetricData(spec, kind, pts, subgroups=subgroups, values=values, raw_rows=raw_rows,
-                      problems=[p for p in out.problems if p.severity != "error"],
-                      by_period=by_period)
+    return MetricData(
+        spec,
+        kind,
+        pts,
+        subgroups=subgroups,
+        values=values,
+        raw_rows=raw_rows,
+        problems=[p for p in out.problems if p.severity != "error"],
+        by_period=by_period,
+    )
 
 
 def choose_period(t: pd.Series, limit: int = DRAWN_POINTS_MAX) -> tuple[str, np.ndarray, int]:
@@ -1237,12 +1446,18 @@ def choose_period(t: pd.Series, limit: int = DRAWN_POINTS_MAX) -> tuple[str, np.
     return per, key, count
 
 
-_PLURAL = {"day": "days", "week": "weeks", "month": "months", "quarter": "quarters",
-           "year": "years"}
+_PLURAL = {
+    "day": "days",
+    "week": "weeks",
+    "month": "months",
+    "quarter": "quarters",
+    "year": "years",
+}
 
 
-def _by_period(frame: pd.DataFrame, spec: MetricSpec, kind: str, points: int
-               ) -> tuple[ByPeriod, dict, list[np.ndarray] | None]:
+def _by_period(
+    frame: pd.DataFrame, spec: MetricSpec, kind: str, points: int
+) -> tuple[ByPeriod, dict, list[np.ndarray] | None]:
     """A series with more points than a chart shows legibly, drawn by period (rows in time
     order, as load_metric leaves them).
 
@@ -1263,43 +1478,62 @@ def _by_period(frame: pd.DataFrame, spec: MetricSpec, kind: str, points: int
     period = key[starts]
     segment = _segments_for_periods(period, per)
     word = "values" if kind == "continuous" else ("subgroups" if kind == "subgroups" else "rows")
-    head = (f"{points} {word} are more points than a chart shows legibly ({DRAWN_POINTS_MAX} "
-            f"at most), so the time-based charts show one point per {per} ({count} "
-            f"{_PLURAL[per] if count != 1 else per})")
+    head = (
+        f"{points} {word} are more points than a chart shows legibly ({DRAWN_POINTS_MAX} "
+        f"at most), so the time-based charts show one point per {per} ({count} "
+        f"{_PLURAL[per] if count != 1 else per})"
+    )
     groups = None
     if kind == "subgroups" or (kind == "continuous" and spec.chart != "xmr"):
         vals = frame["value"].to_numpy(dtype=float)
         groups = np.split(vals, starts[1:])
-        cols = {"period": period, "value": np.add.reduceat(vals, starts) / sizes,
-                "n": sizes, "subgroup": _period_labels(period, per).tolist(),
-                "segment": segment}
+        cols = {
+            "period": period,
+            "value": np.add.reduceat(vals, starts) / sizes,
+            "n": sizes,
+            "subgroup": _period_labels(period, per).tolist(),
+            "segment": segment,
+        }
         how = "subgroups"
         pooled = " (the subgroups of a period pooled)" if kind == "subgroups" else ""
-        tail = (f": each {per}'s values form one subgroup{pooled}, drawn as its mean, with "
-                "control limits from the subgroups' standard deviations that step with each "
-                "subgroup's size")
+        tail = (
+            f": each {per}'s values form one subgroup{pooled}, drawn as its mean, with "
+            "control limits from the subgroups' standard deviations that step with each "
+            "subgroup's size"
+        )
     elif kind == "continuous":
         vals = frame["value"].to_numpy(dtype=float)
-        cols = {"period": period, "value": np.add.reduceat(vals, starts) / sizes, "n": sizes,
-                "segment": segment}
+        cols = {
+            "period": period,
+            "value": np.add.reduceat(vals, starts) / sizes,
+            "n": sizes,
+            "segment": segment,
+        }
         how = "mean"
         tail = f": the mean of each {per}'s values, as an X-mR chart is set for this metric"
     else:
-        cols = {"period": period,
-                "count": np.add.reduceat(frame["count"].to_numpy(dtype=float), starts)}
+        cols = {
+            "period": period,
+            "count": np.add.reduceat(frame["count"].to_numpy(dtype=float), starts),
+        }
         how = "totals"
         if "size" in frame:
             cols["size"] = np.add.reduceat(frame["size"].to_numpy(dtype=float), starts)
-            what = ("defectives over its items checked" if kind == "defectives"
-                    else "defects over its area of opportunity")
+            what = (
+                "defectives over its items checked"
+                if kind == "defectives"
+                else "defects over its area of opportunity"
+            )
         else:  # defects counted per row: each row is one unit inspected
             cols["size"] = sizes.astype(float)
             what = "defects per row (each row one unit inspected)"
         cols["n"] = sizes
         cols["segment"] = segment
         tail = f": the {per}'s {what}"
-    reason = (f"{head}{tail}. The histogram, box plot and capability use every value; the "
-              "full-resolution data stay in the metric's own file.")
+    reason = (
+        f"{head}{tail}. The histogram, box plot and capability use every value; the "
+        "full-resolution data stay in the metric's own file."
+    )
     if kind in ("defectives", "defects"):
         reason = f"{head}{tail}."
     return ByPeriod(per, points, count, DRAWN_POINTS_MAX, how, reason), cols, groups
@@ -1322,8 +1556,9 @@ def _rollup(frame: pd.DataFrame, spec: MetricSpec, kind: str, flags: bool) -> di
         pts["size"] = g["size"].sum() if "size" in frame else 1.0
     else:
         stat = spec.rollup.statistic
-        pts = pd.DataFrame({"value": getattr(g["value"], stat)() if stat != "count"
-                            else g["value"].count()})
+        pts = pd.DataFrame(
+            {"value": getattr(g["value"], stat)() if stat != "count" else g["value"].count()}
+        )
     pts["n"] = g.size()
     cols = {"period": pts.index.to_numpy()}
     cols.update((c, pts[c].to_numpy()) for c in pts.columns)
@@ -1348,8 +1583,12 @@ def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
         k = spec.subgroup_size or 1
         n = len(frame)
         if n % k:
-            out.add(None, "subgroup_size", f"the last subgroup has {n % k} of {k} rows; it is "
-                    "used as a smaller subgroup", severity="warning")
+            out.add(
+                None,
+                "subgroup_size",
+                f"the last subgroup has {n % k} of {k} rows; it is used as a smaller subgroup",
+                severity="warning",
+            )
         codes = np.arange(n) // k
         order = np.arange(n)
         sizes = np.bincount(codes) if n else np.zeros(0, dtype=int)
@@ -1361,8 +1600,12 @@ def _subgroups(frame: pd.DataFrame, spec: MetricSpec, out: _Rows):
     if spec.subgroup is None and (times[1:] >= times[:-1]).all():
         first = times[bounds[:-1]]  # consecutive rows in time order: the earliest is the first
     else:
-        first = pd.Series(times[order]).groupby(
-            np.repeat(np.arange(sizes.size), sizes)).min().to_numpy()
+        first = (
+            pd.Series(times[order])
+            .groupby(np.repeat(np.arange(sizes.size), sizes))
+            .min()
+            .to_numpy()
+        )
     cols = {
         "period": first,
         "value": sums / sizes,
@@ -1425,29 +1668,47 @@ def _study_shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Ro
     before = len(out.problems)
     values = _numbers(df, spec.value, spec, out, what="a measurement")
     # _numbers leaves a blank value out with a warning; a study needs every trial measured
-    out.problems[before:] = [p for p in out.problems[before:] if not (
-        p.severity == "warning" and p.message.startswith("blank cell"))]
+    out.problems[before:] = [
+        p
+        for p in out.problems[before:]
+        if not (p.severity == "warning" and p.message.startswith("blank cell"))
+    ]
     labels = {}
     for key, col in (("part", spec.part), ("appraiser", spec.appraiser)):
         cells = _text(df[col]).map(clean_label)
-        out.rows(list(df.index[(cells == "").to_numpy()]), f"column '{col}'",
-                 f"blank cell; every measurement names its {key}")
+        out.rows(
+            list(df.index[(cells == "").to_numpy()]),
+            f"column '{col}'",
+            f"blank cell; every measurement names its {key}",
+        )
         labels[key] = cells.to_numpy(dtype=object)
-    out.rows(list(df.index[(_text(df[spec.value]) == "").to_numpy()]),
-             f"column '{spec.value}'", "blank cell; a measurement study needs every trial "
-             "measured (a missing trial leaves its part and appraiser short of the others)")
+    out.rows(
+        list(df.index[(_text(df[spec.value]) == "").to_numpy()]),
+        f"column '{spec.value}'",
+        "blank cell; a measurement study needs every trial "
+        "measured (a missing trial leaves its part and appraiser short of the others)",
+    )
     out.raise_if_failed()
     parts, apprs = labels["part"], labels["appraiser"]
     lines = df.index.to_numpy(dtype=np.int64)
     part_names = list(dict.fromkeys(parts.tolist()))
     appr_names = list(dict.fromkeys(apprs.tolist()))
-    for key, col, names, least in (("part", spec.part, part_names, "10 are usual"),
-                                   ("appraiser", spec.appraiser, appr_names, "2 or 3 are usual")):
+    for key, col, names, least in (
+        ("part", spec.part, part_names, "10 are usual"),
+        ("appraiser", spec.appraiser, appr_names, "2 or 3 are usual"),
+    ):
         if len(names) < 2:
-            out.add(None, f"column '{col}'", f"every row names the same {key} ({names[0]!r}); a "
-                    f"measurement study needs at least two {key}s ({least}: AIAG, from memory)"
-                    + ("; reproducibility cannot be estimated from one" if key == "appraiser"
-                       else "; the parts' spread is what the gauge is judged against"))
+            out.add(
+                None,
+                f"column '{col}'",
+                f"every row names the same {key} ({names[0]!r}); a "
+                f"measurement study needs at least two {key}s ({least}: AIAG, from memory)"
+                + (
+                    "; reproducibility cannot be estimated from one"
+                    if key == "appraiser"
+                    else "; the parts' spread is what the gauge is judged against"
+                ),
+            )
     out.raise_if_failed()
     cell_lines: dict[tuple[str, str], list[int]] = {}
     for p, o, line in zip(parts.tolist(), apprs.tolist(), lines.tolist(), strict=True):
@@ -1455,32 +1716,58 @@ def _study_shape(spec: MetricSpec, df: pd.DataFrame, header: list[str], out: _Ro
     empty = [(p, o) for p in part_names for o in appr_names if (p, o) not in cell_lines]
     if empty:
         p, o = empty[0]
-        more = (f" ({len(empty)} pairs of part and appraiser have no measurement)"
-                if len(empty) > 1 else "")
-        out.add(None, f"column '{spec.appraiser}'", f"appraiser {o!r} never measured part {p!r}"
-                f"{more}; in a crossed study every appraiser measures every part")
+        more = (
+            f" ({len(empty)} pairs of part and appraiser have no measurement)"
+            if len(empty) > 1
+            else ""
+        )
+        out.add(
+            None,
+            f"column '{spec.appraiser}'",
+            f"appraiser {o!r} never measured part {p!r}"
+            f"{more}; in a crossed study every appraiser measures every part",
+        )
         out.raise_if_failed()
     counts = [len(v) for v in cell_lines.values()]
     usual = max(set(counts), key=lambda n: (counts.count(n), n))  # the most common, then most
-    odd = sorted(((k, v) for k, v in cell_lines.items() if len(v) != usual),
-                 key=lambda kv: kv[1][0])
+    odd = sorted(
+        ((k, v) for k, v in cell_lines.items() if len(v) != usual), key=lambda kv: kv[1][0]
+    )
     for (p, o), cl in odd[:STUDY_CELLS_LISTED]:
         shown = ", ".join(str(x) for x in cl[:MAX_LISTED_ROWS])
-        out.add(cl[0], f"column '{spec.part}'",
-                f"part {p!r} has {plural_rows(len(cl), 'measurement')} by appraiser {o!r} "
-                f"({'line' if len(cl) == 1 else 'lines'} {shown}"
-                f"{' …' if len(cl) > MAX_LISTED_ROWS else ''}), the other "
-                f"pairs {usual}; every part needs the same number of trials by every appraiser")
+        out.add(
+            cl[0],
+            f"column '{spec.part}'",
+            f"part {p!r} has {plural_rows(len(cl), 'measurement')} by appraiser {o!r} "
+            f"({'line' if len(cl) == 1 else 'lines'} {shown}"
+            f"{' …' if len(cl) > MAX_LISTED_ROWS else ''}), the other "
+            f"pairs {usual}; every part needs the same number of trials by every appraiser",
+        )
     if len(odd) > STUDY_CELLS_LISTED:
-        out.add(None, f"column '{spec.part}'", f"and {len(odd) - STUDY_CELLS_LISTED} more pairs "
-                f"of part and appraiser without {usual} trials")
+        out.add(
+            None,
+            f"column '{spec.part}'",
+            f"and {len(odd) - STUDY_CELLS_LISTED} more pairs "
+            f"of part and appraiser without {usual} trials",
+        )
     out.raise_if_failed()
     if usual < 2:
-        out.add(None, f"column '{spec.value}'", "each appraiser measured each part once; "
-                "repeatability needs at least two trials of every part by every appraiser")
+        out.add(
+            None,
+            f"column '{spec.value}'",
+            "each appraiser measured each part once; "
+            "repeatability needs at least two trials of every part by every appraiser",
+        )
         out.raise_if_failed()
-    return StudyData(spec, values.to_numpy(dtype=float), tuple(parts.tolist()),
-                     tuple(apprs.tolist()), lines, len(df), list(out.problems))
+    return StudyData(
+        spec,
+        values.to_numpy(dtype=float),
+        tuple(parts.tolist()),
+        tuple(apprs.tolist()),
+        lines,
+        len(df),
+        list(out.problems),
+    )
 
 
 def plural_rows(n: int, word: str) -> str:

@@ -76,8 +76,11 @@ class Chart:
         return chart_svg(self.spec, f"chart-{self.key}")
 
     def _repr_mimebundle_(self, include=None, exclude=None) -> dict:
-        bundle = {vegalite_media_type(self.spec): self.spec, "image/svg+xml": self.svg,
-                  "text/plain": f"{self.title}: {self.summary}"}
+        bundle = {
+            vegalite_media_type(self.spec): self.spec,
+            "image/svg+xml": self.svg,
+            "text/plain": f"{self.title}: {self.summary}",
+        }
         if include:
             bundle = {k: v for k, v in bundle.items() if k in include}
         if exclude:
@@ -104,14 +107,17 @@ class FrameAnalysis:
     warnings: tuple[str, ...] = ()
 
     def __repr__(self) -> str:
-        n = (f"{len(self.data.values)} measurements" if isinstance(self.data, StudyData)
-             else f"{len(self.data.points)} points")
-        return (f"<FrameAnalysis {self.spec.id}: {n}, charts "
-                f"{', '.join(self.charts) or 'none'}>")
+        n = (
+            f"{len(self.data.values)} measurements"
+            if isinstance(self.data, StudyData)
+            else f"{len(self.data.points)} points"
+        )
+        return f"<FrameAnalysis {self.spec.id}: {n}, charts {', '.join(self.charts) or 'none'}>"
 
 
-def analyse_frame(frame: pd.DataFrame, metric: dict, *, events=None,
-                  settings: PortfolioSettings | None = None) -> FrameAnalysis:
+def analyse_frame(
+    frame: pd.DataFrame, metric: dict, *, events=None, settings: PortfolioSettings | None = None
+) -> FrameAnalysis:
     """The analysis, results and charts of one metric from a DataFrame.
 
     *metric*: the keys of a ``[[metric]]`` table of project.toml (``time``, ``value``, … name
@@ -144,8 +150,15 @@ def analyse_frame(frame: pd.DataFrame, metric: dict, *, events=None,
         results = orjson.loads(dumps_bytes(result))  # as results.json writes it
     finally:
         memo.forget()
-    return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=history,
-                         charts=_charts(spec, cards, files), warnings=_warnings(data, a))
+    return FrameAnalysis(
+        spec=spec,
+        data=data,
+        analysis=a,
+        results=results,
+        history=history,
+        charts=_charts(spec, cards, files),
+        warnings=_warnings(data, a),
+    )
 
 
 def _charts(spec: MetricSpec, cards: list[dict], files: dict[str, bytes]) -> dict[str, Chart]:
@@ -154,17 +167,23 @@ def _charts(spec: MetricSpec, cards: list[dict], files: dict[str, bytes]) -> dic
     charts = {}
     for c in cards:
         key = c["anchor"].replace(f"{spec.id}-", "", 1)
-        charts[key] = Chart(key=key, title=c["title"], summary=c["summary"],
-                            spec=orjson.loads(files[c["spec_href"]]),
-                            findings=tuple(f["text"] for f in c["findings"]),
-                            cautions=tuple(c["cautions"]), method=c["method"])
+        charts[key] = Chart(
+            key=key,
+            title=c["title"],
+            summary=c["summary"],
+            spec=orjson.loads(files[c["spec_href"]]),
+            findings=tuple(f["text"] for f in c["findings"]),
+            cautions=tuple(c["cautions"]),
+            method=c["method"],
+        )
     return charts
 
 
 def _warnings(data, a) -> tuple[str, ...]:
     """The data's problems and the displays that failed, as printed lines."""
     return tuple(p.format() for p in data.problems) + tuple(
-        f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures)
+        f"{SOURCE}: {disp}: {msg}" for disp, msg in a.failures
+    )
 
 
 def _study_frame(spec: MetricSpec, frame: pd.DataFrame, events) -> FrameAnalysis:
@@ -177,14 +196,21 @@ def _study_frame(spec: MetricSpec, frame: pd.DataFrame, events) -> FrameAnalysis
     a = analyse_study(data)
     files: dict[str, bytes] = {}
     try:
-        section, result = study_section(a, _project(spec, events or ()), files,
-                                        list(data.problems), [])
+        section, result = study_section(
+            a, _project(spec, events or ()), files, list(data.problems), []
+        )
         results = orjson.loads(dumps_bytes(result))
     finally:
         memo.forget()
-    return FrameAnalysis(spec=spec, data=data, analysis=a, results=results, history=None,
-                         charts=_charts(spec, section["displays"], files),
-                         warnings=_warnings(data, a))
+    return FrameAnalysis(
+        spec=spec,
+        data=data,
+        analysis=a,
+        results=results,
+        history=None,
+        charts=_charts(spec, section["displays"], files),
+        warnings=_warnings(data, a),
+    )
 
 
 def _project(spec: MetricSpec, events) -> ProjectSpec:
@@ -195,9 +221,21 @@ def _project(spec: MetricSpec, events) -> ProjectSpec:
         date = day if isinstance(day, dt.date) else dt.date.fromisoformat(str(day))
         evs.append(Event(date.date() if isinstance(date, dt.datetime) else date, str(label)))
     return ProjectSpec(
-        slug="notebook", folder=Path("."), meta_path=Path(SOURCE), meta_rel=SOURCE,
-        title=spec.name, owner="", phase=PHASES[0], problem="", tags=(), notes_path=None,
-        safety_related=False, phase_dates=(), events=tuple(evs), metrics=(spec,))
+        slug="notebook",
+        folder=Path("."),
+        meta_path=Path(SOURCE),
+        meta_rel=SOURCE,
+        title=spec.name,
+        owner="",
+        phase=PHASES[0],
+        problem="",
+        tags=(),
+        notes_path=None,
+        safety_related=False,
+        phase_dates=(),
+        events=tuple(evs),
+        metrics=(spec,),
+    )
 
 
 __all__ = ["Chart", "FrameAnalysis", "analyse_frame", "vegalite_media_type"]

@@ -32,11 +32,20 @@ _DATE = {"type": "string", "pattern": r"^\d{4}-\d{2}-\d{2}"}
 
 # What a key of each kind is, when the README's example gives it no comment.
 _KIND_WORDS = {
-    "text": "text", "id": "lower-case letters, digits and hyphens", "number": "a number",
-    "integer": "a whole number", "positive": "a positive number", "boolean": "true or false",
-    "date": "a date like 2026-03-31", "period": "[start] or [start, end], dates, inclusive",
-    "text-list": "a list of text", "char": "one character", "choice": "one of the choices",
-    "bins": "a rule or a list of bin edges", "table": "a table", "tables": "tables",
+    "text": "text",
+    "id": "lower-case letters, digits and hyphens",
+    "number": "a number",
+    "integer": "a whole number",
+    "positive": "a positive number",
+    "boolean": "true or false",
+    "date": "a date like 2026-03-31",
+    "period": "[start] or [start, end], dates, inclusive",
+    "text-list": "a list of text",
+    "char": "one character",
+    "choice": "one of the choices",
+    "bins": "a rule or a list of bin edges",
+    "table": "a table",
+    "tables": "tables",
 }
 
 _TABLE_HEADER = re.compile(r"^\[\[?\s*([\w.]+)\s*\]\]?\s*(?:#\s?(.*))?$")
@@ -50,24 +59,26 @@ def readme_descriptions(readme: str) -> dict[str, dict[str, str]]:
     comment lines beneath it that continue it; a table header's comment describes the table."""
     out: dict[str, dict[str, str]] = {"project": {}, "portfolio": {}}
     lines = readme.splitlines()
-    for file, marker in (("portfolio", "`portfolio.toml` (every key optional):"),
-                         ("project", "`project.toml`, with every key:")):
+    for file, marker in (
+        ("portfolio", "`portfolio.toml` (every key optional):"),
+        ("project", "`project.toml`, with every key:"),
+    ):
         start = next(i for i, line in enumerate(lines) if line.startswith(marker))
         start = next(i for i in range(start, len(lines)) if lines[i].startswith("```toml"))
         table, last = "", None
         found = out[file]
-        for line in lines[start + 1:]:
+        for line in lines[start + 1 :]:
             if line.startswith("```"):
                 break
             if (m := _CONTINUED.match(line)) and last is not None:
                 found[last] = f"{found[last]} {m.group(1).strip()}".strip()
                 continue
-            if (m := _TABLE_HEADER.match(line)):
+            if m := _TABLE_HEADER.match(line):
                 table = m.group(1)
                 last = table
                 found[last] = (m.group(2) or "").strip()
                 continue
-            if (m := _KEY_LINE.match(line)):
+            if m := _KEY_LINE.match(line):
                 last = f"{table}.{m.group(2)}" if table else m.group(2)
                 found[last] = (m.group(3) or "").strip()
                 continue
@@ -106,8 +117,12 @@ def _value(k: Key) -> dict[str, Any]:
     if kind == "char":
         return {"type": "string", "minLength": 1, "maxLength": 1}
     if kind == "bins":
-        return {"oneOf": [{"type": "string", "enum": list(k.choices)},
-                          {"type": "array", "items": {"type": "number"}, "minItems": 2}]}
+        return {
+            "oneOf": [
+                {"type": "string", "enum": list(k.choices)},
+                {"type": "array", "items": {"type": "number"}, "minItems": 2},
+            ]
+        }
     raise ValueError(f"no schema for the kind {kind!r} of key {k.name!r}")
 
 
@@ -139,12 +154,15 @@ def _object(table: str, path: str, words: dict[str, str]) -> dict[str, Any]:
 
 
 _TITLES = {
-    "project": ("steadyline project.toml",
-                "The metadata of one improvement project: who leads it, its phase, problem, "
-                "periods, events and the metrics drawn from its CSV files."),
-    "portfolio": ("steadyline portfolio.toml",
-                  "Portfolio-wide settings for every project in the projects folder; every key "
-                  "is optional."),
+    "project": (
+        "steadyline project.toml",
+        "The metadata of one improvement project: who leads it, its phase, problem, "
+        "periods, events and the metrics drawn from its CSV files.",
+    ),
+    "portfolio": (
+        "steadyline portfolio.toml",
+        "Portfolio-wide settings for every project in the projects folder; every key is optional.",
+    ),
 }
 
 

@@ -48,19 +48,45 @@ COLUMN_OPTIONS = ("time", "value", "subgroup", "count", "size", "category")
 
 # Words in column names (matched on the lower-cased name split at "_", "-", spaces).
 _ID_NAME = re.compile(r"(^|[_\s-])(id|no|nr|num|number|serial|seq|index|row|code|key)$")
-_SIZE_NAME = re.compile(r"checked|inspected|tested|audited|sampled|painted|produced|built|"
-                        r"shipped|made|size|area|m2|total|opportunit|units")
+_SIZE_NAME = re.compile(
+    r"checked|inspected|tested|audited|sampled|painted|produced|built|"
+    r"shipped|made|size|area|m2|total|opportunit|units"
+)
 _DEFECT_NAME = re.compile(r"defects\b|defects$|blemish|flaw|scratch|faults|nonconformit")
-_CATEGORY_NAME = re.compile(r"reason|type|cause|category|kind|class|mode|failure|issue|problem|"
-                            r"defect")
-_MEASURE_NAME = re.compile(r"time|duration|minutes|hours|days|seconds|length|weight|force|"
-                           r"tension|offset|pressure|temp|speed|cost|price|height|width|"
-                           r"diameter|torque|voltage|(^|_)(mm|cm|kg|g|h|min|s|kn|n|kgf|nm)$")
+_CATEGORY_NAME = re.compile(
+    r"reason|type|cause|category|kind|class|mode|failure|issue|problem|"
+    r"defect"
+)
+_MEASURE_NAME = re.compile(
+    r"time|duration|minutes|hours|days|seconds|length|weight|force|"
+    r"tension|offset|pressure|temp|speed|cost|price|height|width|"
+    r"diameter|torque|voltage|(^|_)(mm|cm|kg|g|h|min|s|kn|n|kgf|nm)$"
+)
 _HIGHER_NAME = re.compile(r"yield|score|efficiency|uptime|availability|throughput|output")
-_UNITS = {"mm": "mm", "cm": "cm", "m": "m", "kg": "kg", "g": "g", "kn": "kN", "n": "N",
-          "kgf": "kgf", "nm": "N·m", "h": "hours", "hours": "hours", "min": "minutes",
-          "minutes": "minutes", "s": "seconds", "seconds": "seconds", "days": "days",
-          "pct": "%", "percent": "%", "m2": "m²", "bar": "bar", "c": "°C", "v": "V"}
+_UNITS = {
+    "mm": "mm",
+    "cm": "cm",
+    "m": "m",
+    "kg": "kg",
+    "g": "g",
+    "kn": "kN",
+    "n": "N",
+    "kgf": "kgf",
+    "nm": "N·m",
+    "h": "hours",
+    "hours": "hours",
+    "min": "minutes",
+    "minutes": "minutes",
+    "s": "seconds",
+    "seconds": "seconds",
+    "days": "days",
+    "pct": "%",
+    "percent": "%",
+    "m2": "m²",
+    "bar": "bar",
+    "c": "°C",
+    "v": "V",
+}
 # Subgroups: at least this many groups of 2 to 25 rows each, every group in one run of rows
 # (20 to 25 subgroups are the usual minimum for trial limits: Montgomery, Introduction to
 # Statistical Quality Control, §6.2; the size range is common practice).
@@ -109,8 +135,15 @@ class Guess:
 
 def _spec(path: Path, shown: str, csv: CsvOptions) -> MetricSpec:
     """A metric of the file, for the reader's functions (which read a metric's file)."""
-    return MetricSpec(id="start", name="start", file=path, file_rel=shown, type="continuous",
-                      better="lower", csv=csv)
+    return MetricSpec(
+        id="start",
+        name="start",
+        file=path,
+        file_rel=shown,
+        type="continuous",
+        better="lower",
+        csv=csv,
+    )
 
 
 def _sniff(raw: bytes) -> tuple[CsvOptions, list[str]]:
@@ -133,8 +166,9 @@ def _sniff(raw: bytes) -> tuple[CsvOptions, list[str]]:
             raw.decode("utf-8")
         except UnicodeDecodeError:
             encoding = "latin-1"
-            why.append("encoding: the file is not UTF-8 text; latin-1 is what older exports "
-                       "commonly use")
+            why.append(
+                "encoding: the file is not UTF-8 text; latin-1 is what older exports commonly use"
+            )
         reading = encoding
     text = head.decode(reading, errors="replace").lstrip("\ufeff")
     lines = [ln for ln in text.splitlines() if ln.strip()][:20]
@@ -151,7 +185,8 @@ def _sniff(raw: bytes) -> tuple[CsvOptions, list[str]]:
     if delimiter != ",":
         cells = [c.strip().strip('"') for ln in lines[1:] for c in ln.split(delimiter)]
         if any(re.fullmatch(r"[+-]?\d+,\d+", c) for c in cells) and not any(
-                re.fullmatch(r"[+-]?\d+\.\d+", c) for c in cells):
+            re.fullmatch(r"[+-]?\d+\.\d+", c) for c in cells
+        ):
             decimal = ","
             why.append("decimal: numbers are written with a decimal comma (0,5)")
     return CsvOptions(delimiter=delimiter, decimal=decimal, encoding=encoding), why
@@ -176,21 +211,38 @@ def _profile(df: pd.DataFrame, spec: MetricSpec) -> list[Column]:
             v = v[~np.isnan(v)]
             whole = bool((v == np.floor(v)).all())
             uniq = np.unique(v)
-            cols.append(Column(name, "number", integer=whole, nonnegative=bool((v >= 0).all()),
-                               flags=whole and set(uniq.tolist()) <= {0.0, 1.0} and uniq.size == 2,
-                               distinct=uniq.size, unique=uniq.size == v.size, values=v,
-                               cells=cells))
+            cols.append(
+                Column(
+                    name,
+                    "number",
+                    integer=whole,
+                    nonnegative=bool((v >= 0).all()),
+                    flags=whole and set(uniq.tolist()) <= {0.0, 1.0} and uniq.size == 2,
+                    distinct=uniq.size,
+                    unique=uniq.size == v.size,
+                    values=v,
+                    cells=cells,
+                )
+            )
             continue
         out = _Rows(spec)
         t = _times(df, name, spec, out)
         if not out.failed and t.notna().any():
             tv = t.dropna().to_numpy()
-            cols.append(Column(name, "time", sorted=bool((np.diff(tv) >= np.timedelta64(0))
-                                                        .all()), values=tv, cells=cells))
+            cols.append(
+                Column(
+                    name,
+                    "time",
+                    sorted=bool((np.diff(tv) >= np.timedelta64(0)).all()),
+                    values=tv,
+                    cells=cells,
+                )
+            )
             continue
         distinct = len(pd.unique(filled))
-        cols.append(Column(name, "text", distinct=distinct, unique=distinct == filled.size,
-                           cells=cells))
+        cols.append(
+            Column(name, "text", distinct=distinct, unique=distinct == filled.size, cells=cells)
+        )
     return cols
 
 
@@ -264,8 +316,7 @@ def _humane(name: str, drop_unit=True) -> str:
     return text[:1].upper() + text[1:] if text else name
 
 
-def guess(cols: list[Column], rows: int, given: dict[str, str | None],
-          type_: str | None) -> Guess:
+def guess(cols: list[Column], rows: int, given: dict[str, str | None], type_: str | None) -> Guess:
     """The data type and the columns of a metric of these columns; *given* columns and *type_*
     (from the options) are taken as they are."""
     by = {c.name: c for c in cols}
@@ -284,12 +335,17 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
         if len(times) == 1:
             why["time"] = "the only column of dates or times"
         elif in_order:
-            why["time"] = (f"of the date columns ({', '.join(c.name for c in times)}), the "
-                           + ("last " if len(in_order) > 1 else "") + "one in time order down "
-                           "the file")
+            why["time"] = (
+                f"of the date columns ({', '.join(c.name for c in times)}), the "
+                + ("last " if len(in_order) > 1 else "")
+                + "one in time order down "
+                "the file"
+            )
         else:
-            why["time"] = (f"the last of the date columns ({', '.join(c.name for c in times)})"
-                           "; none is in time order")
+            why["time"] = (
+                f"the last of the date columns ({', '.join(c.name for c in times)})"
+                "; none is in time order"
+            )
 
     kind = type_
     rollup = None
@@ -299,14 +355,27 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
             chosen[key] = col.name
             why[key] = reason
 
-    counts = [c for c in numbers if c.integer and c.nonnegative and not c.flags
-              and not _SIZE_NAME.search(_words(c.name))]
+    counts = [
+        c
+        for c in numbers
+        if c.integer and c.nonnegative and not c.flags and not _SIZE_NAME.search(_words(c.name))
+    ]
     sizes = [c for c in numbers if c.nonnegative and _SIZE_NAME.search(_words(c.name))]
-    decimals = [c for c in numbers if not c.integer or (
-        _MEASURE_NAME.search(_words(c.name)) and not _SIZE_NAME.search(_words(c.name)))]
+    decimals = [
+        c
+        for c in numbers
+        if not c.integer
+        or (_MEASURE_NAME.search(_words(c.name)) and not _SIZE_NAME.search(_words(c.name)))
+    ]
     flags = [c for c in numbers if c.flags]
-    categories = [c for c in texts if not c.unique and not _is_id(c)
-                  and c.distinct <= _MAX_CATEGORIES and c.distinct < rows / 2]
+    categories = [
+        c
+        for c in texts
+        if not c.unique
+        and not _is_id(c)
+        and c.distinct <= _MAX_CATEGORIES
+        and c.distinct < rows / 2
+    ]
 
     def pair() -> tuple[Column, Column] | None:
         if sizes and counts:
@@ -326,68 +395,107 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
     if kind is None:
         if found:
             c, s = found
-            fewer = (c.values is not None and s.values is not None and c.values.size ==
-                     s.values.size and bool((c.values <= s.values).all()))
+            fewer = (
+                c.values is not None
+                and s.values is not None
+                and c.values.size == s.values.size
+                and bool((c.values <= s.values).all())
+            )
             if _DEFECT_NAME.search(_words(c.name)) or not s.integer or not fewer:
                 kind = "defects"
-                what = ("its name says defects" if _DEFECT_NAME.search(_words(c.name)) else
-                        f"'{s.name}' is an area or amount, not a number of items" if not
-                        s.integer else f"'{c.name}' is larger than '{s.name}' in some rows")
-                why["type"] = (f"'{c.name}' counts defects (several can fall on one item: "
-                               f"{what}) over '{s.name}', the area of opportunity")
+                what = (
+                    "its name says defects"
+                    if _DEFECT_NAME.search(_words(c.name))
+                    else f"'{s.name}' is an area or amount, not a number of items"
+                    if not s.integer
+                    else f"'{c.name}' is larger than '{s.name}' in some rows"
+                )
+                why["type"] = (
+                    f"'{c.name}' counts defects (several can fall on one item: "
+                    f"{what}) over '{s.name}', the area of opportunity"
+                )
             else:
                 kind = "defectives"
-                why["type"] = (f"'{c.name}' counts items found defective out of '{s.name}' "
-                               "items checked (never more than those checked)")
+                why["type"] = (
+                    f"'{c.name}' counts items found defective out of '{s.name}' "
+                    "items checked (never more than those checked)"
+                )
         elif decimals:
             sub = _subgroup_column(cols, decimals[-1].name)
             if sub:
                 kind = "subgroups"
-                why["type"] = (f"'{decimals[-1].name}' holds measured values, in {sub[1]} groups "
-                               f"of about {sub[2]:g} rows named by '{sub[0].name}'")
+                why["type"] = (
+                    f"'{decimals[-1].name}' holds measured values, in {sub[1]} groups "
+                    f"of about {sub[2]:g} rows named by '{sub[0].name}'"
+                )
             else:
                 kind = "continuous"
                 why["type"] = f"'{decimals[-1].name}' holds measured values, one per row"
         elif flags:
             kind = "defectives"
-            why["type"] = (f"'{flags[-1].name}' holds only 0 and 1: a flag per item (1 "
-                           "defective), charted as the share of 1s per period")
+            why["type"] = (
+                f"'{flags[-1].name}' holds only 0 and 1: a flag per item (1 "
+                "defective), charted as the share of 1s per period"
+            )
         elif categories:
             kind = "categories"
             why["type"] = "a column of repeated texts and no column of measured values"
         elif counts:
             kind = "defects"
-            why["type"] = (f"'{counts[-1].name}' holds whole numbers of 0 or more, counted per "
-                           "row, with no column of items checked")
+            why["type"] = (
+                f"'{counts[-1].name}' holds whole numbers of 0 or more, counted per "
+                "row, with no column of items checked"
+            )
         else:
-            raise StartError("found no column to chart: no numbers, 0/1 flags or repeated "
-                             "texts; name the columns with --type and --value, --count or "
-                             "--category")
+            raise StartError(
+                "found no column to chart: no numbers, 0/1 flags or repeated "
+                "texts; name the columns with --type and --value, --count or "
+                "--category"
+            )
     else:
         why["type"] = "given on the command line"
 
     if kind == "continuous" and decimals:
-        take("value", decimals[-1], "numbers with decimals (a measured value)"
-             if not decimals[-1].integer else "its name says it is a measured value")
+        take(
+            "value",
+            decimals[-1],
+            "numbers with decimals (a measured value)"
+            if not decimals[-1].integer
+            else "its name says it is a measured value",
+        )
     elif kind == "subgroups":
         if decimals:
             take("value", decimals[-1], "numbers with decimals (a measured value)")
         sub = _subgroup_column(cols, chosen.get("value", ""))
         if sub:
-            take("subgroup", sub[0], f"names {sub[1]} groups of about {sub[2]:g} consecutive "
-                 "rows each")
+            take(
+                "subgroup",
+                sub[0],
+                f"names {sub[1]} groups of about {sub[2]:g} consecutive rows each",
+            )
     elif kind in ("defectives", "defects") and found:
         c, s = found
         take("count", c, "whole numbers of 0 or more: the number found in each row")
-        take("size", s, ("the number of items checked in each row" if kind == "defectives"
-                         else "the area of opportunity of each row (what was inspected)"))
+        take(
+            "size",
+            s,
+            (
+                "the number of items checked in each row"
+                if kind == "defectives"
+                else "the area of opportunity of each row (what was inspected)"
+            ),
+        )
     elif kind == "defectives" and flags:
         take("value", flags[-1], "only 0 and 1: one flag per item")
     elif kind == "categories" and categories:
         named = [c for c in categories if _CATEGORY_NAME.search(_words(c.name))]
         pick = (named or categories)[-1]
-        take("category", pick, f"{pick.distinct} distinct texts, repeated down the file"
-             + (", and its name says it sorts the rows" if named else ""))
+        take(
+            "category",
+            pick,
+            f"{pick.distinct} distinct texts, repeated down the file"
+            + (", and its name says it sorts the rows" if named else ""),
+        )
     elif kind == "defects" and counts:
         take("count", counts[-1], "whole numbers of 0 or more: the number found in each row")
 
@@ -396,9 +504,11 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
         if t is not None and t.values is not None:
             period, med = _rollup_period(t.values)
             rollup = (period, "proportion")
-            why["rollup"] = (f"a 0/1 flag per item is charted per period: a {period} holds "
-                             f"{med:g} rows (the median), the shortest period with "
-                             f"{_MIN_ROWS_PER_PERIOD} or more")
+            why["rollup"] = (
+                f"a 0/1 flag per item is charted per period: a {period} holds "
+                f"{med:g} rows (the median), the shortest period with "
+                f"{_MIN_ROWS_PER_PERIOD} or more"
+            )
 
     _needs(kind, chosen)
     better = "lower"
@@ -407,8 +517,10 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
         better = "higher"
         why["better"] = "its name says more is better; check it"
     elif measured:
-        why["better"] = ("a guess: lower for most measures of time, cost and deviation; set "
-                         "\"higher\", or \"target\" with a target, if that is what better is")
+        why["better"] = (
+            "a guess: lower for most measures of time, cost and deviation; set "
+            '"higher", or "target" with a target, if that is what better is'
+        )
     else:
         why["better"] = "fewer defects, defectives or occurrences are better"
     return Guess(kind, better, chosen, why, rollup=rollup, rows=rows)
@@ -416,10 +528,13 @@ def guess(cols: list[Column], rows: int, given: dict[str, str | None],
 
 # What each data type needs, in the words of the command's options (config's shape check says
 # the same of a project.toml).
-_NEEDS = {"continuous": (("time",), ("value",)), "subgroups": (("time",), ("value",),
-                                                               ("subgroup",)),
-          "defectives": (("time",), ("count", "value")), "defects": (("time",), ("count",)),
-          "categories": (("category",),)}
+_NEEDS = {
+    "continuous": (("time",), ("value",)),
+    "subgroups": (("time",), ("value",), ("subgroup",)),
+    "defectives": (("time",), ("count", "value")),
+    "defects": (("time",), ("count",)),
+    "categories": (("category",),),
+}
 
 
 def _needs(kind: str, chosen: dict[str, str]) -> None:
@@ -428,11 +543,15 @@ def _needs(kind: str, chosen: dict[str, str]) -> None:
         if not any(o in chosen for o in options):
             what = " or ".join(f"--{o}" for o in options)
             found = "dates or times" if options == ("time",) else "that fits"
-            raise StartError(f"a {kind} metric needs a {options[0]} column and none {found} was "
-                             f"found; name it with {what}")
+            raise StartError(
+                f"a {kind} metric needs a {options[0]} column and none {found} was "
+                f"found; name it with {what}"
+            )
     if kind == "defectives" and "count" in chosen and "size" not in chosen:
-        raise StartError("a defectives metric with a count column needs a size column (the "
-                         "items checked) and none was found; name it with --size")
+        raise StartError(
+            "a defectives metric with a count column needs a size column (the "
+            "items checked) and none was found; name it with --size"
+        )
 
 
 # ----------------------------------------------------------------------------- writing
@@ -453,8 +572,15 @@ def _comment(text: str, width: int = 98) -> list[str]:
     return lines
 
 
-def render(folder: Path, data: str, g: Guess, sniffed: list[str], owner: str, title: str | None,
-           problem: str | None) -> str:
+def render(
+    folder: Path,
+    data: str,
+    g: Guess,
+    sniffed: list[str],
+    owner: str,
+    title: str | None,
+    problem: str | None,
+) -> str:
     slug = folder.name
     measure = g.columns.get("value") or g.columns.get("count") or g.columns.get("category") or ""
     if g.type == "defects" and g.columns.get("size"):
@@ -466,33 +592,59 @@ def render(folder: Path, data: str, g: Guess, sniffed: list[str], owner: str, ti
         mid = "metric-" + mid
     unit = _unit_of(g.columns["value"]) if g.type in ("continuous", "subgroups") else ""
     if g.type == "defectives" and g.columns.get("size"):
-        unit = _name_words(g.columns["size"])[0].lower() if len(
-            _name_words(g.columns["size"])) > 1 else ""
+        unit = (
+            _name_words(g.columns["size"])[0].lower()
+            if len(_name_words(g.columns["size"])) > 1
+            else ""
+        )
     project_title = title or _humane(slug.replace("-", "_"), drop_unit=False)
-    span = (f"from {g.dates[0].isoformat()} to {g.dates[1].isoformat()}" if g.dates else "")
+    span = f"from {g.dates[0].isoformat()} to {g.dates[1].isoformat()}" if g.dates else ""
     statement = problem or f"{name}: {g.rows} rows of {data}{' ' + span if span else ''}."
 
-    out = _comment(f"Written by `steadyline start` from {data} ({g.rows} data rows). Every "
-                   "value is a guess from the data; the comment above each says what it rests "
-                   "on. Check them, then run `steadyline check`. Every key is explained in the "
-                   "README (The project folder format).") + [""]
+    out = _comment(
+        f"Written by `steadyline start` from {data} ({g.rows} data rows). Every "
+        "value is a guess from the data; the comment above each says what it rests "
+        "on. Check them, then run `steadyline check`. Every key is explained in the "
+        "README (The project folder format)."
+    ) + [""]
 
     def key(k: str, value: str, reason: str) -> None:
         out.extend(_comment(reason[:1].upper() + reason[1:]))
         out.append(f"{k} = {value}")
 
-    key("title", _q(project_title), "From the folder's name." if not title else
-        "Given on the command line.")
-    key("owner", _q(owner), "Who ran `steadyline start`; put the name of the project's lead."
-        if owner == _default_owner() else "Given on the command line.")
-    key("phase", _q("measure"), "A project with its first data is measuring its baseline: "
-        "define | measure | analyze | improve | control.")
-    key("problem", _q(statement), "Given on the command line." if problem else
-        "Say what goes wrong, how often, and what it costs; this line only describes the data.")
+    key(
+        "title",
+        _q(project_title),
+        "From the folder's name." if not title else "Given on the command line.",
+    )
+    key(
+        "owner",
+        _q(owner),
+        "Who ran `steadyline start`; put the name of the project's lead."
+        if owner == _default_owner()
+        else "Given on the command line.",
+    )
+    key(
+        "phase",
+        _q("measure"),
+        "A project with its first data is measuring its baseline: "
+        "define | measure | analyze | improve | control.",
+    )
+    key(
+        "problem",
+        _q(statement),
+        "Given on the command line."
+        if problem
+        else "Say what goes wrong, how often, and what it costs; this line only describes the data.",
+    )
     out.append("")
     if g.dates:
-        out.extend(_comment("All the data so far is the baseline. When a change is made, end "
-                            "the baseline before it and add after = [its first day]."))
+        out.extend(
+            _comment(
+                "All the data so far is the baseline. When a change is made, end "
+                "the baseline before it and add after = [its first day]."
+            )
+        )
         out.append("[comparison]")
         out.append(f"baseline = [{g.dates[0].isoformat()}, {g.dates[1].isoformat()}]")
         out.append("")
@@ -501,15 +653,24 @@ def render(folder: Path, data: str, g: Guess, sniffed: list[str], owner: str, ti
     key("name", _q(name), "From the charted column's name; say what is measured.")
     key("file", _q(data), "The data file this project was started from.")
     if g.sheet is not None:
-        key("sheet", _q(g.sheet), "The workbook's first sheet, which was read; name another "
-            "sheet here to chart it instead.")
+        key(
+            "sheet",
+            _q(g.sheet),
+            "The workbook's first sheet, which was read; name another "
+            "sheet here to chart it instead.",
+        )
     key("type", _q(g.type), g.why["type"] + ".")
     for col in COLUMN_OPTIONS:
         if col in g.columns:
             key(col, _q(g.columns[col]), g.why.get(col, "given on the command line") + ".")
     if unit:
-        key("unit", _q(unit), "From the end of the column's name." if g.type != "defectives"
-            else "What is checked, from the name of the column of items checked.")
+        key(
+            "unit",
+            _q(unit),
+            "From the end of the column's name."
+            if g.type != "defectives"
+            else "What is checked, from the name of the column of items checked.",
+        )
     key("better", _q(g.better), g.why["better"][:1].upper() + g.why["better"][1:] + ".")
     csv_lines = []
     defaults = CsvOptions()
@@ -534,9 +695,15 @@ def _default_owner() -> str:
         return "unknown"
 
 
-def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None] | None = None,
-          owner: str | None = None, title: str | None = None,
-          problem: str | None = None) -> tuple[Path, Guess, list[str]]:
+def start(
+    data: Path,
+    *,
+    type_: str | None = None,
+    columns: dict[str, str | None] | None = None,
+    owner: str | None = None,
+    title: str | None = None,
+    problem: str | None = None,
+) -> tuple[Path, Guess, list[str]]:
     """Write ``project.toml`` beside *data*; the path written, the guesses and notes to print.
     Raises StartError when it cannot (no such file, a project.toml already there, nothing to
     chart); nothing is written then."""
@@ -544,16 +711,20 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
 
     columns = columns or {}
     if type_ == DataType.STUDY:  # no time column, no guess to make: written by hand
-        raise StartError(f"--type {type_}: start writes process metrics; a measurement study "
-                         "names its part, appraiser and value columns by hand (see the README)")
+        raise StartError(
+            f"--type {type_}: start writes process metrics; a measurement study "
+            "names its part, appraiser and value columns by hand (see the README)"
+        )
     if type_ is not None and type_ not in PROCESS_TYPES:
         raise StartError(f"--type must be one of {', '.join(PROCESS_TYPES)}, got {type_!r}")
     folder = data.parent
     target = folder / PROJECT_FILE
     shown = os.fspath(data)
     if files.exists(target):
-        raise StartError(f"{target}: already exists; steadyline start never overwrites a file: "
-                         "edit it, or move it away first")
+        raise StartError(
+            f"{target}: already exists; steadyline start never overwrites a file: "
+            "edit it, or move it away first"
+        )
     try:
         raw = files.read_bytes(data)  # only a regular file is opened, read-only
     except files.Unreadable as e:
@@ -571,8 +742,10 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
     df = pd.DataFrame({c: _text(df[c]) for c in df.columns}, index=df.index)  # stripped text
     for k, v in columns.items():
         if v is not None and v not in df.columns:
-            raise StartError(f"{shown}: --{k} {v!r}: no such column; the file has columns: "
-                             f"{', '.join(df.columns)}")
+            raise StartError(
+                f"{shown}: --{k} {v!r}: no such column; the file has columns: "
+                f"{', '.join(df.columns)}"
+            )
     cols = _profile(df, spec)
     g = guess(cols, len(df), columns, type_)
     g.csv = csv
@@ -583,10 +756,13 @@ def start(data: Path, *, type_: str | None = None, columns: dict[str, str | None
         g.dates = (pd.Timestamp(lo).date(), pd.Timestamp(hi).date())
     notes = []
     if not SLUG_RE.match(folder.resolve().name):
-        notes.append(f"the folder name {folder.resolve().name!r} is not a valid project slug; "
-                     "rename it with lower-case letters, digits and hyphens before building")
-    text = render(folder.resolve(), data.name, g, sniffed, owner or _default_owner(), title,
-                  problem)
+        notes.append(
+            f"the folder name {folder.resolve().name!r} is not a valid project slug; "
+            "rename it with lower-case letters, digits and hyphens before building"
+        )
+    text = render(
+        folder.resolve(), data.name, g, sniffed, owner or _default_owner(), title, problem
+    )
     _write_new(target, text)
     return target, g, notes
 
@@ -600,8 +776,10 @@ def _write_new(target: Path, text: str) -> None:
     try:
         fd = os.open(target, os.O_WRONLY | os.O_CREAT | os.O_EXCL | os.O_CLOEXEC, 0o666)
     except FileExistsError:
-        raise StartError(f"{target}: already exists; steadyline start never overwrites a "
-                         "file: edit it, or move it away first") from None
+        raise StartError(
+            f"{target}: already exists; steadyline start never overwrites a "
+            "file: edit it, or move it away first"
+        ) from None
     except OSError as e:
         raise StartError(f"{target}: cannot write it: {e.strerror}") from None
     try:

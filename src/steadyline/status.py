@@ -71,11 +71,11 @@ LABELS = {
 # What each status means, once, for the index's legend and the README.
 MEANINGS = {
     Status.NOT_BUILT: "the project's files have errors, or its headline metric's data do, so "
-                      "there is nothing to judge it by",
+    "there is nothing to judge it by",
     Status.WORSE: "the headline metric moved in the worse direction, unlikely to be chance",
     Status.STALE: "no data for longer than the portfolio's stale_after_days before the build",
     Status.NOT_STABLE: "better, unlikely to be chance, but the after phase is not (yet) shown "
-                       "stable on its own control limits",
+    "stable on its own control limits",
     Status.NO_CLEAR_CHANGE: "the before-and-after test cannot tell the change from chance",
     Status.NOT_JUDGED: "the headline metric has no before-and-after test to judge by",
     Status.BASELINE_ONLY: "no after period with data yet",
@@ -124,8 +124,12 @@ class Verdict:
     note: str = ""  # what the reason adds to the card's headline line (which gives the change)
 
     def as_json(self) -> dict:
-        return {"code": str(self.status), "label": self.status.label, "reason": self.reason,
-                "note": self.note}
+        return {
+            "code": str(self.status),
+            "label": self.status.label,
+            "reason": self.reason,
+            "note": self.note,
+        }
 
 
 def _change_words(f: HeadlineFacts) -> str:
@@ -138,23 +142,29 @@ def judge(f: HeadlineFacts) -> Verdict:
     """The status of a project from its headline metric (rules in the module docstring)."""
     if not f.built:
         n = f.problem_count
-        note = (f"the headline metric could not be built: {n} problem{'' if n == 1 else 's'} "
-                "in its data; the other metrics are published")
+        note = (
+            f"the headline metric could not be built: {n} problem{'' if n == 1 else 's'} "
+            "in its data; the other metrics are published"
+        )
         return Verdict(Status.NOT_BUILT, f"{f.metric_name}: {note}", note)
     if not f.has_after:
         return Verdict(Status.BASELINE_ONLY, f"{f.metric_name}: no after period with data yet")
     if f.categories:
-        note = ("a count by category: the Pareto charts by phase show the change, there is no "
-                "test to judge it by")
+        note = (
+            "a count by category: the Pareto charts by phase show the change, there is no "
+            "test to judge it by"
+        )
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name} is {note}", note)
     if not f.compared:
         note = "the before-and-after comparison could not be made" + (
-            f": {f.failure}" if f.failure else "")
+            f": {f.failure}" if f.failure else ""
+        )
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name}: {note}", note)
     if f.p_value is None:
         if f.change == 0:
-            return Verdict(Status.NO_CLEAR_CHANGE,
-                           f"{f.metric_name}: the same in the baseline and after")
+            return Verdict(
+                Status.NO_CLEAR_CHANGE, f"{f.metric_name}: the same in the baseline and after"
+            )
         note = "no test is possible, as neither phase varies"
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name}: {note}", note)
     if f.improved is None:
@@ -162,17 +172,22 @@ def judge(f: HeadlineFacts) -> Verdict:
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name}: {note}", note)
     direction = "better" if f.improved else "worse"
     if f.p_value >= ALPHA or f.change == 0:
-        return Verdict(Status.NO_CLEAR_CHANGE, f"{f.metric_name} {_change_words(f)}, "
-                       f"{direction}, but this could be chance ({f.p_text})")
+        return Verdict(
+            Status.NO_CLEAR_CHANGE,
+            f"{f.metric_name} {_change_words(f)}, "
+            f"{direction}, but this could be chance ({f.p_text})",
+        )
     said = f"{f.metric_name} {_change_words(f)}, {direction}, unlikely to be chance ({f.p_text})"
     if not f.improved:
         return Verdict(Status.WORSE, said)
     if not f.control:
         note = "no control chart, so the after phase's stability is not judged"
     elif not f.own_limits:
-        note = (f"the after phase has {f.after_points} point{'' if f.after_points == 1 else 's'}"
-                f"; {f.own_limits_min} are needed for limits of its own, so its stability is "
-                "not yet judged")
+        note = (
+            f"the after phase has {f.after_points} point{'' if f.after_points == 1 else 's'}"
+            f"; {f.own_limits_min} are needed for limits of its own, so its stability is "
+            "not yet judged"
+        )
     elif f.after_signals:
         n = f.after_signals
         note = f"{n} signal{'' if n == 1 else 's'} on the after phase's own control limits"
@@ -207,8 +222,10 @@ def build_date(environ: os._Environ | dict | None = None) -> dt.date:
         return dt.datetime.now(dt.UTC).date()
     text = raw.strip()
     if not text.isdigit():
-        raise ValueError(f"SOURCE_DATE_EPOCH: expected a whole number of seconds since "
-                         f"1970-01-01 UTC, got {raw!r}")
+        raise ValueError(
+            f"SOURCE_DATE_EPOCH: expected a whole number of seconds since "
+            f"1970-01-01 UTC, got {raw!r}"
+        )
     try:
         return dt.datetime.fromtimestamp(int(text), dt.UTC).date()
     except (OverflowError, OSError, ValueError) as e:
@@ -222,8 +239,9 @@ def days_without_data(data_to: str, today: dt.date) -> int | None:
     return (today - dt.date.fromisoformat(data_to)).days
 
 
-def on_index(verdict: Verdict, data_to: str, today: dt.date,
-             stale_after_days: int = STALE_AFTER_DAYS) -> Verdict:
+def on_index(
+    verdict: Verdict, data_to: str, today: dt.date, stale_after_days: int = STALE_AFTER_DAYS
+) -> Verdict:
     """The status the index shows: *verdict*, unless the data are stale on *today*, in which
     case "data stale", with what the last data showed."""
     if verdict.status is Status.NOT_BUILT:  # what to fix comes first, however old the data
@@ -231,10 +249,23 @@ def on_index(verdict: Verdict, data_to: str, today: dt.date,
     days = days_without_data(data_to, today)
     if days is None or days <= stale_after_days:
         return verdict
-    note = (f"no data after {data_to}, {days} days before this build on {today.isoformat()} "
-            f"(more than {stale_after_days}); up to then: {verdict.status.label}")
+    note = (
+        f"no data after {data_to}, {days} days before this build on {today.isoformat()} "
+        f"(more than {stale_after_days}); up to then: {verdict.status.label}"
+    )
     return Verdict(Status.STALE, note, note)
 
 
-__all__ = ["ALPHA", "LABELS", "MEANINGS", "STALE_AFTER_DAYS", "HeadlineFacts", "Status",
-           "Verdict", "build_date", "judge", "look_at", "on_index"]
+__all__ = [
+    "ALPHA",
+    "LABELS",
+    "MEANINGS",
+    "STALE_AFTER_DAYS",
+    "HeadlineFacts",
+    "Status",
+    "Verdict",
+    "build_date",
+    "judge",
+    "look_at",
+    "on_index",
+]

@@ -210,7 +210,7 @@ def items_of(unit: str) -> str:
     """The items of a :func:`proportion_unit` ('wheels'); any other unit as it is."""
     if unit == "proportion":
         return ""
-    return unit[len(_PROPORTION_OF):] if unit.startswith(_PROPORTION_OF) else unit
+    return unit[len(_PROPORTION_OF) :] if unit.startswith(_PROPORTION_OF) else unit
 
 
 def proportion_text(value, unit: str, fmt) -> str:

@@ -65,9 +65,6 @@ _IGNORED_EVENT_TYPES = frozenset({"opened", "closed_no_write", "attrib"})
 # pure parts
 
 
-
-
-
 def _parts_under(path: str | os.PathLike, root: str | os.PathLike) -> tuple[str, ...] | None:
     """The components of *path* below *root*, or None when it is not inside it."""
     rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
@@ -201,10 +198,11 @@ def rebuild_line(report, slugs: set[str] | None, seconds: float) -> str:
         parts.append(f"removed {', '.join(gone)}" + ("" if rebuilt else f" {took}"))
     line = "; ".join(parts)
     if broken:
-        n = sum(p.severity == "error" for p in report.problems
-                if p.path.split("/", 1)[0] in broken)
-        line += (f" - {', '.join(broken)}: {n} error{'s' if n != 1 else ''}, shown on "
-                 f"{'its page' if len(broken) == 1 else 'their pages'}")
+        n = sum(p.severity == "error" for p in report.problems if p.path.split("/", 1)[0] in broken)
+        line += (
+            f" - {', '.join(broken)}: {n} error{'s' if n != 1 else ''}, shown on "
+            f"{'its page' if len(broken) == 1 else 'their pages'}"
+        )
     return line
 
 
@@ -243,8 +241,10 @@ def make_server(out: Path, port: int) -> ThreadingHTTPServer:
     try:
         server = ThreadingHTTPServer((host, port), handler)
     except OSError as e:
-        raise BuildError(f"cannot serve on {host}:{port}: {e.strerror or e} "
-                         "(choose another --port, or --no-serve)") from e
+        raise BuildError(
+            f"cannot serve on {host}:{port}: {e.strerror or e} "
+            "(choose another --port, or --no-serve)"
+        ) from e
     server.daemon_threads = True
     return server
 
@@ -262,8 +262,15 @@ class _Stop(BaseException):
     KeyboardInterrupt, so that no `except Exception` on the way swallows it."""
 
 
-def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
-          jobs: int | None = None, debug: bool = False, quiet: bool = False) -> int:
+def watch(
+    projects_dir: Path,
+    out: Path,
+    port: int = 8000,
+    serve: bool = True,
+    jobs: int | None = None,
+    debug: bool = False,
+    quiet: bool = False,
+) -> int:
     """Build once, then (optionally) serve *out* on 127.0.0.1:*port* and rebuild on changes
     until Ctrl-C / SIGINT / SIGTERM. Returns 0 after a clean stop.
 
@@ -316,8 +323,9 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
                     return
                 if event.is_directory and event.event_type == "modified":
                     return  # a folder's listing changed: its files' own events say what
-                paths = [os.fsdecode(p) for p in (event.src_path, getattr(event, "dest_path", ""))
-                         if p]
+                paths = [
+                    os.fsdecode(p) for p in (event.src_path, getattr(event, "dest_path", "")) if p
+                ]
                 paths = [p for p in paths if relevant(p, root)]
                 if paths:
                     with cond:
@@ -334,20 +342,22 @@ def watch(projects_dir: Path, out: Path, port: int = 8000, serve: bool = True,
         for line in problem_lines(report.problems):
             _say(line)
         if not quiet:
-            _say(f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-                 f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
-                 f"site at {out}")
+            _say(
+                f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+                f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
+                f"site at {out}"
+            )
         warm_up(root)
         standby = Standby(out)
         standby.prepare()
 
         if server is not None:
-            server_thread = threading.Thread(target=server.serve_forever,
-                                             name="steadyline-serve", daemon=True)
+            server_thread = threading.Thread(
+                target=server.serve_forever, name="steadyline-serve", daemon=True
+            )
             server_thread.start()
             host, real_port = server.server_address[:2]
-            _say(f"serving http://{host}:{real_port}/ - watching {projects_dir} "
-                 "(Ctrl-C to stop)")
+            _say(f"serving http://{host}:{real_port}/ - watching {projects_dir} (Ctrl-C to stop)")
         elif not quiet:
             _say(f"watching {projects_dir} (Ctrl-C to stop)")
 
@@ -403,8 +413,18 @@ def warm_up(root: Path) -> None:
         pass
 
 
-def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
-             build, BuildOptions, lock, standby=None) -> None:
+def _rebuild(
+    batch: set,
+    root: Path,
+    out: Path,
+    jobs,
+    debug: bool,
+    quiet: bool,
+    build,
+    BuildOptions,
+    lock,
+    standby=None,
+) -> None:
     slugs = changed_slugs(batch, root)
     if slugs is not None:
         slugs = known_slugs(slugs, root, out)
@@ -414,8 +434,18 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
     try:
         # A change to portfolio.toml rebuilds everything (force); otherwise the changed projects
         # are named, and any other project whose inputs changed is still caught by its hash.
-        opts = BuildOptions(root, out, force=slugs is None, jobs=jobs, live=True, debug=debug,
-                            only=slugs, lock=lock, trust_unnamed=True, standby=standby)
+        opts = BuildOptions(
+            root,
+            out,
+            force=slugs is None,
+            jobs=jobs,
+            live=True,
+            debug=debug,
+            only=slugs,
+            lock=lock,
+            trust_unnamed=True,
+            standby=standby,
+        )
         report = build(opts)
     except SteadylineError as e:
         _say(f"steadyline: {e}")
@@ -423,8 +453,10 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
     except Exception as e:  # keep watching: the next save may fix it
         if debug:
             traceback.print_exc()
-        _say(f"steadyline: internal error: {type(e).__name__}: {e}"
-             + ("" if debug else " (run with --debug for the traceback)"))
+        _say(
+            f"steadyline: internal error: {type(e).__name__}: {e}"
+            + ("" if debug else " (run with --debug for the traceback)")
+        )
         return
     finally:
         if standby is not None:
@@ -437,6 +469,16 @@ def _rebuild(batch: set, root: Path, out: Path, jobs, debug: bool, quiet: bool,
         _say(rebuild_line(report, slugs, seconds))
 
 
-__all__ = ["CAP_S", "QUIET_S", "Debouncer", "changed_slugs", "is_ignored", "known_slugs",
-           "make_server",
-           "problem_lines", "rebuild_line", "relevant", "watch"]
+__all__ = [
+    "CAP_S",
+    "QUIET_S",
+    "Debouncer",
+    "changed_slugs",
+    "is_ignored",
+    "known_slugs",
+    "make_server",
+    "problem_lines",
+    "rebuild_line",
+    "relevant",
+    "watch",
+]

@@ -38,9 +38,22 @@ pytestmark = pytest.mark.browser
 # Every own property of Object.prototype (ECMA-262 §20.1.3 and annex B.2.2), plus names a
 # careless page script or expression could take for something else.
 BUILTIN_NAMES = [
-    "constructor", "__proto__", "toString", "hasOwnProperty", "valueOf", "isPrototypeOf",
-    "propertyIsEnumerable", "toLocaleString", "__defineGetter__", "__defineSetter__",
-    "__lookupGetter__", "__lookupSetter__", "prototype", "length", "datum", "then",
+    "constructor",
+    "__proto__",
+    "toString",
+    "hasOwnProperty",
+    "valueOf",
+    "isPrototypeOf",
+    "propertyIsEnumerable",
+    "toLocaleString",
+    "__defineGetter__",
+    "__defineSetter__",
+    "__lookupGetter__",
+    "__lookupSetter__",
+    "prototype",
+    "length",
+    "datum",
+    "then",
 ]
 BASELINE = (date(2026, 1, 5), date(2026, 2, 27))
 AFTER = (date(2026, 3, 2), date(2026, 4, 24))
@@ -75,7 +88,9 @@ def _many_counts() -> Counter:
     the rest of 1 to 3 each."""
     counts = Counter()
     for i in range(MANY):
-        counts[f"cause {i:04d}"] = 9000 - 500 * i if i < 10 else 100 - 3 * i if i < 30 else 1 + i % 3
+        counts[f"cause {i:04d}"] = (
+            9000 - 500 * i if i < 10 else 100 - 3 * i if i < 30 else 1 + i % 3
+        )
     return counts
 
 
@@ -86,8 +101,17 @@ def _csv(rows) -> str:
 def _categories_meta(slug: str, comparison: str | None, **metric) -> str:
     return meta(
         {"title": slug},
-        {"id": "reasons", "name": "Reasons", "file": "reasons.csv", "type": "categories",
-         "time": "day", "value": None, "category": "reason", "unit": "cases"} | metric,
+        {
+            "id": "reasons",
+            "name": "Reasons",
+            "file": "reasons.csv",
+            "type": "categories",
+            "time": "day",
+            "value": None,
+            "category": "reason",
+            "unit": "cases",
+        }
+        | metric,
         comparison=comparison,
     )
 
@@ -110,16 +134,20 @@ def category_site(tmp_path_factory):
     builtin_rows, base, after = _builtin_rows()
     many = _many_counts()
     many_csv = "day,reason,n\n" + "".join(
-        f"{d},{r},{many[r]}\n" for d, r in zip(_days(BASELINE[0], MANY), many, strict=True))
-    periods = (f"baseline = [{BASELINE[0]}, {BASELINE[1]}]\n"
-               f"after = [{AFTER[0]}, {AFTER[1]}]")
-    projects = write(root / "projects", {
-        "builtin-names/project.toml": _categories_meta("builtin-names", periods,
-                                                       **BUILTIN_METRIC),
-        "builtin-names/reasons.csv": _csv(builtin_rows),
-        "many-categories/project.toml": _categories_meta("many-categories", None, count="n"),
-        "many-categories/reasons.csv": many_csv,
-    })
+        f"{d},{r},{many[r]}\n" for d, r in zip(_days(BASELINE[0], MANY), many, strict=True)
+    )
+    periods = f"baseline = [{BASELINE[0]}, {BASELINE[1]}]\nafter = [{AFTER[0]}, {AFTER[1]}]"
+    projects = write(
+        root / "projects",
+        {
+            "builtin-names/project.toml": _categories_meta(
+                "builtin-names", periods, **BUILTIN_METRIC
+            ),
+            "builtin-names/reasons.csv": _csv(builtin_rows),
+            "many-categories/project.toml": _categories_meta("many-categories", None, count="n"),
+            "many-categories/reasons.csv": many_csv,
+        },
+    )
     report = build(BuildOptions(projects, root / "site", force=True, jobs=1))
     assert report.ok and sorted(report.built) == ["builtin-names", "many-categories"], report
     server = http.server.ThreadingHTTPServer(
@@ -129,8 +157,10 @@ def category_site(tmp_path_factory):
     server.daemon_threads = True
     thread = threading.Thread(target=server.serve_forever, daemon=True)
     thread.start()
-    yield f"http://127.0.0.1:{server.server_address[1]}/", {
-        "base": base, "after": after, "many": many, "site": root / "site"}
+    yield (
+        f"http://127.0.0.1:{server.server_address[1]}/",
+        {"base": base, "after": after, "many": many, "site": root / "site"},
+    )
     server.shutdown()
     server.server_close()
 
@@ -189,15 +219,22 @@ def _draw(browser, url: str) -> dict:
     ctx.set_default_timeout(60_000)
     page = ctx.new_page()
     problems: list[str] = []
-    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}")
-            if m.type in ("error", "warning") else None)
+    page.on(
+        "console",
+        lambda m: (
+            problems.append(f"console {m.type}: {m.text}")
+            if m.type in ("error", "warning")
+            else None
+        ),
+    )
     page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
     try:
         page.goto(url, wait_until="load")
         drawn = page.evaluate(BARS)
         states = page.evaluate(
             "() => Array.from(document.querySelectorAll('.chart'), "
-            "c => [c.id, c.getAttribute('data-render')])")
+            "c => [c.id, c.getAttribute('data-render')])"
+        )
     finally:
         ctx.close()
     assert problems == [], problems
@@ -223,10 +260,13 @@ def test_builtin_names_draw_like_any_other(browser, category_site):
     base, after = counts["base"], counts["after"]
     # the project page counts the baseline, like its other displays
     page = _draw(browser, base_url + "projects/builtin-names/index.html")
-    _check_panel(page["chart-reasons-pareto"], 0,
-                 [(n, base[n]) for n in _ranked(base)], "Pareto")
-    _check_panel(page["chart-reasons-column"], 0,
-                 [(n, base[n]) for n in sorted(base, key=str.casefold)], "column chart")
+    _check_panel(page["chart-reasons-pareto"], 0, [(n, base[n]) for n in _ranked(base)], "Pareto")
+    _check_panel(
+        page["chart-reasons-column"],
+        0,
+        [(n, base[n]) for n in sorted(base, key=str.casefold)],
+        "column chart",
+    )
 
     # before and after: the baseline panel descending, the after panel in the baseline's
     # order, the names new after the baseline appended, largest first
@@ -250,7 +290,8 @@ def _vital_few(counts: Counter, threshold: float = 80.0) -> list[str]:
 
 
 def test_thousands_of_categories_draw_the_largest_and_one_bar_for_the_others(
-        browser, category_site):
+    browser, category_site
+):
     import json
 
     base_url, data = category_site
@@ -262,8 +303,9 @@ def test_thousands_of_categories_draw_the_largest_and_one_bar_for_the_others(
     page = _draw(browser, base_url + "projects/many-categories/index.html")
 
     pareto = page["chart-reasons-pareto"]
-    _check_panel(pareto, 0, [(n, many[n]) for n in ranked[:MANY_SHOWN]] + [(others, rest)],
-                 "Pareto")
+    _check_panel(
+        pareto, 0, [(n, many[n]) for n in ranked[:MANY_SHOWN]] + [(others, rest)], "Pareto"
+    )
     assert pareto["lines"] and pareto["lines"][0][-1] == 100  # the line ends at 100%
     assert others in pareto["shown"]  # the last bar's label is drawn whole, not cut short
     vital = _vital_few(many)
@@ -290,5 +332,4 @@ def test_thousands_of_categories_draw_the_largest_and_one_bar_for_the_others(
     assert [many[c] for c in listed] == [many[c] for c in ranked[:CATEGORIES_LISTED]]
     assert metric["pareto"]["categories_left_out"] == MANY - CATEGORIES_LISTED
     assert metric["pareto"]["vital_few"] == [v for v in vital if v in set(listed)]
-    assert (len(metric["pareto"]["vital_few"]) + metric["pareto"]["vital_few_left_out"]
-            == len(vital))
+    assert len(metric["pareto"]["vital_few"]) + metric["pareto"]["vital_few_left_out"] == len(vital)

@@ -63,8 +63,11 @@ def test_charts_are_drawn_again_for_a_narrower_window(browser, site_url, built_s
     ctx = browser.new_context(base_url=site_url, viewport={"width": 1280, "height": 900})
     ctx.set_default_timeout(30_000)
     try:
-        path = next(p for p in screenshot_pages(built_site) if p.endswith("/index.html")
-                    and p.startswith("projects/"))
+        path = next(
+            p
+            for p in screenshot_pages(built_site)
+            if p.endswith("/index.html") and p.startswith("projects/")
+        )
         page, watch = open_page(ctx, site_url, path)
         wide = page.evaluate(CHART_BOXES)
         page.set_viewport_size({"width": 700, "height": 900})
@@ -110,8 +113,7 @@ def test_a_phone_keeps_300_px_of_plot_for_time_charts(browser, site_url, built_s
                 plot = max(c["axes"] or [0])
                 least = PHONE_PLOT_MIN[bool(TIME_CHART.search(c["id"]))]
                 if plot < least:
-                    problems.append(f"{path}: {c['id']} has {plot:.0f} px of plot, "
-                                    f"not {least}")
+                    problems.append(f"{path}: {c['id']} has {plot:.0f} px of plot, not {least}")
     finally:
         ctx.close()
     assert not problems, "\n".join(problems)
@@ -120,8 +122,7 @@ def test_a_phone_keeps_300_px_of_plot_for_time_charts(browser, site_url, built_s
 A4_WIDTH_PX = 794  # 210 mm at 96 px per inch
 
 
-def test_a4_portrait_print_cuts_no_chart_label_or_point(browser, site_url, built_site,
-                                                         tmp_path):
+def test_a4_portrait_print_cuts_no_chart_label_or_point(browser, site_url, built_site, tmp_path):
     from pdfminer.high_level import extract_pages, extract_text
     from pdfminer.layout import LTChar, LTCurve, LTImage
 
@@ -136,7 +137,8 @@ def test_a4_portrait_print_cuts_no_chart_label_or_point(browser, site_url, built
                 page.evaluate(CHART_BOXES)
                 titles = page.evaluate(
                     "() => Array.from(document.querySelectorAll('.display h4'))"
-                    ".map(h => h.textContent.trim())")
+                    ".map(h => h.textContent.trim())"
+                )
                 pdf = tmp_path / (path.replace("/", "-") + ".pdf")
                 page.pdf(path=str(pdf), format="A4")
                 # the same page laid out as print at the paper's width
@@ -150,17 +152,20 @@ def test_a4_portrait_print_cuts_no_chart_label_or_point(browser, site_url, built
             # the PDF Chromium printed: every display's title is in it, nothing lies outside
             # the page box
             text = re.sub(r"\s+", "", extract_text(str(pdf)))
-            problems += [f"{path}: PDF lacks {t!r}" for t in titles
-                         if re.sub(r"\s+", "", t) not in text]
+            problems += [
+                f"{path}: PDF lacks {t!r}" for t in titles if re.sub(r"\s+", "", t) not in text
+            ]
             for n, pg in enumerate(extract_pages(str(pdf))):
                 stack = [pg]
                 while stack:
                     o = stack.pop()
                     if isinstance(o, LTChar | LTCurve | LTImage) and (
-                            o.x0 < -1 or o.y0 < -1 or o.x1 > pg.width + 1
-                            or o.y1 > pg.height + 1):
-                        problems.append(f"{path}: PDF page {n + 1}: {type(o).__name__} at "
-                                        f"{tuple(round(v) for v in o.bbox)} outside the page")
+                        o.x0 < -1 or o.y0 < -1 or o.x1 > pg.width + 1 or o.y1 > pg.height + 1
+                    ):
+                        problems.append(
+                            f"{path}: PDF page {n + 1}: {type(o).__name__} at "
+                            f"{tuple(round(v) for v in o.bbox)} outside the page"
+                        )
                     if hasattr(o, "__iter__"):
                         stack.extend(o)
     finally:

@@ -29,8 +29,7 @@ def _chart_titles(spec: dict) -> list[str]:
 
 
 @pytest.mark.parametrize("slug", PACKS)
-def test_pack_asks_for_nothing_and_prints_on_a4(browser, site_url, built_site, slug,
-                                                artifacts_dir):
+def test_pack_asks_for_nothing_and_prints_on_a4(browser, site_url, built_site, slug, artifacts_dir):
     from pdfminer.high_level import extract_pages
     from pdfminer.layout import LTChar, LTContainer, LTCurve, LTImage
 
@@ -39,8 +38,7 @@ def test_pack_asks_for_nothing_and_prints_on_a4(browser, site_url, built_site, s
     page = ctx.new_page()
     requests, errors = [], []
     page.on("request", lambda r: requests.append(r.url))
-    page.on("console", lambda m: errors.append(m.text) if m.type in ("error", "warning")
-            else None)
+    page.on("console", lambda m: errors.append(m.text) if m.type in ("error", "warning") else None)
     page.on("pageerror", lambda e: errors.append(str(e)))
     page.goto(url, wait_until="load")
     assert requests == [url], requests
@@ -62,8 +60,9 @@ def test_pack_asks_for_nothing_and_prints_on_a4(browser, site_url, built_site, s
             x0, y0, x1, y1 = obj.bbox
             tol = 0.5
             if x0 < box[0] - tol or y0 < box[1] - tol or x1 > box[2] + tol or y1 > box[3] + tol:
-                outside.append((pages, type(obj).__name__, obj.bbox,
-                                getattr(obj, "get_text", lambda: "")()))
+                outside.append(
+                    (pages, type(obj).__name__, obj.bbox, getattr(obj, "get_text", lambda: "")())
+                )
         if isinstance(obj, LTChar):
             text_parts.append(obj.get_text())
         if isinstance(obj, LTContainer):

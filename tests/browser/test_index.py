@@ -59,8 +59,9 @@ def index(browser_context, site_url):
 
 def test_the_status_filter_shows_exactly_the_projects_with_that_status(index):
     every = index.evaluate(STATE)["cards"]
-    values = [v for v in index.locator("#f-status option").evaluate_all(
-        "os => os.map(o => o.value)") if v]
+    values = [
+        v for v in index.locator("#f-status option").evaluate_all("os => os.map(o => o.value)") if v
+    ]
     assert sorted(values, key=lambda v: Status(v).rank) == values  # in the page's order
     assert {Status(v).label for v in values} == {c["status"].lower() for c in every}
     for value in values:
@@ -71,7 +72,8 @@ def test_the_status_filter_shows_exactly_the_projects_with_that_status(index):
         assert state["count"] == f"{len(want)} shown"
         # the table follows the cards, row for row
         assert {r["slug"]: not r["hidden"] for r in state["rows"]} == {
-            c["slug"]: c["visible"] for c in state["cards"]}
+            c["slug"]: c["visible"] for c in state["cards"]
+        }
     index.select_option("#f-status", "")
     assert all(c["visible"] for c in index.evaluate(STATE)["cards"])
     # a status and a search word combine
@@ -119,7 +121,8 @@ def test_the_table_view_shows_every_project_compactly(index):
     state = index.evaluate(STATE)
     assert not state["listShown"] and state["tableShown"]
     assert [(r["title"], r["status"]) for r in state["rows"]] == [
-        (c["title"], c["status"]) for c in state["cards"]]
+        (c["title"], c["status"]) for c in state["cards"]
+    ]
     assert all(r["visible"] for r in state["rows"])
     table_height = index.locator("#project-table").bounding_box()["height"]
     index.check("#f-view-cards")
@@ -141,8 +144,11 @@ def test_the_csv_link_downloads_the_headline_figures(index):
 def pdf_pages(pdf: bytes) -> int:
     """Pages of a PDF Chromium printed: its page objects, checked against the page tree."""
     pages = len(re.findall(rb"/Type\s*/Page(?![a-zA-Z])", pdf))
-    counts = [int(n) for n in re.findall(rb"/Type\s*/Pages\b[^>]*?/Count\s+(\d+)", pdf)
-              + re.findall(rb"/Count\s+(\d+)[^>]*?/Type\s*/Pages\b", pdf)]
+    counts = [
+        int(n)
+        for n in re.findall(rb"/Type\s*/Pages\b[^>]*?/Count\s+(\d+)", pdf)
+        + re.findall(rb"/Count\s+(\d+)[^>]*?/Type\s*/Pages\b", pdf)
+    ]
     assert counts and max(counts) == pages, (pages, counts)
     return pages
 
@@ -156,8 +162,7 @@ def test_the_index_prints_on_one_a4_page(browser, site_url, built_site):
         # is several pages long
         page.check("#f-view-table")
         assert pdf_pages(page.pdf(format="A4")) == 1
-        page.goto(urljoin(site_url, "projects/wheel-build-lead-time/index.html"),
-                  wait_until="load")
+        page.goto(urljoin(site_url, "projects/wheel-build-lead-time/index.html"), wait_until="load")
         page.evaluate("async () => { await window.steadylineCharts; }")
         assert pdf_pages(page.pdf(format="A4")) > 1
     finally:

@@ -40,12 +40,29 @@ def test_an_open_page_reloads_when_its_project_is_rebuilt(browser, tmp_path):
     shutil.copy(REPO / "projects" / "portfolio.toml", projects / "portfolio.toml")
     shutil.copytree(REPO / "projects" / PROJECT, projects / PROJECT)
     port = _free_port()
-    env = dict(os.environ, PYTHONPATH=str(REPO / "src") + os.pathsep
-               + os.environ.get("PYTHONPATH", ""))
+    env = dict(
+        os.environ, PYTHONPATH=str(REPO / "src") + os.pathsep + os.environ.get("PYTHONPATH", "")
+    )
     proc = subprocess.Popen(
-        [sys.executable, "-m", "steadyline", "watch", str(projects), "--out",
-         str(tmp_path / "site"), "--port", str(port), "--jobs", "1", "--quiet"],
-        env=env, stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        [
+            sys.executable,
+            "-m",
+            "steadyline",
+            "watch",
+            str(projects),
+            "--out",
+            str(tmp_path / "site"),
+            "--port",
+            str(port),
+            "--jobs",
+            "1",
+            "--quiet",
+        ],
+        env=env,
+        stdin=subprocess.DEVNULL,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
     base = f"http://127.0.0.1:{port}"
     page_url = f"{base}/projects/{PROJECT}/index.html"
     try:

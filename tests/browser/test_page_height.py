@@ -48,12 +48,12 @@ def test_the_longest_project_page_is_at_most_half_as_tall(browser, site_url, bui
     slug, tallest = max(heights.items(), key=lambda kv: kv[1])
     assert tallest <= BASELINE_PX[width] / 2, (
         f"at {width} px the longest project page, {slug}, is {tallest} px: more than half of "
-        f"{BASELINE_PX[width]} px ({heights})")
+        f"{BASELINE_PX[width]} px ({heights})"
+    )
 
 
 def test_the_more_link_opens_the_cards_data_table(browser_context, site_url):
-    page, watch = open_page(browser_context, site_url,
-                            "projects/wheel-build-lead-time/index.html")
+    page, watch = open_page(browser_context, site_url, "projects/wheel-build-lead-time/index.html")
     try:
         link = page.locator("ul.findings li.more a").first
         target = link.get_attribute("href")[1:]

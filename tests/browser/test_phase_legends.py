@@ -49,10 +49,14 @@ def test_legends_name_every_mark_and_period_in_full(browser_context, site_url, b
                 cid = f"chart-history-{h['id']}-staged-control"
                 drawn = page.evaluate(DRAWN, cid)
                 sc = h["staged_control_chart"]
-                marks = {MARK_ORDINARY} | {CHANGE_MARKS[g["direction"]]
-                                           for g in sc["change_evidence"]}
-                spec = json.loads((built_site / path).parent.joinpath(
-                    "data", f"history-{h['id']}-staged-control.vl.json").read_text())
+                marks = {MARK_ORDINARY} | {
+                    CHANGE_MARKS[g["direction"]] for g in sc["change_evidence"]
+                }
+                spec = json.loads(
+                    (built_site / path)
+                    .parent.joinpath("data", f"history-{h['id']}-staged-control.vl.json")
+                    .read_text()
+                )
                 if any(p["own"] for p in spec["datasets"]["point_info"]):
                     marks.add(MARK_OWN_SIGNAL)
                 legend = drawn["legend"]

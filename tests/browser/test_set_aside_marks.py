@@ -28,8 +28,9 @@ GREY = """
 
 
 @pytest.mark.parametrize("width", [1280, 390])
-def test_the_days_set_aside_are_drawn_named_and_listed(browser, site_url, built_site,
-                                                       artifacts_dir, width):
+def test_the_days_set_aside_are_drawn_named_and_listed(
+    browser, site_url, built_site, artifacts_dir, width
+):
     results = json.loads((built_site / PAGE).parent.joinpath("results.json").read_text())
     daily = next(m for m in results["metrics"] if m["id"] == "lead-time-daily")
     k = daily["set_aside"]["points"]
@@ -46,7 +47,8 @@ def test_the_days_set_aside_are_drawn_named_and_listed(browser, site_url, built_
             drawn = page.evaluate(GREY, [cid, style.ASIDE.lower()])
             assert drawn >= k + 1, (width, key, drawn)
             page.locator(f"#lead-time-daily-{key}").screenshot(
-                path=str(artifacts_dir / f"set-aside-{key}-{width}.png"))
+                path=str(artifacts_dir / f"set-aside-{key}-{width}.png")
+            )
         method = page.locator("#lead-time-daily-control details.method")
         method.locator("summary").click()
         text = method.inner_text()

@@ -326,8 +326,10 @@ def test_a_phone_sized_window_keeps_every_plot_readable(browser, site_url, built
     try:
         # the index, the busiest project's page, and every before/after page (side by side
         # Pareto charts, staged control charts with labels on both sides)
-        pages = dict.fromkeys(list(screenshot_pages(built_site))
-                              + [p for p in site_pages(built_site) if p.endswith("history.html")])
+        pages = dict.fromkeys(
+            list(screenshot_pages(built_site))
+            + [p for p in site_pages(built_site) if p.endswith("history.html")]
+        )
         for path in pages:
             page, watch = open_page(ctx, site_url, path)
             try:
@@ -355,12 +357,14 @@ async () => {
 def test_time_axes_read_the_same_in_every_time_zone(browser, site_url, built_site):
     """Day ticks name the month ("Mar 14", not "Sat 14") and come out the same wherever the
     reader is: the dates are UTC instants, labelled in UTC."""
-    path = next(p for p in screenshot_pages(built_site) if p.endswith("/index.html")
-                and p != "index.html")
+    path = next(
+        p for p in screenshot_pages(built_site) if p.endswith("/index.html") and p != "index.html"
+    )
     seen = {}
     for tz in ("UTC", "America/Los_Angeles", "Asia/Tokyo"):
-        ctx = browser.new_context(base_url=site_url, viewport={"width": 1280, "height": 900},
-                                  timezone_id=tz)
+        ctx = browser.new_context(
+            base_url=site_url, viewport={"width": 1280, "height": 900}, timezone_id=tz
+        )
         try:
             page, watch = open_page(ctx, site_url, path)
             seen[tz] = page.evaluate(AXIS_LABELS)
@@ -374,8 +378,9 @@ def test_time_axes_read_the_same_in_every_time_zone(browser, site_url, built_sit
 
 def test_point_tooltips_give_the_date(browser_context, site_url, built_site):
     """Hovering a point shows its date as text (it read "NaN" once), its value and phase."""
-    path = next(p for p in screenshot_pages(built_site) if p.endswith("/index.html")
-                and p != "index.html")
+    path = next(
+        p for p in screenshot_pages(built_site) if p.endswith("/index.html") and p != "index.html"
+    )
     page, watch = open_page(browser_context, site_url, path)
     try:
         page.evaluate("async () => { await window.steadylineCharts; }")
@@ -383,8 +388,11 @@ def test_point_tooltips_give_the_date(browser_context, site_url, built_site):
         for chart in page.locator(".chart").all()[:2]:  # a run chart and a control chart
             chart.locator("g.mark-symbol path").nth(3).hover(force=True)
             page.wait_for_timeout(300)
-            texts.append(page.evaluate(
-                "() => (document.querySelector('#vg-tooltip-element') || {}).innerText || ''"))
+            texts.append(
+                page.evaluate(
+                    "() => (document.querySelector('#vg-tooltip-element') || {}).innerText || ''"
+                )
+            )
     finally:
         page.close()
     assert len(texts) == 2

@@ -481,13 +481,18 @@ def all_chart_specs():
         ),
         (
             "study-ranges",
-            charts.ranges_chart(appraiser_ranges(values, parts, appraisers), trials=3,
-                                unit="kgf", measure="Spoke tension"),
+            charts.ranges_chart(
+                appraiser_ranges(values, parts, appraisers),
+                trials=3,
+                unit="kgf",
+                measure="Spoke tension",
+            ),
         ),
         (
             "study-measurements",
-            charts.measurements_chart(values, parts, appraisers, unit="kgf",
-                                      measure="Spoke tension"),
+            charts.measurements_chart(
+                values, parts, appraisers, unit="kgf", measure="Spoke tension"
+            ),
         ),
     ]
     return out
@@ -504,8 +509,13 @@ def make_study_rows():
     for k in range(3):
         for j, who in enumerate(names):
             for i in range(10):
-                values.append(120 + part[i] + 0.3 * j + rng.normal(0, 0.4) + (3 if (i, j, k) ==
-                                                                               (5, 0, 1) else 0))
+                values.append(
+                    120
+                    + part[i]
+                    + 0.3 * j
+                    + rng.normal(0, 0.4)
+                    + (3 if (i, j, k) == (5, 0, 1) else 0)
+                )
                 parts.append(f"W{i + 1}")
                 appraisers.append(who)
     return values, parts, appraisers
@@ -522,5 +532,11 @@ def run_fresh(code: str, **env_extra: str) -> str:
     here = Path(__file__).resolve().parent
     env = dict(os.environ, **env_extra)
     env["PYTHONPATH"] = str(here.parents[1] / "src") + os.pathsep + env.get("PYTHONPATH", "")
-    return subprocess.run([sys.executable, "-c", code, str(here)], env=env,
-                          capture_output=True, text=True, timeout=120, check=True).stdout
+    return subprocess.run(
+        [sys.executable, "-c", code, str(here)],
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        check=True,
+    ).stdout

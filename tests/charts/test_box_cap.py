@@ -16,8 +16,12 @@ def test_only_the_most_extreme_outliers_are_drawn_and_the_rest_counted():
     b = box_summary(values)
     assert len(b.outlier_values) > 4 * MAX_OUTLIERS_EACH_SIDE
     chart = box_chart([("Baseline", b)], unit="mm")
-    marks = [r for rows in chart.spec["datasets"].values() for r in rows
-             if isinstance(r, dict) and str(r.get("kind", "")).startswith(("outlier", "far"))]
+    marks = [
+        r
+        for rows in chart.spec["datasets"].values()
+        for r in rows
+        if isinstance(r, dict) and str(r.get("kind", "")).startswith(("outlier", "far"))
+    ]
     assert len(marks) == 2 * MAX_OUTLIERS_EACH_SIDE
     drawn = sorted(r["value"] for r in marks)
     assert drawn[0] == round(float(values.min()), 12) or abs(drawn[0] - values.min()) < 1e-3

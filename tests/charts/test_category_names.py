@@ -16,8 +16,17 @@ from steadyline.stats import pareto
 from steadyline.stats.pareto import pareto_in_order
 
 # Own properties of Object.prototype (ECMA-262 §20.1.3, annex B.2.2 for the __ ones)
-BUILTIN = ["constructor", "__proto__", "toString", "hasOwnProperty", "valueOf",
-           "isPrototypeOf", "propertyIsEnumerable", "toLocaleString", "__defineGetter__"]
+BUILTIN = [
+    "constructor",
+    "__proto__",
+    "toString",
+    "hasOwnProperty",
+    "valueOf",
+    "isPrototypeOf",
+    "propertyIsEnumerable",
+    "toLocaleString",
+    "__defineGetter__",
+]
 ODD = ["it's", 'say "hi"', "back\\slash", "a ' + alert(1) + '", "datum.count"]
 
 
@@ -34,8 +43,12 @@ def _code_strings(vega: dict) -> list[str]:
     def walk(node, data=False):
         if isinstance(node, dict):
             for k, v in node.items():
-                walk(v, data or k == "values" or (k in ("text", "subtitle")
-                                                   and not isinstance(v, dict)))
+                walk(
+                    v,
+                    data
+                    or k == "values"
+                    or (k in ("text", "subtitle") and not isinstance(v, dict)),
+                )
         elif isinstance(node, list):
             for v in node:
                 walk(v, data)
@@ -50,8 +63,7 @@ def _charts_of(names: list[str]):
     counts = {n: len(names) - i for i, n in enumerate(names)}
     p = pareto(_entries(counts))
     base = pareto_in_order(_entries(counts), None, p.categories)
-    after = pareto_in_order(_entries({n: 1 + i for i, n in enumerate(names)}), None,
-                            p.categories)
+    after = pareto_in_order(_entries({n: 1 + i for i, n in enumerate(names)}), None, p.categories)
     return {
         "pareto": pareto_chart(p),
         "column": column_chart(sorted(counts), [counts[n] for n in sorted(counts)]),
@@ -112,8 +124,11 @@ def test_pareto_of_many_categories_gathers_the_smallest_into_one_bar():
     assert last["cumulative"] == 100  # the line still ends at 100%
     assert last["percent"] == pytest.approx(100 * rest / total, rel=1e-5)
     # reference: numpy.cumsum over the bars as drawn
-    np.testing.assert_allclose([b["cumulative"] for b in bars],
-                               100 * np.cumsum([b["count"] for b in bars]) / total, rtol=1e-5)
+    np.testing.assert_allclose(
+        [b["cumulative"] for b in bars],
+        100 * np.cumsum([b["count"] for b in bars]) / total,
+        rtol=1e-5,
+    )
     # the vital few and the table are the full data's
     assert len(cs.table) == n
     sub = " ".join(cs.spec["title"]["subtitle"])

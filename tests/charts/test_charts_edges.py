@@ -111,20 +111,30 @@ def test_plain_times_take_the_bulk_path_with_the_same_positions():
         ("2026-01-05", "2026-01-05 06:00", "2026-01-05T06:00:07"),
     ]
     for xs in cases:
-        ctx = SeriesContext(x=xs, x_is_time=True, stage=("",) * len(xs),
-                            segment=(0,) * len(xs), unit="", metric_name="m")
+        ctx = SeriesContext(
+            x=xs,
+            x_is_time=True,
+            stage=("",) * len(xs),
+            segment=(0,) * len(xs),
+            unit="",
+            metric_name="m",
+        )
         xa = XAxis(ctx)
         assert xa._stamps is not None
         dts = [pt(s) for s in xs]
         assert xa.pos == [time_text(s) for s in xs]
-        mids = [xa.pos[0]] + [utc_text(dts[i - 1] + (dts[i] - dts[i - 1]) / 2)
-                              for i in range(1, len(xs))] + [xa.pos[-1]]
+        mids = (
+            [xa.pos[0]]
+            + [utc_text(dts[i - 1] + (dts[i] - dts[i - 1]) / 2) for i in range(1, len(xs))]
+            + [xa.pos[-1]]
+        )
         assert xa.midpoints() == mids
         assert xa.has_seconds() == any(d.second for d in dts)
         assert xa.in_range(xs[1]) and not xa.in_range("2030-01-01")
     odd = ("2026-01-05T06:00+02:00", "2026-01-05T07:00Z")
-    ctx = SeriesContext(x=odd, x_is_time=True, stage=("", ""), segment=(0, 0), unit="",
-                        metric_name="m")
+    ctx = SeriesContext(
+        x=odd, x_is_time=True, stage=("", ""), segment=(0, 0), unit="", metric_name="m"
+    )
     xa = XAxis(ctx)
     assert xa._stamps is None and xa.pos == ["2026-01-05T04:00:00Z", "2026-01-05T07:00:00Z"]
 
@@ -153,8 +163,11 @@ def test_a_template_is_filled_the_same_whether_cached_or_not():
     from steadyline.charts.base import cached_template, fill, list_slot, slot
 
     def build():
-        return {"a": slot("title"), "b": {"values": list_slot("xs"), "keep": [1, "two"]},
-                "c": list_slot("one")}
+        return {
+            "a": slot("title"),
+            "b": {"values": list_slot("xs"), "keep": [1, "two"]},
+            "c": list_slot("one"),
+        }
 
     values = {"title": "T", "xs": [3, 4], "one": "single"}
     want = {"a": "T", "b": {"values": [3, 4], "keep": [1, "two"]}, "c": ["single"]}

@@ -165,42 +165,70 @@ def test_phases_and_events_drawn():
     assert [b["label"] for b in bands] == ["Baseline", "After"]
     assert bands[0]["x2"] == bands[1]["x"] == "2026-05-21T12:00:00Z"  # midway between weeks
     assert spec["datasets"]["events"] == [
-        {"x": "2026-03-30", "label": "new intake form", "when": "2026-03-30", "y": 16,
-         "align": "left", "edge": make_ctx().x[-1] + "T00:00:00Z"}
+        {
+            "x": "2026-03-30",
+            "label": "new intake form",
+            "when": "2026-03-30",
+            "y": 16,
+            "align": "left",
+            "edge": make_ctx().x[-1] + "T00:00:00Z",
+        }
     ]
 
 
 def test_labels_of_successive_events_step_down():
-    ctx = make_ctx(events=(("2026-02-02", "a"), ("2026-02-09", "b"), ("2026-02-16", "c"),
-                           ("2026-02-23", "d")))
+    ctx = make_ctx(
+        events=(("2026-02-02", "a"), ("2026-02-09", "b"), ("2026-02-16", "c"), ("2026-02-23", "d"))
+    )
     spec = run_chart(ctx, make_values(), make_run_analysis()).spec
     assert [e["y"] for e in spec["datasets"]["events"]] == [16, 28, 40, 16]
     # each label may run until the next event on its line, the last ones until the last point
     end = ctx.x[-1] + "T00:00:00Z"
     assert [e["edge"] for e in spec["datasets"]["events"]] == [
-        "2026-02-23T00:00:00Z", end, end, end]
+        "2026-02-23T00:00:00Z",
+        end,
+        end,
+        end,
+    ]
     assert {e["align"] for e in spec["datasets"]["events"]} == {"left"}  # left half: text right
 
 
 def test_recent_events_read_leftwards_and_share_the_gap():
     # the series runs 2026-01-05 .. 2026-07-27; its middle is 2026-04-16
-    ctx = make_ctx(events=(("2026-02-02", "early"), ("2026-05-04", "b"), ("2026-06-01", "c"),
-                           ("2026-06-29", "late")))
+    ctx = make_ctx(
+        events=(
+            ("2026-02-02", "early"),
+            ("2026-05-04", "b"),
+            ("2026-06-01", "c"),
+            ("2026-06-29", "late"),
+        )
+    )
     rows = run_chart(ctx, make_values(), make_run_analysis()).spec["datasets"]["events"]
     assert [(e["label"], e["align"]) for e in rows] == [
-        ("early", "left"), ("b", "right"), ("c", "right"), ("late", "right")]
+        ("early", "left"),
+        ("b", "right"),
+        ("c", "right"),
+        ("late", "right"),
+    ]
     start = ctx.x[0] + "T00:00:00Z"
     # "early" and "late" share a line and face each other: each gets half of the gap
     # (2026-02-02 + 147 days / 2)
     assert [e["edge"] for e in rows] == [
-        "2026-04-16T12:00:00Z", start, start, "2026-04-16T12:00:00Z"]
+        "2026-04-16T12:00:00Z",
+        start,
+        start,
+        "2026-04-16T12:00:00Z",
+    ]
 
 
 def test_events_are_laid_out_in_time_order():
     ctx = make_ctx(events=(("2026-02-16", "c"), ("2026-02-02", "a"), ("2026-02-09", "b")))
     spec = run_chart(ctx, make_values(), make_run_analysis()).spec
     assert [(e["label"], e["y"]) for e in spec["datasets"]["events"]] == [
-        ("a", 16), ("b", 28), ("c", 40)]
+        ("a", 16),
+        ("b", 28),
+        ("c", 40),
+    ]
 
 
 def test_event_labels_get_room_above_the_points_and_limits():
@@ -402,12 +430,18 @@ def test_bands_filled_by_kind_of_period_not_by_order():
     from steadyline.charts.base import band_rows, band_values, period_kinds, x_axis
 
     names = ["Between periods", "Baseline", "Between periods", "After", "Between periods"]
-    assert period_kinds(names) == ["before the baseline", "baseline", "between periods",
-                                   "after", "after the after period"]
+    assert period_kinds(names) == [
+        "before the baseline",
+        "baseline",
+        "between periods",
+        "after",
+        "after the after period",
+    ]
     # the same phases in another order keep their kinds' fills
     stages = tuple(["Baseline"] * 10 + ["Between periods"] * 5 + ["After"] * 15)
-    ctx = SeriesContext(x=make_ctx().x, x_is_time=True, stage=stages, segment=(0,) * N,
-                        unit="", metric_name="Calls")
+    ctx = SeriesContext(
+        x=make_ctx().x, x_is_time=True, stage=stages, segment=(0,) * N, unit="", metric_name="Calls"
+    )
     rows = band_rows(x_axis(ctx), stages)
     assert [r["kind"] for r in rows] == ["baseline", "between periods", "after"]
     assert [r["label"] for r in rows] == ["Baseline", "Between periods", "After"]
@@ -415,14 +449,19 @@ def test_bands_filled_by_kind_of_period_not_by_order():
     assert values["period_kinds"] == ["baseline", "between periods", "after"]
     assert values["period_fills"] == [style.PERIOD_FILLS[k] for k in values["period_kinds"]]
     early = tuple(["Between periods"] * 5 + ["Baseline"] * 10 + ["After"] * 15)
-    ctx2 = SeriesContext(x=make_ctx().x, x_is_time=True, stage=early, segment=(0,) * N,
-                         unit="", metric_name="Calls")
+    ctx2 = SeriesContext(
+        x=make_ctx().x, x_is_time=True, stage=early, segment=(0,) * N, unit="", metric_name="Calls"
+    )
     spec = run_chart(ctx2, make_values(), make_run_analysis()).spec
-    fill = next(v["encoding"]["fill"] for v in spec["layer"] if v["data"]["name"] == "bands"
-                and v["mark"]["type"] == "rect")
+    fill = next(
+        v["encoding"]["fill"]
+        for v in spec["layer"]
+        if v["data"]["name"] == "bands" and v["mark"]["type"] == "rect"
+    )
     by_kind = dict(zip(fill["scale"]["domain"], fill["scale"]["range"], strict=True))
-    assert by_kind == {k: style.PERIOD_FILLS[k] for k in ("before the baseline", "baseline",
-                                                           "after")}
+    assert by_kind == {
+        k: style.PERIOD_FILLS[k] for k in ("before the baseline", "baseline", "after")
+    }
     assert fill["legend"]["title"] == "period"
     # one named phase only: its band and its name, in its kind's fill
     one = band_rows(x_axis(ctx), ("Baseline",) * N)

@@ -132,8 +132,9 @@ def _drawn_labels(spec):
                     if item.get("orient") == "bottom":
                         for mark in item.get("items", []):
                             if mark.get("role") == "axis-label":
-                                out.extend(i["text"] for i in
-                                           sorted(mark["items"], key=lambda i: i["x"]))
+                                out.extend(
+                                    i["text"] for i in sorted(mark["items"], key=lambda i: i["x"])
+                                )
                 return
             for v in node.values():
                 walk(v)

@@ -127,8 +127,14 @@ OWN = (Signal("beyond-limits", "beyond the 3σ limits", (27,), "below"),)
 
 
 def test_change_and_instability_marked_apart():
-    staged = staged_control_chart(make_ctx(), make_individuals(), make_individuals_per_phase(),
-                                  MAIN_SIGNALS, OWN, _evidence(own_signals=OWN))
+    staged = staged_control_chart(
+        make_ctx(),
+        make_individuals(),
+        make_individuals_per_phase(),
+        MAIN_SIGNALS,
+        OWN,
+        _evidence(own_signals=OWN),
+    )
     pts = {r["label"]: r for r in resolved_points(staged.spec)}
     x = make_ctx().x
     # an after point beyond the baseline's UCL of a lower-is-better metric: a change, worse
@@ -143,8 +149,9 @@ def test_change_and_instability_marked_apart():
     assert all(pts[x[i]]["marker"] == MARK_ORDINARY and not pts[x[i]]["own"] for i in others)
     # the legend names exactly the marks drawn, each in a shape of its own
     # the main chart's point layers: the diamonds beneath, then the points
-    own_view, view = [v for v, d in unit_views(staged.spec)
-                      if d == "points" and v["mark"]["type"] == "point"][:2]
+    own_view, view = [
+        v for v, d in unit_views(staged.spec) if d == "points" and v["mark"]["type"] == "point"
+    ][:2]
     assert own_view["encoding"]["size"]["condition"]["test"] == "datum.own"
     assert own_view["encoding"]["shape"]["scale"] == view["encoding"]["shape"]["scale"]
     shape = view["encoding"]["shape"]["scale"]
@@ -157,14 +164,14 @@ def test_change_and_instability_marked_apart():
     sub = staged.spec["title"]["subtitle"]
     assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
     assert sub[0].endswith("dashed where carried forward")
-    assert sub[1:] == [
-        "after phase's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"]
+    assert sub[1:] == ["after phase's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"]
     assert "1 of 10 after points signal a change: 1 worse" in staged.summary
     assert "on their own period's limits 3 signals" in staged.summary
     # the table names the mark in the legend's words
     # (the fixture's mR chart has every point in stage 0, so its signal is on its own limits)
-    assert staged.table[25]["mark"] == (f"{MARK_CHANGE_WORSE}; {MARK_OWN_SIGNAL} "
-                                        "(dispersion chart)")
+    assert staged.table[25]["mark"] == (
+        f"{MARK_CHANGE_WORSE}; {MARK_OWN_SIGNAL} (dispersion chart)"
+    )
     assert staged.table[27]["mark"] == MARK_OWN_SIGNAL
     assert staged.table[3]["mark"] == ""
     # the tooltip names both sets of limits on after points
@@ -172,16 +179,24 @@ def test_change_and_instability_marked_apart():
     assert info == "CL 30, UCL 44.4; after: LCL 21, CL 31, UCL 41"
 
 
-@pytest.mark.parametrize(("better", "target", "mark"), [
-    ("lower", None, MARK_CHANGE_WORSE),  # 52 is above the baseline's UCL
-    ("higher", None, MARK_CHANGE_BETTER),
-    ("target", 50.0, MARK_CHANGE_BETTER),  # nearer the target than the centre line 30
-    ("target", 20.0, MARK_CHANGE_WORSE),
-    ("target", None, MARK_CHANGE_UNJUDGED),
-])
+@pytest.mark.parametrize(
+    ("better", "target", "mark"),
+    [
+        ("lower", None, MARK_CHANGE_WORSE),  # 52 is above the baseline's UCL
+        ("higher", None, MARK_CHANGE_BETTER),
+        ("target", 50.0, MARK_CHANGE_BETTER),  # nearer the target than the centre line 30
+        ("target", 20.0, MARK_CHANGE_WORSE),
+        ("target", None, MARK_CHANGE_UNJUDGED),
+    ],
+)
 def test_direction_of_a_change_follows_the_metric(better, target, mark):
-    staged = staged_control_chart(make_ctx(), make_individuals(), None, MAIN_SIGNALS,
-                                  evidence=_evidence(better, target=target))
+    staged = staged_control_chart(
+        make_ctx(),
+        make_individuals(),
+        None,
+        MAIN_SIGNALS,
+        evidence=_evidence(better, target=target),
+    )
     pts = {r["label"]: r for r in resolved_points(staged.spec)}
     assert pts[make_ctx().x[25]]["marker"] == mark
 
@@ -237,8 +252,11 @@ def test_renders_with_both_sets_labelled():
     )
     out = run_fresh(code, TZ="UTC")
     # the texts drawn (a carried label's narrow-box twin is drawn transparent)
-    texts = [t for attrs, t in re.findall(r"<text([^>]*)>([^<]*)</text>", out)
-             if not re.search(r'opacity="0"|opacity: ?0[;"]', attrs)]
+    texts = [
+        t
+        for attrs, t in re.findall(r"<text([^>]*)>([^<]*)</text>", out)
+        if not re.search(r'opacity="0"|opacity: ?0[;"]', attrs)
+    ]
     for text in (
         "baseline UCL 44.4",
         "baseline CL 30",

@@ -68,20 +68,37 @@ def test_fonts_are_system_fonts_without_urls():
 
 
 def test_one_fill_per_kind_of_period_light_enough_to_read_marks_on():
-    assert style.PERIOD_KINDS == ("before the baseline", "baseline", "between periods", "after",
-                                  "after the after period")
+    assert style.PERIOD_KINDS == (
+        "before the baseline",
+        "baseline",
+        "between periods",
+        "after",
+        "after the after period",
+    )
     fills = [style.PERIOD_FILLS[k] for k in style.PERIOD_KINDS]
     assert len(set(fills)) == len(fills)
     # every mark colour and line differs from every band by at least 15 L* (common practice,
     # as for the pairs above)
     for fill in fills:
-        for name in ("data", "signal", "limit", "own_limit", "change_better", "change_worse",
-                     "change_unjudged"):
+        for name in (
+            "data",
+            "signal",
+            "limit",
+            "own_limit",
+            "change_better",
+            "change_worse",
+            "change_unjudged",
+        ):
             assert srgb_lightness(fill) - srgb_lightness(style.PALETTE[name]) >= 15, (fill, name)
 
 
 def test_change_marks_differ_from_points_and_signals_in_shape():
-    shapes = [style.SHAPE_POINT, style.SHAPE_SIGNAL, style.SHAPE_CHANGE_BETTER,
-              style.SHAPE_CHANGE_WORSE, style.SHAPE_CHANGE_UNJUDGED]
+    shapes = [
+        style.SHAPE_POINT,
+        style.SHAPE_SIGNAL,
+        style.SHAPE_CHANGE_BETTER,
+        style.SHAPE_CHANGE_WORSE,
+        style.SHAPE_CHANGE_UNJUDGED,
+    ]
     assert len(set(shapes)) == len(shapes)
     assert style.SIZE_OWN_SIGNAL > style.SIZE_CHANGE > style.SIZE_POINT  # the diamond shows round

@@ -50,6 +50,7 @@ def check_spec(spec: dict) -> None:
         validate_jsonschema(shell, schema, rootschema=schema)
     except Exception as e:  # jsonschema's ValidationError, whose text can be very long
         display = spec.get("usermeta", {}).get("steadyline", {}).get("display", "chart")
-        raise SpecError(f"the {display} spec is not valid Vega-Lite: "
-                        f"{str(e).splitlines()[0][:300]}") from None
+        raise SpecError(
+            f"the {display} spec is not valid Vega-Lite: {str(e).splitlines()[0][:300]}"
+        ) from None
     _CHECKED.add(key)

@@ -47,9 +47,12 @@ def with_cached(book: bytes, values: dict[str, str]) -> bytes:
             data = src.read(info.filename)
             if info.filename == "xl/worksheets/sheet1.xml":
                 for ref, v in values.items():
-                    data, n = re.subn(rb'(<c r="' + ref.encode() + rb'"[^>]*>)(<f>[^<]*</f>)'
-                                      rb'(<v\s*/>|<v></v>)?',
-                                      rb"\1\2<v>" + v.encode() + rb"</v>", data)
+                    data, n = re.subn(
+                        rb'(<c r="' + ref.encode() + rb'"[^>]*>)(<f>[^<]*</f>)'
+                        rb"(<v\s*/>|<v></v>)?",
+                        rb"\1\2<v>" + v.encode() + rb"</v>",
+                        data,
+                    )
                     assert n == 1, ref
             dst.writestr(info, data)
     return out.getvalue()

@@ -36,15 +36,33 @@ def raw(text: str) -> _Raw:
     return _Raw(text)
 
 
-DEFAULT_TOP = {"title": "Test project", "owner": "Tester", "phase": "measure",
-               "problem": "Something takes too long."}
-DEFAULT_METRIC = {"id": "m", "name": "Metric", "file": "data.csv", "type": "continuous",
-                  "time": "date", "value": "value", "better": "lower"}
+DEFAULT_TOP = {
+    "title": "Test project",
+    "owner": "Tester",
+    "phase": "measure",
+    "problem": "Something takes too long.",
+}
+DEFAULT_METRIC = {
+    "id": "m",
+    "name": "Metric",
+    "file": "data.csv",
+    "type": "continuous",
+    "time": "date",
+    "value": "value",
+    "better": "lower",
+}
 
 
-def meta(top: dict | None = None, metric: dict | None = None, *, csv: dict | None = None,
-         rollup: dict | None = None, comparison: str | None = "default",
-         more_metrics: list[dict] = (), extra: str = "") -> str:
+def meta(
+    top: dict | None = None,
+    metric: dict | None = None,
+    *,
+    csv: dict | None = None,
+    rollup: dict | None = None,
+    comparison: str | None = "default",
+    more_metrics: list[dict] = (),
+    extra: str = "",
+) -> str:
     """project.toml text. A key given as None is left out."""
     t = dict(DEFAULT_TOP) | (top or {})
     m = dict(DEFAULT_METRIC) | (metric or {})
@@ -56,8 +74,9 @@ def meta(top: dict | None = None, metric: dict | None = None, *, csv: dict | Non
     if extra:
         lines += ["", extra]
     for mm in [m, *more_metrics]:
-        lines += ["", "[[metric]]"] + [f"{k} = {_toml_value(v)}" for k, v in mm.items()
-                                       if v is not None]
+        lines += ["", "[[metric]]"] + [
+            f"{k} = {_toml_value(v)}" for k, v in mm.items() if v is not None
+        ]
         if mm is m and rollup:
             lines += ["[metric.rollup]"] + [f"{k} = {_toml_value(v)}" for k, v in rollup.items()]
         if mm is m and csv:
@@ -66,9 +85,38 @@ def meta(top: dict | None = None, metric: dict | None = None, *, csv: dict | Non
 
 
 # 30 daily values with ordinary variation (no signals by construction is not needed here).
-VALUES = [49.6, 47.6, 49.9, 51.3, 47.8, 51.2, 52.6, 52.4, 53.6, 52.1, 48.7, 50.3, 49.1, 50.8,
-          51.9, 48.2, 50.0, 49.4, 52.0, 50.6, 47.9, 51.5, 49.8, 50.9, 48.8, 51.1, 50.2, 49.3,
-          52.3, 50.5]
+VALUES = [
+    49.6,
+    47.6,
+    49.9,
+    51.3,
+    47.8,
+    51.2,
+    52.6,
+    52.4,
+    53.6,
+    52.1,
+    48.7,
+    50.3,
+    49.1,
+    50.8,
+    51.9,
+    48.2,
+    50.0,
+    49.4,
+    52.0,
+    50.6,
+    47.9,
+    51.5,
+    49.8,
+    50.9,
+    48.8,
+    51.1,
+    50.2,
+    49.3,
+    52.3,
+    50.5,
+]
 
 
 def dates(n: int, start: str = "2026-01-05") -> list[str]:
@@ -83,12 +131,15 @@ def good_csv(values=VALUES, header: str = "date,value", sep: str = ",") -> str:
     return "\n".join(rows) + "\n"
 
 
-def portfolio(toml: str | None = None, data: str | bytes | None = None,
-              files: dict | None = None) -> dict:
+def portfolio(
+    toml: str | None = None, data: str | bytes | None = None, files: dict | None = None
+) -> dict:
     """The default one-project portfolio (folder 'p'), with project.toml, data.csv or any other
     file replaced (a file given as None in *files* is left out)."""
-    base = {"p/project.toml": meta() if toml is None else toml,
-            "p/data.csv": good_csv() if data is None else data}
+    base = {
+        "p/project.toml": meta() if toml is None else toml,
+        "p/data.csv": good_csv() if data is None else data,
+    }
     base.update(files or {})
     return base
 
@@ -119,7 +170,9 @@ def tree_hashes(root: Path) -> dict[str, str]:
             out[key] = "link:" + str(p.readlink())
         elif p.is_file():
             st = p.stat()
-            out[key] = hashlib.sha256(p.read_bytes()).hexdigest() + f":{st.st_mode:o}:{st.st_mtime_ns}"
+            out[key] = (
+                hashlib.sha256(p.read_bytes()).hexdigest() + f":{st.st_mode:o}:{st.st_mtime_ns}"
+            )
         elif p.is_dir():
             out[key] = "dir"
     return out
@@ -141,7 +194,7 @@ PAYLOADS = [
     "a\u2028</script>\u2029<b>x",
 ]
 # Cells a spreadsheet would run as a formula when the CSV download is opened.
-FORMULAS = ["=HYPERLINK(\"http://x\",\"y\")", "+SUM(1,2)", "-2+3", "@cmd", "=1+1"]
+FORMULAS = ['=HYPERLINK("http://x","y")', "+SUM(1,2)", "-2+3", "@cmd", "=1+1"]
 
 HOSTILE_NOTES = """# Notes <script>window.__pwned=10;alert(1)</script>
 
@@ -169,34 +222,56 @@ def hostile_portfolio() -> dict:
     """A portfolio whose every free-text field, category and label is a payload."""
     p = PAYLOADS
     categories = p + FORMULAS
-    cat_rows = "".join(f"{d},{_csv_quote(c)},{i % 3 + 1}\n" for i, (d, c) in
-                       enumerate(zip(dates(3 * len(categories)), categories * 3, strict=True)))
+    cat_rows = "".join(
+        f"{d},{_csv_quote(c)},{i % 3 + 1}\n"
+        for i, (d, c) in enumerate(zip(dates(3 * len(categories)), categories * 3, strict=True))
+    )
     values = [-3.5, 2.25, -0.5, 1.0, 3.75, -1.25] * 5
     top = {"title": p[0], "owner": p[1], "problem": p[2], "tags": [p[3], p[4], p[6]]}
-    events = "\n".join(f'[[event]]\ndate = 2026-01-{10 + i}\nlabel = {json.dumps(s)}'
-                       for i, s in enumerate(p[:4]))
-    sub_rows = "".join(f"{d},{_csv_quote(p[i % len(p)])},{v}\n"
-                       for i, (d, v) in enumerate(zip(dates(30), values, strict=True)))
+    events = "\n".join(
+        f"[[event]]\ndate = 2026-01-{10 + i}\nlabel = {json.dumps(s)}" for i, s in enumerate(p[:4])
+    )
+    sub_rows = "".join(
+        f"{d},{_csv_quote(p[i % len(p)])},{v}\n"
+        for i, (d, v) in enumerate(zip(dates(30), values, strict=True))
+    )
     return {
         "portfolio.toml": f"title = {json.dumps(p[2])}\n",
         "evil/project.toml": meta(
-            top=top, metric={"name": p[1], "unit": p[0], "file": "values.csv"},
+            top=top,
+            metric={"name": p[1], "unit": p[0], "file": "values.csv"},
             extra=events + "\n",
             more_metrics=[
-                {"id": "reasons", "name": p[2], "file": "reasons.csv", "type": "categories",
-                 "category": "reason", "count": "n", "better": "lower", "unit": p[5]},
-                {"id": "batches", "name": p[3], "file": "batches.csv", "type": "subgroups",
-                 "time": "date", "subgroup": "batch", "value": "value", "better": "target",
-                 "target": 0.0},
-            ]),
-        "evil/values.csv": "date,value\n" + "".join(
-            f"{d},{v}\n" for d, v in zip(dates(30), values, strict=True)),
+                {
+                    "id": "reasons",
+                    "name": p[2],
+                    "file": "reasons.csv",
+                    "type": "categories",
+                    "category": "reason",
+                    "count": "n",
+                    "better": "lower",
+                    "unit": p[5],
+                },
+                {
+                    "id": "batches",
+                    "name": p[3],
+                    "file": "batches.csv",
+                    "type": "subgroups",
+                    "time": "date",
+                    "subgroup": "batch",
+                    "value": "value",
+                    "better": "target",
+                    "target": 0.0,
+                },
+            ],
+        ),
+        "evil/values.csv": "date,value\n"
+        + "".join(f"{d},{v}\n" for d, v in zip(dates(30), values, strict=True)),
         "evil/reasons.csv": "date,reason,n\n" + cat_rows,
         "evil/batches.csv": "date,batch,value\n" + sub_rows,
         "evil/notes.md": HOSTILE_NOTES,
         # a broken project: the payloads reach the error page through the problem messages
-        "broken/project.toml": meta(top={"title": p[1]},
-                                    metric={"value": p[0], "name": p[2]}),
+        "broken/project.toml": meta(top={"title": p[1]}, metric={"value": p[0], "name": p[2]}),
         "broken/data.csv": f"date,{_csv_quote(p[1])}\n2026-01-05,{_csv_quote(p[2])}\n",
         "broken2/project.toml": meta(),
         "broken2/data.csv": f"date,value\n2026-01-05,{_csv_quote(p[0])}\n{_csv_quote(p[3])},1\n",

@@ -34,8 +34,11 @@ class _Header(ctypes.Structure):
 
 
 class _Data(ctypes.Structure):
-    _fields_ = [("effective", ctypes.c_uint32), ("permitted", ctypes.c_uint32),
-                ("inheritable", ctypes.c_uint32)]
+    _fields_ = [
+        ("effective", ctypes.c_uint32),
+        ("permitted", ctypes.c_uint32),
+        ("inheritable", ctypes.c_uint32),
+    ]
 
 
 @contextlib.contextmanager
@@ -82,8 +85,10 @@ def _assert_bound() -> None:
 
 def unreadable(rel: str):
     """A set-up: the portfolio's file *rel* gets mode 000 (no one but root may read it)."""
+
     def setup(root: Path) -> None:
         os.chmod(root / rel, 0)
+
     setup.unreadable = True
     return setup
 
@@ -91,15 +96,18 @@ def unreadable(rel: str):
 def fifo(rel: str):
     """A set-up: *rel* becomes a named pipe (whatever was written there is removed first).
     Opening it for reading would block until a writer comes, that is for ever."""
+
     def setup(root: Path) -> None:
         _clear(root / rel)
         os.mkfifo(root / rel)
+
     return setup
 
 
 def unix_socket(rel: str):
     """A set-up: *rel* becomes a Unix domain socket (bound, then closed: the socket file
     stays)."""
+
     def setup(root: Path) -> None:
         path = root / rel
         _clear(path)
@@ -112,12 +120,14 @@ def unix_socket(rel: str):
         finally:
             os.chdir(here)
         assert stat.S_ISSOCK(os.lstat(path).st_mode)
+
     return setup
 
 
 def device(rel: str):
     """A set-up: *rel* becomes a character device with the numbers of /dev/null (1, 3 on Linux;
     devices.txt of the kernel's documentation). Never opened by the tests."""
+
     def setup(root: Path) -> None:
         path = root / rel
         _clear(path)
@@ -125,39 +135,52 @@ def device(rel: str):
             os.mknod(path, stat.S_IFCHR | 0o644, os.makedev(1, 3))
         except PermissionError:
             pytest.skip("making a device file needs the right to (CAP_MKNOD)")
+
     return setup
 
 
 def dangling(rel: str, target: str = "gone.csv"):
     """A set-up: *rel* becomes a link to *target*, which does not exist."""
+
     def setup(root: Path) -> None:
         _clear(root / rel)
         os.symlink(target, root / rel)
+
     return setup
 
 
 def loop(rel: str):
     """A set-up: *rel* becomes a link to itself."""
+
     def setup(root: Path) -> None:
         path = root / rel
         _clear(path)
         os.symlink(path.name, path)
+
     return setup
 
 
 def folder(rel: str):
     """A set-up: *rel* becomes an (empty) folder."""
+
     def setup(root: Path) -> None:
         _clear(root / rel)
         (root / rel).mkdir()
+
     return setup
 
 
-def link_out(rel: str, content: str | None = None, *, unreadable_target: bool = False,
-             is_folder: dict | None = None):
+def link_out(
+    rel: str,
+    content: str | None = None,
+    *,
+    unreadable_target: bool = False,
+    is_folder: dict | None = None,
+):
     """A set-up: *rel* becomes a link to a file (or, with *is_folder*, a folder holding those
     files) beside the projects folder, outside it. The target may be made unreadable: a build
     that read it would fail."""
+
     def setup(root: Path) -> None:
         outside = root.parent / "outside"
         outside.mkdir(exist_ok=True)
@@ -174,15 +197,18 @@ def link_out(rel: str, content: str | None = None, *, unreadable_target: bool = 
             if unreadable_target:
                 os.chmod(target, 0)
         os.symlink(target, path)
+
     setup.unreadable = unreadable_target
     return setup
 
 
 def both(*setups):
     """Several set-ups, in order."""
+
     def setup(root: Path) -> None:
         for s in setups:
             s(root)
+
     setup.unreadable = any(getattr(s, "unreadable", False) for s in setups)
     return setup
 

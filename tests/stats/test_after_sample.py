@@ -22,8 +22,9 @@ from statsmodels.stats.proportion import power_proportions_2indep  # noqa: E402
 from statsmodels.stats.rates import power_poisson_ratio_2indep  # noqa: E402
 
 
-@pytest.mark.parametrize(("d", "n1", "n2"), [(0.5, 40, 60), (0.3, 100, 37), (-0.8, 12, 12),
-                                               (1.2, 5, 3)])
+@pytest.mark.parametrize(
+    ("d", "n1", "n2"), [(0.5, 40, 60), (0.3, 100, 37), (-0.8, 12, 12), (1.2, 5, 3)]
+)
 def test_t_power_against_statsmodels(d, n1, n2):
     ours = power_reached("continuous", 10.0, 10.0 + 2.0 * d, n1, n2, sd=2.0).power
     ref = sm_power.TTestIndPower().power(abs(d), n1, 0.05, ratio=n2 / n1)
@@ -31,32 +32,43 @@ def test_t_power_against_statsmodels(d, n1, n2):
 
 
 def test_t_plan_against_statsmodels_solve_power():
-    plan = after_sample_needed("continuous", 50.0, 48.0, baseline_size=40, sd=4.0,
-                               size_per_point=5)
-    ratio = sm_power.TTestIndPower().solve_power(0.5, nobs1=40, alpha=0.05, power=0.8,
-                                                 ratio=None)
+    plan = after_sample_needed("continuous", 50.0, 48.0, baseline_size=40, sd=4.0, size_per_point=5)
+    ratio = sm_power.TTestIndPower().solve_power(0.5, nobs1=40, alpha=0.05, power=0.8, ratio=None)
     assert plan.required_size == math.ceil(ratio * 40)
     assert plan.points == math.ceil(plan.required_size / 5)
     assert plan.achieved_power >= 0.8
     assert power_reached("continuous", 50, 48, 40, plan.required_size - 1, sd=4.0).power < 0.8
 
 
-@pytest.mark.parametrize(("p1", "p2", "n1", "n2"), [(0.10, 0.05, 600, 400), (0.02, 0.04, 2000, 900),
-                                                    (0.3, 0.2, 150, 150)])
+@pytest.mark.parametrize(
+    ("p1", "p2", "n1", "n2"),
+    [(0.10, 0.05, 600, 400), (0.02, 0.04, 2000, 900), (0.3, 0.2, 150, 150)],
+)
 def test_proportion_power_against_statsmodels(p1, p2, n1, n2):
     ours = power_reached("defectives", p1, p2, n1, n2).power
     # statsmodels: group 1 is the after sample (prop1 = prop2 + diff), ratio = n2_sm / n1_sm
-    ref = power_proportions_2indep(p2 - p1, p1, n2, ratio=n1 / n2, alpha=0.05,
-                                   alternative="two-sided").power
+    ref = power_proportions_2indep(
+        p2 - p1, p1, n2, ratio=n1 / n2, alpha=0.05, alternative="two-sided"
+    ).power
     assert ours == pytest.approx(ref, rel=1e-9)
 
 
-@pytest.mark.parametrize(("r1", "r2", "e1", "e2"), [(0.5, 0.3, 200, 150), (2.0, 2.6, 40, 90),
-                                                    (0.01, 0.005, 5000, 3000)])
+@pytest.mark.parametrize(
+    ("r1", "r2", "e1", "e2"), [(0.5, 0.3, 200, 150), (2.0, 2.6, 40, 90), (0.01, 0.005, 5000, 3000)]
+)
 def test_poisson_power_against_statsmodels(r1, r2, e1, e2):
     ours = power_reached("defects", r1, r2, e1, e2).power
-    ref = power_poisson_ratio_2indep(r2, r1, nobs1=e2, nobs_ratio=e1 / e2, exposure=1, value=1,
-                                     alpha=0.05, alternative="two-sided", method_var="alt")
+    ref = power_poisson_ratio_2indep(
+        r2,
+        r1,
+        nobs1=e2,
+        nobs_ratio=e1 / e2,
+        exposure=1,
+        value=1,
+        alpha=0.05,
+        alternative="two-sided",
+        method_var="alt",
+    )
     assert ours == pytest.approx(float(ref.power), rel=1e-9)
 
 
@@ -74,8 +86,9 @@ def test_not_reachable_with_a_small_baseline():
     assert plan.required_size is None and plan.points is None
     # the limit: d √n1 standardised, as the after sample grows without end
     nc = 0.25 * math.sqrt(20)
-    assert plan.power_limit == pytest.approx(st.norm.cdf(nc - 1.959964) + st.norm.cdf(-nc - 1.959964),
-                                             rel=1e-6)
+    assert plan.power_limit == pytest.approx(
+        st.norm.cdf(nc - 1.959964) + st.norm.cdf(-nc - 1.959964), rel=1e-6
+    )
     assert plan.power_limit < 0.8 and "unlimited" in plan.notes[0]
     # the power of a huge after sample approaches the limit
     big = power_reached("continuous", 50.0, 49.0, 20, 1e7, sd=4.0).power
@@ -104,8 +117,9 @@ def test_plans_hold_for_the_projects_own_tests_by_simulation():
     e2 = plan.required_size
     c1, c2 = rng.poisson(0.5 * 400, reps), rng.poisson(0.35 * e2, reps)
     share = e2 / (400 + e2)
-    rejected = [st.binomtest(int(k), int(k + j), share).pvalue < 0.05 for j, k in zip(c1, c2,
-                                                                                        strict=True)]
+    rejected = [
+        st.binomtest(int(k), int(k + j), share).pvalue < 0.05 for j, k in zip(c1, c2, strict=True)
+    ]
     assert np.mean(rejected) == pytest.approx(0.80, abs=0.04)
 
 

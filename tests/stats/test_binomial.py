@@ -17,8 +17,11 @@ def _cases(seed: int, count: int):
     rng = np.random.default_rng(seed)
     for _ in range(count):
         n = int(10 ** rng.uniform(0, 6))
-        p = float(rng.uniform(0.001, 0.999)) if rng.random() < 0.8 else float(
-            rng.choice([0.5, 0.25, 1 / 3, 0.01, 0.99]))
+        p = (
+            float(rng.uniform(0.001, 0.999))
+            if rng.random() < 0.8
+            else float(rng.choice([0.5, 0.25, 1 / 3, 0.01, 0.99]))
+        )
         sd = math.sqrt(n * p * (1 - p))
         k = int(np.clip(round(rng.normal(n * p, 3 * sd + 1)), 0, n))
         yield k, n, p
@@ -93,9 +96,11 @@ def test_two_sided_p_edges():
     assert binomial.two_sided_p(5, 10, 0.5) == 1.0
     assert binomial.two_sided_p(0, 10, 0.0) == stats.binomtest(0, 10, 0.0).pvalue
     assert binomial.two_sided_p(10, 10, 1.0) == stats.binomtest(10, 10, 1.0).pvalue
-    assert binomial.two_sided_p(0, 3000, 0.2) == pytest.approx(stats.binomtest(0, 3000, 0.2).pvalue,
-                                                              rel=1e-10)
+    assert binomial.two_sided_p(0, 3000, 0.2) == pytest.approx(
+        stats.binomtest(0, 3000, 0.2).pvalue, rel=1e-10
+    )
     assert binomial.two_sided_p(3000, 3000, 0.999) == pytest.approx(
-        stats.binomtest(3000, 3000, 0.999).pvalue, rel=1e-10)
+        stats.binomtest(3000, 3000, 0.999).pvalue, rel=1e-10
+    )
     for k, n, p in ((-1, 5, 0.5), (6, 5, 0.5), (1, 0, 0.5), (1, 5, 1.5)):
         assert math.isnan(binomial.two_sided_p(k, n, p))

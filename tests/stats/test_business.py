@@ -35,8 +35,9 @@ def test_published_sigma_table_with_shift(dpmo, level):
 def test_sigma_level_against_scipy():
     for bad in (1e-12, 3.4e-6, 1e-4, 0.01, 0.2, 0.5, 0.9):
         assert sigma_level_from_bad(bad) == pytest.approx(st.norm.isf(bad) + 1.5, rel=1e-12)
-        assert sigma_level(1 - bad, shift=False) == pytest.approx(st.norm.ppf(1 - bad),
-                                                                  rel=1e-9, abs=1e-12)
+        assert sigma_level(1 - bad, shift=False) == pytest.approx(
+            st.norm.ppf(1 - bad), rel=1e-9, abs=1e-12
+        )
     assert sigma_level_from_bad(0.0) is None and sigma_level(0.0) is None
 
 

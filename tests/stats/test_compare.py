@@ -43,7 +43,10 @@ def _welch_cases():
     yield np.array([1.0, 1.0, 1.0]), np.array([2.0, 2.5, 3.5])  # one phase without spread
     yield np.array([0.0, 1e-6]), np.array([1e6, 1e6 + 1e-6, 1e6 + 2e-6])  # |t| ~ 1e12
     yield np.arange(5000.0), np.arange(5000.0) + 1.0  # large df, tiny t
-    yield np.random.default_rng(3).normal(0, 1, 20000), np.random.default_rng(4).normal(0.05, 2, 30000)
+    yield (
+        np.random.default_rng(3).normal(0, 1, 20000),
+        np.random.default_rng(4).normal(0.05, 2, 30000),
+    )
 
 
 def test_welch_t_test_against_scipy_ttest_ind():
@@ -106,7 +109,7 @@ def test_two_proportion_z_test():
     assert c.percent_change == pytest.approx(-53.658536, rel=1e-6)
     assert c.sentence == (
         "The weekly error rate fell from 4.1% to 1.9% (\u22122.2 percentage points, \u221254% "
-            "relative); a change this large would be "
+        "relative); a change this large would be "
         "unlikely by chance alone (two-proportion z-test, p < 0.001)."
     )
 

@@ -159,11 +159,17 @@ def test_table_entries_recomputed_by_the_integrals(n):
 
     from steadyline.stats import _constant_table as T
 
-    mean, _ = integrate.quad(lambda x: 1 - _phi(x) ** n - _phi(-x) ** n, -12, 12,
-                             epsabs=1e-13, epsrel=1e-13, limit=200)
+    mean, _ = integrate.quad(
+        lambda x: 1 - _phi(x) ** n - _phi(-x) ** n, -12, 12, epsabs=1e-13, epsrel=1e-13, limit=200
+    )
     half, _ = integrate.dblquad(
         lambda y, x: 1 - _phi(y) ** n - _phi(-x) ** n + (_phi(y) - _phi(x)) ** n,
-        -12, 12, lambda x: x, 12, epsabs=1e-11, epsrel=1e-11,
+        -12,
+        12,
+        lambda x: x,
+        12,
+        epsabs=1e-11,
+        epsrel=1e-11,
     )
     assert T.D2[n] == pytest.approx(mean, abs=1e-9)
     assert T.D3[n] == pytest.approx(math.sqrt(2 * half - mean**2), abs=1e-9)

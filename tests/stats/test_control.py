@@ -103,8 +103,9 @@ def test_gaps_and_stages_together_and_bad_segments():
     assert np.isnan(ch.secondary.values[[0, 3, 6]]).all()
     # by hand: baseline moving ranges 2, 1 | 1, 2 -> MR-bar 1.5
     assert ch.extras["average_moving_range"] == pytest.approx(1.5)
-    per_phase = C.individuals(x, stage=[0, 0, 0, 0, 0, 0, 1, 1], limits="per-phase",
-                              segment=[0, 0, 0, 1, 1, 1, 1, 1])
+    per_phase = C.individuals(
+        x, stage=[0, 0, 0, 0, 0, 0, 1, 1], limits="per-phase", segment=[0, 0, 0, 1, 1, 1, 1, 1]
+    )
     assert per_phase.extras["process_sigma_stage_1"] == pytest.approx(1.0 / d2(2))
     # a baseline of single points between gaps has no moving range at all
     with pytest.raises(StatsError, match="two consecutive points"):

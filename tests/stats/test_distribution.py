@@ -381,12 +381,22 @@ def test_ad_p_value_range_ends_where_the_formula_turns_upward():
     assert np.all(np.diff(p) <= 1e-12)
     assert p[-1] > AD_P_FLOOR and p[-1] == pytest.approx(AD_P_FLOOR, rel=1e-3)
     assert AD_P_FLOOR == pytest.approx(
-        math.exp(1.2937 - 5.709 * AD_P_MAX_ADJUSTED + 0.0186 * AD_P_MAX_ADJUSTED**2), rel=1e-12)
+        math.exp(1.2937 - 5.709 * AD_P_MAX_ADJUSTED + 0.0186 * AD_P_MAX_ADJUSTED**2), rel=1e-12
+    )
     assert 1e-191 < AD_P_FLOOR < 1e-189
     # at and past the end: no p-value (the old code gave 1.0 near a = 307 and overflowed
     # past about 402)
-    for past in (AD_P_MAX_ADJUSTED, 200.0, 306.9, 307.0, 402.0, 1e4, 1e9, float("inf"),
-                 float("nan")):
+    for past in (
+        AD_P_MAX_ADJUSTED,
+        200.0,
+        306.9,
+        307.0,
+        402.0,
+        1e4,
+        1e9,
+        float("inf"),
+        float("nan"),
+    ):
         assert ad_p_value(past) is None
 
 
@@ -399,7 +409,8 @@ def test_a_large_skewed_sample_is_not_normal_and_says_p_below():
         assert not r.normal_at_5pct
         assert r.p_value is None and r.p_below == AD_P_FLOOR
     assert p_below_text(AD_P_FLOOR) == (
-        "p below 2e-190, the smallest p-value the approximation gives")
+        "p below 2e-190, the smallest p-value the approximation gives"
+    )
 
 
 def test_anderson_darling_requirements():
@@ -422,7 +433,7 @@ def test_extended_edges_keep_the_grid_and_cover_every_value():
     grid = np.array(extend_edges(edges, later))
     # the baseline's edges are a run of the result, unchanged
     k = int(np.flatnonzero(grid == edges[0])[0])
-    assert np.array_equal(grid[k:k + len(edges)], edges)
+    assert np.array_equal(grid[k : k + len(edges)], edges)
     # one width throughout (reference: numpy.diff), and every later value inside
     # (reference: numpy.histogram counts all of them)
     assert np.allclose(np.diff(grid), edges[1] - edges[0], rtol=1e-9)

@@ -10,8 +10,9 @@ import pytest
 
 import steadyline.stats
 
-MODULES = sorted(m.name for m in pkgutil.iter_modules(steadyline.stats.__path__,
-                                                      "steadyline.stats."))
+MODULES = sorted(
+    m.name for m in pkgutil.iter_modules(steadyline.stats.__path__, "steadyline.stats.")
+)
 
 
 @pytest.mark.parametrize("name", MODULES)

@@ -18,10 +18,19 @@ STAGE = [0] * 10 + [2, 2] + [1] * 8
 def chart(values, centre=10.0, secondary=None) -> ControlChart:
     n = len(values)
     return ControlChart(
-        kind="individuals", label="X", values=np.asarray(values, float),
-        centre=np.full(n, centre), lower=np.full(n, centre - 3), upper=np.full(n, centre + 3),
-        sigma=np.ones(n), process_sigma=1.0, sigma_method="",
-        fitted=np.arange(n) < 10, stage=np.asarray(STAGE), secondary=secondary)
+        kind="individuals",
+        label="X",
+        values=np.asarray(values, float),
+        centre=np.full(n, centre),
+        lower=np.full(n, centre - 3),
+        upper=np.full(n, centre + 3),
+        sigma=np.ones(n),
+        process_sigma=1.0,
+        sigma_method="",
+        fitted=np.arange(n) < 10,
+        stage=np.asarray(STAGE),
+        secondary=secondary,
+    )
 
 
 VALUES = [10, 11, 9, 10, 14, 10, 9, 11, 10, 10, 6, 10, 5, 6, 5, 6, 15, 6, 5, 6]
@@ -50,13 +59,16 @@ def test_carried_points_in_signals_are_change_the_rest_instability():
     assert main.unstable.tolist() == [i in (4, 16) for i in range(20)]
 
 
-@pytest.mark.parametrize(("better", "target", "expect"), [
-    ("lower", None, "better"),
-    ("higher", None, "worse"),
-    ("target", 5.0, "better"),  # 6 is nearer 5 than the centre line 10 is
-    ("target", 12.0, "worse"),
-    ("target", None, "not judged"),
-])
+@pytest.mark.parametrize(
+    ("better", "target", "expect"),
+    [
+        ("lower", None, "better"),
+        ("higher", None, "worse"),
+        ("target", 5.0, "better"),  # 6 is nearer 5 than the centre line 10 is
+        ("target", 12.0, "worse"),
+        ("target", None, "not judged"),
+    ],
+)
 def test_direction_by_what_better_means(better, target, expect):
     main, _ = point_evidence(chart(VALUES), SIGNALS, (), better=better, target=target)
     assert main.change[10] == expect
@@ -87,4 +99,8 @@ def test_counts_of_the_after_phase():
     values[19] = np.nan  # a missing period: not drawn, not counted
     # 13 is in the run below and in a signal without a side: the run gives its direction
     assert change_counts(main, STAGE, values) == {
-        "points": 7, "better": 6, "worse": 0, "not judged": 1}
+        "points": 7,
+        "better": 6,
+        "worse": 0,
+        "not judged": 1,
+    }

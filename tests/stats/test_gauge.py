@@ -54,11 +54,16 @@ def montgomery_cube() -> np.ndarray:
     return np.array(rows).reshape(20, 3, 2)
 
 
-def simulate(rng, parts=10, appraisers=3, trials=3, sd_part=2.0, sd_appr=0.0, sd_inter=0.0,
-             sd_rep=0.5):
-    return (rng.normal(0, sd_part, (parts, 1, 1)) + rng.normal(0, sd_appr, (1, appraisers, 1))
-            + rng.normal(0, sd_inter, (parts, appraisers, 1))
-            + rng.normal(0, sd_rep, (parts, appraisers, trials)) + 50.0)
+def simulate(
+    rng, parts=10, appraisers=3, trials=3, sd_part=2.0, sd_appr=0.0, sd_inter=0.0, sd_rep=0.5
+):
+    return (
+        rng.normal(0, sd_part, (parts, 1, 1))
+        + rng.normal(0, sd_appr, (1, appraisers, 1))
+        + rng.normal(0, sd_inter, (parts, appraisers, 1))
+        + rng.normal(0, sd_rep, (parts, appraisers, trials))
+        + 50.0
+    )
 
 
 def statsmodels_tables(cube):
@@ -81,7 +86,8 @@ def test_montgomery_printed_anova_from_memory():
     ss = [row.sum_of_squares for row in study.anova]
     assert ss == pytest.approx([1185.425, 2.6167, 27.05, 59.5], abs=5e-4)
     assert [row.mean_square for row in study.anova] == pytest.approx(
-        [62.39, 1.31, 0.71, 0.99], abs=0.005)
+        [62.39, 1.31, 0.71, 0.99], abs=0.005
+    )
     assert study.anova[2].f == pytest.approx(0.7178, abs=1e-3)
     assert study.interaction_pooled
     assert study.component("repeatability").variance == pytest.approx(0.88, abs=0.005)
@@ -91,14 +97,16 @@ def test_montgomery_printed_anova_from_memory():
     # P/T = 6 σ_gauge / (USL − LSL) ≈ 0.10 with USL 60, LSL 5 (Montgomery, from memory)
     assert study.component("measurement system").tolerance_percent == pytest.approx(10.3, abs=0.1)
     assert study.component("measurement system").tolerance_percent == pytest.approx(
-        100 * 6 * math.sqrt(0.8832 + 0.0106) / 55, abs=0.01)
+        100 * 6 * math.sqrt(0.8832 + 0.0106) / 55, abs=0.01
+    )
     # the shares by their definitions
     ms = study.component("measurement system")
     total = study.component("total")
     assert ms.study_percent == pytest.approx(100 * ms.sigma / total.sigma)
     assert ms.contribution_percent == pytest.approx(100 * ms.variance / total.variance)
     assert study.distinct_categories == math.floor(
-        1.41 * study.component("part-to-part").sigma / ms.sigma)
+        1.41 * study.component("part-to-part").sigma / ms.sigma
+    )
     assert study.distinct_categories == 4
 
 
@@ -107,19 +115,25 @@ def test_montgomery_against_statsmodels():
     study = gauge_study(*long_form(cube))
     full, additive = statsmodels_tables(cube)
     ours = {row.source: row for row in study.anova}
-    names = {"part": "C(part)", "appraiser": "C(appr)", "part × appraiser": "C(part):C(appr)",
-             "repeatability": "Residual"}
+    names = {
+        "part": "C(part)",
+        "appraiser": "C(appr)",
+        "part × appraiser": "C(part):C(appr)",
+        "repeatability": "Residual",
+    }
     for source, sm in names.items():
         assert ours[source].df == full.loc[sm, "df"]
         assert ours[source].sum_of_squares == pytest.approx(full.loc[sm, "sum_sq"], rel=1e-10)
     # the interaction is tested against repeatability, as statsmodels does for every term
     assert ours["part × appraiser"].f == pytest.approx(full.loc["C(part):C(appr)", "F"])
     assert ours["part × appraiser"].p_value == pytest.approx(
-        full.loc["C(part):C(appr)", "PR(>F)"], rel=1e-8)
+        full.loc["C(part):C(appr)", "PR(>F)"], rel=1e-8
+    )
     # pooled: the additive model's residual is the pooled error, and its F tests are ours
     reduced = {row.source: row for row in study.reduced_anova}
     assert reduced["repeatability"].mean_square == pytest.approx(
-        additive.loc["Residual", "sum_sq"] / additive.loc["Residual", "df"])
+        additive.loc["Residual", "sum_sq"] / additive.loc["Residual", "df"]
+    )
     for source in ("part", "appraiser"):
         sm = names[source]
         assert reduced[source].f == pytest.approx(additive.loc[sm, "F"], rel=1e-10)
@@ -142,8 +156,9 @@ def test_interaction_kept_against_statsmodels():
     assert study.component("part × appraiser").variance == pytest.approx((ms_po - ms_e) / r)
     assert study.component("repeatability").variance == pytest.approx(ms_e)
     repro = study.component("reproducibility").variance
-    assert repro == pytest.approx(study.component("appraiser").variance
-                                  + study.component("part × appraiser").variance)
+    assert repro == pytest.approx(
+        study.component("appraiser").variance + study.component("part × appraiser").variance
+    )
 
 
 def test_no_appraiser_effect_gives_small_reproducibility():
@@ -153,8 +168,9 @@ def test_no_appraiser_effect_gives_small_reproducibility():
     for seed in range(20):
         rng = np.random.default_rng(seed)
         small.append(gauge_study(*long_form(simulate(rng))).component("reproducibility"))
-        large.append(gauge_study(*long_form(simulate(rng, sd_appr=3.0))).component(
-            "reproducibility"))
+        large.append(
+            gauge_study(*long_form(simulate(rng, sd_appr=3.0))).component("reproducibility")
+        )
     assert np.median([c.sigma for c in small]) < 0.15
     assert max(c.sigma for c in small) < 0.3
     assert np.median([c.sigma for c in large]) > 1.5
@@ -173,13 +189,19 @@ def test_negative_estimates_set_to_zero():
 
 def test_verdict_bands():
     assert [verdict_for(x) for x in (0, 9.99, 10, 29.9, 30, 30.01)] == [
-        "adequate", "adequate", "depends on use", "depends on use", "depends on use",
-        "inadequate"]
+        "adequate",
+        "adequate",
+        "depends on use",
+        "depends on use",
+        "depends on use",
+        "inadequate",
+    ]
 
 
 def without_cell(values, parts, appraisers, part, appraiser):
-    keep = [i for i, key in enumerate(zip(parts, appraisers, strict=True))
-            if key != (part, appraiser)]
+    keep = [
+        i for i, key in enumerate(zip(parts, appraisers, strict=True)) if key != (part, appraiser)
+    ]
     return ([values[i] for i in keep], [parts[i] for i in keep], [appraisers[i] for i in keep])
 
 
@@ -196,8 +218,9 @@ def without_cell(values, parts, appraisers, part, appraiser):
     ],
 )
 def test_refusals(edit, message):
-    values, parts, appraisers = long_form(simulate(np.random.default_rng(1), parts=3,
-                                                   appraisers=2, trials=2))
+    values, parts, appraisers = long_form(
+        simulate(np.random.default_rng(1), parts=3, appraisers=2, trials=2)
+    )
     with pytest.raises(StatsError, match=message):
         gauge_study(*edit(values, parts, appraisers))
 

@@ -72,7 +72,11 @@ def test_common_path_imports_no_scipy(tmp_path):
     env = dict(os.environ, PYTHONPATH=str(REPO / "src"))
     proc = subprocess.run(
         [sys.executable, "-c", CHILD, str(tmp_path), str(REPO / "benchmarks")],
-        env=env, capture_output=True, text=True, timeout=300, check=False,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+        check=False,
     )
     assert proc.returncode == 0, proc.stderr
     report = json.loads(proc.stdout.strip().splitlines()[-1])

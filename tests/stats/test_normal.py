@@ -14,12 +14,14 @@ from steadyline.stats import normal
 
 def _grid() -> np.ndarray:
     rng = np.random.default_rng(20240611)
-    return np.concatenate([
-        np.linspace(-37.5, 37.5, 3001),
-        rng.normal(0, 3, 3000),
-        rng.uniform(-37.5, 37.5, 3000),
-        [0.0, -0.0, 1e-300, -1e-300, 5e-324],
-    ])
+    return np.concatenate(
+        [
+            np.linspace(-37.5, 37.5, 3001),
+            rng.normal(0, 3, 3000),
+            rng.uniform(-37.5, 37.5, 3000),
+            [0.0, -0.0, 1e-300, -1e-300, 5e-324],
+        ]
+    )
 
 
 def test_cdf_and_sf_match_scipy():
@@ -41,12 +43,14 @@ def test_cdf_and_sf_match_scipy():
 def test_ppf_matches_scipy():
     # reference: scipy.stats.norm.ppf (scipy.special.ndtri)
     rng = np.random.default_rng(7)
-    p = np.concatenate([
-        rng.uniform(0, 1, 4000),
-        10.0 ** rng.uniform(-300, -1, 2000),
-        1.0 - 10.0 ** rng.uniform(-15, -1, 500),
-        [0.5, 0.95, 0.975, 0.995, 0.05, 0.025, 1e-300, 5e-324],
-    ])
+    p = np.concatenate(
+        [
+            rng.uniform(0, 1, 4000),
+            10.0 ** rng.uniform(-300, -1, 2000),
+            1.0 - 10.0 ** rng.uniform(-15, -1, 500),
+            [0.5, 0.95, 0.975, 0.995, 0.05, 0.025, 1e-300, 5e-324],
+        ]
+    )
     mine = np.array([normal.ppf(v) for v in p])
     ref = stats.norm.ppf(p)
     # at p = 5e-324 (the smallest float) both are limited by the subnormal, so allow 1e-12 there
@@ -75,13 +79,23 @@ def test_pdf_is_scipys_to_the_last_bit():
 
 def _log_grid() -> np.ndarray:
     rng = np.random.default_rng(99)
-    return np.concatenate([
-        np.linspace(-60.0, 40.0, 4001),
-        -(10.0 ** rng.uniform(0, 8, 1500)),  # far lower tail, asymptotic series
-        rng.normal(0, 4, 2000),
-        [normal.ASYMPTOTIC_BELOW, np.nextafter(normal.ASYMPTOTIC_BELOW, 0.0),
-         np.nextafter(normal.ASYMPTOTIC_BELOW, -1.0), 0.0, -1e-300, 1e-300, 1e300, -1e300],
-    ])
+    return np.concatenate(
+        [
+            np.linspace(-60.0, 40.0, 4001),
+            -(10.0 ** rng.uniform(0, 8, 1500)),  # far lower tail, asymptotic series
+            rng.normal(0, 4, 2000),
+            [
+                normal.ASYMPTOTIC_BELOW,
+                np.nextafter(normal.ASYMPTOTIC_BELOW, 0.0),
+                np.nextafter(normal.ASYMPTOTIC_BELOW, -1.0),
+                0.0,
+                -1e-300,
+                1e-300,
+                1e300,
+                -1e300,
+            ],
+        ]
+    )
 
 
 def _close(mine: np.ndarray, ref: np.ndarray, z: np.ndarray) -> bool:
@@ -106,7 +120,7 @@ def test_logcdf_and_logsf_match_scipy():
     # far in the lower tail the asymptotic series is in use: log Phi(z) ~ -z^2/2 - ln(-z sqrt(2 pi))
     # (Abramowitz & Stegun 26.2.12, leading term; from memory)
     zz = np.array([-1e3, -1e5])
-    lead = -zz**2 / 2 - np.log(-zz * math.sqrt(2 * math.pi))
+    lead = -(zz**2) / 2 - np.log(-zz * math.sqrt(2 * math.pi))
     np.testing.assert_allclose(normal.logcdf(zz), lead, rtol=1e-6)
 
 

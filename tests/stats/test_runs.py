@@ -86,8 +86,17 @@ def test_anhoj_crossings_limit_equals_scipy_binom_ppf_for_every_n():
 
 
 @pytest.mark.parametrize(
-    "n", [2999, 4096, 7777, runs_module.EXACT_CROSSINGS_MAX, runs_module.EXACT_CROSSINGS_MAX + 1,
-          runs_module.EXACT_CROSSINGS_MAX + 2, 25_000, 1_000_000]
+    "n",
+    [
+        2999,
+        4096,
+        7777,
+        runs_module.EXACT_CROSSINGS_MAX,
+        runs_module.EXACT_CROSSINGS_MAX + 1,
+        runs_module.EXACT_CROSSINGS_MAX + 2,
+        25_000,
+        1_000_000,
+    ],
 )
 def test_anhoj_crossings_limit_equals_scipy_for_large_n(n):
     # reference: scipy.stats.binom.ppf(0.05, n - 1, 0.5), on both sides of the switch from exact

@@ -59,12 +59,18 @@ def test_set_aside_points_raise_no_signal_and_the_rest_are_judged_on_revised_lim
     new = C.individuals(y, set_aside=ASIDE)
     assert old.lower[11] < 14.0 < old.upper[11]
     assert 14.0 > new.upper[11]
-    hits = [s for s in rules.detect_signals(new, "western-electric")
-            if s.rule == "beyond-limits" and s.chart == "main"]
+    hits = [
+        s
+        for s in rules.detect_signals(new, "western-electric")
+        if s.rule == "beyond-limits" and s.chart == "main"
+    ]
     assert [s.indices for s in hits] == [(11,)]
     # on the limits with them, the point is inside and only the removed cause's points signal
-    assert [s.indices for s in rules.detect_signals(old, "western-electric")
-            if s.rule == "beyond-limits" and s.chart == "main"] == [(4,), (5,)]
+    assert [
+        s.indices
+        for s in rules.detect_signals(old, "western-electric")
+        if s.rule == "beyond-limits" and s.chart == "main"
+    ] == [(4,), (5,)]
 
 
 def test_xbar_r_limits_from_the_remaining_subgroups():

@@ -18,7 +18,9 @@ def test_log_gamma_ratio_against_scipy_gammaln(z, s):
     # reference: scipy.special.gammaln; its difference of two values near z ln z carries an
     # absolute error of about 1e-16 * z ln z, hence the tolerance
     ref = special.gammaln(z + s) - special.gammaln(z)
-    assert S.log_gamma_ratio(z, s) == pytest.approx(ref, rel=1e-13, abs=4e-16 * (1 + z * math.log(z + 1)))
+    assert S.log_gamma_ratio(z, s) == pytest.approx(
+        ref, rel=1e-13, abs=4e-16 * (1 + z * math.log(z + 1))
+    )
 
 
 @pytest.mark.parametrize("z", [10.0, 33.3, 1e3, 1e5, 1e8, 1e12])
@@ -60,9 +62,24 @@ def test_t_two_sided_against_scipy_stdtr():
 @pytest.mark.parametrize(
     "t, df",
     [
-        (1e-12, 3.0), (0.3, 0.6), (50.0, 0.7), (1e4, 1.0), (1e150, 2.0), (2.0, 19.999),
-        (2.0, 20.0), (1.3, 20.5), (2.7, 2000.0), (5.0, 2000.0), (0.01, 1e6), (4.0, 1e6),
-        (9.0, 1e6), (1.96, 1e9), (3.0, 3e7), (40.0, 3e3), (60.0, 1e5), (8.0, 7.5),
+        (1e-12, 3.0),
+        (0.3, 0.6),
+        (50.0, 0.7),
+        (1e4, 1.0),
+        (1e150, 2.0),
+        (2.0, 19.999),
+        (2.0, 20.0),
+        (1.3, 20.5),
+        (2.7, 2000.0),
+        (5.0, 2000.0),
+        (0.01, 1e6),
+        (4.0, 1e6),
+        (9.0, 1e6),
+        (1.96, 1e9),
+        (3.0, 3e7),
+        (40.0, 3e3),
+        (60.0, 1e5),
+        (8.0, 7.5),
     ],
 )
 def test_t_two_sided_edge_cases(t, df):

@@ -27,15 +27,18 @@ def studies(draw):
     seed = draw(st.integers(0, 2**32 - 1))
     rng = np.random.default_rng(seed)
     scales = [draw(st.sampled_from([0.0, 0.1, 1.0, 5.0])) for _ in range(3)]
-    cube = (rng.normal(0, scales[0], (p, 1, 1)) + rng.normal(0, scales[1], (1, o, 1))
-            + rng.normal(0, scales[2], (p, o, 1)) + rng.normal(0, 1.0, (p, o, r)))
+    cube = (
+        rng.normal(0, scales[0], (p, 1, 1))
+        + rng.normal(0, scales[1], (1, o, 1))
+        + rng.normal(0, scales[2], (p, o, 1))
+        + rng.normal(0, 1.0, (p, o, r))
+    )
     return np.round(cube, 3)
 
 
 def long_form(cube):
     idx = list(np.ndindex(*cube.shape))
-    return ([float(cube[i]) for i in idx], [f"p{i[0]}" for i in idx],
-            [f"o{i[1]}" for i in idx])
+    return ([float(cube[i]) for i in idx], [f"p{i[0]}" for i in idx], [f"o{i[1]}" for i in idx])
 
 
 @SETTINGS
@@ -49,18 +52,25 @@ def test_components_nonnegative_additive_and_invariant(cube, scale, shift, rnd):
     c = {x.source: x for x in study.components}
     assert all(x.variance >= 0 for x in study.components)
     assert c["reproducibility"].variance == pytest.approx(
-        c["appraiser"].variance + c["part × appraiser"].variance)
+        c["appraiser"].variance + c["part × appraiser"].variance
+    )
     assert c["measurement system"].variance == pytest.approx(
-        c["repeatability"].variance + c["reproducibility"].variance)
+        c["repeatability"].variance + c["reproducibility"].variance
+    )
     assert c["total"].variance == pytest.approx(
-        c["measurement system"].variance + c["part-to-part"].variance)
-    assert c["measurement system"].contribution_percent + c["part-to-part"].contribution_percent \
-        == pytest.approx(100.0)
+        c["measurement system"].variance + c["part-to-part"].variance
+    )
+    assert c["measurement system"].contribution_percent + c[
+        "part-to-part"
+    ].contribution_percent == pytest.approx(100.0)
     # a change of unit (scale and offset) and another row order change no share
     order = list(range(len(values)))
     rnd.shuffle(order)
-    other = gauge_study([values[i] * scale + shift for i in order], [parts[i] for i in order],
-                        [appraisers[i] for i in order])
+    other = gauge_study(
+        [values[i] * scale + shift for i in order],
+        [parts[i] for i in order],
+        [appraisers[i] for i in order],
+    )
     assert other.interaction_pooled == study.interaction_pooled
     # the same but for rounding where 1.41 σ_P / σ_gauge falls on a whole number
     assert abs(other.distinct_categories - study.distinct_categories) <= 1

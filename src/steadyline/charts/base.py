@@ -77,8 +77,10 @@ class ColumnTable(Sequence):
 
     def rows(self) -> list[dict]:
         if self._rows is None:
-            self._rows = [dict(zip(self.columns, r, strict=True))
-                          for r in zip(*self.cols.values(), strict=True)]
+            self._rows = [
+                dict(zip(self.columns, r, strict=True))
+                for r in zip(*self.cols.values(), strict=True)
+            ]
         return self._rows
 
     def __len__(self) -> int:
@@ -164,12 +166,12 @@ def _find_slots(node, path: tuple, out: list) -> None:
             _find_slots(v, (*path, k), out)
     elif isinstance(node, list):
         if len(node) == 1 and isinstance(node[0], str) and node[0].startswith(_PLACEHOLDER):
-            out.append((path, node[0][len(_PLACEHOLDER):], True))
+            out.append((path, node[0][len(_PLACEHOLDER) :], True))
             return
         for i, v in enumerate(node):
             _find_slots(v, (*path, i), out)
     elif isinstance(node, str) and node.startswith(_PLACEHOLDER):
-        out.append((path, node[len(_PLACEHOLDER):], False))
+        out.append((path, node[len(_PLACEHOLDER) :], False))
 
 
 def _slot_value(name: str, values: dict, is_list: bool):
@@ -242,8 +244,9 @@ SUBTITLE_WIDTH = 125
 def _wrapped(line: str) -> tuple[str, ...]:
     if len(line) <= SUBTITLE_WIDTH:
         return (line,)
-    return tuple(textwrap.wrap(line, SUBTITLE_WIDTH, break_long_words=False,
-                               break_on_hyphens=False))
+    return tuple(
+        textwrap.wrap(line, SUBTITLE_WIDTH, break_long_words=False, break_on_hyphens=False)
+    )
 
 
 # Characters of a 12 px axis title per pixel of the axis it runs along.
@@ -490,12 +493,14 @@ class XAxis:
         self._dts: list[datetime] | None = None
         if self.is_time:
             given = ctx.stamps
-            self._stamps = (given if given is not None and len(given) == self.n
-                            else _plain_stamps(ctx.x))
+            self._stamps = (
+                given if given is not None and len(given) == self.n else _plain_stamps(ctx.x)
+            )
             if self._stamps is not None:
                 texts = np.datetime_as_string(self._stamps, unit="s").tolist()
-                self.pos = [x if _DATE_RE.match(x) else t + "Z"
-                            for x, t in zip(ctx.x, texts, strict=True)]
+                self.pos = [
+                    x if _DATE_RE.match(x) else t + "Z" for x, t in zip(ctx.x, texts, strict=True)
+                ]
             else:
                 self.pos = [time_text(s) for s in ctx.x]
                 self._dts = [parse_time(s) for s in ctx.x]  # refuses bad values now
@@ -531,8 +536,10 @@ class XAxis:
                 secs = np.datetime_as_string(half, unit="s").tolist()
                 millis = np.datetime_as_string(half, unit="ms").tolist()
                 mids = [self.pos[0]]
-                mids += [(a if w else b) + "Z"
-                         for a, b, w in zip(secs, millis, whole.tolist(), strict=True)]
+                mids += [
+                    (a if w else b) + "Z"
+                    for a, b, w in zip(secs, millis, whole.tolist(), strict=True)
+                ]
                 mids.append(self.pos[n - 1])
             elif self.is_time:
                 dt = self._dt
@@ -588,8 +595,12 @@ def x_encoding(is_time: bool, field: str = "x", title: str | None = None) -> dic
             scale={"type": "utc"},
             # day ticks as "Mar 14" (Vega's default "Sat 14" hides the month), hours on a
             # 24-hour clock; coarser ticks keep Vega's own month and year labels
-            axis={"title": title, "labelOverlap": True, "grid": False,
-                  "format": {"date": "%b %d", "hours": "%H:%M"}},
+            axis={
+                "title": title,
+                "labelOverlap": True,
+                "grid": False,
+                "format": {"date": "%b %d", "hours": "%H:%M"},
+            },
         )
     return vl.field(
         f"{field}:Q",
@@ -685,8 +696,14 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     its line, the whole gap when that label faces away and half of it when it faces this one,
     or to the chart's end. Beyond that it is cut with an ellipsis, its whole text in the
     tooltip."""
-    inside = sorted(((parse_time(time_text(when)), time_text(when), str(label), str(when))
-                     for when, label in events if xa.in_range(when)), key=lambda e: e[0])
+    inside = sorted(
+        (
+            (parse_time(time_text(when)), time_text(when), str(label), str(when))
+            for when, label in events
+            if xa.in_range(when)
+        ),
+        key=lambda e: e[0],
+    )
     if not inside:
         return []
     first, last = parse_time(xa.at(0)), parse_time(xa.at(xa.n - 1))
@@ -701,8 +718,16 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
             edge = inside[j][0]  # it faces the same way: the whole gap
         else:
             edge = t + (inside[j][0] - t) / 2  # it faces this one: half the gap each
-        rows.append({"x": x, "label": label, "when": when, "y": 16 + 12 * (k % EVENT_LINES),
-                     "align": "right" if leftwards[k] else "left", "edge": utc_text(edge)})
+        rows.append(
+            {
+                "x": x,
+                "label": label,
+                "when": when,
+                "y": 16 + 12 * (k % EVENT_LINES),
+                "align": "right" if leftwards[k] else "left",
+                "edge": utc_text(edge),
+            }
+        )
     return rows
 
 
@@ -746,10 +771,16 @@ def band_layers(is_time: bool, legend: bool = True) -> list[dict]:
                 scale={"domain": list_slot("period_kinds"), "range": list_slot("period_fills")},
                 # above the plot: beside the marks' legend below it, the two ran off a
                 # phone's screen; in two columns on a narrow chart
-                legend={"title": "period", "symbolType": "square", "orient": "top",
-                        "columns": {"expr": "width < 560 ? 2 : 5"},
-                        "symbolStrokeColor": style.LIMIT, "symbolStrokeWidth": 1}
-                if legend else None,
+                legend={
+                    "title": "period",
+                    "symbolType": "square",
+                    "orient": "top",
+                    "columns": {"expr": "width < 560 ? 2 : 5"},
+                    "symbolStrokeColor": style.LIMIT,
+                    "symbolStrokeWidth": 1,
+                }
+                if legend
+                else None,
             ),
             "tooltip": [vl.tip("kind:N", "period")],
         },
@@ -759,10 +790,15 @@ def band_layers(is_time: bool, legend: bool = True) -> list[dict]:
     room = f"max(12, scale('x', {ends[0]}) - scale('x', {ends[1]}) - 6)"
     label = vl.view(
         "bands",
-        vl.mark("text", align="left", baseline="top", dx=3, dy=2, fontWeight=600,
-                limit={"expr": room}),
-        {"x": x_encoding(is_time), "y": {"value": 0}, "text": vl.field("label:N"),
-         "tooltip": [vl.tip("kind:N", "period")]},
+        vl.mark(
+            "text", align="left", baseline="top", dx=3, dy=2, fontWeight=600, limit={"expr": room}
+        ),
+        {
+            "x": x_encoding(is_time),
+            "y": {"value": 0},
+            "text": vl.field("label:N"),
+            "tooltip": [vl.tip("kind:N", "period")],
+        },
     )
     return [rect, label]
 
@@ -791,8 +827,10 @@ def event_layers(is_time: bool, labelled: bool = True) -> list[dict]:
             # right of the rule or left of it, no further than its edge (event_rows), in pixels
             align={"expr": "datum.align"},
             dx={"expr": "datum.align == 'right' ? -3 : 3"},
-            limit={"expr": "max(12, abs(scale('x', toDate(datum.edge)) - "
-                           "scale('x', toDate(datum.x))) - 8)"},
+            limit={
+                "expr": "max(12, abs(scale('x', toDate(datum.edge)) - "
+                "scale('x', toDate(datum.x))) - 8)"
+            },
         ),
         {
             "x": x_encoding(is_time),

@@ -49,11 +49,22 @@ MAX_BARS = 25
 # the expression interpreter), refuses a chart in which one of these names stands alone as a
 # constant text, such as an axis title ("Operator not defined"), and draws "__proto__" as
 # "[object Object]". A unit given in the metadata is such a text on the column chart's axis.
-_INHERITED = frozenset({
-    "constructor", "__proto__", "toString", "toLocaleString", "valueOf", "hasOwnProperty",
-    "isPrototypeOf", "propertyIsEnumerable", "__defineGetter__", "__defineSetter__",
-    "__lookupGetter__", "__lookupSetter__",
-})
+_INHERITED = frozenset(
+    {
+        "constructor",
+        "__proto__",
+        "toString",
+        "toLocaleString",
+        "valueOf",
+        "hasOwnProperty",
+        "isPrototypeOf",
+        "propertyIsEnumerable",
+        "__defineGetter__",
+        "__defineSetter__",
+        "__lookupGetter__",
+        "__lookupSetter__",
+    }
+)
 
 
 def constant_text(text: str) -> str:
@@ -153,7 +164,10 @@ def column_chart(
         for k, c, v in zip(bar_keys(shown), shown, shown_vals, strict=True)
     ]
     spec = make_spec(
-        tpl, {"y_title": constant_text(unit or "count")}, {"bars": rows}, "Counts by category",
+        tpl,
+        {"y_title": constant_text(unit or "count")},
+        {"bars": rows},
+        "Counts by category",
         sub,
     )
     value_col = unit if unit and unit != "category" else "count"  # never two "category"
@@ -168,9 +182,7 @@ def column_chart(
         summary += f"; largest {cats[k]} ({fmt(vals[k], 4)})"
     if n_gathered:
         summary += f"; the {n_gathered:,} smallest are drawn as one bar"
-    return ChartSpec(
-        spec=spec, table=table, columns=("category", value_col), summary=summary + "."
-    )
+    return ChartSpec(spec=spec, table=table, columns=("category", value_col), summary=summary + ".")
 
 
 # ------------------------------------------------------------------------------------------------
@@ -394,7 +406,8 @@ def pareto_chart(p: Pareto, period: str = "") -> ChartSpec:
     summary = (
         f"Pareto chart{f' ({period})' if period else ''} of {fmt(total, 4)} across "
         f"{plural(len(cats), 'category', 'categories')}: "
-        f"{len(p.vital_few)} make up the first {fmt(p.threshold)}%" + named
+        f"{len(p.vital_few)} make up the first {fmt(p.threshold)}%"
+        + named
         + (f"; the {n_gathered:,} smallest are drawn as one bar" if n_gathered else "")
         + "."
     )

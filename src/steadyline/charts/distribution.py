@@ -192,8 +192,9 @@ def histogram_chart(
     )
     binning = f"{plural(len(counts), 'bin')}, {width} ({hist.rule_label})"
     # a note names the values (and their number) already: the bins follow it on its line
-    sub = [f"{note.rstrip('.')}, in {binning}" if note
-           else f"{plural(hist.n, 'value')} in {binning}"]
+    sub = [
+        f"{note.rstrip('.')}, in {binning}" if note else f"{plural(hist.n, 'value')} in {binning}"
+    ]
     outside = []
     if hist.below_range:
         outside.append(f"{hist.below_range} below")
@@ -204,8 +205,9 @@ def histogram_chart(
     if curve_note:
         sub.append(curve_note)
     # broken into lines past the width of a half-width card's plot (about 400 px)
-    spec = make_spec(tpl, {"x_title": axis_title(x_title, 400)}, datasets,
-                     f"{name} \u2014 histogram", sub)
+    spec = make_spec(
+        tpl, {"x_title": axis_title(x_title, 400)}, datasets, f"{name} \u2014 histogram", sub
+    )
 
     table = [{"from": r["start"], "to": r["end"], "count": r["count"]} for r in bins]
     peak = max(range(len(counts)), key=lambda k: counts[k]) if counts else None
@@ -306,8 +308,9 @@ def _box_template() -> dict:
     return finish_template(chart, "box-plot")
 
 
-def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str, measure: str = "",
-              note: str = "") -> ChartSpec:
+def box_chart(
+    groups: Sequence[tuple[str, BoxSummary]], *, unit: str, measure: str = "", note: str = ""
+) -> ChartSpec:
     """One box per group on one scale, drawn from the summaries alone (no raw data). The value
     axis is titled with ``measure`` and the unit; ``note``, when given, heads the subtitle."""
     if not groups:
@@ -373,8 +376,10 @@ def box_chart(groups: Sequence[tuple[str, BoxSummary]], *, unit: str, measure: s
         "drawn one by one",
     ]
     if hidden:
-        sub.append(f"{hidden} outlying values nearer the fences are not drawn (the most "
-                   f"extreme {MAX_OUTLIERS_EACH_SIDE} on each side are)")
+        sub.append(
+            f"{hidden} outlying values nearer the fences are not drawn (the most "
+            f"extreme {MAX_OUTLIERS_EACH_SIDE} on each side are)"
+        )
     spec = make_spec(
         tpl,
         {"order": names, "y_title": titled(measure, unit) or "value"},

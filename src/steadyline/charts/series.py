@@ -100,7 +100,6 @@ def _exact(ctx: SeriesContext, datasets: dict) -> tuple[str, ...]:
     return tuple(datasets) if ctx.x_is_time else _EXACT
 
 
-
 # ------------------------------------------------------------------------------------------------
 # Templates
 # ------------------------------------------------------------------------------------------------
@@ -128,8 +127,14 @@ def _x_tip(is_time: bool) -> dict:
     return vl.tip("label:N", "point")
 
 
-def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
-                  staged: bool = False, aside: bool = False) -> list[dict]:
+def _value_layers(
+    is_time: bool,
+    suf: str,
+    y_slot: str,
+    with_limits: bool,
+    staged: bool = False,
+    aside: bool = False,
+) -> list[dict]:
     """Line broken at segment changes and gaps, plus points whose shape marks signals.
 
     Staged chart: a point's mark ("mark" in ``point_info``) says whether it is evidence of a
@@ -165,10 +170,14 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             if with_limits
             else []
         ),
-        {"calculate": (f"datum.aside ? '{MARK_ASIDE}' : ({_STAGED_MARK})" if aside
-                       else _STAGED_MARK) if staged else (
-            f"datum.aside ? '{MARK_ASIDE}' : ({_SIGNAL_TEST})" if aside else _SIGNAL_TEST),
-         "as": "marker"},
+        {
+            "calculate": (
+                f"datum.aside ? '{MARK_ASIDE}' : ({_STAGED_MARK})" if aside else _STAGED_MARK
+            )
+            if staged
+            else (f"datum.aside ? '{MARK_ASIDE}' : ({_SIGNAL_TEST})" if aside else _SIGNAL_TEST),
+            "as": "marker",
+        },
         {"calculate": "datum.signals || 'none'", "as": "signals"},
         # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
         # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
@@ -191,16 +200,24 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             {"domain": list_slot("mark_domain"), "range": list_slot("mark_colours")},
         )
         # a point set aside is drawn at the ordinary size, without the change marks' outline
-        plain = (f"datum.marker == '{MARK_ORDINARY}' || datum.marker == '{MARK_ASIDE}'"
-                 if aside else f"datum.marker == '{MARK_ORDINARY}'")
+        plain = (
+            f"datum.marker == '{MARK_ORDINARY}' || datum.marker == '{MARK_ASIDE}'"
+            if aside
+            else f"datum.marker == '{MARK_ORDINARY}'"
+        )
         size = {
             "condition": {"test": plain, "value": style.SIZE_POINT},
             "value": style.SIZE_CHANGE,
         }
         # a dark outline on the change marks, none on ordinary points (a mark property: a
         # "stroke" channel here would meet the limit lines' stroke in one legend)
-        mark = vl.mark("point", filled=True, opacity=1, strokeWidth=1, stroke={
-            "expr": f"({plain}) ? null : '{style.CHANGE_OUTLINE}'"})
+        mark = vl.mark(
+            "point",
+            filled=True,
+            opacity=1,
+            strokeWidth=1,
+            stroke={"expr": f"({plain}) ? null : '{style.CHANGE_OUTLINE}'"},
+        )
     else:
         scales = (
             {"domain": list(_MARK_DOMAIN), "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
@@ -215,9 +232,13 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
             scales[0]["range"].append(style.SHAPE_ASIDE)
             scales[1]["domain"].append(MARK_ASIDE)
             scales[1]["range"].append(style.ASIDE)
-            size = {"condition": [dict(size["condition"]), {
-                "test": f"datum.marker == '{MARK_ASIDE}'", "value": style.SIZE_ASIDE}],
-                "value": style.SIZE_POINT}
+            size = {
+                "condition": [
+                    dict(size["condition"]),
+                    {"test": f"datum.marker == '{MARK_ASIDE}'", "value": style.SIZE_ASIDE},
+                ],
+                "value": style.SIZE_POINT,
+            }
         mark = vl.mark("point", filled=True, opacity=1)
 
     def marks(size_enc: dict, mark_def: dict, more: list) -> dict:
@@ -237,19 +258,28 @@ def _value_layers(is_time: bool, suf: str, y_slot: str, with_limits: bool,
 
     # the staged chart's words are longer than Vega's default label width of 160 px, and its
     # marks are listed one under the other on a narrow chart
-    legend = ({"title": None, "labelLimit": 300, "columns": {"expr": "width < 560 ? 1 : 5"}}
-              if staged else {"title": None})
+    legend = (
+        {"title": None, "labelLimit": 300, "columns": {"expr": "width < 560 ? 1 : 5"}}
+        if staged
+        else {"title": None}
+    )
     points = marks(size, mark, [])
     if not staged:
         return [line, points]
     # beneath the points: the diamond of a signal on the point's own limits. Every point is in
     # this layer, at size 0 (not drawn, not hovered) unless it is in such a signal: a layer
     # filtered down to no rows makes Vega warn of an infinite extent of its fields.
-    own = marks({"condition": {"test": "datum.own", "value": style.SIZE_OWN_SIGNAL}, "value": 0},
-                vl.mark("point", filled=True, opacity=1),
-                # a JSON string is a Vega expression string (the words hold an apostrophe)
-                [{"calculate": f"datum.own ? {json.dumps(MARK_OWN_SIGNAL)} : datum.marker",
-                  "as": "marker"}])
+    own = marks(
+        {"condition": {"test": "datum.own", "value": style.SIZE_OWN_SIGNAL}, "value": 0},
+        vl.mark("point", filled=True, opacity=1),
+        # a JSON string is a Vega expression string (the words hold an apostrophe)
+        [
+            {
+                "calculate": f"datum.own ? {json.dumps(MARK_OWN_SIGNAL)} : datum.marker",
+                "as": "marker",
+            }
+        ],
+    )
     return [line, own, points]
 
 
@@ -269,8 +299,10 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
         # a condition, not a scale: a stroke scale without a legend would meet the bands'
         # fill legend ("period") and be merged with it
         colour = {
-            "stroke": {"condition": {"test": "datum.set == 'after'", "value": style.OWN_LIMIT},
-                       "value": style.LIMIT}
+            "stroke": {
+                "condition": {"test": "datum.set == 'after'", "value": style.OWN_LIMIT},
+                "value": style.LIMIT,
+            }
         }
         seg_mark = vl.mark("line", strokeWidth=1.4, interpolate="step-after")
         parts_fields = ["kind", "name", "set", "look"]
@@ -316,18 +348,41 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     xy = {"y": _y("y", y_slot), "text": vl.field("text:N")}
     if staged:
         labels = [
-            vl.view(f"{prefix}labels",
-                    vl.mark("text", align="right", baseline="bottom", dx=-2, dy=-2,
-                            color=style.INK, opacity={"expr": f"{NARROW} ? 0 : 1"}),
-                    {"x": x_encoding(is_time), **xy}),
-            vl.view(f"{prefix}labels",
-                    vl.mark("text", align="left", baseline="bottom", dx=2, dy=-2,
-                            color=style.INK, opacity={"expr": f"{NARROW} ? 1 : 0"}),
-                    {"x": x_encoding(is_time, field="x0"), **xy}),
+            vl.view(
+                f"{prefix}labels",
+                vl.mark(
+                    "text",
+                    align="right",
+                    baseline="bottom",
+                    dx=-2,
+                    dy=-2,
+                    color=style.INK,
+                    opacity={"expr": f"{NARROW} ? 0 : 1"},
+                ),
+                {"x": x_encoding(is_time), **xy},
+            ),
+            vl.view(
+                f"{prefix}labels",
+                vl.mark(
+                    "text",
+                    align="left",
+                    baseline="bottom",
+                    dx=2,
+                    dy=-2,
+                    color=style.INK,
+                    opacity={"expr": f"{NARROW} ? 1 : 0"},
+                ),
+                {"x": x_encoding(is_time, field="x0"), **xy},
+            ),
         ]
     else:
-        labels = [vl.view(f"{prefix}labels", vl.mark("text", **_BESIDE_OR_INSIDE, color=style.INK),
-                          {"x": x_encoding(is_time), **xy})]
+        labels = [
+            vl.view(
+                f"{prefix}labels",
+                vl.mark("text", **_BESIDE_OR_INSIDE, color=style.INK),
+                {"x": x_encoding(is_time), **xy},
+            )
+        ]
     layers = [segs, *labels]
     if staged:
         layers.append(
@@ -340,8 +395,9 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     return layers
 
 
-def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str,
-                 aside: bool = False) -> dict:
+def _series_view(
+    is_time: bool, suf: str, y_slot: str, height: int, refs: str, aside: bool = False
+) -> dict:
     prefix = "secondary_" if suf else ""
     layers = band_layers(is_time) + event_layers(is_time, labelled=not suf)
     if refs == "limits":
@@ -352,8 +408,9 @@ def _series_view(is_time: bool, suf: str, y_slot: str, height: int, refs: str,
         layers += _median_layers(is_time, y_slot)
     if not suf:  # room above the points for the event labels (the chart beneath has none)
         layers.append(headroom_layer(_y("y", y_slot)))
-    layers += _value_layers(is_time, suf, y_slot, with_limits=refs != "median",
-                            staged=refs == "staged", aside=aside)
+    layers += _value_layers(
+        is_time, suf, y_slot, with_limits=refs != "median", staged=refs == "staged", aside=aside
+    )
     return vl.layer(*layers, width="container", height=height)
 
 
@@ -388,17 +445,21 @@ def _run_template(is_time: bool, aside: bool = False) -> dict:
     return finish_template(chart, "run-chart")
 
 
-def _control_template(is_time: bool, has_secondary: bool, refs: str = "limits",
-                      aside: bool = False) -> dict:
+def _control_template(
+    is_time: bool, has_secondary: bool, refs: str = "limits", aside: bool = False
+) -> dict:
     display = "staged-control-chart" if refs == "staged" else "control-chart"
     main = _series_view(is_time, "", "y_title", style.HEIGHT_MAIN, refs=refs, aside=aside)
     narrow = [{"name": NARROW, "value": False}]
     if not has_secondary:
         return finish_template({**main, "params": narrow}, display)
-    second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs,
-                          aside=aside)
-    chart = {"params": narrow, "vconcat": [main, second], "spacing": 18,
-             "resolve": {"scale": {"x": "shared"}}}
+    second = _series_view(is_time, "2", "y2_title", style.HEIGHT_SECONDARY, refs=refs, aside=aside)
+    chart = {
+        "params": narrow,
+        "vconcat": [main, second],
+        "spacing": 18,
+        "resolve": {"scale": {"x": "shared"}},
+    }
     return finish_template(chart, display)
 
 
@@ -422,8 +483,10 @@ def _marked_pair(signals: Sequence[Signal], n: int, offset: int, has_sec: bool) 
     history page's control charts of a metric mark the same signals)."""
     main_signals = [s for s in signals if s.chart != "secondary"]
     sec_signals = [s for s in signals if s.chart == "secondary"]
-    return (_signal_text(main_signals, n),
-            _signal_text(sec_signals, n, offset) if has_sec else _signal_text((), n))
+    return (
+        _signal_text(main_signals, n),
+        _signal_text(sec_signals, n, offset) if has_sec else _signal_text((), n),
+    )
 
 
 # The phase bands and event rules of a series, the same on its run chart and both control
@@ -450,8 +513,14 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> _Coded:
         return _Coded(codes, [])
     names: dict[str, int] = {}
     desc = np.array([names.setdefault(s.description, len(names)) for s in signals])
-    pos = np.fromiter(itertools.chain.from_iterable(s.indices for s in signals),
-                      dtype=np.int64, count=sum(lengths)) + offset
+    pos = (
+        np.fromiter(
+            itertools.chain.from_iterable(s.indices for s in signals),
+            dtype=np.int64,
+            count=sum(lengths),
+        )
+        + offset
+    )
     order = np.repeat(np.arange(len(signals)), lengths)
     inside = (pos >= 0) & (pos < n)
     pos, order = pos[inside], order[inside]
@@ -469,7 +538,7 @@ def _signal_text(signals: Sequence[Signal], n: int, offset: int = 0) -> _Coded:
     # the k-th description's code + 1
     base = len(names) + 1
     if base ** (int(rank.max()) + 1) < 2**62:
-        seq = np.add.reduceat((d + 1) * base ** rank, starts)
+        seq = np.add.reduceat((d + 1) * base**rank, starts)
         distinct, which = np.unique(seq, return_inverse=True)
         rows = []
         for number in distinct.tolist():
@@ -510,8 +579,15 @@ class _Keys:
         self.limits: dict[str, int] = {}
         self.staged = staged  # every row says its mark and whether it is in an own signal
 
-    def key(self, stage: str, fitted: bool | None, signals: str, mark: str = "",
-            own: bool = False, aside: bool = False) -> int:
+    def key(
+        self,
+        stage: str,
+        fitted: bool | None,
+        signals: str,
+        mark: str = "",
+        own: bool = False,
+        aside: bool = False,
+    ) -> int:
         t = (stage, fitted, signals, mark, own, aside)
         k = self.points.get(t)
         if k is None:
@@ -639,8 +715,14 @@ def _series_rows(
         pair, t = divmod(rest, width)
         s, f = divmod(pair, 3)
         change, own = divmod(m, 2)
-        key_of[j] = keys.key(names[s], None if f == 2 else bool(f), texts[t - 1] if t else "",
-                             _MARK_TEXTS[change], bool(own), bool(put))
+        key_of[j] = keys.key(
+            names[s],
+            None if f == 2 else bool(f),
+            texts[t - 1] if t else "",
+            _MARK_TEXTS[change],
+            bool(own),
+            bool(put),
+        )
     point_key = key_of[point_key.ravel()]
 
     lim = None
@@ -664,14 +746,20 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: _Series, second: _Series | 
         v, g, k, lim = main.v, main.g, main.k, main.lim
         if not second:
             if lim is not None:
-                return [{"x": a, "v": b, "g": c, "k": d, "i": e}
-                        for a, b, c, d, e in zip(xs, v, g, k, lim, strict=True)]
-            return [{"x": a, "v": b, "g": c, "k": d} for a, b, c, d in zip(xs, v, g, k, strict=True)]
+                return [
+                    {"x": a, "v": b, "g": c, "k": d, "i": e}
+                    for a, b, c, d, e in zip(xs, v, g, k, lim, strict=True)
+                ]
+            return [
+                {"x": a, "v": b, "g": c, "k": d} for a, b, c, d in zip(xs, v, g, k, strict=True)
+            ]
         if lim is not None and second.lim is not None:
-            return [{"x": a, "v": b, "g": c, "k": d, "i": e, "v2": b2, "g2": c2, "k2": d2, "i2": e2}
-                    for a, b, c, d, e, b2, c2, d2, e2
-                    in zip(xs, v, g, k, lim, second.v, second.g, second.k, second.lim,
-                           strict=True)]
+            return [
+                {"x": a, "v": b, "g": c, "k": d, "i": e, "v2": b2, "g2": c2, "k2": d2, "i2": e2}
+                for a, b, c, d, e, b2, c2, d2, e2 in zip(
+                    xs, v, g, k, lim, second.v, second.g, second.k, second.lim, strict=True
+                )
+            ]
     rows = []
     add = rows.append
     series = [main] if not second else [main, second]
@@ -780,12 +868,17 @@ def _limit_rows(
         at = np.concatenate([vertices * 2, ends * 2 + 1])
         order = np.argsort(at, kind="stable")
         pos = np.concatenate([vertices + offset, ends + offset + 1])[order]
-        piece = np.concatenate([np.searchsorted(starts, vertices, side="right") - 1,
-                                np.arange(len(ends))])[order]
+        piece = np.concatenate(
+            [np.searchsorted(starts, vertices, side="right") - 1, np.arange(len(ends))]
+        )[order]
         which = np.concatenate([np.flatnonzero(keep), end_shown])[order]
         ids = np.asarray(piece_ids, dtype=np.int64)[piece]
-        rows += [{"p": p, "x": mids[x], "y": shown[w]} for p, x, w in zip(
-            ids.tolist(), np.clip(pos, 0, last_mid).tolist(), which.tolist(), strict=True)]
+        rows += [
+            {"p": p, "x": mids[x], "y": shown[w]}
+            for p, x, w in zip(
+                ids.tolist(), np.clip(pos, 0, last_mid).tolist(), which.tolist(), strict=True
+            )
+        ]
         i = int(np.flatnonzero(fin)[-1])
         y = shown[int(np.searchsorted(cand, i, side="right") - 1)]
         label = {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
@@ -838,8 +931,9 @@ def _when(x: str) -> str:
     return f"{day} {clock[:5] if clock.endswith(':00') and len(clock) == 8 else clock}"
 
 
-def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray,
-                     aside: np.ndarray | None = None) -> str:
+def _fitted_sentence(
+    ctx: SeriesContext, fitted: np.ndarray, aside: np.ndarray | None = None
+) -> str:
     """The period(s) the limits come from; with ``aside``, the points set aside are counted
     in the period they lie in ("(50 points, 3 set aside)"): that period is named whole."""
     if aside is not None:
@@ -848,7 +942,7 @@ def _fitted_sentence(ctx: SeriesContext, fitted: np.ndarray,
     n = len(mask)
 
     def but(a: int, b: int) -> str:
-        k = 0 if aside is None else int(np.count_nonzero(aside[a:b + 1]))
+        k = 0 if aside is None else int(np.count_nonzero(aside[a : b + 1]))
         return f", {_aside_words(k)}" if k else ""
 
     if n and all(mask):
@@ -896,8 +990,9 @@ def _check_len(name: str, arr, n: int) -> None:
 # ------------------------------------------------------------------------------------------------
 
 
-def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
-              aside: np.ndarray | None = None) -> ChartSpec:
+def run_chart(
+    ctx: SeriesContext, values, analysis: RunChartAnalysis, aside: np.ndarray | None = None
+) -> ChartSpec:
     """Values over time with their median; points in a run/shift/trend signal marked by shape.
 
     ``aside``: per point, set aside (a known cause found and removed): drawn in a mark of
@@ -910,8 +1005,10 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
         aside = np.asarray(aside, dtype=bool) if np.any(aside) else None
     xa = x_axis(ctx)
     has = aside is not None
-    tpl = cached_template(("run-chart", ctx.x_is_time) + (("aside",) if has else ()),
-                          lambda: _run_template(ctx.x_is_time, aside=has))
+    tpl = cached_template(
+        ("run-chart", ctx.x_is_time) + (("aside",) if has else ()),
+        lambda: _run_template(ctx.x_is_time, aside=has),
+    )
 
     # Mark points of pattern signals; a signal spanning every point (too few / too many
     # crossings) is a statement about the whole series and is named in the subtitle only.
@@ -920,9 +1017,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
     keys = _Keys()
     points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys, aside=aside))
     median = num(analysis.median)
-    median_text = "median " + (proportion_text(median, ctx.unit, fmt)
-                               if is_proportion_unit(ctx.unit) else
-                               with_unit(fmt(median), ctx.unit))
+    median_text = "median " + (
+        proportion_text(median, ctx.unit, fmt)
+        if is_proportion_unit(ctx.unit)
+        else with_unit(fmt(median), ctx.unit)
+    )
     centre = (
         [{"y": disp(median), "x": xa.at(n - 1), "text": median_text}]
         if median is not None and n
@@ -935,9 +1034,13 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
         "bands": _bands(xa, ctx.stage),
         "events": _events(xa, ctx.events),
     }
-    datasets["headroom"] = (headroom_rows(datasets["events"], style.HEIGHT_MAIN,
-                                          np.append(np.asarray(vals, dtype=float), median))
-                            if datasets["events"] and median is not None else [])
+    datasets["headroom"] = (
+        headroom_rows(
+            datasets["events"], style.HEIGHT_MAIN, np.append(np.asarray(vals, dtype=float), median)
+        )
+        if datasets["events"] and median is not None
+        else []
+    )
     values_map = {"y_title": axis_title(_measure_title(ctx, "individuals"), style.HEIGHT_MAIN)}
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     values_map.update(band_values(datasets["bands"]))
@@ -960,7 +1063,11 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
     if has:
         subtitle[-1] += f"; {_aside_words(int(aside.sum()))}"
     spec = make_spec(
-        tpl, values_map, datasets, f"{ctx.metric_name} \u2014 run chart", subtitle,
+        tpl,
+        values_map,
+        datasets,
+        f"{ctx.metric_name} \u2014 run chart",
+        subtitle,
         exact=_exact(ctx, datasets),
     )
 
@@ -968,8 +1075,13 @@ def run_chart(ctx: SeriesContext, values, analysis: RunChartAnalysis,
     has_stage = any(ctx.stage)
     all_marked = _signal_text(analysis.signals, n)
     columns = (x_col,) + (("phase",) if has_stage else ()) + ("value", "median", "signals")
-    cells = {x_col: ctx.x, "phase": ctx.stage, "value": num_list(vals),
-             "median": [median] * n, "signals": _signal_column(n, all_marked)}
+    cells = {
+        x_col: ctx.x,
+        "phase": ctx.stage,
+        "value": num_list(vals),
+        "median": [median] * n,
+        "signals": _signal_column(n, all_marked),
+    }
     if has:
         columns += ("set aside",)
         cells["set aside"] = _yes_no(aside)
@@ -1042,8 +1154,15 @@ def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
     """The limits text per point, with the after phase's own limits added where ``after``:
     "LCL 1, CL 2, UCL 3; after: LCL ..."."""
     code, pairs = _pairs(info.codes, np.where(after, own.codes + 1, 0), len(own.texts) + 1)
-    return _Coded(code, [f"{info.texts[a]}; after: {own.texts[b - 1]}"
-                         if b and own.texts[b - 1] else info.texts[a] for a, b in pairs])
+    return _Coded(
+        code,
+        [
+            f"{info.texts[a]}; after: {own.texts[b - 1]}"
+            if b and own.texts[b - 1]
+            else info.texts[a]
+            for a, b in pairs
+        ],
+    )
 
 
 def _staged_text(marked: _Coded, carried: np.ndarray, own: _Coded) -> _Coded:
@@ -1072,10 +1191,16 @@ def _staged_mark_values(main_marks, sec_marks) -> dict:
     present = set(np.unique(codes).tolist())
     changes = {_MARK_TEXTS[m // 2] for m in present if m // 2}
     own = any(m % 2 for m in present)
-    rows = [r for r in _STAGED_MARKS
-            if r[0] == MARK_ORDINARY or r[0] in changes or (own and r[0] == MARK_OWN_SIGNAL)]
-    return {"mark_domain": [r[0] for r in rows], "mark_shapes": [r[1] for r in rows],
-            "mark_colours": [r[2] for r in rows]}
+    rows = [
+        r
+        for r in _STAGED_MARKS
+        if r[0] == MARK_ORDINARY or r[0] in changes or (own and r[0] == MARK_OWN_SIGNAL)
+    ]
+    return {
+        "mark_domain": [r[0] for r in rows],
+        "mark_shapes": [r[1] for r in rows],
+        "mark_colours": [r[2] for r in rows],
+    }
 
 
 def _control_parts(
@@ -1104,8 +1229,9 @@ def _control_parts(
         main_marks = _mark_codes(ev_main)
         if sec is not None and ev_sec is not None:
             pad = np.zeros(offset, dtype=bool)
-            sec_marked = _staged_text(sec_marked, np.concatenate([pad, ev_sec.carried]),
-                                      own_sec_marked)
+            sec_marked = _staged_text(
+                sec_marked, np.concatenate([pad, ev_sec.carried]), own_sec_marked
+            )
             sec_marks = _mark_codes(ev_sec)
     keys = _Keys(staged)
     parts = _Parts()
@@ -1190,13 +1316,16 @@ def _control_parts(
         if own is not None:
             drawn += [own.centre, own.upper, own.lower]
         datasets["headroom"] = headroom_rows(
-            datasets["events"], style.HEIGHT_MAIN,
-            np.concatenate([np.asarray(a, dtype=float).ravel() for a in drawn]))
+            datasets["events"],
+            style.HEIGHT_MAIN,
+            np.concatenate([np.asarray(a, dtype=float).ravel() for a in drawn]),
+        )
 
     values_map = {"y_title": axis_title(_measure_title(ctx, chart.kind), style.HEIGHT_MAIN)}
     if sec is not None:
         values_map["y2_title"] = axis_title(
-            titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else ""), style.HEIGHT_SECONDARY)
+            titled(sec.label, ctx.unit if sec.kind in _UNIT_KINDS else ""), style.HEIGHT_SECONDARY
+        )
     values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
     values_map.update(band_values(datasets["bands"]))
     if staged:
@@ -1243,8 +1372,7 @@ def _signal_column(n: int, main: _Coded, second: _Coded | None = None) -> list[s
     chart, then of the companion, joined."""
     other = second if second is not None else _Coded(np.zeros(n, dtype=np.int64), [])
     code, pairs = _pairs(main.codes, other.codes, len(other.texts) + 1)
-    texts = ["; ".join([m.texts[c - 1] for m, c in ((main, a), (other, b)) if c])
-             for a, b in pairs]
+    texts = ["; ".join([m.texts[c - 1] for m, c in ((main, a), (other, b)) if c]) for a, b in pairs]
     return np.array(texts, dtype=object)[code].tolist()
 
 
@@ -1259,8 +1387,15 @@ def _yes_no(fitted) -> list[str]:
     return _NO_YES[np.asarray(fitted, dtype=bool).astype(np.intp)].tolist()
 
 
-def _control_table(ctx, chart, offset, marked, sec_marked, own: ControlChart | None = None,
-                   marks: list[str] | None = None):
+def _control_table(
+    ctx,
+    chart,
+    offset,
+    marked,
+    sec_marked,
+    own: ControlChart | None = None,
+    marks: list[str] | None = None,
+):
     n = len(ctx.x)
     sec = chart.secondary
     x_col = "date" if ctx.x_is_time else "point"
@@ -1348,7 +1483,7 @@ def control_chart(ctx: SeriesContext, chart: ControlChart, signals: Sequence[Sig
     has = aside is not None
     tpl = cached_template(
         ("control-chart", is_time, has_sec) + (("aside",) if has else ()),
-        lambda: _control_template(is_time, has_sec, aside=has)
+        lambda: _control_template(is_time, has_sec, aside=has),
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(ctx, chart, signals, offset)
 
@@ -1412,15 +1547,22 @@ def staged_control_chart(
     sec = carried.secondary
     is_time = ctx.x_is_time
     has_sec = sec is not None
-    aside = (carried.set_aside if carried.set_aside is not None and np.any(carried.set_aside)
-             else None)
+    aside = (
+        carried.set_aside if carried.set_aside is not None and np.any(carried.set_aside) else None
+    )
     has = aside is not None
     tpl = cached_template(
         ("staged-control-chart", is_time, has_sec) + (("aside",) if has else ()),
         lambda: _control_template(is_time, has_sec, refs="staged", aside=has),
     )
     datasets, values_map, marked, sec_marked, labels = _control_parts(
-        ctx, carried, signals, offset, own=own, staged=True, evidence=evidence,
+        ctx,
+        carried,
+        signals,
+        offset,
+        own=own,
+        staged=True,
+        evidence=evidence,
         own_signals=own_signals,
     )
     if has:  # the points set aside: a mark of their own, named in the legend
@@ -1431,9 +1573,10 @@ def staged_control_chart(
     name = _kind_name(carried)
     title = f"{ctx.metric_name} \u2014 {name} by phase"
     after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
-    subtitle = [*([ctx.points_note] if ctx.points_note else []),
-                _fitted_sentence(ctx, carried.fitted, carried.set_aside)
-                + ", dashed where carried forward"]
+    subtitle = [
+        *([ctx.points_note] if ctx.points_note else []),
+        _fitted_sentence(ctx, carried.fitted, carried.set_aside) + ", dashed where carried forward",
+    ]
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
@@ -1444,8 +1587,9 @@ def staged_control_chart(
     change = _change_sentence(evidence[0], carried)
     unstable = _own_signals_sentence(signals, own_signals, evidence)
     spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
-    table, columns = _control_table(ctx, carried, offset, marked, sec_marked, own=own,
-                                    marks=_mark_column(evidence, offset))
+    table, columns = _control_table(
+        ctx, carried, offset, marked, sec_marked, own=own, marks=_mark_column(evidence, offset)
+    )
 
     last = {lab["kind"]: lab["text"] for lab in labels}
     lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
@@ -1470,8 +1614,10 @@ def _change_sentence(evidence: PointEvidence, chart: ControlChart) -> str:
     if not k:
         return f"against the baseline's limits no after point signals a change (of {c['points']})"
     parts = [f"{c[d]} {d}" for d in _CHANGES if c[d]]
-    return (f"against the baseline's limits {k} of {plural(c['points'], 'after point')} "
-            f"signal a change: " + ", ".join(parts))
+    return (
+        f"against the baseline's limits {k} of {plural(c['points'], 'after point')} "
+        f"signal a change: " + ", ".join(parts)
+    )
 
 
 def _own_signals_sentence(signals, own_signals, evidence) -> str:
@@ -1495,7 +1641,7 @@ def _mark_column(evidence, offset: int) -> list[str]:
     code = _mark_codes(ev_main)  # 2 * change + own
     sec_code = np.zeros(n, dtype=np.int64)
     if ev_sec is not None:
-        sec_code[offset:offset + len(ev_sec.change)] = _mark_codes(ev_sec)[:n - offset]
+        sec_code[offset : offset + len(ev_sec.change)] = _mark_codes(ev_sec)[: n - offset]
     distinct, which = np.unique(code * _MARK_CODES + sec_code, return_inverse=True)
     texts = []
     for c in distinct.tolist():

@@ -37,9 +37,14 @@ def natural_order(names) -> list[str]:
     >>> natural_order(["S10", "S2", "b", "A"])
     ['A', 'b', 'S2', 'S10']
     """
+
     def key(name: str):
-        return [(0, int(t), "") if t.isdigit() else (1, 0, t.casefold())
-                for t in _DIGITS.split(name) if t]
+        return [
+            (0, int(t), "") if t.isdigit() else (1, 0, t.casefold())
+            for t in _DIGITS.split(name)
+            if t
+        ]
+
     return sorted(dict.fromkeys(names), key=key)
 
 
@@ -113,26 +118,41 @@ def components_chart(study: GaugeStudy, *, values_text: str = "") -> ChartSpec:
         c = study.component(source)
         for key, (name, attr) in zip(keys, shares, strict=True):
             v = getattr(c, attr)
-            rows.append({"source": source, "share": name, "share_key": key, "percent": v,
-                         "text": f"{v:.1f}%"})
+            rows.append(
+                {
+                    "source": source,
+                    "share": name,
+                    "share_key": key,
+                    "percent": v,
+                    "text": f"{v:.1f}%",
+                }
+            )
     guide = [{"percent": g, "text": f"{g:g}%"} for g in GUIDE_LINES]
     sub = [values_text] if values_text else []
-    sub.append(f"dashed lines at {GUIDE_LINES[0]:g}% and {GUIDE_LINES[1]:g}%, the bands of the "
-               "acceptance guide for the measurement system's share")
+    sub.append(
+        f"dashed lines at {GUIDE_LINES[0]:g}% and {GUIDE_LINES[1]:g}%, the bands of the "
+        "acceptance guide for the measurement system's share"
+    )
     spec = make_spec(tpl, {}, {"shares": rows, "guide": guide}, "Components of variation", sub)
     table = []
     for c in study.components:
-        row = {"source": c.source, "variance": c.variance, "standard deviation": c.sigma,
-               SHARE_STUDY + " (%)": c.study_percent,
-               SHARE_CONTRIBUTION + " (%)": c.contribution_percent}
+        row = {
+            "source": c.source,
+            "variance": c.variance,
+            "standard deviation": c.sigma,
+            SHARE_STUDY + " (%)": c.study_percent,
+            SHARE_CONTRIBUTION + " (%)": c.contribution_percent,
+        }
         if c.tolerance_percent is not None:
             row[SHARE_TOLERANCE + " (%)"] = c.tolerance_percent
         table.append(row)
     columns = tuple(table[0])
     ms = study.component("measurement system")
-    summary = (f"Bars of the shares of repeatability, reproducibility, the measurement system "
-               f"and the parts; the measurement system takes {ms.study_percent:.1f}% of the "
-               f"study variation")
+    summary = (
+        f"Bars of the shares of repeatability, reproducibility, the measurement system "
+        f"and the parts; the measurement system takes {ms.study_percent:.1f}% of the "
+        f"study variation"
+    )
     if ms.tolerance_percent is not None:
         summary += f" and {ms.tolerance_percent:.1f}% of the tolerance"
     return ChartSpec(spec=spec, table=table, columns=columns, summary=summary + ".")
@@ -144,12 +164,19 @@ def components_chart(study: GaugeStudy, *, values_text: str = "") -> ChartSpec:
 
 
 def _ranges_template() -> dict:
-    x = vl.field("key:N", title=None, sort=None,
-                 axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60,
-                       "labelFontSize": 9})
+    x = vl.field(
+        "key:N",
+        title=None,
+        sort=None,
+        axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60, "labelFontSize": 9},
+    )
     y_title = slot("y_title")
-    colour = vl.field("appraiser_key:N", title=None, legend=_legend_keyed("appraiser"),
-                      scale={"range": list(style.SERIES)})
+    colour = vl.field(
+        "appraiser_key:N",
+        title=None,
+        legend=_legend_keyed("appraiser"),
+        scale={"range": list(style.SERIES)},
+    )
     detail = vl.field("appraiser_key:N")
     tooltip = [
         vl.tip("appraiser:N", "appraiser"),
@@ -171,32 +198,46 @@ def _ranges_template() -> dict:
     line = vl.view(
         "ranges",
         vl.mark("line", point={"size": style.SIZE_POINT}),
-        {"x": x, "y": vl.field("range:Q", title=y_title, scale={"zero": True}),
-         "color": colour, "detail": detail, "tooltip": tooltip},
+        {
+            "x": x,
+            "y": vl.field("range:Q", title=y_title, scale={"zero": True}),
+            "color": colour,
+            "detail": detail,
+            "tooltip": tooltip,
+        },
     )
     # drawn on every range, seen on those above the limit: a layer filtered to none of them
     # would leave Vega an empty domain to warn about
     beyond = vl.view(
         "ranges",
-        vl.mark("point", shape=style.SHAPE_SIGNAL, size=style.SIZE_SIGNAL, filled=True,
-                color=style.SIGNAL),
-        {"x": x, "y": vl.field("range:Q"), "tooltip": tooltip,
-         "opacity": {"condition": {"test": "datum.beyond", "value": 1}, "value": 0}},
+        vl.mark(
+            "point",
+            shape=style.SHAPE_SIGNAL,
+            size=style.SIZE_SIGNAL,
+            filled=True,
+            color=style.SIGNAL,
+        ),
+        {
+            "x": x,
+            "y": vl.field("range:Q"),
+            "tooltip": tooltip,
+            "opacity": {"condition": {"test": "datum.beyond", "value": 1}, "value": 0},
+        },
     )
     chart = vl.layer(upper, centre, line, beyond, width="container", height=_HEIGHT_STUDY)
     return finish_template(chart, "study-ranges")
 
 
-def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = "",
-                 measure: str = "reading") -> ChartSpec:
+def ranges_chart(
+    ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = "", measure: str = "reading"
+) -> ChartSpec:
     """One range chart per appraiser, side by side along one axis: each part's range over the
     appraiser's trials, the appraiser's average range (solid) and upper limit D4·R̄ (dashed);
     a range above its limit is marked. ``measure``: what was measured (the axis' title)."""
     tpl = cached_template(("study-ranges",), _ranges_template)
     appr_keys = bar_keys([r.appraiser for r in ranges])
     n_parts = len(ranges[0].parts) if ranges else 0
-    order = ([ranges[0].parts.index(p) for p in natural_order(ranges[0].parts)] if ranges
-             else [])
+    order = [ranges[0].parts.index(p) for p in natural_order(ranges[0].parts)] if ranges else []
     width = len(str(len(ranges) * n_parts))
     rows, table = [], []
     k = 0
@@ -205,22 +246,43 @@ def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = 
             part, v = r.parts[i], r.ranges[i]
             k += 1
             out = i in r.beyond
-            rows.append({"key": f"{k:0{width}d} {part}", "part": part, "appraiser": r.appraiser,
-                         "appraiser_key": ak, "range": v, "centre": r.centre, "upper": r.upper,
-                         "beyond": out})
-            table.append({"appraiser": r.appraiser, "part": part, "range": v,
-                          "average range": r.centre, "upper limit": r.upper,
-                          "above the limit": "yes" if out else ""})
+            rows.append(
+                {
+                    "key": f"{k:0{width}d} {part}",
+                    "part": part,
+                    "appraiser": r.appraiser,
+                    "appraiser_key": ak,
+                    "range": v,
+                    "centre": r.centre,
+                    "upper": r.upper,
+                    "beyond": out,
+                }
+            )
+            table.append(
+                {
+                    "appraiser": r.appraiser,
+                    "part": part,
+                    "range": v,
+                    "average range": r.centre,
+                    "upper limit": r.upper,
+                    "above the limit": "yes" if out else "",
+                }
+            )
     limits = "; ".join(f"{r.appraiser} {fmt(r.centre)} and {fmt(r.upper)}" for r in ranges)
-    sub = [f"each part's range over {plural(trials, 'trial')}, by appraiser; average range and "
-           f"upper limit (D4 × average range): {limits}"]
+    sub = [
+        f"each part's range over {plural(trials, 'trial')}, by appraiser; average range and "
+        f"upper limit (D4 × average range): {limits}"
+    ]
     y_title = titled(f"Range of the {measure}s", unit)
     spec = make_spec(tpl, {"y_title": y_title}, {"ranges": rows}, "Ranges by appraiser", sub)
     n_beyond = sum(len(r.beyond) for r in ranges)
-    summary = (f"Range chart of {plural(len(ranges), 'appraiser')} over "
-               f"{plural(n_parts, 'part')}: {plural(n_beyond, 'range')} above its upper limit.")
-    return ChartSpec(spec=spec, table=table, columns=tuple(table[0]) if table else (),
-                     summary=summary)
+    summary = (
+        f"Range chart of {plural(len(ranges), 'appraiser')} over "
+        f"{plural(n_parts, 'part')}: {plural(n_beyond, 'range')} above its upper limit."
+    )
+    return ChartSpec(
+        spec=spec, table=table, columns=tuple(table[0]) if table else (), summary=summary
+    )
 
 
 # ------------------------------------------------------------------------------------------------
@@ -230,32 +292,61 @@ def ranges_chart(ranges: Sequence[AppraiserRanges], *, trials: int, unit: str = 
 
 def _measurements_template() -> dict:
     # keys sort as the parts stand (zero-padded places): the default ascending order
-    x = vl.field("part_key:N", title="part",
-                 axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60})
-    colour = vl.field("appraiser_key:N", title=None, legend=_legend_keyed("appraiser"),
-                      scale={"range": list(style.SERIES)})
+    x = vl.field(
+        "part_key:N",
+        title="part",
+        axis={"labelExpr": _KEY_LABEL, "labelAngle": -60, "labelLimit": 60},
+    )
+    colour = vl.field(
+        "appraiser_key:N",
+        title=None,
+        legend=_legend_keyed("appraiser"),
+        scale={"range": list(style.SERIES)},
+    )
     y = vl.field("value:Q", title=slot("y_title"), scale={"zero": False})
     means = vl.view(
         "means",
         vl.mark("line", strokeWidth=1.2, opacity=0.8),
-        {"x": x, "y": vl.field("mean:Q"), "color": colour,
-         "tooltip": [vl.tip("appraiser:N", "appraiser"), vl.tip("part:N", "part"),
-                     vl.tip("mean:Q", "mean of the trials", ",.4~g")]},
+        {
+            "x": x,
+            "y": vl.field("mean:Q"),
+            "color": colour,
+            "tooltip": [
+                vl.tip("appraiser:N", "appraiser"),
+                vl.tip("part:N", "part"),
+                vl.tip("mean:Q", "mean of the trials", ",.4~g"),
+            ],
+        },
     )
     points = vl.view(
         "values",
         vl.mark("point", size=style.SIZE_POINT, opacity=0.85),
-        {"x": x, "xOffset": vl.field("appraiser_key:N"), "y": y, "color": colour,
-         "shape": vl.field("appraiser_key:N", legend=None),
-         "tooltip": [vl.tip("appraiser:N", "appraiser"), vl.tip("part:N", "part"),
-                     vl.tip("trial:Q", "trial"), vl.tip("value:Q", "value", ",.4~g")]},
+        {
+            "x": x,
+            "xOffset": vl.field("appraiser_key:N"),
+            "y": y,
+            "color": colour,
+            "shape": vl.field("appraiser_key:N", legend=None),
+            "tooltip": [
+                vl.tip("appraiser:N", "appraiser"),
+                vl.tip("part:N", "part"),
+                vl.tip("trial:Q", "trial"),
+                vl.tip("value:Q", "value", ",.4~g"),
+            ],
+        },
     )
     chart = vl.layer(points, means, width="container", height=_HEIGHT_STUDY)
     return finish_template(chart, "study-measurements")
 
 
-def measurements_chart(values: Sequence[float], parts: Sequence[str], appraisers: Sequence[str],
-                       *, unit: str = "", measure: str = "reading") -> ChartSpec:
+def measurements_chart(
+    values: Sequence[float],
+    parts: Sequence[str],
+    appraisers: Sequence[str],
+    *,
+    unit: str = "",
+    measure: str = "reading",
+) -> ChartSpec:
     """Every measurement by part (x) and appraiser (colour and shape, side by side within a
     part), each appraiser's mean of a part's trials joined by a line: lines that run apart
     show an appraiser effect, lines that cross an interaction of part and appraiser."""
@@ -268,23 +359,51 @@ def measurements_chart(values: Sequence[float], parts: Sequence[str], appraisers
     rows, sums = [], {}
     for v, p, o in zip(np.asarray(values, dtype=float).tolist(), parts, appraisers, strict=True):
         t = trial[(p, o)] = trial.get((p, o), 0) + 1
-        rows.append({"part_key": pk[p], "part": p, "appraiser_key": ak[o], "appraiser": o,
-                     "trial": t, "value": v})
+        rows.append(
+            {
+                "part_key": pk[p],
+                "part": p,
+                "appraiser_key": ak[o],
+                "appraiser": o,
+                "trial": t,
+                "value": v,
+            }
+        )
         s = sums.setdefault((p, o), [0.0, 0])
         s[0] += v
         s[1] += 1
-    means = [{"part_key": pk[p], "part": p, "appraiser_key": ak[o], "appraiser": o,
-              "mean": sums[(p, o)][0] / sums[(p, o)][1]}
-             for o in appr_names for p in part_names]
-    table = [{"part": r["part"], "appraiser": r["appraiser"], "trial": r["trial"],
-              "value": r["value"]} for r in rows]
+    means = [
+        {
+            "part_key": pk[p],
+            "part": p,
+            "appraiser_key": ak[o],
+            "appraiser": o,
+            "mean": sums[(p, o)][0] / sums[(p, o)][1],
+        }
+        for o in appr_names
+        for p in part_names
+    ]
+    table = [
+        {"part": r["part"], "appraiser": r["appraiser"], "trial": r["trial"], "value": r["value"]}
+        for r in rows
+    ]
     n_trials = max(trial.values()) if trial else 0
-    sub = [f"{plural(len(part_names), 'part')} × {plural(len(appr_names), 'appraiser')} × "
-           f"{plural(n_trials, 'trial')}; lines join each appraiser's mean of a part's trials"]
-    spec = make_spec(tpl, {"y_title": titled(measure.capitalize(), unit)},
-                     {"values": rows, "means": means}, "Measurements by part and appraiser", sub)
-    summary = (f"Dot plot of {plural(len(rows), 'measurement')} of "
-               f"{plural(len(part_names), 'part')} by {plural(len(appr_names), 'appraiser')}, "
-               "with each appraiser's part means joined by a line.")
-    return ChartSpec(spec=spec, table=table, columns=("part", "appraiser", "trial", "value"),
-                     summary=summary)
+    sub = [
+        f"{plural(len(part_names), 'part')} × {plural(len(appr_names), 'appraiser')} × "
+        f"{plural(n_trials, 'trial')}; lines join each appraiser's mean of a part's trials"
+    ]
+    spec = make_spec(
+        tpl,
+        {"y_title": titled(measure.capitalize(), unit)},
+        {"values": rows, "means": means},
+        "Measurements by part and appraiser",
+        sub,
+    )
+    summary = (
+        f"Dot plot of {plural(len(rows), 'measurement')} of "
+        f"{plural(len(part_names), 'part')} by {plural(len(appr_names), 'appraiser')}, "
+        "with each appraiser's part means joined by a line."
+    )
+    return ChartSpec(
+        spec=spec, table=table, columns=("part", "appraiser", "trial", "value"), summary=summary
+    )

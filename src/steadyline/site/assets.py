@@ -43,8 +43,9 @@ def vega_bundle() -> str:
 def asset_files() -> dict[str, bytes]:
     """Every file under assets/, name -> bytes (deterministic)."""
     src = templates_dir() / "assets"
-    files = {p.relative_to(src).as_posix(): p.read_bytes() for p in sorted(src.rglob("*"))
-             if p.is_file()}
+    files = {
+        p.relative_to(src).as_posix(): p.read_bytes() for p in sorted(src.rglob("*")) if p.is_file()
+    }
     files[VEGA_BUNDLE] = vega_bundle().encode("utf-8")
     return files
 

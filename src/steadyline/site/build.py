@@ -125,15 +125,19 @@ def portfolio_digest(slugs: list[str]) -> str:
     return h.hexdigest()
 
 
-def shard_record(settings: PortfolioSettings, shard: tuple[int, int],
-                 slugs: list[str]) -> dict:
+def shard_record(settings: PortfolioSettings, shard: tuple[int, int], slugs: list[str]) -> dict:
     """What a shard's manifest says about it, for the merge (``site.merge``) to check the
     shards against each other and render the index: which shard of how many, the whole
     portfolio it is a part of, and the settings and templates it was built with."""
     index, count = shard
-    return {"index": index, "count": count, "portfolio": portfolio_digest(slugs),
-            "projects_total": len(slugs), "settings": asdict(settings),
-            "key": hashlib.sha256(_settings_key(settings, False).encode()).hexdigest()}
+    return {
+        "index": index,
+        "count": count,
+        "portfolio": portfolio_digest(slugs),
+        "projects_total": len(slugs),
+        "settings": asdict(settings),
+        "key": hashlib.sha256(_settings_key(settings, False).encode()).hexdigest(),
+    }
 
 
 def _read_manifest(out: Path) -> dict:
@@ -198,12 +202,18 @@ def _die_with_parent(parent: int) -> None:
         try:
             libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
             prctl = libc.prctl
-            prctl.argtypes = [ctypes.c_int, ctypes.c_ulong, ctypes.c_ulong, ctypes.c_ulong,
-                              ctypes.c_ulong]
+            prctl.argtypes = [
+                ctypes.c_int,
+                ctypes.c_ulong,
+                ctypes.c_ulong,
+                ctypes.c_ulong,
+                ctypes.c_ulong,
+            ]
             prctl.restype = ctypes.c_int
         except (OSError, AttributeError):
             prctl = None
     if prctl is None or prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0) != 0:
+
         def orphaned() -> None:
             while os.getppid() == parent:
                 time.sleep(0.5)
@@ -229,8 +239,12 @@ def _new_pool(jobs: int, initializer=None) -> ProcessPoolExecutor:
     # spawn, not fork: a worker forked after the parent has used vl_convert hangs.
     # The workers are started by the thread that submits the first tasks; Linux ties their
     # lives to that thread, which waits for the pool to stop before it returns.
-    return ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
-                               initializer=_worker_start, initargs=(os.getpid(), initializer))
+    return ProcessPoolExecutor(
+        max_workers=jobs,
+        mp_context=get_context("spawn"),
+        initializer=_worker_start,
+        initargs=(os.getpid(), initializer),
+    )
 
 
 def _stop_pool(pool: ProcessPoolExecutor, abort: bool) -> None:
@@ -292,8 +306,9 @@ def _early_pool(jobs: int) -> ProcessPoolExecutor:
     return pool
 
 
-def compute(tasks: list[tuple], jobs: int, progress,
-            pool: ProcessPoolExecutor | None = None) -> list[ProjectOutcome]:
+def compute(
+    tasks: list[tuple], jobs: int, progress, pool: ProcessPoolExecutor | None = None
+) -> list[ProjectOutcome]:
     results = []
     for r in _in_order(_worker, tasks, jobs, pool):  # outcomes are small: workers write files
         results.append(r)
@@ -335,8 +350,10 @@ def _build(opts: BuildOptions, progress_cb=None) -> BuildReport:
         raise ValueError(f"{out}: the lock given is not this output's")
 
     previous = None
-    if (threading.current_thread() is threading.main_thread()
-            and signal.getsignal(signal.SIGTERM) == signal.SIG_DFL):
+    if (
+        threading.current_thread() is threading.main_thread()
+        and signal.getsignal(signal.SIGTERM) == signal.SIG_DFL
+    ):
         # Nobody handles SIGTERM (a watch session does): unwind the build on it.
         def _terminate(signum, frame):
             raise _Terminated(signum)
@@ -386,8 +403,20 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     early_jobs = _jobs(opts.jobs, len(folders), BUILD_POOL_MIN)
     pool = _early_pool(early_jobs) if not old and early_jobs > 1 and len(folders) > 2 else None
     try:
-        done = _build_planned(opts, root, out, report, settings, portfolio_problems, folders,
-                              manifest, old, pool, progress_cb, shard)
+        done = _build_planned(
+            opts,
+            root,
+            out,
+            report,
+            settings,
+            portfolio_problems,
+            folders,
+            manifest,
+            old,
+            pool,
+            progress_cb,
+            shard,
+        )
     except BaseException:
         if pool is not None:
             _stop_pool(pool, abort=True)
@@ -397,16 +426,31 @@ def _build_locked(opts: BuildOptions, root: Path, out: Path, progress_cb) -> Bui
     return done
 
 
-def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildReport,
-                   settings: PortfolioSettings, portfolio_problems: list[Problem],
-                   folders: list[Path], manifest: dict, old: dict,
-                   pool: ProcessPoolExecutor | None, progress_cb,
-                   shard: dict | None = None) -> BuildReport:
+def _build_planned(
+    opts: BuildOptions,
+    root: Path,
+    out: Path,
+    report: BuildReport,
+    settings: PortfolioSettings,
+    portfolio_problems: list[Problem],
+    folders: list[Path],
+    manifest: dict,
+    old: dict,
+    pool: ProcessPoolExecutor | None,
+    progress_cb,
+    shard: dict | None = None,
+) -> BuildReport:
     key = _settings_key(settings, opts.live)
     memo = digest_memo_for(root)  # unchanged files are not read again
-    trusted = (old if opts.trust_unnamed and opts.only is not None else {})
-    hashes = {f.name: (trusted[f.name]["hash"] if f.name in trusted and f.name not in opts.only
-                       else input_hash(f, key, memo, root)) for f in folders}
+    trusted = old if opts.trust_unnamed and opts.only is not None else {}
+    hashes = {
+        f.name: (
+            trusted[f.name]["hash"]
+            if f.name in trusted and f.name not in opts.only
+            else input_hash(f, key, memo, root)
+        )
+        for f in folders
+    }
     memo.save()
     ready = None
     if opts.standby is not None:
@@ -414,10 +458,16 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
     todo, reuse = [], []
     for f in folders:
         prev = old.get(f.name)
-        fresh = (prev is not None and prev["hash"] == hashes[f.name]
-                 and (opts.only is None or f.name not in opts.only)
-                 and (ready.linked.get(f.name) == prev["files"] if ready is not None else
-                      _all_files(out / "projects" / f.name, prev["files"])))
+        fresh = (
+            prev is not None
+            and prev["hash"] == hashes[f.name]
+            and (opts.only is None or f.name not in opts.only)
+            and (
+                ready.linked.get(f.name) == prev["files"]
+                if ready is not None
+                else _all_files(out / "projects" / f.name, prev["files"])
+            )
+        )
         (reuse if fresh else todo).append(f)
 
     # 4. compute, into the staging folder (in the early pool when there is one: then every
@@ -447,8 +497,18 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
     try:
         assets = _Assets(reuse_assets or not todo)  # the Vega bundle, made while workers run
         dates = _portfolio_git_dates(root, todo)
-        tasks = [(f, root, settings, live, opts.debug, staged / "projects" / f.name,
-                  dates.get(f.name) if dates is not None else None) for f in todo]
+        tasks = [
+            (
+                f,
+                root,
+                settings,
+                live,
+                opts.debug,
+                staged / "projects" / f.name,
+                dates.get(f.name) if dates is not None else None,
+            )
+            for f in todo
+        ]
         with _Flusher(staged if len(todo) >= FLUSH_WHILE_BUILDING_MIN else None):
             outcomes = compute(tasks, jobs, progress, pool)
         if any(p.severity == "error" for p in portfolio_problems):
@@ -480,8 +540,12 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
             "version": __version__,
             "assets": akey,
             "projects": {
-                slug: {"hash": hashes[slug], "files": files_of[slug], "entry": entries[slug],
-                       "problems": problems_of.get(slug, old.get(slug, {}).get("problems", []))}
+                slug: {
+                    "hash": hashes[slug],
+                    "files": files_of[slug],
+                    "entry": entries[slug],
+                    "problems": problems_of.get(slug, old.get(slug, {}).get("problems", [])),
+                }
                 for slug in sorted(entries)
             },
         }
@@ -491,9 +555,12 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
         report.stamps = {slug: hashes[slug][:16] for slug in entries}
         report.stamps["__index__"] = hashlib.sha256(index).hexdigest()[:16]
 
-        unchanged = (not outcomes and out.is_dir()
-                     and all(_same(out / name, data) for name, data in index_out.items())
-                     and _same(out / MANIFEST, manifest_bytes))
+        unchanged = (
+            not outcomes
+            and out.is_dir()
+            and all(_same(out / name, data) for name, data in index_out.items())
+            and _same(out / MANIFEST, manifest_bytes)
+        )
         if unchanged:
             if ready is not None:
                 opts.standby.keep(ready)  # still a copy of the published site
@@ -507,15 +574,19 @@ def _build_planned(opts: BuildOptions, root: Path, out: Path, report: BuildRepor
             pass  # linked into the standby folder already
         elif reuse_assets:
             # Same assets as published: reuse them instead of rebuilding the Vega bundle.
-            names = [p.relative_to(old_assets).as_posix() for p in sorted(old_assets.rglob("*"))
-                     if p.is_file()]
+            names = [
+                p.relative_to(old_assets).as_posix()
+                for p in sorted(old_assets.rglob("*"))
+                if p.is_file()
+            ]
             link_tree(old_assets, staged / "assets", names)
         else:
             written += write_files(staged, {f"assets/{n}": b for n, b in assets.files().items()})
         written += write_files(staged, {**index_out, MANIFEST: manifest_bytes})
         if opts.live:
-            written += write_files(staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True)
-                                                         + "\n").encode()})
+            written += write_files(
+                staged, {LIVE_STATE: (json.dumps(report.stamps, sort_keys=True) + "\n").encode()}
+            )
         if ready is None:
             _link_reused(out, staged, [(f.name, files_of[f.name]) for f in reuse])
         # 7. publish
@@ -555,8 +626,7 @@ class Standby:
         do while one is being made or is ready (a build that published nothing kept it)."""
         if self._thread is not None or self._ready is not None:
             return
-        self._thread = threading.Thread(target=self._make, name="steadyline-standby",
-                                        daemon=True)
+        self._thread = threading.Thread(target=self._make, name="steadyline-standby", daemon=True)
         self._thread.start()
 
     def _make(self) -> None:
@@ -573,9 +643,15 @@ class Standby:
             assets = self.out / "assets"
             has_assets = assets.is_dir()
             if has_assets:
-                link_tree(assets, folder / "assets",
-                          [p.relative_to(assets).as_posix() for p in sorted(assets.rglob("*"))
-                           if p.is_file()])
+                link_tree(
+                    assets,
+                    folder / "assets",
+                    [
+                        p.relative_to(assets).as_posix()
+                        for p in sorted(assets.rglob("*"))
+                        if p.is_file()
+                    ],
+                )
             self._ready = _Ready(folder, linked, has_assets)
         except Exception:  # a file gone, a full disk: the rebuild stages as a build does
             shutil.rmtree(folder, ignore_errors=True)
@@ -620,8 +696,7 @@ class _Flusher:
 
     def __enter__(self) -> _Flusher:
         if self._folder is not None:
-            self._thread = threading.Thread(target=self._run, name="steadyline-flush",
-                                            daemon=True)
+            self._thread = threading.Thread(target=self._run, name="steadyline-flush", daemon=True)
             self._thread.start()
         return self
 
@@ -639,6 +714,7 @@ class _Flusher:
 def _link_reused(out: Path, staged: Path, projects: list[tuple[str, list[str]]]) -> None:
     """Hard-link the unchanged projects' files into the staging folder; a few threads at a
     time, since each link is a system call that waits on the file system, not on Python."""
+
     def one(item: tuple[str, list[str]]) -> None:
         name, files = item
         link_tree(out / "projects" / name, staged / "projects" / name, files)

@@ -72,23 +72,42 @@ def _ruler(c, unit: str) -> dict | None:
     def at(v: float) -> float:
         return round(100 * (v - lo) / (hi - lo), 2)
 
-    window = {"from": at(lsl) if lsl is not None else 0.0,
-              "to": at(usl) if usl is not None else 100.0}
+    window = {
+        "from": at(lsl) if lsl is not None else 0.0,
+        "to": at(usl) if usl is not None else 100.0,
+    }
     marks = [{"kind": "mean", "at": at(mean), "label": f"mean {fmt(mean, unit, 3)}"}]
     if target is not None:
-        marks.append({"kind": "target", "at": at(target), "label": f"target {fmt(target, unit, 3)}"})
+        marks.append(
+            {"kind": "target", "at": at(target), "label": f"target {fmt(target, unit, 3)}"}
+        )
     limits = []
     for kind, v, name in (("lower", lsl, "lower spec limit"), ("upper", usl, "upper spec limit")):
         if v is not None:
             limits.append({"kind": kind, "at": at(v), "label": f"{name} {fmt(v, unit, 3)}"})
-    bars = [{"kind": k, "label": label, "from": at(a), "to": at(b),
-             "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}"} for k, label, a, b in spans]
-    words = [f"The specification runs from {fmt(lsl, unit, 3) if lsl is not None else 'no lower limit'}"
-             f" to {fmt(usl, unit, 3) if usl is not None else 'no upper limit'}"]
+    bars = [
+        {
+            "kind": k,
+            "label": label,
+            "from": at(a),
+            "to": at(b),
+            "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}",
+        }
+        for k, label, a, b in spans
+    ]
+    words = [
+        f"The specification runs from {fmt(lsl, unit, 3) if lsl is not None else 'no lower limit'}"
+        f" to {fmt(usl, unit, 3) if usl is not None else 'no upper limit'}"
+    ]
     words.append(f"the mean is {fmt(mean, unit, 3)}")
     words += [b["text"] for b in bars]
-    return {"window": window, "marks": marks, "limits": limits, "bars": bars,
-            "text": "; ".join(words) + "."}
+    return {
+        "window": window,
+        "marks": marks,
+        "limits": limits,
+        "bars": bars,
+        "text": "; ".join(words) + ".",
+    }
 
 
 def _index(v) -> str:
@@ -100,23 +119,33 @@ def _index(v) -> str:
 def _spread_tile(c) -> dict:
     question = "Spread against the width of the specification"
     if c.cp is None and c.pp is None:
-        return {"question": question, "lead": "—",
-                "lines": ["Needs both a lower and an upper limit."]}
-    return {"question": question, "lead": f"Cp {_index(c.cp)}",
-            "lines": ["Cp uses the short-term sigma.",
-                      f"Pp {_index(c.pp)} uses the sigma of all values.",
-                      "At 1, six sigma of spread exactly fill the width between the limits."]}
+        return {
+            "question": question,
+            "lead": "—",
+            "lines": ["Needs both a lower and an upper limit."],
+        }
+    return {
+        "question": question,
+        "lead": f"Cp {_index(c.cp)}",
+        "lines": [
+            "Cp uses the short-term sigma.",
+            f"Pp {_index(c.pp)} uses the sigma of all values.",
+            "At 1, six sigma of spread exactly fill the width between the limits.",
+        ],
+    }
 
 
 def _room_tile(c) -> dict:
     lines = ["Cpk uses the short-term sigma."]
     if c.cpk_ci is not None:
-        lines.append(f"95% interval {_index(c.cpk_ci[0])} to {_index(c.cpk_ci[1])} "
-                     "(Bissell 1990).")
+        lines.append(f"95% interval {_index(c.cpk_ci[0])} to {_index(c.cpk_ci[1])} (Bissell 1990).")
     lines.append(f"Ppk {_index(c.ppk)} uses the sigma of all values.")
     lines.append("At 1, three sigma fit between the mean and the nearer limit.")
-    return {"question": "Room between the mean and the nearer limit",
-            "lead": f"Cpk {_index(c.cpk)}", "lines": lines}
+    return {
+        "question": "Room between the mean and the nearer limit",
+        "lead": f"Cpk {_index(c.cpk)}",
+        "lines": lines,
+    }
 
 
 def counted_outside(c) -> int:
@@ -126,31 +155,44 @@ def counted_outside(c) -> int:
 
 def _outside_tile(c) -> dict:
     counted = counted_outside(c)
-    lines = [f"Counted: {_share(c.ppm_observed) if counted else 'none'} of the values.",
-             f"Expected from the short-term sigma: {_share(c.ppm_expected_within)}.",
-             f"Expected from the sigma of all values: {_share(c.ppm_expected_overall)}.",
-             "Expected shares assume a normal distribution."]
-    return {"question": "Share outside the specification",
-            "lead": f"{counted} of {plural(c.n, 'value')}", "lines": lines}
+    lines = [
+        f"Counted: {_share(c.ppm_observed) if counted else 'none'} of the values.",
+        f"Expected from the short-term sigma: {_share(c.ppm_expected_within)}.",
+        f"Expected from the sigma of all values: {_share(c.ppm_expected_overall)}.",
+        "Expected shares assume a normal distribution.",
+    ]
+    return {
+        "question": "Share outside the specification",
+        "lead": f"{counted} of {plural(c.n, 'value')}",
+        "lines": lines,
+    }
 
 
 def _basis(c, unit: str) -> list[str]:
-    lines = [f"From {plural(c.n, 'value')}: mean {fmt(c.mean, unit, 3)}; short-term sigma "
-             f"{fmt(c.sigma_within, unit, 3)} (from the control chart); sigma of all values "
-             f"{fmt(c.sigma_overall, unit, 3)} (sample standard deviation)."]
+    lines = [
+        f"From {plural(c.n, 'value')}: mean {fmt(c.mean, unit, 3)}; short-term sigma "
+        f"{fmt(c.sigma_within, unit, 3)} (from the control chart); sigma of all values "
+        f"{fmt(c.sigma_overall, unit, 3)} (sample standard deviation)."
+    ]
     n = c.normality
     if n is not None:
-        p_text = (format_p_value(n.p_value) if n.p_below is None
-                  else p_below_text(n.p_below))
-        lines.append(f"Normality, Anderson–Darling: A² {fmt(n.statistic, digits=3)}, "
-                     f"{p_text}: "
-                     + ("consistent with a normal distribution." if n.normal_at_5pct
-                        else "not consistent with a normal distribution at the 5% level."))
+        p_text = format_p_value(n.p_value) if n.p_below is None else p_below_text(n.p_below)
+        lines.append(
+            f"Normality, Anderson–Darling: A² {fmt(n.statistic, digits=3)}, "
+            f"{p_text}: "
+            + (
+                "consistent with a normal distribution."
+                if n.normal_at_5pct
+                else "not consistent with a normal distribution at the 5% level."
+            )
+        )
     return lines
 
 
 def capability_view(c, unit: str) -> dict:
     """Everything the template's capability block shows, from the result alone."""
-    return {"ruler": _ruler(c, unit),
-            "tiles": [_spread_tile(c), _room_tile(c), _outside_tile(c)],
-            "basis": _basis(c, unit)}
+    return {
+        "ruler": _ruler(c, unit),
+        "tiles": [_spread_tile(c), _room_tile(c), _outside_tile(c)],
+        "basis": _basis(c, unit),
+    }

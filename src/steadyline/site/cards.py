@@ -170,8 +170,7 @@ def _plain_text_check(values) -> bool:
     if not values or set(map(type, values)) != {str}:
         return False
     joined = "\x00".join(values)
-    return (not _NEEDS_QUOTES.search(joined)
-            and not any(map(_STARTS_FORMULA, values)))
+    return not _NEEDS_QUOTES.search(joined) and not any(map(_STARTS_FORMULA, values))
 
 
 @by_identity(16)
@@ -260,8 +259,9 @@ def table_body(table: list[dict], columns, limit: int) -> Markup:
         cells = [_html_cells(list(map(dict.get, rows, repeat(c)))) for c in columns]
     if not cells:
         return Markup("<tr></tr>" * len(rows))
-    return Markup("".join(
-        ["<tr><td>" + "</td><td>".join(r) + "</td></tr>" for r in zip(*cells, strict=True)]))
+    return Markup(
+        "".join(["<tr><td>" + "</td><td>".join(r) + "</td></tr>" for r in zip(*cells, strict=True)])
+    )
 
 
 # The page shows at most this many rows of a chart's data table; the CSV download has them all,
@@ -303,11 +303,13 @@ def order_findings(findings) -> list:
     """A card's findings, most important first: signals of instability by the date of the
     first point they name (a sentence that counts a phase's signals before the sentences on
     them), then evidence of a change in the order given, then the all-clear sentences."""
+
     def key(item):
         i, f = item
         rank = _KIND_ORDER.get(f.kind, 1)
         at = f.at if f.at is not None else -1
         return rank, at, i
+
     return [f for _i, f in sorted(enumerate(findings), key=key)]
 
 
@@ -319,8 +321,16 @@ class Displays:
         self.prefix = prefix
         self.cards: list[dict] = []
 
-    def add(self, key: str, title: str, chart: ChartSpec, findings=(), cautions=(),
-            method: str = "", notes=()) -> dict:
+    def add(
+        self,
+        key: str,
+        title: str,
+        chart: ChartSpec,
+        findings=(),
+        cautions=(),
+        method: str = "",
+        notes=(),
+    ) -> dict:
         """One card. ``cautions`` are every caution of the display (results.json lists them
         all); those also in ``notes`` say how the chart was drawn rather than how far to trust
         it, and go with the method under "How this chart is made"."""
@@ -336,7 +346,10 @@ class Displays:
         all_cautions = list(dict.fromkeys(cautions))
         method_notes = set(notes)
         card = {
-            "key": key, "title": title, "anchor": base, "chart_id": f"chart-{base}",
+            "key": key,
+            "title": title,
+            "anchor": base,
+            "chart_id": f"chart-{base}",
             # escape_for_script leaves no '<', '>' or '&', so the JSON cannot end its script element
             "spec_json": Markup(escape_for_script(text)),
             # the chart's own description, for readers who cannot see it
@@ -345,15 +358,21 @@ class Displays:
             # has none, what the chart shows
             "lead": shown[0] if shown else None,
             "summary": shown[0]["text"] if shown else chart.summary,
-            "findings": shown[1:], "more_findings": left,
+            "findings": shown[1:],
+            "more_findings": left,
             "cautions": all_cautions,
             "cautions_shown": [c for c in all_cautions if c not in method_notes],
             "notes": [c for c in all_cautions if c in method_notes],
-            "method": method, "csv_href": data_name, "spec_href": spec_name,
+            "method": method,
+            "csv_href": data_name,
+            "spec_href": spec_name,
             "table_id": f"{base}-table",
-            "table": {"columns": list(chart.columns), "total": len(chart.table),
-                      "shown": min(len(chart.table), TABLE_ROWS_SHOWN),
-                      "body": table_body(chart.table, chart.columns, TABLE_ROWS_SHOWN)},
+            "table": {
+                "columns": list(chart.columns),
+                "total": len(chart.table),
+                "shown": min(len(chart.table), TABLE_ROWS_SHOWN),
+                "body": table_body(chart.table, chart.columns, TABLE_ROWS_SHOWN),
+            },
         }
         self.cards.append(card)
         return card
@@ -385,6 +404,14 @@ def signals_json(signals, x) -> list[dict]:
     out = []
     for s in signals:
         idx = list(map(int, s.indices))
-        out.append(Plain(rule=s.rule, description=s.description, indices=idx,
-                         dates=list(map(at, idx)), side=s.side, chart=s.chart))
+        out.append(
+            Plain(
+                rule=s.rule,
+                description=s.description,
+                indices=idx,
+                dates=list(map(at, idx)),
+                side=s.side,
+                chart=s.chart,
+            )
+        )
     return out

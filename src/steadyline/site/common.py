@@ -18,9 +18,12 @@ from ..config import PortfolioSettings
 from ..errors import Problem
 from ..files import Unreadable, fault, inside, is_ignored, open_regular
 
-CSP = ("default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "
-       "img-src 'self' data: blob:; connect-src 'self'; font-src 'self'; "
-       "base-uri 'none'; form-action 'none'; object-src 'none'")
+CSP = (
+    "default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "
+    "img-src 'self' data: blob:; connect-src 'self'; font-src 'self'; "
+    "base-uri 'none'; form-action 'none'; object-src 'none'"
+)
+
 
 @dataclass
 class ProjectOutcome:
@@ -34,12 +37,18 @@ class ProjectOutcome:
 
 
 def page_context(root: str, settings: PortfolioSettings, live: str | None) -> dict:
-    return {"root": root, "portfolio_title": settings.title, "version": __version__,
-            "csp": CSP, "live": live}
+    return {
+        "root": root,
+        "portfolio_title": settings.title,
+        "version": __version__,
+        "csp": CSP,
+        "live": live,
+    }
 
 
-def input_hash(folder: Path, extra: str, known: DigestMemo | None = None,
-               root: Path | None = None) -> str:
+def input_hash(
+    folder: Path, extra: str, known: DigestMemo | None = None, root: Path | None = None
+) -> str:
     """A content hash of every file of the project folder plus *extra* (tool, templates).
 
     Hidden files and the temporary, backup and lock files editors leave beside the real ones
@@ -127,8 +136,13 @@ class DigestMemo:
         access = [st.st_mode, st.st_uid, st.st_gid]
         rec = self.old.get(key)
         now = time.time_ns()
-        if (isinstance(rec, list) and len(rec) == 8 and rec[:3] == stamp
-                and rec[5:] == access and rec[3] - stamp[1] > self.SETTLED_NS):
+        if (
+            isinstance(rec, list)
+            and len(rec) == 8
+            and rec[:3] == stamp
+            and rec[5:] == access
+            and rec[3] - stamp[1] > self.SETTLED_NS
+        ):
             self.new[key] = rec
             return bytes.fromhex(rec[4])
         digest = _file_digest(path)
@@ -163,19 +177,37 @@ def git_dates(folder: Path) -> dict[Path, str]:
     """The last commit date of every committed, unmodified file under *folder* (resolved path
     -> ISO date), from git; empty when git or a repository is not there."""
     try:
-        top = subprocess.run(["git", "rev-parse", "--show-toplevel"], cwd=folder,
-                             capture_output=True, text=True, timeout=10)
+        top = subprocess.run(
+            ["git", "rev-parse", "--show-toplevel"],
+            cwd=folder,
+            capture_output=True,
+            text=True,
+            timeout=10,
+        )
         if top.returncode != 0:
             return {}
-        log = subprocess.run(["git", "log", "--format=>%cI", "--name-only", "--", "."],
-                             cwd=folder, capture_output=True, text=True, timeout=30)
-        status = subprocess.run(["git", "status", "--porcelain", "--", "."], cwd=folder,
-                                capture_output=True, text=True, timeout=10)
+        log = subprocess.run(
+            ["git", "log", "--format=>%cI", "--name-only", "--", "."],
+            cwd=folder,
+            capture_output=True,
+            text=True,
+            timeout=30,
+        )
+        status = subprocess.run(
+            ["git", "status", "--porcelain", "--", "."],
+            cwd=folder,
+            capture_output=True,
+            text=True,
+            timeout=10,
+        )
     except (OSError, subprocess.TimeoutExpired):
         return {}
     gitroot = Path(top.stdout.strip())
-    dirty = {(gitroot / line[3:].strip()).resolve()
-             for line in status.stdout.splitlines() if len(line) > 3}
+    dirty = {
+        (gitroot / line[3:].strip()).resolve()
+        for line in status.stdout.splitlines()
+        if len(line) > 3
+    }
     dates: dict[Path, str] = {}
     current = None
     for line in log.stdout.splitlines():

@@ -35,8 +35,14 @@ def by_period_json(a: MetricAnalysis) -> dict | None:
     b = a.data.by_period
     if b is None:
         return None
-    return {"period": b.period, "points": b.points, "periods": b.periods, "limit": b.limit,
-            "how": b.how, "reason": b.reason}
+    return {
+        "period": b.period,
+        "points": b.points,
+        "periods": b.periods,
+        "limit": b.limit,
+        "how": b.how,
+        "reason": b.reason,
+    }
 
 
 def box_json(b: BoxSummary) -> dict:
@@ -99,5 +105,9 @@ def column_json(p: Pareto | None, names: tuple[str, ...], counts: tuple[float, .
         names, counts = tuple(n for n, _ in pairs), tuple(c for _, c in pairs)
     else:
         left, out_count = 0, 0.0
-    return {"categories": list(names), "counts": list(counts), "categories_left_out": left,
-            "count_left_out": plain(out_count)}
+    return {
+        "categories": list(names),
+        "counts": list(counts),
+        "categories_left_out": left,
+        "count_left_out": plain(out_count),
+    }

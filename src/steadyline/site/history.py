@@ -39,8 +39,7 @@ from .studies import (
 )
 from .templates import render
 
-MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion",
-                "rate": "Rate"}
+MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion", "rate": "Rate"}
 
 
 def timeline(spec: ProjectSpec) -> list[dict]:
@@ -48,10 +47,14 @@ def timeline(spec: ProjectSpec) -> list[dict]:
     current = PHASES.index(spec.phase)
     out = []
     for i, ph in enumerate(PHASES):
-        out.append({"phase": ph, "label": ph.capitalize(),
-                    "date": reached[ph].isoformat() if ph in reached else "",
-                    "state": "current" if i == current else ("reached" if i < current
-                                                             else "ahead")})
+        out.append(
+            {
+                "phase": ph,
+                "label": ph.capitalize(),
+                "date": reached[ph].isoformat() if ph in reached else "",
+                "state": "current" if i == current else ("reached" if i < current else "ahead"),
+            }
+        )
     return out
 
 
@@ -62,30 +65,58 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     unit = a.spec.unit
     show = pct if c.measure == "proportion" else (lambda v: fmt(v, unit, 4))
     # a change of a proportion is a difference of percentages: percentage points
-    change = (percentage_points(c.change) if c.measure == "proportion"
-              else fmt(c.change, unit, 4).replace("-", "−"))
+    change = (
+        percentage_points(c.change)
+        if c.measure == "proportion"
+        else fmt(c.change, unit, 4).replace("-", "−")
+    )
     # what the test compared: the period values of a rolled-up metric, else the individual
     # values, or each phase's items or area pooled (n then counts the periods)
     what = a.counted or ("values" if c.measure in ("mean", "median") else "periods")
     rows = [
-        (f"{MEASURE_TEXT.get(c.measure, c.measure)}, baseline", show(c.baseline),
-         f"{c.n_baseline} {what}"),
-        (f"{MEASURE_TEXT.get(c.measure, c.measure)}, after", show(c.after),
-         f"{c.n_after} {what}"),
-        ("Change", change + (f" ({c.percent_change:+.1f}%{' relative' if c.measure == 'proportion' else ''})".replace("-", "−") if c.percent_change is not None
-                             else ""),
-         {True: "in the better direction", False: "in the worse direction",
-          None: "direction not judged"}[c.improved]),
-        ("Test", f"{c.test}, on the {a.compared}" if a.compared else c.test,
-         format_p_value(c.p_value)),
+        (
+            f"{MEASURE_TEXT.get(c.measure, c.measure)}, baseline",
+            show(c.baseline),
+            f"{c.n_baseline} {what}",
+        ),
+        (f"{MEASURE_TEXT.get(c.measure, c.measure)}, after", show(c.after), f"{c.n_after} {what}"),
+        (
+            "Change",
+            change
+            + (
+                f" ({c.percent_change:+.1f}%{' relative' if c.measure == 'proportion' else ''})".replace(
+                    "-", "−"
+                )
+                if c.percent_change is not None
+                else ""
+            ),
+            {
+                True: "in the better direction",
+                False: "in the worse direction",
+                None: "direction not judged",
+            }[c.improved],
+        ),
+        (
+            "Test",
+            f"{c.test}, on the {a.compared}" if a.compared else c.test,
+            format_p_value(c.p_value),
+        ),
     ]
     if a.after_shift is not None:
         sh = a.after_shift
-        rows.append(("Sustained shift", "yes" if sh.signals else "no",
-                     "after-phase points against the baseline median "
-                     + (proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
-                        if a.data.kind == "defectives" else fmt(sh.median, unit, 4))
-                     + f" by the {RunRules(sh.rule_set).label}"))
+        rows.append(
+            (
+                "Sustained shift",
+                "yes" if sh.signals else "no",
+                "after-phase points against the baseline median "
+                + (
+                    proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
+                    if a.data.kind == "defectives"
+                    else fmt(sh.median, unit, 4)
+                )
+                + f" by the {RunRules(sh.rule_set).label}",
+            )
+        )
     return rows
 
 
@@ -94,16 +125,24 @@ def change_evidence_json(evidence, chart, x) -> list[dict]:
     out = []
     if evidence is None:
         return out
-    for which, ev, sub in (("main", evidence[0], chart),
-                           ("secondary", evidence[1], chart.secondary)):
+    for which, ev, sub in (
+        ("main", evidence[0], chart),
+        ("secondary", evidence[1], chart.secondary),
+    ):
         if ev is None or sub is None:
             continue
         offset = len(chart.values) - len(sub.values)
         for d in DIRECTIONS:
             idx = np.flatnonzero(ev.change == d).tolist()
             if idx:
-                out.append({"chart": which, "direction": d, "indices": idx,
-                            "dates": [x[i + offset] for i in idx]})
+                out.append(
+                    {
+                        "chart": which,
+                        "direction": d,
+                        "indices": idx,
+                        "dates": [x[i + offset] for i in idx],
+                    }
+                )
     return out
 
 
@@ -113,7 +152,9 @@ def after_note(a: MetricAnalysis) -> str:
     if a.comparison is not None:
         return ""
     if not a.has_after:
-        return "No after period with data yet: the comparison appears once the after phase has data."
+        return (
+            "No after period with data yet: the comparison appears once the after phase has data."
+        )
     if len(a.phase_paretos) > 1:
         after = int((a.data.points["stage"].to_numpy() == STAGE_AFTER).sum())
         (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
@@ -123,20 +164,25 @@ def after_note(a: MetricAnalysis) -> str:
             return total if a.spec.count is None else f"{total} from {chart_fmt(float(rows))} rows"
 
         why = "; ".join(msg for disp, msg in a.failures if disp == "change in mix")
-        return (f"Categories are compared by their Pareto charts below, phase by phase, with no "
-                f"test of the change{f' ({why})' if why else ''}: the {b_name.lower()} counts "
-                f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
-                f"{counted(f, after)}.")
+        return (
+            f"Categories are compared by their Pareto charts below, phase by phase, with no "
+            f"test of the change{f' ({why})' if why else ''}: the {b_name.lower()} counts "
+            f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
+            f"{counted(f, after)}."
+        )
     why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
     if a.data.kind == "categories":
-        why = why or ("no row falls in the baseline period" if a.category_scope != "baseline"
-                      else "")
-    return ("The after period has data, but it could not be compared with the baseline"
-            + (f": {why}." if why else "."))
+        why = why or (
+            "no row falls in the baseline period" if a.category_scope != "baseline" else ""
+        )
+    return "The after period has data, but it could not be compared with the baseline" + (
+        f": {why}." if why else "."
+    )
 
 
-def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes],
-                    sctx: SeriesContext | None) -> tuple[dict, dict]:
+def history_section(
+    spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes], sctx: SeriesContext | None
+) -> tuple[dict, dict]:
     """One metric's section of the history page and its results.json entry; ``sctx`` is the
     series layout the project page made (None for categories)."""
     m = a.spec
@@ -148,28 +194,39 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         # (a.signals): a signal there is evidence of a change, marked by its direction; points
         # in signals on their own period's limits (the baseline's, the after phase's own:
         # a.after_signals) are marked as instability (a.evidence tells the two apart).
-        chart = staged_control_chart(sctx, a.control, a.after_limits, a.signals,
-                                     a.after_signals, a.evidence)
+        chart = staged_control_chart(
+            sctx, a.control, a.after_limits, a.signals, a.after_signals, a.evidence
+        )
         findings = advice.change_findings(a.evidence, a.control, a.signals)
         if own:
             findings += advice.own_limit_findings(a.after_signals, a.x)
-        d.add("staged-control", "Control chart by phase", chart, findings=findings,
-              method=("Baseline limits carried forward over the later points (dashed), and "
-                      "the after phase's own centre line and limits over the after phase "
-                      "(solid). A later point in a signal against the baseline limits is "
-                      "evidence of a change, marked by its direction; a point in a signal on "
-                      "its own period's limits (the baseline's, or the after phase's own) is "
-                      "marked with the signal diamond: that period is not yet stable."
-                      if own else
-                      "Baseline limits carried forward over the later points (dashed). A later "
-                      "point in a signal against them is evidence of a change, marked by its "
-                      "direction; a baseline point in a signal on the baseline's limits is "
-                      "marked with the signal diamond. The after phase has too few points "
-                      "for limits of its own, so its stability is not judged.")
-              + by_period_text(a))
-        staged = {"own_after_limits": own, "chart": a.control,
-                  "signals": signals_json(a.signals, a.x),
-                  "change_evidence": change_evidence_json(a.evidence, a.control, a.x)}
+        d.add(
+            "staged-control",
+            "Control chart by phase",
+            chart,
+            findings=findings,
+            method=(
+                "Baseline limits carried forward over the later points (dashed), and "
+                "the after phase's own centre line and limits over the after phase "
+                "(solid). A later point in a signal against the baseline limits is "
+                "evidence of a change, marked by its direction; a point in a signal on "
+                "its own period's limits (the baseline's, or the after phase's own) is "
+                "marked with the signal diamond: that period is not yet stable."
+                if own
+                else "Baseline limits carried forward over the later points (dashed). A later "
+                "point in a signal against them is evidence of a change, marked by its "
+                "direction; a baseline point in a signal on the baseline's limits is "
+                "marked with the signal diamond. The after phase has too few points "
+                "for limits of its own, so its stability is not judged."
+            )
+            + by_period_text(a),
+        )
+        staged = {
+            "own_after_limits": own,
+            "chart": a.control,
+            "signals": signals_json(a.signals, a.x),
+            "change_evidence": change_evidence_json(a.evidence, a.control, a.x),
+        }
         if own:
             staged["after_chart"] = a.after_limits
             staged["after_signals"] = signals_json(a.after_signals, a.x)
@@ -178,36 +235,63 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         note = values_note(m, sum(b.n for _, b in a.phase_boxes))
         brief = values_brief(m, sum(b.n for _, b in a.phase_boxes))
         chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=brief)
-        d.add("phase-box", "Box plots by phase" + (", individual values" if note else ""),
-              chart, method=(f"{note} " if note else "") + "Both phases on one scale; "
-              f"quartiles by {a.phase_boxes[0][1].method_label}.")
+        d.add(
+            "phase-box",
+            "Box plots by phase" + (", individual values" if note else ""),
+            chart,
+            method=(f"{note} " if note else "") + "Both phases on one scale; "
+            f"quartiles by {a.phase_boxes[0][1].method_label}.",
+        )
         result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
         note = values_note(m, h.n)
         brief = values_brief(m, h.n)
-        chart = histogram_chart(h, unit=m.unit, lsl=m.spec_lower, usl=m.spec_upper,
-                                target=m.target, title=f"{m.name}, {name.lower()}",
-                                measure=m.name, note=brief)
+        chart = histogram_chart(
+            h,
+            unit=m.unit,
+            lsl=m.spec_lower,
+            usl=m.spec_upper,
+            target=m.target,
+            title=f"{m.name}, {name.lower()}",
+            measure=m.name,
+            note=brief,
+        )
         key = f"histogram-{name.lower().replace(' ', '-')}"
-        d.add(key, f"Histogram, {name.lower()}" + (", individual values" if note else ""),
-              chart, method=(f"{note} " if note else "") + "Same bin edges in every phase.")
+        d.add(
+            key,
+            f"Histogram, {name.lower()}" + (", individual values" if note else ""),
+            chart,
+            method=(f"{note} " if note else "") + "Same bin edges in every phase.",
+        )
         if c is not None:
-            caps.append({"phase": name, "view": capability_view(c, m.unit),
-                         "trustworthy": c.trustworthy, "reasons": list(c.reasons),
-                         "verdict": advice.capability_verdict(c)})
+            caps.append(
+                {
+                    "phase": name,
+                    "view": capability_view(c, m.unit),
+                    "trustworthy": c.trustworthy,
+                    "reasons": list(c.reasons),
+                    "verdict": advice.capability_verdict(c),
+                }
+            )
     if len(a.phase_histograms) > 1:
         result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
         result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
     if len(a.phase_paretos) > 1:
         chart = phase_pareto_chart(a.phase_paretos)
-        d.add("phase-pareto", "Pareto by phase, categories in the same order", chart,
-              method="Categories keep the baseline's order (largest first there) in every "
-                     "phase, so shrinking bars show which causes the improvement removed; "
-                     "categories new after the baseline follow, largest first.")
+        d.add(
+            "phase-pareto",
+            "Pareto by phase, categories in the same order",
+            chart,
+            method="Categories keep the baseline's order (largest first there) in every "
+            "phase, so shrinking bars show which causes the improvement removed; "
+            "categories new after the baseline follow, largest first.",
+        )
         n_gathered = gathered(len(common_order(a.phase_paretos)))
-        result["paretos"] = {name: pareto_json(p) | {"gathered_categories": n_gathered}
-                             for name, p in a.phase_paretos}
+        result["paretos"] = {
+            name: pareto_json(p) | {"gathered_categories": n_gathered}
+            for name, p in a.phase_paretos
+        }
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:
@@ -230,18 +314,28 @@ def history_section(spec: ProjectSpec, a: MetricAnalysis, files: dict[str, bytes
         # their verdict, drawing and basis
         for c in caps:
             c["view"] = c["view"] | {"tiles": []}
-    section = {"id": m.id, "name": m.name, "unit": m.unit, "displays": d.cards,
-               "comparison": rows, "note": after_note(a), "sentence": sentence,
-               "improved": a.comparison.improved if a.comparison else None,
-               "neutral": a.mix is not None, "capabilities": caps,
-               "capability_rows": cap_rows, "capability_sentence": capability_sentence(a),
-               "capability_note": capability_note(a) if cap_rows else "",
-               "business_rows": business_rows(a),
-               "business_note": business_note(a) if len(a.business) > 1 else ""}
+    section = {
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "displays": d.cards,
+        "comparison": rows,
+        "note": after_note(a),
+        "sentence": sentence,
+        "improved": a.comparison.improved if a.comparison else None,
+        "neutral": a.mix is not None,
+        "capabilities": caps,
+        "capability_rows": cap_rows,
+        "capability_sentence": capability_sentence(a),
+        "capability_note": capability_note(a) if cap_rows else "",
+        "business_rows": business_rows(a),
+        "business_note": business_note(a) if len(a.business) > 1 else "",
+    }
     return section, result
 
 
 def history_page(spec: ProjectSpec, sections: list[dict], ctx: dict, project_ctx: dict) -> str:
     """The history page, from its metrics' sections."""
-    return render("history.html", project=project_ctx, timeline=timeline(spec),
-                  metrics=sections, **ctx)
+    return render(
+        "history.html", project=project_ctx, timeline=timeline(spec), metrics=sections, **ctx
+    )

@@ -58,18 +58,22 @@ def _read_shard(folder: Path) -> Shard:
         raise BuildError(f"{folder}/{MANIFEST}: cannot be read: {e}") from None
     record = manifest.get("shard")
     if isinstance(record, dict) and not (
-            all(isinstance(record.get(k), int) for k in ("index", "count", "projects_total"))
-            and isinstance(record.get("settings"), dict)
-            and isinstance(manifest.get("projects"), dict)):
-        raise BuildError(f"{folder}/{MANIFEST}: the shard record is damaged; build the shard "
-                         "again")
+        all(isinstance(record.get(k), int) for k in ("index", "count", "projects_total"))
+        and isinstance(record.get("settings"), dict)
+        and isinstance(manifest.get("projects"), dict)
+    ):
+        raise BuildError(f"{folder}/{MANIFEST}: the shard record is damaged; build the shard again")
     if not isinstance(record, dict):
-        raise BuildError(f"{folder}: not a shard (its manifest has no shard record); build it "
-                         "with `steadyline build --shard I/N`")
+        raise BuildError(
+            f"{folder}: not a shard (its manifest has no shard record); build it "
+            "with `steadyline build --shard I/N`"
+        )
     version = manifest.get("version")
     if version != __version__:
-        raise BuildError(f"{folder}: shard built by steadyline {version}, this is "
-                         f"{__version__}; build every shard and merge with one version")
+        raise BuildError(
+            f"{folder}: shard built by steadyline {version}, this is "
+            f"{__version__}; build every shard and merge with one version"
+        )
     return Shard(folder, manifest)
 
 
@@ -92,42 +96,56 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
     settings = _settings_of(first)
     ours = _settings_key(settings, False)
     if first.record.get("key") != hashlib.sha256(ours.encode()).hexdigest():
-        raise BuildError(f"{first.folder}: shard built with other templates than this "
-                         "installation's; build every shard and merge with one installation")
+        raise BuildError(
+            f"{first.folder}: shard built with other templates than this "
+            "installation's; build every shard and merge with one installation"
+        )
     for s in shards[1:]:
-        for what, field in (("another number of shards", "count"),
-                            ("other settings", "settings"),
-                            ("other settings or templates", "key"),
-                            ("another portfolio (another set of projects)", "portfolio")):
+        for what, field in (
+            ("another number of shards", "count"),
+            ("other settings", "settings"),
+            ("other settings or templates", "key"),
+            ("another portfolio (another set of projects)", "portfolio"),
+        ):
             if s.record.get(field) != first.record.get(field):
-                raise BuildError(f"{s.folder}: shard {s.name} was built with {what} "
-                                 f"than {first.folder} (shard {first.name}); build every shard "
-                                 "from the same portfolio and settings")
+                raise BuildError(
+                    f"{s.folder}: shard {s.name} was built with {what} "
+                    f"than {first.folder} (shard {first.name}); build every shard "
+                    "from the same portfolio and settings"
+                )
     count = first.record["count"]
     seen: dict[int, Shard] = {}
     for s in shards:
         i = s.record["index"]
         if i in seen:
-            raise BuildError(f"{s.folder}: overlapping shards: {seen[i].folder} is shard "
-                             f"{s.name} too")
+            raise BuildError(
+                f"{s.folder}: overlapping shards: {seen[i].folder} is shard {s.name} too"
+            )
         seen[i] = s
     missing = [i for i in range(1, count + 1) if i not in seen]
     if missing:
-        raise BuildError(f"merge: missing shard{'s' if len(missing) > 1 else ''} "
-                         f"{', '.join(f'{i}/{count}' for i in missing)} (given: "
-                         f"{', '.join(s.name for s in sorted(shards, key=_index))})")
+        raise BuildError(
+            f"merge: missing shard{'s' if len(missing) > 1 else ''} "
+            f"{', '.join(f'{i}/{count}' for i in missing)} (given: "
+            f"{', '.join(s.name for s in sorted(shards, key=_index))})"
+        )
     owner: dict[str, Shard] = {}
     for s in shards:
         for slug in s.manifest.get("projects", {}):
             if slug in owner:
-                raise BuildError(f"{s.folder}: overlapping shards: project {slug} is in "
-                                 f"{owner[slug].folder} too")
+                raise BuildError(
+                    f"{s.folder}: overlapping shards: project {slug} is in {owner[slug].folder} too"
+                )
             owner[slug] = s
-    if (len(owner) != first.record["projects_total"]
-            or portfolio_digest(list(owner)) != first.record["portfolio"]):
-        raise BuildError(f"merge: the shards hold {len(owner)} projects, the portfolio "
-                         f"{first.record['projects_total']}; a shard is incomplete (built "
-                         "from another checkout?)")
+    if (
+        len(owner) != first.record["projects_total"]
+        or portfolio_digest(list(owner)) != first.record["portfolio"]
+    ):
+        raise BuildError(
+            f"merge: the shards hold {len(owner)} projects, the portfolio "
+            f"{first.record['projects_total']}; a shard is incomplete (built "
+            "from another checkout?)"
+        )
     return sorted(shards, key=_index), settings
 
 
@@ -142,10 +160,15 @@ def merge(folders: list[Path], out: Path) -> BuildReport:
     with named_faults(out):
         for s in shards:  # the output is never one of the shards, inside one or around one
             real, shard = os.path.realpath(out), os.path.realpath(s.folder)
-            if real == shard or Path(shard) in Path(real).parents \
-                    or Path(real) in Path(shard).parents:
-                raise BuildError(f"{out}: refused as output: it is, is inside or contains the "
-                                 f"shard {s.folder}; choose another folder")
+            if (
+                real == shard
+                or Path(shard) in Path(real).parents
+                or Path(real) in Path(shard).parents
+            ):
+                raise BuildError(
+                    f"{out}: refused as output: it is, is inside or contains the "
+                    f"shard {s.folder}; choose another folder"
+                )
         out = check_output(out, shards[0].folder)
         lock = lock_output(out, "build")
         try:
@@ -164,8 +187,10 @@ def _merge_locked(shards: list[Shard], settings: PortfolioSettings, out: Path) -
             folder = s.folder / "projects" / slug
             for name in item["files"]:
                 if not os.path.isfile(folder / name):
-                    raise BuildError(f"{s.folder}: shard {s.name} is incomplete: "
-                                     f"projects/{slug}/{name} is missing")
+                    raise BuildError(
+                        f"{s.folder}: shard {s.name} is incomplete: "
+                        f"projects/{slug}/{name} is missing"
+                    )
             projects[slug] = item
             source[slug] = folder
     for slug in sorted(projects):
@@ -177,10 +202,12 @@ def _merge_locked(shards: list[Shard], settings: PortfolioSettings, out: Path) -
         else:
             report.built.append(slug)
 
-    index_out = index_page([projects[slug]["entry"] for slug in sorted(projects)], settings,
-                           False)
-    manifest = {"version": __version__, "assets": assets_key(),
-                "projects": {slug: projects[slug] for slug in sorted(projects)}}
+    index_out = index_page([projects[slug]["entry"] for slug in sorted(projects)], settings, False)
+    manifest = {
+        "version": __version__,
+        "assets": assets_key(),
+        "projects": {slug: projects[slug] for slug in sorted(projects)},
+    }
     staged = staging_dir(out)
     staged.mkdir(parents=True)
     try:

@@ -16,9 +16,40 @@ import nh3
 from .. import files
 
 ALLOWED_TAGS = {
-    "a", "abbr", "b", "blockquote", "br", "code", "dd", "del", "dl", "dt", "em", "h1", "h2",
-    "h3", "h4", "h5", "h6", "hr", "i", "li", "ol", "p", "pre", "strong", "sub", "sup", "table",
-    "tbody", "td", "tfoot", "th", "thead", "tr", "ul",
+    "a",
+    "abbr",
+    "b",
+    "blockquote",
+    "br",
+    "code",
+    "dd",
+    "del",
+    "dl",
+    "dt",
+    "em",
+    "h1",
+    "h2",
+    "h3",
+    "h4",
+    "h5",
+    "h6",
+    "hr",
+    "i",
+    "li",
+    "ol",
+    "p",
+    "pre",
+    "strong",
+    "sub",
+    "sup",
+    "table",
+    "tbody",
+    "td",
+    "tfoot",
+    "th",
+    "thead",
+    "tr",
+    "ul",
 }
 ALLOWED_ATTRIBUTES = {
     "a": {"href", "title"},
@@ -32,8 +63,10 @@ URL_SCHEMES = {"http", "https", "mailto"}
 # Relative links that lead to something the site publishes: its pages, results and downloads,
 # and other projects' pages. A relative link to anything else (the project's raw CSV files, which
 # the site does not publish) keeps its text and loses its address, so readers meet no dead link.
-_PUBLISHED = re.compile(r"^(?:\.\./[a-z0-9][a-z0-9-]*/)?(?:index\.html|history\.html|"
-                        r"results\.json|data/[^/]+\.(?:csv|vl\.json))?(?:#[^\s]*)?$")
+_PUBLISHED = re.compile(
+    r"^(?:\.\./[a-z0-9][a-z0-9-]*/)?(?:index\.html|history\.html|"
+    r"results\.json|data/[^/]+\.(?:csv|vl\.json))?(?:#[^\s]*)?$"
+)
 
 
 def _keep_link(tag: str, attr: str, value: str) -> str | None:
@@ -46,9 +79,15 @@ def _keep_link(tag: str, attr: str, value: str) -> str | None:
 
 
 def sanitise(html: str) -> str:
-    return nh3.clean(html, tags=ALLOWED_TAGS, attributes=ALLOWED_ATTRIBUTES,
-                     url_schemes=URL_SCHEMES, link_rel="noopener noreferrer",
-                     strip_comments=True, attribute_filter=_keep_link)
+    return nh3.clean(
+        html,
+        tags=ALLOWED_TAGS,
+        attributes=ALLOWED_ATTRIBUTES,
+        url_schemes=URL_SCHEMES,
+        link_rel="noopener noreferrer",
+        strip_comments=True,
+        attribute_filter=_keep_link,
+    )
 
 
 # The notes sit under the page's own "Project notes" heading (h2): their headings move down two
@@ -62,8 +101,9 @@ def _shift_headings(html: str) -> str:
 
 
 def render_markdown(text: str) -> str:
-    html = markdown.markdown(text, extensions=["tables", "fenced_code", "sane_lists"],
-                             output_format="html")
+    html = markdown.markdown(
+        text, extensions=["tables", "fenced_code", "sane_lists"], output_format="html"
+    )
     return _shift_headings(sanitise(html))
 
 

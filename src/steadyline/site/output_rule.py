@@ -59,8 +59,11 @@ def is_site(folder: str | os.PathLike) -> bool:
             data = orjson.loads(fh.read())
     except (OSError, orjson.JSONDecodeError):
         return False
-    return (isinstance(data, dict) and isinstance(data.get("version"), str)
-            and isinstance(data.get("projects"), dict))
+    return (
+        isinstance(data, dict)
+        and isinstance(data.get("version"), str)
+        and isinstance(data.get("projects"), dict)
+    )
 
 
 def _home() -> str | None:
@@ -77,14 +80,21 @@ def check_output(out: Path, projects: Path) -> Path:
     the folder it points to. The path returned is *out* itself unless *out* is a link.
     """
     if os.path.islink(out) and not os.path.exists(out):
-        raise _refuse(out, f"it is a symbolic link to nothing ({os.readlink(out)})",
-                      "remove the link or point it at a folder")
+        raise _refuse(
+            out,
+            f"it is a symbolic link to nothing ({os.readlink(out)})",
+            "remove the link or point it at a folder",
+        )
     real = os.path.realpath(out)
     if real == os.path.dirname(real):
         raise _refuse(out, "it is a file-system root", "choose a folder inside it")
     if os.path.ismount(real):
-        raise _refuse(out, "it is a mount point (the root of a file system), which cannot be "
-                           "swapped for a new site", "choose a folder inside it")
+        raise _refuse(
+            out,
+            "it is a mount point (the root of a file system), which cannot be "
+            "swapped for a new site",
+            "choose a folder inside it",
+        )
     places = [(os.path.realpath(projects), "the projects folder")]
     try:
         places.append((os.path.realpath(os.getcwd()), "the working directory"))
@@ -105,8 +115,9 @@ def check_output(out: Path, projects: Path) -> Path:
         if not os.path.isdir(real):
             raise _refuse(out, "it is a file, not a folder")
         if os.listdir(real) and not is_site(real):
-            raise _refuse(out, f"it is a folder of other files (no steadyline site marker "
-                               f"{MARKER})")
+            raise _refuse(
+                out, f"it is a folder of other files (no steadyline site marker {MARKER})"
+            )
     return Path(real) if os.path.islink(out) else out
 
 
@@ -115,16 +126,23 @@ _FAULTS = {
     errno.ENOSPC: ("disk full", "free some space and build again"),
     errno.EDQUOT: ("disk quota exceeded", "free some space or raise the quota and build again"),
     errno.EROFS: ("read-only file system", "choose an output on a writable disk"),
-    errno.EACCES: ("permission denied",
-                   "the output and the folder holding it must be writable by you"),
-    errno.EPERM: ("permission denied",
-                  "the output and the folder holding it must be writable by you"),
-    errno.EXDEV: ("output on another file system than the folder holding it",
-                  "choose a folder inside that file system"),
-    errno.EBUSY: ("output busy or a mount point",
-                  "choose a folder inside the mount point"),
-    errno.EIO: ("input/output error (a failing disk or network share)",
-                "check the disk and build again"),
+    errno.EACCES: (
+        "permission denied",
+        "the output and the folder holding it must be writable by you",
+    ),
+    errno.EPERM: (
+        "permission denied",
+        "the output and the folder holding it must be writable by you",
+    ),
+    errno.EXDEV: (
+        "output on another file system than the folder holding it",
+        "choose a folder inside that file system",
+    ),
+    errno.EBUSY: ("output busy or a mount point", "choose a folder inside the mount point"),
+    errno.EIO: (
+        "input/output error (a failing disk or network share)",
+        "check the disk and build again",
+    ),
 }
 
 
@@ -138,8 +156,7 @@ def fault_line(e: OSError, out: Path) -> str | None:
     at = ""
     if e.filename is not None and os.fsdecode(e.filename) != os.fspath(out):
         at = f" at {os.fsdecode(e.filename)}"
-    return _visible(f"{out}: not published: {cause}{at}; {advice}; the output was left as it "
-                    "was")
+    return _visible(f"{out}: not published: {cause}{at}; {advice}; the output was left as it was")
 
 
 @contextmanager

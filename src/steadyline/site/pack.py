@@ -30,8 +30,10 @@ from .templates import render, templates_dir
 PACK_FILE = "handover.html"
 
 # Nothing may be fetched or run: styles inline only, images only as data (none are used).
-PACK_CSP = ("default-src 'none'; style-src 'unsafe-inline'; img-src data:; "
-            "base-uri 'none'; form-action 'none'; object-src 'none'")
+PACK_CSP = (
+    "default-src 'none'; style-src 'unsafe-inline'; img-src data:; "
+    "base-uri 'none'; form-action 'none'; object-src 'none'"
+)
 
 
 @functools.lru_cache(maxsize=1)
@@ -70,9 +72,16 @@ def fixed_width(spec, width: int = DRAWN_WIDTH):
     """A copy of the spec whose views that take their box's width have *width* instead (data
     are shared with the spec, not copied: they are never changed)."""
     if isinstance(spec, dict):
-        return {k: (width if k == "width" and v == "container" else
-                    v if k in ("data", "datasets") else fixed_width(v, width))
-                for k, v in spec.items()}
+        return {
+            k: (
+                width
+                if k == "width" and v == "container"
+                else v
+                if k in ("data", "datasets")
+                else fixed_width(v, width)
+            )
+            for k, v in spec.items()
+        }
     if isinstance(spec, list):
         return [fixed_width(v, width) for v in spec]
     return spec
@@ -87,23 +96,30 @@ def chart_svg(spec: dict, prefix: str) -> str:
     # Room on the right: texts are placed by vl-convert's measure of its own fonts, and a
     # browser's font for the same family may run wider, past the drawing's edge.
     pad = drawn.get("padding", drawn.get("config", {}).get("padding", 5))
-    pad = dict(pad) if isinstance(pad, dict) else dict.fromkeys(("left", "top", "bottom",
-                                                                  "right"), pad)
+    pad = (
+        dict(pad)
+        if isinstance(pad, dict)
+        else dict.fromkeys(("left", "top", "bottom", "right"), pad)
+    )
     drawn["padding"] = pad | {"right": pad.get("right", 0) + TEXT_ROOM}
     svg = _converter().vegalite_to_svg(drawn, allowed_base_urls=[])
     svg = _XML_DECL.sub("", svg)
     # inline in HTML an svg element needs no namespace declarations
     svg = svg.replace(' xmlns="http://www.w3.org/2000/svg"', "", 1).replace(
-        ' xmlns:xlink="http://www.w3.org/1999/xlink"', "", 1)
+        ' xmlns:xlink="http://www.w3.org/1999/xlink"', "", 1
+    )
     # quote marks in texts (category names, titles) escaped too, as the pages escape them
-    svg = _TEXT.sub(lambda m: ">" + m.group(1).replace('"', "&quot;").replace("'", "&#39;")
-                    + "<", svg)
+    svg = _TEXT.sub(
+        lambda m: ">" + m.group(1).replace('"', "&quot;").replace("'", "&#39;") + "<", svg
+    )
     ids = set(_ID.findall(svg))
     for name in sorted(ids, key=len, reverse=True):
         new = f"{prefix}-{name}"
-        svg = (svg.replace(f'id="{name}"', f'id="{new}"')
-               .replace(f"url(#{name})", f"url(#{new})")
-               .replace(f'href="#{name}"', f'href="#{new}"'))
+        svg = (
+            svg.replace(f'id="{name}"', f'id="{new}"')
+            .replace(f"url(#{name})", f"url(#{new})")
+            .replace(f'href="#{name}"', f'href="#{new}"')
+        )
     return svg
 
 
@@ -130,9 +146,17 @@ def _styles() -> Markup:
     return Markup(text)
 
 
-def pack_html(spec: ProjectSpec, project_ctx: dict, sections: list[dict],
-              history_sections: list[dict], files: dict[str, bytes], notes_html: str,
-              provenance: list[dict], warnings: list[dict], ctx: dict) -> bytes:
+def pack_html(
+    spec: ProjectSpec,
+    project_ctx: dict,
+    sections: list[dict],
+    history_sections: list[dict],
+    files: dict[str, bytes],
+    notes_html: str,
+    provenance: list[dict],
+    warnings: list[dict],
+    ctx: dict,
+) -> bytes:
     """The hand-over pack of a built project, from the sections its pages were rendered from
     (*history_sections* empty when it has no history page) and the files made so far."""
     history = {s["id"]: s for s in history_sections}
@@ -146,9 +170,17 @@ def pack_html(spec: ProjectSpec, project_ctx: dict, sections: list[dict],
                 h = h | {"displays": _drawn(h["displays"], files)}
             m["history"] = h
         metrics.append(m)
-    html = render("pack.html", project=project_ctx, metrics=metrics, notes_html=notes_html,
-                  provenance=provenance, warnings=warnings,
-                  timeline=timeline(spec) if history_sections else [],
-                  styles=_styles(), pack_csp=PACK_CSP, version=ctx["version"],
-                  portfolio_title=ctx["portfolio_title"])
+    html = render(
+        "pack.html",
+        project=project_ctx,
+        metrics=metrics,
+        notes_html=notes_html,
+        provenance=provenance,
+        warnings=warnings,
+        timeline=timeline(spec) if history_sections else [],
+        styles=_styles(),
+        pack_csp=PACK_CSP,
+        version=ctx["version"],
+        portfolio_title=ctx["portfolio_title"],
+    )
     return html.encode("utf-8")

@@ -55,7 +55,8 @@ def _libc_function(name: str, argtypes: list):
 
 
 _EXCHANGE = _libc_function(
-    "renameat2", [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint])
+    "renameat2", [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint]
+)
 _SYNCFS = _libc_function("syncfs", [ctypes.c_int])
 # Up to this many new files are flushed one by one; more, by one syncfs.
 FSYNC_EACH_MAX = 400
@@ -81,8 +82,7 @@ def exchange(a: Path, b: Path) -> bool:
     """Atomically swap two existing paths. False when the system cannot do it."""
     if _EXCHANGE is None:
         return False
-    rc = _EXCHANGE(_AT_FDCWD, os.fsencode(str(a)), _AT_FDCWD, os.fsencode(str(b)),
-                   _RENAME_EXCHANGE)
+    rc = _EXCHANGE(_AT_FDCWD, os.fsencode(str(a)), _AT_FDCWD, os.fsencode(str(b)), _RENAME_EXCHANGE)
     if rc == 0:
         return True
     err = ctypes.get_errno()
@@ -104,7 +104,7 @@ def _proc_stat(pid: int) -> tuple[str, int] | None:
     except OSError:
         return None
     # the command name (field 2) is in parentheses and may hold anything, spaces included
-    fields = data[data.rindex(b")") + 2:].split()
+    fields = data[data.rindex(b")") + 2 :].split()
     try:
         return fields[0].decode(), int(fields[19])  # fields 3 and 22 of proc(5)
     except (IndexError, ValueError):
@@ -152,7 +152,7 @@ def _maker_tag() -> str:
 def _maker(name: str, prefix: str, extra: int) -> tuple[int, int | None] | None:
     """(pid, start) from a staging (*extra* 0) or retired (*extra* 1: a time follows) folder's
     name; None when the name is none of ours."""
-    parts = name[len(prefix):].split("-")
+    parts = name[len(prefix) :].split("-")
     if not all(p.isdigit() for p in parts):
         return None
     if len(parts) == 1 + extra:  # no start time: made where /proc is missing, or before
@@ -195,14 +195,20 @@ def discard(folder: Path) -> None:
     rm = shutil.which("rm") if os.name == "posix" else None
     if rm is not None:
         try:
-            subprocess.Popen([rm, "-rf", "--", os.fspath(folder)], stdin=subprocess.DEVNULL,
-                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
-                             start_new_session=True, close_fds=True)
+            subprocess.Popen(
+                [rm, "-rf", "--", os.fspath(folder)],
+                stdin=subprocess.DEVNULL,
+                stdout=subprocess.DEVNULL,
+                stderr=subprocess.DEVNULL,
+                start_new_session=True,
+                close_fds=True,
+            )
             return
         except OSError:
             pass
-    threading.Thread(target=shutil.rmtree, args=(folder,), kwargs={"ignore_errors": True},
-                     daemon=True).start()
+    threading.Thread(
+        target=shutil.rmtree, args=(folder,), kwargs={"ignore_errors": True}, daemon=True
+    ).start()
 
 
 def _retired_name(out: Path) -> Path:
@@ -420,9 +426,11 @@ def _wait_for_lock(fd: int, out: Path, path: Path, say) -> None:
             pass
         holder = _holder(path)
         if holder is not None and holder[1] == "watch":
-            raise BuildError(f"{out}: process {holder[0]} is watching this output (steadyline "
-                             "watch) and rebuilds it on every change; stop it first, or build "
-                             "into another --out")
+            raise BuildError(
+                f"{out}: process {holder[0]} is watching this output (steadyline "
+                "watch) and rebuilds it on every change; stop it first, or build "
+                "into another --out"
+            )
         if holder is not None and holder[0] != told:
             say(f"steadyline: waiting for the build of {out} by process {holder[0]} to finish")
             told = holder[0]

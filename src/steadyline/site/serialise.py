@@ -79,7 +79,7 @@ def _batched(obj: Any) -> Any:
         values = _rounded(np.concatenate([x for _, x in pending]))
         start = 0
         for slot, x in pending:
-            slot.extend(values[start:start + x.size])
+            slot.extend(values[start : start + x.size])
             start += x.size
     return data
 
@@ -137,8 +137,9 @@ _OMIT_NONE: dict[type, tuple[str, ...]] = {}
 def _omitted(cls: type) -> tuple[str, ...]:
     names = _OMIT_NONE.get(cls)
     if names is None:
-        names = _OMIT_NONE[cls] = tuple(f.name for f in dataclasses.fields(cls)
-                                        if f.metadata.get("json") == "omit-none")
+        names = _OMIT_NONE[cls] = tuple(
+            f.name for f in dataclasses.fields(cls) if f.metadata.get("json") == "omit-none"
+        )
     return names
 
 
@@ -167,16 +168,20 @@ def plain(obj: Any) -> Any:
             seen = _SEEN.get(id(obj))
             if seen is not None:
                 return seen[1]
-        out = {name: v if type(v) in _AS_IS else plain(v)
-               for name, v in zip(names, map(obj.__getattribute__, names), strict=True)}
+        out = {
+            name: v if type(v) in _AS_IS else plain(v)
+            for name, v in zip(names, map(obj.__getattribute__, names), strict=True)
+        }
         if _omitted(t):
             _drop_none(t, out)
         if _SEEN is not None:
             _SEEN[id(obj)] = (obj, out)
         return out
     if t is dict:
-        return {k if type(k) is str else str(k): v if type(v) in _AS_IS else plain(v)
-                for k, v in obj.items()}
+        return {
+            k if type(k) is str else str(k): v if type(v) in _AS_IS else plain(v)
+            for k, v in obj.items()
+        }
     if t is list or t is tuple:
         types = set(map(type, obj))
         if types <= _PLAIN_LIST_TYPES or types == _BOOL_ONLY or types == _PLAIN_ONLY:
@@ -219,8 +224,14 @@ def plain(obj: Any) -> Any:
 def dumps(obj: Any, *, indent: int | None = 1) -> str:
     if indent is None:
         return _encode(_batched(obj))
-    return json.dumps(_batched(obj), sort_keys=True, indent=indent, ensure_ascii=False,
-                      allow_nan=False, separators=(",", ": ") if indent else (",", ":"))
+    return json.dumps(
+        _batched(obj),
+        sort_keys=True,
+        indent=indent,
+        ensure_ascii=False,
+        allow_nan=False,
+        separators=(",", ": ") if indent else (",", ":"),
+    )
 
 
 def dumps_bytes(obj: Any) -> bytes:
@@ -232,8 +243,9 @@ def _encode_bytes(data: Any) -> bytes:
     try:
         return orjson.dumps(data, option=orjson.OPT_SORT_KEYS)
     except orjson.JSONEncodeError:
-        return json.dumps(data, sort_keys=True, ensure_ascii=False, allow_nan=False,
-                          separators=(",", ":")).encode("utf-8")
+        return json.dumps(
+            data, sort_keys=True, ensure_ascii=False, allow_nan=False, separators=(",", ":")
+        ).encode("utf-8")
 
 
 def compact_bytes(spec: dict) -> bytes:
@@ -250,5 +262,10 @@ def _encode(data: Any) -> str:
 
 def escape_for_script(text: str) -> str:
     """Make JSON text safe inside a script element."""
-    return (text.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
-            .replace("\u2028", "\\u2028").replace("\u2029", "\\u2029"))
+    return (
+        text.replace("<", "\\u003c")
+        .replace(">", "\\u003e")
+        .replace("&", "\\u0026")
+        .replace("\u2028", "\\u2028")
+        .replace("\u2029", "\\u2029")
+    )

@@ -22,9 +22,9 @@ from .serialise import plain
 
 SIGMA_WORDS = {
     "with-shift": "with the trade's 1.5-sigma shift for long-run drift (a convention, not a "
-                  "law: common practice)",
+    "law: common practice)",
     "without-shift": "the normal quantile of the yield, without the trade's 1.5-sigma shift "
-                     "(common practice)",
+    "(common practice)",
 }
 
 
@@ -63,25 +63,33 @@ def business_fact(a: MetricAnalysis) -> dict | None:
     sig = sigma_text(f, m.sigma_level)
     if f.kind == "defectives":
         items = m.unit or "items"
-        text = (f"First-pass yield {yield_text(f.first_pass_yield)}: "
-                f"{_count(f.units)} {items} checked in the {period}, "
-                f"{100 * f.proportion_defective:.2f}% of them defective "
-                f"({f.ppm:,.0f} per million)")
+        text = (
+            f"First-pass yield {yield_text(f.first_pass_yield)}: "
+            f"{_count(f.units)} {items} checked in the {period}, "
+            f"{100 * f.proportion_defective:.2f}% of them defective "
+            f"({f.ppm:,.0f} per million)"
+        )
         return {"term": "Baseline yield", "text": text + (f"; {sig}." if sig else ".")}
     opp = ""
     if f.dpmo is not None:
-        opp = (f"; {f.dpmo:,.0f} defects per million opportunities (DPMO), at "
-               f"{fmt(f.opportunities_per_unit)} opportunities per unit")
-    text = (f"{fmt(f.dpu, digits=3)} defects per unit (DPU): {_count(f.defects)} defects on "
-            f"{_count(f.units)} units ('{m.size}') in the {period}{opp}; "
-            f"{yield_text(f.yield_)} of units expected free of defects (Poisson yield)")
+        opp = (
+            f"; {f.dpmo:,.0f} defects per million opportunities (DPMO), at "
+            f"{fmt(f.opportunities_per_unit)} opportunities per unit"
+        )
+    text = (
+        f"{fmt(f.dpu, digits=3)} defects per unit (DPU): {_count(f.defects)} defects on "
+        f"{_count(f.units)} units ('{m.size}') in the {period}{opp}; "
+        f"{yield_text(f.yield_)} of units expected free of defects (Poisson yield)"
+    )
     return {"term": "Baseline defect rate", "text": text + (f"; {sig}." if sig else ".")}
 
 
 def measured_line(f: BusinessFigures, setting: str) -> list[str]:
     """The fit block's lines for the expected yield of measured values (and sigma level)."""
-    lines = [f"Expected yield, inside the specification: {yield_text(f.yield_)} (normal model, "
-             "sigma of all values)."]
+    lines = [
+        f"Expected yield, inside the specification: {yield_text(f.yield_)} (normal model, "
+        "sigma of all values)."
+    ]
     sig = sigma_text(f, setting)
     if sig:
         lines.append(sig[:1].upper() + sig[1:] + ".")
@@ -99,21 +107,29 @@ def business_rows(a: MetricAnalysis) -> list[tuple[str, ...]]:
     if b.kind == "defectives":
         items = a.spec.unit or "items"
         rows.append((f"{items[:1].upper()}{items[1:]} checked", _count(b.units), _count(f.units)))
-        rows.append(("First-pass yield", yield_text(b.first_pass_yield),
-                     yield_text(f.first_pass_yield)))
+        rows.append(
+            ("First-pass yield", yield_text(b.first_pass_yield), yield_text(f.first_pass_yield))
+        )
         rows.append(("Defective per million", f"{b.ppm:,.0f}", f"{f.ppm:,.0f}"))
     else:
         rows.append(("Units checked", _count(b.units), _count(f.units)))
         rows.append(("Defects per unit (DPU)", fmt(b.dpu, digits=3), fmt(f.dpu, digits=3)))
         if b.dpmo is not None:
-            rows.append(("Defects per million opportunities (DPMO)", f"{b.dpmo:,.0f}",
-                         f"{f.dpmo:,.0f}"))
-        rows.append(("Units free of defects (Poisson yield)", yield_text(b.yield_),
-                     yield_text(f.yield_)))
+            rows.append(
+                ("Defects per million opportunities (DPMO)", f"{b.dpmo:,.0f}", f"{f.dpmo:,.0f}")
+            )
+        rows.append(
+            ("Units free of defects (Poisson yield)", yield_text(b.yield_), yield_text(f.yield_))
+        )
     if setting != "off":
-        rows.append(("Sigma level" + (" of the opportunities" if b.sigma_basis ==
-                                      "opportunities" else ""),
-                     _level(b), _level(f)))
+        rows.append(
+            (
+                "Sigma level"
+                + (" of the opportunities" if b.sigma_basis == "opportunities" else ""),
+                _level(b),
+                _level(f),
+            )
+        )
     return rows
 
 
@@ -128,11 +144,15 @@ def business_note(a: MetricAnalysis) -> str:
     f = a.business[0][1]
     parts = []
     if f.kind == "defectives":
-        parts.append("First-pass yield is the share of items found good when checked; it is "
-                     "the first-pass yield when the counts are those of the first check.")
+        parts.append(
+            "First-pass yield is the share of items found good when checked; it is "
+            "the first-pass yield when the counts are those of the first check."
+        )
     elif f.kind == "defects":
-        parts.append("The Poisson yield, exp(−DPU), is the share of units expected free of "
-                     "defects when defects fall at random.")
+        parts.append(
+            "The Poisson yield, exp(−DPU), is the share of units expected free of "
+            "defects when defects fall at random."
+        )
     if a.spec.sigma_level != "off":
         parts.append(f"Sigma level: {SIGMA_WORDS[a.spec.sigma_level]}.")
     return " ".join(parts)
@@ -169,18 +189,25 @@ def _point_word(a: MetricAnalysis, n: int) -> str:
 
 def _by_row(a: MetricAnalysis) -> bool:
     """Whether a point of the metric is one row of its data (attributes, no roll-up)."""
-    return (a.spec.rollup is None and a.data.by_period is None
-            and a.data.kind in ("defectives", "defects"))
+    return (
+        a.spec.rollup is None
+        and a.data.by_period is None
+        and a.data.kind in ("defectives", "defects")
+    )
 
 
 def _change_text(a: MetricAnalysis) -> str:
     m, p = a.spec, a.after_plan
     if p.kind == "defectives":
-        return (f"{percentage_points(p.target - p.baseline)}, {100 * p.baseline:.2f}% → "
-                f"{100 * p.target:.2f}%")
+        return (
+            f"{percentage_points(p.target - p.baseline)}, {100 * p.baseline:.2f}% → "
+            f"{100 * p.target:.2f}%"
+        )
     sign = "+" if p.target > p.baseline else "−"
-    return (f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, {fmt(p.baseline)} → "
-            f"{fmt(p.target, m.unit)}")
+    return (
+        f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, {fmt(p.baseline)} → "
+        f"{fmt(p.target, m.unit)}"
+    )
 
 
 def plan_fact(a: MetricAnalysis) -> dict | None:
@@ -193,22 +220,31 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
     # the methods), the exact rate test's approximation said since the plan uses it
     test = p.test if p.kind == "defects" else p.test.split(" (")[0]
     step, span = _change_text(a).split(", ", 1)
-    why = (f"to detect the expected {step} in the {measure} ({span}): {test}, "
-           f"{100 * p.alpha:g}% level, {100 * p.power:g}% power (common practice)")
+    why = (
+        f"to detect the expected {step} in the {measure} ({span}): {test}, "
+        f"{100 * p.alpha:g}% level, {100 * p.power:g}% power (common practice)"
+    )
     if p.points is None:
-        return {"term": "After sample needed",
-                "text": f"Not reachable with this baseline, {why}. " + " ".join(p.notes)}
-    return {"term": "After sample needed",
-            "text": f"{_point_word(a, p.points)}"
-                    + (" (a point per row of data)" if _by_row(a) else "")
-                    + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a)}."}
+        return {
+            "term": "After sample needed",
+            "text": f"Not reachable with this baseline, {why}. " + " ".join(p.notes),
+        }
+    return {
+        "term": "After sample needed",
+        "text": f"{_point_word(a, p.points)}"
+        + (" (a point per row of data)" if _by_row(a) else "")
+        + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a)}.",
+    }
 
 
 def _size_word(a: MetricAnalysis) -> str:
     k = a.after_plan.kind
     if k == "continuous":
-        return (period_value(a.spec.rollup.period, a.spec.rollup.statistic, plural=True)
-                if a.spec.rollup is not None else "values")
+        return (
+            period_value(a.spec.rollup.period, a.spec.rollup.statistic, plural=True)
+            if a.spec.rollup is not None
+            else "values"
+        )
     if k == "defectives":
         return f"{a.spec.unit or 'items'} checked"
     return "units of area checked" if a.spec.size is not None else "points"
@@ -219,15 +255,19 @@ def power_row(a: MetricAnalysis) -> tuple[str, str, str] | None:
     p, r = a.after_plan, a.after_power
     if p is None:
         return None
-    needed = ("no after sample reaches the power wanted" if p.points is None
-              else f"{p.points} needed")
+    needed = (
+        "no after sample reaches the power wanted" if p.points is None else f"{p.points} needed"
+    )
     so_far = _point_word(a, a.after_points)
     if r is None:
         return ("After sample", f"{so_far}; {needed}", "no after data yet")
-    verdict = ("reached" if r.reached else "not reached yet")
-    return ("After sample", f"{so_far}; {needed}",
-            f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(a)}); "
-            f"{100 * POWER:g}% wanted: {verdict}")
+    verdict = "reached" if r.reached else "not reached yet"
+    return (
+        "After sample",
+        f"{so_far}; {needed}",
+        f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(a)}); "
+        f"{100 * POWER:g}% wanted: {verdict}",
+    )
 
 
 def plan_json(a: MetricAnalysis) -> dict | None:
@@ -248,9 +288,11 @@ def power_json(a: MetricAnalysis) -> dict | None:
 def mix_sentence(a: MetricAnalysis) -> str:
     x = a.mix
     changed = x.p_value < 0.05
-    return (f"The shares of the categories {'changed' if changed else 'did not change beyond chance'}"
-            f" between the baseline and the after period ({x.test}, "
-            f"{format_p_value(x.p_value)}).")
+    return (
+        f"The shares of the categories {'changed' if changed else 'did not change beyond chance'}"
+        f" between the baseline and the after period ({x.test}, "
+        f"{format_p_value(x.p_value)})."
+    )
 
 
 def mix_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
@@ -258,18 +300,31 @@ def mix_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     test, and the expected-count rule with what it led to."""
     x = a.mix
     rows = []
-    for c, b, f, nb, nf in zip(x.categories, x.baseline_share, x.after_share, x.baseline,
-                               x.after, strict=True):
-        rows.append((f"Share, {c}", f"{100 * b:.1f}% → {100 * f:.1f}%",
-                     f"{percentage_points(f - b, 1)} ({nb} → {nf})"))
-    stat = ("" if x.statistic is None else
-            f"chi-square {x.statistic:.2f} on {plural(x.df, 'degree')} of freedom")
+    for c, b, f, nb, nf in zip(
+        x.categories, x.baseline_share, x.after_share, x.baseline, x.after, strict=True
+    ):
+        rows.append(
+            (
+                f"Share, {c}",
+                f"{100 * b:.1f}% → {100 * f:.1f}%",
+                f"{percentage_points(f - b, 1)} ({nb} → {nf})",
+            )
+        )
+    stat = (
+        ""
+        if x.statistic is None
+        else f"chi-square {x.statistic:.2f} on {plural(x.df, 'degree')} of freedom"
+    )
     rows.append(("Test", x.test, (stat + "; " if stat else "") + format_p_value(x.p_value)))
-    rule = ("every expected count at least 1 and at most 20% of them below 5 (Cochran 1954, "
-            "common practice)")
+    rule = (
+        "every expected count at least 1 and at most 20% of them below 5 (Cochran 1954, "
+        "common practice)"
+    )
     if x.test.startswith("Fisher"):
-        done = ("not met even with the categories merged into two groups: Fisher's exact "
-                "test is used instead")
+        done = (
+            "not met even with the categories merged into two groups: Fisher's exact "
+            "test is used instead"
+        )
     elif x.merged:
         done = "met after merging " + ", ".join(x.merged) + f" into '{x.merged_name}'"
     else:
@@ -299,8 +354,11 @@ def _outside(ppm: float | None) -> str:
         return "—"
     if ppm == 0:
         return "none"
-    return f"{ppm / 1e4:.2f}% ({ppm:,.0f} per million)" if ppm >= 10 else \
-        f"{fmt(ppm, digits=2)} per million"
+    return (
+        f"{ppm / 1e4:.2f}% ({ppm:,.0f} per million)"
+        if ppm >= 10
+        else f"{fmt(ppm, digits=2)} per million"
+    )
 
 
 def capability_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
@@ -310,15 +368,27 @@ def capability_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     if len(caps) < 2:
         return []
     (_, b), (_, f) = caps[0], caps[-1]
-    rows = [("Cpk (95% interval, Bissell 1990)", _index_ci(b.cpk, b.cpk_ci),
-             _index_ci(f.cpk, f.cpk_ci)),
-            ("Ppk", _index_ci(b.ppk, None), _index_ci(f.ppk, None))]
+    rows = [
+        (
+            "Cpk (95% interval, Bissell 1990)",
+            _index_ci(b.cpk, b.cpk_ci),
+            _index_ci(f.cpk, f.cpk_ci),
+        ),
+        ("Ppk", _index_ci(b.ppk, None), _index_ci(f.ppk, None)),
+    ]
     if b.cp is not None or b.pp is not None:
         rows.insert(1, ("Cp", _index_ci(b.cp, None), _index_ci(f.cp, None)))
     rows = [r for r in rows if r[1:] != ("—", "—")]
-    rows.append(("Counted outside", f"{counted_outside(b)} of {b.n}", f"{counted_outside(f)} of {f.n}"))
-    rows.append(("Expected outside, sigma of all values", _outside(b.ppm_expected_overall),
-                 _outside(f.ppm_expected_overall)))
+    rows.append(
+        ("Counted outside", f"{counted_outside(b)} of {b.n}", f"{counted_outside(f)} of {f.n}")
+    )
+    rows.append(
+        (
+            "Expected outside, sigma of all values",
+            _outside(b.ppm_expected_overall),
+            _outside(f.ppm_expected_overall),
+        )
+    )
     biz = dict(a.business)
     names = [n for n, _ in caps]
     if names[0] in biz and names[-1] in biz:
@@ -342,21 +412,30 @@ def capability_sentence(a: MetricAnalysis) -> str:
     caps = [c for _, _, c in a.phase_histograms if c is not None]
     # which period's Cpk is not to be trusted, in a clause: the reasons are each phase's
     # block's own (said there, once)
-    doubt = [name for name, c in (("baseline", caps[0]), ("after period", caps[-1]))
-             if not c.trustworthy]
-    trust = ("" if not doubt else
-             " Neither Cpk is to be trusted yet, nor its interval (the phases' blocks below "
-             "say why)." if len(doubt) == 2 else
-             f" The {doubt[0]}'s Cpk is not to be trusted yet, nor its interval (its block "
-             f"below says why).")
-    return (f"Cpk {direction} from {x.cpk_before:.2f} to {x.cpk_after:.2f}: {beyond}; the "
-            f"{x.test} gives {format_p_value(x.p_value)}.{trust}")
+    doubt = [
+        name for name, c in (("baseline", caps[0]), ("after period", caps[-1])) if not c.trustworthy
+    ]
+    trust = (
+        ""
+        if not doubt
+        else " Neither Cpk is to be trusted yet, nor its interval (the phases' blocks below "
+        "say why)."
+        if len(doubt) == 2
+        else f" The {doubt[0]}'s Cpk is not to be trusted yet, nor its interval (its block "
+        f"below says why)."
+    )
+    return (
+        f"Cpk {direction} from {x.cpk_before:.2f} to {x.cpk_after:.2f}: {beyond}; the "
+        f"{x.test} gives {format_p_value(x.p_value)}.{trust}"
+    )
 
 
 def capability_note(a: MetricAnalysis) -> str:
     """What the capability table's figures rest on, said once under it."""
-    note = ("Expected shares and yields assume a normal distribution; each phase's block below "
-            "says whether its figures can be trusted.")
+    note = (
+        "Expected shares and yields assume a normal distribution; each phase's block below "
+        "says whether its figures can be trusted."
+    )
     if a.spec.sigma_level != "off" and any(f.kind == "measured" for _, f in a.business):
         note += f" Sigma level: {SIGMA_WORDS[a.spec.sigma_level]}."
     return note
@@ -365,5 +444,6 @@ def capability_note(a: MetricAnalysis) -> str:
 def capability_json(a: MetricAnalysis) -> dict | None:
     if a.capability_change is None:
         return None
-    return plain(a.capability_change) | {"beyond_intervals": not a.capability_change
-                                         .intervals_overlap}
+    return plain(a.capability_change) | {
+        "beyond_intervals": not a.capability_change.intervals_overlap
+    }

@@ -40,8 +40,13 @@ def _design(sa: StudyAnalysis) -> tuple[int, int, int]:
     return parts, apprs, len(d.values) // (parts * apprs)
 
 
-def study_section(sa: StudyAnalysis, spec: ProjectSpec, files: dict[str, bytes],
-                  problems: list[Problem], qualifies: list[MetricSpec]) -> tuple[dict, dict]:
+def study_section(
+    sa: StudyAnalysis,
+    spec: ProjectSpec,
+    files: dict[str, bytes],
+    problems: list[Problem],
+    qualifies: list[MetricSpec],
+) -> tuple[dict, dict]:
     """The page section and the results.json entry of a measurement study."""
     m, study = sa.spec, sa.study
     d = Displays(spec.slug, m.id, files)
@@ -49,49 +54,84 @@ def study_section(sa: StudyAnalysis, spec: ProjectSpec, files: dict[str, bytes],
     design = f"{parts} parts × {apprs} appraisers × {trials} trials"
     if study is not None:
         chart = components_chart(study, values_text=f"{m.name}: {design}")
-        d.add("components", "Components of variation", chart,
-              advice.gauge_findings(study, m.unit), [advice.GAUGE_DECISION, *study.notes],
-              METHOD + " " + _anova_text(study), notes=study.notes)
+        d.add(
+            "components",
+            "Components of variation",
+            chart,
+            advice.gauge_findings(study, m.unit),
+            [advice.GAUGE_DECISION, *study.notes],
+            METHOD + " " + _anova_text(study),
+            notes=study.notes,
+        )
     if sa.ranges is not None:
         chart = ranges_chart(sa.ranges, trials=trials, unit=m.unit)
-        d.add("ranges", "Ranges by appraiser", chart,
-              advice.appraiser_range_findings(sa.ranges, m.unit),
-              method="Each point is the range (largest less smallest) of one appraiser's trials "
-              "of one part; the centre line is that appraiser's average range R̄ and the upper "
-              "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
-              "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.")
+        d.add(
+            "ranges",
+            "Ranges by appraiser",
+            chart,
+            advice.appraiser_range_findings(sa.ranges, m.unit),
+            method="Each point is the range (largest less smallest) of one appraiser's trials "
+            "of one part; the centre line is that appraiser's average range R̄ and the upper "
+            "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
+            "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.",
+        )
     chart = measurements_chart(sa.data.values, sa.data.parts, sa.data.appraisers, unit=m.unit)
     findings = []
     if study is not None:
         findings = advice.appraiser_findings(study, _appraiser_means(sa), m.unit)
-    d.add("measurements", "Measurements by part and appraiser", chart, findings,
-          method="Every measurement, by part along the axis and by appraiser side by side within "
-          "a part; the lines join each appraiser's mean of a part's trials. The appraisers' "
-          "means are compared by the F test of the analysis of variance.")
+    d.add(
+        "measurements",
+        "Measurements by part and appraiser",
+        chart,
+        findings,
+        method="Every measurement, by part along the axis and by appraiser side by side within "
+        "a part; the lines join each appraiser's mean of a part's trials. The appraisers' "
+        "means are compared by the F test of the analysis of variance.",
+    )
     verdict = None
     if study is not None:
         code = advice.gauge_verdict(study)
-        verdict = {"code": code, "words": advice.GAUGE_WORDS[code],
-                   "study_variation": study.verdict, "tolerance": study.tolerance_verdict,
-                   "distinct_categories_enough": study.distinct_categories >= 5,
-                   "guide": advice.GAUGE_GUIDE}
+        verdict = {
+            "code": code,
+            "words": advice.GAUGE_WORDS[code],
+            "study_variation": study.verdict,
+            "tolerance": study.tolerance_verdict,
+            "distinct_categories_enough": study.distinct_categories >= 5,
+            "guide": advice.GAUGE_GUIDE,
+        }
     facts = [("Study", f"{design}, from {Path(m.file_rel).name} ({sa.data.raw_rows} rows)")]
     if verdict is not None:
-        facts.append(("Verdict", f"{verdict['words'][0].upper()}{verdict['words'][1:]} by the "
-                      f"guide: the measurement system takes {advice.gauge_shares_text(study)}; "
-                      f"{study.distinct_categories} distinct categories."))
+        facts.append(
+            (
+                "Verdict",
+                f"{verdict['words'][0].upper()}{verdict['words'][1:]} by the "
+                f"guide: the measurement system takes {advice.gauge_shares_text(study)}; "
+                f"{study.distinct_categories} distinct categories.",
+            )
+        )
     if m.spec_lower is not None or m.spec_upper is not None:
-        limits = " to ".join(fmt(x, m.unit) for x in (m.spec_lower, m.spec_upper)
-                             if x is not None)
-        facts.append(("Specification", limits + ("" if m.spec_lower is not None and
-                                                 m.spec_upper is not None else
-                                                 " (shares of the tolerance need both limits)")))
+        limits = " to ".join(fmt(x, m.unit) for x in (m.spec_lower, m.spec_upper) if x is not None)
+        facts.append(
+            (
+                "Specification",
+                limits
+                + (
+                    ""
+                    if m.spec_lower is not None and m.spec_upper is not None
+                    else " (shares of the tolerance need both limits)"
+                ),
+            )
+        )
     if qualifies:
         facts.append(("Checks the measurements of", ", ".join(q.name for q in qualifies)))
     warnings = [c for card in d.cards for c in card["cautions"]]
     warnings += [f"{disp}: {msg}" for disp, msg in sa.failures]
     result = {
-        "id": m.id, "name": m.name, "unit": m.unit, "type": m.type, "file": m.file_rel,
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "type": m.type,
+        "file": m.file_rel,
         "rows_read": sa.data.raw_rows,
         "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper},
         "study": None if study is None else plain(study),
@@ -102,24 +142,31 @@ def study_section(sa: StudyAnalysis, spec: ProjectSpec, files: dict[str, bytes],
         "failures": [{"display": disp, "message": msg} for disp, msg in sa.failures],
     }
     section = {
-        "id": m.id, "name": m.name, "unit": m.unit, "broken": False, "study": True,
-        "facts": facts, "displays": d.cards, "capability": None, "open_signals": 0,
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "broken": False,
+        "study": True,
+        "facts": facts,
+        "displays": d.cards,
+        "capability": None,
+        "open_signals": 0,
         "baseline_signals": 0,
-        "problems": [{"severity": "warning", "text": f"{disp}: {msg}"}
-                     for disp, msg in sa.failures] + [
-            {"severity": p.severity, "text": p.format()} for p in problems],
+        "problems": [{"severity": "warning", "text": f"{disp}: {msg}"} for disp, msg in sa.failures]
+        + [{"severity": p.severity, "text": p.format()} for p in problems],
     }
     return section, result
 
 
 def _anova_text(study) -> str:
-    rows = {r.source: r for r in (study.reduced_anova if study.interaction_pooled
-                                  else study.anova)}
+    rows = {r.source: r for r in (study.reduced_anova if study.interaction_pooled else study.anova)}
     kept = "pooled into repeatability" if study.interaction_pooled else "kept"
-    return (f"This study: interaction {format_p_value(study.interaction_p_value)}, {kept}; "
-            f"parts F = {rows['part'].f:.4g} ({format_p_value(rows['part'].p_value)}), "
-            f"appraisers F = {rows['appraiser'].f:.4g} "
-            f"({format_p_value(rows['appraiser'].p_value)}).")
+    return (
+        f"This study: interaction {format_p_value(study.interaction_p_value)}, {kept}; "
+        f"parts F = {rows['part'].f:.4g} ({format_p_value(rows['part'].p_value)}), "
+        f"appraisers F = {rows['appraiser'].f:.4g} "
+        f"({format_p_value(rows['appraiser'].p_value)})."
+    )
 
 
 def _appraiser_means(sa: StudyAnalysis) -> dict[str, float]:
@@ -129,17 +176,26 @@ def _appraiser_means(sa: StudyAnalysis) -> dict[str, float]:
     return {o: sum(vs) / len(vs) for o, vs in sums.items()}
 
 
-def gauge_summary(m: MetricSpec, study: StudyAnalysis | None, not_built: bool,
-                  study_name: str) -> tuple[dict, dict]:
+def gauge_summary(
+    m: MetricSpec, study: StudyAnalysis | None, not_built: bool, study_name: str
+) -> tuple[dict, dict]:
     """What a process metric says of the study named by its ``measurement_study``: the
     section's fact (the study's name and its verdict in words) and the results.json entry."""
     sid = m.measurement_study
-    none = {"id": sid, "name": study_name, "verdict": None, "verdict_words": None,
-            "study_percent": None, "tolerance_percent": None, "distinct_categories": None,
-            "not_built": not_built}
+    none = {
+        "id": sid,
+        "name": study_name,
+        "verdict": None,
+        "verdict_words": None,
+        "study_percent": None,
+        "tolerance_percent": None,
+        "distinct_categories": None,
+        "not_built": not_built,
+    }
     if study is None:
-        text = ("not built: its data have problems, listed in its place" if not_built
-                else "no verdict")
+        text = (
+            "not built: its data have problems, listed in its place" if not_built else "no verdict"
+        )
         return {"id": sid, "name": study_name, "text": text}, none
     name = study.spec.name
     s = study.study
@@ -148,12 +204,23 @@ def gauge_summary(m: MetricSpec, study: StudyAnalysis | None, not_built: bool,
         return ({"id": sid, "name": name, "text": f"no verdict ({why})"}, none)
     code = advice.gauge_verdict(s)
     ms = s.component("measurement system")
-    text = (f"{advice.GAUGE_WORDS[code]} by the guide ({advice.gauge_shares_text(s)}; "
-            f"{s.distinct_categories} distinct categories)")
-    return ({"id": sid, "name": name, "text": text},
-            {"id": sid, "name": name, "verdict": code, "verdict_words": advice.GAUGE_WORDS[code],
-             "study_percent": ms.study_percent, "tolerance_percent": ms.tolerance_percent,
-             "distinct_categories": s.distinct_categories, "not_built": False})
+    text = (
+        f"{advice.GAUGE_WORDS[code]} by the guide ({advice.gauge_shares_text(s)}; "
+        f"{s.distinct_categories} distinct categories)"
+    )
+    return (
+        {"id": sid, "name": name, "text": text},
+        {
+            "id": sid,
+            "name": name,
+            "verdict": code,
+            "verdict_words": advice.GAUGE_WORDS[code],
+            "study_percent": ms.study_percent,
+            "tolerance_percent": ms.tolerance_percent,
+            "distinct_categories": s.distinct_categories,
+            "not_built": False,
+        },
+    )
 
 
 def is_study(m: MetricSpec) -> bool:

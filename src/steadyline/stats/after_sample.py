@@ -70,8 +70,10 @@ def _check(kind, baseline, target, baseline_size, sd, alpha):
         raise StatsError(f"the baseline size must be positive, got {baseline_size:g}")
     if kind == "continuous":
         if sd is None or not (math.isfinite(sd) and sd > 0):
-            raise StatsError("a plan for measured values needs the baseline's standard "
-                             "deviation, a positive number")
+            raise StatsError(
+                "a plan for measured values needs the baseline's standard "
+                "deviation, a positive number"
+            )
         if baseline_size < 2:
             raise StatsError("a plan for measured values needs at least two baseline values")
     elif kind == "defectives":
@@ -84,8 +86,9 @@ def _check(kind, baseline, target, baseline_size, sd, alpha):
                 raise StatsError(f"the {name} rate must be positive, got {v:g}")
 
 
-def _power(kind: str, baseline: float, target: float, n1: float, n2: float, sd: float | None,
-           alpha: float) -> float:
+def _power(
+    kind: str, baseline: float, target: float, n1: float, n2: float, sd: float | None, alpha: float
+) -> float:
     """Power of the kind's test with n2 after (math.inf: an unlimited after sample)."""
     z = normal.ppf(1 - alpha / 2)
     if kind == "continuous":
@@ -137,9 +140,16 @@ def power_reached(
         raise StatsError("the after sample needs at least one value")
     p = _power(kind, baseline, target, baseline_size, after_size, sd, alpha)
     return PowerReached(
-        kind=kind, test=TESTS[kind], alpha=alpha, baseline=float(baseline),
-        target=float(target), baseline_size=float(baseline_size), after_size=float(after_size),
-        power=p, reached=p >= wanted, wanted_power=wanted,
+        kind=kind,
+        test=TESTS[kind],
+        alpha=alpha,
+        baseline=float(baseline),
+        target=float(target),
+        baseline_size=float(baseline_size),
+        after_size=float(after_size),
+        power=p,
+        reached=p >= wanted,
+        wanted_power=wanted,
     )
 
 
@@ -207,10 +217,17 @@ def after_sample_needed(
             achieved = pw(required)
     points = None if required is None else math.ceil(required / size_per_point - 1e-9)
     return AfterSamplePlan(
-        kind=kind, test=TESTS[kind], alpha=alpha, power=power, baseline=float(baseline),
-        target=float(target), baseline_size=n1,
-        required_size=(int(required) if required is not None and kind != "defects"
-                       else required),
-        size_per_point=float(size_per_point), points=points, achieved_power=achieved,
-        power_limit=limit, notes=tuple(notes),
+        kind=kind,
+        test=TESTS[kind],
+        alpha=alpha,
+        power=power,
+        baseline=float(baseline),
+        target=float(target),
+        baseline_size=n1,
+        required_size=(int(required) if required is not None and kind != "defects" else required),
+        size_per_point=float(size_per_point),
+        points=points,
+        achieved_power=achieved,
+        power_limit=limit,
+        notes=tuple(notes),
     )

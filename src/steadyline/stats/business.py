@@ -63,8 +63,9 @@ def sigma_level(yield_: float, shift: bool = True) -> float | None:
 
 def _note(shift: bool) -> str:
     if shift:
-        return ("The sigma level includes the trade's conventional 1.5-sigma shift "
-                "(common practice).")
+        return (
+            "The sigma level includes the trade's conventional 1.5-sigma shift (common practice)."
+        )
     return "The sigma level is Φ⁻¹(yield), without the conventional 1.5-sigma shift."
 
 
@@ -91,15 +92,28 @@ def defective_figures(defectives: float, units: float, shift: bool = True) -> Bu
     notes = [_note(shift)]
     _infinite_note(level, notes)
     return BusinessFigures(
-        kind="defectives", units=float(units), proportion_defective=p, ppm=1e6 * p,
-        first_pass_yield=1.0 - p, defects=None, dpu=None, opportunities_per_unit=None,
-        dpmo=None, yield_=1.0 - p, yield_model="observed share of good units",
-        sigma_level=level, sigma_basis="units", shift_applied=shift, notes=tuple(notes),
+        kind="defectives",
+        units=float(units),
+        proportion_defective=p,
+        ppm=1e6 * p,
+        first_pass_yield=1.0 - p,
+        defects=None,
+        dpu=None,
+        opportunities_per_unit=None,
+        dpmo=None,
+        yield_=1.0 - p,
+        yield_model="observed share of good units",
+        sigma_level=level,
+        sigma_basis="units",
+        shift_applied=shift,
+        notes=tuple(notes),
     )
 
 
 def defect_figures(
-    defects: float, units: float, opportunities_per_unit: float | None = None,
+    defects: float,
+    units: float,
+    opportunities_per_unit: float | None = None,
     shift: bool = True,
 ) -> BusinessFigures:
     """DPU, DPMO, the Poisson yield exp(−DPU) and the sigma level from D defects on u units.
@@ -120,9 +134,7 @@ def defect_figures(
         if not (math.isfinite(m) and m > 0):
             raise StatsError(f"the opportunities per unit must be positive, got {m:g}")
         if dpu > m:
-            raise StatsError(
-                f"more defects per unit ({dpu:g}) than opportunities per unit ({m:g})"
-            )
+            raise StatsError(f"more defects per unit ({dpu:g}) than opportunities per unit ({m:g})")
         dpmo = 1e6 * dpu / m
         level = sigma_level_from_bad(dpu / m, shift)
         basis = "opportunities"
@@ -131,13 +143,23 @@ def defect_figures(
         basis = "units"
     _infinite_note(level, notes)
     return BusinessFigures(
-        kind="defects", units=float(units), proportion_defective=None, ppm=None,
-        first_pass_yield=None, defects=float(defects), dpu=dpu,
-        opportunities_per_unit=None if opportunities_per_unit is None
+        kind="defects",
+        units=float(units),
+        proportion_defective=None,
+        ppm=None,
+        first_pass_yield=None,
+        defects=float(defects),
+        dpu=dpu,
+        opportunities_per_unit=None
+        if opportunities_per_unit is None
         else float(opportunities_per_unit),
-        dpmo=dpmo, yield_=math.exp(-dpu),
+        dpmo=dpmo,
+        yield_=math.exp(-dpu),
         yield_model="Poisson: probability of a unit with no defect, exp(−DPU)",
-        sigma_level=level, sigma_basis=basis, shift_applied=shift, notes=tuple(notes),
+        sigma_level=level,
+        sigma_basis=basis,
+        shift_applied=shift,
+        notes=tuple(notes),
     )
 
 
@@ -173,9 +195,19 @@ def measured_figures(
     if not study.trustworthy:
         notes.append("The capability study is not to be trusted: " + " ".join(study.reasons))
     return BusinessFigures(
-        kind="measured", units=float(study.n), proportion_defective=bad, ppm=ppm,
-        first_pass_yield=None, defects=None, dpu=None, opportunities_per_unit=None, dpmo=None,
+        kind="measured",
+        units=float(study.n),
+        proportion_defective=bad,
+        ppm=ppm,
+        first_pass_yield=None,
+        defects=None,
+        dpu=None,
+        opportunities_per_unit=None,
+        dpmo=None,
         yield_=1.0 - bad,
         yield_model=f"normal model with the {sigma} sigma: expected share within the limits",
-        sigma_level=level, sigma_basis="units", shift_applied=shift, notes=tuple(notes),
+        sigma_level=level,
+        sigma_basis="units",
+        shift_applied=shift,
+        notes=tuple(notes),
     )

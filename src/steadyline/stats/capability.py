@@ -126,8 +126,10 @@ def capability(
     if sw is not None and not math.isfinite(sw):
         raise StatsError("the within-subgroup sigma must be a finite number")
     if sw is None:
-        reasons.append(no_sigma_reason
-                       or "No within-subgroup sigma was given, so Cp and Cpk are not calculated.")
+        reasons.append(
+            no_sigma_reason
+            or "No within-subgroup sigma was given, so Cp and Cpk are not calculated."
+        )
     elif sw <= 0:
         reasons.append(
             "The within-subgroup sigma is zero, so Cp and Cpk cannot be calculated "

@@ -76,7 +76,8 @@ def capability_change(before: Capability, after: Capability) -> CapabilityChange
         if not c.trustworthy:
             notes.append(
                 f"The {name} period's Cpk is not to be trusted ("
-                + " ".join(c.reasons).rstrip(".") + "), and neither is its interval."
+                + " ".join(c.reasons).rstrip(".")
+                + "), and neither is its interval."
             )
     if overlap and p < 0.05:
         notes.append(

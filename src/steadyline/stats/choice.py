@@ -271,7 +271,9 @@ def _apply_override(
         )
     return ChartChoice(
         kind=override,
-        reason=(f"{CHART_NAMES[override]} chosen in project.toml (chart = \"{override}\"; "
-                f"the data suggest the {CHART_NAMES[kind]})"),
+        reason=(
+            f'{CHART_NAMES[override]} chosen in project.toml (chart = "{override}"; '
+            f"the data suggest the {CHART_NAMES[kind]})"
+        ),
         overridden=True,
     )

@@ -281,7 +281,8 @@ def _sentence(
             # the relative change beside it
             pp = _signed_pct(100 * (va - vb))
             pct_txt = f" ({pp} percentage points" + (
-                f", {_signed_pct(pct)}% relative)" if pct is not None else ")")
+                f", {_signed_pct(pct)}% relative)" if pct is not None else ")"
+            )
         head = f"{subject} {verb} from {fb} to {fa}{pct_txt}"
     if p is None:
         tail = f"no test was possible because the data do not vary ({test})."

@@ -75,7 +75,12 @@ def _d3_by_integral(n: int) -> float:
     """d3(n) from E[R^2] by the double integral over x < y (scipy.integrate.dblquad)."""
 
     def integrand(y: float, x: float) -> float:
-        return 1.0 - _special.ndtr(y) ** n - _special.ndtr(-x) ** n + (_special.ndtr(y) - _special.ndtr(x)) ** n
+        return (
+            1.0
+            - _special.ndtr(y) ** n
+            - _special.ndtr(-x) ** n
+            + (_special.ndtr(y) - _special.ndtr(x)) ** n
+        )
 
     half, _ = integrate.dblquad(
         integrand, -_WINDOW, _WINDOW, lambda x: x, _WINDOW, epsabs=1e-10, epsrel=1e-10
@@ -86,7 +91,10 @@ def _d3_by_integral(n: int) -> float:
 
 def _c4_by_gammaln(n: int) -> float:
     """c4(n) = sqrt(2/(n-1)) Gamma(n/2) / Gamma((n-1)/2) through scipy.special.gammaln."""
-    return float(math.sqrt(2.0 / (n - 1)) * math.exp(_special.gammaln(n / 2.0) - _special.gammaln((n - 1) / 2.0)))
+    return float(
+        math.sqrt(2.0 / (n - 1))
+        * math.exp(_special.gammaln(n / 2.0) - _special.gammaln((n - 1) / 2.0))
+    )
 
 
 @cache

@@ -446,7 +446,8 @@ def _subgroups(subgroups: Sequence[Sequence[float]]) -> tuple[np.ndarray, np.nda
     if isinstance(subgroups, np.ndarray) and subgroups.ndim == 2:
         groups = [np.asarray(r, dtype=float) for r in subgroups]
     elif isinstance(subgroups, list) and all(
-            type(g) is np.ndarray and g.dtype == np.float64 and g.ndim == 1 for g in subgroups):
+        type(g) is np.ndarray and g.dtype == np.float64 and g.ndim == 1 for g in subgroups
+    ):
         groups = subgroups  # already float arrays (as the loader makes them)
     else:
         try:
@@ -461,8 +462,9 @@ def _subgroups(subgroups: Sequence[Sequence[float]]) -> tuple[np.ndarray, np.nda
             raise StatsError(f"subgroup {bad[0]} is not a flat list of numbers")
     sizes = np.fromiter(map(len, groups), dtype=int, count=len(groups))
     if not sizes.all():
-        raise StatsError("every subgroup needs at least one value; subgroup "
-                         f"{int(np.argmin(sizes))} is empty")
+        raise StatsError(
+            f"every subgroup needs at least one value; subgroup {int(np.argmin(sizes))} is empty"
+        )
     flat = np.concatenate(groups)
     finite = np.isfinite(flat)  # one pass over all values
     if not finite.all():
@@ -499,13 +501,15 @@ def _subgroup_chart(
     starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]) if m else np.zeros(0, dtype=int)
     means = np.add.reduceat(flat, starts) / n if m else np.zeros(0)
     if spread == "range":
-        disp = (np.maximum.reduceat(flat, starts) - np.minimum.reduceat(flat, starts)
-                if m else np.zeros(0))
+        disp = (
+            np.maximum.reduceat(flat, starts) - np.minimum.reduceat(flat, starts)
+            if m
+            else np.zeros(0)
+        )
     else:
         dev = flat - np.repeat(means, sizes)
         with np.errstate(divide="ignore", invalid="ignore"):
-            disp = (np.sqrt(np.add.reduceat(dev * dev, starts) / (n - 1)) if m
-                    else np.zeros(0))
+            disp = np.sqrt(np.add.reduceat(dev * dev, starts) / (n - 1)) if m else np.zeros(0)
     disp = np.where(multi, disp, np.nan)
     notes: list[str] = []
     if (~multi).any():
@@ -860,8 +864,9 @@ def p_chart(
     >>> round(float(ch.centre[0]), 3), round(float(ch.upper[0]), 4)
     (0.05, 0.1154)
     """
-    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=False,
-                       set_aside=set_aside)
+    return _rate_chart(
+        "p", counts, sizes, stage, limits, sigma_multiple, laney=False, set_aside=set_aside
+    )
 
 
 def laney_p(
@@ -882,8 +887,17 @@ def laney_p(
     Fewer than 3 usable points: the classic p chart with a note. With ``segment``, no moving
     range spans a gap (see the module docstring).
     """
-    return _rate_chart("p", counts, sizes, stage, limits, sigma_multiple, laney=True,
-                       segment=segment, set_aside=set_aside)
+    return _rate_chart(
+        "p",
+        counts,
+        sizes,
+        stage,
+        limits,
+        sigma_multiple,
+        laney=True,
+        segment=segment,
+        set_aside=set_aside,
+    )
 
 
 def u_chart(
@@ -900,8 +914,9 @@ def u_chart(
     The limits step with the area of opportunity a_i; LCL truncated at 0. Areas of 0 are dropped
     (nan) with a note.
     """
-    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=False,
-                       set_aside=set_aside)
+    return _rate_chart(
+        "u", counts, areas, stage, limits, sigma_multiple, laney=False, set_aside=set_aside
+    )
 
 
 def laney_u(
@@ -915,8 +930,17 @@ def laney_u(
     set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ControlChart:
     """Laney u′ chart: u chart limits widened by sigma_z (see :func:`laney_p`)."""
-    return _rate_chart("u", counts, areas, stage, limits, sigma_multiple, laney=True,
-                       segment=segment, set_aside=set_aside)
+    return _rate_chart(
+        "u",
+        counts,
+        areas,
+        stage,
+        limits,
+        sigma_multiple,
+        laney=True,
+        segment=segment,
+        set_aside=set_aside,
+    )
 
 
 @dataclass(frozen=True)

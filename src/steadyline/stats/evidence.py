@@ -65,14 +65,20 @@ def _companion_stage_and_fit(chart: ControlChart) -> tuple[np.ndarray, np.ndarra
     sec = chart.secondary
     offset = len(chart.values) - len(sec.values)
     stage = sec.stage if len(sec.stage) == len(sec.values) else np.asarray(chart.stage)[offset:]
-    fitted = (sec.fitted if len(sec.fitted) == len(sec.values)
-              else np.asarray(chart.fitted)[offset:])
+    fitted = sec.fitted if len(sec.fitted) == len(sec.values) else np.asarray(chart.fitted)[offset:]
     return np.asarray(stage, dtype=int), np.asarray(fitted, dtype=bool), offset
 
 
-def _one_chart(chart: ControlChart, stage, fitted, signals: Sequence[Signal],
-               own_signals: Sequence[Signal], better: str, target: float | None,
-               dispersion: bool) -> PointEvidence:
+def _one_chart(
+    chart: ControlChart,
+    stage,
+    fitted,
+    signals: Sequence[Signal],
+    own_signals: Sequence[Signal],
+    better: str,
+    target: float | None,
+    dispersion: bool,
+) -> PointEvidence:
     n = len(chart.values)
     carried = carried_mask(stage, fitted)
     unstable = np.zeros(n, dtype=bool)
@@ -134,15 +140,22 @@ def point_evidence(
     """
     main_signals = [s for s in signals if s.chart != "secondary"]
     main_own = [s for s in own_signals if s.chart != "secondary"]
-    main = _one_chart(chart, chart.stage, chart.fitted, main_signals, main_own, better, target,
-                      dispersion=False)
+    main = _one_chart(
+        chart, chart.stage, chart.fitted, main_signals, main_own, better, target, dispersion=False
+    )
     if chart.secondary is None:
         return main, None
     stage, fitted, _ = _companion_stage_and_fit(chart)
-    sec = _one_chart(chart.secondary, stage, fitted,
-                     [s for s in signals if s.chart == "secondary"],
-                     [s for s in own_signals if s.chart == "secondary"], better, target,
-                     dispersion=True)
+    sec = _one_chart(
+        chart.secondary,
+        stage,
+        fitted,
+        [s for s in signals if s.chart == "secondary"],
+        [s for s in own_signals if s.chart == "secondary"],
+        better,
+        target,
+        dispersion=True,
+    )
     return main, sec
 
 

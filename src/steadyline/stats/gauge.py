@@ -93,9 +93,7 @@ def _cube(values, parts, appraisers) -> tuple[np.ndarray, tuple, tuple]:
     part_names = tuple(dict.fromkeys(parts))
     appr_names = tuple(dict.fromkeys(appraisers))
     if len(part_names) < 2:
-        raise StatsError(
-            f"a measurement study needs at least two parts, got {len(part_names)}"
-        )
+        raise StatsError(f"a measurement study needs at least two parts, got {len(part_names)}")
     if len(appr_names) < 2:
         raise StatsError(
             f"a measurement study needs at least two appraisers, got {len(appr_names)} "
@@ -282,8 +280,9 @@ def gauge_study(
         components=components,
         distinct_categories=ndc,
         verdict=verdict_for(ms_share.study_percent),
-        tolerance_verdict=(None if ms_share.tolerance_percent is None
-                           else verdict_for(ms_share.tolerance_percent)),
+        tolerance_verdict=(
+            None if ms_share.tolerance_percent is None else verdict_for(ms_share.tolerance_percent)
+        ),
         lsl=None if lsl is None else float(lsl),
         usl=None if usl is None else float(usl),
         notes=tuple(notes),
@@ -316,7 +315,15 @@ def appraiser_ranges(
         centre = float(col.mean())
         upper, lower = d4_factor(r) * centre, d3_factor(r) * centre
         beyond = tuple(int(i) for i in np.flatnonzero(col > upper * (1 + 1e-12)))
-        out.append(AppraiserRanges(str(name), tuple(str(p) for p in part_names),
-                                   tuple(float(x) for x in col), centre, float(upper),
-                                   float(lower), beyond))
+        out.append(
+            AppraiserRanges(
+                str(name),
+                tuple(str(p) for p in part_names),
+                tuple(float(x) for x in col),
+                centre,
+                float(upper),
+                float(lower),
+                beyond,
+            )
+        )
     return tuple(out)

@@ -71,8 +71,10 @@ def expected_rule_met(expected: np.ndarray) -> bool:
 def _counts(name: str, values: Sequence[float], k: int) -> np.ndarray:
     a = np.asarray(values, dtype=float)
     if a.ndim != 1 or len(a) != k:
-        raise StatsError(f"a change in mix needs one {name} count per category ({k}), "
-                         f"got {len(a) if a.ndim == 1 else a.shape}")
+        raise StatsError(
+            f"a change in mix needs one {name} count per category ({k}), "
+            f"got {len(a) if a.ndim == 1 else a.shape}"
+        )
     if not np.isfinite(a).all() or (a < 0).any() or (a != np.round(a)).any():
         raise StatsError(f"the {name} counts must be whole numbers, zero or more")
     return a.astype(np.int64)

@@ -88,7 +88,7 @@ def ppf(p: float) -> float:
 def pdf(x, loc: float = 0.0, scale: float = 1.0) -> np.ndarray:
     """Density of N(loc, scale^2) at x (array or scalar); scale must be positive."""
     z = np.asarray((np.asarray(x, dtype=float) - loc) / scale, dtype=float)
-    return np.exp(-z**2 / 2.0) / _SQRT_2PI / scale
+    return np.exp(-(z**2) / 2.0) / _SQRT_2PI / scale
 
 
 _ERFC = np.frompyfunc(math.erfc, 1, 1)

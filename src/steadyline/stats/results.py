@@ -233,7 +233,9 @@ class Comparison:
     percent_change: float | None
     better: str  # "lower", "higher", "target"
     improved: bool | None  # None when the direction is "target" and cannot be judged
-    test: str  # e.g. "Welch's t-test", "Mann–Whitney U", "two-proportion z-test", "Poisson rate test"
+    test: (
+        str  # e.g. "Welch's t-test", "Mann–Whitney U", "two-proportion z-test", "Poisson rate test"
+    )
     statistic: float | None
     p_value: float | None
     sentence: str

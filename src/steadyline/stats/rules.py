@@ -315,8 +315,11 @@ def _chart_signals(
             rule = _RULES[key]
             desc = rule.description
             for idx, side in _find(rule, v[seg], z[seg], lo[seg], hi[seg]):
-                at = tuple(map(shift.__add__, idx)) if shift is not None else tuple(
-                    map(pos.item, idx))
+                at = (
+                    tuple(map(shift.__add__, idx))
+                    if shift is not None
+                    else tuple(map(pos.item, idx))
+                )
                 signals.append(Signal(key, desc, at, side, which))
     order = {k: i for i, k in enumerate(keys)}
     signals.sort(key=lambda g: (g.indices[0], order[g.rule], g.side or ""))

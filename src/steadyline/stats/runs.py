@@ -58,11 +58,12 @@ RULE_SETS = ("anhoj", "perla")
 RULE_SET_LABELS = {
     "anhoj": "Anhøj rules (longest run and number of crossings; Anhøj & Olesen 2014)",
     "perla": "Perla, Provost & Murray rules (shift, trend and number of runs; Perla, Provost & "
-             "Murray 2011)",
+    "Murray 2011)",
 }
 # the same rule sets by their name alone ("... by the Anhøj rules"); each label above starts
 # with this name, the one the pages use (a test holds them to the site's vocabulary)
 RULE_SET_SHORT = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
+
 
 def _count(n: int, word: str) -> str:
     """'1 point', '3 points': a count with its noun in the right number."""
@@ -239,7 +240,7 @@ class _SideRuns:
         out = []
         for j in np.flatnonzero(self.lengths >= k).tolist():
             a = int(self.starts[j])
-            out.append((int(self.sides[a]), self.idx[a:a + int(self.lengths[j])].tolist()))
+            out.append((int(self.sides[a]), self.idx[a : a + int(self.lengths[j])].tolist()))
         return out
 
 
@@ -258,8 +259,9 @@ def _trends(x: np.ndarray, min_points: int) -> list[tuple[str, list[int]]]:
     found: list[tuple[str, list[int]]] = []
     finite = np.isfinite(x)
     edges = np.diff(np.concatenate([[0], finite.astype(np.int8), [0]]))
-    for a, b in zip(np.flatnonzero(edges == 1).tolist(), np.flatnonzero(edges == -1).tolist(),
-                    strict=True):
+    for a, b in zip(
+        np.flatnonzero(edges == 1).tolist(), np.flatnonzero(edges == -1).tolist(), strict=True
+    ):
         seg = x[a:b]
         if seg.size < 2:
             continue
@@ -305,8 +307,9 @@ def analyse_runs(
     if set_aside is not None:
         aside = np.asarray(set_aside, dtype=bool)
         if aside.shape != x.shape:
-            raise StatsError(f"set_aside must give one true/false per point ({n}), "
-                             f"got {aside.size}")
+            raise StatsError(
+                f"set_aside must give one true/false per point ({n}), got {aside.size}"
+            )
         n_aside = int((aside & finite).sum())
         finite = finite & ~aside
     n_finite = int(finite.sum())
@@ -324,8 +327,10 @@ def analyse_runs(
         k = n - n_finite - n_aside
         notes.append(f"{_count(k, 'missing value')} {_are(k)} left out of the analysis.")
     if n_aside:
-        notes.append(f"{_count(n_aside, 'point')} set aside {_are(n_aside)} left out of the "
-                     "runs and crossings.")
+        notes.append(
+            f"{_count(n_aside, 'point')} set aside {_are(n_aside)} left out of the "
+            "runs and crossings."
+        )
 
     useful_mask = finite & (x != centre)
     useful_idx = np.flatnonzero(useful_mask)
