@@ -115,7 +115,7 @@ def settle() -> None:
 
 def forget_digests(root: Path) -> None:
     """Drop the input-digest memo of the projects folder, so that a build is a first build."""
-    from steadyline.site.common import digest_memo_for
+    from steadyline.pipeline.inputs import digest_memo_for
 
     digest_memo_for(root).path.unlink(missing_ok=True)
 
@@ -232,7 +232,7 @@ def _mib(kib: int) -> str:
 
 def _build_code(root: Path, site: Path) -> str:
     return (
-        f"from steadyline.site.build import build, BuildOptions\nfrom pathlib import Path\n"
+        f"from steadyline.pipeline.build import build, BuildOptions\nfrom pathlib import Path\n"
         f"build(BuildOptions(Path({str(root)!r}), Path({str(site)!r}), jobs=1))"
     )
 

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from steadyline.site.build import BuildOptions, build
+from steadyline.pipeline.build import BuildOptions, build
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
 

@@ -17,7 +17,7 @@ from pathlib import Path
 import pytest
 
 from steadyline.cli import main
-from steadyline.site.build import MANIFEST, BuildOptions, build
+from steadyline.pipeline.build import MANIFEST, BuildOptions, build
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -400,8 +400,8 @@ def test_the_demo_with_several_projects_broken_publishes_the_healthy_ones(tmp_pa
 def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_path: Path):
     # reference: git itself, asked per project (provenance's own lookup) for the same files
     from steadyline.config import load_portfolio, load_project
-    from steadyline.site.build import BUILD_POOL_MIN
-    from steadyline.site.project import provenance
+    from steadyline.pipeline.build import BUILD_POOL_MIN
+    from steadyline.pipeline.project import provenance
 
     root = tmp_path / "projects"
     root.mkdir()
@@ -437,7 +437,7 @@ def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_buil
 ):
     # Enough projects for a pool, nothing published: the pool starts before the inputs are
     # hashed. Its site must be the one a build in this process writes.
-    import steadyline.site.build as build_module
+    import steadyline.pipeline.build as build_module
 
     projects = tmp_path / "projects"
     copy_projects(projects)

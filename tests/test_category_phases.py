@@ -137,7 +137,7 @@ def test_no_sentence_denies_the_after_data_beside_its_chart(demo_site, case):
 
 
 def test_without_a_baseline_period_the_cards_say_all_data(tmp_path):
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     rows = ["day,reason"] + [f"2026-01-{1 + i % 28:02d},{'ab'[i % 3 == 0]}" for i in range(30)]
     projects = write(

@@ -36,7 +36,7 @@ CASES = _corpus_cases()
 
 @pytest.fixture
 def no_flush(monkeypatch):
-    from steadyline.site import publish
+    from steadyline.pipeline import publish
 
     monkeypatch.setattr(publish, "_fsync_files", lambda paths: None)
     monkeypatch.setattr(publish, "syncfs", lambda folder: True)

@@ -25,9 +25,9 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError
-from steadyline.site import publish as publish_mod
-from steadyline.site.build import BuildOptions, build
-from steadyline.site.publish import clean_stale, lock_output, lock_path, process_start
+from steadyline.pipeline.build import BuildOptions, build
+from steadyline.pipeline.publish import clean_stale, lock_output, lock_path, process_start
+from steadyline.pipeline import publish as publish_mod
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -85,7 +85,7 @@ def _holder_script(out: Path, kind: str) -> list[str]:
     """A process that takes the lock of *out*, says so, and holds it until killed."""
     code = (
         "import sys, time\nfrom pathlib import Path\n"
-        "from steadyline.site.publish import lock_output\n"
+        "from steadyline.pipeline.publish import lock_output\n"
         "lock = lock_output(Path(sys.argv[1]), sys.argv[2])\n"
         "print('held', flush=True)\ntime.sleep(60)\n"
     )
@@ -484,7 +484,7 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
 
 def test_a_worker_whose_build_is_already_gone_ends_at_once():
     code = (
-        "import os\nfrom steadyline.site.build import _die_with_parent\n"
+        "import os\nfrom steadyline.pipeline.build import _die_with_parent\n"
         "_die_with_parent(os.getppid() + 1)\nprint('still here')\n"
     )
     done = subprocess.run(
@@ -494,7 +494,7 @@ def test_a_worker_whose_build_is_already_gone_ends_at_once():
 
 
 def test_the_lock_is_held_from_reading_the_manifest_to_the_swap(tmp_path: Path, monkeypatch):
-    import steadyline.site.build as build_mod
+    import steadyline.pipeline.build as build_mod
 
     projects = copy_projects(tmp_path / "projects")
     out = tmp_path / "site"

@@ -826,7 +826,7 @@ def test_every_line_has_the_documented_shape(tmp_path, capsys):
 
 
 def test_check_reports_what_a_build_reports(tmp_path, capsys):
-    from steadyline.site.build import BuildOptions, build, check
+    from steadyline.pipeline.build import BuildOptions, build, check
 
     for case in CASES:
         if case.code == 0:

@@ -325,7 +325,7 @@ def test_the_partial_read_reads_only_what_the_project_may(tmp_path):
 def test_a_bug_met_in_one_metric_costs_that_metric_alone(tmp_path, capsys, monkeypatch):
     """An exception of ours while analysing one metric is reported as an internal error of
     that metric (by `check` and `build` alike), and the project's other metrics publish."""
-    from steadyline.site import project
+    from steadyline.pipeline import project
 
     real = project.analyse
 

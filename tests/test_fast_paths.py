@@ -194,7 +194,7 @@ def test_remembered_digests_are_reused_only_for_settled_unchanged_files(tmp_path
     import hashlib
     import os
 
-    from steadyline.site.common import DigestMemo, input_hash
+    from steadyline.pipeline.inputs import DigestMemo, input_hash
 
     folder = tmp_path / "p"
     folder.mkdir()

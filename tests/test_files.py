@@ -9,7 +9,7 @@ from corpus.special import device, permissions_bind
 from test_corpus_files import time_limit
 
 from steadyline import files
-from steadyline.site.common import input_hash
+from steadyline.pipeline.inputs import input_hash
 
 
 def _fifo(path):
@@ -104,6 +104,7 @@ def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_p
     put there in between is a problem of the project, not an internal error."""
     from corpus.kit import portfolio, write
 
+    import steadyline.pipeline.project as pipeline
     import steadyline.site.project as project
     from steadyline.config import PortfolioSettings
 
@@ -117,7 +118,7 @@ def test_notes_that_turn_unreadable_after_loading_break_only_their_project(tmp_p
 
     monkeypatch.setattr(project, "render_notes", swapped)
     with time_limit(10):
-        outcome = project.build_project(root / "p", root, PortfolioSettings())
+        outcome = pipeline.build_project(root / "p", root, PortfolioSettings())
     assert not outcome.ok
     assert [p.format() for p in outcome.problems] == [
         "p/notes.md: this is a named pipe (FIFO), not a regular file"

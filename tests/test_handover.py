@@ -123,7 +123,7 @@ def test_without_the_portfolio_key_no_pack_is_drawn_or_linked(tmp_path):
     gets no pack and no link to one, and its pages are the same otherwise."""
     import shutil
 
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     root = tmp_path / "projects"
     shutil.copytree(REPO / "projects" / "order-picking-errors", root / "order-picking-errors")

@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError
-from steadyline.site.build import BuildOptions, build
+from steadyline.pipeline.build import BuildOptions, build
 from steadyline.status import STALE_AFTER_DAYS, Status
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
@@ -202,7 +202,7 @@ def _project(
 ) -> dict:
     """results.json of a one-metric project: the *base* values as its baseline, then *after*."""
     from steadyline.config import PortfolioSettings
-    from steadyline.site.project import build_project
+    from steadyline.pipeline.project import build_project
 
     values = base + after
     d0 = dt.date(2026, 1, 5)

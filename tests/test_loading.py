@@ -15,12 +15,12 @@ import pandas as pd
 import pytest
 from corpus.kit import VALUES, dates, good_csv, meta, portfolio, tree_hashes, write
 
-import steadyline.site.build as build_mod
+import steadyline.pipeline.build as build_mod
 from steadyline.cli import main
 from steadyline.config import Period, load_project
 from steadyline.errors import BuildError, ProjectError
 from steadyline.loading import assign_stage, load_metric, period_label, period_start
-from steadyline.site.build import BuildOptions, build, check
+from steadyline.pipeline.build import BuildOptions, build, check
 
 WRITE_FLAGS = os.O_WRONLY | os.O_RDWR | os.O_APPEND | os.O_CREAT | os.O_TRUNC
 

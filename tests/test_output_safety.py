@@ -33,10 +33,10 @@ import pytest
 
 from steadyline.cli import main
 from steadyline.errors import BuildError
-from steadyline.site import build as build_module
-from steadyline.site import publish
-from steadyline.site.build import MANIFEST, BuildOptions, build
-from steadyline.site.output_rule import MARKER, check_output, fault_line, is_site
+from steadyline.pipeline.build import MANIFEST, BuildOptions, build
+from steadyline.pipeline.output_rule import MARKER, check_output, fault_line, is_site
+from steadyline.pipeline import build as build_module
+from steadyline.pipeline import publish
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -492,7 +492,7 @@ def test_a_fault_during_watch_is_named_and_watching_goes_on(published, monkeypat
     before = snapshot(out)
     monkeypatch.setattr(publish, "open", _fail_writes(errno.ENOSPC), raising=False)
     batch = {str(projects / SLUG / "project.toml")}
-    from steadyline.site.publish import lock_output
+    from steadyline.pipeline.publish import lock_output
 
     lock = lock_output(out, "watch")  # a watch session holds its output's lock
     try:
@@ -686,7 +686,7 @@ def test_the_readme_refusal_examples_are_what_the_command_prints(tmp_path, monke
 def test_the_readme_fault_table_and_example_are_what_the_command_prints(
     tmp_path, monkeypatch, capsys
 ):
-    from steadyline.site.output_rule import _FAULTS
+    from steadyline.pipeline.output_rule import _FAULTS
 
     readme = _readme()
     rows = {}

@@ -326,7 +326,7 @@ def test_a_metric_without_after_data_on_a_history_page(tmp_path):
     # one, still gets its chart by phase there, with no change marks and no sentence on them
     from corpus.kit import DEFAULT_METRIC, VALUES, dates, good_csv, meta, raw, write
 
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     lower = [v - 12 for v in VALUES[16:]]
     changed = (

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from steadyline.cli import main
-from steadyline.site.build import MANIFEST, shard_of
+from steadyline.pipeline.build import MANIFEST, shard_of
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
 

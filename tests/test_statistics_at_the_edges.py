@@ -10,7 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from steadyline.site.build import BuildOptions, build
+from steadyline.pipeline.build import BuildOptions, build
 from steadyline.stats.distribution import AD_P_FLOOR, AD_P_MAX_ADJUSTED
 
 SKEWED_TOML = """title = "Skewed lead time"

@@ -27,7 +27,7 @@ from scipy import stats as st
 from statsmodels.stats.power import TTestIndPower
 from statsmodels.stats.proportion import power_proportions_2indep
 
-from steadyline.site.build import BuildOptions, build
+from steadyline.pipeline.build import BuildOptions, build
 
 DEMO = Path(__file__).resolve().parents[1] / "projects"
 

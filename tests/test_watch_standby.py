@@ -10,8 +10,8 @@ from pathlib import Path
 
 import pytest
 
-from steadyline.site.build import BuildOptions, Standby, build
-from steadyline.site.publish import lock_output
+from steadyline.pipeline.build import BuildOptions, Standby, build
+from steadyline.pipeline.publish import lock_output
 from steadyline.watch import warm_up
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"

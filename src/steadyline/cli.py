@@ -52,13 +52,13 @@ def _show_progress(args) -> bool:
 
 def cmd_build(args) -> int:
     from .config import PORTFOLIO_FILE, discover
-    from .site.build import BuildOptions, build
+    from .pipeline.build import BuildOptions, build
 
     projects = Path(args.projects_dir)
     out = Path(args.out)
     folders = discover(projects) if projects.is_dir() else []
     if args.shard is not None:
-        from .site.build import shard_of
+        from .pipeline.build import shard_of
 
         folders = [f for f in folders if shard_of(f.name, args.shard[1]) == args.shard[0]]
     total = len(folders)
@@ -90,7 +90,7 @@ def cmd_build(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .site.build import check
+    from .pipeline.build import check
 
     problems = check(Path(args.projects_dir), debug=args.debug)
     _print_problems(problems, sys.stdout)
@@ -108,7 +108,7 @@ def cmd_check(args) -> int:
 
 
 def cmd_merge(args) -> int:
-    from .site.merge import merge
+    from .pipeline.merge import merge
 
     out = Path(args.out)
     report = merge([Path(d) for d in args.shard_dirs], out)

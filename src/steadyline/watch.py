@@ -26,11 +26,11 @@ A save must reach the page quickly, so the session keeps what a rebuild needs re
 - only the projects the watcher saw change are hashed again (``trust_unnamed``); the first
   build of the session hashes them all;
 - the next rebuild's staging folder is prepared while the session waits
-  (``site.build.Standby``: the published files hard-linked, as a rebuild would link them), so
+  (``pipeline.build.Standby``: the published files hard-linked, as a rebuild would link them), so
   that a rebuild writes only its project, the index and the manifest before the swap.
 The site is the one a `build` makes, byte for byte (the live pages apart, which poll).
 
-A watch session holds the output's lock (``site.publish.lock_output``) from its first build
+A watch session holds the output's lock (``pipeline.publish.lock_output``) from its first build
 until it stops, not just while each rebuild runs: it republishes the output whenever a file
 changes, so a `build` or a second `watch` of the same output would only have its site replaced
 by the next save. They refuse at once with a line naming the watching process. A watch started
@@ -51,7 +51,8 @@ from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
 
 from .errors import BuildError, Problem, SteadylineError
-from .site.common import CSP, is_ignored
+from .files import is_ignored
+from .site.common import CSP
 
 QUIET_S = 0.1
 CAP_S = 3.0
@@ -280,9 +281,9 @@ def watch(
     from watchdog.events import FileSystemEventHandler
     from watchdog.observers import Observer
 
-    from .site.build import BuildOptions, Standby, build
-    from .site.output_rule import check_output, named_faults
-    from .site.publish import lock_output
+    from .pipeline.build import BuildOptions, Standby, build
+    from .pipeline.output_rule import check_output, named_faults
+    from .pipeline.publish import lock_output
 
     root = Path(os.path.abspath(projects_dir))
     out = Path(os.path.abspath(out))
@@ -398,8 +399,8 @@ def warm_up(root: Path) -> None:
     then ready for the first save. Nothing is written. Any failure only leaves it cold."""
     try:
         from .config import discover, load_portfolio
-        from .site.build import _tune_gc
-        from .site.project import build_project
+        from .pipeline.build import _tune_gc
+        from .pipeline.project import build_project
 
         def size(folder: Path) -> int:
             return sum(p.stat().st_size for p in folder.glob("*") if p.is_file())

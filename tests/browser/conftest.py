@@ -63,7 +63,7 @@ class _QuietServer(http.server.ThreadingHTTPServer):
 @pytest.fixture(scope="session")
 def built_site(tmp_path_factory) -> Path:
     """The demo portfolio built once, in-process, serially (no process pool inside pytest)."""
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     out = tmp_path_factory.mktemp("browser-site") / "site"
     report = build(BuildOptions(PROJECTS, out, force=True, jobs=1))

@@ -128,7 +128,7 @@ def _ranked(counts: Counter) -> list[str]:
 
 @pytest.fixture(scope="module")
 def category_site(tmp_path_factory):
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     root = tmp_path_factory.mktemp("categories")
     builtin_rows, base, after = _builtin_rows()

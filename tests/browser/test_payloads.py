@@ -68,7 +68,7 @@ class _Quiet(http.server.SimpleHTTPRequestHandler):
 
 @pytest.fixture(scope="module")
 def hostile_url(tmp_path_factory):
-    from steadyline.site.build import BuildOptions, build
+    from steadyline.pipeline.build import BuildOptions, build
 
     root = tmp_path_factory.mktemp("payloads")
     projects = write(root / "projects", hostile_portfolio())

@@ -46,7 +46,7 @@ counts = np.random.default_rng(1).poisson(np.where(weeks < np.datetime64("2026-0
     'better = "lower"\nrun_rules = "perla"\n', "utf-8")
 
 from steadyline.config import load_portfolio
-from steadyline.site.project import build_project
+from steadyline.pipeline.project import build_project
 
 settings, _ = load_portfolio(root)
 report = {"projects": []}

@@ -1,16 +1,12 @@
-"""Build one project: load, analyse, compose charts and pages, all in memory.
-
-:func:`build_project` gathers and computes everything for a project before any byte is written,
-and returns the files as a name -> bytes mapping plus the entry the index page needs. A project
-whose metadata has errors, or none of whose metrics can be read, returns an error page instead;
-a metric whose data have errors costs only that metric (its problems are shown in its place, the
-other metrics are published). The rest of the site is unaffected either way.
+"""A project's pages, all in memory: from its analysed metrics to the project page, the history
+page, results.json, the hand-over pack and the index entry (:func:`project_outcome`), or the
+notice page of a project that is not built (:func:`error_outcome`). A metric whose data have
+errors (:class:`NotBuilt`) keeps its place and shows its problems. Nothing here reads data
+files: :mod:`steadyline.pipeline.project` loads and analyses, then calls these.
 """
 
 from __future__ import annotations
 
-import sys
-import traceback
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -21,8 +17,6 @@ from ..analysis import (
     AFTER_OWN_LIMITS_MIN,
     MetricAnalysis,
     StudyAnalysis,
-    analyse,
-    analyse_study,
     points_note,
     values_brief,
     values_note,
@@ -43,12 +37,10 @@ from ..config import (
     MetricSpec,
     PortfolioSettings,
     ProjectSpec,
-    load_project,
-    read_heading,
 )
 from ..errors import Problem, ProjectError, rel
 from ..files import Unreadable
-from ..loading import STAGE_AFTER, STAGE_BASELINE, load_metric, load_study
+from ..loading import STAGE_AFTER, STAGE_BASELINE
 from ..stats.compare import format_p_value
 from ..status import HeadlineFacts, judge
 from ..vocab import (
@@ -69,7 +61,7 @@ from .cards import (
     series_context,
     signals_json,
 )
-from .common import ProjectOutcome, git_dates, input_hash, page_context
+from .common import ProjectOutcome, page_context
 from .drawn import (
     box_json,
     by_period_brief,
@@ -84,7 +76,7 @@ from .notes import render_notes
 from .pack import PACK_FILE, pack_html
 from .serialise import dumps_bytes, plain, rounded_number
 from .studies import business_fact, business_json, measured_line, plan_fact, plan_json
-from .study_view import gauge_summary, is_study, study_section
+from .study_view import gauge_summary, study_section
 from .templates import render
 
 RESULTS_SCHEMA = "steadyline-results/2"
@@ -94,37 +86,6 @@ BETTER_TEXT = {
     "target": "values close to the target",
 }
 PHASE_LABEL = {p: p.capitalize() for p in PHASES}
-
-
-def build_project(
-    folder: Path,
-    root: Path,
-    settings: PortfolioSettings,
-    live: str | None = None,
-    debug: bool = False,
-    dates: dict[Path, str] | None = None,
-) -> ProjectOutcome:
-    """Everything for one project, in memory. Never raises for bad input. *dates*: the last
-    commit dates of the project's files when the build looked them up for the whole
-    portfolio at once (else they are looked up for this project)."""
-    slug = folder.name
-    spec = None
-    try:
-        spec, warnings = load_project(folder, root, settings)
-        return _build_ok(spec, warnings, root, settings, live, dates, debug)
-    except ProjectError as e:
-        return error_outcome(slug, e.problems, settings, live, _heading(spec, folder, root))
-    except Exception:  # a bug of ours: still publish the rest of the site
-        problem = _internal_error(folder, root, debug)
-        return error_outcome(slug, [problem], settings, live, _heading(spec, folder, root))
-
-
-def _heading(spec: ProjectSpec | None, folder: Path, root: Path) -> dict[str, str]:
-    """The title and phase of a project that is not built: from its metadata when they were
-    read, else whatever of them a partial read of project.toml finds."""
-    if spec is not None:
-        return {"title": spec.title, "phase": spec.phase}
-    return read_heading(folder, root)
 
 
 def error_outcome(
@@ -577,262 +538,6 @@ def spec_text(m) -> str:
 # ----------------------------------------------------------------------------- provenance
 
 
-def provenance(spec: ProjectSpec, root: Path, dates: dict[Path, str] | None = None) -> list[dict]:
-    """When and how each input last changed. *dates*: the last commit dates of the portfolio's
-    files, when the build looked them up once for every project (see common.git_dates)."""
-    # ordered by the name shown, whether the projects folder was given relative or absolute
-    files = sorted(
-        {spec.meta_path}
-        | {m.file for m in spec.metrics}
-        | ({spec.notes_path} if spec.notes_path else set()),
-        key=lambda f: rel(f, root),
-    )
-    if dates is None or (spec.folder / ".git").exists():  # a repository of its own
-        dates = git_dates(spec.folder)
-    out = []
-    for f in files:
-        key = f.resolve()
-        if key in dates:
-            out.append({"file": rel(f, root), "changed": dates[key], "how": "last commit"})
-        else:
-            import datetime as dt
-
-            ts = dt.datetime.fromtimestamp(f.stat().st_mtime, dt.UTC)
-            out.append(
-                {
-                    "file": rel(f, root),
-                    "changed": ts.strftime("%Y-%m-%d %H:%M UTC"),
-                    "how": "file modification time",
-                }
-            )
-    return out
-
-
-# ----------------------------------------------------------------------------- the project
-
-
-def _internal_error(folder: Path, root: Path, debug: bool) -> Problem:
-    return Problem(rel(folder, root), None, "", _internal_message("project", debug))
-
-
-def _internal_message(what: str, debug: bool) -> str:
-    """The exception being handled, in words (with its traceback when *debug*)."""
-    e = sys.exc_info()[1]
-    detail = traceback.format_exc() if debug else f"{type(e).__name__}: {e}"
-    return (
-        f"internal error while building this {what} ({detail.strip()}); please report it "
-        "(run with --debug for the traceback)"
-    )
-
-
-def check_project(
-    folder: Path, root: Path, settings: PortfolioSettings, debug: bool = False
-) -> list[Problem]:
-    """The problems :func:`build_project` reports for this project, found by reading and
-    analysing its data without drawing or writing anything. Never raises for bad input."""
-    try:
-        spec, warnings = load_project(folder, root, settings)
-        loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
-        built = [a for a in loaded if not isinstance(a, NotBuilt)]
-        return problems + _not_built_problems(loaded) + _stats_notes(built)
-    except ProjectError as e:
-        return list(e.problems)
-    except Exception:  # a bug of ours: reported like any problem
-        return [_internal_error(folder, root, debug)]
-
-
-def _load_and_analyse(
-    spec: ProjectSpec, warnings: list[Problem], settings: PortfolioSettings, debug: bool = False
-) -> tuple[list[MetricAnalysis | StudyAnalysis | NotBuilt], list[Problem]]:
-    """Every metric read and analysed on its own, in the metadata's order: its analysis, or
-    :class:`NotBuilt` with its problems when its data have errors; and the warnings of the
-    metadata and of the metrics analysed. ProjectError with every problem when no metric can
-    be read (then there is nothing to publish but the problems). A bug of ours met while
-    reading or analysing a metric costs that metric alone, reported as an internal error."""
-    problems: list[Problem] = list(warnings)
-    loaded: list[MetricAnalysis | StudyAnalysis | NotBuilt] = []
-    for m in spec.metrics:
-        try:
-            if is_study(m):  # a measurement study: parts × appraisers × trials, no time axis
-                data = load_study(m, settings)
-                analysis = analyse_study(data)
-            else:
-                data = load_metric(m, settings)
-                analysis = analyse(data)
-        except ProjectError as e:  # costs this metric only
-            loaded.append(NotBuilt(m, tuple(e.problems)))
-            continue
-        except Exception:  # a bug of ours: this metric only, said as such
-            loaded.append(
-                NotBuilt(
-                    m,
-                    (
-                        Problem(
-                            m.file_rel, None, f"metric '{m.id}'", _internal_message("metric", debug)
-                        ),
-                    ),
-                )
-            )
-            continue
-        problems.extend(data.problems)
-        loaded.append(analysis)
-    if all(isinstance(x, NotBuilt) for x in loaded):
-        raise ProjectError(_not_built_problems(loaded) + problems)
-    return loaded, problems
-
-
-def _not_built_problems(loaded: list[MetricAnalysis | NotBuilt]) -> list[Problem]:
-    return [p for x in loaded if isinstance(x, NotBuilt) for p in x.problems]
-
-
-def _stats_notes(analyses: list[MetricAnalysis | StudyAnalysis]) -> list[Problem]:
-    """Displays the statistics could not draw: warnings for `check` and the terminal too."""
-    return [
-        Problem(a.spec.file_rel, None, f"metric '{a.spec.id}', {disp}", msg, "warning")
-        for a in analyses
-        for disp, msg in dict.fromkeys(a.failures)
-    ]
-
-
-def _build_ok(
-    spec: ProjectSpec,
-    warnings: list[Problem],
-    root: Path,
-    settings: PortfolioSettings,
-    live: str | None,
-    dates: dict[Path, str] | None = None,
-    debug: bool = False,
-) -> ProjectOutcome:
-    files: dict[str, bytes] = {}
-    loaded, problems = _load_and_analyse(spec, warnings, settings, debug)
-    analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
-    studies = {a.spec.id: a for a in loaded if isinstance(a, StudyAnalysis)}
-    not_built = [b for b in loaded if isinstance(b, NotBuilt)]
-    sections, results = [], []
-    has_history = any(a.has_after or a.phase_paretos for a in analyses)
-    history_sections, history_results = [], []
-    # Each metric's history section is made right after its project section: the history
-    # page's charts share work with the project page's (see charts.series), and only one
-    # metric's worth of it is held at a time. A metric that could not be built keeps its
-    # place on the project page and in results.json, and is left out of the history page.
-    for a in loaded:
-        if isinstance(a, NotBuilt):
-            section, result = not_built_section(a)
-            sections.append(section)
-            results.append(result)
-            continue
-        mp = [p for p in problems if p.path == a.spec.file_rel]
-        if isinstance(a, StudyAnalysis):
-            checked = [m for m in spec.metrics if m.measurement_study == a.spec.id]
-            section, result = study_section(a, spec, files, mp, checked)
-            sections.append(section)
-            results.append(result)
-            memo.forget()
-            continue
-        sctx = series_context(a, spec) if a.data.kind != "categories" else None
-        section, result = metric_section(a, spec, files, mp, sctx)
-        if a.spec.measurement_study is not None:
-            sid = a.spec.measurement_study
-            section["gauge"], result["measurement_study"] = gauge_summary(
-                a.spec,
-                studies.get(sid),
-                any(b.spec.id == sid for b in not_built),
-                next(x.name for x in spec.metrics if x.id == sid),
-            )
-        sections.append(section)
-        results.append(result)
-        if has_history:
-            section, result = history_section(spec, a, files, sctx)
-            history_sections.append(section)
-            history_results.append(result)
-        memo.forget()
-    try:
-        notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
-    except Unreadable as e:  # changed since the project was loaded
-        raise ProjectError([Problem(rel(spec.notes_path, root), None, "", str(e))]) from None
-    prov = provenance(spec, root, dates)
-    ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
-    project_ctx = project_view(spec)
-    fresh = data_to(analyses)  # a sponsor spots a stale project
-    project_ctx["data_to"] = fresh
-    project_ctx["not_built"] = [b.spec.name for b in not_built]  # named on the history page
-    page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
-    html = render(
-        "project.html",
-        project=project_ctx,
-        metrics=sections,
-        notes_html=notes_html,
-        provenance=prov,
-        warnings=page_warnings,
-        has_history=has_history,
-        has_pack=settings.handover_pack,
-        **ctx,
-    )
-    files["index.html"] = html.encode()
-    history = None
-    if has_history:
-        files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
-        history = history_results
-    if settings.handover_pack:  # asked for in portfolio.toml (it costs more than the pages)
-        files[PACK_FILE] = pack_html(
-            spec,
-            project_ctx,
-            sections,
-            history_sections,
-            files,
-            notes_html,
-            prov,
-            page_warnings,
-            ctx,
-        )
-    head = next(a for a in loaded if a.spec.id == spec.headline.id)
-    verdict = judge(headline_facts(head))
-    doc = {
-        "schema": RESULTS_SCHEMA,
-        "tool_version": __version__,
-        "project": {
-            "slug": spec.slug,
-            "title": spec.title,
-            "owner": spec.owner,
-            "phase": spec.phase,
-            "problem": spec.problem,
-            "tags": list(spec.tags),
-            "safety_related": spec.safety_related,
-            "phase_dates": dict(spec.phase_dates),
-            "events": [{"date": e.date, "label": e.label} for e in spec.events],
-            "data_to": fresh or None,
-        },
-        "status": verdict.as_json() | {"metric": spec.headline.id},
-        "metrics": results,
-        "history": history,
-        "input_notes": [p.format() for p in problems],
-        "provenance": prov,
-    }
-    files["results.json"] = dumps_bytes(doc)
-    entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
-    entry["status"] = verdict.as_json() | {
-        "metric": spec.headline.id,
-        "staged_chart": isinstance(head, MetricAnalysis)
-        and head.control is not None
-        and has_history,
-    }
-    entry["figures"] = headline_figures(head)
-    if not_built:  # the key only when there are any: a healthy project's entry is unchanged
-        entry["metrics_not_built"] = [
-            {"id": b.spec.id, "name": b.spec.name, "problem_count": b.errors} for b in not_built
-        ]
-        entry["problem_count"] = sum(b.errors for b in not_built)
-    return ProjectOutcome(
-        spec.slug,
-        not not_built,
-        files,
-        entry,
-        problems
-        + _not_built_problems(loaded)
-        + _stats_notes([a for a in loaded if not isinstance(a, NotBuilt)]),
-    )
-
-
 def project_view(spec: ProjectSpec) -> dict:
     return {
         "slug": spec.slug,
@@ -1078,11 +783,138 @@ def sparkline(a: MetricAnalysis) -> tuple[str, str]:
     return pts, split
 
 
-__all__ = [
-    "NotBuilt",
-    "ProjectOutcome",
-    "build_project",
-    "error_outcome",
-    "input_hash",
-    "STAGE_BASELINE",
-]
+def project_outcome(
+    spec: ProjectSpec,
+    loaded: list[MetricAnalysis | StudyAnalysis | NotBuilt],
+    problems: list[Problem],
+    warnings: list[Problem],
+    prov: list[dict],
+    root: Path,
+    settings: PortfolioSettings,
+    live: str | None,
+    said: list[Problem],
+) -> ProjectOutcome:
+    """The pages, results.json and index entry of a project whose metrics are *loaded* (each
+    analysed, or :class:`NotBuilt`): *problems* the input notes of the metadata and data,
+    *warnings* the metadata's own, *prov* when each input changed, *said* what the terminal
+    is told. Everything in memory; nothing is read but the project's notes file."""
+    # One function from the first section to the last: it is the order of the page itself,
+    # and each part needs what the one before it made.
+    files: dict[str, bytes] = {}
+    analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
+    studies = {a.spec.id: a for a in loaded if isinstance(a, StudyAnalysis)}
+    not_built = [b for b in loaded if isinstance(b, NotBuilt)]
+    sections, results = [], []
+    has_history = any(a.has_after or a.phase_paretos for a in analyses)
+    history_sections, history_results = [], []
+    # Each metric's history section is made right after its project section: the history
+    # page's charts share work with the project page's (see charts.series), and only one
+    # metric's worth of it is held at a time. A metric that could not be built keeps its
+    # place on the project page and in results.json, and is left out of the history page.
+    for a in loaded:
+        if isinstance(a, NotBuilt):
+            section, result = not_built_section(a)
+            sections.append(section)
+            results.append(result)
+            continue
+        mp = [p for p in problems if p.path == a.spec.file_rel]
+        if isinstance(a, StudyAnalysis):
+            checked = [m for m in spec.metrics if m.measurement_study == a.spec.id]
+            section, result = study_section(a, spec, files, mp, checked)
+            sections.append(section)
+            results.append(result)
+            memo.forget()
+            continue
+        sctx = series_context(a, spec) if a.data.kind != "categories" else None
+        section, result = metric_section(a, spec, files, mp, sctx)
+        if a.spec.measurement_study is not None:
+            sid = a.spec.measurement_study
+            section["gauge"], result["measurement_study"] = gauge_summary(
+                a.spec,
+                studies.get(sid),
+                any(b.spec.id == sid for b in not_built),
+                next(x.name for x in spec.metrics if x.id == sid),
+            )
+        sections.append(section)
+        results.append(result)
+        if has_history:
+            section, result = history_section(spec, a, files, sctx)
+            history_sections.append(section)
+            history_results.append(result)
+        memo.forget()
+    try:
+        notes_html = render_notes(spec.notes_path) if spec.notes_path else ""
+    except Unreadable as e:  # changed since the project was loaded
+        raise ProjectError([Problem(rel(spec.notes_path, root), None, "", str(e))]) from None
+    ctx = page_context("../../", settings, live and f"../../{live} {spec.slug}")
+    project_ctx = project_view(spec)
+    fresh = data_to(analyses)  # a sponsor spots a stale project
+    project_ctx["data_to"] = fresh
+    project_ctx["not_built"] = [b.spec.name for b in not_built]  # named on the history page
+    page_warnings = [{"severity": p.severity, "text": p.format()} for p in warnings]
+    html = render(
+        "project.html",
+        project=project_ctx,
+        metrics=sections,
+        notes_html=notes_html,
+        provenance=prov,
+        warnings=page_warnings,
+        has_history=has_history,
+        has_pack=settings.handover_pack,
+        **ctx,
+    )
+    files["index.html"] = html.encode()
+    history = None
+    if has_history:
+        files["history.html"] = history_page(spec, history_sections, ctx, project_ctx).encode()
+        history = history_results
+    if settings.handover_pack:  # asked for in portfolio.toml (it costs more than the pages)
+        files[PACK_FILE] = pack_html(
+            spec,
+            project_ctx,
+            sections,
+            history_sections,
+            files,
+            notes_html,
+            prov,
+            page_warnings,
+            ctx,
+        )
+    head = next(a for a in loaded if a.spec.id == spec.headline.id)
+    verdict = judge(headline_facts(head))
+    doc = {
+        "schema": RESULTS_SCHEMA,
+        "tool_version": __version__,
+        "project": {
+            "slug": spec.slug,
+            "title": spec.title,
+            "owner": spec.owner,
+            "phase": spec.phase,
+            "problem": spec.problem,
+            "tags": list(spec.tags),
+            "safety_related": spec.safety_related,
+            "phase_dates": dict(spec.phase_dates),
+            "events": [{"date": e.date, "label": e.label} for e in spec.events],
+            "data_to": fresh or None,
+        },
+        "status": verdict.as_json() | {"metric": spec.headline.id},
+        "metrics": results,
+        "history": history,
+        "input_notes": [p.format() for p in problems],
+        "provenance": prov,
+    }
+    files["results.json"] = dumps_bytes(doc)
+    entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
+    entry["status"] = verdict.as_json() | {
+        "metric": spec.headline.id,
+        "staged_chart": isinstance(head, MetricAnalysis)
+        and head.control is not None
+        and has_history,
+    }
+    entry["figures"] = headline_figures(head)
+    if not_built:  # the key only when there are any: a healthy project's entry is unchanged
+        entry["metrics_not_built"] = [
+            {"id": b.spec.id, "name": b.spec.name, "problem_count": b.errors} for b in not_built
+        ]
+        entry["problem_count"] = sum(b.errors for b in not_built)
+    return ProjectOutcome(spec.slug, not not_built, files, entry, said)

@@ -44,10 +44,13 @@ from pathlib import Path
 from .. import __version__
 from ..config import PortfolioSettings, discover, load_portfolio, stray_entries
 from ..errors import BuildError, Problem
+from ..site.assets import asset_files, assets_key
+from ..site.common import ProjectOutcome
+from ..site.index import index_files
+from ..site.serialise import dumps_bytes
+from ..site.templates import templates_fingerprint
 from ..status import build_date
-from .assets import asset_files, assets_key
-from .common import ProjectOutcome, digest_memo_for, git_dates, input_hash
-from .index import index_files
+from .inputs import digest_memo_for, git_dates, input_hash
 from .output_rule import MARKER, check_output, named_faults
 from .publish import (
     OutputLock,
@@ -59,8 +62,6 @@ from .publish import (
     syncfs,
     write_files,
 )
-from .serialise import dumps_bytes
-from .templates import templates_fingerprint
 
 MANIFEST = MARKER  # the manifest is also the mark of a site steadyline published
 LIVE_STATE = "live-state.json"

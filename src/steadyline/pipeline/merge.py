@@ -26,11 +26,11 @@ import orjson
 from .. import __version__
 from ..config import PortfolioSettings
 from ..errors import BuildError, Problem
-from .assets import asset_files, assets_key
+from ..site.assets import asset_files, assets_key
+from ..site.serialise import dumps_bytes
 from .build import MANIFEST, BuildReport, _settings_key, index_page, portfolio_digest
 from .output_rule import check_output, is_site, named_faults
 from .publish import clean_stale, link_tree, lock_output, publish, staging_dir, write_files
-from .serialise import dumps_bytes
 
 
 @dataclass
