@@ -2,7 +2,9 @@
 
 Each project gets `metrics` metrics cycling through the data types a real portfolio has: a
 continuous measurement rolled up by day, subgroups of 5, defectives per day (raw 0/1 flags rolled
-up into a daily proportion) and categories. Rows are spread over one year.
+up into a daily proportion) and categories; each project starts the cycle one type further on,
+so that three metrics a project still give every type, categories included, to a quarter of
+the metrics. Rows are spread over one year.
 """
 
 from __future__ import annotations
@@ -36,7 +38,7 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
         "",
     ]
     for m in range(metrics):
-        kind = KINDS[m % len(KINDS)]
+        kind = KINDS[(m + index) % len(KINDS)]
         name = f"m{m}.csv"
         shift = np.where(times >= pd.Timestamp("2026-06-01"), -0.8, 0.0)
         if kind == "continuous":
@@ -93,11 +95,13 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
     (folder / "project.toml").write_text("\n".join(toml) + "\n", "utf-8")
 
 
-def write_wide_rows(folder: Path, rows: int, columns: int = 5, seed: int = 11) -> Path:
-    """One project with one metric (a daily mean of "v" over time "t") in a file of *rows*
-    rows and *columns* columns, the others ones no metric uses (a line number, a shift name,
-    temperatures), as exports from a machine's log look. Written a million rows at a time;
-    returns the CSV's path."""
+def write_wide_rows(
+    folder: Path, rows: int, columns: int = 5, seed: int = 11, rollup: bool = True
+) -> Path:
+    """One project with one metric (a daily mean of "v" over time "t", or every value of "v"
+    when not *rollup*) in a file of *rows* rows and *columns* columns, the others ones no
+    metric uses (a line number, a shift name, temperatures), as exports from a machine's log
+    look. Written a million rows at a time; returns the CSV's path."""
     rng = np.random.default_rng(seed)
     folder.mkdir(parents=True, exist_ok=True)
     csv = folder / "log.csv"
@@ -143,10 +147,11 @@ def write_wide_rows(folder: Path, rows: int, columns: int = 5, seed: int = 11) -
                 'value = "v"',
                 'better = "lower"',
                 'unit = "s"',
-                "",
-                "[metric.rollup]",
-                'period = "day"',
-                'statistic = "mean"',
+                *(
+                    ["", "[metric.rollup]", 'period = "day"', 'statistic = "mean"']
+                    if rollup
+                    else []
+                ),
             ]
         )
         + "\n",
@@ -165,8 +170,12 @@ def write_many_columns(folder: Path, columns: int) -> Path:
     return csv
 
 
-def generate(root: Path, projects: int, metrics: int, rows: int) -> Path:
+def generate(
+    root: Path, projects: int, metrics: int, rows: int, handover_pack: bool = False
+) -> Path:
     root.mkdir(parents=True, exist_ok=True)
+    if handover_pack:
+        (root / "portfolio.toml").write_text("handover_pack = true\n", "utf-8")
     for i in range(projects):
         write_project(root / f"p{i:04d}", i, metrics, rows)
     return root
