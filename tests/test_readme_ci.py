@@ -81,3 +81,15 @@ def test_readme_shows_the_ci_test_command_verbatim():
         steps = [s.strip() for s in chained[0][: -len(" && " + command)].split(" && ")]
         missing = [s for s in steps if s not in before]
         assert not missing, f".ci/run does not run these README steps before the command: {missing}"
+
+
+def test_ci_runs_the_code_checks_before_the_tests():
+    """Lint, layout and types are held at zero by CI: .ci/run runs scripts/check (the one check
+    command DEVELOPERS.md names, and the pre-commit hook's) before the README's test command."""
+    _, before, _ = ci_command()
+    assert "bash scripts/check" in before
+    check = (CI_RUN.parent.parent / "scripts" / "check").read_text(encoding="utf-8")
+    steps = [line.split()[:2] for line in check.splitlines() if line and line[0] not in "#s"]
+    assert ["ruff", "check"] in steps and ["ruff", "format"] in steps and ["mypy"] in steps
+    hook = (CI_RUN.parent.parent / ".pre-commit-config.yaml").read_text(encoding="utf-8")
+    assert "entry: bash scripts/check" in hook
