@@ -22,7 +22,8 @@ from markupsafe import escape
 
 from steadyline.analysis import analyse
 from steadyline.config import load_portfolio, load_project
-from steadyline.loading import DRAWN_POINTS_MAX, choose_period, load_metric
+from steadyline.loading.drawing import DRAWN_POINTS_MAX, choose_period
+from steadyline.loading.metric import load_metric
 from steadyline.site.project import RESULTS_SCHEMA, build_project
 from steadyline.stats.constants import c4
 

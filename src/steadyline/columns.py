@@ -96,9 +96,9 @@ _BLANK_LINE = re.compile(rb"\n[ \t\r]*\n|^[ \t\r]*\n")
 
 
 def _plain_bytes(raw) -> bool:
-    """The byte form of ``loading._awkward`` being False (no quote marks, no blank lines, no lone
-    carriage returns), for an ASCII-compatible text. tests/test_fast_paths.py holds the two
-    equal."""
+    """The byte form of ``loading.plain._awkward`` being False (no quote marks, no blank
+    lines, no lone carriage returns), for an ASCII-compatible text. tests/test_fast_paths.py
+    holds the two equal."""
     if b'"' in raw:
         return False
     if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):
@@ -252,8 +252,8 @@ def _chunks(arr: pa.Array | pa.ChunkedArray) -> list[pa.Array]:
 
 def plain_decimals(arr: pa.Array | pa.ChunkedArray) -> np.ndarray | None:
     """The cells as floats when every one is a plain decimal number (only digits, points, signs
-    and exponent letters, nothing to strip, none blank), else None: ``loading._plain_decimals``
-    on the column's bytes. pyarrow's conversion rounds correctly, as Python's float() does, so
+    and exponent letters, nothing to strip, none blank), else None:
+    ``loading.numbers._plain_decimals`` on the column's bytes. pyarrow's conversion rounds correctly, as Python's float() does, so
     the two give the same floats (tests/test_fast_paths.py holds them equal)."""
     if not len(arr):
         return None
@@ -274,7 +274,7 @@ def plain_iso(
 ) -> np.ndarray | None:
     """The cells as datetime64[s] when every one is written in the same fixed-width ISO 8601
     form (*digits* and *marks*: per width, the places of digits and of separators), else None:
-    ``loading._plain_iso`` on the column's bytes, read in place."""
+    ``loading.times._plain_iso`` on the column's bytes, read in place."""
     parts = [_plain_iso_chunk(c, digits, marks) for c in _chunks(arr) if len(c)]
     if not parts or any(p is None for p in parts) or len({w for w, _ in parts}) != 1:
         return None  # one form for the whole column, as the text reader asks
