@@ -4,6 +4,8 @@ up, and the segments a gap of whole periods starts (so that lines are not joined
 
 from __future__ import annotations
 
+from typing import Literal
+
 import numpy as np
 import pandas as pd
 
@@ -43,7 +45,7 @@ def _period_labels(start: np.ndarray, period: str) -> np.ndarray:
     return period_label(pd.Series(start), period).to_numpy(dtype=object)
 
 
-def _iso_array(t: np.ndarray, unit: str) -> np.ndarray:
+def _iso_array(t: np.ndarray, unit: Literal["D", "M", "m"]) -> np.ndarray:
     """ISO 8601 text of naive times to the given numpy unit ("D" 2026-01-05, "M" 2026-01,
     "m" 2026-01-05 06:30), written by numpy in one pass (pandas' strftime goes value by
     value), as an object array of str."""
