@@ -28,7 +28,7 @@ from corpus.kit import VALUES, dates, good_csv, meta, portfolio, write
 
 from steadyline.cli import main
 from steadyline.config import load_portfolio, load_project
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 
 
 @dataclass

@@ -4,7 +4,7 @@ and what a build of good input writes (results.json, the page, the chart).
 The cases run like those of tests/test_corpus.py (``steadyline check`` in-process, the printed
 lines matched, the exit code, no traceback); tests/test_check_build_parity.py runs them through
 ``build`` too. Decisions recorded here (the reasons beside the checks in src/steadyline/config.py
-and src/steadyline/loading.py, the rules in the README's project.toml section):
+and src/steadyline/loading/stages.py, the rules in the README's project.toml section):
 - an entry needs both ``dates`` ([day] or [first, last]) and a non-empty ``reason``;
 - only days inside the metric's baseline period can be set aside, never all of it, and no day
   twice (a duplicate entry overlaps its twin);
@@ -26,7 +26,7 @@ from test_corpus import test_case as run_case
 
 from steadyline.cli import main
 from steadyline.config import load_portfolio, load_project
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 from steadyline.stats import control
 
 

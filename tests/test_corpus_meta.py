@@ -5,7 +5,7 @@ lines matched, the exit code, no traceback), but every expected line here is wri
 `path:line: key: message`, so that the line number and the wording are pinned too.
 
 Decisions recorded here (the reasons are beside the checks in src/steadyline/config.py and
-src/steadyline/loading.py, the rules in the README's project.toml section):
+src/steadyline/loading/, the rules in the README's project.toml section):
 - a project with no metric is an error, at the line that says so when there is one;
 - a baseline and an after period that share a day, an open-ended baseline with any after
   period that does not end before it, and an after period wholly before the baseline are
@@ -32,7 +32,7 @@ from test_corpus import test_case as run_case
 
 from steadyline.cli import main
 from steadyline.config import load_portfolio, load_project
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 
 
 def exact(line: str) -> str:

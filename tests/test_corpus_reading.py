@@ -24,7 +24,7 @@ from test_corpus import Case
 from test_corpus import test_case as run_case
 
 from steadyline.config import load_portfolio, load_project
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 
 
 def exact(line: str) -> str:

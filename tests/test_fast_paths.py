@@ -127,11 +127,11 @@ def test_dumps_matches_plain_json_for_long_float_lists():
 
 
 def test_awkward_text_check_matches_the_regular_expression():
-    # the substring checks in loading._awkward must agree with the full regular expression
+    # the substring checks in loading.plain._awkward must agree with the full regular expression
     import random
     import re
 
-    from steadyline.loading import _awkward
+    from steadyline.loading.plain import _awkward
 
     awkward = re.compile(r'"|\n[ \t\r]*\n|^[ \t\r]*\n|\r(?!\n)')  # the full expression
 
@@ -145,7 +145,7 @@ def test_awkward_text_check_matches_the_regular_expression():
 
 def test_plain_reader_strips_cells_like_the_careful_reader():
     # non-breaking and other Unicode spaces around a value are stripped on the fast path too
-    from steadyline.loading import _read_plain
+    from steadyline.loading.plain import _read_plain
 
     df = _read_plain("t,v\n2026-01-01,\u00a01.5\u2003\n2026-01-02,\x0b2\n", ",")
     assert df is not None
@@ -264,7 +264,8 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
     # for the missing days
     import pandas as pd
 
-    from steadyline.loading import _rollup_sorted, _segments_for_periods
+    from steadyline.loading.grouping import _rollup_sorted
+    from steadyline.loading.periods import _segments_for_periods
 
     rng = np.random.default_rng(8)
     for _ in range(200):
@@ -309,7 +310,7 @@ def test_rollup_by_sorted_runs_matches_pandas_groupby():
 
 def test_plain_decimal_columns_read_by_numpy_match_pandas_and_the_careful_parse():
     # reference: pandas.to_numeric and Python's float() through the one-cell parser _to_float
-    from steadyline.loading import _plain_decimals, _to_float
+    from steadyline.loading.numbers import _plain_decimals, _to_float
 
     rng = np.random.default_rng(5)
     cells = []
@@ -356,7 +357,7 @@ def test_plain_iso_times_read_by_numpy_match_pandas():
     # reference: pandas.to_datetime(format="ISO8601"), the parse the other paths use
     import pandas as pd
 
-    from steadyline.loading import _plain_iso
+    from steadyline.loading.times import _plain_iso
 
     rng = np.random.default_rng(9)
     base = np.datetime64("2019-01-01T00:00:00")
@@ -535,10 +536,10 @@ def test_plain_reader_splitting_matches_pandas_reader(split_max, monkeypatch):
 
     import pandas as pd
 
-    from steadyline import loading
-    from steadyline.loading import _read_plain
+    from steadyline.loading import plain
+    from steadyline.loading.plain import _read_plain
 
-    monkeypatch.setattr(loading, "_SPLIT_MAX_CHARS", split_max)
+    monkeypatch.setattr(plain, "_SPLIT_MAX_CHARS", split_max)
 
     texts = [
         ("t,v\n2026-01-01,1.5\n2026-01-02,2\n", ","),
@@ -598,11 +599,11 @@ def test_signal_texts_of_points_in_many_kinds_of_signal():
 
 
 def test_plain_bytes_check_matches_the_text_check():
-    # reference: loading._awkward on the same text (itself held to the full expression above)
+    # reference: loading.plain._awkward on the same text (itself held to the full expression above)
     import random
 
     from steadyline.columns import _plain_bytes
-    from steadyline.loading import _awkward
+    from steadyline.loading.plain import _awkward
 
     rng = random.Random(8)
     alphabet = ["a", "1", ",", " ", "\t", "\r", "\n", '"', "\r\n", "\n\n", " \n", "\n \r\n"]
@@ -619,10 +620,10 @@ def _arrow_text(cells):
 
 
 def test_decimals_read_from_bytes_equal_python_float():
-    # reference: Python's float() (correctly rounded), through loading._plain_decimals, cell by
-    # cell: the bulk read gives the same float or declines (None), never another value
+    # reference: Python's float() (correctly rounded), through loading.numbers._plain_decimals,
+    # cell by cell: the bulk read gives the same float or declines (None), never another value
     from steadyline.columns import plain_decimals
-    from steadyline.loading import _plain_decimals
+    from steadyline.loading.numbers import _plain_decimals
 
     rng = np.random.default_rng(4)
     odd = [
@@ -691,9 +692,9 @@ def test_decimals_read_from_bytes_equal_python_float():
 
 
 def test_iso_times_read_from_bytes_equal_the_numpy_read():
-    # reference: loading._plain_iso (numpy's reading of the same cells as text)
+    # reference: loading.times._plain_iso (numpy's reading of the same cells as text)
     from steadyline.columns import plain_iso
-    from steadyline.loading import _ISO_DIGITS, _ISO_MARKS, _plain_iso
+    from steadyline.loading.times import _ISO_DIGITS, _ISO_MARKS, _plain_iso
 
     columns = [
         ["2026-01-05", "2026-12-31"],
@@ -735,11 +736,11 @@ def test_iso_times_read_from_bytes_equal_the_numpy_read():
 
 
 def test_needed_columns_reader_gives_the_plain_readers_cells():
-    # reference: loading._read_plain (itself held to pandas' reader above) on the same text
+    # reference: loading.plain._read_plain (itself held to pandas' reader above) on the same text
     import io
 
     from steadyline.columns import cells, read_needed
-    from steadyline.loading import _read_plain
+    from steadyline.loading.plain import _read_plain
 
     texts = [
         ("t,v\n2026-01-01,1.5\n2026-01-02,2\n", ","),
@@ -778,13 +779,13 @@ def test_needed_columns_reader_gives_the_plain_readers_cells():
 
 @pytest.mark.parametrize("piece", [4 << 20, 1, 2, 5, 7])
 def test_plain_file_check_in_pieces_matches_the_whole_text_check(piece, monkeypatch):
-    # reference: loading._awkward on the whole text: read in pieces of any size, the file is
+    # reference: loading.plain._awkward on the whole text: read in pieces of any size, the file is
     # plain exactly when the whole text is
     import io
     import random
 
     from steadyline import columns
-    from steadyline.loading import _awkward
+    from steadyline.loading.plain import _awkward
 
     monkeypatch.setattr(columns, "_PIECE", piece)
     rng = random.Random(piece)

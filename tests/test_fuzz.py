@@ -22,7 +22,7 @@ from steadyline import stats
 from steadyline.analysis import analyse
 from steadyline.config import PortfolioSettings, load_portfolio, load_project
 from steadyline.errors import Problem, ProjectError
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 from steadyline.stats.results import StatsError
 
 FAST = settings(

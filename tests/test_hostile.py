@@ -20,7 +20,7 @@ import pytest
 from corpus.kit import FORMULAS, HOSTILE_NOTES, PAYLOADS, hostile_portfolio, write
 
 from steadyline.cli import main
-from steadyline.loading import clean_label
+from steadyline.loading.cells import clean_label
 from steadyline.site.cards import safe_cell
 from steadyline.site.notes import render_markdown
 

@@ -19,7 +19,9 @@ import steadyline.pipeline.build as build_mod
 from steadyline.cli import main
 from steadyline.config import Period, load_project
 from steadyline.errors import BuildError, ProjectError
-from steadyline.loading import assign_stage, load_metric, period_label, period_start
+from steadyline.loading.metric import load_metric
+from steadyline.loading.periods import period_label, period_start
+from steadyline.loading.stages import assign_stage
 from steadyline.pipeline.build import BuildOptions, build, check
 
 WRITE_FLAGS = os.O_WRONLY | os.O_RDWR | os.O_APPEND | os.O_CREAT | os.O_TRUNC

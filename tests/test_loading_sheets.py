@@ -21,7 +21,7 @@ from corpus.kit import VALUES, dates, good_csv, meta, write
 
 from steadyline.config import load_portfolio, load_project
 from steadyline.errors import Problem
-from steadyline.loading import load_metric
+from steadyline.loading.metric import load_metric
 
 ROOT = Path(__file__).resolve().parent.parent
 

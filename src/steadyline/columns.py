@@ -96,9 +96,9 @@ _BLANK_LINE = re.compile(rb"\n[ \t\r]*\n|^[ \t\r]*\n")
 
 
 def _plain_bytes(raw) -> bool:
-    """The byte form of ``loading._awkward`` being False (no quote marks, no blank lines, no lone
-    carriage returns), for an ASCII-compatible text. tests/test_fast_paths.py holds the two
-    equal."""
+    """The byte form of ``loading.plain._awkward`` being False (no quote marks, no blank
+    lines, no lone carriage returns), for an ASCII-compatible text. tests/test_fast_paths.py
+    holds the two equal."""
     if b'"' in raw:
         return False
     if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):
@@ -178,19 +178,8 @@ def read_needed(
         return None
     try:
         before = _stat(fh)
-        head = fh.readline(_PIECE)
-        if codec == "utf-8-sig":
-            if not head.startswith(codecs.BOM_UTF8):
-                return None
-            head = head[3:]
-        if not head.endswith(b"\n"):
-            return None  # no data row, or a header longer than a piece: the careful reader
-        try:
-            first = head.rstrip(b"\n").rstrip(b"\r").decode("utf-8")
-        except UnicodeDecodeError:
-            return None
-        header = [h.strip() for h in first.split(delim)]
-        if "" in header or len(set(header)) != len(header):
+        header = _plain_header(fh, codec, delim)
+        if header is None:
             return None
         fh.seek(0)
         if not _plain_file(fh, codec):
@@ -201,26 +190,7 @@ def read_needed(
             if needed is None
             else [header.index(c) for c in dict.fromkeys(needed) if c in header]
         )
-        names = [str(i) for i in range(len(header))]
-        table = pacsv.read_csv(
-            pa.PythonFile(fh, mode="r"),
-            read_options=pacsv.ReadOptions(skip_rows=1, column_names=names),
-            parse_options=pacsv.ParseOptions(
-                delimiter=delim,
-                quote_char=False,
-                escape_char=False,
-                newlines_in_values=False,
-                ignore_empty_lines=False,
-            ),
-            convert_options=pacsv.ConvertOptions(
-                include_columns=[names[j] for j in wanted],
-                column_types={names[j]: pa.string() for j in wanted},
-                null_values=[],
-                strings_can_be_null=False,
-                quoted_strings_can_be_null=False,
-                check_utf8=False,
-            ),
-        )  # checked above, for the whole file
+        table = _arrow_read(fh, delim, len(header), wanted)
         after = _stat(fh)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError):
         return None
@@ -228,7 +198,52 @@ def read_needed(
         return None  # changed while it was read: read again, whole, by the careful reader
     if table.num_rows == 0:
         return None
-    return header, {header[j]: table.column(names[j]) for j in wanted}, table.num_rows
+    return header, {header[j]: table.column(str(j)) for j in wanted}, table.num_rows
+
+
+def _plain_header(fh, codec: str, delim: str) -> list[str] | None:
+    """The header's names, when its line is UTF-8 text of distinct non-blank names followed by
+    a line end (within one piece), else None."""
+    head = fh.readline(_PIECE)
+    if codec == "utf-8-sig":
+        if not head.startswith(codecs.BOM_UTF8):
+            return None
+        head = head[3:]
+    if not head.endswith(b"\n"):
+        return None  # no data row, or a header longer than a piece: the careful reader
+    try:
+        first = head.rstrip(b"\n").rstrip(b"\r").decode("utf-8")
+    except UnicodeDecodeError:
+        return None
+    header = [h.strip() for h in first.split(delim)]
+    if "" in header or len(set(header)) != len(header):
+        return None
+    return header
+
+
+def _arrow_read(fh, delim: str, width: int, wanted: list[int]) -> pa.Table:
+    """The *wanted* columns (by position, named "0", "1", ...) of a file checked plain, as
+    pyarrow text: no quoting, no null cells, one record a line."""
+    names = [str(i) for i in range(width)]
+    return pacsv.read_csv(
+        pa.PythonFile(fh, mode="r"),
+        read_options=pacsv.ReadOptions(skip_rows=1, column_names=names),
+        parse_options=pacsv.ParseOptions(
+            delimiter=delim,
+            quote_char=False,
+            escape_char=False,
+            newlines_in_values=False,
+            ignore_empty_lines=False,
+        ),
+        convert_options=pacsv.ConvertOptions(
+            include_columns=[names[j] for j in wanted],
+            column_types={names[j]: pa.string() for j in wanted},
+            null_values=[],
+            strings_can_be_null=False,
+            quoted_strings_can_be_null=False,
+            check_utf8=False,
+        ),
+    )  # checked by _plain_file, for the whole file
 
 
 def _buffers(arr: pa.Array) -> tuple[np.ndarray, np.ndarray] | None:
@@ -252,8 +267,8 @@ def _chunks(arr: pa.Array | pa.ChunkedArray) -> list[pa.Array]:
 
 def plain_decimals(arr: pa.Array | pa.ChunkedArray) -> np.ndarray | None:
     """The cells as floats when every one is a plain decimal number (only digits, points, signs
-    and exponent letters, nothing to strip, none blank), else None: ``loading._plain_decimals``
-    on the column's bytes. pyarrow's conversion rounds correctly, as Python's float() does, so
+    and exponent letters, nothing to strip, none blank), else None:
+    ``loading.numbers._plain_decimals`` on the column's bytes. pyarrow's conversion rounds correctly, as Python's float() does, so
     the two give the same floats (tests/test_fast_paths.py holds them equal)."""
     if not len(arr):
         return None
@@ -274,9 +289,16 @@ def plain_iso(
 ) -> np.ndarray | None:
     """The cells as datetime64[s] when every one is written in the same fixed-width ISO 8601
     form (*digits* and *marks*: per width, the places of digits and of separators), else None:
-    ``loading._plain_iso`` on the column's bytes, read in place."""
-    parts = [_plain_iso_chunk(c, digits, marks) for c in _chunks(arr) if len(c)]
-    if not parts or any(p is None for p in parts) or len({w for w, _ in parts}) != 1:
+    ``loading.times._plain_iso`` on the column's bytes, read in place."""
+    parts: list[tuple[int, np.ndarray]] = []
+    for chunk in _chunks(arr):
+        if not len(chunk):
+            continue
+        part = _plain_iso_chunk(chunk, digits, marks)
+        if part is None:
+            return None
+        parts.append(part)
+    if not parts or len({w for w, _ in parts}) != 1:
         return None  # one form for the whole column, as the text reader asks
     return parts[0][1] if len(parts) == 1 else np.concatenate([a for _, a in parts])
 
