@@ -63,7 +63,8 @@ from .results_studies import (
     VarianceComponent,
 )
 from .rules import detect_signals
-from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
+from .run_limits import anhoj_limits, perla_runs_limits
+from .runs import analyse_runs, shift_against
 
 __all__ = [
     "AfterSamplePlan",
