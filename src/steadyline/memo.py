@@ -50,11 +50,11 @@ class _Remembered:
 def by_identity(size: int) -> Callable[[Callable], _Remembered]:
     """Remember a pure function's last ``size`` answers, found again by the identity of its
     arguments (plain numbers and texts by value). The memo holds the arguments, so an id is not
-    reused while remembered; the arguments must not be changed after the call. This is for work
-    that the project page's and the history page's charts of one metric both do on the same
-    analysis objects; a metric's two sections are made one after the other, so a few entries
-    are enough and memory stays bounded. For module-level functions only (the memo is not a
-    method descriptor)."""
+    reused while remembered; the arguments must not be changed after the call (the statistics'
+    result arrays are read-only for this reason). This is for work that the project page's and
+    the history page's charts of one metric both do on the same analysis objects; a metric's
+    two sections are made one after the other, so a few entries are enough and memory stays
+    bounded. For module-level functions only (the memo is not a method descriptor)."""
 
     def decorate(fn: Callable) -> _Remembered:
         return _Remembered(fn, size)

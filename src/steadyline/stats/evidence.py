@@ -116,6 +116,10 @@ def _one_chart(
     change[in_signal] = NOT_JUDGED
     change[in_signal & one_side] = WORSE
     change[in_signal & good] = BETTER
+    # read-only where made: the pages find results again by identity (steadyline.memo) and rely
+    # on them never changing after they are computed
+    for arr in (carried, change, unstable):
+        arr.setflags(write=False)
     return PointEvidence(carried, change, unstable)
 
 

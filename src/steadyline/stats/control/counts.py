@@ -28,6 +28,7 @@ from .fitting import (
     fitted_mask,
     limit_lines,
     positions,
+    read_only,
     zero_sigma_note,
 )
 
@@ -70,22 +71,24 @@ def _count_chart(
     centre, sigma = fill(groups, m, lambda r, idx: (r.centre, r.sigma))
     lower, upper = limit_lines(centre, sigma, k, floor=0.0, cap=size if kind == "np" else None)
     label, method, extras = _described(kind, base_result(groups), size)
-    return ControlChart(
-        kind=kind,
-        label=label,
-        values=d.copy(),
-        centre=centre,
-        lower=lower,
-        upper=upper,
-        sigma=sigma,
-        process_sigma=None,
-        sigma_method=method,
-        fitted=fitted_mask(groups, m),
-        stage=st,
-        sizes=None if size is None else np.full(m, float(size)),
-        extras=extras,
-        notes=tuple(notes),
-        set_aside=aside,
+    return read_only(
+        ControlChart(
+            kind=kind,
+            label=label,
+            values=d.copy(),
+            centre=centre,
+            lower=lower,
+            upper=upper,
+            sigma=sigma,
+            process_sigma=None,
+            sigma_method=method,
+            fitted=fitted_mask(groups, m),
+            stage=st,
+            sizes=None if size is None else np.full(m, float(size)),
+            extras=extras,
+            notes=tuple(notes),
+            set_aside=aside,
+        )
     )
 
 

@@ -71,12 +71,12 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from typing import Any
 
 import numpy as np
 
-from ..results import StatsError
+from ..results import ControlChart, StatsError
 
 LIMIT_MODES = ("baseline", "per-phase")
 
@@ -263,3 +263,20 @@ def positions(mask: np.ndarray) -> str:
     idx = (np.flatnonzero(mask) + 1).tolist()
     shown = ", ".join(str(i) for i in idx[:10])
     return shown + (", ..." if len(idx) > 10 else "")
+
+
+def read_only(chart: ControlChart) -> ControlChart:
+    """``chart`` (and its companion) with every array made read-only, where the chart is made.
+
+    The pages' memos (``steadyline.memo.by_identity``) and the serialiser find results again by
+    identity and rely on them never changing after they are computed; a later write now raises
+    instead of silently changing a figure already drawn or written. The arrays are the chart's
+    own (copies of the input, never the caller's), so no input is changed.
+    """
+    for f in fields(chart):
+        v = getattr(chart, f.name)
+        if isinstance(v, np.ndarray):
+            v.setflags(write=False)
+    if chart.secondary is not None:
+        read_only(chart.secondary)
+    return chart

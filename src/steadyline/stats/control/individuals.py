@@ -27,6 +27,7 @@ from .fitting import (
     fit_groups,
     fitted_mask,
     limit_lines,
+    read_only,
     zero_sigma_note,
 )
 from .neighbours import chains, check_segment, consecutive_pairs, pair_key
@@ -83,22 +84,24 @@ def individuals(
     secondary = _moving_range_chart(mr, groups, k, st, mr_fitted, aside, base.sigma)
     centre, sigma = fill(groups, m, lambda r, idx: (r.mean, r.sigma))
     lower, upper = limit_lines(centre, sigma, k)
-    return ControlChart(
-        kind="individuals",
-        label="Individuals (X)",
-        values=x.copy(),
-        centre=centre,
-        lower=lower,
-        upper=upper,
-        sigma=sigma,
-        process_sigma=base.sigma,
-        sigma_method=_METHOD,
-        fitted=fitted_mask(groups, m),
-        stage=st,
-        secondary=secondary,
-        extras=_extras(groups, limits, base),
-        notes=tuple(notes),
-        set_aside=aside,
+    return read_only(
+        ControlChart(
+            kind="individuals",
+            label="Individuals (X)",
+            values=x.copy(),
+            centre=centre,
+            lower=lower,
+            upper=upper,
+            sigma=sigma,
+            process_sigma=base.sigma,
+            sigma_method=_METHOD,
+            fitted=fitted_mask(groups, m),
+            stage=st,
+            secondary=secondary,
+            extras=_extras(groups, limits, base),
+            notes=tuple(notes),
+            set_aside=aside,
+        )
     )
 
 
@@ -157,20 +160,22 @@ def _moving_range_chart(
     ratio = d3(2) / d2(2)
     mr_centre, mr_sigma = fill(groups, mr.size, lambda r, idx: (r.mr_bar, ratio * r.mr_bar))
     mr_lower, mr_upper = limit_lines(mr_centre, mr_sigma, k, floor=0.0)
-    return ControlChart(
-        kind="moving-range",
-        label="Moving range (mR)",
-        values=mr,
-        centre=mr_centre,
-        lower=mr_lower,
-        upper=mr_upper,
-        sigma=mr_sigma,
-        process_sigma=process_sigma,
-        sigma_method=_METHOD,
-        fitted=mr_fitted,
-        stage=st.copy(),
-        notes=("The first point has no moving range.",),
-        set_aside=mr_aside,
+    return read_only(
+        ControlChart(
+            kind="moving-range",
+            label="Moving range (mR)",
+            values=mr,
+            centre=mr_centre,
+            lower=mr_lower,
+            upper=mr_upper,
+            sigma=mr_sigma,
+            process_sigma=process_sigma,
+            sigma_method=_METHOD,
+            fitted=mr_fitted,
+            stage=st.copy(),
+            notes=("The first point has no moving range.",),
+            set_aside=mr_aside,
+        )
     )
 
 

@@ -32,6 +32,7 @@ from .fitting import (
     fitted_mask,
     limit_lines,
     positions,
+    read_only,
 )
 from .neighbours import chains, check_segment, consecutive_pairs, pair_key
 
@@ -100,22 +101,24 @@ def _rate_chart(
     centre[~usable] = np.nan
     lower, upper = limit_lines(centre, sigma, k, floor=0.0, cap=1.0 if proportion else None)
     out_kind, label, method, extras = _described(kind, laney, limits, groups)
-    return ControlChart(
-        kind=out_kind,
-        label=label,
-        values=values,
-        centre=centre,
-        lower=lower,
-        upper=upper,
-        sigma=sigma,
-        process_sigma=None,
-        sigma_method=method,
-        fitted=fitted_mask(groups, m),
-        stage=st,
-        sizes=a.copy(),
-        extras=extras,
-        notes=tuple(notes),
-        set_aside=aside,
+    return read_only(
+        ControlChart(
+            kind=out_kind,
+            label=label,
+            values=values,
+            centre=centre,
+            lower=lower,
+            upper=upper,
+            sigma=sigma,
+            process_sigma=None,
+            sigma_method=method,
+            fitted=fitted_mask(groups, m),
+            stage=st,
+            sizes=a.copy(),
+            extras=extras,
+            notes=tuple(notes),
+            set_aside=aside,
+        )
     )
 
 

@@ -28,6 +28,7 @@ from .fitting import (
     fitted_mask,
     limit_lines,
     positions,
+    read_only,
     zero_sigma_note,
 )
 
@@ -109,23 +110,25 @@ def _subgroup_chart(
     secondary = _spread_chart(
         disp, groups, k, st, n, fitted & multi, aside, spread, base.sigma, method
     )
-    return ControlChart(
-        kind="xbar",
-        label="Subgroup mean (X̄)",
-        values=means,
-        centre=centre,
-        lower=lower,
-        upper=upper,
-        sigma=sigma,
-        process_sigma=base.sigma,
-        sigma_method=method,
-        fitted=fitted,
-        stage=st,
-        sizes=n,
-        secondary=secondary,
-        extras=_extras(groups, limits, base, spread),
-        notes=tuple(notes),
-        set_aside=aside,
+    return read_only(
+        ControlChart(
+            kind="xbar",
+            label="Subgroup mean (X̄)",
+            values=means,
+            centre=centre,
+            lower=lower,
+            upper=upper,
+            sigma=sigma,
+            process_sigma=base.sigma,
+            sigma_method=method,
+            fitted=fitted,
+            stage=st,
+            sizes=n,
+            secondary=secondary,
+            extras=_extras(groups, limits, base, spread),
+            notes=tuple(notes),
+            set_aside=aside,
+        )
     )
 
 
@@ -263,20 +266,22 @@ def _spread_chart(
         kind, label = "stdev", "Subgroup standard deviation (S)"
     centre, sigma = fill(groups, disp.size, lambda r, idx: _spread_point(r, n[idx], spread))
     lower, upper = limit_lines(centre, sigma, k, floor=0.0)
-    return ControlChart(
-        kind=kind,
-        label=label,
-        values=disp,
-        centre=centre,
-        lower=lower,
-        upper=upper,
-        sigma=sigma,
-        process_sigma=process_sigma,
-        sigma_method=method,
-        fitted=fitted,
-        stage=st.copy(),
-        sizes=n.copy(),
-        set_aside=None if aside is None else aside.copy(),
+    return read_only(
+        ControlChart(
+            kind=kind,
+            label=label,
+            values=disp,
+            centre=centre,
+            lower=lower,
+            upper=upper,
+            sigma=sigma,
+            process_sigma=process_sigma,
+            sigma_method=method,
+            fitted=fitted,
+            stage=st.copy(),
+            sizes=n.copy(),
+            set_aside=None if aside is None else aside.copy(),
+        )
     )
 
 
