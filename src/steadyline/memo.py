@@ -24,30 +24,39 @@ def forget() -> None:
         memo.clear()
 
 
-def by_identity(size: int) -> Callable:
+class _Remembered:
+    """A pure function with its memo: called like the function; ``cache_clear`` forgets."""
+
+    def __init__(self, fn: Callable, size: int):
+        self._fn = fn
+        self._size = size
+        self._memo: dict[tuple, tuple[tuple, object]] = {}  # oldest first
+        self.cache_clear = self._memo.clear
+        _MEMOS.append(self._memo)
+        functools.update_wrapper(self, fn)
+
+    def __call__(self, *args):
+        memo = self._memo
+        key = tuple(map(_key, args))
+        hit = memo.pop(key, None)
+        if hit is None:
+            hit = (args, self._fn(*args))
+            if len(memo) >= self._size:
+                del memo[next(iter(memo))]
+        memo[key] = hit  # now the newest
+        return hit[1]
+
+
+def by_identity(size: int) -> Callable[[Callable], _Remembered]:
     """Remember a pure function's last ``size`` answers, found again by the identity of its
     arguments (plain numbers and texts by value). The memo holds the arguments, so an id is not
-    reused while remembered; the arguments must not be changed after the call. This is for work
-    that the project page's and the history page's charts of one metric both do on the same
-    analysis objects; a metric's two sections are made one after the other, so a few entries
-    are enough and memory stays bounded."""
+    reused while remembered; the arguments must not be changed after the call (the statistics'
+    result arrays are read-only for this reason). This is for work that the project page's and
+    the history page's charts of one metric both do on the same analysis objects; a metric's
+    two sections are made one after the other, so a few entries are enough and memory stays
+    bounded. For module-level functions only (the memo is not a method descriptor)."""
 
-    def decorate(fn: Callable) -> Callable:
-        memo: dict[tuple, tuple[tuple, object]] = {}  # oldest first
-        _MEMOS.append(memo)
-
-        @functools.wraps(fn)
-        def remembered(*args):
-            key = tuple(map(_key, args))
-            hit = memo.pop(key, None)
-            if hit is None:
-                hit = (args, fn(*args))
-                if len(memo) >= size:
-                    del memo[next(iter(memo))]
-            memo[key] = hit  # now the newest
-            return hit[1]
-
-        remembered.cache_clear = memo.clear  # type: ignore[attr-defined]
-        return remembered
+    def decorate(fn: Callable) -> _Remembered:
+        return _Remembered(fn, size)
 
     return decorate

@@ -9,7 +9,8 @@ import pytest
 from scipy import stats
 
 from steadyline.stats import choice as CH
-from steadyline.stats.control import CHART_FUNCTIONS, laney_p
+from steadyline.stats.control.kinds import CHART_FUNCTIONS
+from steadyline.stats.control.rates import laney_p
 from steadyline.stats.results import StatsError
 
 

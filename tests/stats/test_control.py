@@ -473,3 +473,41 @@ def test_chart_functions_registry():
         "laney-p",
         "laney-u",
     }
+
+
+# Results are found again by identity (steadyline.memo, the serialiser), so a chart's arrays must
+# never change once computed: a write raises instead of silently changing a figure already drawn.
+_READ_ONLY_CASES = {
+    "xmr": lambda v, s: C.individuals(v, stage=s, set_aside=[False] * 11 + [True]),
+    "xbar-r": lambda v, s: C.xbar_r(np.reshape(v, (6, 2)), stage=s[:6]),
+    "xbar-s": lambda v, s: C.xbar_s(np.reshape(v, (4, 3)), stage=s[:4]),
+    "p": lambda v, s: C.p_chart(v, v + 10, stage=s),
+    "np": lambda v, s: C.np_chart(v, 20, stage=s),
+    "c": lambda v, s: C.c_chart(v, stage=s),
+    "u": lambda v, s: C.u_chart(v, v + 3.5, stage=s),
+    "laney-p": lambda v, s: C.laney_p(v, v + 10, stage=s),
+    "laney-u": lambda v, s: C.laney_u(v, v + 3.5, stage=s),
+}
+
+
+@pytest.mark.parametrize("kind", sorted(_READ_ONLY_CASES))
+def test_result_arrays_are_read_only_and_inputs_stay_writable(kind):
+    values = np.array([3.0, 5, 4, 6, 2, 5, 4, 3, 7, 4, 5, 6])
+    stage = np.array([0] * 8 + [1] * 4)
+    chart = _READ_ONLY_CASES[kind](values, stage)
+    charts = [chart] + ([chart.secondary] if chart.secondary is not None else [])
+    arrays = [
+        (c.kind, name, getattr(c, name))
+        for c in charts
+        for name in ("values", "centre", "lower", "upper", "sigma", "fitted", "stage", "sizes")
+        + ("set_aside",)
+        if getattr(c, name) is not None
+    ]
+    assert len(arrays) >= 7
+    for where, name, arr in arrays:
+        with pytest.raises(ValueError, match="read-only"):
+            arr[0] = arr[0]
+        assert not arr.flags.writeable, (where, name)
+    # the caller's arrays are not the chart's: they stay as they were, writable
+    assert values.flags.writeable and stage.flags.writeable
+    values[0] = 3.0

@@ -8,7 +8,8 @@ from hypothesis import strategies as st
 
 from steadyline.stats.distribution import QUARTILE_METHODS, box_summary, histogram
 from steadyline.stats.pareto import pareto, pareto_in_order
-from steadyline.stats.runs import analyse_runs, perla_runs_limits, runs_distribution
+from steadyline.stats.run_limits import perla_runs_limits, runs_distribution
+from steadyline.stats.runs import analyse_runs
 
 finite = st.floats(min_value=-1e6, max_value=1e6, allow_nan=False, allow_infinity=False)
 samples = st.lists(finite, min_size=1, max_size=60)

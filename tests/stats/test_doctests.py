@@ -11,7 +11,7 @@ import pytest
 import steadyline.stats
 
 MODULES = sorted(
-    m.name for m in pkgutil.iter_modules(steadyline.stats.__path__, "steadyline.stats.")
+    m.name for m in pkgutil.walk_packages(steadyline.stats.__path__, "steadyline.stats.")
 )
 
 

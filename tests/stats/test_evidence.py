@@ -104,3 +104,15 @@ def test_counts_of_the_after_phase():
         "worse": 0,
         "not judged": 1,
     }
+
+
+def test_evidence_arrays_are_read_only():
+    # found again by identity by the pages' memos: a write must raise, not change a drawn figure
+    c = individuals([10, 11, 10, 9, 10, 11, 10, 9, 10, 11, 2, 3], stage=[0] * 10 + [1, 1])
+    from steadyline.stats.rules import detect_signals
+
+    for ev in point_evidence(c, detect_signals(c), better="lower"):
+        assert ev is not None
+        for arr in (ev.carried, ev.change, ev.unstable):
+            with pytest.raises(ValueError, match="read-only"):
+                arr[0] = arr[0]

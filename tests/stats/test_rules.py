@@ -11,7 +11,8 @@ import numpy as np
 import pytest
 
 from steadyline.stats import rules as R
-from steadyline.stats.control import individuals, p_chart
+from steadyline.stats.control.individuals import individuals
+from steadyline.stats.control.rates import p_chart
 from steadyline.stats.results import ControlChart, StatsError
 
 # a background that triggers nothing: no run, trend or alternation builds up, and it leaves

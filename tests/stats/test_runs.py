@@ -10,15 +10,10 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from steadyline.stats import runs as runs_module
+from steadyline.stats import run_limits
 from steadyline.stats.results import StatsError
-from steadyline.stats.runs import (
-    analyse_runs,
-    anhoj_limits,
-    perla_runs_limits,
-    runs_distribution,
-    shift_against,
-)
+from steadyline.stats.run_limits import anhoj_limits, perla_runs_limits, runs_distribution
+from steadyline.stats.runs import analyse_runs, shift_against
 
 # docs/methods.md §4 table [computed with numpy/scipy]: n -> (longest-run limit,
 # minimum crossings), Anhøj & Olesen 2014 definitions.
@@ -91,9 +86,9 @@ def test_anhoj_crossings_limit_equals_scipy_binom_ppf_for_every_n():
         2999,
         4096,
         7777,
-        runs_module.EXACT_CROSSINGS_MAX,
-        runs_module.EXACT_CROSSINGS_MAX + 1,
-        runs_module.EXACT_CROSSINGS_MAX + 2,
+        run_limits.EXACT_CROSSINGS_MAX,
+        run_limits.EXACT_CROSSINGS_MAX + 1,
+        run_limits.EXACT_CROSSINGS_MAX + 2,
         25_000,
         1_000_000,
     ],
@@ -321,11 +316,10 @@ def test_all_on_median_gives_no_limits():
 def test_runs_limits_normal_approximation_meets_the_exact_distribution():
     # Wald & Wolfowitz (1940) normal approximation (from memory) against the exact
     # Swed & Eisenhart (1943) distribution where the two meet: they agree within one run.
-    from steadyline.stats import runs as runs_mod
 
-    for n in range(200, runs_mod.EXACT_RUNS_MAX + 1, 40):
-        exact = runs_mod.perla_runs_limits(n)
-        approx = runs_mod._runs_limits_normal(n, runs_mod.PERLA_RUNS_ALPHA)
+    for n in range(200, run_limits.EXACT_RUNS_MAX + 1, 40):
+        exact = run_limits.perla_runs_limits(n)
+        approx = run_limits._runs_limits_normal(n, run_limits.PERLA_RUNS_ALPHA)
         assert abs(exact[0] - approx[0]) <= 1 and abs(exact[1] - approx[1]) <= 1, n
 
 

@@ -24,17 +24,10 @@ from .capability_change import capability_change
 from .choice import choose_chart
 from .compare import compare, format_p_value
 from .constants import c4, d2, d3, factor_table, factors
-from .control import (
-    c_chart,
-    individuals,
-    laney_p,
-    laney_u,
-    np_chart,
-    p_chart,
-    u_chart,
-    xbar_r,
-    xbar_s,
-)
+from .control.counts import c_chart, np_chart
+from .control.individuals import individuals
+from .control.rates import laney_p, laney_u, p_chart, u_chart
+from .control.subgroups import xbar_r, xbar_s
 from .distribution import (
     QUARTILE_METHODS,
     anderson_darling,
@@ -70,7 +63,8 @@ from .results_studies import (
     VarianceComponent,
 )
 from .rules import detect_signals
-from .runs import analyse_runs, anhoj_limits, perla_runs_limits, shift_against
+from .run_limits import anhoj_limits, perla_runs_limits
+from .runs import analyse_runs, shift_against
 
 __all__ = [
     "AfterSamplePlan",

@@ -167,7 +167,8 @@ def _continuous(sg: np.ndarray | None, override: str | None) -> ChartChoice:
     single = sg is None or bool(np.all(sg == 1))
     if sg is not None and np.any(sg < 1):
         raise StatsError("every subgroup needs at least one value")
-    if single:
+    allowed: tuple[str, ...]
+    if sg is None or single:
         allowed = ("xmr",)
         kind = "xmr"
         reason = "single measured values: individuals and moving-range chart (X-mR)"
@@ -200,64 +201,84 @@ def _attribute(
     data_type: str, sizes: np.ndarray | None, counts: np.ndarray | None, override: str | None
 ) -> ChartChoice:
     defectives = data_type == "defectives"
-    if defectives and sizes is None:
-        raise StatsError("defectives need the number checked per point (sizes)")
+    if defectives:
+        if sizes is None:
+            raise StatsError("defectives need the number checked per point (sizes)")
+        _check_counts(counts, sizes, defectives)
+        allowed, kind, reason = _defectives(sizes)
+    else:
+        _check_counts(counts, sizes, defectives)
+        allowed, kind, reason = _defects(sizes)
+    if counts is not None and counts.size >= MIN_POINTS_FOR_CHECK:
+        kind, reason = _overdispersion(defectives, sizes, counts, kind, reason)
+    return _apply_override(kind, reason, allowed, override, f"{data_type} data")
+
+
+def _check_counts(counts: np.ndarray | None, sizes: np.ndarray | None, defectives: bool) -> None:
     if counts is not None and sizes is not None and sizes.size not in (1, counts.size):
         raise StatsError("counts and sizes must have the same length")
     if defectives and counts is not None and np.any(counts > sizes):
         raise StatsError("defectives cannot exceed the number checked")
+
+
+def _defectives(sizes: np.ndarray) -> tuple[tuple[str, ...], str, str]:
+    """(charts allowed, chart, why) for defectives out of a number checked."""
+    constant = np.unique(sizes).size == 1
+    allowed = ("p", "laney-p") + (("np",) if constant else ())
+    if constant:
+        reason = f"defectives out of a constant number checked ({_fmt(sizes[0])}): np chart"
+        return allowed, "np", reason
+    reason = "defectives out of a varying number checked: p chart with stepped limits"
+    return allowed, "p", reason
+
+
+def _defects(sizes: np.ndarray | None) -> tuple[tuple[str, ...], str, str]:
+    """(charts allowed, chart, why) for defects counted over an area of opportunity."""
     constant = sizes is None or np.unique(sizes).size == 1
-    if defectives:
-        allowed = ("p", "laney-p") + (("np",) if constant else ())
-        if constant:
-            kind = "np"
-            reason = f"defectives out of a constant number checked ({_fmt(sizes[0])}): np chart"
-        else:
-            kind = "p"
-            reason = "defectives out of a varying number checked: p chart with stepped limits"
-    else:
-        allowed = ("u", "laney-u") + (("c",) if constant else ())
-        if constant:
-            kind = "c"
-            reason = "defects counted over a constant area of opportunity: c chart"
-        else:
-            kind = "u"
-            reason = (
-                "defects counted over a varying area of opportunity: u chart (defects per unit) "
-                "with stepped limits"
-            )
-    # overdispersion check on large subgroups
+    allowed = ("u", "laney-u") + (("c",) if constant else ())
+    if constant:
+        return allowed, "c", "defects counted over a constant area of opportunity: c chart"
+    reason = (
+        "defects counted over a varying area of opportunity: u chart (defects per unit) "
+        "with stepped limits"
+    )
+    return allowed, "u", reason
+
+
+def _overdispersion(
+    defectives: bool, sizes: np.ndarray | None, counts: np.ndarray, kind: str, reason: str
+) -> tuple[str, str]:
+    """The overdispersion check on large subgroups: a Laney chart where the counts vary more
+    than the binomial or Poisson model allows, else the reason says they do not."""
     laney = f"laney-{'p' if defectives else 'u'}"
-    if counts is not None and counts.size >= MIN_POINTS_FOR_CHECK:
-        n = np.broadcast_to(sizes if sizes is not None else np.ones(1), counts.shape)
-        large = (
-            float(np.mean(n)) >= LARGE_SUBGROUP
-            if defectives
-            else float(np.mean(counts)) >= LARGE_COUNT
+    n = np.broadcast_to(sizes if sizes is not None else np.ones(1), counts.shape)
+    large = (
+        float(np.mean(n)) >= LARGE_SUBGROUP if defectives else float(np.mean(counts)) >= LARGE_COUNT
+    )
+    if not large:
+        return kind, reason
+    try:
+        sz = sigma_z_of(counts, n, proportion=defectives)
+    except StatsError:
+        sz = None
+    if sz is None:
+        return kind, reason
+    m = int(np.sum(n > 0))
+    bound = sigma_z_bound(m)
+    if sz > bound:
+        what = "subgroups" if defectives else "counts"
+        reason = (
+            f"large {what} vary more than the "
+            f"{'binomial' if defectives else 'Poisson'} model allows "
+            f"(sigma_z = {sz:.2f}, above the 95% bound {bound:.2f}): Laney "
+            f"{'p′' if defectives else 'u′'} chart"
         )
-        if large:
-            try:
-                sz = sigma_z_of(counts, n, proportion=defectives)
-            except StatsError:
-                sz = None
-            if sz is not None:
-                m = int(np.sum(n > 0))
-                bound = sigma_z_bound(m)
-                if sz > bound:
-                    kind = laney
-                    what = "subgroups" if defectives else "counts"
-                    reason = (
-                        f"large {what} vary more than the "
-                        f"{'binomial' if defectives else 'Poisson'} model allows "
-                        f"(sigma_z = {sz:.2f}, above the 95% bound {bound:.2f}): Laney "
-                        f"{'p′' if defectives else 'u′'} chart"
-                    )
-                else:
-                    reason += (
-                        f"; the large {'subgroups' if defectives else 'counts'} show no "
-                        f"overdispersion (sigma_z = {sz:.2f}, within the 95% bound {bound:.2f})"
-                    )
-    return _apply_override(kind, reason, allowed, override, f"{data_type} data")
+        return laney, reason
+    reason += (
+        f"; the large {'subgroups' if defectives else 'counts'} show no "
+        f"overdispersion (sigma_z = {sz:.2f}, within the 95% bound {bound:.2f})"
+    )
+    return kind, reason
 
 
 def _apply_override(

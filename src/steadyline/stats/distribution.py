@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from typing import Literal, cast
 
 import numpy as np
 
@@ -28,6 +29,18 @@ QUARTILE_METHODS: dict[str, str] = {
     "normal_unbiased": "Hyndman & Fan type 9 (approximately unbiased for normal data)",
     "tukey-hinges": "Tukey's hinges (medians of the lower and upper halves, median in both when n is odd)",
 }
+# numpy's own names of the Hyndman & Fan methods (every key above but "tukey-hinges")
+_NumpyQuantileMethod = Literal[
+    "inverted_cdf",
+    "averaged_inverted_cdf",
+    "closest_observation",
+    "interpolated_inverted_cdf",
+    "hazen",
+    "weibull",
+    "linear",
+    "median_unbiased",
+    "normal_unbiased",
+]
 
 HISTOGRAM_RULES: dict[str, str] = {
     "fd": "Freedman–Diaconis",
@@ -84,7 +97,9 @@ def box_summary(values: Sequence[float] | np.ndarray, method: str = "linear") ->
     if method == "tukey-hinges":
         q1, med, q3 = tukey_hinges(np.sort(x))
     else:
-        q1, med, q3 = (float(v) for v in np.quantile(x, [0.25, 0.5, 0.75], method=method))
+        # numpy's stubs name its methods as literals; ``method`` is one of them (checked above)
+        how = cast(_NumpyQuantileMethod, method)
+        q1, med, q3 = (float(v) for v in np.quantile(x, [0.25, 0.5, 0.75], method=how))
     iqr = q3 - q1
     lo_f, hi_f = q1 - 1.5 * iqr, q3 + 1.5 * iqr
     lo_far, hi_far = q1 - 3.0 * iqr, q3 + 3.0 * iqr

@@ -59,10 +59,12 @@ def carried_mask(stage, fitted) -> np.ndarray:
     return (np.asarray(stage, dtype=int) != 0) & ~np.asarray(fitted, dtype=bool)
 
 
-def _companion_stage_and_fit(chart: ControlChart) -> tuple[np.ndarray, np.ndarray, int]:
-    """The companion chart's stage and fitted flags per its own point, and its offset (0 or 1)
-    into the main chart's points (an mR chart has one point fewer when its first is dropped)."""
-    sec = chart.secondary
+def _companion_stage_and_fit(
+    chart: ControlChart, sec: ControlChart
+) -> tuple[np.ndarray, np.ndarray, int]:
+    """The companion chart's (``sec``, ``chart.secondary``) stage and fitted flags per its own
+    point, and its offset (0 or 1) into the main chart's points (an mR chart has one point fewer
+    when its first is dropped)."""
     offset = len(chart.values) - len(sec.values)
     stage = sec.stage if len(sec.stage) == len(sec.values) else np.asarray(chart.stage)[offset:]
     fitted = sec.fitted if len(sec.fitted) == len(sec.values) else np.asarray(chart.fitted)[offset:]
@@ -114,6 +116,10 @@ def _one_chart(
     change[in_signal] = NOT_JUDGED
     change[in_signal & one_side] = WORSE
     change[in_signal & good] = BETTER
+    # read-only where made: the pages find results again by identity (steadyline.memo) and rely
+    # on them never changing after they are computed
+    for arr in (carried, change, unstable):
+        arr.setflags(write=False)
     return PointEvidence(carried, change, unstable)
 
 
@@ -145,7 +151,7 @@ def point_evidence(
     )
     if chart.secondary is None:
         return main, None
-    stage, fitted, _ = _companion_stage_and_fit(chart)
+    stage, fitted, _ = _companion_stage_and_fit(chart, chart.secondary)
     sec = _one_chart(
         chart.secondary,
         stage,

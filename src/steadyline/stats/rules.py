@@ -245,7 +245,7 @@ def _find(
         out.sort(key=lambda item: item[0][0])
         return out
     if rule.test == "run-side":
-        res = []
+        res: list[tuple[list[int], str | None]] = []
         for side, flags in (("above", z > 0), ("below", z < 0)):
             res += [(list(range(a, b)), side) for a, b in _runs(flags, rule.length)]
         return res

@@ -1,5 +1,8 @@
 """Run-chart analysis: the median as centre line and the non-parametric run rules.
 
+This module judges and words; the patterns are found in run_patterns.py and the limits they are
+judged against computed in run_limits.py.
+
 Two rule sets are offered; the result always says which one was used.
 
 ``"anhoj"`` (default) — Anhøj & Olesen (2014), *PLoS ONE* 9(11):e113825.
@@ -13,7 +16,7 @@ Two rule sets are offered; the result always says which one was used.
       i.e. less than the smallest c with P(C <= c) >= 0.05 for C ~ Binomial(n_useful - 1, 1/2)
       (R's ``qbinom(0.05, n - 1, 0.5)``). With m = n_useful - 1 that is the smallest c with
       20 * sum_(i <= c) C(m, i) >= 2^m, which is computed exactly in integers up to
-      m = ``EXACT_CROSSINGS_MAX`` (scipy.stats.binom above, imported then).
+      m = ``EXACT_CROSSINGS_MAX`` (scipy.stats.binom above, imported then; run_limits.py).
 
 ``"perla"`` — Perla, Provost & Murray (2011), *BMJ Qual Saf* 20:46–51.
     - Shift: 6 or more consecutive useful points on one side of the median. Points on the
@@ -44,15 +47,12 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from functools import lru_cache
 
 import numpy as np
 
-from . import normal
-from ._lazy import lazy
 from .results import RunChartAnalysis, Signal, StatsError
-
-_st = lazy("scipy.stats")
+from .run_limits import anhoj_limits, perla_runs_limits
+from .run_patterns import SideRuns, runs_of_sides, trends
 
 RULE_SETS = ("anhoj", "perla")
 RULE_SET_LABELS = {
@@ -86,120 +86,7 @@ def _sig(v: float, digits: int = 4) -> str:
 
 PERLA_SHIFT_LENGTH = 6
 PERLA_TREND_LENGTH = 5
-PERLA_RUNS_ALPHA = 0.05  # per tail
 MIN_RELIABLE_POINTS = 10  # Perla et al. 2011 (from memory): at least 10 useful points
-# Up to this many trials (n_useful - 1) the crossings limit is found with exact integers; the
-# sum runs over about m/2 binomial coefficients of up to m bits (a few milliseconds at 10,000).
-EXACT_CROSSINGS_MAX = 10_000
-
-
-@lru_cache(maxsize=256)
-def _crossings_limit(m: int) -> int:
-    """The smallest c with P(C <= c) >= 1/20 for C ~ Binomial(m, 1/2), i.e. with
-    20 * sum_(i <= c) C(m, i) >= 2^m."""
-    if m > EXACT_CROSSINGS_MAX:
-        return int(_st.binom.ppf(0.05, m, 0.5))
-    target = 1 << m  # 2^m
-    coeff = 1  # C(m, c)
-    total = 1  # sum_(i <= c) C(m, i)
-    c = 0
-    while 20 * total < target:
-        coeff = coeff * (m - c) // (c + 1)
-        c += 1
-        total += coeff
-    return c
-
-
-def anhoj_limits(n_useful: int) -> tuple[int, int]:
-    """Anhøj limits for ``n_useful`` points not on the median.
-
-    Returns ``(longest_run_limit, crossings_min)``: a signal when the longest run is greater
-    than ``longest_run_limit``, or when crossings are fewer than ``crossings_min``.
-    """
-    n = int(n_useful)
-    if n < 1:
-        raise StatsError(f"the Anhøj limits need at least one point off the median, got {n}")
-    longest = int(round(math.log2(n) + 3))
-    crossings = _crossings_limit(n - 1)
-    return longest, crossings
-
-
-@lru_cache(maxsize=512)
-def runs_distribution(n1: int, n2: int) -> tuple[float, ...]:
-    """Exact P(R = r), r = 0..n1+n2, for the number of runs in a random arrangement of
-    n1 items of one kind and n2 of another (Swed & Eisenhart 1943)."""
-    if n1 < 0 or n2 < 0:
-        raise StatsError("group sizes must not be negative")
-    total = n1 + n2
-    probs = [0.0] * (total + 1)
-    if n1 == 0 or n2 == 0:
-        if total > 0:
-            probs[1] = 1.0
-        return tuple(probs)
-    denom = math.comb(total, n1)
-    for r in range(2, total + 1):
-        k, odd = divmod(r, 2)
-        if not odd:
-            ways = 2 * math.comb(n1 - 1, k - 1) * math.comb(n2 - 1, k - 1)
-        else:
-            ways = math.comb(n1 - 1, k - 1) * math.comb(n2 - 1, k) + math.comb(
-                n1 - 1, k
-            ) * math.comb(n2 - 1, k - 1)
-        probs[r] = ways / denom
-    return tuple(probs)
-
-
-# Above this many points the exact distribution (big-integer binomials, O(n) terms) is replaced by
-# its normal approximation with mean 2·n1·n2/N + 1 and variance 2·n1·n2·(2·n1·n2 − N)/(N²(N − 1))
-# (Wald & Wolfowitz 1940, from memory), with a continuity correction; the tests check that both
-# agree within one run where they meet.
-EXACT_RUNS_MAX = 1000
-
-
-def _runs_limits_normal(n: int, alpha: float) -> tuple[int, int]:
-    n1, n2 = n // 2, n - n // 2
-    mean = 2.0 * n1 * n2 / n + 1.0
-    var = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0))
-    sd = math.sqrt(var)
-    z = normal.ppf(1.0 - alpha)
-    low = max(1, math.floor(mean - 0.5 - z * sd))
-    high = min(n + 1, math.ceil(mean + 0.5 + z * sd))
-    return low, high
-
-
-def perla_runs_limits(n: int, alpha: float = PERLA_RUNS_ALPHA) -> tuple[int, int]:
-    """Runs-count limits for ``n`` points not on the median, ``alpha`` in each tail.
-
-    Returns ``(low, high)``: too few runs when runs <= low, too many when runs >= high.
-    ``low`` is the largest r with P(R <= r) <= alpha and ``high`` the smallest r with
-    P(R >= r) <= alpha, for n1 = floor(n/2), n2 = ceil(n/2). When no attainable count is that
-    unlikely, the limits fall outside the attainable range (low = 1, high = n + 1), so they can
-    never signal for a median split.
-    """
-    n = int(n)
-    if n < 2:
-        raise StatsError(f"the runs-count limits need at least two points off the median, got {n}")
-    if n > EXACT_RUNS_MAX:
-        return _runs_limits_normal(n, alpha)
-    probs = runs_distribution(n // 2, n - n // 2)
-    eps = 1e-12
-    low = 1
-    cum = 0.0
-    for r in range(0, n + 1):
-        cum += probs[r]
-        if cum <= alpha + eps:
-            low = max(low, r)
-        else:
-            break
-    high = n + 1
-    cum = 0.0
-    for r in range(n, -1, -1):
-        cum += probs[r]
-        if cum <= alpha + eps:
-            high = r
-        else:
-            break
-    return low, high
 
 
 def _as_array(values: Sequence[float] | np.ndarray) -> np.ndarray:
@@ -209,79 +96,6 @@ def _as_array(values: Sequence[float] | np.ndarray) -> np.ndarray:
     if np.isinf(x).any():
         raise StatsError("run-chart values must be finite numbers (missing values may be nan)")
     return x
-
-
-class _SideRuns:
-    """Runs of useful points on one side of the median, found with numpy.
-
-    Only the runs asked for (``at_least``) are turned into index lists, so a long series costs
-    little more than one pass over its points.
-    """
-
-    def __init__(self, useful_idx: np.ndarray, sides: np.ndarray):
-        self.idx = useful_idx
-        self.sides = sides
-        if sides.size:
-            starts = np.concatenate([[0], np.flatnonzero(sides[1:] != sides[:-1]) + 1])
-        else:
-            starts = np.zeros(0, dtype=int)
-        self.starts = starts
-        self.lengths = np.diff(np.concatenate([starts, [sides.size]])).astype(int)
-
-    def __len__(self) -> int:
-        return int(self.starts.size)
-
-    @property
-    def longest(self) -> int:
-        return int(self.lengths.max()) if self.lengths.size else 0
-
-    def at_least(self, k: int) -> list[tuple[int, list[int]]]:
-        """(side, indices) of every run of k or more points, in order."""
-        out = []
-        for j in np.flatnonzero(self.lengths >= k).tolist():
-            a = int(self.starts[j])
-            out.append((int(self.sides[a]), self.idx[a : a + int(self.lengths[j])].tolist()))
-        return out
-
-
-def _runs_of_sides(useful_idx: np.ndarray, sides: np.ndarray) -> _SideRuns:
-    """Group useful points into runs on one side."""
-    return _SideRuns(useful_idx, sides)
-
-
-def _trends(x: np.ndarray, min_points: int) -> list[tuple[str, list[int]]]:
-    """Trends of at least ``min_points`` distinct successive values all rising or all falling.
-
-    Missing values break a trend. Successive equal values count once and do not break it.
-    Returns (direction, indices from first to last point inclusive). Vectorised: only the
-    trends found are turned into index lists.
-    """
-    found: list[tuple[str, list[int]]] = []
-    finite = np.isfinite(x)
-    edges = np.diff(np.concatenate([[0], finite.astype(np.int8), [0]]))
-    for a, b in zip(
-        np.flatnonzero(edges == 1).tolist(), np.flatnonzero(edges == -1).tolist(), strict=True
-    ):
-        seg = x[a:b]
-        if seg.size < 2:
-            continue
-        # groups of equal successive values: first and last index of each
-        first = np.flatnonzero(np.concatenate([[True], seg[1:] != seg[:-1]])) + a
-        last = np.concatenate([first[1:] - 1, [b - 1]])
-        vals = x[first]
-        m = vals.size
-        if m < 2:
-            continue
-        up = vals[1:] > vals[:-1]  # one step between successive groups
-        change = np.flatnonzero(up[1:] != up[:-1]) + 1
-        run_start = np.concatenate([[0], change])
-        run_stop = np.concatenate([change, [m - 1]])  # steps [start, stop) join groups start..stop
-        keep = np.flatnonzero(run_stop - run_start + 1 >= min_points)
-        for r in keep.tolist():
-            j, k = int(run_start[r]), int(run_stop[r])
-            # From the last repeat of the first value to the first repeat of the last value.
-            found.append(("up" if up[j] else "down", list(range(int(last[j]), int(first[k]) + 1))))
-    return found
 
 
 def analyse_runs(
@@ -302,27 +116,74 @@ def analyse_runs(
         raise StatsError(f"unknown run-chart rule set {rule_set!r}; choose 'anhoj' or 'perla'")
     x = _as_array(values)
     n = int(len(x))
-    finite = np.isfinite(x)
-    n_aside = 0
-    if set_aside is not None:
-        aside = np.asarray(set_aside, dtype=bool)
-        if aside.shape != x.shape:
-            raise StatsError(
-                f"set_aside must give one true/false per point ({n}), got {aside.size}"
-            )
-        n_aside = int((aside & finite).sum())
-        finite = finite & ~aside
+    finite, n_aside = _judged(x, set_aside)
     n_finite = int(finite.sum())
     if n_finite == 0:
         raise StatsError("a run chart needs at least one data point, got none")
+    centre, notes = _centre(x, finite, median, rule_set)
+    notes += _left_out_notes(n, n_finite, n_aside)
+
+    useful_idx = np.flatnonzero(finite & (x != centre))
+    n_useful = int(len(useful_idx))
+    notes += _median_notes(n_finite - n_useful, n_useful)
+    runs = runs_of_sides(useful_idx, np.where(x[useful_idx] > centre, 1, -1))
+    crossings = max(len(runs) - 1, 0)
+    all_useful = tuple(useful_idx.tolist())
+
+    longest_limit, crossings_limit, runs_limits, signals = _judge(
+        rule_set, x, runs, n_useful, crossings, all_useful
+    )
+    if rule_set == "perla":
+        notes.append(
+            "A single astronomically different point is a matter of judgement and is not "
+            "checked automatically; look at the chart."
+        )
+    signals.sort(key=lambda s: (s.indices[0] if s.indices else -1, s.rule))
+    return RunChartAnalysis(
+        rule_set=rule_set,
+        median=centre,
+        n=n,
+        n_useful=n_useful,
+        longest_run=int(runs.longest),
+        longest_run_limit=longest_limit,
+        crossings=int(crossings),
+        crossings_limit=crossings_limit,
+        runs=int(len(runs)),
+        runs_limits=runs_limits,
+        signals=tuple(signals),
+        notes=tuple(notes),
+    )
+
+
+def _judged(x: np.ndarray, set_aside: Sequence[bool] | np.ndarray | None) -> tuple[np.ndarray, int]:
+    """The points judged (a value, not set aside), and how many values are set aside."""
+    finite = np.isfinite(x)
+    if set_aside is None:
+        return finite, 0
+    aside = np.asarray(set_aside, dtype=bool)
+    if aside.shape != x.shape:
+        raise StatsError(
+            f"set_aside must give one true/false per point ({len(x)}), got {aside.size}"
+        )
+    return finite & ~aside, int((aside & finite).sum())
+
+
+def _centre(
+    x: np.ndarray, finite: np.ndarray, median: float | None, rule_set: str
+) -> tuple[float, list[str]]:
+    """The centre line (the median of the judged points, or the one given) and the first notes."""
     notes: list[str] = [f"Rules used: {RULE_SET_LABELS[rule_set]}."]
     if median is None:
-        centre = float(np.median(x[finite]))
-    else:
-        centre = float(median)
-        if not math.isfinite(centre):
-            raise StatsError("the reference median must be a finite number")
-        notes.append(f"Points are judged against a fixed median of {_sig(centre)}.")
+        return float(np.median(x[finite])), notes
+    centre = float(median)
+    if not math.isfinite(centre):
+        raise StatsError("the reference median must be a finite number")
+    notes.append(f"Points are judged against a fixed median of {_sig(centre)}.")
+    return centre, notes
+
+
+def _left_out_notes(n: int, n_finite: int, n_aside: int) -> list[str]:
+    notes: list[str] = []
     if n_finite + n_aside < n:
         k = n - n_finite - n_aside
         notes.append(f"{_count(k, 'missing value')} {_are(k)} left out of the analysis.")
@@ -331,143 +192,152 @@ def analyse_runs(
             f"{_count(n_aside, 'point')} set aside {_are(n_aside)} left out of the "
             "runs and crossings."
         )
+    return notes
 
-    useful_mask = finite & (x != centre)
-    useful_idx = np.flatnonzero(useful_mask)
-    n_useful = int(len(useful_idx))
-    on_median = n_finite - n_useful
+
+def _median_notes(on_median: int, n_useful: int) -> list[str]:
+    """Points on the median, and too few points off it for the rules to be reliable."""
+    notes: list[str] = []
     if on_median:
         notes.append(
             f"{_count(on_median, 'point')} {'lies' if on_median == 1 else 'lie'} exactly on the "
             f"median; {'it is' if on_median == 1 else 'they are'} not counted in runs "
             "or crossings."
         )
-    sides = np.where(x[useful_idx] > centre, 1, -1)
-    runs = _runs_of_sides(useful_idx, sides)
-    longest = runs.longest
-    crossings = max(len(runs) - 1, 0)
-    n_runs = len(runs)
-    all_useful = tuple(useful_idx.tolist())
-
     if n_useful < MIN_RELIABLE_POINTS:
         notes.append(
             f"Only {_count(n_useful, 'point')} {_are(n_useful)} off the median; run-chart rules "
             "need at least "
             f"{MIN_RELIABLE_POINTS} to be reliable, so treat any result with caution."
         )
+    return notes
 
-    signals: list[Signal] = []
-    longest_limit: int | None
-    crossings_limit: int | None = None
-    runs_limits: tuple[int, int] | None = None
 
-    def side_word(s: int) -> str:
-        return "above" if s > 0 else "below"
-
+def _judge(
+    rule_set: str,
+    x: np.ndarray,
+    runs: SideRuns,
+    n_useful: int,
+    crossings: int,
+    all_useful: tuple[int, ...],
+) -> tuple[int | None, int | None, tuple[int, int] | None, list[Signal]]:
+    """(longest-run limit, crossings limit, runs-count limits, signals) by the rule set."""
     if rule_set == "anhoj":
-        if n_useful >= 1:
-            longest_limit, crossings_limit = anhoj_limits(n_useful)
-        else:
-            longest_limit = None
-        if longest_limit is not None:
-            for s, idx in runs.at_least(longest_limit + 1):
-                if len(idx) > longest_limit:
-                    signals.append(
-                        Signal(
-                            rule="unusually-long-run",
-                            description=(
-                                f"{len(idx)} points in a row {side_word(s)} the median; more than "
-                                f"{longest_limit} in a row is unlikely by chance"
-                            ),
-                            indices=tuple(idx),
-                            side=side_word(s),
-                        )
-                    )
-        if crossings_limit is not None and crossings < crossings_limit:
+        longest_limit, crossings_limit, signals = _anhoj_signals(
+            runs, n_useful, crossings, all_useful
+        )
+        return longest_limit, crossings_limit, None, signals
+    runs_limits, signals = _perla_signals(x, runs, n_useful, all_useful)
+    return PERLA_SHIFT_LENGTH, None, runs_limits, signals
+
+
+def _side_word(s: int) -> str:
+    return "above" if s > 0 else "below"
+
+
+def _anhoj_signals(
+    runs: SideRuns, n_useful: int, crossings: int, all_useful: tuple[int, ...]
+) -> tuple[int | None, int | None, list[Signal]]:
+    """Anhøj: the longest-run and crossings limits, and the signals: each run longer than the
+    limit, and too few crossings."""
+    if n_useful < 1:
+        return None, None, []
+    longest_limit, crossings_limit = anhoj_limits(n_useful)
+    signals: list[Signal] = []
+    for s, idx in runs.at_least(longest_limit + 1):
+        if len(idx) > longest_limit:
             signals.append(
                 Signal(
-                    rule="too-few-crossings",
+                    rule="unusually-long-run",
                     description=(
-                        f"the line crosses the median only {_count(crossings, 'time')}; fewer than "
-                        f"{crossings_limit} crossings is unlikely by chance"
-                    ),
-                    indices=all_useful,
-                )
-            )
-    else:
-        longest_limit = PERLA_SHIFT_LENGTH
-        for s, idx in runs.at_least(PERLA_SHIFT_LENGTH):
-            if len(idx) >= PERLA_SHIFT_LENGTH:
-                signals.append(
-                    Signal(
-                        rule="shift",
-                        description=(
-                            f"shift: {len(idx)} points in a row {side_word(s)} the median "
-                            f"({PERLA_SHIFT_LENGTH} or more signals)"
-                        ),
-                        indices=tuple(idx),
-                        side=side_word(s),
-                    )
-                )
-        for direction, idx in _trends(x, PERLA_TREND_LENGTH):
-            distinct = len({float(x[i]) for i in idx})
-            word = "rising" if direction == "up" else "falling"
-            signals.append(
-                Signal(
-                    rule="trend",
-                    description=(
-                        f"trend: {distinct} points in a row all {word} "
-                        f"({PERLA_TREND_LENGTH} or more signals; equal neighbours count once)"
+                        f"{len(idx)} points in a row {_side_word(s)} the median; more than "
+                        f"{longest_limit} in a row is unlikely by chance"
                     ),
                     indices=tuple(idx),
-                    side=direction,
+                    side=_side_word(s),
                 )
             )
-        if n_useful >= 2:
-            runs_limits = perla_runs_limits(n_useful)
-            low, high = runs_limits
-            if n_runs <= low:
-                signals.append(
-                    Signal(
-                        rule="too-few-runs",
-                        description=(
-                            f"too few runs: {_count(n_runs, 'run')} where {low} or fewer is unlikely by "
-                            f"chance for {n_useful} points"
-                        ),
-                        indices=all_useful,
-                    )
-                )
-            elif n_runs >= high:
-                signals.append(
-                    Signal(
-                        rule="too-many-runs",
-                        description=(
-                            f"too many runs: {n_runs} runs where {high} or more is unlikely by "
-                            f"chance for {n_useful} points"
-                        ),
-                        indices=all_useful,
-                    )
-                )
-        notes.append(
-            "A single astronomically different point is a matter of judgement and is not "
-            "checked automatically; look at the chart."
+    if crossings < crossings_limit:
+        signals.append(
+            Signal(
+                rule="too-few-crossings",
+                description=(
+                    f"the line crosses the median only {_count(crossings, 'time')}; fewer than "
+                    f"{crossings_limit} crossings is unlikely by chance"
+                ),
+                indices=all_useful,
+            )
         )
+    return longest_limit, crossings_limit, signals
 
-    signals.sort(key=lambda s: (s.indices[0] if s.indices else -1, s.rule))
-    return RunChartAnalysis(
-        rule_set=rule_set,
-        median=centre,
-        n=n,
-        n_useful=n_useful,
-        longest_run=int(longest),
-        longest_run_limit=longest_limit,
-        crossings=int(crossings),
-        crossings_limit=crossings_limit,
-        runs=int(n_runs),
-        runs_limits=runs_limits,
-        signals=tuple(signals),
-        notes=tuple(notes),
-    )
+
+def _perla_signals(
+    x: np.ndarray, runs: SideRuns, n_useful: int, all_useful: tuple[int, ...]
+) -> tuple[tuple[int, int] | None, list[Signal]]:
+    """Perla, Provost & Murray: the runs-count limits, and the signals: shifts, trends, too few
+    or too many runs."""
+    signals: list[Signal] = []
+    for s, idx in runs.at_least(PERLA_SHIFT_LENGTH):
+        if len(idx) >= PERLA_SHIFT_LENGTH:
+            signals.append(
+                Signal(
+                    rule="shift",
+                    description=(
+                        f"shift: {len(idx)} points in a row {_side_word(s)} the median "
+                        f"({PERLA_SHIFT_LENGTH} or more signals)"
+                    ),
+                    indices=tuple(idx),
+                    side=_side_word(s),
+                )
+            )
+    for direction, idx in trends(x, PERLA_TREND_LENGTH):
+        distinct = len({float(x[i]) for i in idx})
+        word = "rising" if direction == "up" else "falling"
+        signals.append(
+            Signal(
+                rule="trend",
+                description=(
+                    f"trend: {distinct} points in a row all {word} "
+                    f"({PERLA_TREND_LENGTH} or more signals; equal neighbours count once)"
+                ),
+                indices=tuple(idx),
+                side=direction,
+            )
+        )
+    if n_useful < 2:
+        return None, signals
+    runs_limits = perla_runs_limits(n_useful)
+    signals += _runs_count_signals(len(runs), runs_limits, n_useful, all_useful)
+    return runs_limits, signals
+
+
+def _runs_count_signals(
+    n_runs: int, limits: tuple[int, int], n_useful: int, all_useful: tuple[int, ...]
+) -> list[Signal]:
+    low, high = limits
+    if n_runs <= low:
+        return [
+            Signal(
+                rule="too-few-runs",
+                description=(
+                    f"too few runs: {_count(n_runs, 'run')} where {low} or fewer is unlikely by "
+                    f"chance for {n_useful} points"
+                ),
+                indices=all_useful,
+            )
+        ]
+    if n_runs >= high:
+        return [
+            Signal(
+                rule="too-many-runs",
+                description=(
+                    f"too many runs: {n_runs} runs where {high} or more is unlikely by "
+                    f"chance for {n_useful} points"
+                ),
+                indices=all_useful,
+            )
+        ]
+    return []
 
 
 def shift_against(
