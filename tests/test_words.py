@@ -14,8 +14,9 @@ import numpy as np
 import pytest
 from scipy import stats as sps
 
-from steadyline import config, vocab
+from steadyline import vocab
 from steadyline.charts import style
+from steadyline.config import keys
 from steadyline.stats import runs
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -36,12 +37,12 @@ def _specs(site: Path) -> dict[str, dict]:
 
 
 def test_config_takes_its_sets_of_codes_from_the_vocabulary():
-    assert config.SIGNAL_RULES == vocab.SignalRules.codes()
-    assert config.RUN_RULES == vocab.RunRules.codes()
-    assert config.CHARTS == vocab.ChartKind.codes()
-    assert config.DATA_TYPES == vocab.DataType.codes()
-    assert config.PERIODS == vocab.RollupPeriod.codes()
-    assert config.STATISTICS == vocab.RollupStatistic.codes()
+    assert keys.SIGNAL_RULES == vocab.SignalRules.codes()
+    assert keys.RUN_RULES == vocab.RunRules.codes()
+    assert keys.CHARTS == vocab.ChartKind.codes()
+    assert keys.DATA_TYPES == vocab.DataType.codes()
+    assert keys.PERIODS == vocab.RollupPeriod.codes()
+    assert keys.STATISTICS == vocab.RollupStatistic.codes()
     assert style.PERIOD_KINDS == tuple(k.value for k in vocab.PeriodKind)
 
 
