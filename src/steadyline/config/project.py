@@ -18,7 +18,7 @@ from ..errors import Problem, ProjectError, rel
 from .discovery import NOTES_DEFAULT, PROJECT_FILE
 from .keys import COMPARISON_KEYS, EVENT_KEYS, PHASE_DATE_KEYS, PHASES, PROJECT_KEYS, SLUG_RE
 from .metric import read_metric
-from .model import Event, MetricSpec, PortfolioSettings, ProjectSpec
+from .model import Event, MetricSpec, Period, PortfolioSettings, ProjectSpec
 from .reading import Checker, Reader
 from .shape import period_clash
 from .studies import check_study_links
@@ -34,6 +34,60 @@ def load_project(
     """
     settings = settings or PortfolioSettings()
     root = root or folder.parent
+    meta = _project_file(folder, root)
+    data, text, problems = read_toml(meta, root)
+    if data is None:
+        raise ProjectError(problems)
+    ck = Checker(meta, root, text)
+    slug = folder.name
+    if not SLUG_RE.match(slug):
+        ck.add(
+            "",
+            f"the folder name {slug!r} is not a valid project slug; use lower-case "
+            "letters, digits and hyphens",
+        )
+    ck.unknown_keys(data, PROJECT_KEYS, "")
+    r = Reader(ck, data, "")
+    title = r.text("title", required=True, default=slug, what="the project's title")
+    owner = r.text("owner", required=True, default="", what="who leads the project")
+    phase = r.choice("phase", PHASES, default="define", required=True)
+    problem = r.text("problem", required=True, default="", what="the problem statement")
+    tags = _tags(data, r)
+    notes = r.text("notes")
+    notes_path = _notes(ck, folder, notes)
+    safety = r.boolean("safety_related")
+    phase_dates = _phase_dates(ck, r)
+    comp_baseline, comp_after = _comparison(ck, r)
+    events = _events(ck, data, r)
+    raw_metrics = _metric_tables(ck, data, r)
+    metrics = _metrics(ck, raw_metrics, folder, root, settings, comp_baseline, comp_after)
+    _strays(ck, folder, root, notes, raw_metrics)
+
+    errors = [p for p in ck.problems if p.severity == "error"]
+    if errors:
+        raise ProjectError(ck.problems)
+    project = ProjectSpec(
+        slug=slug,
+        folder=folder,
+        meta_path=meta,
+        meta_rel=ck.shown,
+        title=title or slug,
+        owner=owner or "",
+        phase=phase or "define",
+        problem=problem or "",
+        tags=tags,
+        notes_path=notes_path,
+        safety_related=safety,
+        phase_dates=phase_dates,
+        events=events,
+        metrics=metrics,
+    )
+    return project, [p for p in ck.problems if p.severity != "error"]
+
+
+def _project_file(folder: Path, root: Path) -> Path:
+    """The project's project.toml, once the folder and the file are known to be inside where
+    they must be and the file can be read; else a ProjectError with the one reason."""
     if not files.inside(folder, root):
         raise ProjectError(
             [
@@ -90,32 +144,23 @@ def load_project(
         )
     if (why := fault(meta)) is not None:
         raise ProjectError([Problem(rel(meta, root), None, "", why)])
-    data, text, problems = read_toml(meta, root)
-    if data is None:
-        raise ProjectError(problems)
-    ck = Checker(meta, root, text)
-    slug = folder.name
-    if not SLUG_RE.match(slug):
-        ck.add(
-            "",
-            f"the folder name {slug!r} is not a valid project slug; use lower-case "
-            "letters, digits and hyphens",
-        )
-    ck.unknown_keys(data, PROJECT_KEYS, "")
-    r = Reader(ck, data, "")
-    title = r.text("title", required=True, default=slug, what="the project's title")
-    owner = r.text("owner", required=True, default="", what="who leads the project")
-    phase = r.choice("phase", PHASES, default="define", required=True)
-    problem = r.text("problem", required=True, default="", what="the problem statement")
-    tags: tuple[str, ...] = ()
-    if "tags" in data:
-        v = data["tags"]
-        if not isinstance(v, list) or not all(isinstance(t, str) for t in v):
-            r._bad("tags", "a list of text", v)
-        else:
-            tags = tuple(dict.fromkeys(t.strip() for t in v if t.strip()))
-    notes_path = None
-    notes = r.text("notes")
+    return meta
+
+
+def _tags(data: dict, r: Reader) -> tuple[str, ...]:
+    """The tags, each once, in their order."""
+    if "tags" not in data:
+        return ()
+    v = data["tags"]
+    if not isinstance(v, list) or not all(isinstance(t, str) for t in v):
+        r._bad("tags", "a list of text", v)
+        return ()
+    return tuple(dict.fromkeys(t.strip() for t in v if t.strip()))
+
+
+def _notes(ck: Checker, folder: Path, notes: str | None) -> Path | None:
+    """The notes file: the one named, else notes.md when present (used then, so it must be
+    readable); None when there is none or it cannot be used."""
     if notes is not None:
         p = folder / notes
         if Path(notes).is_absolute() or not files.inside(p, folder):
@@ -129,7 +174,7 @@ def load_project(
         elif why is not None:
             ck.add("notes", sentence(f"the notes file {notes!r}", why), ck.loc.line_of("notes"))
         else:
-            notes_path = p
+            return p
     elif files.exists(folder / NOTES_DEFAULT):  # used when present, so it must be readable
         if not files.inside(folder / NOTES_DEFAULT, folder):
             ck.add(
@@ -140,39 +185,52 @@ def load_project(
         elif (why := fault(folder / NOTES_DEFAULT)) is not None:
             ck.add("notes", sentence(f"the notes file {NOTES_DEFAULT!r}", why))
         else:
-            notes_path = folder / NOTES_DEFAULT
-    safety = r.boolean("safety_related")
+            return folder / NOTES_DEFAULT
+    return None
 
+
+def _phase_dates(ck: Checker, r: Reader) -> tuple[tuple[str, dt.date], ...]:
+    """The dates the project entered its phases, in the phases' order, each after the last."""
     phase_dates: list[tuple[str, dt.date]] = []
     pd_table = r.table_("phase_dates")
-    if pd_table is not None:
-        ck.unknown_keys(pd_table, PHASE_DATE_KEYS, "phase_dates.", table="phase_dates")
-        pr = Reader(ck, pd_table, "phase_dates.", table="phase_dates")
-        for ph in PHASES:
-            if ph in pd_table:
-                d = pr.date(ph)
-                if d is not None:
-                    phase_dates.append((ph, d))
-        for (a, da), (b, db) in zip(phase_dates, phase_dates[1:], strict=False):
-            if db < da:
-                ck.add(
-                    f"phase_dates.{b}",
-                    f"{b} starts {db}, before {a} ({da}); phases run "
-                    "define, measure, analyze, improve, control",
-                    ck.loc.line_of(b, "phase_dates"),
-                )
+    if pd_table is None:
+        return ()
+    ck.unknown_keys(pd_table, PHASE_DATE_KEYS, "phase_dates.", table="phase_dates")
+    pr = Reader(ck, pd_table, "phase_dates.", table="phase_dates")
+    for ph in PHASES:
+        if ph in pd_table:
+            d = pr.date(ph)
+            if d is not None:
+                phase_dates.append((ph, d))
+    for (a, da), (b, db) in zip(phase_dates, phase_dates[1:], strict=False):
+        if db < da:
+            ck.add(
+                f"phase_dates.{b}",
+                f"{b} starts {db}, before {a} ({da}); phases run "
+                "define, measure, analyze, improve, control",
+                ck.loc.line_of(b, "phase_dates"),
+            )
+    return tuple(phase_dates)
 
-    comp_baseline = comp_after = None
+
+def _comparison(ck: Checker, r: Reader) -> tuple[Period | None, Period | None]:
+    """The [comparison] baseline and after periods every metric takes unless it sets its own;
+    a clash of the two is reported here, once."""
     comp = r.table_("comparison")
-    if comp is not None:
-        ck.unknown_keys(comp, COMPARISON_KEYS, "comparison.", table="comparison")
-        cr = Reader(ck, comp, "comparison.", table="comparison")
-        comp_baseline, comp_after = cr.period("baseline"), cr.period("after")
-        if comp_baseline and comp_after:
-            clash = period_clash(comp_baseline, comp_after)
-            if clash:
-                ck.add(f"comparison.{clash[0]}", clash[1], cr._line(clash[0]))
+    if comp is None:
+        return None, None
+    ck.unknown_keys(comp, COMPARISON_KEYS, "comparison.", table="comparison")
+    cr = Reader(ck, comp, "comparison.", table="comparison")
+    comp_baseline, comp_after = cr.period("baseline"), cr.period("after")
+    if comp_baseline and comp_after:
+        clash = period_clash(comp_baseline, comp_after)
+        if clash:
+            ck.add(f"comparison.{clash[0]}", clash[1], cr._line(clash[0]))
+    return comp_baseline, comp_after
 
+
+def _events(ck: Checker, data: dict, r: Reader) -> tuple[Event, ...]:
+    """The [[event]] tables, by date."""
     events: list[Event] = []
     ev = data.get("event", [])
     if not isinstance(ev, list) or not all(isinstance(e, dict) for e in ev):
@@ -189,30 +247,48 @@ def load_project(
         if d is not None and label:
             events.append(Event(d, label))
     events.sort(key=lambda e: (e.date, e.label))
+    return tuple(events)
 
-    metrics: list[MetricSpec] = []
+
+def _metric_tables(ck: Checker, data: dict, r: Reader) -> list[dict]:
+    """The [[metric]] tables as written; none when they are missing or not tables."""
     raw_metrics = data.get("metric")
     # A project without a metric has nothing to draw: an error (where the file says so: an
     # empty list `metric = []`, or a single [metric] table written for [[metric]]).
     if raw_metrics is None:
         ck.add("metric", "no [[metric]] table; a project needs at least one metric")
-        raw_metrics = []
-    elif isinstance(raw_metrics, dict):
+        return []
+    if isinstance(raw_metrics, dict):
         ck.add(
             "metric",
             "[metric] is a single table; write [[metric]] (double brackets) before each metric",
             ck.loc.header_line("metric") or ck.loc.line_of("metric"),
         )
-        raw_metrics = []
-    elif not isinstance(raw_metrics, list) or not all(isinstance(m, dict) for m in raw_metrics):
+        return []
+    if not isinstance(raw_metrics, list) or not all(isinstance(m, dict) for m in raw_metrics):
         r._bad("metric", "[[metric]] tables", raw_metrics)
-        raw_metrics = []
-    elif not raw_metrics:
+        return []
+    if not raw_metrics:
         ck.add(
             "metric",
             "the list of metrics is empty; a project needs at least one [[metric]] table",
             ck.loc.line_of("metric"),
         )
+    return raw_metrics
+
+
+def _metrics(
+    ck: Checker,
+    raw_metrics: list[dict],
+    folder: Path,
+    root: Path,
+    settings: PortfolioSettings,
+    comp_baseline: Period | None,
+    comp_after: Period | None,
+) -> tuple[MetricSpec, ...]:
+    """Every metric read, then what only all of them together can tell: unique ids, the links
+    to measurement studies, one headline."""
+    metrics: list[MetricSpec] = []
     seen_ids: set[str] = set()
     indexed: list[tuple[int, MetricSpec]] = []
     for i, m in enumerate(raw_metrics):
@@ -233,7 +309,13 @@ def load_project(
         check_study_links(ck, indexed)
     if sum(m.headline for m in metrics) > 1:
         ck.add("metric.headline", "more than one metric is marked headline = true; mark one")
-    # What the project holds but does not use, and could not be read: a warning, never more.
+    return tuple(metrics)
+
+
+def _strays(
+    ck: Checker, folder: Path, root: Path, notes: str | None, raw_metrics: list[dict]
+) -> None:
+    """What the project holds but does not use, and could not be read: a warning, never more."""
     used = {os.path.normpath(folder / n) for n in (PROJECT_FILE, NOTES_DEFAULT, notes) if n}
     used |= {
         os.path.normpath(folder / x["file"]) for x in raw_metrics if isinstance(x.get("file"), str)
@@ -248,27 +330,6 @@ def load_project(
                 "warning",
             )
         )
-
-    errors = [p for p in ck.problems if p.severity == "error"]
-    if errors:
-        raise ProjectError(ck.problems)
-    project = ProjectSpec(
-        slug=slug,
-        folder=folder,
-        meta_path=meta,
-        meta_rel=ck.shown,
-        title=title or slug,
-        owner=owner or "",
-        phase=phase or "define",
-        problem=problem or "",
-        tags=tags,
-        notes_path=notes_path,
-        safety_related=safety,
-        phase_dates=tuple(phase_dates),
-        events=tuple(events),
-        metrics=tuple(metrics),
-    )
-    return project, [p for p in ck.problems if p.severity != "error"]
 
 
 def read_heading(folder: Path, root: Path | None = None) -> dict[str, str]:
