@@ -11,7 +11,7 @@ import difflib
 from typing import Any
 
 from .keys import SET_ASIDE_KEYS
-from .model import MetricSpec, SetAside
+from .model import MetricSpec, Period, SetAside
 from .reading import Checker, Reader, type_name
 
 
@@ -52,41 +52,59 @@ def read_set_aside(ck: Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[Set
             line,
         )
         return ()
-    out: list[SetAside] = []
-    for j, e in enumerate(raw):
-        where = f"{prefix}[{j + 1}]"
-        er = _EntryReader(ck, e, f"{where}.", i, "set_aside", j)
-        for key in e:
-            if key not in SET_ASIDE_KEYS:
-                guess = difflib.get_close_matches(key, SET_ASIDE_KEYS, n=1, cutoff=0.6)
-                hint = (
-                    f"did you mean '{guess[0]}'?"
-                    if guess
-                    else "allowed keys are: " + ", ".join(SET_ASIDE_KEYS)
-                )
-                ck.add(f"{where}.{key}", f"unknown key; {hint}", er._line(key))
-        reason = er.text(
-            "reason",
-            required=True,
-            what="why these points are set aside: the cause found and removed",
+    entries = (_entry(ck, e, i, j, spec.baseline) for j, e in enumerate(raw))
+    kept = _apart(ck, [e for e in entries if e is not None])
+    b = spec.baseline
+    if kept and b is not None and b.end is not None and _cover(kept, b.start, b.end):
+        ck.add(
+            prefix,
+            f"the days set aside cover the whole baseline period ({b.label()}); "
+            "no point would be left to compute the baseline from",
+            line,
         )
-        if "dates" not in e:
-            er.missing("dates", "[day] or [first day, last day] of the points set aside")
-            continue
-        p = er.period("dates")
-        if p is None or reason is None:
-            continue
-        entry = SetAside(p.start, p.end or p.start, reason, where, ck.shown, er._line("dates"))
-        b = spec.baseline
-        if b is not None and (entry.start < b.start or (b.end is not None and entry.end > b.end)):
-            ck.add(
-                f"{where}.dates",
-                f"{entry.label()} is not inside the baseline period "
-                f"({b.label()}); only baseline points can be set aside",
-                entry.line,
+        return ()
+    return tuple(kept)
+
+
+def _entry(ck: Checker, e: dict, i: int, j: int, baseline: Period | None) -> SetAside | None:
+    """The j-th entry of the i-th metric, when it is whole and inside the baseline."""
+    where = f"metric[{i + 1}].set_aside[{j + 1}]"
+    er = _EntryReader(ck, e, f"{where}.", i, "set_aside", j)
+    for key in e:
+        if key not in SET_ASIDE_KEYS:
+            guess = difflib.get_close_matches(key, SET_ASIDE_KEYS, n=1, cutoff=0.6)
+            hint = (
+                f"did you mean '{guess[0]}'?"
+                if guess
+                else "allowed keys are: " + ", ".join(SET_ASIDE_KEYS)
             )
-            continue
-        out.append(entry)
+            ck.add(f"{where}.{key}", f"unknown key; {hint}", er._line(key))
+    reason = er.text(
+        "reason",
+        required=True,
+        what="why these points are set aside: the cause found and removed",
+    )
+    if "dates" not in e:
+        er.missing("dates", "[day] or [first day, last day] of the points set aside")
+        return None
+    p = er.period("dates")
+    if p is None or reason is None:
+        return None
+    entry = SetAside(p.start, p.end or p.start, reason, where, ck.shown, er._line("dates"))
+    b = baseline
+    if b is not None and (entry.start < b.start or (b.end is not None and entry.end > b.end)):
+        ck.add(
+            f"{where}.dates",
+            f"{entry.label()} is not inside the baseline period "
+            f"({b.label()}); only baseline points can be set aside",
+            entry.line,
+        )
+        return None
+    return entry
+
+
+def _apart(ck: Checker, out: list[SetAside]) -> list[SetAside]:
+    """The entries in time order, each that overlaps an earlier one reported and dropped."""
     out.sort(key=lambda e: (e.start, e.end))
     kept: list[SetAside] = []
     for e in out:
@@ -99,20 +117,14 @@ def read_set_aside(ck: Checker, raw: Any, i: int, spec: MetricSpec) -> tuple[Set
             )
             continue
         kept.append(e)
-    b = spec.baseline
-    if kept and b is not None and b.end is not None:
-        day, covered = b.start, True
-        for e in kept:
-            if e.start > day:
-                covered = False
-                break
-            day = max(day, e.end + dt.timedelta(days=1))
-        if covered and day > b.end:
-            ck.add(
-                prefix,
-                f"the days set aside cover the whole baseline period ({b.label()}); "
-                "no point would be left to compute the baseline from",
-                line,
-            )
-            return ()
-    return tuple(kept)
+    return kept
+
+
+def _cover(kept: list[SetAside], start: dt.date, end: dt.date) -> bool:
+    """Whether the entries (in order, apart) leave no day of *start* to *end* uncovered."""
+    day = start
+    for e in kept:
+        if e.start > day:
+            return False
+        day = max(day, e.end + dt.timedelta(days=1))
+    return day > end

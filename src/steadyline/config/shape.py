@@ -7,8 +7,10 @@ been read on its own.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from .keys import STATISTICS, STUDY
-from .model import MetricSpec, Period
+from .model import MetricSpec, Period, Rollup
 from .reading import Checker, Reader
 from .studies import check_study_shape
 
@@ -24,6 +26,28 @@ def check_metric_shape(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> No
     if m.type == STUDY:
         check_study_shape(ck, m, prefix, r, need)
         return
+    _check_columns(ck, m, prefix, r, need)
+    if m.rollup is not None:
+        _check_rollup(ck, m, m.rollup, prefix, r)
+    _check_limits_and_target(ck, m, prefix, r)
+    _check_business_keys(ck, m, prefix, r)
+    if m.better == "target" and m.target is None:
+        ck.add(
+            f"{prefix}target", 'better = "target" needs a target value', line, severity="warning"
+        )
+    if m.type not in ("categories", STUDY) and m.baseline is None:
+        ck.add(
+            f"{prefix}baseline",
+            "no baseline period (here or in [comparison]); all the data is treated as baseline",
+            line,
+            severity="warning",
+        )
+
+
+def _check_columns(
+    ck: Checker, m: MetricSpec, prefix: str, r: Reader, need: Callable[[str, str], None]
+) -> None:
+    """The columns a process metric's type needs, and none of a measurement study's."""
     for key in ("part", "appraiser"):
         if getattr(m, key) is not None:
             ck.add(
@@ -44,7 +68,7 @@ def check_metric_shape(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> No
                 "a subgroups metric needs exactly one of 'subgroup' (the "
                 "column naming each subgroup) or 'subgroup_size' (a fixed size over "
                 "consecutive rows)",
-                line,
+                r._line(None),
             )
     elif m.type == "defectives":
         flags = m.value is not None and m.rollup is not None
@@ -55,20 +79,29 @@ def check_metric_shape(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> No
         need("count", "the column with the number of defects")
     elif m.type == "categories":
         need("category", "the column with each row's category")
-    if m.rollup is not None:
-        if m.type in ("subgroups", "categories"):
-            ck.add(
-                f"{prefix}rollup", f"a roll-up does not apply to a {m.type} metric; remove it", line
-            )
-        else:
-            fits, what = rollup_statistics(m)
-            if m.rollup.statistic not in fits:
-                use = " or ".join(f'"{f}"' for f in fits)
-                ck.add(
-                    f"{prefix}rollup.statistic",
-                    f'"{m.rollup.statistic}" does not fit {what}; use statistic = {use}',
-                    ck.loc.line_of("statistic", r.table, r.index, "rollup"),
-                )
+
+
+def _check_rollup(ck: Checker, m: MetricSpec, rollup: Rollup, prefix: str, r: Reader) -> None:
+    """The metric's roll-up only where it applies, and only with a statistic that fits."""
+    if m.type in ("subgroups", "categories"):
+        ck.add(
+            f"{prefix}rollup",
+            f"a roll-up does not apply to a {m.type} metric; remove it",
+            r._line(None),
+        )
+        return
+    fits, what = rollup_statistics(m)
+    if rollup.statistic not in fits:
+        use = " or ".join(f'"{f}"' for f in fits)
+        ck.add(
+            f"{prefix}rollup.statistic",
+            f'"{rollup.statistic}" does not fit {what}; use statistic = {use}',
+            ck.loc.line_of("statistic", r.table, r.index, "rollup"),
+        )
+
+
+def _check_limits_and_target(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> None:
+    """The specification limits in order, and the target between them."""
     if m.spec_lower is not None and m.spec_upper is not None and m.spec_lower >= m.spec_upper:
         ck.add(
             f"{prefix}spec_lower",
@@ -80,34 +113,32 @@ def check_metric_shape(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> No
     # about either (capability, closeness to target) could not be true. On a limit is allowed
     # (a target of zero with spec_lower = 0).
     lo, hi, t = m.spec_lower, m.spec_upper, m.target
-    if t is not None and not (lo is not None and hi is not None and lo >= hi):
-        if (lo is not None and t < lo) or (hi is not None and t > hi):
-            if lo is not None and hi is not None:
-                limits = f"outside the specification limits ({_num(lo)} to {_num(hi)})"
-            else:
-                limits = (
-                    f"below spec_lower ({_num(lo)})"
-                    if lo is not None
-                    else f"above spec_upper ({_num(hi)})"
-                )
-            ck.add(
-                f"{prefix}target",
-                f"the target {_num(t)} is {limits}; a process on target "
-                "would be out of specification: check the target and the limits",
-                r._line("target"),
-            )
-    _check_business_keys(ck, m, prefix, r)
-    if m.better == "target" and m.target is None:
+    if t is None or (lo is not None and hi is not None and lo >= hi):
+        return
+    limits = _off_spec(t, lo, hi)
+    if limits is not None:
         ck.add(
-            f"{prefix}target", 'better = "target" needs a target value', line, severity="warning"
+            f"{prefix}target",
+            f"the target {_num(t)} is {limits}; a process on target "
+            "would be out of specification: check the target and the limits",
+            r._line("target"),
         )
-    if m.type not in ("categories", STUDY) and m.baseline is None:
-        ck.add(
-            f"{prefix}baseline",
-            "no baseline period (here or in [comparison]); all the data is treated as baseline",
-            line,
-            severity="warning",
+
+
+def _off_spec(t: float, lo: float | None, hi: float | None) -> str | None:
+    """Where a target lies off the specification limits, in words; None when it is on them
+    or between them."""
+    if lo is not None and hi is not None:
+        return (
+            None
+            if lo <= t <= hi
+            else f"outside the specification limits ({_num(lo)} to {_num(hi)})"
         )
+    if lo is not None and t < lo:
+        return f"below spec_lower ({_num(lo)})"
+    if hi is not None and t > hi:
+        return f"above spec_upper ({_num(hi)})"
+    return None
 
 
 def _check_business_keys(ck: Checker, m: MetricSpec, prefix: str, r: Reader) -> None:

@@ -16,6 +16,8 @@ from ..errors import Problem, rel
 
 
 def read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Problem]]:
+    """The file's TOML, its text and its problem (unreadable, not UTF-8, TOML syntax with its
+    line): the data None when there is one."""
     shown = rel(path, root)
     try:
         raw = files.read_bytes(path)  # never opens anything but a regular file
@@ -24,8 +26,12 @@ def read_toml(path: Path, root: Path | None) -> tuple[dict | None, str, list[Pro
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as e:
-        line = raw[: e.start].count(b"\n") + 1
-        return None, "", [Problem(shown, line, "", "the file is not UTF-8 text; save it as UTF-8")]
+        bad_line = raw[: e.start].count(b"\n") + 1
+        return (
+            None,
+            "",
+            [Problem(shown, bad_line, "", "the file is not UTF-8 text; save it as UTF-8")],
+        )
     try:
         return tomllib.loads(text), text, []
     except tomllib.TOMLDecodeError as e:
