@@ -15,8 +15,6 @@ import pytest
 from scipy import stats as sps
 
 from steadyline import vocab
-from steadyline.charts import style
-from steadyline.config import keys
 from steadyline.stats import runs
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -34,16 +32,6 @@ def _specs(site: Path) -> dict[str, dict]:
 
 
 # ----------------------------------------------------------------------------- the vocabulary
-
-
-def test_config_takes_its_sets_of_codes_from_the_vocabulary():
-    assert keys.SIGNAL_RULES == vocab.SignalRules.codes()
-    assert keys.RUN_RULES == vocab.RunRules.codes()
-    assert keys.CHARTS == vocab.ChartKind.codes()
-    assert keys.DATA_TYPES == vocab.DataType.codes()
-    assert keys.PERIODS == vocab.RollupPeriod.codes()
-    assert keys.STATISTICS == vocab.RollupStatistic.codes()
-    assert style.PERIOD_KINDS == tuple(k.value for k in vocab.PeriodKind)
 
 
 def test_the_statistics_name_each_run_rule_set_as_the_pages_do():

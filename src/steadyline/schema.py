@@ -21,7 +21,7 @@ import json
 import re
 from typing import Any
 
-from .config import KEYS, SLUG_RE, Key
+from .config.keys import KEYS, SLUG_RE, Key
 
 DRAFT = "http://json-schema.org/draft-04/schema#"
 SCHEMA_FILES = {"project": "project.schema.json", "portfolio": "portfolio.schema.json"}

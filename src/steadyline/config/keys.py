@@ -11,17 +11,35 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from ..vocab import ChartKind, DataType, RollupPeriod, RollupStatistic, RunRules, SignalRules
+from ..vocab import (
+    Better,
+    ChartKind,
+    DataType,
+    LimitMode,
+    Phase,
+    RollupPeriod,
+    RollupStatistic,
+    RunRules,
+    SignalRules,
+)
 
-PHASES = ("define", "measure", "analyze", "improve", "control")
+# The sets of the vocabulary, as the validator and KEYS take them: tuples of their codes.
+PHASES = Phase.codes()
 DATA_TYPES = DataType.codes()
 STUDY = DataType.STUDY.value  # a measurement system study: no time, no better direction
-BETTER = ("lower", "higher", "target")
+BETTER = Better.codes()
 CHARTS = ChartKind.codes()
-SIGMA_LEVELS = ("off", "with-shift", "without-shift")
 SIGNAL_RULES = SignalRules.codes()
 RUN_RULES = RunRules.codes()
-LIMIT_MODES = ("baseline", "per-phase")
+LIMIT_MODES = LimitMode.codes()
+PERIODS = RollupPeriod.codes()
+STATISTICS = RollupStatistic.codes()
+
+# Sets the validator defines for itself: the statistics hold their codes in tables with their
+# names (stats.distribution's QUARTILE_METHODS and HISTOGRAM_RULES) and the pages name the sigma
+# levels (site.studies.SIGMA_WORDS), but the validation is light and loads neither; the tables
+# are held to these sets by tests/test_vocabulary.py.
+SIGMA_LEVELS = ("off", "with-shift", "without-shift")
 QUARTILE_METHODS = (
     "inverted_cdf",
     "averaged_inverted_cdf",
@@ -35,8 +53,6 @@ QUARTILE_METHODS = (
     "tukey-hinges",
 )
 BIN_RULES = ("fd", "sturges", "scott")
-PERIODS = RollupPeriod.codes()
-STATISTICS = RollupStatistic.codes()
 SLUG_RE = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 
 

@@ -206,8 +206,7 @@ def _phase_dates(ck: Checker, r: Reader) -> tuple[tuple[str, dt.date], ...]:
         if db < da:
             ck.add(
                 f"phase_dates.{b}",
-                f"{b} starts {db}, before {a} ({da}); phases run "
-                "define, measure, analyze, improve, control",
+                f"{b} starts {db}, before {a} ({da}); phases run {', '.join(PHASES)}",
                 ck.loc.line_of(b, "phase_dates"),
             )
     return tuple(phase_dates)
