@@ -1,7 +1,7 @@
 """JSON Schemas of project.toml and portfolio.toml, for editors that check TOML against one.
 
 The keys, their kinds, the required ones and the sets of choices come from
-:data:`steadyline.config.KEYS`: the key names and choices are those the validator checks
+:data:`steadyline.config.keys.KEYS`: the key names and choices are those the validator checks
 against, read from the same table; each key's kind (text, number, date ...) is held to what the
 validator accepts by tests/test_editor_schema.py, which gives every key a value of the wrong
 type and expects both to refuse it. The descriptions come from the comments of the two TOML
