@@ -1,6 +1,6 @@
 """The projects folder: the metadata files' names, its project folders and its strays.
 
-Light (no TOML is read): the build lists the projects before it reads any of them.
+No TOML is read here: the build lists the projects (and warns of strays) before it reads any.
 """
 
 from __future__ import annotations
