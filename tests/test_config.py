@@ -5,7 +5,8 @@ from __future__ import annotations
 import pytest
 from corpus.kit import good_csv, write
 
-from steadyline.config import load_portfolio, load_project
+from steadyline.config.portfolio import load_portfolio
+from steadyline.config.project import load_project
 from steadyline.errors import ProjectError
 
 TOML = """title = "T"

@@ -18,7 +18,9 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from steadyline.config import KEYS, load_portfolio, load_project
+from steadyline.config.keys import KEYS
+from steadyline.config.portfolio import load_portfolio
+from steadyline.config.project import load_project
 from steadyline.errors import ProjectError
 from steadyline.schema import SCHEMA_FILES, render
 

@@ -14,8 +14,7 @@ import numpy as np
 import pytest
 from scipy import stats as sps
 
-from steadyline import config, vocab
-from steadyline.charts import style
+from steadyline import vocab
 from steadyline.stats import runs
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -33,16 +32,6 @@ def _specs(site: Path) -> dict[str, dict]:
 
 
 # ----------------------------------------------------------------------------- the vocabulary
-
-
-def test_config_takes_its_sets_of_codes_from_the_vocabulary():
-    assert config.SIGNAL_RULES == vocab.SignalRules.codes()
-    assert config.RUN_RULES == vocab.RunRules.codes()
-    assert config.CHARTS == vocab.ChartKind.codes()
-    assert config.DATA_TYPES == vocab.DataType.codes()
-    assert config.PERIODS == vocab.RollupPeriod.codes()
-    assert config.STATISTICS == vocab.RollupStatistic.codes()
-    assert style.PERIOD_KINDS == tuple(k.value for k in vocab.PeriodKind)
 
 
 def test_the_statistics_name_each_run_rule_set_as_the_pages_do():

@@ -1,7 +1,7 @@
 """JSON Schemas of project.toml and portfolio.toml, for editors that check TOML against one.
 
 The keys, their kinds, the required ones and the sets of choices come from
-:data:`steadyline.config.KEYS`: the key names and choices are those the validator checks
+:data:`steadyline.config.keys.KEYS`: the key names and choices are those the validator checks
 against, read from the same table; each key's kind (text, number, date ...) is held to what the
 validator accepts by tests/test_editor_schema.py, which gives every key a value of the wrong
 type and expects both to refuse it. The descriptions come from the comments of the two TOML
@@ -21,7 +21,7 @@ import json
 import re
 from typing import Any
 
-from .config import KEYS, SLUG_RE, Key
+from .config.keys import KEYS, SLUG_RE, Key
 
 DRAFT = "http://json-schema.org/draft-04/schema#"
 SCHEMA_FILES = {"project": "project.schema.json", "portfolio": "portfolio.schema.json"}

@@ -7,6 +7,12 @@ set, a chart kind, a kind of period or a type of data takes the name from here, 
 thing is never named two ways on one site. The README's lists are checked against these sets
 by the tests.
 
+The statistics take some of these sets as arguments (data types, chart kinds, rule sets, limit
+modes, directions of better); they import nothing of ours, so they hold those codes in
+:mod:`steadyline.stats.codes`, which tests/test_vocabulary.py holds equal to the sets here. This
+module cannot build on that one: importing it would load the statistics into the light
+modules that name the sets (the metadata's validation, the index).
+
 The statuses live in :mod:`steadyline.status` (the index reads them without loading anything
 else) and are re-exported here.
 
@@ -21,16 +27,46 @@ from .status import LABELS as STATUS_LABELS
 from .status import Status
 
 
-class _Worded(StrEnum):
+class _Coded(StrEnum):
+    """A closed set of codes; a set whose codes the pages show as they are, or not at all."""
+
+    @classmethod
+    def codes(cls) -> tuple[str, ...]:
+        return tuple(m.value for m in cls)
+
+
+class _Worded(_Coded):
     """A code with its one name in words (``label``)."""
 
     @property
     def label(self) -> str:
         return _LABELS[type(self)][self]
 
-    @classmethod
-    def codes(cls) -> tuple[str, ...]:
-        return tuple(m.value for m in cls)
+
+class Phase(_Worded):
+    """The stages of a project's improvement cycle, in order (``phase`` in project.toml)."""
+
+    DEFINE = "define"
+    MEASURE = "measure"
+    ANALYZE = "analyze"
+    IMPROVE = "improve"
+    CONTROL = "control"
+
+
+class LimitMode(_Coded):
+    """Whose points a control chart's limits are fitted to (``limits`` in project.toml): the
+    baseline's, carried forward, or each period's own, drawn as steps."""
+
+    BASELINE = "baseline"
+    PER_PHASE = "per-phase"
+
+
+class Better(_Coded):
+    """Which way a metric improves (``better`` in project.toml)."""
+
+    LOWER = "lower"
+    HIGHER = "higher"
+    TARGET = "target"
 
 
 class SignalRules(_Worded):
@@ -106,6 +142,7 @@ class RollupStatistic(_Worded):
 
 
 _LABELS: dict[type, dict] = {
+    Phase: {p: p.value.capitalize() for p in Phase},
     SignalRules: {
         SignalRules.WESTERN_ELECTRIC: "Western Electric zone rules",
         SignalRules.NELSON: "Nelson rules",
@@ -228,9 +265,12 @@ def plural(n: int, word: str, words: str | None = None) -> str:
 
 
 __all__ = [
+    "Better",
     "ChartKind",
     "DataType",
+    "LimitMode",
     "PeriodKind",
+    "Phase",
     "RollupPeriod",
     "RollupStatistic",
     "RunRules",

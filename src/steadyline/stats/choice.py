@@ -40,9 +40,10 @@ from steadyline.stats.constants import d2
 from steadyline.stats.results import ChartChoice, StatsError
 
 from . import normal
+from .codes import CHARTED_TYPES, ChartKind
 
-DATA_TYPES = ("continuous", "defectives", "defects")
-CHART_KINDS = ("xmr", "xbar-r", "xbar-s", "p", "np", "c", "u", "laney-p", "laney-u")
+DATA_TYPES = CHARTED_TYPES
+CHART_KINDS = tuple(k.value for k in ChartKind if k is not ChartKind.AUTO)
 # Each kind's name in the reasons below, the same as the site's vocabulary (a test holds them
 # together; this package imports nothing else of ours).
 CHART_NAMES = {

@@ -36,14 +36,15 @@ import numpy as np
 
 from . import binomial, normal
 from ._lazy import lazy
+from .codes import CHARTED_TYPES, Better
 from .distribution import AD_MIN_POINTS, anderson_darling
 from .results import Comparison, StatsError
 from .special import t_two_sided
 
 _st = lazy("scipy.stats")
 
-DATA_TYPES = ("continuous", "defectives", "defects")
-BETTER = ("lower", "higher", "target")
+DATA_TYPES = CHARTED_TYPES
+BETTER = tuple(b.value for b in Better)
 LARGE_SAMPLE = 30  # common practice
 ALPHA = 0.05
 
