@@ -398,15 +398,10 @@ def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
     # reference: the signal texts gathered and the keys numbered point by point in order of
     # first use, as the chart's tooltips list them (a plain loop over the points)
     from steadyline.charts.base import SeriesContext
-    from steadyline.charts.series import (
-        _MARK_CODES,
-        _MARK_TEXTS,
-        _Coded,
-        _Keys,
-        _series_rows,
-        _signal_column,
-        _signal_text,
-    )
+    from steadyline.charts.series.coded import _Coded, _signal_text
+    from steadyline.charts.series.marks import _MARK_CODES, _MARK_TEXTS
+    from steadyline.charts.series.rows import _Keys, _series_rows
+    from steadyline.charts.series.tables import _signal_column
     from steadyline.stats.results import Signal
 
     rng = np.random.default_rng(3)
@@ -576,7 +571,7 @@ def test_plain_reader_splitting_matches_pandas_reader(split_max, monkeypatch):
 def test_signal_texts_of_points_in_many_kinds_of_signal():
     # reference: the plain loop of the test above; twenty descriptions on the same points take
     # the table path (the sequence no longer fits one number)
-    from steadyline.charts.series import _signal_text
+    from steadyline.charts.series.coded import _signal_text
     from steadyline.stats.results import Signal
 
     signals = [

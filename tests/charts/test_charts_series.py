@@ -20,7 +20,7 @@ from chart_fixtures import (
 
 from steadyline.charts import SeriesContext, control_chart, run_chart
 from steadyline.charts.base import fmt, time_text
-from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
+from steadyline.charts.series.marks import MARK_ORDINARY, MARK_SIGNAL
 
 
 def _pieces(spec, kind, name="limits"):
@@ -405,7 +405,7 @@ def test_long_subtitle_lines_are_wrapped_at_spaces():
 
 
 def test_subtitle_times_read_as_a_reader_writes_them():
-    from steadyline.charts.series import _when
+    from steadyline.charts.series.words import _when
 
     assert _when("2026-02-02T14:53:00") == "2026-02-02 14:53"
     assert _when("2026-02-02T14:53:07") == "2026-02-02 14:53:07"

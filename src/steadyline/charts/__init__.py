@@ -9,7 +9,9 @@ Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 from .base import ChartSpec, SeriesContext, clear_template_cache
 from .categorical import column_chart, pareto_chart, phase_pareto_chart
 from .distribution import box_chart, histogram_chart
-from .series import control_chart, run_chart, staged_control_chart
+from .series.control import control_chart
+from .series.run import run_chart
+from .series.staged import staged_control_chart
 from .study import components_chart, measurements_chart, ranges_chart
 
 __all__ = [
