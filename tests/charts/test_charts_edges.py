@@ -101,8 +101,9 @@ def test_empty_histogram_bins():
 def test_plain_times_take_the_bulk_path_with_the_same_positions():
     # reference: the one-by-one path (datetime.fromisoformat and strftime from the standard
     # library) on the same values, with one value that forces it
-    from steadyline.charts.base import XAxis, time_text, utc_text
-    from steadyline.charts.base import parse_time as pt
+    from steadyline.charts.base.times import parse_time as pt
+    from steadyline.charts.base.times import time_text, utc_text
+    from steadyline.charts.base.xaxis import XAxis
 
     cases = [
         ("2026-01-05", "2026-01-06", "2026-01-09"),
@@ -141,7 +142,7 @@ def test_plain_times_take_the_bulk_path_with_the_same_positions():
 
 def test_times_handed_over_by_the_maker_give_the_positions_read_from_the_text():
     # reference: the same axis with the times read back from the ISO text (numpy's parse)
-    from steadyline.charts.base import XAxis
+    from steadyline.charts.base.xaxis import XAxis
 
     xs = ("2026-01-05", "2026-01-05T06:00:07", "2026-01-06T00:00:01", "2026-02-01")
     stamps = np.array(xs, dtype="datetime64[s]")
@@ -160,7 +161,7 @@ def test_a_template_is_filled_the_same_whether_cached_or_not():
 
     import pytest
 
-    from steadyline.charts.base import cached_template, fill, list_slot, slot
+    from steadyline.charts.base.templates import cached_template, fill, list_slot, slot
 
     def build():
         return {

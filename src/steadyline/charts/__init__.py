@@ -6,7 +6,8 @@ Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 "staged-control-chart", "study-components", "study-ranges", "study-measurements".
 """
 
-from .base import ChartSpec, SeriesContext, clear_template_cache
+from .base.templates import clear_template_cache
+from .base.types import ChartSpec, SeriesContext
 from .categorical import column_chart, pareto_chart, phase_pareto_chart
 from .distribution import box_chart, histogram_chart
 from .series.control import control_chart

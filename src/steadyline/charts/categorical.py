@@ -7,17 +7,9 @@ from collections.abc import Sequence
 from ..advice import vital_names
 from ..stats.results import Pareto
 from . import style, vl
-from .base import (
-    ChartSpec,
-    cached_template,
-    finish_template,
-    fmt,
-    make_spec,
-    num,
-    plural,
-    slot,
-    with_unit,
-)
+from .base.numbers import fmt, num, plural, with_unit
+from .base.templates import cached_template, finish_template, make_spec, slot
+from .base.types import ChartSpec
 
 # The bars of the smallest leading set that reaches 80% and the rest. The legend does not call
 # them "the vital few": whether they are a vital few is the card's finding (none is clear when it

@@ -6,20 +6,9 @@ from collections.abc import Sequence
 
 from ..stats.results import BoxSummary, Histogram, StatsError
 from . import style, vl
-from .base import (
-    ChartSpec,
-    axis_title,
-    cached_template,
-    finish_template,
-    fmt,
-    list_slot,
-    make_spec,
-    num,
-    plural,
-    slot,
-    titled,
-    with_unit,
-)
+from .base.numbers import fmt, num, plural, titled, with_unit
+from .base.templates import axis_title, cached_template, finish_template, list_slot, make_spec, slot
+from .base.types import ChartSpec
 
 _REF_KINDS = ["LSL", "USL", "target"]
 # At most this many distinct outlying values are drawn on each side of a box (the most extreme);

@@ -15,7 +15,9 @@ import numpy as np
 
 from ..stats.results_studies import AppraiserRanges, GaugeStudy
 from . import style, vl
-from .base import ChartSpec, cached_template, finish_template, fmt, make_spec, plural, slot, titled
+from .base.numbers import fmt, plural, titled
+from .base.templates import cached_template, finish_template, make_spec, slot
+from .base.types import ChartSpec
 from .categorical import _KEY_LABEL, bar_keys
 
 # The bands of the published acceptance guide for the measurement system's share, in percent

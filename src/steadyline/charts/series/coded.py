@@ -14,9 +14,7 @@ import numpy as np
 
 from ...memo import by_identity
 from ...stats.results import ControlChart, Signal
-from ..base import (
-    fmt,
-)
+from ..base.numbers import fmt
 
 
 class _Coded(NamedTuple):

@@ -10,19 +10,12 @@ import numpy as np
 
 from ...stats.results import ControlChart, Signal
 from .. import style
-from ..base import (
-    ChartSpec,
-    ColumnTable,
-    SeriesContext,
-    axis_title,
-    band_values,
-    cached_template,
-    headroom_rows,
-    make_spec,
-    plural,
-    titled,
-    x_axis,
-)
+from ..base.events import headroom_rows
+from ..base.numbers import plural, titled
+from ..base.periods import band_values
+from ..base.templates import axis_title, cached_template, make_spec
+from ..base.types import ChartSpec, ColumnTable, SeriesContext
+from ..base.xaxis import x_axis
 from .coded import (
     _Coded,
     _join_info,

@@ -5,9 +5,7 @@ line and limits (plain or by phase) with their labels, and a run chart's median.
 from __future__ import annotations
 
 from .. import style, vl
-from ..base import (
-    x_encoding,
-)
+from ..base.xaxis import x_encoding
 from .limit_rows import _LIMIT_KINDS
 from .point_layers import _y
 

@@ -8,12 +8,8 @@ from __future__ import annotations
 import numpy as np
 
 from ...stats.results import ControlChart
-from ..base import (
-    XAxis,
-    disp,
-    disp_list,
-    fmt,
-)
+from ..base.numbers import disp, disp_list, fmt
+from ..base.xaxis import XAxis
 
 _LIMIT_KINDS = ("centre line", "UCL", "LCL")
 _LIMIT_SHORT = {"centre line": "CL", "UCL": "UCL", "LCL": "LCL"}

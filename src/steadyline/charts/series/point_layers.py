@@ -7,11 +7,8 @@ from __future__ import annotations
 import json
 
 from .. import style, vl
-from ..base import (
-    list_slot,
-    slot,
-    x_encoding,
-)
+from ..base.templates import list_slot, slot
+from ..base.xaxis import x_encoding
 from .marks import (
     _MARK_DOMAIN,
     MARK_ASIDE,

@@ -16,14 +16,11 @@ from typing import NamedTuple
 import numpy as np
 
 from ...memo import by_identity
-from ..base import (
-    SeriesContext,
-    XAxis,
-    band_rows,
-    disp_list,
-    event_rows,
-    x_axis,
-)
+from ..base.events import event_rows
+from ..base.numbers import disp_list
+from ..base.periods import band_rows
+from ..base.types import SeriesContext
+from ..base.xaxis import XAxis, x_axis
 from .coded import (
     _Coded,
 )

@@ -11,23 +11,12 @@ from ...vocab import (
     proportion_text,
 )
 from .. import style
-from ..base import (
-    ChartSpec,
-    ColumnTable,
-    SeriesContext,
-    axis_title,
-    band_values,
-    cached_template,
-    disp,
-    fmt,
-    headroom_rows,
-    make_spec,
-    num,
-    num_list,
-    plural,
-    with_unit,
-    x_axis,
-)
+from ..base.events import headroom_rows
+from ..base.numbers import disp, fmt, num, num_list, plural, with_unit
+from ..base.periods import band_values
+from ..base.templates import axis_title, cached_template, make_spec
+from ..base.types import ChartSpec, ColumnTable, SeriesContext
+from ..base.xaxis import x_axis
 from .coded import (
     _signal_text,
 )

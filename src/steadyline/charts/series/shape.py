@@ -7,9 +7,7 @@ from __future__ import annotations
 import numpy as np
 
 from ...stats.results import ControlChart
-from ..base import (
-    SeriesContext,
-)
+from ..base.types import SeriesContext
 
 
 def _check_len(name: str, arr, n: int) -> None:

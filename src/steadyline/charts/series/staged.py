@@ -11,13 +11,9 @@ import numpy as np
 from ...stats.evidence import PointEvidence, point_evidence
 from ...stats.results import ControlChart, Signal
 from .. import style
-from ..base import (
-    ChartSpec,
-    SeriesContext,
-    cached_template,
-    make_spec,
-    plural,
-)
+from ..base.numbers import plural
+from ..base.templates import cached_template, make_spec
+from ..base.types import ChartSpec, SeriesContext
 from .control import _control_parts
 from .marks import (
     MARK_ASIDE,

@@ -8,10 +8,8 @@ import numpy as np
 
 from ...memo import by_identity
 from ...stats.results import ControlChart
-from ..base import (
-    ColumnTable,
-    num_list,
-)
+from ..base.numbers import num_list
+from ..base.types import ColumnTable
 from .coded import (
     _Coded,
     _pairs,

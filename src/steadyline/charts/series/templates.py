@@ -5,12 +5,9 @@ phase, with or without its dispersion companion), composed from the layers once 
 from __future__ import annotations
 
 from .. import style, vl
-from ..base import (
-    band_layers,
-    event_layers,
-    finish_template,
-    headroom_layer,
-)
+from ..base.events import event_layers, headroom_layer
+from ..base.periods import band_layers
+from ..base.templates import finish_template
 from .limit_layers import NARROW, _median_layers, _reference_layers
 from .point_layers import _value_layers, _y
 

@@ -17,12 +17,9 @@ from ...vocab import (
     items_of,
     proportion_unit,
 )
-from ..base import (
-    SeriesContext,
-    plural,
-    stage_runs,
-    titled,
-)
+from ..base.numbers import plural, titled
+from ..base.periods import stage_runs
+from ..base.types import SeriesContext
 from .marks import (
     _CHANGES,
 )
