@@ -5,7 +5,8 @@ baseline, between, after, later) and named in a legend.
 from __future__ import annotations
 
 import itertools
-from collections.abc import Sequence
+from collections.abc import Hashable, Sequence
+from typing import TypeVar
 
 from .. import style, vl
 from .templates import (
@@ -13,9 +14,12 @@ from .templates import (
 )
 from .xaxis import XAxis, x_encoding
 
+_Name = TypeVar("_Name", bound=Hashable)
 
-def stage_runs(stages: Sequence[str]) -> list[tuple[int, int, str]]:
-    """Contiguous runs of equal stage names as (first index, last index, name)."""
+
+def stage_runs(stages: Sequence[_Name]) -> list[tuple[int, int, _Name]]:
+    """Contiguous runs of equal stage names as (first index, last index, name); also of any
+    other equal values in a row (the points used for limits, as booleans)."""
     n = len(stages)
     if not n:
         return []

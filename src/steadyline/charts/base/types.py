@@ -93,6 +93,6 @@ class ChartSpec:
     """
 
     spec: dict
-    table: list[dict]
+    table: Sequence[dict]
     columns: tuple[str, ...]
     summary: str

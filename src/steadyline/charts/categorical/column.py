@@ -92,8 +92,9 @@ def column_chart(
         f"Column chart{f' ({period})' if period else ''} of "
         f"{plural(len(cats), 'category', 'categories')}, total {with_unit(fmt(total, 4), unit)}"
     )
-    if any(v is not None for v in vals):
-        k = max((i for i in range(len(vals)) if vals[i] is not None), key=lambda i: vals[i])
+    present = [(i, v) for i, v in enumerate(vals) if v is not None]
+    if present:
+        k = max(present, key=lambda iv: iv[1])[0]  # the first of equal largest
         summary += f"; largest {cats[k]} ({fmt(vals[k], 4)})"
     if n_gathered:
         summary += f"; the {n_gathered:,} smallest are drawn as one bar"

@@ -5,6 +5,7 @@ MAX_OUTLIERS_EACH_SIDE drawn on each side; the table counts them all).
 from __future__ import annotations
 
 from collections.abc import Sequence
+from typing import Any
 
 from ...stats.results import BoxSummary
 from .. import style, vl
@@ -116,56 +117,14 @@ def box_chart(
     if len(set(names)) != len(names):
         raise ValueError(f"box plot group names must be distinct, got {names}")
     tpl = cached_template(("box-plot",), _box_template)
-    boxes, marks, table = [], [], []
+    boxes: list[dict] = []
+    marks: list[dict] = []
+    table: list[dict[str, Any]] = []
     hidden = 0
     for name, b in groups:
-        boxes.append(
-            {
-                "group": name,
-                "n": b.n,
-                "q1": num(b.q1),
-                "median": num(b.median),
-                "q3": num(b.q3),
-                "whisker_low": num(b.whisker_low),
-                "whisker_high": num(b.whisker_high),
-                "mean": num(b.mean),
-            }
-        )
-        if num(b.mean) is not None:
-            marks.append({"group": name, "kind": _MARK_KINDS[0], "value": num(b.mean)})
-        far = set(int(i) for i in b.far_out_indices)
-        n_far = sum(int(i) in far for i in b.outlier_indices)
-        pairs = sorted(
-            (num(v), int(idx) in far)
-            for idx, v in zip(b.outlier_indices, b.outlier_values, strict=True)
-            if num(v) is not None
-        )
-        pairs = list(dict.fromkeys(pairs))  # a value drawn twice is one mark
-        if len(pairs) > 2 * MAX_OUTLIERS_EACH_SIDE:
-            # Keep the page's weight flat in the number of rows: draw the most extreme
-            # outlying values on each side and say how many were left out.
-            hidden += len(pairs) - 2 * MAX_OUTLIERS_EACH_SIDE
-            pairs = pairs[:MAX_OUTLIERS_EACH_SIDE] + pairs[-MAX_OUTLIERS_EACH_SIDE:]
-        for v, is_far in pairs:
-            marks.append({"group": name, "kind": _MARK_KINDS[2 if is_far else 1], "value": v})
-        table.append(
-            {
-                "group": name,
-                "n": b.n,
-                "mean": num(b.mean),
-                "minimum": num(b.minimum),
-                "lower whisker": num(b.whisker_low),
-                "Q1": num(b.q1),
-                "median": num(b.median),
-                "Q3": num(b.q3),
-                "upper whisker": num(b.whisker_high),
-                "maximum": num(b.maximum),
-                "IQR": num(b.iqr),
-                "outliers": len(b.outlier_values) - n_far,
-                "far out": n_far,
-                "quartile method": b.method_label,
-            }
-        )
+        boxes.append(_box_row(name, b))
+        hidden += _mark_rows(name, b, marks)
+        table.append(_table_row(name, b))
     methods = sorted({b.method_label for _, b in groups})
     sub = [
         *([note] if note else []),
@@ -197,3 +156,60 @@ def box_chart(
     ]
     summary = "Box plot \u2014 " + "; ".join(parts) + "."
     return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+
+
+def _box_row(name: str, b: BoxSummary) -> dict:
+    return {
+        "group": name,
+        "n": b.n,
+        "q1": num(b.q1),
+        "median": num(b.median),
+        "q3": num(b.q3),
+        "whisker_low": num(b.whisker_low),
+        "whisker_high": num(b.whisker_high),
+        "mean": num(b.mean),
+    }
+
+
+def _mark_rows(name: str, b: BoxSummary, marks: list[dict]) -> int:
+    """Adds the group's mean and outlying values to ``marks``; returns how many outlying
+    values were left undrawn."""
+    if num(b.mean) is not None:
+        marks.append({"group": name, "kind": _MARK_KINDS[0], "value": num(b.mean)})
+    far = set(int(i) for i in b.far_out_indices)
+    pairs = sorted(
+        (num(v), int(idx) in far)
+        for idx, v in zip(b.outlier_indices, b.outlier_values, strict=True)
+        if num(v) is not None
+    )
+    pairs = list(dict.fromkeys(pairs))  # a value drawn twice is one mark
+    hidden = 0
+    if len(pairs) > 2 * MAX_OUTLIERS_EACH_SIDE:
+        # Keep the page's weight flat in the number of rows: draw the most extreme
+        # outlying values on each side and say how many were left out.
+        hidden = len(pairs) - 2 * MAX_OUTLIERS_EACH_SIDE
+        pairs = pairs[:MAX_OUTLIERS_EACH_SIDE] + pairs[-MAX_OUTLIERS_EACH_SIDE:]
+    for v, is_far in pairs:
+        marks.append({"group": name, "kind": _MARK_KINDS[2 if is_far else 1], "value": v})
+    return hidden
+
+
+def _table_row(name: str, b: BoxSummary) -> dict[str, Any]:
+    far = set(int(i) for i in b.far_out_indices)
+    n_far = sum(int(i) in far for i in b.outlier_indices)
+    return {
+        "group": name,
+        "n": b.n,
+        "mean": num(b.mean),
+        "minimum": num(b.minimum),
+        "lower whisker": num(b.whisker_low),
+        "Q1": num(b.q1),
+        "median": num(b.median),
+        "Q3": num(b.q3),
+        "upper whisker": num(b.whisker_high),
+        "maximum": num(b.maximum),
+        "IQR": num(b.iqr),
+        "outliers": len(b.outlier_values) - n_far,
+        "far out": n_far,
+        "quartile method": b.method_label,
+    }

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from ...stats.results import Histogram, StatsError
 from .. import style, vl
 from ..base.numbers import fmt, num, plural, titled, with_unit
@@ -116,24 +118,49 @@ def histogram_chart(
         raise ValueError(
             f"a histogram needs one more edge than counts, got {len(edges)} and {len(counts)}"
         )
-
-    curve_rows: list[dict] = []
-    curve_note = ""
-    if normal_curve:
-        from ...stats.distribution import normal_curve as _normal_curve
-
-        try:
-            xs, ys = _normal_curve(hist)
-            curve_rows = [{"x": num(a), "y": num(b)} for a, b in zip(xs, ys, strict=True)]
-            curve_note = (
-                f"normal curve with mean {fmt(hist.mean)} and standard deviation "
-                f"{fmt(hist.std)}, scaled to the counts"
-            )
-        except StatsError as exc:
-            curve_note = f"no normal curve: {exc}"
+    curve_rows, curve_note = _curve(hist) if normal_curve else ([], "")
     drawn = bool(curve_rows)
     tpl = cached_template(("histogram", drawn), lambda: _histogram_template(drawn))
 
+    bins = _bin_rows(edges, counts)
+    refs = _ref_rows(lsl, usl, target)
+    datasets: dict[str, list[dict]] = {
+        "bins": bins,
+        "refs": refs,
+        "outside": _outside_rows(edges, refs, curve_rows, num(lsl), num(usl)),
+    }
+    if drawn:
+        datasets["curve"] = curve_rows
+
+    name = title or "Distribution"
+    x_title = titled(measure or title, unit) or "value"
+    sub = _subtitle(hist, len(counts), note, curve_note)
+    # broken into lines past the width of a half-width card's plot (about 400 px)
+    spec = make_spec(
+        tpl, {"x_title": axis_title(x_title, 400)}, datasets, f"{name} \u2014 histogram", sub
+    )
+    table = [{"from": r["start"], "to": r["end"], "count": r["count"]} for r in bins]
+    summary = _summary(hist, edges, counts, unit, refs)
+    return ChartSpec(spec=spec, table=table, columns=("from", "to", "count"), summary=summary)
+
+
+def _curve(hist: Histogram) -> tuple[list[dict], str]:
+    """The fitted normal curve's rows and the subtitle's words on it (or why there is none)."""
+    # imported here: only the charts that draw the curve need the distribution functions
+    from ...stats.distribution import normal_curve as _normal_curve
+
+    try:
+        xs, ys = _normal_curve(hist)
+    except StatsError as exc:
+        return [], f"no normal curve: {exc}"
+    rows = [{"x": num(a), "y": num(b)} for a, b in zip(xs, ys, strict=True)]
+    return rows, (
+        f"normal curve with mean {fmt(hist.mean)} and standard deviation "
+        f"{fmt(hist.std)}, scaled to the counts"
+    )
+
+
+def _bin_rows(edges: list[float], counts: list) -> list[dict]:
     bins = []
     for k, c in enumerate(counts):
         a, b = edges[k], edges[k + 1]
@@ -147,7 +174,13 @@ def histogram_chart(
                 + ("" if last else " (upper end not included)"),
             }
         )
-    refs = []
+    return bins
+
+
+def _ref_rows(lsl, usl, target) -> list[dict[str, Any]]:
+    """The specification limits and target as labelled rules, left to right, each label a line
+    lower than the one before."""
+    refs: list[dict[str, Any]] = []
     for kind, v in (("LSL", lsl), ("target", target), ("USL", usl)):
         f = num(v)
         if f is not None:
@@ -155,45 +188,53 @@ def histogram_chart(
     refs.sort(key=lambda r: r["value"])
     for k, r in enumerate(refs):
         r["ypx"] = 2 + 15 * k
+    return refs
+
+
+def _outside_rows(
+    edges: list[float],
+    refs: list[dict[str, Any]],
+    curve_rows: list[dict],
+    lo_spec: float | None,
+    hi_spec: float | None,
+) -> list[dict]:
+    """The shaded reaches beyond the specification limits, as far as anything is drawn."""
     xs = [x for x in (edges[0], edges[-1], *(r["value"] for r in refs)) if x is not None]
     xs += [r["x"] for r in curve_rows if r["x"] is not None]
     outside = []
-    lo_spec, hi_spec = num(lsl), num(usl)
     if lo_spec is not None and min(xs) < lo_spec:
         outside.append({"start": min(xs), "end": lo_spec, "text": "below the lower spec limit"})
     if hi_spec is not None and max(xs) > hi_spec:
         outside.append({"start": hi_spec, "end": max(xs), "text": "above the upper spec limit"})
-    datasets = {"bins": bins, "refs": refs, "outside": outside}
-    if drawn:
-        datasets["curve"] = curve_rows
+    return outside
 
-    name = title or "Distribution"
-    x_title = titled(measure or title, unit) or "value"
+
+def _subtitle(hist: Histogram, n_bins: int, note: str, curve_note: str) -> list[str]:
     width = (
         f"bins of width {fmt(hist.bin_width)}"
         if hist.bin_width is not None
         else "bins of unequal width"
     )
-    binning = f"{plural(len(counts), 'bin')}, {width} ({hist.rule_label})"
+    binning = f"{plural(n_bins, 'bin')}, {width} ({hist.rule_label})"
     # a note names the values (and their number) already: the bins follow it on its line
     sub = [
         f"{note.rstrip('.')}, in {binning}" if note else f"{plural(hist.n, 'value')} in {binning}"
     ]
-    outside = []
+    beyond = []
     if hist.below_range:
-        outside.append(f"{hist.below_range} below")
+        beyond.append(f"{hist.below_range} below")
     if hist.above_range:
-        outside.append(f"{hist.above_range} above")
-    if outside:
-        sub.append(" and ".join(outside) + " the range shown (not drawn)")
+        beyond.append(f"{hist.above_range} above")
+    if beyond:
+        sub.append(" and ".join(beyond) + " the range shown (not drawn)")
     if curve_note:
         sub.append(curve_note)
-    # broken into lines past the width of a half-width card's plot (about 400 px)
-    spec = make_spec(
-        tpl, {"x_title": axis_title(x_title, 400)}, datasets, f"{name} \u2014 histogram", sub
-    )
+    return sub
 
-    table = [{"from": r["start"], "to": r["end"], "count": r["count"]} for r in bins]
+
+def _summary(
+    hist: Histogram, edges: list[float], counts: list, unit: str, refs: list[dict[str, Any]]
+) -> str:
     peak = max(range(len(counts)), key=lambda k: counts[k]) if counts else None
     summary = f"Histogram of {plural(hist.n, 'value')} in {plural(len(counts), 'bin')}"
     if peak is not None:
@@ -203,4 +244,4 @@ def histogram_chart(
         )
     if refs:
         summary += "; " + ", ".join(r["text"] for r in refs)
-    return ChartSpec(spec=spec, table=table, columns=("from", "to", "count"), summary=summary + ".")
+    return summary + "."

@@ -132,7 +132,7 @@ def _control_parts(
         own_sec = own.secondary if own is not None else None
         if own_sec is not None and len(own_sec.values) != len(sec.values):
             own_sec = None
-        osstage = _secondary_stage(own, offset) if own_sec is not None else None
+        osstage = _secondary_stage(own, offset) if own is not None and own_sec is not None else None
         second = _series_rows(
             ctx,
             sec.values,

@@ -47,103 +47,15 @@ def _value_layers(
     that a point can show both. Both layers share one legend (one scale, ``MARK_*`` words)."""
     v = f"v{suf}"
     valid = {"filter": {"field": v, "valid": True}}
-    fields = ["stage", "fitted", "signals"] if with_limits else ["stage", "signals"]
-    if staged:
-        fields += ["mark", "own"]
-    if aside:  # the chart of a metric with points set aside: a mark of their own
-        fields.append("aside")
     line = vl.view(
         "points",
         vl.mark("line", color=style.DATA, strokeWidth=1.3),
         {"x": x_encoding(is_time), "y": _y(v, y_slot), "detail": vl.field(f"g{suf}:N")},
         transform=[valid],
     )
-    transform = [
-        dict(valid),
-        {
-            "lookup": f"k{suf}",
-            "from": {"data": {"name": "point_info"}, "key": "k", "fields": fields},
-        },
-        *(
-            [
-                {
-                    "lookup": f"i{suf}",
-                    "from": {"data": {"name": "limit_info"}, "key": "i", "fields": ["info"]},
-                }
-            ]
-            if with_limits
-            else []
-        ),
-        {
-            "calculate": (
-                f"datum.aside ? '{MARK_ASIDE}' : ({_STAGED_MARK})" if aside else _STAGED_MARK
-            )
-            if staged
-            else (f"datum.aside ? '{MARK_ASIDE}' : ({_SIGNAL_TEST})" if aside else _SIGNAL_TEST),
-            "as": "marker",
-        },
-        {"calculate": "datum.signals || 'none'", "as": "signals"},
-        # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
-        # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
-        # gave NaN)
-        *([{"calculate": slot("x_when"), "as": "when"}] if is_time else []),
-    ]
-    tooltip = [
-        _x_tip(is_time),
-        vl.tip(f"{v}:Q", "value", ",.4~g"),
-        vl.tip("stage:N", "phase"),
-    ]
-    if with_limits:
-        tooltip += [vl.tip("info:N", "limits"), vl.tip("fitted:N", "used for limits")]
-    if staged:
-        tooltip.append(vl.tip("marker:N", "mark"))
-    tooltip.append(vl.tip("signals:N", "signals"))
-    if staged:
-        scales = (
-            {"domain": list_slot("mark_domain"), "range": list_slot("mark_shapes")},
-            {"domain": list_slot("mark_domain"), "range": list_slot("mark_colours")},
-        )
-        # a point set aside is drawn at the ordinary size, without the change marks' outline
-        plain = (
-            f"datum.marker == '{MARK_ORDINARY}' || datum.marker == '{MARK_ASIDE}'"
-            if aside
-            else f"datum.marker == '{MARK_ORDINARY}'"
-        )
-        size = {
-            "condition": {"test": plain, "value": style.SIZE_POINT},
-            "value": style.SIZE_CHANGE,
-        }
-        # a dark outline on the change marks, none on ordinary points (a mark property: a
-        # "stroke" channel here would meet the limit lines' stroke in one legend)
-        mark = vl.mark(
-            "point",
-            filled=True,
-            opacity=1,
-            strokeWidth=1,
-            stroke={"expr": f"({plain}) ? null : '{style.CHANGE_OUTLINE}'"},
-        )
-    else:
-        scales = (
-            {"domain": list(_MARK_DOMAIN), "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL]},
-            {"domain": list(_MARK_DOMAIN), "range": [style.DATA, style.SIGNAL]},
-        )
-        size = {
-            "condition": {"test": f"datum.marker == '{MARK_SIGNAL}'", "value": style.SIZE_SIGNAL},
-            "value": style.SIZE_POINT,
-        }
-        if aside:
-            scales[0]["domain"].append(MARK_ASIDE)
-            scales[0]["range"].append(style.SHAPE_ASIDE)
-            scales[1]["domain"].append(MARK_ASIDE)
-            scales[1]["range"].append(style.ASIDE)
-            size = {
-                "condition": [
-                    dict(size["condition"]),
-                    {"test": f"datum.marker == '{MARK_ASIDE}'", "value": style.SIZE_ASIDE},
-                ],
-                "value": style.SIZE_POINT,
-            }
-        mark = vl.mark("point", filled=True, opacity=1)
+    transform = _point_transform(is_time, suf, valid, with_limits, staged, aside)
+    tooltip = _tooltip(is_time, v, with_limits, staged)
+    scales, size, mark = _staged_look(aside) if staged else _plain_look(aside)
 
     def marks(size_enc: dict, mark_def: dict, more: list) -> dict:
         return vl.view(
@@ -185,3 +97,106 @@ def _value_layers(
         ],
     )
     return [line, own, points]
+
+
+def _point_transform(
+    is_time: bool, suf: str, valid: dict, with_limits: bool, staged: bool, aside: bool
+) -> list[dict]:
+    """The points' own rows: their tooltip texts looked up by key, and their marker."""
+    fields = ["stage", "fitted", "signals"] if with_limits else ["stage", "signals"]
+    if staged:
+        fields += ["mark", "own"]
+    if aside:  # the chart of a metric with points set aside: a mark of their own
+        fields.append("aside")
+    marker = _STAGED_MARK if staged else _SIGNAL_TEST
+    limits = [
+        {
+            "lookup": f"i{suf}",
+            "from": {"data": {"name": "limit_info"}, "key": "i", "fields": ["info"]},
+        }
+    ]
+    return [
+        dict(valid),
+        {
+            "lookup": f"k{suf}",
+            "from": {"data": {"name": "point_info"}, "key": "k", "fields": fields},
+        },
+        *(limits if with_limits else []),
+        {
+            "calculate": f"datum.aside ? '{MARK_ASIDE}' : ({marker})" if aside else marker,
+            "as": "marker",
+        },
+        {"calculate": "datum.signals || 'none'", "as": "signals"},
+        # the point's time as text for the tooltip: Vega's own formatting of a UTC time, as
+        # precise as the positions are (Vega-Lite's formatType "utc" compiled to a call that
+        # gave NaN)
+        *([{"calculate": slot("x_when"), "as": "when"}] if is_time else []),
+    ]
+
+
+def _tooltip(is_time: bool, v: str, with_limits: bool, staged: bool) -> list[dict]:
+    tooltip = [
+        _x_tip(is_time),
+        vl.tip(f"{v}:Q", "value", ",.4~g"),
+        vl.tip("stage:N", "phase"),
+    ]
+    if with_limits:
+        tooltip += [vl.tip("info:N", "limits"), vl.tip("fitted:N", "used for limits")]
+    if staged:
+        tooltip.append(vl.tip("marker:N", "mark"))
+    tooltip.append(vl.tip("signals:N", "signals"))
+    return tooltip
+
+
+def _staged_look(aside: bool) -> tuple[tuple[dict, dict], dict, dict]:
+    """The staged chart's marker scales (shape, colour), size and mark: the legend's marks are
+    the chart's own (template values), the change marks larger and outlined."""
+    scales = (
+        {"domain": list_slot("mark_domain"), "range": list_slot("mark_shapes")},
+        {"domain": list_slot("mark_domain"), "range": list_slot("mark_colours")},
+    )
+    # a point set aside is drawn at the ordinary size, without the change marks' outline
+    plain = (
+        f"datum.marker == '{MARK_ORDINARY}' || datum.marker == '{MARK_ASIDE}'"
+        if aside
+        else f"datum.marker == '{MARK_ORDINARY}'"
+    )
+    size = {
+        "condition": {"test": plain, "value": style.SIZE_POINT},
+        "value": style.SIZE_CHANGE,
+    }
+    # a dark outline on the change marks, none on ordinary points (a mark property: a
+    # "stroke" channel here would meet the limit lines' stroke in one legend)
+    mark = vl.mark(
+        "point",
+        filled=True,
+        opacity=1,
+        strokeWidth=1,
+        stroke={"expr": f"({plain}) ? null : '{style.CHANGE_OUTLINE}'"},
+    )
+    return scales, size, mark
+
+
+def _plain_look(aside: bool) -> tuple[tuple[dict, dict], dict, dict]:
+    """The plain chart's marker scales (shape, colour), size and mark: ordinary points, points
+    in a signal larger, and points set aside in a mark of their own."""
+    shapes: dict[str, list] = {
+        "domain": list(_MARK_DOMAIN),
+        "range": [style.SHAPE_POINT, style.SHAPE_SIGNAL],
+    }
+    colours: dict[str, list] = {"domain": list(_MARK_DOMAIN), "range": [style.DATA, style.SIGNAL]}
+    signal = {"test": f"datum.marker == '{MARK_SIGNAL}'", "value": style.SIZE_SIGNAL}
+    size: dict = {"condition": signal, "value": style.SIZE_POINT}
+    if aside:
+        shapes["domain"].append(MARK_ASIDE)
+        shapes["range"].append(style.SHAPE_ASIDE)
+        colours["domain"].append(MARK_ASIDE)
+        colours["range"].append(style.ASIDE)
+        size = {
+            "condition": [
+                dict(signal),
+                {"test": f"datum.marker == '{MARK_ASIDE}'", "value": style.SIZE_ASIDE},
+            ],
+            "value": style.SIZE_POINT,
+        }
+    return (shapes, colours), size, vl.mark("point", filled=True, opacity=1)

@@ -143,12 +143,12 @@ def _first_use(codes: np.ndarray) -> list[tuple[int, int]]:
 
 def _series_rows(
     ctx: SeriesContext,
-    values: Sequence,
+    values: Sequence | np.ndarray,
     marked: _Coded,
     keys: _Keys,
     offset: int = 0,
     info: _Coded | None = None,
-    fitted: Sequence[bool] | None = None,
+    fitted: Sequence[bool] | np.ndarray | None = None,
     marks: np.ndarray | None = None,
     aside: np.ndarray | None = None,
 ) -> _Series:
@@ -238,7 +238,7 @@ def _point_rows(xa: XAxis, ctx: SeriesContext, main: _Series, second: _Series | 
                     xs, v, g, k, lim, second.v, second.g, second.k, second.lim, strict=True
                 )
             ]
-    rows = []
+    rows: list[dict] = []
     add = rows.append
     series = [main] if not second else [main, second]
     where = [dict(zip(s.idx, range(len(s.idx)), strict=True)) for s in series]

@@ -112,7 +112,7 @@ def run_chart(
         *([ctx.points_note] if ctx.points_note else []),
         f"{rules}: " + ", ".join(facts),
     ]
-    if has:
+    if aside is not None:
         subtitle[-1] += f"; {_aside_words(int(aside.sum()))}"
     spec = make_spec(
         tpl,

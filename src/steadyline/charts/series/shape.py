@@ -33,8 +33,15 @@ def _check_chart(ctx: SeriesContext, chart: ControlChart, what: str = "chart") -
     return offset
 
 
+def _companion(chart: ControlChart) -> ControlChart:
+    """The chart's dispersion companion; asked for only where the chart has one."""
+    if chart.secondary is None:
+        raise ValueError(f"the {chart.label} has no dispersion chart")
+    return chart.secondary
+
+
 def _secondary_fitted(chart: ControlChart, offset: int) -> np.ndarray:
-    sec = chart.secondary
+    sec = _companion(chart)
     if len(sec.fitted) == len(sec.values):
         return np.asarray(sec.fitted, dtype=bool)
     return np.asarray(chart.fitted, dtype=bool)[offset:]
@@ -42,7 +49,7 @@ def _secondary_fitted(chart: ControlChart, offset: int) -> np.ndarray:
 
 def _secondary_aside(chart: ControlChart, offset: int) -> np.ndarray | None:
     """The companion chart's set-aside mask, aligned with its values (None when none)."""
-    sec = chart.secondary
+    sec = _companion(chart)
     if sec.set_aside is not None and len(sec.set_aside) == len(sec.values):
         return np.asarray(sec.set_aside, dtype=bool)
     if chart.set_aside is None:
@@ -51,7 +58,7 @@ def _secondary_aside(chart: ControlChart, offset: int) -> np.ndarray | None:
 
 
 def _secondary_stage(chart: ControlChart, offset: int) -> np.ndarray:
-    sec = chart.secondary
+    sec = _companion(chart)
     if len(sec.stage) == len(sec.values):
         return np.asarray(sec.stage, dtype=int)
     return np.asarray(chart.stage, dtype=int)[offset:]

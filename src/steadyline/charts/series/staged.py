@@ -95,7 +95,11 @@ def staged_control_chart(
 
     name = _kind_name(carried)
     title = f"{ctx.metric_name} \u2014 {name} by phase"
-    after_idx = np.flatnonzero(np.asarray(own.stage, dtype=int) == 1) if own is not None else []
+    after_idx = (
+        np.flatnonzero(np.asarray(own.stage, dtype=int) == 1)
+        if own is not None
+        else np.zeros(0, dtype=np.intp)
+    )
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         _fitted_sentence(ctx, carried.fitted, carried.set_aside) + ", dashed where carried forward",

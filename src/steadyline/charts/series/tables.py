@@ -39,7 +39,10 @@ def _signal_column(n: int, main: _Coded, second: _Coded | None = None) -> list[s
 @by_identity(16)
 def _table_numbers(values, pad: int = 0) -> list[float | None]:
     """:func:`num_list` of a chart's array, after ``pad`` empty cells."""
-    return [None] * pad + num_list(values) if pad else num_list(values)
+    if not pad:
+        return num_list(values)
+    empty: list[float | None] = [None] * pad
+    return empty + num_list(values)
 
 
 @by_identity(4)
@@ -88,7 +91,7 @@ def _control_table(
         cols[f"{abbr} LCL"] = _table_numbers(sec.lower, offset)
         cols[f"{abbr} UCL"] = _table_numbers(sec.upper, offset)
         own_sec = own.secondary if own is not None else None
-        if own_sec is not None and len(own_sec.values) == len(sec.values):
+        if own is not None and own_sec is not None and len(own_sec.values) == len(sec.values):
             after = _secondary_stage(own, offset) == 1
             for name, arr in (
                 ("centre line", own_sec.centre),

@@ -80,7 +80,8 @@ def measurements_chart(
     pk = dict(zip(part_names, bar_keys(part_names), strict=True))
     ak = dict(zip(appr_names, bar_keys(appr_names), strict=True))
     trial: dict[tuple[str, str], int] = {}
-    rows, sums = [], {}
+    rows: list[dict] = []
+    sums: dict[tuple[str, str], list[float]] = {}
     for v, p, o in zip(np.asarray(values, dtype=float).tolist(), parts, appraisers, strict=True):
         t = trial[(p, o)] = trial.get((p, o), 0) + 1
         rows.append(
