@@ -5,6 +5,7 @@ invisible point that keeps room for their labels above the plotted values.
 from __future__ import annotations
 
 from collections.abc import Sequence
+from datetime import date
 
 import numpy as np
 
@@ -12,14 +13,14 @@ from .. import style, vl
 from .numbers import (
     disp,
 )
-from .times import parse_time, time_text, utc_text
+from .times import event_text, event_time, utc_text
 from .xaxis import XAxis, x_encoding
 
 # Event labels step down one line each over this many lines near the top of the plot.
 EVENT_LINES = 3
 
 
-def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
+def event_rows(xa: XAxis, events: Sequence[tuple[str | date, str]]) -> list[dict]:
     """Events within the plotted time range (outside it they would stretch the axis), in time
     order. Successive events step down one line each (``EVENT_LINES`` lines), so that labels of
     events close in time do not print over each other.
@@ -32,7 +33,7 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     tooltip."""
     inside = sorted(
         (
-            (parse_time(time_text(when)), time_text(when), str(label), str(when))
+            (event_time(when), event_text(when), str(label), str(when))
             for when, label in events
             if xa.in_range(when)
         ),
@@ -40,7 +41,7 @@ def event_rows(xa: XAxis, events: Sequence[tuple[str, str]]) -> list[dict]:
     )
     if not inside:
         return []
-    first, last = parse_time(xa.at(0)), parse_time(xa.at(xa.n - 1))
+    first, last = xa.time_at(0), xa.time_at(xa.n - 1)
     span = (last - first).total_seconds() or 1.0
     leftwards = [(t - first).total_seconds() / span > 0.5 for t, *_ in inside]
     rows = []

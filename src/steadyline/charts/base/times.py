@@ -26,6 +26,25 @@ def parse_time(text: str) -> datetime:
     return d.astimezone(UTC)
 
 
+def event_time(when: str | date) -> datetime:
+    """An event's time as an aware UTC datetime: a date (or datetime, naive taken as UTC) as
+    it is, ISO text read by :func:`parse_time`."""
+    if isinstance(when, datetime):
+        return when.replace(tzinfo=UTC) if when.tzinfo is None else when.astimezone(UTC)
+    if isinstance(when, date):
+        return datetime(when.year, when.month, when.day, tzinfo=UTC)
+    return parse_time(when)
+
+
+def event_text(when: str | date) -> str:
+    """An event's time as written into a spec's rows (as :func:`time_text` writes x values)."""
+    if isinstance(when, datetime):
+        return utc_text(event_time(when))
+    if isinstance(when, date):
+        return when.isoformat()
+    return time_text(when)
+
+
 def time_text(text: str) -> str:
     """The x value as written into a spec: 'YYYY-MM-DD' as is (browsers read it as UTC), any
     datetime as UTC with an explicit 'Z' (a naive datetime would be read as local time)."""

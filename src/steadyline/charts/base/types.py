@@ -6,6 +6,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from datetime import date
 
 import numpy as np
 
@@ -20,7 +21,8 @@ class SeriesContext:
     segment:   per point a segment number; lines never join across segments (gaps in periods).
     unit:      e.g. "hours", "" if none.
     metric_name: the metric's display name.
-    events:    (ISO date, label) pairs, drawn as labelled vertical rules on time-based charts.
+    events:    (date, label) pairs, drawn as labelled vertical rules on time-based charts; the
+               date a datetime.date (or datetime, naive taken as UTC) or ISO text.
     stamps:    optionally, the times of x as naive datetime64[s] (UTC), when the maker has
                them: the charts then need not read x back (not part of equality or hash).
     points_note: what one point is when that is not plain (a rolled-up metric's "Each point is
@@ -33,7 +35,7 @@ class SeriesContext:
     segment: tuple[int, ...]
     unit: str
     metric_name: str
-    events: tuple[tuple[str, str], ...] = ()
+    events: tuple[tuple[str | date, str], ...] = ()
     stamps: np.ndarray | None = field(default=None, compare=False, hash=False, repr=False)
     points_note: str = ""
 

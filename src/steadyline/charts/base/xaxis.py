@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import functools
 import math
-from datetime import datetime
+from datetime import UTC, date, datetime
 
 import numpy as np
 
@@ -16,7 +16,7 @@ from .templates import (
     list_slot,
     slot,
 )
-from .times import _DATE_RE, _plain_stamps, parse_time, time_text, utc_text
+from .times import _DATE_RE, _plain_stamps, event_time, parse_time, time_text, utc_text
 from .types import SeriesContext
 
 
@@ -117,11 +117,18 @@ class XAxis:
         expr = f"{_js_list(labels)}[datum.value] || ''"
         return {"x_values": values, "x_label_expr": expr}
 
-    def in_range(self, when: str) -> bool:
+    def time_at(self, i: int) -> datetime:
+        """Point i's time as an aware UTC datetime (time-based series): from the typed times
+        when the series has them, else read back from its position's text."""
+        if self._stamps is not None:
+            return self._stamps[i].astype("datetime64[us]").item().replace(tzinfo=UTC)
+        return parse_time(self.pos[i])
+
+    def in_range(self, when: str | date) -> bool:
         if not self.is_time or self.n == 0:
             return False
         try:
-            d = parse_time(when)
+            d = event_time(when)
         except ValueError:
             return False
         if self._stamps is not None:
