@@ -28,49 +28,59 @@ from .categories import (
 def _pareto_view(prefix: str = "", panel_title: bool = False) -> dict:
     """Bars on the left axis [0, total] and the cumulative percentage on the right axis [0, 100]:
     with both domains fixed, 100 % sits exactly at the total."""
+    left = vl.layer(*_count_layers(prefix))
+    right = vl.layer(*_cumulative_layers(prefix))
+    view = vl.layer(left, right, resolve={"scale": {"y": "independent"}})
+    if panel_title:
+        view["title"] = slot(f"{prefix}panel_title")
+    return view
+
+
+def _y_count(prefix: str) -> dict:
+    return vl.field(
+        "count:Q",
+        scale={"domain": [0, slot(f"{prefix}total")], "nice": False, "zero": True},
+        axis={"title": "count", "orient": "left"},
+    )
+
+
+def _y_pct() -> dict:
+    return vl.field(
+        "cumulative:Q",
+        scale={"domain": [0, 100], "nice": False, "zero": True},
+        axis={
+            "title": "cumulative %",
+            "orient": "right",
+            "values": [0, 20, 40, 60, 80, 100],
+            "labelExpr": "datum.value + '%'",
+            "grid": False,
+        },
+    )
+
+
+def _thr_y() -> dict:
+    return vl.field("cumulative:Q", scale={"domain": [0, 100], "nice": False, "zero": True})
+
+
+def _bar_tip() -> list[dict]:
+    return [
+        vl.tip("category:N", "category"),
+        vl.tip("count:Q", "count", ",.4~g"),
+        vl.tip("percent:Q", "percent", ".1f"),
+        vl.tip("cumulative:Q", "cumulative percent", ".1f"),
+        vl.tip("group:N", "group"),
+    ]
+
+
+def _count_layers(prefix: str) -> tuple[dict, dict]:
+    """The bars on the count axis, the first 80% told from the rest, with their counts."""
     bars_data = f"{prefix}bars"
-
-    def x() -> dict:
-        return _category_x()
-
-    def y_count() -> dict:
-        return vl.field(
-            "count:Q",
-            scale={"domain": [0, slot(f"{prefix}total")], "nice": False, "zero": True},
-            axis={"title": "count", "orient": "left"},
-        )
-
-    def y_pct() -> dict:
-        return vl.field(
-            "cumulative:Q",
-            scale={"domain": [0, 100], "nice": False, "zero": True},
-            axis={
-                "title": "cumulative %",
-                "orient": "right",
-                "values": [0, 20, 40, 60, 80, 100],
-                "labelExpr": "datum.value + '%'",
-                "grid": False,
-            },
-        )
-
-    def thr_y() -> dict:
-        return vl.field("cumulative:Q", scale={"domain": [0, 100], "nice": False, "zero": True})
-
-    def bar_tip() -> list[dict]:
-        return [
-            vl.tip("category:N", "category"),
-            vl.tip("count:Q", "count", ",.4~g"),
-            vl.tip("percent:Q", "percent", ".1f"),
-            vl.tip("cumulative:Q", "cumulative percent", ".1f"),
-            vl.tip("group:N", "group"),
-        ]
-
     bars = vl.view(
         bars_data,
         vl.mark("bar", stroke=style.INK, strokeWidth=0.6),
         {
-            "x": x(),
-            "y": y_count(),
+            "x": _category_x(),
+            "y": _y_count(prefix),
             "fill": vl.field(
                 "group:O",
                 sort=list(_GROUPS),
@@ -83,38 +93,41 @@ def _pareto_view(prefix: str = "", panel_title: bool = False) -> dict:
                 scale={"domain": list(_GROUPS), "range": [1.0, 0.6]},
                 legend={"title": None},
             ),
-            "tooltip": bar_tip(),
+            "tooltip": _bar_tip(),
         },
     )
     bar_text = vl.view(
         bars_data,
         vl.mark("text", baseline="bottom", dy=-2, fontSize=10),
-        {"x": x(), "y": y_count(), "text": vl.field("text:N")},
+        {"x": _category_x(), "y": _y_count(prefix), "text": vl.field("text:N")},
     )
+    return bars, bar_text
+
+
+def _cumulative_layers(prefix: str) -> tuple[dict, dict, dict, dict]:
+    """The cumulative percentage as a line with points, and the 80% threshold with its text."""
+    bars_data = f"{prefix}bars"
     line = vl.view(
-        bars_data, vl.mark("line", color=style.CURVE, strokeWidth=2), {"x": x(), "y": y_pct()}
+        bars_data,
+        vl.mark("line", color=style.CURVE, strokeWidth=2),
+        {"x": _category_x(), "y": _y_pct()},
     )
     pts = vl.view(
         bars_data,
         vl.mark("point", color=style.CURVE, filled=True, size=36, opacity=1),
-        {"x": x(), "y": y_pct(), "tooltip": bar_tip()},
+        {"x": _category_x(), "y": _y_pct(), "tooltip": _bar_tip()},
     )
     thr = vl.view(
         f"{prefix}threshold",
         vl.mark("rule", color=style.INK, strokeDash=list(style.DASH_REFERENCE), strokeWidth=1),
-        {"y": thr_y(), "tooltip": [vl.tip("text:N", "reference")]},
+        {"y": _thr_y(), "tooltip": [vl.tip("text:N", "reference")]},
     )
     thr_text = vl.view(
         f"{prefix}threshold",
         vl.mark("text", align="left", baseline="bottom", dy=-2, dx=2),
-        {"x": {"value": 0}, "y": thr_y(), "text": vl.field("text:N")},
+        {"x": {"value": 0}, "y": _thr_y(), "text": vl.field("text:N")},
     )
-    left = vl.layer(bars, bar_text)
-    right = vl.layer(line, pts, thr, thr_text)
-    view = vl.layer(left, right, resolve={"scale": {"y": "independent"}})
-    if panel_title:
-        view["title"] = slot(f"{prefix}panel_title")
-    return view
+    return line, pts, thr, thr_text
 
 
 def _pareto_template() -> dict:

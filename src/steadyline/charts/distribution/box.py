@@ -25,67 +25,46 @@ MAX_OUTLIERS_EACH_SIDE = 100
 _MARK_KINDS = ["mean", "outlier (beyond 1.5 \u00d7 IQR)", "far out (beyond 3 \u00d7 IQR)"]
 
 
-def _box_template() -> dict:
-    def x() -> dict:
-        return vl.field("group:N", sort=list_slot("order"), axis={"title": None, "labelAngle": 0})
+def _x() -> dict:
+    return vl.field("group:N", sort=list_slot("order"), axis={"title": None, "labelAngle": 0})
 
-    def y(name: str) -> dict:
-        return vl.field(f"{name}:Q", axis={"title": slot("y_title")}, scale={"zero": False})
 
-    def tip() -> list[dict]:
-        return [
-            vl.tip("group:N", "group"),
-            vl.tip("n:Q", "n"),
-            vl.tip("whisker_high:Q", "upper whisker", ",.4~g"),
-            vl.tip("q3:Q", "Q3", ",.4~g"),
-            vl.tip("median:Q", "median", ",.4~g"),
-            vl.tip("q1:Q", "Q1", ",.4~g"),
-            vl.tip("whisker_low:Q", "lower whisker", ",.4~g"),
-            vl.tip("mean:Q", "mean", ",.4~g"),
-        ]
+def _y(name: str) -> dict:
+    return vl.field(f"{name}:Q", axis={"title": slot("y_title")}, scale={"zero": False})
 
-    whisker = vl.view(
-        "boxes",
-        vl.mark("rule", color=style.INK, strokeWidth=1.2),
-        {"x": x(), "y": y("whisker_low"), "y2": {"field": "whisker_high"}, "tooltip": tip()},
-    )
-    cap_lo = vl.view(
-        "boxes",
-        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
-        {"x": x(), "y": y("whisker_low")},
-    )
-    cap_hi = vl.view(
-        "boxes",
-        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
-        {"x": x(), "y": y("whisker_high")},
-    )
-    box = vl.view(
-        "boxes",
-        vl.mark("bar", size=40, color=style.BOX_FILL, stroke=style.INK, strokeWidth=1),
-        {"x": x(), "y": y("q1"), "y2": {"field": "q3"}, "tooltip": tip()},
-    )
-    median = vl.view(
-        "boxes",
-        vl.mark("tick", color=style.INK, size=40, thickness=2.5),
-        {"x": x(), "y": y("median"), "tooltip": tip()},
+
+def _tip() -> list[dict]:
+    return [
+        vl.tip("group:N", "group"),
+        vl.tip("n:Q", "n"),
+        vl.tip("whisker_high:Q", "upper whisker", ",.4~g"),
+        vl.tip("q3:Q", "Q3", ",.4~g"),
+        vl.tip("median:Q", "median", ",.4~g"),
+        vl.tip("q1:Q", "Q1", ",.4~g"),
+        vl.tip("whisker_low:Q", "lower whisker", ",.4~g"),
+        vl.tip("mean:Q", "mean", ",.4~g"),
+    ]
+
+
+def _by_kind(values: list) -> dict:
+    return vl.field(
+        "kind:N",
+        scale={"domain": list(_MARK_KINDS), "range": values},
+        legend={"title": None},
     )
 
-    def by_kind(values: list) -> dict:
-        return vl.field(
-            "kind:N",
-            scale={"domain": list(_MARK_KINDS), "range": values},
-            legend={"title": None},
-        )
 
-    marks = vl.view(
+def _marks_layer() -> dict:
+    """The means and the outlying values, shaped by kind (one legend)."""
+    return vl.view(
         "marks",
         vl.mark("point", opacity=1, size=50),
         {
-            "x": x(),
-            "y": y("value"),
-            "shape": by_kind([style.SHAPE_MEAN, style.SHAPE_OUTLIER, style.SHAPE_FAR_OUT]),
-            "stroke": by_kind([style.INK, style.DATA, style.SIGNAL]),
-            "fill": by_kind([style.INK, style.WHITE, style.SIGNAL]),
+            "x": _x(),
+            "y": _y("value"),
+            "shape": _by_kind([style.SHAPE_MEAN, style.SHAPE_OUTLIER, style.SHAPE_FAR_OUT]),
+            "stroke": _by_kind([style.INK, style.DATA, style.SIGNAL]),
+            "fill": _by_kind([style.INK, style.WHITE, style.SIGNAL]),
             "tooltip": [
                 vl.tip("group:N", "group"),
                 vl.tip("kind:N", "what"),
@@ -93,6 +72,36 @@ def _box_template() -> dict:
             ],
         },
     )
+
+
+def _box_template() -> dict:
+    whisker = vl.view(
+        "boxes",
+        vl.mark("rule", color=style.INK, strokeWidth=1.2),
+        {"x": _x(), "y": _y("whisker_low"), "y2": {"field": "whisker_high"}, "tooltip": _tip()},
+    )
+    cap_lo = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
+        {"x": _x(), "y": _y("whisker_low")},
+    )
+    cap_hi = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=18, thickness=1.2),
+        {"x": _x(), "y": _y("whisker_high")},
+    )
+    box = vl.view(
+        "boxes",
+        vl.mark("bar", size=40, color=style.BOX_FILL, stroke=style.INK, strokeWidth=1),
+        {"x": _x(), "y": _y("q1"), "y2": {"field": "q3"}, "tooltip": _tip()},
+    )
+    median = vl.view(
+        "boxes",
+        vl.mark("tick", color=style.INK, size=40, thickness=2.5),
+        {"x": _x(), "y": _y("median"), "tooltip": _tip()},
+    )
+
+    marks = _marks_layer()
     chart = vl.layer(
         whisker,
         cap_lo,

@@ -19,48 +19,65 @@ from ..base.types import ChartSpec
 _REF_KINDS = ["LSL", "USL", "target"]
 
 
+def _x(name: str) -> dict:
+    return vl.field(
+        f"{name}:Q", scale={"zero": False, "nice": False}, axis={"title": slot("x_title")}
+    )
+
+
+def _y(name: str) -> dict:
+    return vl.field(f"{name}:Q", axis={"title": "count", "tickMinStep": 1}, scale={"zero": True})
+
+
+def _ref_colour() -> dict:
+    return vl.field(
+        "kind:N",
+        scale={"domain": list(_REF_KINDS), "range": [style.SPEC, style.SPEC, style.TARGET]},
+        legend=None,
+    )
+
+
 def _histogram_template(curve: bool) -> dict:
-    def x(name: str) -> dict:
-        return vl.field(
-            f"{name}:Q", scale={"zero": False, "nice": False}, axis={"title": slot("x_title")}
-        )
-
-    def y(name: str) -> dict:
-        return vl.field(
-            f"{name}:Q", axis={"title": "count", "tickMinStep": 1}, scale={"zero": True}
-        )
-
-    def ref_colour() -> dict:
-        return vl.field(
-            "kind:N",
-            scale={"domain": list(_REF_KINDS), "range": [style.SPEC, style.SPEC, style.TARGET]},
-            legend=None,
-        )
-
     # Outside the specification: the ground beyond each limit is tinted, the limits themselves
     # are solid lines and the target a dotted one, so the eye reads "inside / outside" at once.
     outside = vl.view(
         "outside",
         vl.mark("rect", color=style.SPEC, opacity=0.1),
-        {"x": x("start"), "x2": {"field": "end"}, "tooltip": [vl.tip("text:N", "region")]},
+        {"x": _x("start"), "x2": {"field": "end"}, "tooltip": [vl.tip("text:N", "region")]},
     )
     bars = vl.view(
         "bins",
         vl.mark("bar", color=style.HIST_BAR, stroke=style.WHITE, strokeWidth=1),
         {
-            "x": x("start"),
+            "x": _x("start"),
             "x2": {"field": "end"},
-            "y": y("count"),
+            "y": _y("count"),
             "y2": {"datum": 0},
             "tooltip": [vl.tip("range:N", "bin"), vl.tip("count:Q", "count")],
         },
     )
+    rules, labels = _ref_layers()
+    layers = [outside, bars, rules, labels]
+    if curve:
+        layers.append(
+            vl.view(
+                "curve",
+                vl.mark("line", color=style.CURVE, strokeWidth=2),
+                {"x": _x("x"), "y": _y("y")},
+            )
+        )
+    chart = vl.layer(*layers, width="container", height=style.HEIGHT_DISTRIBUTION)
+    return finish_template(chart, "histogram")
+
+
+def _ref_layers() -> tuple[dict, dict]:
+    """The specification limits (solid) and target (dotted) as rules, and their labels."""
     rules = vl.view(
         "refs",
         vl.mark("rule", strokeWidth=2),
         {
-            "x": x("value"),
-            "color": ref_colour(),
+            "x": _x("value"),
+            "color": _ref_colour(),
             "strokeDash": vl.field(
                 "kind:N",
                 scale={
@@ -76,24 +93,14 @@ def _histogram_template(curve: bool) -> dict:
         "refs",
         vl.mark("text", align="left", baseline="top", dx=4, fontWeight=600),
         {
-            "x": x("value"),
+            "x": _x("value"),
             # pixel offsets from the top, staggered so that nearby labels do not overlap
             "y": vl.field("ypx:Q", scale=None),
-            "color": ref_colour(),
+            "color": _ref_colour(),
             "text": vl.field("text:N"),
         },
     )
-    layers = [outside, bars, rules, labels]
-    if curve:
-        layers.append(
-            vl.view(
-                "curve",
-                vl.mark("line", color=style.CURVE, strokeWidth=2),
-                {"x": x("x"), "y": y("y")},
-            )
-        )
-    chart = vl.layer(*layers, width="container", height=style.HEIGHT_DISTRIBUTION)
-    return finish_template(chart, "histogram")
+    return rules, labels
 
 
 def histogram_chart(

@@ -16,6 +16,40 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
     Plain control chart: the centre line solid, the limits dashed, all grey. Staged chart: the
     baseline set grey (solid centre line over the baseline, everything dashed where carried
     forward), the after phase's own set dark and solid, its labels at the start of the phase."""
+    dash, colour, seg_mark, parts_fields = _line_look(staged)
+    segs = vl.view(
+        f"{prefix}limits",
+        seg_mark,
+        {
+            "x": x_encoding(is_time),
+            "y": _y("y", y_slot),
+            "detail": vl.field("p:N"),
+            "strokeDash": dash,
+            **colour,
+            "tooltip": [vl.tip("name:N", "line"), vl.tip("y:Q", "value", ",.4~g")],
+        },
+        transform=[
+            {
+                "lookup": "p",
+                "from": {"data": {"name": "limit_parts"}, "key": "p", "fields": parts_fields},
+            }
+        ],
+    )
+    labels = _label_layers(is_time, prefix, y_slot, staged)
+    layers = [segs, *labels]
+    if staged:
+        layers.append(
+            vl.view(
+                f"{prefix}own_labels",
+                vl.mark("text", **_BESIDE_OR_INSIDE, color=style.OWN_LIMIT),
+                {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
+            )
+        )
+    return layers
+
+
+def _line_look(staged: bool) -> tuple[dict, dict, dict, list[str]]:
+    """The limit lines' dash channel, stroke colour, mark and the fields of their pieces."""
     if staged:
         dash = vl.field(
             "look:N",
@@ -45,24 +79,11 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
         colour = {}
         seg_mark = vl.mark("line", strokeWidth=1.4, color=style.LIMIT, interpolate="step-after")
         parts_fields = ["kind", "name"]
-    segs = vl.view(
-        f"{prefix}limits",
-        seg_mark,
-        {
-            "x": x_encoding(is_time),
-            "y": _y("y", y_slot),
-            "detail": vl.field("p:N"),
-            "strokeDash": dash,
-            **colour,
-            "tooltip": [vl.tip("name:N", "line"), vl.tip("y:Q", "value", ",.4~g")],
-        },
-        transform=[
-            {
-                "lookup": "p",
-                "from": {"data": {"name": "limit_parts"}, "key": "p", "fields": parts_fields},
-            }
-        ],
-    )
+    return dash, colour, seg_mark, parts_fields
+
+
+def _label_layers(is_time: bool, prefix: str, y_slot: str, staged: bool) -> list[dict]:
+    """The labels at the ends of the limit lines."""
     # Plain chart: labels right of the plot. Staged chart: the carried "baseline UCL ..." labels
     # sit inside the plot, right-aligned just above their lines; the after phase's own labels
     # go right of the plot, beside their lines, so the two sets never print over each other.
@@ -110,16 +131,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
                 {"x": x_encoding(is_time), **xy},
             )
         ]
-    layers = [segs, *labels]
-    if staged:
-        layers.append(
-            vl.view(
-                f"{prefix}own_labels",
-                vl.mark("text", **_BESIDE_OR_INSIDE, color=style.OWN_LIMIT),
-                {"x": x_encoding(is_time), "y": _y("y", y_slot), "text": vl.field("text:N")},
-            )
-        )
-    return layers
+    return labels
 
 
 def _median_layers(is_time: bool, y_slot: str) -> list[dict]:
