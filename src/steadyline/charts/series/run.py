@@ -16,7 +16,7 @@ from ..base.numbers import disp, fmt, num, num_list, plural, with_unit
 from ..base.periods import band_values
 from ..base.templates import axis_title, cached_template, make_spec
 from ..base.types import ChartSpec, ColumnTable, SeriesContext
-from ..base.xaxis import x_axis
+from ..base.xaxis import XAxis, x_axis
 from .coded import (
     _signal_text,
 )
@@ -61,19 +61,48 @@ def run_chart(
         ("run-chart", ctx.x_is_time) + (("aside",) if has else ()),
         lambda: _run_template(ctx.x_is_time, aside=has),
     )
-
-    # Mark points of pattern signals; a signal spanning every point (too few / too many
-    # crossings) is a statement about the whole series and is named in the subtitle only.
-    local = [s for s in analysis.signals if 0 < len(s.indices) < n]
-    marked = _signal_text(local, n)
-    keys = _Keys()
-    points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys, aside=aside))
     median = num(analysis.median)
     median_text = "median " + (
         proportion_text(median, ctx.unit, fmt)
         if is_proportion_unit(ctx.unit)
         else with_unit(fmt(median), ctx.unit)
     )
+    datasets = _run_datasets(ctx, xa, vals, analysis, aside, median, median_text)
+    values_map = {"y_title": axis_title(_measure_title(ctx, "individuals"), style.HEIGHT_MAIN)}
+    values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
+    values_map.update(band_values(datasets["bands"]))
+    spec = make_spec(
+        tpl,
+        values_map,
+        datasets,
+        f"{ctx.metric_name} \u2014 run chart",
+        _run_subtitle(ctx, analysis, median_text, aside),
+        exact=_exact(ctx, datasets),
+    )
+    table, columns = _run_table(ctx, vals, analysis, median, aside)
+    summary = (
+        f"Run chart of {ctx.metric_name}: {plural(n, 'point')}, {median_text}; "
+        f"{_signals_sentence(analysis.signals)}."
+    )
+    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+
+
+def _run_datasets(
+    ctx: SeriesContext,
+    xa: XAxis,
+    vals: list,
+    analysis: RunChartAnalysis,
+    aside: np.ndarray | None,
+    median: float | None,
+    median_text: str,
+) -> dict[str, list[dict]]:
+    n = len(ctx.x)
+    # Mark points of pattern signals; a signal spanning every point (too few / too many
+    # crossings) is a statement about the whole series and is named in the subtitle only.
+    local = [s for s in analysis.signals if 0 < len(s.indices) < n]
+    marked = _signal_text(local, n)
+    keys = _Keys()
+    points = _point_rows(xa, ctx, _series_rows(ctx, vals, marked, keys, aside=aside))
     centre = (
         [{"y": disp(median), "x": xa.at(n - 1), "text": median_text}]
         if median is not None and n
@@ -93,10 +122,14 @@ def run_chart(
         if datasets["events"] and median is not None
         else []
     )
-    values_map = {"y_title": axis_title(_measure_title(ctx, "individuals"), style.HEIGHT_MAIN)}
-    values_map.update(_x_values(ctx, xa))  # copied: the remembered dict stays as it is
-    values_map.update(band_values(datasets["bands"]))
+    return datasets
 
+
+def _run_subtitle(
+    ctx: SeriesContext, analysis: RunChartAnalysis, median_text: str, aside: np.ndarray | None
+) -> list[str]:
+    """The values the chart is judged by; what signals is said once, in the sentences of its
+    card (site.cards), and the notes go with the card's method."""
     rules = RunRules(analysis.rule_set).label
     facts = [median_text, f"longest run {analysis.longest_run}"]
     if analysis.longest_run_limit is not None:
@@ -106,23 +139,23 @@ def run_chart(
     elif analysis.runs_limits is not None:
         lo, hi = analysis.runs_limits
         facts.append(f"{analysis.runs} runs (expected {lo + 1} to {hi - 1})")
-    # The subtitle names the values the chart is judged by; what signals is said once, in the
-    # sentences of its card (site.cards), and the notes go with the card's method.
     subtitle = [
         *([ctx.points_note] if ctx.points_note else []),
         f"{rules}: " + ", ".join(facts),
     ]
     if aside is not None:
         subtitle[-1] += f"; {_aside_words(int(aside.sum()))}"
-    spec = make_spec(
-        tpl,
-        values_map,
-        datasets,
-        f"{ctx.metric_name} \u2014 run chart",
-        subtitle,
-        exact=_exact(ctx, datasets),
-    )
+    return subtitle
 
+
+def _run_table(
+    ctx: SeriesContext,
+    vals: list,
+    analysis: RunChartAnalysis,
+    median: float | None,
+    aside: np.ndarray | None,
+) -> tuple[ColumnTable, tuple[str, ...]]:
+    n = len(ctx.x)
     x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
     all_marked = _signal_text(analysis.signals, n)
@@ -134,12 +167,7 @@ def run_chart(
         "median": [median] * n,
         "signals": _signal_column(n, all_marked),
     }
-    if has:
+    if aside is not None:
         columns += ("set aside",)
         cells["set aside"] = _yes_no(aside)
-    table = ColumnTable(columns, cells)
-    summary = (
-        f"Run chart of {ctx.metric_name}: {plural(n, 'point')}, {median_text}; "
-        f"{_signals_sentence(analysis.signals)}."
-    )
-    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+    return ColumnTable(columns, cells), columns

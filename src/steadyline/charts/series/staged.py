@@ -31,6 +31,7 @@ from .words import (
     _change_sentence,
     _fitted_sentence,
     _kind_name,
+    _last_limits,
     _own_signals_sentence,
     _when,
 )
@@ -57,14 +58,7 @@ def staged_control_chart(
     n = len(ctx.x)
     offset = _check_chart(ctx, carried, "carried")
     if own is not None:
-        _check_len("own.stage", own.stage, n)
-        own_offset = _check_chart(ctx, own, "own")
-        if (own.secondary is None) != (carried.secondary is None) or (
-            own.secondary is not None and own_offset != offset
-        ):
-            raise ValueError(
-                "the own-limits chart must have the same companion chart as the carried one"
-            )
+        _check_own(ctx, carried, own, offset)
     if evidence is None:
         evidence = point_evidence(carried, signals, own_signals, better="")
     sec = carried.secondary
@@ -95,6 +89,43 @@ def staged_control_chart(
 
     name = _kind_name(carried)
     title = f"{ctx.metric_name} \u2014 {name} by phase"
+    # the periods and limits drawn; what they show is said in the card's sentences
+    subtitle = _staged_subtitle(ctx, carried, own)
+    change = _change_sentence(evidence[0], carried)
+    unstable = _own_signals_sentence(signals, own_signals, evidence)
+    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
+    table, columns = _control_table(
+        ctx, carried, offset, marked, sec_marked, own=own, marks=_mark_column(evidence, offset)
+    )
+
+    lim = _last_limits(labels)
+    own_lim = _last_limits(datasets.get("own_labels", []))
+    summary = (
+        f"{name} of {ctx.metric_name} by phase: {plural(n, 'point')}"
+        + (f", {lim}" if lim else "")
+        + (f"; {own_lim}" if own_lim else "")
+        + f"; {change}; {unstable}."
+    )
+    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+
+
+def _check_own(ctx: SeriesContext, carried: ControlChart, own: ControlChart, offset: int) -> None:
+    """The own-limits chart's lengths, and its companion the same as the carried chart's."""
+    _check_len("own.stage", own.stage, len(ctx.x))
+    own_offset = _check_chart(ctx, own, "own")
+    if (own.secondary is None) != (carried.secondary is None) or (
+        own.secondary is not None and own_offset != offset
+    ):
+        raise ValueError(
+            "the own-limits chart must have the same companion chart as the carried one"
+        )
+
+
+def _staged_subtitle(
+    ctx: SeriesContext, carried: ControlChart, own: ControlChart | None
+) -> list[str]:
+    """The periods the limits come from: the baseline's, carried forward, and the after
+    phase's own."""
     after_idx = (
         np.flatnonzero(np.asarray(own.stage, dtype=int) == 1)
         if own is not None
@@ -110,22 +141,4 @@ def staged_control_chart(
             f"after phase's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
             f"({plural(len(after_idx), 'point')})"
         )
-    # the periods and limits drawn; what they show is said in the card's sentences
-    change = _change_sentence(evidence[0], carried)
-    unstable = _own_signals_sentence(signals, own_signals, evidence)
-    spec = make_spec(tpl, values_map, datasets, title, subtitle, exact=_exact(ctx, datasets))
-    table, columns = _control_table(
-        ctx, carried, offset, marked, sec_marked, own=own, marks=_mark_column(evidence, offset)
-    )
-
-    last = {lab["kind"]: lab["text"] for lab in labels}
-    lim = ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
-    own_last = {lab["kind"]: lab["text"] for lab in datasets.get("own_labels", [])}
-    own_lim = ", ".join(own_last[k] for k in ("LCL", "centre line", "UCL") if k in own_last)
-    summary = (
-        f"{name} of {ctx.metric_name} by phase: {plural(n, 'point')}"
-        + (f", {lim}" if lim else "")
-        + (f"; {own_lim}" if own_lim else "")
-        + f"; {change}; {unstable}."
-    )
-    return ChartSpec(spec=spec, table=table, columns=columns, summary=summary)
+    return subtitle

@@ -132,3 +132,9 @@ def _own_signals_sentence(signals, own_signals, evidence) -> str:
             own_judged.append(s)
     own_judged += list(own_signals)
     return "on their own period's limits " + _signals_sentence(own_judged, max_kinds=2)
+
+
+def _last_limits(labels: list[dict]) -> str:
+    """The limits at the last point, from the lines' end labels: 'LCL 1, CL 2, UCL 3'."""
+    last = {lab["kind"]: lab["text"] for lab in labels}
+    return ", ".join(last[k] for k in ("LCL", "centre line", "UCL") if k in last)
