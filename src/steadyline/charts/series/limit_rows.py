@@ -5,6 +5,8 @@ their ends (the after phase's own limits of a chart by phase too).
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
 from ...stats.results import ControlChart
@@ -30,6 +32,45 @@ class _Parts:
             row["look"] = look
         self.rows.append(row)
         return p
+
+
+class _Steps(NamedTuple):
+    """The vertices of one limit line's "step-after" pieces (see :func:`_steps`)."""
+
+    starts: np.ndarray  # the point where each piece starts
+    cand: np.ndarray  # the points where the raw value changes (or a piece starts)
+    shown: list  # the displayed value at each of those points
+    pos: np.ndarray  # per vertex, its point (a piece's end vertex: one past its last point)
+    piece: np.ndarray  # per vertex, the number of its piece
+    which: np.ndarray  # per vertex, its displayed value's place in ``shown``
+
+
+def _steps(raw: np.ndarray, fin: np.ndarray, car_change: np.ndarray) -> _Steps:
+    """A piece runs while values are finite (and drawn) and the carried flag stays the same;
+    within a piece a vertex goes where the displayed value changes, and one more at the
+    piece's end. Displayed values are rounded only where the raw value changes: between
+    such places the value, and so its rounding, stays the same."""
+    first = np.ones(1, dtype=bool)
+    start = fin & np.concatenate([first, ~fin[:-1]]) | fin & car_change
+    end = fin & np.concatenate([~fin[1:] | start[1:], first])
+    cand = np.flatnonzero(fin & (start | np.concatenate([first, raw[1:] != raw[:-1]])))
+    shown = disp_list(raw[cand])
+    shown_f = np.asarray(shown, dtype=float)
+    keep = start[cand] | np.concatenate([first, shown_f[1:] != shown_f[:-1]])
+    vertices = cand[keep]
+    starts = np.flatnonzero(start)
+    ends = np.flatnonzero(end)
+    # the shown value at a piece's end: that of the last candidate at or before it
+    end_shown = np.searchsorted(cand, ends, side="right") - 1
+    # vertices, then each piece's end vertex after its own vertices
+    at = np.concatenate([vertices * 2, ends * 2 + 1])
+    order = np.argsort(at, kind="stable")
+    pos = np.concatenate([vertices, ends + 1])[order]
+    piece = np.concatenate(
+        [np.searchsorted(starts, vertices, side="right") - 1, np.arange(len(ends))]
+    )[order]
+    which = np.concatenate([np.flatnonzero(keep), end_shown])[order]
+    return _Steps(starts, cand, shown, pos, piece, which)
 
 
 def _limit_rows(
@@ -81,40 +122,22 @@ def _limit_rows(
             fin &= on
         if not fin.any():
             continue
-        # A piece runs while values are finite (and drawn) and the carried flag stays the same;
-        # within a piece a vertex goes where the displayed value changes, and one more at the
-        # piece's end. Displayed values are rounded only where the raw value changes: between
-        # such places the value, and so its rounding, stays the same.
-        start = fin & np.concatenate([first, ~fin[:-1]]) | fin & car_change
-        end = fin & np.concatenate([~fin[1:] | start[1:], first])
-        cand = np.flatnonzero(fin & (start | np.concatenate([first, raw[1:] != raw[:-1]])))
-        shown = disp_list(raw[cand])
-        shown_f = np.asarray(shown, dtype=float)
-        keep = start[cand] | np.concatenate([first, shown_f[1:] != shown_f[:-1]])
-        vertices = cand[keep]
-        starts = np.flatnonzero(start)
-        ends = np.flatnonzero(end)
-        # the shown value at a piece's end: that of the last candidate at or before it
-        end_shown = np.searchsorted(cand, ends, side="right") - 1
+        st = _steps(raw, fin, car_change)
         piece_ids = []
-        for k in starts.tolist():
+        for k in st.starts.tolist():
             look = "solid" if solid or (kind == "centre line" and not car[k]) else "dashed"
             piece_ids.append(parts.new(kind, name_at(kind, k), set_name, look))
-        # vertices, then each piece's end vertex after its own vertices
-        at = np.concatenate([vertices * 2, ends * 2 + 1])
-        order = np.argsort(at, kind="stable")
-        pos = np.concatenate([vertices + offset, ends + offset + 1])[order]
-        piece = np.concatenate(
-            [np.searchsorted(starts, vertices, side="right") - 1, np.arange(len(ends))]
-        )[order]
-        which = np.concatenate([np.flatnonzero(keep), end_shown])[order]
-        ids = np.asarray(piece_ids, dtype=np.int64)[piece]
+        ids = np.asarray(piece_ids, dtype=np.int64)[st.piece]
         rows += [
-            {"p": p, "x": mids[x], "y": shown[w]}
+            {"p": p, "x": mids[x], "y": st.shown[w]}
             for p, x, w in zip(
-                ids.tolist(), np.clip(pos, 0, last_mid).tolist(), which.tolist(), strict=True
+                ids.tolist(),
+                np.clip(st.pos + offset, 0, last_mid).tolist(),
+                st.which.tolist(),
+                strict=True,
             )
         ]
+        starts, cand, shown = st.starts, st.cand, st.shown
         i = int(np.flatnonzero(fin)[-1])
         y = shown[int(np.searchsorted(cand, i, side="right") - 1)]
         label = {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}

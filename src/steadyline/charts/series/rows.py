@@ -186,6 +186,26 @@ def _series_rows(
     if aside is not None:
         code += np.asarray(aside, dtype=np.int64)[kp]
     distinct, first, point_key = np.unique(code, return_index=True, return_inverse=True)
+    key_of = _point_keys(distinct, first, names, texts, keys)
+    point_key = key_of[point_key.ravel()]
+
+    lim = None
+    if info is not None:
+        code = info.codes[kp]
+        key_of_code = np.zeros(len(info.texts), dtype=np.int64)
+        for _, c in _first_use(code):
+            key_of_code[c] = keys.info(info.texts[c])
+        lim = key_of_code[code].tolist()
+    return _Series(idx, vals, groups, point_key.tolist(), lim)
+
+
+def _point_keys(
+    distinct: np.ndarray, first: np.ndarray, names: tuple[str, ...], texts: list[str], keys: _Keys
+) -> np.ndarray:
+    """The key in ``keys`` of each distinct point code (see :func:`_series_rows`), taken in
+    order of first use: the code is read back into (phase, used for limits, signal text,
+    mark, set aside)."""
+    width = len(texts) + 1
     key_of = np.zeros(len(distinct), dtype=np.int64)
     for j in np.argsort(first, kind="stable").tolist():  # in order of first use
         rest, put = divmod(int(distinct[j]), 2)
@@ -201,16 +221,7 @@ def _series_rows(
             bool(own),
             bool(put),
         )
-    point_key = key_of[point_key.ravel()]
-
-    lim = None
-    if info is not None:
-        code = info.codes[kp]
-        key_of_code = np.zeros(len(info.texts), dtype=np.int64)
-        for _, c in _first_use(code):
-            key_of_code[c] = keys.info(info.texts[c])
-        lim = key_of_code[code].tolist()
-    return _Series(idx, vals, groups, point_key.tolist(), lim)
+    return key_of
 
 
 def _point_rows(xa: XAxis, ctx: SeriesContext, main: _Series, second: _Series | None = None):
