@@ -10,9 +10,7 @@ from datetime import date
 import numpy as np
 
 from .. import style, vl
-from .numbers import (
-    disp,
-)
+from .numbers import disp
 from .times import event_text, event_time, utc_text
 from .xaxis import XAxis, x_encoding
 

@@ -9,9 +9,7 @@ from collections.abc import Hashable, Sequence
 from typing import TypeVar
 
 from .. import style, vl
-from .templates import (
-    list_slot,
-)
+from .templates import list_slot
 from .xaxis import XAxis, x_encoding
 
 _Name = TypeVar("_Name", bound=Hashable)

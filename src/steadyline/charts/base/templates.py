@@ -16,9 +16,7 @@ from collections.abc import Callable, Collection, Hashable, Sequence
 import orjson
 
 from .. import style, vl
-from .numbers import (
-    _display_row,
-)
+from .numbers import _display_row
 
 _PLACEHOLDER = "\u00a7\u00a7"  # "§§name" marks a per-metric value in a cached template
 _TEMPLATES: dict[tuple[Hashable, ...], dict] = {}

@@ -12,10 +12,7 @@ from datetime import UTC, date, datetime
 import numpy as np
 
 from .. import vl
-from .templates import (
-    list_slot,
-    slot,
-)
+from .templates import list_slot, slot
 from .times import _DATE_RE, _plain_stamps, event_time, parse_time, time_text, utc_text
 from .types import SeriesContext
 

@@ -9,18 +9,8 @@ from .. import style
 from ..base.numbers import fmt, num, plural
 from ..base.templates import cached_template, finish_template, make_spec
 from ..base.types import ChartSpec
-from .categories import (
-    IN_FIRST,
-    MAX_BARS,
-    VITAL_LABEL,
-    gathered,
-)
-from .pareto import (
-    _domain_total,
-    _drawn,
-    _pareto_rows,
-    _pareto_view,
-)
+from .categories import IN_FIRST, MAX_BARS, VITAL_LABEL, gathered
+from .pareto import _domain_total, _drawn, _pareto_rows, _pareto_view
 
 
 def _phase_template(k: int) -> dict:

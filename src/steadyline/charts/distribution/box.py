@@ -10,13 +10,7 @@ from typing import Any
 from ...stats.results import BoxSummary
 from .. import style, vl
 from ..base.numbers import fmt, num, titled, with_unit
-from ..base.templates import (
-    cached_template,
-    finish_template,
-    list_slot,
-    make_spec,
-    slot,
-)
+from ..base.templates import cached_template, finish_template, list_slot, make_spec, slot
 from ..base.types import ChartSpec
 
 # At most this many distinct outlying values are drawn on each side of a box (the most extreme);

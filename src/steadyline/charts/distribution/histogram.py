@@ -7,13 +7,7 @@ from typing import Any
 from ...stats.results import Histogram, StatsError
 from .. import style, vl
 from ..base.numbers import fmt, num, plural, titled, with_unit
-from ..base.templates import (
-    axis_title,
-    cached_template,
-    finish_template,
-    make_spec,
-    slot,
-)
+from ..base.templates import axis_title, cached_template, finish_template, make_spec, slot
 from ..base.types import ChartSpec
 
 _REF_KINDS = ["LSL", "USL", "target"]

@@ -16,41 +16,14 @@ from ..base.periods import band_values
 from ..base.templates import axis_title, cached_template, make_spec
 from ..base.types import ChartSpec, ColumnTable, SeriesContext
 from ..base.xaxis import x_axis
-from .coded import (
-    _Coded,
-    _join_info,
-    _limits_info,
-    _marked_pair,
-    _staged_text,
-)
+from .coded import _Coded, _join_info, _limits_info, _marked_pair, _staged_text
 from .limit_rows import _limit_rows, _own_rows, _Parts
-from .marks import (
-    _mark_codes,
-    _staged_mark_values,
-)
-from .rows import (
-    _bands,
-    _events,
-    _exact,
-    _Keys,
-    _point_rows,
-    _Series,
-    _series_rows,
-    _x_values,
-)
+from .marks import _mark_codes, _staged_mark_values
+from .rows import _bands, _events, _exact, _Keys, _point_rows, _Series, _series_rows, _x_values
 from .shape import _check_chart, _secondary_aside, _secondary_fitted, _secondary_stage
-from .tables import (
-    _control_table,
-    _yes_no,
-)
+from .tables import _control_table, _yes_no
 from .templates import _control_template
-from .words import (
-    _fitted_sentence,
-    _kind_name,
-    _last_limits,
-    _measure_title,
-    _signals_sentence,
-)
+from .words import _fitted_sentence, _kind_name, _last_limits, _measure_title, _signals_sentence
 
 # Charts whose plotted statistic is in the metric's own unit.
 _UNIT_KINDS = {"individuals", "xbar", "moving-range", "range", "stdev"}

@@ -9,13 +9,7 @@ import json
 from .. import style, vl
 from ..base.templates import list_slot, slot
 from ..base.xaxis import x_encoding
-from .marks import (
-    _MARK_DOMAIN,
-    MARK_ASIDE,
-    MARK_ORDINARY,
-    MARK_OWN_SIGNAL,
-    MARK_SIGNAL,
-)
+from .marks import _MARK_DOMAIN, MARK_ASIDE, MARK_ORDINARY, MARK_OWN_SIGNAL, MARK_SIGNAL
 
 _SIGNAL_TEST = "datum.signals ? '" + MARK_SIGNAL + "' : '" + MARK_ORDINARY + "'"
 _STAGED_MARK = "datum.mark || '" + MARK_ORDINARY + "'"

@@ -21,13 +21,8 @@ from ..base.numbers import disp_list
 from ..base.periods import band_rows
 from ..base.types import SeriesContext
 from ..base.xaxis import XAxis, x_axis
-from .coded import (
-    _Coded,
-)
-from .marks import (
-    _MARK_CODES,
-    _MARK_TEXTS,
-)
+from .coded import _Coded
+from .marks import _MARK_CODES, _MARK_TEXTS
 
 # Datasets built at display precision already (values from disp_list, integer or text x).
 _EXACT = ("points",)

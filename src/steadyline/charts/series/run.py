@@ -5,11 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ...stats.results import RunChartAnalysis
-from ...vocab import (
-    RunRules,
-    is_proportion_unit,
-    proportion_text,
-)
+from ...vocab import RunRules, is_proportion_unit, proportion_text
 from .. import style
 from ..base.events import headroom_rows
 from ..base.numbers import disp, fmt, num, num_list, plural, with_unit
@@ -17,29 +13,12 @@ from ..base.periods import band_values
 from ..base.templates import axis_title, cached_template, make_spec
 from ..base.types import ChartSpec, ColumnTable, SeriesContext
 from ..base.xaxis import XAxis, x_axis
-from .coded import (
-    _signal_text,
-)
-from .rows import (
-    _bands,
-    _events,
-    _exact,
-    _Keys,
-    _point_rows,
-    _series_rows,
-    _x_values,
-)
+from .coded import _signal_text
+from .rows import _bands, _events, _exact, _Keys, _point_rows, _series_rows, _x_values
 from .shape import _check_len
-from .tables import (
-    _signal_column,
-    _yes_no,
-)
+from .tables import _signal_column, _yes_no
 from .templates import _run_template
-from .words import (
-    _aside_words,
-    _measure_title,
-    _signals_sentence,
-)
+from .words import _aside_words, _measure_title, _signals_sentence
 
 
 def run_chart(

@@ -15,17 +15,10 @@ from ..base.numbers import plural
 from ..base.templates import cached_template, make_spec
 from ..base.types import ChartSpec, SeriesContext
 from .control import _control_parts
-from .marks import (
-    MARK_ASIDE,
-    _mark_column,
-)
-from .rows import (
-    _exact,
-)
+from .marks import MARK_ASIDE, _mark_column
+from .rows import _exact
 from .shape import _check_chart, _check_len
-from .tables import (
-    _control_table,
-)
+from .tables import _control_table
 from .templates import _control_template
 from .words import (
     _change_sentence,

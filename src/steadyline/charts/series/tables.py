@@ -10,10 +10,7 @@ from ...memo import by_identity
 from ...stats.results import ControlChart
 from ..base.numbers import num_list
 from ..base.types import ColumnTable
-from .coded import (
-    _Coded,
-    _pairs,
-)
+from .coded import _Coded, _pairs
 from .shape import _secondary_stage
 
 _SECONDARY_SHORT = {"moving-range": "mR", "range": "R", "stdev": "S"}

@@ -10,19 +10,11 @@ import numpy as np
 
 from ...stats.evidence import PointEvidence, change_counts
 from ...stats.results import ControlChart, Signal
-from ...vocab import (
-    chart_name,
-    control_chart_kind,
-    is_proportion_unit,
-    items_of,
-    proportion_unit,
-)
+from ...vocab import chart_name, control_chart_kind, is_proportion_unit, items_of, proportion_unit
 from ..base.numbers import plural, titled
 from ..base.periods import stage_runs
 from ..base.types import SeriesContext
-from .marks import (
-    _CHANGES,
-)
+from .marks import _CHANGES
 
 
 def _when(x: str) -> str:
