@@ -155,7 +155,7 @@ def test_plain_reader_strips_cells_like_the_careful_reader():
 def test_display_rounding_in_bulk_matches_the_text_rounding():
     # reference: float(f"{x:.6g}") (Python's correctly rounded formatting), value by value,
     # over decimal data, 7-digit values ending in 5 (ties) and the whole exponent range
-    from steadyline.charts.base import _round6, _round6_array
+    from steadyline.charts.base.numbers import _round6, _round6_array
 
     rng = np.random.default_rng(21)
     arrays = [
@@ -398,16 +398,11 @@ def test_plain_iso_times_read_by_numpy_match_pandas():
 def test_series_keys_and_signal_texts_in_bulk_match_a_point_by_point_loop():
     # reference: the signal texts gathered and the keys numbered point by point in order of
     # first use, as the chart's tooltips list them (a plain loop over the points)
-    from steadyline.charts.base import SeriesContext
-    from steadyline.charts.series import (
-        _MARK_CODES,
-        _MARK_TEXTS,
-        _Coded,
-        _Keys,
-        _series_rows,
-        _signal_column,
-        _signal_text,
-    )
+    from steadyline.charts.base.types import SeriesContext
+    from steadyline.charts.series.coded import _Coded, _signal_text
+    from steadyline.charts.series.marks import _MARK_CODES, _MARK_TEXTS
+    from steadyline.charts.series.rows import _Keys, _series_rows
+    from steadyline.charts.series.tables import _signal_column
     from steadyline.stats.results import Signal
 
     rng = np.random.default_rng(3)
@@ -577,7 +572,7 @@ def test_plain_reader_splitting_matches_pandas_reader(split_max, monkeypatch):
 def test_signal_texts_of_points_in_many_kinds_of_signal():
     # reference: the plain loop of the test above; twenty descriptions on the same points take
     # the table path (the sequence no longer fits one number)
-    from steadyline.charts.series import _signal_text
+    from steadyline.charts.series.coded import _signal_text
     from steadyline.stats.results import Signal
 
     signals = [

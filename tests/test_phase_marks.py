@@ -17,7 +17,7 @@ from pathlib import Path
 import pytest
 
 from steadyline.charts import style
-from steadyline.charts.series import (
+from steadyline.charts.series.marks import (
     CHANGE_MARKS,
     MARK_ASIDE,
     MARK_CHANGE_BETTER,

@@ -9,7 +9,7 @@ import json
 import pytest
 from test_site import open_page
 
-from steadyline.charts.series import CHANGE_MARKS, MARK_ORDINARY, MARK_OWN_SIGNAL
+from steadyline.charts.series.marks import CHANGE_MARKS, MARK_ORDINARY, MARK_OWN_SIGNAL
 
 pytestmark = pytest.mark.browser
 

@@ -11,7 +11,7 @@ import pytest
 from test_site import open_page
 
 from steadyline.charts import style
-from steadyline.charts.series import MARK_ASIDE
+from steadyline.charts.series.marks import MARK_ASIDE
 
 pytestmark = pytest.mark.browser
 

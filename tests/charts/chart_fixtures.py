@@ -355,7 +355,7 @@ def resolved_points(spec: dict, suffix: str = "", prefix: str = "") -> list[dict
     lookup and calculations), with readable names: label, value, line, stage, info, fitted,
     marker, signals, and on the staged chart own (the diamond beneath). Mirrors the
     transforms written by charts.series."""
-    from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
+    from steadyline.charts.series.marks import MARK_ORDINARY, MARK_SIGNAL
 
     d = spec["datasets"]
     info = {r["k"]: r for r in d[f"{prefix}point_info"]}

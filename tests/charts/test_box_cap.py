@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from steadyline.charts import box_chart
-from steadyline.charts.distribution import MAX_OUTLIERS_EACH_SIDE
+from steadyline.charts.distribution.box import MAX_OUTLIERS_EACH_SIDE
 from steadyline.stats import box_summary
 
 

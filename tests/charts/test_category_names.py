@@ -11,7 +11,7 @@ import pytest
 import vl_convert as vlc
 
 from steadyline.charts import column_chart, pareto_chart, phase_pareto_chart
-from steadyline.charts.categorical import MAX_BARS, gathered, others_label
+from steadyline.charts.categorical.categories import MAX_BARS, gathered, others_label
 from steadyline.stats import pareto
 from steadyline.stats.pareto import pareto_in_order
 

@@ -15,8 +15,8 @@ from chart_fixtures import (
     missing_fields,
 )
 
-from steadyline.charts import base as chart_base
 from steadyline.charts import clear_template_cache, control_chart
+from steadyline.charts.base import templates as chart_base
 
 
 def _dump(spec) -> str:

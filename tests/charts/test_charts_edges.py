@@ -101,8 +101,9 @@ def test_empty_histogram_bins():
 def test_plain_times_take_the_bulk_path_with_the_same_positions():
     # reference: the one-by-one path (datetime.fromisoformat and strftime from the standard
     # library) on the same values, with one value that forces it
-    from steadyline.charts.base import XAxis, time_text, utc_text
-    from steadyline.charts.base import parse_time as pt
+    from steadyline.charts.base.times import parse_time as pt
+    from steadyline.charts.base.times import time_text, utc_text
+    from steadyline.charts.base.xaxis import XAxis
 
     cases = [
         ("2026-01-05", "2026-01-06", "2026-01-09"),
@@ -141,7 +142,7 @@ def test_plain_times_take_the_bulk_path_with_the_same_positions():
 
 def test_times_handed_over_by_the_maker_give_the_positions_read_from_the_text():
     # reference: the same axis with the times read back from the ISO text (numpy's parse)
-    from steadyline.charts.base import XAxis
+    from steadyline.charts.base.xaxis import XAxis
 
     xs = ("2026-01-05", "2026-01-05T06:00:07", "2026-01-06T00:00:01", "2026-02-01")
     stamps = np.array(xs, dtype="datetime64[s]")
@@ -154,13 +155,43 @@ def test_times_handed_over_by_the_maker_give_the_positions_read_from_the_text():
     assert SeriesContext(**kw, stamps=stamps) == SeriesContext(**kw)
 
 
+def test_events_given_as_dates_are_drawn_as_their_iso_text_is_without_reading_text_back(
+    monkeypatch,
+):
+    # reference: the same events given as ISO text (read back by datetime.fromisoformat)
+    import datetime as dt
+
+    from steadyline.charts.base import events as event_module
+    from steadyline.charts.base import times, xaxis
+    from steadyline.charts.base.events import event_rows
+    from steadyline.charts.base.xaxis import XAxis
+
+    xs = ("2026-01-05", "2026-01-12", "2026-01-19T06:30:00", "2026-01-26", "2026-02-02")
+    stamps = np.array(xs, dtype="datetime64[s]")
+    days = [dt.date(2026, 1, 5), dt.date(2026, 1, 13), dt.date(2026, 1, 20), dt.date(2026, 3, 1)]
+    kw = dict(x=xs, x_is_time=True, stage=("",) * 5, segment=(0,) * 5, unit="", metric_name="m")
+    as_text = [(d.isoformat(), f"event {k}") for k, d in enumerate(days)]
+    as_dates = [(d, f"event {k}") for k, d in enumerate(days)]
+    expected = event_rows(XAxis(SeriesContext(**kw, stamps=stamps)), as_text)
+    assert len(expected) == 3  # the last event is outside the plotted range
+
+    def refuse(text):
+        raise AssertionError(f"time read back from text: {text!r}")
+
+    for module in (times, xaxis, event_module):
+        if hasattr(module, "parse_time"):
+            monkeypatch.setattr(module, "parse_time", refuse)
+    got = event_rows(XAxis(SeriesContext(**kw, stamps=stamps)), as_dates)
+    assert got == expected
+
+
 def test_a_template_is_filled_the_same_whether_cached_or_not():
     # reference: the placeholders written out by hand
     import copy
 
     import pytest
 
-    from steadyline.charts.base import cached_template, fill, list_slot, slot
+    from steadyline.charts.base.templates import cached_template, fill, list_slot, slot
 
     def build():
         return {

@@ -19,8 +19,9 @@ from chart_fixtures import (
 )
 
 from steadyline.charts import SeriesContext, control_chart, run_chart
-from steadyline.charts.base import fmt, time_text
-from steadyline.charts.series import MARK_ORDINARY, MARK_SIGNAL
+from steadyline.charts.base.numbers import fmt
+from steadyline.charts.base.times import time_text
+from steadyline.charts.series.marks import MARK_ORDINARY, MARK_SIGNAL
 
 
 def _pieces(spec, kind, name="limits"):
@@ -395,7 +396,7 @@ def test_subtitle_names_the_limits_not_the_signals():
 
 
 def test_long_subtitle_lines_are_wrapped_at_spaces():
-    from steadyline.charts.base import SUBTITLE_WIDTH, make_spec
+    from steadyline.charts.base.templates import SUBTITLE_WIDTH, make_spec
 
     words = [f"word{i}" for i in range(60)]
     spec = make_spec({}, {}, {}, "t", [" ".join(words), "short"])
@@ -405,7 +406,7 @@ def test_long_subtitle_lines_are_wrapped_at_spaces():
 
 
 def test_subtitle_times_read_as_a_reader_writes_them():
-    from steadyline.charts.series import _when
+    from steadyline.charts.series.words import _when
 
     assert _when("2026-02-02T14:53:00") == "2026-02-02 14:53"
     assert _when("2026-02-02T14:53:07") == "2026-02-02 14:53:07"
@@ -413,7 +414,7 @@ def test_subtitle_times_read_as_a_reader_writes_them():
 
 
 def test_long_axis_titles_wrap_instead_of_stretching_the_chart():
-    from steadyline.charts.base import AXIS_TITLE_LINES, axis_title
+    from steadyline.charts.base.templates import AXIS_TITLE_LINES, axis_title
 
     assert axis_title("Lead time (hours)", 260) == "Lead time (hours)"
     words = "Percentage of customer orders shipped complete within a day of receipt at the dock"
@@ -427,7 +428,8 @@ def test_long_axis_titles_wrap_instead_of_stretching_the_chart():
 
 def test_bands_filled_by_kind_of_period_not_by_order():
     from steadyline.charts import style
-    from steadyline.charts.base import band_rows, band_values, period_kinds, x_axis
+    from steadyline.charts.base.periods import band_rows, band_values, period_kinds
+    from steadyline.charts.base.xaxis import x_axis
 
     names = ["Between periods", "Baseline", "Between periods", "After", "Between periods"]
     assert period_kinds(names) == [

@@ -22,7 +22,8 @@ from steadyline.charts import (
     pareto_chart,
     phase_pareto_chart,
 )
-from steadyline.charts.categorical import REST_LABEL, VITAL_LABEL, common_order
+from steadyline.charts.categorical.by_phase import common_order
+from steadyline.charts.categorical.categories import REST_LABEL, VITAL_LABEL
 from steadyline.stats.results import Histogram
 
 # --- histogram ------------------------------------------------------------------------------

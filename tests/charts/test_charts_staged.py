@@ -21,7 +21,7 @@ from chart_fixtures import (
 )
 
 from steadyline.charts import control_chart, staged_control_chart
-from steadyline.charts.series import (
+from steadyline.charts.series.marks import (
     MARK_CHANGE_BETTER,
     MARK_CHANGE_UNJUDGED,
     MARK_CHANGE_WORSE,

@@ -20,7 +20,7 @@ from chart_fixtures import (
 )
 
 from steadyline.charts import control_chart, run_chart
-from steadyline.charts.base import disp
+from steadyline.charts.base.numbers import disp
 
 SPECS = all_chart_specs()
 IDS = [name for name, _ in SPECS]
@@ -108,7 +108,7 @@ def test_fresh_process_composes_every_template_quickly_without_altair():
         "import sys, time\n"
         "sys.path.insert(0, sys.argv[1])\n"
         "from chart_fixtures import all_chart_specs\n"
-        "from steadyline.charts import base\n"
+        "from steadyline.charts.base import templates as base\n"
         "all_chart_specs()  # warm up the imports\n"
         "base.clear_template_cache()\n"
         "t = time.perf_counter(); all_chart_specs(); dt = time.perf_counter() - t\n"

@@ -6,11 +6,19 @@ Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 "staged-control-chart", "study-components", "study-ranges", "study-measurements".
 """
 
-from .base import ChartSpec, SeriesContext, clear_template_cache
-from .categorical import column_chart, pareto_chart, phase_pareto_chart
-from .distribution import box_chart, histogram_chart
-from .series import control_chart, run_chart, staged_control_chart
-from .study import components_chart, measurements_chart, ranges_chart
+from .base.templates import clear_template_cache
+from .base.types import ChartSpec, SeriesContext
+from .categorical.by_phase import phase_pareto_chart
+from .categorical.column import column_chart
+from .categorical.pareto import pareto_chart
+from .distribution.box import box_chart
+from .distribution.histogram import histogram_chart
+from .series.control import control_chart
+from .series.run import run_chart
+from .series.staged import staged_control_chart
+from .study.components import components_chart
+from .study.measurements import measurements_chart
+from .study.ranges import ranges_chart
 
 __all__ = [
     "ChartSpec",

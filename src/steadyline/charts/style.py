@@ -155,7 +155,7 @@ def vega_config() -> dict:
     """The one Vega-Lite config shared by every chart (a fresh dict each call)."""
     return {
         "font": FONT,
-        # lets the time axes pass Vega a multi-format object (charts.base.x_encoding)
+        # lets the time axes pass Vega a multi-format object (charts.base.xaxis.x_encoding)
         "customFormatTypes": True,
         "background": "#ffffff",
         # room on the right for the last label of a time axis, centred on its tick: Vega

@@ -392,7 +392,8 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
         # a defectives metric plots the proportion defective: its unit names the items checked
         unit=proportion_unit(a.spec.unit) if a.data.kind == "defectives" else a.spec.unit,
         metric_name=a.spec.name,
-        events=tuple((e.date.isoformat(), e.label) for e in spec.events),
+        # the events' dates as dates: the charts write them as text where they draw them
+        events=tuple((e.date, e.label) for e in spec.events),
         points_note=points_note(a.spec),
     )
 

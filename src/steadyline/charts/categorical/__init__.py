@@ -1,0 +1,18 @@
+"""Counts by category: column chart, Pareto chart, and Pareto charts by phase.
+
+The names code elsewhere imports from here; each lives in the module of its concern.
+"""
+
+from .by_phase import common_order, phase_pareto_chart
+from .categories import MAX_BARS, gathered
+from .column import column_chart
+from .pareto import pareto_chart
+
+__all__ = [
+    "MAX_BARS",
+    "column_chart",
+    "common_order",
+    "gathered",
+    "pareto_chart",
+    "phase_pareto_chart",
+]
