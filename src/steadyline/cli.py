@@ -149,7 +149,8 @@ def cmd_watch(args) -> int:
 
 
 def cmd_start(args) -> int:
-    from .start import COLUMN_OPTIONS, start
+    from .start.command import start
+    from .start.guessing import COLUMN_OPTIONS
 
     columns = {k: getattr(args, k) for k in COLUMN_OPTIONS}
     path, guess, notes = start(
