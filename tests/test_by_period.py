@@ -20,7 +20,7 @@ import pytest
 import vl_convert as vlc
 from markupsafe import escape
 
-from steadyline.analysis import analyse
+from steadyline.analysis.process import analyse
 from steadyline.config import load_portfolio, load_project
 <<<<<<< HEAD
 from steadyline.loading import DRAWN_POINTS_MAX, choose_period, load_metric

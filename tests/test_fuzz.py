@@ -19,7 +19,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from steadyline import stats
-from steadyline.analysis import analyse
+from steadyline.analysis.process import analyse
 from steadyline.config import PortfolioSettings, load_portfolio, load_project
 from steadyline.errors import Problem, ProjectError
 from steadyline.loading.metric import load_metric

@@ -7,9 +7,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from steadyline.analysis import STAGE_AFTER, analyse
+from steadyline.analysis.process import analyse
 from steadyline.config import PortfolioSettings, load_project
-from steadyline.loading import load_metric
+from steadyline.loading import STAGE_AFTER, load_metric
 from steadyline.stats import detect_signals
 
 TOML = """title = "Phase capability"

@@ -147,7 +147,7 @@ def test_problem_and_notes_come_before_the_first_chart(demo_site):
 
 
 def test_short_of_room_the_sentences_naming_points_go_to_the_table():
-    from steadyline.advice import Finding
+    from steadyline.advice.sentences import Finding
     from steadyline.site.cards import order_findings, shown_findings
 
     change = Finding("change-better", "■", "12 of 14 after points take part …")

@@ -26,14 +26,14 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError, Problem
-from steadyline.watch import (
+from steadyline.site.common import is_ignored
+from steadyline.watch import make_server
+from steadyline.watch_batches import (
     CAP_S,
     QUIET_S,
     Debouncer,
     changed_slugs,
-    is_ignored,
     known_slugs,
-    make_server,
     problem_lines,
     rebuild_line,
     relevant,

@@ -14,6 +14,7 @@ import os
 import sys
 import traceback
 from pathlib import Path
+from typing import TYPE_CHECKING, TypeAlias
 
 from . import __version__
 from .errors import Problem, SteadylineError
@@ -149,7 +150,8 @@ def cmd_watch(args) -> int:
 
 
 def cmd_start(args) -> int:
-    from .start import COLUMN_OPTIONS, start
+    from .start.command import start
+    from .start.guessing import COLUMN_OPTIONS
 
     columns = {k: getattr(args, k) for k in COLUMN_OPTIONS}
     path, guess, notes = start(
@@ -180,27 +182,41 @@ def parser() -> argparse.ArgumentParser:
     )
     p.add_argument("--version", action="version", version=f"steadyline {__version__}")
     sub = p.add_subparsers(dest="command", required=True)
+    _build_parser(sub)
+    _check_parser(sub)
+    _watch_parser(sub)
+    _merge_parser(sub)
+    _start_parser(sub)
+    return p
 
-    def common(sp, out=True):
+
+def _common(sp: argparse.ArgumentParser, out: bool = True) -> None:
+    """The options the commands that read a portfolio share."""
+    sp.add_argument(
+        "projects_dir",
+        nargs="?",
+        default="projects",
+        help="the portfolio folder with one sub-folder per project (default: projects)",
+    )
+    if out:
+        sp.add_argument("--out", default="site", help="output folder (default: site)")
         sp.add_argument(
-            "projects_dir",
-            nargs="?",
-            default="projects",
-            help="the portfolio folder with one sub-folder per project (default: projects)",
+            "--jobs",
+            type=int,
+            default=None,
+            help="projects built in parallel (default: number of cores)",
         )
-        if out:
-            sp.add_argument("--out", default="site", help="output folder (default: site)")
-            sp.add_argument(
-                "--jobs",
-                type=int,
-                default=None,
-                help="projects built in parallel (default: number of cores)",
-            )
-        sp.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
-        sp.add_argument("--quiet", action="store_true", help="print only problems")
+    sp.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+    sp.add_argument("--quiet", action="store_true", help="print only problems")
 
+
+if TYPE_CHECKING:  # what add_subparsers returns (a class argparse names privately)
+    _Sub: TypeAlias = argparse._SubParsersAction[argparse.ArgumentParser]
+
+
+def _build_parser(sub: _Sub) -> None:
     b = sub.add_parser("build", help="build the static site")
-    common(b)
+    _common(b)
     b.add_argument(
         "--force",
         action="store_true",
@@ -216,17 +232,23 @@ def parser() -> argparse.ArgumentParser:
     )
     b.set_defaults(func=cmd_build)
 
+
+def _check_parser(sub: _Sub) -> None:
     c = sub.add_parser("check", help="validate every project without writing anything")
-    common(c, out=False)
+    _common(c, out=False)
     c.add_argument("--strict", action="store_true", help="exit 1 on warnings too")
     c.set_defaults(func=cmd_check)
 
+
+def _watch_parser(sub: _Sub) -> None:
     w = sub.add_parser("watch", help="build, serve on 127.0.0.1 and rebuild on every change")
-    common(w)
+    _common(w)
     w.add_argument("--port", type=int, default=8000, help="port on 127.0.0.1 (default: 8000)")
     w.add_argument("--no-serve", action="store_true", help="only rebuild; do not serve")
     w.set_defaults(func=cmd_watch)
 
+
+def _merge_parser(sub: _Sub) -> None:
     m = sub.add_parser("merge", help="merge sites built with build --shard into one site")
     m.add_argument(
         "shard_dirs", nargs="+", metavar="SHARD_DIR", help="the output folder of each shard's build"
@@ -236,6 +258,8 @@ def parser() -> argparse.ArgumentParser:
     m.add_argument("--quiet", action="store_true", help="print only problems")
     m.set_defaults(func=cmd_merge)
 
+
+def _start_parser(sub: _Sub) -> None:
     s = sub.add_parser(
         "start",
         help="write a commented project.toml for a data file, guessing "
@@ -263,7 +287,6 @@ def parser() -> argparse.ArgumentParser:
     s.add_argument("--quiet", action="store_true", help="print only problems")
     s.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
     s.set_defaults(func=cmd_start)
-    return p
 
 
 def main(argv: list[str] | None = None) -> int:

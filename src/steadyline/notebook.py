@@ -31,7 +31,9 @@ import orjson
 import pandas as pd
 
 from . import memo
-from .analysis import MetricAnalysis, StudyAnalysis, analyse, analyse_study
+from .analysis.process import analyse
+from .analysis.results import MetricAnalysis, StudyAnalysis
+from .analysis.study import analyse_study
 from .config import (
     PHASES,
     STUDY,

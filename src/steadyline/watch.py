@@ -1,23 +1,11 @@
 """`steadyline watch`: build, serve the site on 127.0.0.1 and rebuild on every change.
 
-The moving parts are kept apart so that the logic can be tested without threads or timers:
-
-- :func:`is_ignored` says whether a changed path is an editor's swap, backup or lock file (or
-  hidden), which never starts a rebuild;
-- :class:`Debouncer` gathers a burst of file events into one batch: the batch is due once no
-  event came for a quiet period, or once the first event of the burst is older than a cap (so a
-  stream of events that never pauses still rebuilds now and then);
-- :func:`changed_slugs` maps the changed paths of a batch to the projects they belong to (the
-  first path component under the portfolio folder); a change to portfolio.toml means "every
-  project";
-- :func:`watch` wires them to a watchdog observer, the build and a small standard-library HTTP
-  server.
-
-One editor save gives several raw events within a few milliseconds (an atomic save shows only
-as a move onto the file); a quiet period of 0.1 s with a 3 s cap turns each burst into one
-rebuild (a burst cut in two would cost a second rebuild, never a wrong page: each build reads
-the files as they are). The pages of a watched site poll live-state.json and reload when their
-project's stamp changes.
+The pure parts (which changed paths matter, to which projects; the debouncer that turns a
+burst of events into one batch; the lines a rebuild prints) live in
+:mod:`steadyline.watch_batches`, tested without threads or timers, and are handed on from here.
+This module wires them to a watchdog observer, the build and a small standard-library HTTP
+server. The pages of a watched site poll live-state.json and reload when their project's stamp
+changes.
 
 A save must reach the page quickly, so the session keeps what a rebuild needs ready:
 - the statistics stack (pandas, numpy, the chart and page templates, compiled) is loaded once,
@@ -46,165 +34,31 @@ import sys
 import threading
 import time
 import traceback
-from collections.abc import Iterable
+from collections.abc import Callable
 from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
+from types import FrameType
+from typing import TYPE_CHECKING, Any, NoReturn
 
-from .errors import BuildError, Problem, SteadylineError
+from .errors import BuildError, SteadylineError
 from .files import is_ignored
 from .site.common import CSP
+from .watch_batches import (
+    CAP_S,
+    QUIET_S,
+    Debouncer,
+    changed_slugs,
+    known_slugs,
+    problem_lines,
+    rebuild_line,
+    relevant,
+)
 
-QUIET_S = 0.1
-CAP_S = 3.0
-PORTFOLIO_FILE = "portfolio.toml"
+if TYPE_CHECKING:  # watchdog is imported only when a session starts
+    from watchdog.observers.api import BaseObserver
 
 # Event kinds that say nothing about content: reading a file (the build does it!) or touching it.
 _IGNORED_EVENT_TYPES = frozenset({"opened", "closed_no_write", "attrib"})
-
-
-# --------------------------------------------------------------------------------------------
-# pure parts
-
-
-def _parts_under(path: str | os.PathLike, root: str | os.PathLike) -> tuple[str, ...] | None:
-    """The components of *path* below *root*, or None when it is not inside it."""
-    rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
-    if rel == os.curdir:
-        return ()
-    if rel == os.pardir or rel.startswith(os.pardir + os.sep) or os.path.isabs(rel):
-        return None
-    return tuple(Path(rel).parts)
-
-
-def relevant(path: str | os.PathLike, root: str | os.PathLike) -> bool:
-    """Whether a change at *path* can matter to the site built from portfolio folder *root*.
-
-    Inside a project folder: any file that is not hidden or temporary (a project's inputs are all
-    its files). At the top: portfolio.toml only. Folders whose name starts with "." or "_" are
-    not projects (see ``config.discover``) and are ignored like hidden files.
-    """
-    parts = _parts_under(path, root)
-    if not parts:
-        return False
-    if any(is_ignored(p) for p in parts) or parts[0].startswith("_"):
-        return False
-    return True
-
-
-def changed_slugs(paths: Iterable[str | os.PathLike], root: str | os.PathLike) -> set[str] | None:
-    """The project slugs touched by *paths*; None when every project must be rebuilt.
-
-    The slug is the first path component under *root*. A change to ``portfolio.toml`` (the
-    settings every project is built with) returns None. Paths that are outside *root*, hidden
-    or temporary are left out, so the result may be empty (nothing to rebuild). A top-level
-    name is returned as it is: it may be a project folder that was created, renamed or deleted,
-    or a loose file no project reads; the caller tells them apart against the file system
-    (see :func:`known_slugs`).
-    """
-    slugs: set[str] = set()
-    for path in paths:
-        if not relevant(path, root):
-            continue
-        parts = _parts_under(path, root)
-        assert parts  # relevant() checked it
-        if parts == (PORTFOLIO_FILE,):
-            return None
-        slugs.add(parts[0])
-    return slugs
-
-
-def known_slugs(slugs: set[str], root: Path, out: Path) -> set[str]:
-    """The *slugs* that are project folders now, or were published before (deleted ones)."""
-    return {s for s in slugs if (root / s).is_dir() or (out / "projects" / s).is_dir()}
-
-
-class Debouncer:
-    """Gathers events into batches: a batch is due after *quiet* seconds without an event, or
-    *cap* seconds after its first event, whichever comes first.
-
-    Pure: the caller passes the time (``time.monotonic()`` in use, plain numbers in tests).
-    """
-
-    def __init__(self, quiet: float = QUIET_S, cap: float = CAP_S):
-        if quiet < 0 or cap < quiet:
-            raise ValueError("need 0 <= quiet <= cap")
-        self.quiet = quiet
-        self.cap = cap
-        self._items: set = set()
-        self._first: float | None = None
-        self._last: float | None = None
-
-    @property
-    def pending(self) -> bool:
-        return self._first is not None
-
-    def add(self, items: Iterable, now: float) -> None:
-        """Record the items of one event at time *now* (an empty event is no event)."""
-        items = set(items)
-        if not items:
-            return
-        self._items |= items
-        if self._first is None:
-            self._first = now
-        self._last = now
-
-    def due_in(self, now: float) -> float | None:
-        """Seconds until the pending batch is due (0 when due now); None when nothing waits."""
-        if self._first is None or self._last is None:
-            return None
-        deadline = min(self._last + self.quiet, self._first + self.cap)
-        return max(0.0, deadline - now)
-
-    def take(self, now: float) -> set | None:
-        """The batch when it is due (and start a new one), else None."""
-        wait = self.due_in(now)
-        if wait is None or wait > 0:
-            return None
-        items, self._items = self._items, set()
-        self._first = self._last = None
-        return items
-
-
-def problem_lines(problems: Iterable[Problem], slugs: set[str] | None = None) -> list[str]:
-    """``path:line: message`` lines, sorted and without repeats; only those of *slugs* when
-    given (a problem's path starts with its project's folder name)."""
-    seen: set[str] = set()
-    lines = []
-    for p in sorted(problems, key=lambda p: (p.path, p.line or 0, p.where, p.message)):
-        if slugs is not None and p.path.split("/", 1)[0] not in slugs:
-            continue
-        line = p.format()
-        if line not in seen:
-            seen.add(line)
-            lines.append(line)
-    return lines
-
-
-def rebuild_line(report, slugs: set[str] | None, seconds: float) -> str:
-    """One line that sums up a rebuild, e.g. "rebuilt spoke-tension in 0.42 s".
-
-    *slugs* are the projects asked for (None: all); one asked for that the build neither built
-    nor reused is no longer there (its folder was deleted or renamed).
-    """
-    rebuilt = sorted(set(report.built) | (set(report.broken) - set(report.reused)))
-    gone = sorted(set(slugs or ()) - set(rebuilt) - set(report.reused))
-    broken = sorted(set(report.broken) & set(rebuilt))
-    took = f"in {seconds:.2f} s"
-    if not rebuilt and not gone:
-        return f"no change ({took})"
-    parts = []
-    if rebuilt:
-        parts.append(f"rebuilt {', '.join(rebuilt)} {took}")
-    if gone:
-        parts.append(f"removed {', '.join(gone)}" + ("" if rebuilt else f" {took}"))
-    line = "; ".join(parts)
-    if broken:
-        n = sum(p.severity == "error" for p in report.problems if p.path.split("/", 1)[0] in broken)
-        line += (
-            f" - {', '.join(broken)}: {n} error{'s' if n != 1 else ''}, shown on "
-            f"{'its page' if len(broken) == 1 else 'their pages'}"
-        )
-    return line
 
 
 # --------------------------------------------------------------------------------------------
@@ -263,6 +117,15 @@ class _Stop(BaseException):
     KeyboardInterrupt, so that no `except Exception` on the way swallows it."""
 
 
+# What signal.signal returns and takes: a handler function, or SIG_DFL / SIG_IGN, or None
+# for a handler not installed from Python.
+_SignalHandler = Callable[[int, FrameType | None], Any] | int | signal.Handlers | None
+
+
+def _raise_stop(signum: int, frame: FrameType | None) -> NoReturn:
+    raise _Stop(signum)
+
+
 def watch(
     projects_dir: Path,
     out: Path,
@@ -278,8 +141,6 @@ def watch(
     Errors in the projects never stop the loop: a broken project is published as a page listing
     its problems, and the same problems are printed here; the next good save recovers.
     """
-    from watchdog.events import FileSystemEventHandler
-    from watchdog.observers import Observer
 
     from .pipeline.build import BuildOptions, Standby, build
     from .pipeline.output_rule import check_output, named_faults
@@ -298,14 +159,12 @@ def watch(
     except BaseException:
         lock.release()
         raise
+    # Longer than most functions: the session's resources (lock, server, observer, standby,
+    # signal handlers) are opened in this one function so that its `finally` releases each.
     observer = None
     standby = None
     server_thread = None
-    old_handlers: dict[int, object] = {}
-
-    def _raise_stop(signum, frame):
-        raise _Stop(signum)
-
+    old_handlers: dict[signal.Signals, _SignalHandler] = {}
     try:
         if threading.current_thread() is threading.main_thread():
             # Installed explicitly: a process started in the background may inherit SIGINT
@@ -317,60 +176,16 @@ def watch(
         # files the watcher saw change, so a change made during the first build must be seen.
         cond = threading.Condition()
         debouncer = Debouncer(QUIET_S, CAP_S)
+        observer = _observe(root, cond, debouncer)
 
-        class Handler(FileSystemEventHandler):
-            def on_any_event(self, event) -> None:
-                if event.event_type in _IGNORED_EVENT_TYPES:
-                    return
-                if event.is_directory and event.event_type == "modified":
-                    return  # a folder's listing changed: its files' own events say what
-                paths = [
-                    os.fsdecode(p) for p in (event.src_path, getattr(event, "dest_path", "")) if p
-                ]
-                paths = [p for p in paths if relevant(p, root)]
-                if paths:
-                    with cond:
-                        debouncer.add(paths, time.monotonic())
-                        cond.notify()
-
-        observer = Observer()
-        observer.schedule(Handler(), str(root), recursive=True)
-        observer.start()
-
-        # First build.
-        t0 = time.perf_counter()
-        report = build(BuildOptions(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
-        for line in problem_lines(report.problems):
-            _say(line)
-        if not quiet:
-            _say(
-                f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
-                f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
-                f"site at {out}"
-            )
+        _first_build(root, out, jobs, debug, quiet, build, BuildOptions, lock)
         warm_up(root)
         standby = Standby(out)
         standby.prepare()
-
-        if server is not None:
-            server_thread = threading.Thread(
-                target=server.serve_forever, name="steadyline-serve", daemon=True
-            )
-            server_thread.start()
-            host, real_port = server.server_address[:2]
-            _say(f"serving http://{host}:{real_port}/ - watching {projects_dir} (Ctrl-C to stop)")
-        elif not quiet:
-            _say(f"watching {projects_dir} (Ctrl-C to stop)")
+        server_thread = _serve(server, projects_dir, quiet)
 
         while True:
-            with cond:
-                while True:
-                    now = time.monotonic()
-                    batch = debouncer.take(now)
-                    if batch is not None:
-                        break
-                    wait = debouncer.due_in(now)
-                    cond.wait(1.0 if wait is None else min(wait, 1.0))
+            batch = _next_batch(cond, debouncer)
             _rebuild(batch, root, out, jobs, debug, quiet, build, BuildOptions, lock, standby)
     except (KeyboardInterrupt, _Stop):
         if not quiet:
@@ -387,9 +202,85 @@ def watch(
             observer.join(timeout=5)
         if standby is not None:
             standby.discard()
-        for sig, h in old_handlers.items():
-            signal.signal(sig, h)
+        for signum, handler in old_handlers.items():
+            signal.signal(signum, handler)
         lock.release()
+
+
+def _first_build(
+    root: Path,
+    out: Path,
+    jobs: int | None,
+    debug: bool,
+    quiet: bool,
+    build,
+    options_type,
+    lock,
+) -> None:
+    """The session's first build (every project hashed), its problems and a summary line."""
+    t0 = time.perf_counter()
+    report = build(options_type(root, out, jobs=jobs, live=True, debug=debug, lock=lock))
+    for line in problem_lines(report.problems):
+        _say(line)
+    if not quiet:
+        _say(
+            f"steadyline: {len(report.built)} built, {len(report.reused)} unchanged, "
+            f"{len(report.broken)} with errors in {time.perf_counter() - t0:.2f} s; "
+            f"site at {out}"
+        )
+
+
+def _observe(root: Path, cond: threading.Condition, debouncer: Debouncer) -> BaseObserver:
+    """A started watchdog observer of *root* that adds the relevant paths of each event to
+    *debouncer* and wakes the loop waiting on *cond*."""
+    from watchdog.events import FileSystemEvent, FileSystemEventHandler
+    from watchdog.observers import Observer
+
+    class Handler(FileSystemEventHandler):
+        def on_any_event(self, event: FileSystemEvent) -> None:
+            if event.event_type in _IGNORED_EVENT_TYPES:
+                return
+            if event.is_directory and event.event_type == "modified":
+                return  # a folder's listing changed: its files' own events say what
+            paths = [os.fsdecode(p) for p in (event.src_path, getattr(event, "dest_path", "")) if p]
+            paths = [p for p in paths if relevant(p, root)]
+            if paths:
+                with cond:
+                    debouncer.add(paths, time.monotonic())
+                    cond.notify()
+
+    observer = Observer()
+    observer.schedule(Handler(), str(root), recursive=True)
+    observer.start()
+    return observer
+
+
+def _serve(
+    server: ThreadingHTTPServer | None, projects_dir: Path, quiet: bool
+) -> threading.Thread | None:
+    """Start serving in a thread of its own (when serving), and say where."""
+    if server is None:
+        if not quiet:
+            _say(f"watching {projects_dir} (Ctrl-C to stop)")
+        return None
+    server_thread = threading.Thread(
+        target=server.serve_forever, name="steadyline-serve", daemon=True
+    )
+    server_thread.start()
+    _say(f"serving http://{HOST}:{server.server_port}/ - watching {projects_dir} (Ctrl-C to stop)")
+    return server_thread
+
+
+def _next_batch(cond: threading.Condition, debouncer: Debouncer) -> set:
+    """Wait for the next batch of changes to be due, and take it."""
+    with cond:
+        while True:
+            now = time.monotonic()
+            batch = debouncer.take(now)
+            if batch is not None:
+                return batch
+            wait = debouncer.due_in(now)
+            cond.wait(1.0 if wait is None else min(wait, 1.0))
 
 
 def warm_up(root: Path) -> None:
