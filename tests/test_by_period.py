@@ -22,15 +22,10 @@ from markupsafe import escape
 
 from steadyline.analysis.process import analyse
 from steadyline.config import load_portfolio, load_project
-<<<<<<< HEAD
-from steadyline.loading import DRAWN_POINTS_MAX, choose_period, load_metric
-from steadyline.pipeline.project import build_project
-from steadyline.site.project import RESULTS_SCHEMA
-=======
 from steadyline.loading.drawing import DRAWN_POINTS_MAX, choose_period
 from steadyline.loading.metric import load_metric
-from steadyline.site.project import RESULTS_SCHEMA, build_project
->>>>>>> r-loading
+from steadyline.pipeline.project import build_project
+from steadyline.site.project import RESULTS_SCHEMA
 from steadyline.stats.constants import c4
 
 START = np.datetime64("2026-01-05T06:00")
