@@ -25,9 +25,9 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError
+from steadyline.pipeline import publish as publish_mod
 from steadyline.pipeline.build import BuildOptions, build
 from steadyline.pipeline.publish import clean_stale, lock_output, lock_path, process_start
-from steadyline.pipeline import publish as publish_mod
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
