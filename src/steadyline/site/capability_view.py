@@ -23,7 +23,7 @@ import math
 from ..charts.base import plural
 from ..stats.compare import format_p_value
 from ..stats.distribution import p_below_text
-from .cards import fmt
+from .figures_text import fmt
 
 # The drawn scale reaches this share of the widest span beyond it on each side, so that the
 # marks at its ends are not cut by the edge.

@@ -15,11 +15,12 @@ from ..loading import STAGE_AFTER, STAGE_BASELINE
 from ..stats.compare import format_p_value
 from ..status import HeadlineFacts
 from ..vocab import percentage_points
-from .cards import fmt, pct, safe_cell
 from .common import PHASE_LABEL
+from .figures_text import fmt, pct
 from .index import csv_text
 from .notices import NotBuilt
 from .serialise import rounded_number
+from .tables import safe_cell
 
 
 def data_to(analyses: list[MetricAnalysis]) -> str:

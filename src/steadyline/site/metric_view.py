@@ -15,8 +15,9 @@ from ..config import MetricSpec, ProjectSpec
 from ..errors import Problem
 from ..vocab import DataType, RunRules, SignalRules, period_value
 from .capability_view import capability_view
-from .cards import Displays, fmt
+from .cards import Displays
 from .drawn import by_period_brief
+from .figures_text import fmt
 from .metric_cards import (
     aside_values_text,
     box_card,
