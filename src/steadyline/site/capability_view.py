@@ -91,16 +91,16 @@ def _ruler(c, unit: str) -> dict | None:
             "label": label,
             "from": at(a),
             "to": at(b),
-            "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}",
+            "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}",  # also in the words
         }
         for k, label, a, b in spans
     ]
-    words = [
+    words: list[str] = [
         f"The specification runs from {fmt(lsl, unit, 3) if lsl is not None else 'no lower limit'}"
         f" to {fmt(usl, unit, 3) if usl is not None else 'no upper limit'}"
     ]
     words.append(f"the mean is {fmt(mean, unit, 3)}")
-    words += [b["text"] for b in bars]
+    words += [f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}" for _, label, a, b in spans]
     return {
         "window": window,
         "marks": marks,

@@ -147,7 +147,7 @@ def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
 
 
 @by_identity(4)  # the project and history pages' entries of a metric list the same signals
-def signals_json(signals, x) -> list[dict]:
+def signals_json(signals, x) -> list[Plain]:
     # a Signal's texts are plain str (stats.results); x holds one text per point
     at = x.__getitem__
     out = []

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from ..analysis import MetricAnalysis
 from ..stats.compare import format_p_value
+from ..stats.results_studies import MixChange
 from ..vocab import percentage_points, plural
 from .capability_view import counted_outside
 from .figures_text import fmt
@@ -17,8 +18,7 @@ from .studies import SIGMA_WORDS, sigma_level_text, yield_text
 # ----------------------------------------------------------------------------- change in mix
 
 
-def mix_sentence(a: MetricAnalysis) -> str:
-    x = a.mix
+def mix_sentence(x: MixChange) -> str:
     changed = x.p_value < 0.05
     return (
         f"The shares of the categories {'changed' if changed else 'did not change beyond chance'}"
@@ -27,10 +27,9 @@ def mix_sentence(a: MetricAnalysis) -> str:
     )
 
 
-def mix_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
+def mix_rows(x: MixChange) -> list[tuple[str, str, str]]:
     """The history page's table for a categories metric: each share before and after, the
     test, and the expected-count rule with what it led to."""
-    x = a.mix
     rows = []
     for c, b, f, nb, nf in zip(
         x.categories, x.baseline_share, x.after_share, x.baseline, x.after, strict=True
@@ -44,7 +43,7 @@ def mix_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
         )
     stat = (
         ""
-        if x.statistic is None
+        if x.statistic is None or x.df is None  # Fisher's test has neither
         else f"chi-square {x.statistic:.2f} on {plural(x.df, 'degree')} of freedom"
     )
     rows.append(("Test", x.test, (stat + "; " if stat else "") + format_p_value(x.p_value)))

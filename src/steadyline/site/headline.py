@@ -6,6 +6,8 @@ and how fresh its data are (:func:`data_to`).
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from ..analysis import AFTER_OWN_LIMITS_MIN, MetricAnalysis
@@ -119,7 +121,7 @@ def headline_facts(a: MetricAnalysis | NotBuilt) -> HeadlineFacts:
             problem_count=a.errors,
         )
     c = a.comparison
-    facts = {
+    facts: dict[str, Any] = {  # HeadlineFacts' fields, those that apply
         "metric_id": a.spec.id,
         "metric_name": a.spec.name,
         "has_after": a.has_after,

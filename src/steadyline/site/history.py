@@ -119,7 +119,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
 
 def change_evidence_json(evidence, chart, x) -> list[dict]:
     """The points marked as evidence of a change, by chart and direction, in results.json."""
-    out = []
+    out: list[dict] = []
     if evidence is None:
         return out
     for which, ev, sub in (
@@ -199,7 +199,7 @@ def history_section(
         result["sustained_shift"] = bool(a.after_shift.signals)
     rows, sentence = comparison_rows(a), a.comparison.sentence if a.comparison else ""
     if a.mix is not None:
-        rows, sentence = mix_rows(a), mix_sentence(a)
+        rows, sentence = mix_rows(a.mix), mix_sentence(a.mix)
         result["mix_change"] = mix_json(a)
     if (row := power_row(a)) is not None and rows:
         rows.append(row)
@@ -258,13 +258,13 @@ def staged_card(d: Displays, a: MetricAnalysis, sctx: SeriesContext, result: dic
     marked by its direction; points in signals on their own period's limits (the baseline's,
     the after phase's own: a.after_signals) are marked as instability (a.evidence tells the
     two apart)."""
-    control = a.control
-    assert control is not None
+    control, evidence = a.control, a.evidence
+    assert control is not None and evidence is not None  # made together (analysis)
     own = a.after_limits is not None
     chart = staged_control_chart(
         sctx, control, a.after_limits, a.signals, a.after_signals, a.evidence
     )
-    findings = advice.change_findings(a.evidence, control, a.signals)
+    findings = advice.change_findings(evidence, control, a.signals)
     if own:
         findings += advice.own_limit_findings(a.after_signals, a.x)
     d.add(

@@ -97,6 +97,7 @@ def project_outcome(
             ctx,
         )
     head = next(a for a in loaded if a.spec.id == spec.headline.id)
+    assert not isinstance(head, StudyAnalysis)  # the metadata refuse a study as the headline
     verdict = judge(headline_facts(head))
     history = history_results if has_history else None
     doc = results_doc(spec, verdict.as_json(), results, history, problems, prov, fresh)
@@ -109,7 +110,7 @@ def project_outcome(
 def _add_status(
     entry: dict,
     spec: ProjectSpec,
-    head: Loaded,
+    head: MetricAnalysis | NotBuilt,
     status: dict,
     has_history: bool,
     not_built: list[NotBuilt],
@@ -181,10 +182,13 @@ def _metric_parts(
 
 def _notes_html(spec: ProjectSpec, root: Path) -> str:
     """The project's notes as HTML ("" without a notes file)."""
+    path = spec.notes_path
+    if not path:
+        return ""
     try:
-        return render_notes(spec.notes_path) if spec.notes_path else ""
+        return render_notes(path)
     except Unreadable as e:  # changed since the project was loaded
-        raise ProjectError([Problem(rel(spec.notes_path, root), None, "", str(e))]) from None
+        raise ProjectError([Problem(rel(path, root), None, "", str(e))]) from None
 
 
 def results_doc(

@@ -154,7 +154,7 @@ def plain(obj: Any) -> Any:
     """A JSON-able copy of *obj*."""
     # One body on purpose: it is called for every value of every results.json, and the exact
     # types met most often are answered before the general checks without a further call.
-    t = type(obj)
+    t: type = type(obj)
     # the common exact types first (same results as the general checks below)
     if t is str or obj is None or t is bool:
         return obj

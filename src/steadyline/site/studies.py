@@ -14,9 +14,9 @@ from __future__ import annotations
 
 from ..analysis import MetricAnalysis
 from ..stats.after_sample import POWER
-from ..stats.results_studies import BusinessFigures
+from ..stats.results_studies import AfterSamplePlan, BusinessFigures
 from ..vocab import percentage_points, period_value, plural
-from .figures_text import fmt
+from .figures_text import fmt, pct
 from .serialise import plain
 
 SIGMA_WORDS = {
@@ -27,8 +27,11 @@ SIGMA_WORDS = {
 }
 
 
-def yield_text(y: float) -> str:
-    """A yield as a percentage that never reads 100% while something falls outside."""
+def yield_text(y: float | None) -> str:
+    """A yield as a percentage that never reads 100% while something falls outside (a dash
+    for a figure that does not apply to the kind, as :func:`fmt` writes a missing one)."""
+    if y is None:
+        return "—"
     bad = 1.0 - y
     if bad <= 0:
         return "100%"
@@ -37,7 +40,9 @@ def yield_text(y: float) -> str:
     return f"{100 * y:.2f}%"
 
 
-def _count(v: float) -> str:
+def _count(v: float | None) -> str:
+    if v is None:  # a figure that does not apply to the kind, as fmt writes it
+        return "—"
     return f"{v:,.0f}" if float(v).is_integer() else fmt(v, digits=4)
 
 
@@ -65,7 +70,7 @@ def business_fact(a: MetricAnalysis) -> dict | None:
         text = (
             f"First-pass yield {yield_text(f.first_pass_yield)}: "
             f"{_count(f.units)} {items} checked in the {period}, "
-            f"{100 * f.proportion_defective:.2f}% of them defective "
+            f"{pct(f.proportion_defective)} of them defective "
             f"({f.ppm:,.0f} per million)"
         )
         return {"term": "Baseline yield", "text": text + (f"; {sig}." if sig else ".")}
@@ -195,8 +200,7 @@ def _by_row(a: MetricAnalysis) -> bool:
     )
 
 
-def _change_text(a: MetricAnalysis) -> str:
-    m, p = a.spec, a.after_plan
+def _change_text(p: AfterSamplePlan, unit: str) -> str:
     if p.kind == "defectives":
         return (
             f"{percentage_points(p.target - p.baseline)}, {100 * p.baseline:.2f}% → "
@@ -204,8 +208,7 @@ def _change_text(a: MetricAnalysis) -> str:
         )
     sign = "+" if p.target > p.baseline else "−"
     return (
-        f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, {fmt(p.baseline)} → "
-        f"{fmt(p.target, m.unit)}"
+        f"{sign}{fmt(abs(p.target - p.baseline), unit)}, {fmt(p.baseline)} → {fmt(p.target, unit)}"
     )
 
 
@@ -218,7 +221,7 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
     # the answer first; the test by its name (the plan's assumptions are in results.json and
     # the methods), the exact rate test's approximation said since the plan uses it
     test = p.test if p.kind == "defects" else p.test.split(" (")[0]
-    step, span = _change_text(a).split(", ", 1)
+    step, span = _change_text(p, a.spec.unit).split(", ", 1)
     why = (
         f"to detect the expected {step} in the {measure} ({span}): {test}, "
         f"{100 * p.alpha:g}% level, {100 * p.power:g}% power (common practice)"
@@ -232,12 +235,11 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
         "term": "After sample needed",
         "text": f"{_point_word(a, p.points)}"
         + (" (a point per row of data)" if _by_row(a) else "")
-        + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a)}.",
+        + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a, p.kind)}.",
     }
 
 
-def _size_word(a: MetricAnalysis) -> str:
-    k = a.after_plan.kind
+def _size_word(a: MetricAnalysis, k: str) -> str:
     if k == "continuous":
         return (
             period_value(a.spec.rollup.period, a.spec.rollup.statistic, plural=True)
@@ -264,7 +266,7 @@ def power_row(a: MetricAnalysis) -> tuple[str, str, str] | None:
     return (
         "After sample",
         f"{so_far}; {needed}",
-        f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(a)}); "
+        f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(p, a.spec.unit)}); "
         f"{100 * POWER:g}% wanted: {verdict}",
     )
 

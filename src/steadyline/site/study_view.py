@@ -117,7 +117,9 @@ def study_cards(d: Displays, sa: StudyAnalysis, design: str, trials: int) -> Non
             "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
             "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.",
         )
-    chart = measurements_chart(sa.data.values, sa.data.parts, sa.data.appraisers, unit=m.unit)
+    chart = measurements_chart(
+        sa.data.values.tolist(), sa.data.parts, sa.data.appraisers, unit=m.unit
+    )
     findings = []
     if study is not None:
         findings = advice.appraiser_findings(study, _appraiser_means(sa), m.unit)

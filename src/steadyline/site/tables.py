@@ -75,8 +75,8 @@ def _csv_numbers(values: list) -> list[str]:
     merged by the set, are both written "0")."""
     distinct = set(values)
     if len(distinct) * 4 <= len(values):
-        text = dict(zip(distinct, _csv_cells(list(distinct)), strict=True))
-        return list(map(text.__getitem__, values))
+        cell = dict(zip(distinct, _csv_cells(list(distinct)), strict=True))
+        return list(map(cell.__getitem__, values))
     arr = np.array(values, dtype=float)  # None -> nan
     # orjson writes the same shortest digits as repr, in C; it places the decimal point or
     # writes the exponent differently where repr writes an exponent (below 1e-4 and from 1e16
@@ -236,12 +236,13 @@ def table_body(table: list[dict], columns, limit: int) -> Markup:
     if isinstance(table, ColumnTable) and table.columns == tuple(columns):
         n = min(limit, len(table))
         cells = [_html_column(table.cols[c], n) for c in columns]
-        rows = range(n)
+        shown = n
     else:
         rows = table[:limit]
-        cells = [_html_cells(list(map(dict.get, rows, repeat(c)))) for c in columns]
+        cells = [_html_cells([row.get(c) for row in rows]) for c in columns]
+        shown = len(rows)
     if not cells:
-        return Markup("<tr></tr>" * len(rows))
+        return Markup("<tr></tr>" * shown)
     return Markup(
         "".join(["<tr><td>" + "</td><td>".join(r) + "</td></tr>" for r in zip(*cells, strict=True)])
     )
