@@ -128,18 +128,19 @@ class Displays:
 
 
 def series_context(a: MetricAnalysis, spec: ProjectSpec) -> SeriesContext:
-    pts = a.data.points
+    periods = a.point_periods
+    assert periods is not None  # a time series has a date column
     # ISO text to the second, midnight written as the date alone
-    seconds = pts["period"].to_numpy().astype("datetime64[s]")
+    seconds = periods.astype("datetime64[s]")
     stamps = np.datetime_as_string(seconds, unit="s")
     return SeriesContext(
         x=tuple(t[:10] if t.endswith("T00:00:00") else t for t in stamps.tolist()),
         stamps=seconds,
         x_is_time=True,
         stage=a.stage_names,
-        segment=tuple(pts["segment"].to_numpy(dtype=np.int64).tolist()),
+        segment=tuple(a.point_segments.tolist()),
         # a defectives metric plots the proportion defective: its unit names the items checked
-        unit=proportion_unit(a.spec.unit) if a.data.kind == "defectives" else a.spec.unit,
+        unit=proportion_unit(a.spec.unit) if a.effective_type == "defectives" else a.spec.unit,
         metric_name=a.spec.name,
         events=tuple((e.date.isoformat(), e.label) for e in spec.events),
         points_note=points_note(a.spec),

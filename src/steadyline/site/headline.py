@@ -13,7 +13,6 @@ import numpy as np
 from ..analysis import AFTER_OWN_LIMITS_MIN, MetricAnalysis
 from ..config import ProjectSpec
 from ..errors import Problem
-from ..loading import STAGE_AFTER, STAGE_BASELINE
 from ..stats.compare import format_p_value
 from ..status import HeadlineFacts
 from ..vocab import percentage_points
@@ -27,11 +26,7 @@ from .tables import safe_cell
 
 def data_to(analyses: list[MetricAnalysis]) -> str:
     """How fresh a project's data are: the last period of any of its metrics (a date), or ""."""
-    ends = [
-        a.data.points["period"].to_numpy().max()
-        for a in analyses
-        if "period" in a.data.points and len(a.data.points)
-    ]
+    ends = [p.max() for a in analyses if (p := a.point_periods) is not None and len(p)]
     return str(np.datetime_as_string(max(ends), unit="D")) if ends else ""
 
 
@@ -105,7 +100,7 @@ def headline_card(
             "spark": "",
             "spark_split": "",
         }
-        if head.data.kind != "categories":
+        if head.effective_type != "categories":
             headline["spark"], headline["spark_split"] = sparkline(head)
     return headline
 
@@ -125,7 +120,7 @@ def headline_facts(a: MetricAnalysis | NotBuilt) -> HeadlineFacts:
         "metric_id": a.spec.id,
         "metric_name": a.spec.name,
         "has_after": a.has_after,
-        "categories": a.data.kind == "categories",
+        "categories": a.effective_type == "categories",
         "control": a.control is not None,
         "own_limits_min": AFTER_OWN_LIMITS_MIN,
     }
@@ -142,10 +137,9 @@ def headline_facts(a: MetricAnalysis | NotBuilt) -> HeadlineFacts:
         facts["failure"] = "; ".join(
             dict.fromkeys(msg for disp, msg in a.failures if disp == "comparison")
         )
-    if a.data.kind != "categories":
-        stage = a.data.points["stage"].to_numpy(int)
+    if a.effective_type != "categories":
         facts |= {
-            "after_points": int((stage == STAGE_AFTER).sum()),
+            "after_points": int(a.in_after.sum()),
             "own_limits": a.after_limits is not None,
             "after_signals": len(a.after_signals),
         }
@@ -181,15 +175,11 @@ def headline_figures(a: MetricAnalysis | NotBuilt) -> dict[str, str]:
             "change": num(c.change),
             "percent_change": num(c.percent_change),
         }
-    elif a.run is not None and a.data.kind != "categories":
-        pts = a.data.points
-        base = (
-            pts[pts["stage"] == STAGE_BASELINE] if (pts["stage"] == STAGE_BASELINE).any() else pts
-        )
-        if a.data.kind in ("defectives", "defects"):
+    elif a.run is not None and a.effective_type != "categories":
+        if a.effective_type in ("defectives", "defects"):
             out |= {
-                "measure": "proportion" if a.data.kind == "defectives" else "rate",
-                "baseline": num(base["count"].sum() / base["size"].sum()),
+                "measure": "proportion" if a.effective_type == "defectives" else "rate",
+                "baseline": num(a.baseline_rate),
             }
         else:
             out |= {"measure": "median", "baseline": num(a.run.median)}
@@ -228,26 +218,16 @@ def headline_text(a: MetricAnalysis) -> str:
             f"{a.pareto.threshold:.0f}% of {a.pareto.total:g}."
         )
     if a.run is not None:
-        pts = a.data.points
-        base = (
-            pts[pts["stage"] == STAGE_BASELINE] if (pts["stage"] == STAGE_BASELINE).any() else pts
-        )
-        if a.data.kind == "defectives":
-            return (
-                f"Baseline proportion {pct(base['count'].sum() / base['size'].sum())}; "
-                "no after period yet."
-            )
-        if a.data.kind == "defects":
-            return (
-                f"Baseline rate {fmt(base['count'].sum() / base['size'].sum(), unit, 3)}; "
-                "no after period yet."
-            )
+        if a.effective_type == "defectives":
+            return f"Baseline proportion {pct(a.baseline_rate)}; no after period yet."
+        if a.effective_type == "defects":
+            return f"Baseline rate {fmt(a.baseline_rate, unit, 3)}; no after period yet."
         return f"Baseline median {fmt(a.run.median, unit, 3)}; no after period yet."
     return "No summary available."
 
 
 def sparkline(a: MetricAnalysis) -> tuple[str, str]:
-    v = a.data.points["value"].to_numpy(float)
+    v = a.point_values
     ok = np.isfinite(v)
     if ok.sum() < 2:
         return "", ""
@@ -257,8 +237,7 @@ def sparkline(a: MetricAnalysis) -> tuple[str, str]:
     xs = np.linspace(1, 119, n)
     ys = 30 - (v - lo) / span * 28
     pts = " ".join(f"{x:.1f},{y:.1f}" for x, y, k in zip(xs, ys, ok, strict=True) if k)
-    st = a.data.points["stage"].to_numpy(int)
     split = ""
-    if (st == STAGE_AFTER).any():
-        split = f"{xs[int(np.argmax(st == STAGE_AFTER))]:.1f}"
+    if a.in_after.any():
+        split = f"{xs[int(np.argmax(a.in_after))]:.1f}"
     return pts, split

@@ -16,7 +16,6 @@ from ..charts import (
 from ..charts.base import fmt as chart_fmt
 from ..charts.categorical import common_order, gathered
 from ..config import PHASES, ProjectSpec
-from ..loading import STAGE_AFTER
 from ..stats.compare import format_p_value
 from ..stats.evidence import DIRECTIONS
 from ..vocab import RunRules, percentage_points, proportion_text, proportion_unit
@@ -108,7 +107,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
                 "after-phase points against the baseline median "
                 + (
                     proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
-                    if a.data.kind == "defectives"
+                    if a.effective_type == "defectives"
                     else fmt(sh.median, unit, 4)
                 )
                 + f" by the {RunRules(sh.rule_set).label}",
@@ -153,7 +152,7 @@ def after_note(a: MetricAnalysis) -> str:
             "No after period with data yet: the comparison appears once the after phase has data."
         )
     if len(a.phase_paretos) > 1:
-        after = int((a.data.points["stage"].to_numpy() == STAGE_AFTER).sum())
+        after = int(a.in_after.sum())
         (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
 
         def counted(p, rows: int) -> str:  # rows tell more only when each row has a weight
@@ -168,7 +167,7 @@ def after_note(a: MetricAnalysis) -> str:
             f"{counted(f, after)}."
         )
     why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
-    if a.data.kind == "categories":
+    if a.effective_type == "categories":
         why = why or (
             "no row falls in the baseline period" if a.category_scope != "baseline" else ""
         )
@@ -185,7 +184,7 @@ def history_section(
     m = a.spec
     d = Displays(spec.slug, m.id, files, prefix="history-")
     result: dict = {"id": m.id, "name": m.name}
-    if a.control is not None and a.data.kind != "categories":
+    if a.control is not None and a.effective_type != "categories":
         assert sctx is not None  # a time series has its layout
         staged_card(d, a, sctx, result)
     if len(a.phase_boxes) > 1:

@@ -6,8 +6,6 @@ its findings and cautions, writes its method line and adds its part of the resul
 
 from __future__ import annotations
 
-import numpy as np
-
 from .. import advice
 from ..analysis import MetricAnalysis, points_note, values_brief, values_note
 from ..charts import (
@@ -21,7 +19,6 @@ from ..charts import (
 )
 from ..charts.base import fmt as chart_fmt
 from ..charts.categorical import MAX_BARS, gathered
-from ..loading import STAGE_BASELINE
 from ..vocab import RUN_RULES_DETAIL, RunRules, control_chart_kind
 from .cards import Displays, signals_json
 from .drawn import box_json, by_period_text, column_json, pareto_json
@@ -62,7 +59,7 @@ def run_card(
 ) -> None:
     assert a.run is not None
     m = a.spec
-    chart = run_chart(ctx, a.data.points["value"].to_numpy(float), a.run, aside=a.aside)
+    chart = run_chart(ctx, a.point_values, a.run, aside=a.aside)
     d.add(
         "run",
         "Run chart with median",
@@ -168,7 +165,8 @@ def category_cards(d: Displays, a: MetricAnalysis, result: dict) -> None:
             f"Pareto chart of {'the ' if scope == 'baseline' else ''}{scope}",
             chart,
             advice.pareto_findings(a.pareto),
-            advice.pareto_cautions(a.pareto) + advice.bar_axis_cautions(chart.spec),
+            # (their value axes start at zero by construction: tests/test_page_data_flow.py)
+            advice.pareto_cautions(a.pareto),
             "Bars in descending order; the line is the cumulative percentage on the right "
             "axis, whose 100% sits level with the total on the left axis.",
         )
@@ -184,7 +182,7 @@ def category_cards(d: Displays, a: MetricAnalysis, result: dict) -> None:
             "column",
             f"Column chart by category, {scope}",
             chart,
-            cautions=advice.column_cautions(len(names)) + advice.bar_axis_cautions(chart.spec),
+            cautions=advice.column_cautions(len(names)),
             method="Categories in alphabetical order; the count axis starts at zero."
             + (
                 f" Only the {MAX_BARS - 1} largest are drawn, and one last bar for all the "
@@ -211,7 +209,7 @@ def category_period(a: MetricAnalysis) -> str:
         "no baseline period set"
         if m.baseline is None
         else "no date column to find the baseline period by"
-        if "period" not in a.data.points
+        if a.point_periods is None
         else "no row falls in the baseline period"
     )
     return f"all data ({why}), {values}"
@@ -244,7 +242,7 @@ def aside_values_text(a: MetricAnalysis) -> str:
 def _aside_caution(a: MetricAnalysis) -> list[str]:
     if a.aside is None:
         return []
-    base = np.asarray(a.data.points["stage"].to_numpy(int) == STAGE_BASELINE)
+    base = a.in_baseline
     return advice.aside_cautions(int((a.aside & base).sum()), int(base.sum()))
 
 

@@ -12,7 +12,6 @@ import numpy as np
 from .. import advice
 from ..analysis import MetricAnalysis
 from ..charts import SeriesContext
-from ..loading import STAGE_AFTER, STAGE_BASELINE
 from .cards import signals_json
 from .drawn import by_period_json
 from .serialise import plain
@@ -27,10 +26,10 @@ def result_head(a: MetricAnalysis) -> dict:
         "name": m.name,
         "unit": m.unit,
         "type": m.type,
-        "effective_type": a.data.kind,
+        "effective_type": a.effective_type,
         "better": m.better,
         "file": m.file_rel,
-        "rows_read": a.data.raw_rows,
+        "rows_read": a.rows_read,
         "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper, "target": m.target},
         "periods": {
             "baseline": m.baseline and [m.baseline.start, m.baseline.end],
@@ -52,7 +51,7 @@ def points_json(a: MetricAnalysis, ctx: SeriesContext) -> dict:
     return {
         "label": list(a.x),
         "period": list(ctx.x),
-        "value": a.data.points["value"].to_numpy(float),
+        "value": a.point_values,
         "stage": [s for s in a.stage_names],
     }
 
@@ -68,7 +67,7 @@ def add_result_figures(a: MetricAnalysis, result: dict) -> None:
         result["after_sample_plan"] = plan_json(a)
     if a.normality is not None:
         result["normality"] = a.normality
-    if m.set_aside and a.data.kind != "categories":
+    if m.set_aside and a.effective_type != "categories":
         result["set_aside"] = set_aside_json(a)
     if a.comparison is not None:
         result["comparison"] = a.comparison
@@ -80,7 +79,7 @@ def add_result_figures(a: MetricAnalysis, result: dict) -> None:
 
 def set_aside_json(a: MetricAnalysis) -> dict:
     """results.json's account of the points set aside (README, results.json schema)."""
-    base = a.data.points["stage"].to_numpy(int) == STAGE_BASELINE
+    base = a.in_baseline
     aside = a.aside if a.aside is not None else np.zeros(len(base), dtype=bool)
     k, n = int((aside & base).sum()), int(base.sum())
     return {
@@ -98,5 +97,4 @@ def set_aside_json(a: MetricAnalysis) -> dict:
 
 
 def _after_labels(a: MetricAnalysis) -> tuple[str, ...]:
-    st = a.data.points["stage"].to_numpy(int)
-    return tuple(x for x, s in zip(a.x, st, strict=True) if s == STAGE_AFTER)
+    return tuple(x for x, s in zip(a.x, a.in_after.tolist(), strict=True) if s)

@@ -50,7 +50,7 @@ def metric_section(
     labels = (SignalRules(m.signal_rules).label, RunRules(m.run_rules).label)
     result = result_head(a)
     open_signals = baseline_signals = 0
-    if a.data.kind != "categories":
+    if a.effective_type != "categories":
         assert ctx is not None  # a time series has its layout
         result["points"] = points_json(a, ctx)
         open_signals, baseline_signals = series_cards(d, a, ctx, labels, result)
@@ -58,7 +58,7 @@ def metric_section(
         histogram_card(d, a, result)
     if a.box is not None:
         box_card(d, a, result)
-    if a.data.kind == "categories":
+    if a.effective_type == "categories":
         category_cards(d, a, result)
     add_result_figures(a, result)
     warnings = [c for card in d.cards for c in card["cautions"]]
@@ -88,7 +88,7 @@ def section_facts(a: MetricAnalysis, labels: tuple[str, str]) -> dict:
         "study": False,
         "gauge": None,  # the study that checks its measurements (set by the caller)
         "data_text": f"{DataType(m.type).label} from {Path(m.file_rel).name} "
-        f"({a.data.raw_rows} rows{_rollup_text(m)}"
+        f"({a.rows_read} rows{_rollup_text(m)}"
         f"{by_period_brief(a)})",
         "choice": a.choice.reason if a.choice else "",
         "periods_text": periods_text(a),
@@ -98,7 +98,7 @@ def section_facts(a: MetricAnalysis, labels: tuple[str, str]) -> dict:
         "study_facts": [f for f in (business_fact(a), plan_fact(a)) if f is not None],
         "rules_text": (
             f"{labels[0]} on the control chart; {labels[1]} on the run chart"
-            if a.data.kind != "categories"
+            if a.effective_type != "categories"
             else "Pareto: the smallest set of categories reaching 80% set apart"
         ),
     }

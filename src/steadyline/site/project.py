@@ -160,7 +160,7 @@ def _metric_parts(
             results.append(result)
             memo.forget()
             continue
-        sctx = series_context(a, spec) if a.data.kind != "categories" else None
+        sctx = series_context(a, spec) if a.effective_type != "categories" else None
         section, result = metric_section(a, spec, files, mp, sctx)
         if a.spec.measurement_study is not None:
             sid = a.spec.measurement_study

@@ -182,11 +182,11 @@ def _point_word(a: MetricAnalysis, n: int) -> str:
     m = a.spec
     if m.rollup is not None:
         return plural(n, m.rollup.period)
-    if a.data.by_period is not None:
-        return plural(n, a.data.by_period.period)
-    if a.data.kind == "subgroups":
+    if a.by_period is not None:
+        return plural(n, a.by_period.period)
+    if a.effective_type == "subgroups":
         return plural(n, "subgroup")
-    if a.data.kind == "continuous":
+    if a.effective_type == "continuous":
         return plural(n, "value")
     return plural(n, "point")
 
@@ -195,8 +195,8 @@ def _by_row(a: MetricAnalysis) -> bool:
     """Whether a point of the metric is one row of its data (attributes, no roll-up)."""
     return (
         a.spec.rollup is None
-        and a.data.by_period is None
-        and a.data.kind in ("defectives", "defects")
+        and a.by_period is None
+        and a.effective_type in ("defectives", "defects")
     )
 
 

@@ -37,9 +37,8 @@ METHOD = (
 
 
 def _design(sa: StudyAnalysis) -> tuple[int, int, int]:
-    d = sa.data
-    parts, apprs = len(set(d.parts)), len(set(d.appraisers))
-    return parts, apprs, len(d.values) // (parts * apprs)
+    parts, apprs = len(set(sa.parts)), len(set(sa.appraisers))
+    return parts, apprs, len(sa.measurements) // (parts * apprs)
 
 
 def study_section(
@@ -64,7 +63,7 @@ def study_section(
         "unit": m.unit,
         "type": m.type,
         "file": m.file_rel,
-        "rows_read": sa.data.raw_rows,
+        "rows_read": sa.rows_read,
         "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper},
         "study": None if study is None else plain(study),
         "verdict": verdict,
@@ -117,9 +116,7 @@ def study_cards(d: Displays, sa: StudyAnalysis, design: str, trials: int) -> Non
             "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
             "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.",
         )
-    chart = measurements_chart(
-        sa.data.values.tolist(), sa.data.parts, sa.data.appraisers, unit=m.unit
-    )
+    chart = measurements_chart(sa.measurements.tolist(), sa.parts, sa.appraisers, unit=m.unit)
     findings = []
     if study is not None:
         findings = advice.appraiser_findings(study, _appraiser_means(sa), m.unit)
@@ -153,7 +150,7 @@ def study_facts(
     """The facts above the study's cards: its design, verdict, specification and the metrics
     whose measurements it checks."""
     m, study = sa.spec, sa.study
-    facts = [("Study", f"{design}, from {Path(m.file_rel).name} ({sa.data.raw_rows} rows)")]
+    facts = [("Study", f"{design}, from {Path(m.file_rel).name} ({sa.rows_read} rows)")]
     if verdict is not None and study is not None:
         facts.append(
             (
@@ -194,7 +191,7 @@ def _anova_text(study) -> str:
 
 def _appraiser_means(sa: StudyAnalysis) -> dict[str, float]:
     sums: dict[str, list[float]] = {}
-    for v, o in zip(sa.data.values.tolist(), sa.data.appraisers, strict=True):
+    for v, o in zip(sa.measurements.tolist(), sa.appraisers, strict=True):
         sums.setdefault(o, []).append(v)
     return {o: sum(vs) / len(vs) for o, vs in sums.items()}
 
