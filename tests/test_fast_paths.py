@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 from markupsafe import escape
 
-from steadyline.site.cards import _cell, _csv_cells, _csv_field, _html_cells, safe_cell
 from steadyline.site.serialise import dumps, plain
+from steadyline.site.tables import _cell, _csv_cells, _csv_field, _html_cells, safe_cell
 
 EDGES = [
     0.0,

@@ -21,8 +21,8 @@ from corpus.kit import FORMULAS, HOSTILE_NOTES, PAYLOADS, hostile_portfolio, wri
 
 from steadyline.cli import main
 from steadyline.loading.cells import clean_label
-from steadyline.site.cards import safe_cell
 from steadyline.site.notes import render_markdown
+from steadyline.site.tables import safe_cell
 
 URL_ATTRS = {
     "href",

@@ -183,7 +183,7 @@ def test_the_status_module_loads_nothing_heavy():
     ],
 )
 def test_index_csv_cells_agree_with_the_chart_downloads(text):
-    from steadyline.site.cards import _csv_field, safe_cell
     from steadyline.site.index import csv_text
+    from steadyline.site.tables import _csv_field, safe_cell
 
     assert csv_text(text) == _csv_field(safe_cell(text))

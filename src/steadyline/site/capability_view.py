@@ -23,7 +23,7 @@ import math
 from ..charts.base import plural
 from ..stats.compare import format_p_value
 from ..stats.distribution import p_below_text
-from .cards import fmt
+from .figures_text import fmt
 
 # The drawn scale reaches this share of the widest span beyond it on each side, so that the
 # marks at its ends are not cut by the edge.
@@ -91,16 +91,16 @@ def _ruler(c, unit: str) -> dict | None:
             "label": label,
             "from": at(a),
             "to": at(b),
-            "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}",
+            "text": f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}",  # also in the words
         }
         for k, label, a, b in spans
     ]
-    words = [
+    words: list[str] = [
         f"The specification runs from {fmt(lsl, unit, 3) if lsl is not None else 'no lower limit'}"
         f" to {fmt(usl, unit, 3) if usl is not None else 'no upper limit'}"
     ]
     words.append(f"the mean is {fmt(mean, unit, 3)}")
-    words += [b["text"] for b in bars]
+    words += [f"{label}: {fmt(a, unit, 3)} to {fmt(b, unit, 3)}" for _, label, a, b in spans]
     return {
         "window": window,
         "marks": marks,

@@ -10,8 +10,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .. import __version__
-from ..config import PortfolioSettings
+from ..config import PHASES, PortfolioSettings
 from ..errors import Problem
+
+# a project's phase as the index and its pages name it
+PHASE_LABEL = {p: p.capitalize() for p in PHASES}
 
 CSP = (
     "default-src 'none'; script-src 'self'; style-src 'self' 'unsafe-inline'; "

@@ -1,7 +1,7 @@
 """What results.json and the pages carry of a metric whose data outgrow what is drawn.
 
 A metric with more points than a chart shows legibly is drawn by period
-(:class:`steadyline.loading.ByPeriod`); the cards and results.json say which period and why.
+(``MetricAnalysis.by_period``); the cards and results.json say which period and why.
 Lists that grow with the rows (a box plot's outlying values, free-text categories) are capped,
 with the number left out, so that no file of the site grows with the rows: the full-resolution
 values stay in the user's own file.
@@ -18,21 +18,21 @@ from .serialise import plain
 
 
 def by_period_brief(a: MetricAnalysis) -> str:
-    b = a.data.by_period
+    b = a.by_period
     return "" if b is None else f", drawn by {b.period}"
 
 
 def by_period_text(a: MetricAnalysis) -> str:
     """The sentence a time-based card adds when its points are periods the tool chose: what
     it chose and why ("" otherwise)."""
-    b = a.data.by_period
+    b = a.by_period
     return "" if b is None else " " + b.reason
 
 
 def by_period_json(a: MetricAnalysis) -> dict | None:
     """results.json's account of a period the tool chose to draw by (None when the metric is
     drawn point by point or by its own roll-up)."""
-    b = a.data.by_period
+    b = a.by_period
     if b is None:
         return None
     return {

@@ -16,17 +16,12 @@ from ..charts import (
 from ..charts.base import fmt as chart_fmt
 from ..charts.categorical import common_order, gathered
 from ..config import PHASES, ProjectSpec
-from ..loading import STAGE_AFTER
 from ..stats.compare import format_p_value
 from ..stats.evidence import DIRECTIONS
 from ..vocab import RunRules, percentage_points, proportion_text, proportion_unit
 from .capability_view import capability_view
-from .cards import Displays, fmt, pct, signals_json
-from .drawn import box_json, by_period_text, pareto_json
-from .studies import (
-    business_json,
-    business_note,
-    business_rows,
+from .cards import Displays, signals_json
+from .change_studies import (
     capability_json,
     capability_note,
     capability_rows,
@@ -34,9 +29,10 @@ from .studies import (
     mix_json,
     mix_rows,
     mix_sentence,
-    power_json,
-    power_row,
 )
+from .drawn import box_json, by_period_text, pareto_json
+from .figures_text import fmt, pct
+from .studies import business_json, business_note, business_rows, power_json, power_row
 from .templates import render
 
 MEASURE_TEXT = {"mean": "Mean", "median": "Median", "proportion": "Proportion", "rate": "Rate"}
@@ -111,7 +107,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
                 "after-phase points against the baseline median "
                 + (
                     proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
-                    if a.data.kind == "defectives"
+                    if a.effective_type == "defectives"
                     else fmt(sh.median, unit, 4)
                 )
                 + f" by the {RunRules(sh.rule_set).label}",
@@ -122,7 +118,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
 
 def change_evidence_json(evidence, chart, x) -> list[dict]:
     """The points marked as evidence of a change, by chart and direction, in results.json."""
-    out = []
+    out: list[dict] = []
     if evidence is None:
         return out
     for which, ev, sub in (
@@ -156,7 +152,7 @@ def after_note(a: MetricAnalysis) -> str:
             "No after period with data yet: the comparison appears once the after phase has data."
         )
     if len(a.phase_paretos) > 1:
-        after = int((a.data.points["stage"].to_numpy() == STAGE_AFTER).sum())
+        after = int(a.in_after.sum())
         (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
 
         def counted(p, rows: int) -> str:  # rows tell more only when each row has a weight
@@ -171,7 +167,7 @@ def after_note(a: MetricAnalysis) -> str:
             f"{counted(f, after)}."
         )
     why = "; ".join(msg for disp, msg in a.failures if disp in ("comparison", "history"))
-    if a.data.kind == "categories":
+    if a.effective_type == "categories":
         why = why or (
             "no row falls in the baseline period" if a.category_scope != "baseline" else ""
         )
@@ -188,61 +184,127 @@ def history_section(
     m = a.spec
     d = Displays(spec.slug, m.id, files, prefix="history-")
     result: dict = {"id": m.id, "name": m.name}
-    if a.control is not None and a.data.kind != "categories":
-        own = a.after_limits is not None
-        # Points outside the baseline are judged against the baseline limits carried forward
-        # (a.signals): a signal there is evidence of a change, marked by its direction; points
-        # in signals on their own period's limits (the baseline's, the after phase's own:
-        # a.after_signals) are marked as instability (a.evidence tells the two apart).
-        chart = staged_control_chart(
-            sctx, a.control, a.after_limits, a.signals, a.after_signals, a.evidence
-        )
-        findings = advice.change_findings(a.evidence, a.control, a.signals)
-        if own:
-            findings += advice.own_limit_findings(a.after_signals, a.x)
-        d.add(
-            "staged-control",
-            "Control chart by phase",
-            chart,
-            findings=findings,
-            method=(
-                "Baseline limits carried forward over the later points (dashed), and "
-                "the after phase's own centre line and limits over the after phase "
-                "(solid). A later point in a signal against the baseline limits is "
-                "evidence of a change, marked by its direction; a point in a signal on "
-                "its own period's limits (the baseline's, or the after phase's own) is "
-                "marked with the signal diamond: that period is not yet stable."
-                if own
-                else "Baseline limits carried forward over the later points (dashed). A later "
-                "point in a signal against them is evidence of a change, marked by its "
-                "direction; a baseline point in a signal on the baseline's limits is "
-                "marked with the signal diamond. The after phase has too few points "
-                "for limits of its own, so its stability is not judged."
-            )
-            + by_period_text(a),
-        )
-        staged = {
-            "own_after_limits": own,
-            "chart": a.control,
-            "signals": signals_json(a.signals, a.x),
-            "change_evidence": change_evidence_json(a.evidence, a.control, a.x),
-        }
-        if own:
-            staged["after_chart"] = a.after_limits
-            staged["after_signals"] = signals_json(a.after_signals, a.x)
-        result["staged_control_chart"] = staged
+    if a.control is not None and a.effective_type != "categories":
+        assert sctx is not None  # a time series has its layout
+        staged_card(d, a, sctx, result)
     if len(a.phase_boxes) > 1:
-        note = values_note(m, sum(b.n for _, b in a.phase_boxes))
-        brief = values_brief(m, sum(b.n for _, b in a.phase_boxes))
-        chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=brief)
-        d.add(
-            "phase-box",
-            "Box plots by phase" + (", individual values" if note else ""),
-            chart,
-            method=(f"{note} " if note else "") + "Both phases on one scale; "
-            f"quartiles by {a.phase_boxes[0][1].method_label}.",
-        )
-        result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
+        phase_box_card(d, a, result)
+    caps = phase_histogram_cards(d, a, result)
+    if len(a.phase_paretos) > 1:
+        phase_pareto_card(d, a, result)
+    if a.comparison is not None:
+        result["comparison"] = a.comparison
+    if a.after_shift is not None:
+        result["sustained_shift"] = bool(a.after_shift.signals)
+    rows, sentence = comparison_rows(a), a.comparison.sentence if a.comparison else ""
+    if a.mix is not None:
+        rows, sentence = mix_rows(a.mix), mix_sentence(a.mix)
+        result["mix_change"] = mix_json(a)
+    if (row := power_row(a)) is not None and rows:
+        rows.append(row)
+    if a.after_power is not None:
+        result["after_sample_power"] = power_json(a)
+    cap_rows = capability_rows(a)
+    if a.capability_change is not None:
+        result["capability_change"] = capability_json(a)
+    if len(a.business) > 1:
+        result["business"] = {name: business_json(f, m.sigma_level) for name, f in a.business}
+    if cap_rows:
+        # the indices are said once, in the table side by side: the phases' blocks keep
+        # their verdict, drawing and basis
+        for c in caps:
+            c["view"] = c["view"] | {"tiles": []}
+    section = {
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "displays": d.cards,
+        "comparison": rows,
+        "note": after_note(a),
+        "sentence": sentence,
+        "improved": a.comparison.improved if a.comparison else None,
+        "neutral": a.mix is not None,
+        "capabilities": caps,
+        "capability_rows": cap_rows,
+        "capability_sentence": capability_sentence(a),
+        "capability_note": capability_note(a) if cap_rows else "",
+        "business_rows": business_rows(a),
+        "business_note": business_note(a) if len(a.business) > 1 else "",
+    }
+    return section, result
+
+
+STAGED_METHOD_OWN = (
+    "Baseline limits carried forward over the later points (dashed), and "
+    "the after phase's own centre line and limits over the after phase "
+    "(solid). A later point in a signal against the baseline limits is "
+    "evidence of a change, marked by its direction; a point in a signal on "
+    "its own period's limits (the baseline's, or the after phase's own) is "
+    "marked with the signal diamond: that period is not yet stable."
+)
+STAGED_METHOD_CARRIED = (
+    "Baseline limits carried forward over the later points (dashed). A later "
+    "point in a signal against them is evidence of a change, marked by its "
+    "direction; a baseline point in a signal on the baseline's limits is "
+    "marked with the signal diamond. The after phase has too few points "
+    "for limits of its own, so its stability is not judged."
+)
+
+
+def staged_card(d: Displays, a: MetricAnalysis, sctx: SeriesContext, result: dict) -> None:
+    """The control chart by phase. Points outside the baseline are judged against the
+    baseline limits carried forward (a.signals): a signal there is evidence of a change,
+    marked by its direction; points in signals on their own period's limits (the baseline's,
+    the after phase's own: a.after_signals) are marked as instability (a.evidence tells the
+    two apart)."""
+    control, evidence = a.control, a.evidence
+    assert control is not None and evidence is not None  # made together (analysis)
+    own = a.after_limits is not None
+    chart = staged_control_chart(
+        sctx, control, a.after_limits, a.signals, a.after_signals, a.evidence
+    )
+    findings = advice.change_findings(evidence, control, a.signals)
+    if own:
+        findings += advice.own_limit_findings(a.after_signals, a.x)
+    d.add(
+        "staged-control",
+        "Control chart by phase",
+        chart,
+        findings=findings,
+        method=(STAGED_METHOD_OWN if own else STAGED_METHOD_CARRIED) + by_period_text(a),
+    )
+    staged = {
+        "own_after_limits": own,
+        "chart": control,
+        "signals": signals_json(a.signals, a.x),
+        "change_evidence": change_evidence_json(a.evidence, control, a.x),
+    }
+    if own:
+        staged["after_chart"] = a.after_limits
+        staged["after_signals"] = signals_json(a.after_signals, a.x)
+    result["staged_control_chart"] = staged
+
+
+def phase_box_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
+    """The box plots of every phase on one scale."""
+    m = a.spec
+    note = values_note(m, sum(b.n for _, b in a.phase_boxes))
+    brief = values_brief(m, sum(b.n for _, b in a.phase_boxes))
+    chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=brief)
+    d.add(
+        "phase-box",
+        "Box plots by phase" + (", individual values" if note else ""),
+        chart,
+        method=(f"{note} " if note else "") + "Both phases on one scale; "
+        f"quartiles by {a.phase_boxes[0][1].method_label}.",
+    )
+    result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
+
+
+def phase_histogram_cards(d: Displays, a: MetricAnalysis, result: dict) -> list[dict]:
+    """A histogram of each phase (when there is more than one), and each phase's capability
+    block."""
+    m = a.spec
     caps = []
     for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
         note = values_note(m, h.n)
@@ -277,61 +339,24 @@ def history_section(
     if len(a.phase_histograms) > 1:
         result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
         result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
-    if len(a.phase_paretos) > 1:
-        chart = phase_pareto_chart(a.phase_paretos)
-        d.add(
-            "phase-pareto",
-            "Pareto by phase, categories in the same order",
-            chart,
-            method="Categories keep the baseline's order (largest first there) in every "
-            "phase, so shrinking bars show which causes the improvement removed; "
-            "categories new after the baseline follow, largest first.",
-        )
-        n_gathered = gathered(len(common_order(a.phase_paretos)))
-        result["paretos"] = {
-            name: pareto_json(p) | {"gathered_categories": n_gathered}
-            for name, p in a.phase_paretos
-        }
-    if a.comparison is not None:
-        result["comparison"] = a.comparison
-    if a.after_shift is not None:
-        result["sustained_shift"] = bool(a.after_shift.signals)
-    rows, sentence = comparison_rows(a), a.comparison.sentence if a.comparison else ""
-    if a.mix is not None:
-        rows, sentence = mix_rows(a), mix_sentence(a)
-        result["mix_change"] = mix_json(a)
-    if (row := power_row(a)) is not None and rows:
-        rows.append(row)
-    if a.after_power is not None:
-        result["after_sample_power"] = power_json(a)
-    cap_rows = capability_rows(a)
-    if a.capability_change is not None:
-        result["capability_change"] = capability_json(a)
-    if len(a.business) > 1:
-        result["business"] = {name: business_json(f, m.sigma_level) for name, f in a.business}
-    if cap_rows:
-        # the indices are said once, in the table side by side: the phases' blocks keep
-        # their verdict, drawing and basis
-        for c in caps:
-            c["view"] = c["view"] | {"tiles": []}
-    section = {
-        "id": m.id,
-        "name": m.name,
-        "unit": m.unit,
-        "displays": d.cards,
-        "comparison": rows,
-        "note": after_note(a),
-        "sentence": sentence,
-        "improved": a.comparison.improved if a.comparison else None,
-        "neutral": a.mix is not None,
-        "capabilities": caps,
-        "capability_rows": cap_rows,
-        "capability_sentence": capability_sentence(a),
-        "capability_note": capability_note(a) if cap_rows else "",
-        "business_rows": business_rows(a),
-        "business_note": business_note(a) if len(a.business) > 1 else "",
+    return caps
+
+
+def phase_pareto_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
+    """The Pareto chart of every phase, categories in the baseline's order."""
+    chart = phase_pareto_chart(a.phase_paretos)
+    d.add(
+        "phase-pareto",
+        "Pareto by phase, categories in the same order",
+        chart,
+        method="Categories keep the baseline's order (largest first there) in every "
+        "phase, so shrinking bars show which causes the improvement removed; "
+        "categories new after the baseline follow, largest first.",
+    )
+    n_gathered = gathered(len(common_order(a.phase_paretos)))
+    result["paretos"] = {
+        name: pareto_json(p) | {"gathered_categories": n_gathered} for name, p in a.phase_paretos
     }
-    return section, result
 
 
 def history_page(spec: ProjectSpec, sections: list[dict], ctx: dict, project_ctx: dict) -> str:

@@ -47,7 +47,7 @@ _NEEDS_QUOTES = re.compile(r'[",\n\r]')
 
 def csv_text(s: str) -> str:
     """A text cell a spreadsheet will not run as a formula, quoted as RFC 4180 wants (the same
-    as the chart downloads' cells, site.cards.safe_cell, without loading the charts)."""
+    as the chart downloads' cells, site.tables.safe_cell, without importing the charts)."""
     if s.startswith(_FORMULA_START):
         try:
             float(s)

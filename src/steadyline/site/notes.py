@@ -108,6 +108,6 @@ def render_markdown(text: str) -> str:
 
 
 def render_notes(path: Path) -> str:
-    # only a regular file is opened (the project's loading has checked it can be read)
+    # only a regular file is opened (the project's load has checked it can be read)
     text = files.read_bytes(path).decode("utf-8-sig", errors="replace")
     return render_markdown(text.replace("\r\n", "\n").replace("\r", "\n"))  # as text mode reads

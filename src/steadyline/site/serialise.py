@@ -152,7 +152,9 @@ def _drop_none(cls: type, out: dict) -> dict:
 
 def plain(obj: Any) -> Any:
     """A JSON-able copy of *obj*."""
-    t = type(obj)
+    # One body on purpose: it is called for every value of every results.json, and the exact
+    # types met most often are answered before the general checks without a further call.
+    t: type = type(obj)
     # the common exact types first (same results as the general checks below)
     if t is str or obj is None or t is bool:
         return obj

@@ -1,6 +1,7 @@
 """What the pages and results.json say of the baseline's studies: the figures the business
-reports (yield, defects per million opportunities, sigma level), the after sample a metric
-needs, the change in mix of a categories metric and capability before versus after.
+reports (yield, defects per million opportunities, sigma level) and the after sample a metric
+needs. The studies of the change itself (the change in mix, capability before versus after)
+are in :mod:`steadyline.site.change_studies`.
 
 Each figure is said once: the project page's facts carry the baseline's business figures and
 after-sample plan (a measured metric's expected yield sits in its fit-to-specification block,
@@ -13,11 +14,9 @@ from __future__ import annotations
 
 from ..analysis import MetricAnalysis
 from ..stats.after_sample import POWER
-from ..stats.compare import format_p_value
-from ..stats.results_studies import BusinessFigures
+from ..stats.results_studies import AfterSamplePlan, BusinessFigures
 from ..vocab import percentage_points, period_value, plural
-from .capability_view import counted_outside
-from .cards import fmt
+from .figures_text import fmt, pct
 from .serialise import plain
 
 SIGMA_WORDS = {
@@ -28,8 +27,11 @@ SIGMA_WORDS = {
 }
 
 
-def yield_text(y: float) -> str:
-    """A yield as a percentage that never reads 100% while something falls outside."""
+def yield_text(y: float | None) -> str:
+    """A yield as a percentage that never reads 100% while something falls outside (a dash
+    for a figure that does not apply to the kind, as :func:`fmt` writes a missing one)."""
+    if y is None:
+        return "—"
     bad = 1.0 - y
     if bad <= 0:
         return "100%"
@@ -38,7 +40,9 @@ def yield_text(y: float) -> str:
     return f"{100 * y:.2f}%"
 
 
-def _count(v: float) -> str:
+def _count(v: float | None) -> str:
+    if v is None:  # a figure that does not apply to the kind, as fmt writes it
+        return "—"
     return f"{v:,.0f}" if float(v).is_integer() else fmt(v, digits=4)
 
 
@@ -66,7 +70,7 @@ def business_fact(a: MetricAnalysis) -> dict | None:
         text = (
             f"First-pass yield {yield_text(f.first_pass_yield)}: "
             f"{_count(f.units)} {items} checked in the {period}, "
-            f"{100 * f.proportion_defective:.2f}% of them defective "
+            f"{pct(f.proportion_defective)} of them defective "
             f"({f.ppm:,.0f} per million)"
         )
         return {"term": "Baseline yield", "text": text + (f"; {sig}." if sig else ".")}
@@ -126,14 +130,14 @@ def business_rows(a: MetricAnalysis) -> list[tuple[str, ...]]:
             (
                 "Sigma level"
                 + (" of the opportunities" if b.sigma_basis == "opportunities" else ""),
-                _level(b),
-                _level(f),
+                sigma_level_text(b),
+                sigma_level_text(f),
             )
         )
     return rows
 
 
-def _level(f: BusinessFigures) -> str:
+def sigma_level_text(f: BusinessFigures) -> str:
     return "infinite (nothing bad)" if f.sigma_level is None else f"{f.sigma_level:.2f}"
 
 
@@ -178,11 +182,11 @@ def _point_word(a: MetricAnalysis, n: int) -> str:
     m = a.spec
     if m.rollup is not None:
         return plural(n, m.rollup.period)
-    if a.data.by_period is not None:
-        return plural(n, a.data.by_period.period)
-    if a.data.kind == "subgroups":
+    if a.by_period is not None:
+        return plural(n, a.by_period.period)
+    if a.effective_type == "subgroups":
         return plural(n, "subgroup")
-    if a.data.kind == "continuous":
+    if a.effective_type == "continuous":
         return plural(n, "value")
     return plural(n, "point")
 
@@ -191,13 +195,12 @@ def _by_row(a: MetricAnalysis) -> bool:
     """Whether a point of the metric is one row of its data (attributes, no roll-up)."""
     return (
         a.spec.rollup is None
-        and a.data.by_period is None
-        and a.data.kind in ("defectives", "defects")
+        and a.by_period is None
+        and a.effective_type in ("defectives", "defects")
     )
 
 
-def _change_text(a: MetricAnalysis) -> str:
-    m, p = a.spec, a.after_plan
+def _change_text(p: AfterSamplePlan, unit: str) -> str:
     if p.kind == "defectives":
         return (
             f"{percentage_points(p.target - p.baseline)}, {100 * p.baseline:.2f}% → "
@@ -205,8 +208,7 @@ def _change_text(a: MetricAnalysis) -> str:
         )
     sign = "+" if p.target > p.baseline else "−"
     return (
-        f"{sign}{fmt(abs(p.target - p.baseline), m.unit)}, {fmt(p.baseline)} → "
-        f"{fmt(p.target, m.unit)}"
+        f"{sign}{fmt(abs(p.target - p.baseline), unit)}, {fmt(p.baseline)} → {fmt(p.target, unit)}"
     )
 
 
@@ -219,7 +221,7 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
     # the answer first; the test by its name (the plan's assumptions are in results.json and
     # the methods), the exact rate test's approximation said since the plan uses it
     test = p.test if p.kind == "defects" else p.test.split(" (")[0]
-    step, span = _change_text(a).split(", ", 1)
+    step, span = _change_text(p, a.spec.unit).split(", ", 1)
     why = (
         f"to detect the expected {step} in the {measure} ({span}): {test}, "
         f"{100 * p.alpha:g}% level, {100 * p.power:g}% power (common practice)"
@@ -233,12 +235,11 @@ def plan_fact(a: MetricAnalysis) -> dict | None:
         "term": "After sample needed",
         "text": f"{_point_word(a, p.points)}"
         + (" (a point per row of data)" if _by_row(a) else "")
-        + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a)}.",
+        + f", {why}, {_count(p.baseline_size)} baseline {_size_word(a, p.kind)}.",
     }
 
 
-def _size_word(a: MetricAnalysis) -> str:
-    k = a.after_plan.kind
+def _size_word(a: MetricAnalysis, k: str) -> str:
     if k == "continuous":
         return (
             period_value(a.spec.rollup.period, a.spec.rollup.statistic, plural=True)
@@ -265,7 +266,7 @@ def power_row(a: MetricAnalysis) -> tuple[str, str, str] | None:
     return (
         "After sample",
         f"{so_far}; {needed}",
-        f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(a)}); "
+        f"power {100 * r.power:.0f}% to detect the expected change ({_change_text(p, a.spec.unit)}); "
         f"{100 * POWER:g}% wanted: {verdict}",
     )
 
@@ -280,170 +281,3 @@ def power_json(a: MetricAnalysis) -> dict | None:
     if a.after_power is None:
         return None
     return plain(a.after_power) | {"after_points": a.after_points}
-
-
-# ----------------------------------------------------------------------------- change in mix
-
-
-def mix_sentence(a: MetricAnalysis) -> str:
-    x = a.mix
-    changed = x.p_value < 0.05
-    return (
-        f"The shares of the categories {'changed' if changed else 'did not change beyond chance'}"
-        f" between the baseline and the after period ({x.test}, "
-        f"{format_p_value(x.p_value)})."
-    )
-
-
-def mix_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
-    """The history page's table for a categories metric: each share before and after, the
-    test, and the expected-count rule with what it led to."""
-    x = a.mix
-    rows = []
-    for c, b, f, nb, nf in zip(
-        x.categories, x.baseline_share, x.after_share, x.baseline, x.after, strict=True
-    ):
-        rows.append(
-            (
-                f"Share, {c}",
-                f"{100 * b:.1f}% → {100 * f:.1f}%",
-                f"{percentage_points(f - b, 1)} ({nb} → {nf})",
-            )
-        )
-    stat = (
-        ""
-        if x.statistic is None
-        else f"chi-square {x.statistic:.2f} on {plural(x.df, 'degree')} of freedom"
-    )
-    rows.append(("Test", x.test, (stat + "; " if stat else "") + format_p_value(x.p_value)))
-    rule = (
-        "every expected count at least 1 and at most 20% of them below 5 (Cochran 1954, "
-        "common practice)"
-    )
-    if x.test.startswith("Fisher"):
-        done = (
-            "not met even with the categories merged into two groups: Fisher's exact "
-            "test is used instead"
-        )
-    elif x.merged:
-        done = "met after merging " + ", ".join(x.merged) + f" into '{x.merged_name}'"
-    else:
-        done = "met by every category as counted"
-    rows.append(("Expected counts", done, rule))
-    return rows
-
-
-def mix_json(a: MetricAnalysis) -> dict | None:
-    if a.mix is None:
-        return None
-    return plain(a.mix) | {"shares_changed": a.mix.p_value < 0.05}
-
-
-# ----------------------------------------------------------------------------- capability
-
-
-def _index_ci(v: float | None, ci) -> str:
-    if v is None:
-        return "—"
-    text = f"{v:.2f}"
-    return text + (f" ({ci[0]:.2f} to {ci[1]:.2f})" if ci is not None else "")
-
-
-def _outside(ppm: float | None) -> str:
-    if ppm is None:
-        return "—"
-    if ppm == 0:
-        return "none"
-    return (
-        f"{ppm / 1e4:.2f}% ({ppm:,.0f} per million)"
-        if ppm >= 10
-        else f"{fmt(ppm, digits=2)} per million"
-    )
-
-
-def capability_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
-    """Capability of the baseline and the after period side by side: the indices with their
-    intervals, the expected share outside and the expected yield (one table, said once)."""
-    caps = [(n, c) for n, _, c in a.phase_histograms if c is not None]
-    if len(caps) < 2:
-        return []
-    (_, b), (_, f) = caps[0], caps[-1]
-    rows = [
-        (
-            "Cpk (95% interval, Bissell 1990)",
-            _index_ci(b.cpk, b.cpk_ci),
-            _index_ci(f.cpk, f.cpk_ci),
-        ),
-        ("Ppk", _index_ci(b.ppk, None), _index_ci(f.ppk, None)),
-    ]
-    if b.cp is not None or b.pp is not None:
-        rows.insert(1, ("Cp", _index_ci(b.cp, None), _index_ci(f.cp, None)))
-    rows = [r for r in rows if r[1:] != ("—", "—")]
-    rows.append(
-        ("Counted outside", f"{counted_outside(b)} of {b.n}", f"{counted_outside(f)} of {f.n}")
-    )
-    rows.append(
-        (
-            "Expected outside, sigma of all values",
-            _outside(b.ppm_expected_overall),
-            _outside(f.ppm_expected_overall),
-        )
-    )
-    biz = dict(a.business)
-    names = [n for n, _ in caps]
-    if names[0] in biz and names[-1] in biz:
-        fb, ff = biz[names[0]], biz[names[-1]]
-        rows.append(("Expected yield", yield_text(fb.yield_), yield_text(ff.yield_)))
-        if a.spec.sigma_level != "off":
-            rows.append(("Sigma level", _level(fb), _level(ff)))
-    return rows
-
-
-def capability_sentence(a: MetricAnalysis) -> str:
-    """Whether the change in Cpk is beyond its intervals, in one sentence."""
-    x = a.capability_change
-    if x is None:
-        return ""
-    direction = "rose" if x.change > 0 else "fell" if x.change < 0 else "did not move"
-    if x.intervals_overlap:
-        beyond = "the 95% intervals overlap, so the change is not shown beyond them"
-    else:
-        beyond = "the 95% intervals do not overlap: the change is beyond them"
-    caps = [c for _, _, c in a.phase_histograms if c is not None]
-    # which period's Cpk is not to be trusted, in a clause: the reasons are each phase's
-    # block's own (said there, once)
-    doubt = [
-        name for name, c in (("baseline", caps[0]), ("after period", caps[-1])) if not c.trustworthy
-    ]
-    trust = (
-        ""
-        if not doubt
-        else " Neither Cpk is to be trusted yet, nor its interval (the phases' blocks below "
-        "say why)."
-        if len(doubt) == 2
-        else f" The {doubt[0]}'s Cpk is not to be trusted yet, nor its interval (its block "
-        f"below says why)."
-    )
-    return (
-        f"Cpk {direction} from {x.cpk_before:.2f} to {x.cpk_after:.2f}: {beyond}; the "
-        f"{x.test} gives {format_p_value(x.p_value)}.{trust}"
-    )
-
-
-def capability_note(a: MetricAnalysis) -> str:
-    """What the capability table's figures rest on, said once under it."""
-    note = (
-        "Expected shares and yields assume a normal distribution; each phase's block below "
-        "says whether its figures can be trusted."
-    )
-    if a.spec.sigma_level != "off" and any(f.kind == "measured" for _, f in a.business):
-        note += f" Sigma level: {SIGMA_WORDS[a.spec.sigma_level]}."
-    return note
-
-
-def capability_json(a: MetricAnalysis) -> dict | None:
-    if a.capability_change is None:
-        return None
-    return plain(a.capability_change) | {
-        "beyond_intervals": not a.capability_change.intervals_overlap
-    }

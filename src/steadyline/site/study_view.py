@@ -17,8 +17,10 @@ from ..config import MetricSpec, ProjectSpec
 from ..errors import Problem
 from ..stats.compare import format_p_value
 from ..stats.gauge import POOL_ABOVE
+from ..stats.results_studies import GaugeStudy
 from ..vocab import DataType
-from .cards import Displays, fmt
+from .cards import Displays
+from .figures_text import fmt
 from .serialise import plain
 
 METHOD = (
@@ -35,9 +37,8 @@ METHOD = (
 
 
 def _design(sa: StudyAnalysis) -> tuple[int, int, int]:
-    d = sa.data
-    parts, apprs = len(set(d.parts)), len(set(d.appraisers))
-    return parts, apprs, len(d.values) // (parts * apprs)
+    parts, apprs = len(set(sa.parts)), len(set(sa.appraisers))
+    return parts, apprs, len(sa.measurements) // (parts * apprs)
 
 
 def study_section(
@@ -52,6 +53,46 @@ def study_section(
     d = Displays(spec.slug, m.id, files)
     parts, apprs, trials = _design(sa)
     design = f"{parts} parts × {apprs} appraisers × {trials} trials"
+    study_cards(d, sa, design, trials)
+    verdict = None if study is None else study_verdict(study)
+    warnings = [c for card in d.cards for c in card["cautions"]]
+    warnings += [f"{disp}: {msg}" for disp, msg in sa.failures]
+    result = {
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "type": m.type,
+        "file": m.file_rel,
+        "rows_read": sa.rows_read,
+        "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper},
+        "study": None if study is None else plain(study),
+        "verdict": verdict,
+        "appraiser_ranges": None if sa.ranges is None else [plain(r) for r in sa.ranges],
+        "qualifies": [q.id for q in qualifies],
+        "warnings": warnings,
+        "failures": [{"display": disp, "message": msg} for disp, msg in sa.failures],
+    }
+    section = {
+        "id": m.id,
+        "name": m.name,
+        "unit": m.unit,
+        "broken": False,
+        "study": True,
+        "facts": study_facts(sa, design, verdict, qualifies),
+        "displays": d.cards,
+        "capability": None,
+        "open_signals": 0,
+        "baseline_signals": 0,
+        "problems": [{"severity": "warning", "text": f"{disp}: {msg}"} for disp, msg in sa.failures]
+        + [{"severity": p.severity, "text": p.format()} for p in problems],
+    }
+    return section, result
+
+
+def study_cards(d: Displays, sa: StudyAnalysis, design: str, trials: int) -> None:
+    """The study's three cards: components of variation, ranges by appraiser (each when the
+    statistics made it) and every measurement by part and appraiser."""
+    m, study = sa.spec, sa.study
     if study is not None:
         chart = components_chart(study, values_text=f"{m.name}: {design}")
         d.add(
@@ -75,7 +116,7 @@ def study_section(
             "limit D4·R̄, D4 the R chart's factor for subgroups of the number of trials "
             "(Montgomery, ch. 6); the lower limit D3·R̄ is 0 below 7 trials.",
         )
-    chart = measurements_chart(sa.data.values, sa.data.parts, sa.data.appraisers, unit=m.unit)
+    chart = measurements_chart(sa.measurements.tolist(), sa.parts, sa.appraisers, unit=m.unit)
     findings = []
     if study is not None:
         findings = advice.appraiser_findings(study, _appraiser_means(sa), m.unit)
@@ -88,19 +129,29 @@ def study_section(
         "a part; the lines join each appraiser's mean of a part's trials. The appraisers' "
         "means are compared by the F test of the analysis of variance.",
     )
-    verdict = None
-    if study is not None:
-        code = advice.gauge_verdict(study)
-        verdict = {
-            "code": code,
-            "words": advice.GAUGE_WORDS[code],
-            "study_variation": study.verdict,
-            "tolerance": study.tolerance_verdict,
-            "distinct_categories_enough": study.distinct_categories >= 5,
-            "guide": advice.GAUGE_GUIDE,
-        }
-    facts = [("Study", f"{design}, from {Path(m.file_rel).name} ({sa.data.raw_rows} rows)")]
-    if verdict is not None:
+
+
+def study_verdict(study: GaugeStudy) -> dict:
+    """The study's verdict by the guide, in code and words, with what it rests on."""
+    code = advice.gauge_verdict(study)
+    return {
+        "code": code,
+        "words": advice.GAUGE_WORDS[code],
+        "study_variation": study.verdict,
+        "tolerance": study.tolerance_verdict,
+        "distinct_categories_enough": study.distinct_categories >= 5,
+        "guide": advice.GAUGE_GUIDE,
+    }
+
+
+def study_facts(
+    sa: StudyAnalysis, design: str, verdict: dict | None, qualifies: list[MetricSpec]
+) -> list[tuple[str, str]]:
+    """The facts above the study's cards: its design, verdict, specification and the metrics
+    whose measurements it checks."""
+    m, study = sa.spec, sa.study
+    facts = [("Study", f"{design}, from {Path(m.file_rel).name} ({sa.rows_read} rows)")]
+    if verdict is not None and study is not None:
         facts.append(
             (
                 "Verdict",
@@ -124,38 +175,7 @@ def study_section(
         )
     if qualifies:
         facts.append(("Checks the measurements of", ", ".join(q.name for q in qualifies)))
-    warnings = [c for card in d.cards for c in card["cautions"]]
-    warnings += [f"{disp}: {msg}" for disp, msg in sa.failures]
-    result = {
-        "id": m.id,
-        "name": m.name,
-        "unit": m.unit,
-        "type": m.type,
-        "file": m.file_rel,
-        "rows_read": sa.data.raw_rows,
-        "spec_limits": {"lower": m.spec_lower, "upper": m.spec_upper},
-        "study": None if study is None else plain(study),
-        "verdict": verdict,
-        "appraiser_ranges": None if sa.ranges is None else [plain(r) for r in sa.ranges],
-        "qualifies": [q.id for q in qualifies],
-        "warnings": warnings,
-        "failures": [{"display": disp, "message": msg} for disp, msg in sa.failures],
-    }
-    section = {
-        "id": m.id,
-        "name": m.name,
-        "unit": m.unit,
-        "broken": False,
-        "study": True,
-        "facts": facts,
-        "displays": d.cards,
-        "capability": None,
-        "open_signals": 0,
-        "baseline_signals": 0,
-        "problems": [{"severity": "warning", "text": f"{disp}: {msg}"} for disp, msg in sa.failures]
-        + [{"severity": p.severity, "text": p.format()} for p in problems],
-    }
-    return section, result
+    return facts
 
 
 def _anova_text(study) -> str:
@@ -171,7 +191,7 @@ def _anova_text(study) -> str:
 
 def _appraiser_means(sa: StudyAnalysis) -> dict[str, float]:
     sums: dict[str, list[float]] = {}
-    for v, o in zip(sa.data.values.tolist(), sa.data.appraisers, strict=True):
+    for v, o in zip(sa.measurements.tolist(), sa.appraisers, strict=True):
         sums.setdefault(o, []).append(v)
     return {o: sum(vs) / len(vs) for o, vs in sums.items()}
 
