@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..config import MetricSpec
-from ..loading import STAGE_AFTER, MetricData, StudyData
+from ..loading import STAGE_AFTER, STAGE_BASELINE, ByPeriod, MetricData, StudyData
 from ..stats.evidence import PointEvidence
 from ..stats.results import (
     BoxSummary,
@@ -104,6 +104,63 @@ class MetricAnalysis:
         # the data never change once loaded: worked out once
         return bool((self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
 
+    # ---------------------------------------------------------------- what the pages read
+    # The data as plotted, in arrays and plain values: steadyline.site reads these, never the
+    # loader's frame (``data``), so that pages depend on the analysis alone. Stages stay codes
+    # (in_baseline / in_after) until a chart or sentence draws their label. The data never
+    # change once loaded, so each array is made once; callers must not write into them.
+
+    @property
+    def effective_type(self) -> str:
+        """The type the data were analysed as (continuous, subgroups, defectives, defects,
+        categories)."""
+        return self.data.kind
+
+    @property
+    def rows_read(self) -> int:
+        return self.data.raw_rows
+
+    @property
+    def by_period(self) -> ByPeriod | None:
+        """The period the tool chose to draw the series by, and why (None: drawn as read)."""
+        return self.data.by_period
+
+    @functools.cached_property
+    def point_values(self) -> np.ndarray:
+        """The plotted figure of each point (a time series' points only)."""
+        return self.data.points["value"].to_numpy(float)
+
+    @functools.cached_property
+    def point_periods(self) -> np.ndarray | None:
+        """Each point's period (datetime64), None when the data have no date column."""
+        points = self.data.points
+        return points["period"].to_numpy() if "period" in points else None
+
+    @functools.cached_property
+    def point_segments(self) -> np.ndarray:
+        """Each point's segment of the series (int64)."""
+        return self.data.points["segment"].to_numpy(dtype=np.int64)
+
+    @functools.cached_property
+    def in_baseline(self) -> np.ndarray:
+        """Per point (per row for categories): in the baseline period."""
+        return self.data.points["stage"].to_numpy(int) == STAGE_BASELINE
+
+    @functools.cached_property
+    def in_after(self) -> np.ndarray:
+        """Per point (per row for categories): in the after period."""
+        return self.data.points["stage"].to_numpy(int) == STAGE_AFTER
+
+    @functools.cached_property
+    def baseline_rate(self) -> float:
+        """Defectives or defects: the baseline's count over its items or area, pooled (all
+        points when none is in the baseline)."""
+        pts = self.data.points
+        base = pts[self.in_baseline] if self.in_baseline.any() else pts
+        return base["count"].sum() / base["size"].sum()
+
+    # ------------------------------------------------------------ end of what the pages read
+
 
 @dataclass
 class StudyAnalysis:
@@ -115,3 +172,24 @@ class StudyAnalysis:
     study: GaugeStudy | None = None
     ranges: tuple[AppraiserRanges, ...] | None = None
     failures: list[tuple[str, str]] = field(default_factory=list)
+
+    # ---------------------------------------------------------------- what the pages read
+    # the study's rows as read, for its pages (steadyline.site never reads ``data``)
+
+    @property
+    def measurements(self) -> np.ndarray:
+        return self.data.values
+
+    @property
+    def parts(self) -> tuple[str, ...]:
+        return self.data.parts
+
+    @property
+    def appraisers(self) -> tuple[str, ...]:
+        return self.data.appraisers
+
+    @property
+    def rows_read(self) -> int:
+        return self.data.raw_rows
+
+    # ------------------------------------------------------------ end of what the pages read
