@@ -24,12 +24,14 @@ def vega_bundle() -> str:
     came from (a cache that cannot be read or written is simply not used)."""
     import vl_convert
 
-    cache = cache_dir() / f"vega-bundle-vl-convert-{vl_convert.__version__}.js"
+    cache = cache_dir() / f"vega-bundle-vl-convert-{_vl_convert_version()}.js"
     try:
         return cache.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError):
         pass
-    text = vl_convert.javascript_bundle()
+    # vl-convert's stub marks the optional snippet as required (the function's own
+    # docstring: "Optionally, a JavaScript snippet may be provided")
+    text = vl_convert.javascript_bundle()  # type: ignore[call-arg]
     try:
         cache.parent.mkdir(parents=True, exist_ok=True)
         tmp = cache.with_name(f".{cache.name}.{os.getpid()}.tmp")
@@ -53,12 +55,18 @@ def asset_files() -> dict[str, bytes]:
 def assets_key() -> str:
     """Identifies the assets without building the Vega bundle (which takes seconds): the
     bundle depends only on the vl-convert version, our own files on their content."""
-    import vl_convert
-
-    h = hashlib.sha256(f"vl-convert {vl_convert.__version__}".encode())
+    h = hashlib.sha256(f"vl-convert {_vl_convert_version()}".encode())
     src = templates_dir() / "assets"
     for p in sorted(src.rglob("*")):
         if p.is_file():
             h.update(p.relative_to(src).as_posix().encode())
             h.update(hashlib.sha256(p.read_bytes()).digest())
     return h.hexdigest()
+
+
+def _vl_convert_version() -> str:
+    """The installed vl-convert's version: its module's ``__version__``, which its type stub
+    does not declare (the package's metadata version differs: "1.9.0.post1" for "1.9.0")."""
+    import vl_convert
+
+    return str(vars(vl_convert)["__version__"])

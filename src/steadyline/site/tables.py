@@ -9,6 +9,7 @@ import functools
 import math
 import operator
 import re
+from collections.abc import Sequence
 from itertools import repeat
 
 import numpy as np
@@ -230,7 +231,7 @@ _STR_ONLY = frozenset((str,))
 _HTML_SPECIAL = re.compile("[&<>\"']")
 
 
-def table_body(table: list[dict], columns, limit: int) -> Markup:
+def table_body(table: Sequence[dict], columns, limit: int) -> Markup:
     """The rows of a data table as HTML, ``<tr><td>..</td></tr>`` per row, the first ``limit``
     rows only."""
     if isinstance(table, ColumnTable) and table.columns == tuple(columns):
