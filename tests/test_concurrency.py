@@ -25,9 +25,10 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError
-from steadyline.pipeline.build import BuildOptions, build
-from steadyline.pipeline.publish import clean_stale, lock_output, lock_path, process_start
 from steadyline.pipeline import publish as publish_mod
+from steadyline.pipeline.build import build
+from steadyline.pipeline.options import BuildOptions
+from steadyline.pipeline.publish import clean_stale, lock_output, lock_path, process_start
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -484,7 +485,7 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
 
 def test_a_worker_whose_build_is_already_gone_ends_at_once():
     code = (
-        "import os\nfrom steadyline.pipeline.build import _die_with_parent\n"
+        "import os\nfrom steadyline.pipeline.pool import _die_with_parent\n"
         "_die_with_parent(os.getppid() + 1)\nprint('still here')\n"
     )
     done = subprocess.run(

@@ -33,10 +33,12 @@ import pytest
 
 from steadyline.cli import main
 from steadyline.errors import BuildError
-from steadyline.pipeline.build import MANIFEST, BuildOptions, build
-from steadyline.pipeline.output_rule import MARKER, check_output, fault_line, is_site
 from steadyline.pipeline import build as build_module
 from steadyline.pipeline import publish
+from steadyline.pipeline.build import build
+from steadyline.pipeline.manifest import MANIFEST
+from steadyline.pipeline.options import BuildOptions
+from steadyline.pipeline.output_rule import MARKER, check_output, fault_line, is_site
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"

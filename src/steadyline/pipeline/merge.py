@@ -1,8 +1,8 @@
 """Merging the sites of a portfolio built in shards into one site.
 
 A portfolio is a set of independent projects: `build --shard I/N` builds the projects of shard
-I of N (``build.shard_of``) into a site of their own, whose manifest records the shard
-(``build.shard_record``). :func:`merge` checks that the shards belong together (one version of
+I of N (``shards.shard_of``) into a site of their own, whose manifest records the shard
+(``shards.shard_record``). :func:`merge` checks that the shards belong together (one version of
 steadyline, one set of settings and templates, one portfolio, each shard once and none
 missing), then stages one site: every shard's project folders linked in as they are, the
 index and the assets rendered once from the manifests, and the manifest of the whole. It is
@@ -28,9 +28,12 @@ from ..config import PortfolioSettings
 from ..errors import BuildError, Problem
 from ..site.assets import asset_files, assets_key
 from ..site.serialise import dumps_bytes
-from .build import MANIFEST, BuildReport, _settings_key, index_page, portfolio_digest
+from .index_stage import index_page
+from .manifest import MANIFEST, _settings_key
+from .options import BuildReport
 from .output_rule import check_output, is_site, named_faults
 from .publish import clean_stale, link_tree, lock_output, publish, staging_dir, write_files
+from .shards import portfolio_digest
 
 
 @dataclass
