@@ -494,7 +494,7 @@ def test_a_fault_during_watch_is_named_and_watching_goes_on(published, monkeypat
     before = snapshot(out)
     monkeypatch.setattr(publish, "open", _fail_writes(errno.ENOSPC), raising=False)
     batch = {str(projects / SLUG / "project.toml")}
-    from steadyline.pipeline.publish import lock_output
+    from steadyline.pipeline.lock import lock_output
 
     lock = lock_output(out, "watch")  # a watch session holds its output's lock
     try:

@@ -45,13 +45,15 @@ from ..site.serialise import dumps_bytes
 from .check import check
 from .compute import compute_stage
 from .index_stage import index_page, live_stamps
+from .lock import lock_output
 from .manifest import LIVE_STATE, MANIFEST, _read_manifest, manifest_record
 from .options import BuildOptions, BuildReport
 from .output_rule import check_output, named_faults
 from .plan import make_plan
 from .pool import BUILD_POOL_MIN, _early_pool, _jobs, _stop_pool, _tune_gc
-from .publish import clean_stale, lock_output, publish
+from .publish import publish
 from .shards import portfolio_digest, shard_of, shard_record
+from .side_folders import clean_stale
 from .stage import _Assets, open_staging, stage_files, unchanged
 from .standby import Standby
 

@@ -29,11 +29,13 @@ from ..errors import BuildError, Problem
 from ..site.assets import asset_files, assets_key
 from ..site.serialise import dumps_bytes
 from .index_stage import index_page
+from .lock import lock_output
 from .manifest import MANIFEST, _settings_key
 from .options import BuildReport
 from .output_rule import check_output, is_site, named_faults
-from .publish import clean_stale, link_tree, lock_output, publish, staging_dir, write_files
+from .publish import link_tree, publish, write_files
 from .shards import portfolio_digest
+from .side_folders import clean_stale, staging_dir
 
 
 @dataclass

@@ -12,7 +12,7 @@ from typing import TYPE_CHECKING
 from ..errors import Problem
 
 if TYPE_CHECKING:
-    from .publish import OutputLock
+    from .lock import OutputLock
     from .standby import Standby
 
 

@@ -16,7 +16,8 @@ from ..site.assets import asset_files, assets_key
 from ..site.common import ProjectOutcome
 from .manifest import LIVE_STATE
 from .plan import Plan
-from .publish import link_tree, staging_dir, write_files
+from .publish import link_tree, write_files
+from .side_folders import staging_dir
 
 
 @dataclass

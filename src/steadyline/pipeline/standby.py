@@ -10,7 +10,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .manifest import _read_manifest
-from .publish import link_tree, staging_dir
+from .publish import link_tree
+from .side_folders import staging_dir
 
 
 @dataclass
