@@ -14,10 +14,10 @@ import sys
 import time
 from pathlib import Path
 
-try:
+if sys.platform == "win32":  # no flock: builds are not locked against each other
+    fcntl = None
+else:
     import fcntl
-except ImportError:  # not a POSIX system: builds are not locked against each other
-    fcntl = None  # type: ignore[assignment]
 
 from ..errors import BuildError
 from .side_folders import alive, process_start
