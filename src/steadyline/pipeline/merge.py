@@ -97,6 +97,15 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
     if not folders:
         raise BuildError("merge: no shard folders given")
     shards = [_read_shard(f) for f in folders]
+    settings = _built_alike(shards)
+    _every_shard_once(shards)
+    _every_project_once(shards)
+    return sorted(shards, key=_index), settings
+
+
+def _built_alike(shards: list[Shard]) -> PortfolioSettings:
+    """The settings the shards were built with, when every shard was built by this
+    installation's templates, with the same settings, count of shards and portfolio."""
     first = shards[0]
     settings = _settings_of(first)
     ours = _settings_key(settings, False)
@@ -118,7 +127,12 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
                     f"than {first.folder} (shard {first.name}); build every shard "
                     "from the same portfolio and settings"
                 )
-    count = first.record["count"]
+    return settings
+
+
+def _every_shard_once(shards: list[Shard]) -> None:
+    """Each shard of the count given once: none twice (or built twice), none missing."""
+    count = shards[0].record["count"]
     seen: dict[int, Shard] = {}
     for s in shards:
         i = s.record["index"]
@@ -134,6 +148,11 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
             f"{', '.join(f'{i}/{count}' for i in missing)} (given: "
             f"{', '.join(s.name for s in sorted(shards, key=_index))})"
         )
+
+
+def _every_project_once(shards: list[Shard]) -> None:
+    """Each project of the portfolio in one shard: none in two, none lacking."""
+    first = shards[0]
     owner: dict[str, Shard] = {}
     for s in shards:
         for slug in s.manifest.get("projects", {}):
@@ -151,7 +170,6 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
             f"{first.record['projects_total']}; a shard is incomplete (built "
             "from another checkout?)"
         )
-    return sorted(shards, key=_index), settings
 
 
 def _index(s: Shard) -> int:
