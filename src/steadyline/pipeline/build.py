@@ -18,7 +18,7 @@ shards, the manifest in manifest), and the names other code imports from here ar
 
 Writing only into the staging folder is what keeps a half-written site from ever being
 published. When nothing changed at all, nothing is written (a site kept in a repository does
-not churn). The whole build runs under the output's lock (see ``publish.lock_output``): a
+not churn). The whole build runs under the output's lock (see ``lock.lock_output``): a
 second build of the same output waits, so that no build reads the manifest or links files of a
 site that another is about to replace, nor deletes another's staging folder.
 
