@@ -8,7 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from steadyline.pipeline.build import BuildOptions, build
+from steadyline.pipeline.build import build
+from steadyline.pipeline.options import BuildOptions
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
 

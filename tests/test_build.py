@@ -17,7 +17,9 @@ from pathlib import Path
 import pytest
 
 from steadyline.cli import main
-from steadyline.pipeline.build import MANIFEST, BuildOptions, build
+from steadyline.pipeline.build import build
+from steadyline.pipeline.manifest import MANIFEST
+from steadyline.pipeline.options import BuildOptions
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -400,7 +402,7 @@ def test_the_demo_with_several_projects_broken_publishes_the_healthy_ones(tmp_pa
 def test_dates_looked_up_once_for_a_large_portfolio_equal_each_projects_own(tmp_path: Path):
     # reference: git itself, asked per project (provenance's own lookup) for the same files
     from steadyline.config import load_portfolio, load_project
-    from steadyline.pipeline.build import BUILD_POOL_MIN
+    from steadyline.pipeline.pool import BUILD_POOL_MIN
     from steadyline.pipeline.project import provenance
 
     root = tmp_path / "projects"
@@ -438,10 +440,12 @@ def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_buil
     # Enough projects for a pool, nothing published: the pool starts before the inputs are
     # hashed. Its site must be the one a build in this process writes.
     import steadyline.pipeline.build as build_module
+    import steadyline.pipeline.compute as compute_module
+    from steadyline.pipeline.pool import BUILD_POOL_MIN
 
     projects = tmp_path / "projects"
     copy_projects(projects)
-    for i in range(build_module.BUILD_POOL_MIN):
+    for i in range(BUILD_POOL_MIN):
         shutil.copytree(DEMO / SMALL[i % len(SMALL)], projects / f"copy-{i:02d}")
     started = []
     real = build_module._early_pool
@@ -450,17 +454,17 @@ def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_buil
     )
     # a build of this many projects also flushes the staging folder while the workers write
     flushed = []
-    real_syncfs = build_module.syncfs
-    monkeypatch.setattr(build_module, "FLUSH_EVERY_S", 0.01)
+    real_syncfs = compute_module.syncfs
+    monkeypatch.setattr(compute_module, "FLUSH_EVERY_S", 0.01)
     monkeypatch.setattr(
-        build_module, "syncfs", lambda folder: flushed.append(folder) or real_syncfs(folder)
+        compute_module, "syncfs", lambda folder: flushed.append(folder) or real_syncfs(folder)
     )
     pooled = build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
     assert started == [2]
     assert flushed and all(".staging-" in f.name for f in flushed)
     serial = build(BuildOptions(projects, tmp_path / "serial", jobs=1))
     assert pooled.ok and serial.ok
-    assert len(pooled.built) == len(SMALL) + build_module.BUILD_POOL_MIN
+    assert len(pooled.built) == len(SMALL) + BUILD_POOL_MIN
     assert tree_hashes(tmp_path / "pooled") == tree_hashes(tmp_path / "serial")
     # a rebuild with a site in place starts no pool before planning
     build(BuildOptions(projects, tmp_path / "pooled", jobs=2))

@@ -25,9 +25,11 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError
-from steadyline.pipeline import publish as publish_mod
-from steadyline.pipeline.build import BuildOptions, build
-from steadyline.pipeline.publish import clean_stale, lock_output, lock_path, process_start
+from steadyline.pipeline import lock as lock_mod
+from steadyline.pipeline.build import build
+from steadyline.pipeline.lock import lock_output, lock_path
+from steadyline.pipeline.options import BuildOptions
+from steadyline.pipeline.side_folders import clean_stale, process_start
 
 REPO = Path(__file__).resolve().parent.parent
 DEMO = REPO / "projects"
@@ -85,7 +87,7 @@ def _holder_script(out: Path, kind: str) -> list[str]:
     """A process that takes the lock of *out*, says so, and holds it until killed."""
     code = (
         "import sys, time\nfrom pathlib import Path\n"
-        "from steadyline.pipeline.publish import lock_output\n"
+        "from steadyline.pipeline.lock import lock_output\n"
         "lock = lock_output(Path(sys.argv[1]), sys.argv[2])\n"
         "print('held', flush=True)\ntime.sleep(60)\n"
     )
@@ -484,7 +486,7 @@ def test_a_terminated_pooled_build_ends_its_workers_and_removes_its_staging(tmp_
 
 def test_a_worker_whose_build_is_already_gone_ends_at_once():
     code = (
-        "import os\nfrom steadyline.pipeline.build import _die_with_parent\n"
+        "import os\nfrom steadyline.pipeline.pool import _die_with_parent\n"
         "_die_with_parent(os.getppid() + 1)\nprint('still here')\n"
     )
     done = subprocess.run(
@@ -522,7 +524,7 @@ def test_the_lock_is_held_from_reading_the_manifest_to_the_swap(tmp_path: Path, 
             return _real(*a, **k)
 
         monkeypatch.setattr(build_mod, name, spy)
-    monkeypatch.setattr(publish_mod, "LOCK_POLL_S", 0.01)
+    monkeypatch.setattr(lock_mod, "LOCK_POLL_S", 0.01)
     build(BuildOptions(projects, out, jobs=1, only={SMALL[0]}))
     assert held_at == ["_read_manifest:True", "publish:True"]
     assert not locked()  # released after the build

@@ -16,13 +16,16 @@ import pytest
 from corpus.kit import VALUES, dates, good_csv, meta, portfolio, tree_hashes, write
 
 import steadyline.pipeline.build as build_mod
+import steadyline.pipeline.compute as compute_mod
 from steadyline.cli import main
 from steadyline.config import Period, load_project
 from steadyline.errors import BuildError, ProjectError
 from steadyline.loading.metric import load_metric
 from steadyline.loading.periods import period_label, period_start
 from steadyline.loading.stages import assign_stage
-from steadyline.pipeline.build import BuildOptions, build, check
+from steadyline.pipeline.build import build
+from steadyline.pipeline.check import check
+from steadyline.pipeline.options import BuildOptions
 
 WRITE_FLAGS = os.O_WRONLY | os.O_RDWR | os.O_APPEND | os.O_CREAT | os.O_TRUNC
 
@@ -132,7 +135,7 @@ def test_failed_publish_leaves_the_site_byte_identical(tmp_path, monkeypatch):
 
 def test_failed_staging_write_leaves_the_site_byte_identical(tmp_path, monkeypatch, capsys):
     root, out, before = _published(tmp_path)
-    real = build_mod.write_files
+    real = compute_mod.write_files
     calls = []
 
     def fail_on_project(staged, files):
@@ -142,7 +145,8 @@ def test_failed_staging_write_leaves_the_site_byte_identical(tmp_path, monkeypat
             raise PermissionError(13, "Permission denied", str(staged))
         return real(staged, files)
 
-    monkeypatch.setattr(build_mod, "write_files", fail_on_project)
+    # the workers write through the compute stage's name (an in-process worker at --jobs 1)
+    monkeypatch.setattr(compute_mod, "write_files", fail_on_project)
     code = main(["build", str(root), "--out", str(out), "--jobs", "1"])
     err = capsys.readouterr().err
     assert code == 2 and "Traceback" not in err

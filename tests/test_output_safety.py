@@ -35,7 +35,9 @@ from steadyline.cli import main
 from steadyline.errors import BuildError
 from steadyline.pipeline import build as build_module
 from steadyline.pipeline import publish
-from steadyline.pipeline.build import MANIFEST, BuildOptions, build
+from steadyline.pipeline.build import build
+from steadyline.pipeline.manifest import MANIFEST
+from steadyline.pipeline.options import BuildOptions
 from steadyline.pipeline.output_rule import MARKER, check_output, fault_line, is_site
 
 REPO = Path(__file__).resolve().parent.parent
@@ -492,7 +494,7 @@ def test_a_fault_during_watch_is_named_and_watching_goes_on(published, monkeypat
     before = snapshot(out)
     monkeypatch.setattr(publish, "open", _fail_writes(errno.ENOSPC), raising=False)
     batch = {str(projects / SLUG / "project.toml")}
-    from steadyline.pipeline.publish import lock_output
+    from steadyline.pipeline.lock import lock_output
 
     lock = lock_output(out, "watch")  # a watch session holds its output's lock
     try:

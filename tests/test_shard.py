@@ -12,7 +12,8 @@ from pathlib import Path
 import pytest
 
 from steadyline.cli import main
-from steadyline.pipeline.build import MANIFEST, shard_of
+from steadyline.pipeline.manifest import MANIFEST
+from steadyline.pipeline.shards import shard_of
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"
 

@@ -10,8 +10,10 @@ from pathlib import Path
 
 import pytest
 
-from steadyline.pipeline.build import BuildOptions, Standby, build
-from steadyline.pipeline.publish import lock_output
+from steadyline.pipeline.build import build
+from steadyline.pipeline.lock import lock_output
+from steadyline.pipeline.options import BuildOptions
+from steadyline.pipeline.standby import Standby
 from steadyline.watch import warm_up
 
 DEMO = Path(__file__).resolve().parent.parent / "projects"

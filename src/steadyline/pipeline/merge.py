@@ -1,8 +1,8 @@
 """Merging the sites of a portfolio built in shards into one site.
 
 A portfolio is a set of independent projects: `build --shard I/N` builds the projects of shard
-I of N (``build.shard_of``) into a site of their own, whose manifest records the shard
-(``build.shard_record``). :func:`merge` checks that the shards belong together (one version of
+I of N (``shards.shard_of``) into a site of their own, whose manifest records the shard
+(``shards.shard_record``). :func:`merge` checks that the shards belong together (one version of
 steadyline, one set of settings and templates, one portfolio, each shard once and none
 missing), then stages one site: every shard's project folders linked in as they are, the
 index and the assets rendered once from the manifests, and the manifest of the whole. It is
@@ -28,9 +28,14 @@ from ..config import PortfolioSettings
 from ..errors import BuildError, Problem
 from ..site.assets import asset_files, assets_key
 from ..site.serialise import dumps_bytes
-from .build import MANIFEST, BuildReport, _settings_key, index_page, portfolio_digest
+from .index_stage import index_page
+from .lock import lock_output
+from .manifest import MANIFEST, _settings_key
+from .options import BuildReport
 from .output_rule import check_output, is_site, named_faults
-from .publish import clean_stale, link_tree, lock_output, publish, staging_dir, write_files
+from .publish import link_tree, publish, write_files
+from .shards import portfolio_digest
+from .side_folders import clean_stale, staging_dir
 
 
 @dataclass
@@ -92,6 +97,15 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
     if not folders:
         raise BuildError("merge: no shard folders given")
     shards = [_read_shard(f) for f in folders]
+    settings = _built_alike(shards)
+    _every_shard_once(shards)
+    _every_project_once(shards)
+    return sorted(shards, key=_index), settings
+
+
+def _built_alike(shards: list[Shard]) -> PortfolioSettings:
+    """The settings the shards were built with, when every shard was built by this
+    installation's templates, with the same settings, count of shards and portfolio."""
     first = shards[0]
     settings = _settings_of(first)
     ours = _settings_key(settings, False)
@@ -113,7 +127,12 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
                     f"than {first.folder} (shard {first.name}); build every shard "
                     "from the same portfolio and settings"
                 )
-    count = first.record["count"]
+    return settings
+
+
+def _every_shard_once(shards: list[Shard]) -> None:
+    """Each shard of the count given once: none twice (or built twice), none missing."""
+    count = shards[0].record["count"]
     seen: dict[int, Shard] = {}
     for s in shards:
         i = s.record["index"]
@@ -129,6 +148,11 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
             f"{', '.join(f'{i}/{count}' for i in missing)} (given: "
             f"{', '.join(s.name for s in sorted(shards, key=_index))})"
         )
+
+
+def _every_project_once(shards: list[Shard]) -> None:
+    """Each project of the portfolio in one shard: none in two, none lacking."""
+    first = shards[0]
     owner: dict[str, Shard] = {}
     for s in shards:
         for slug in s.manifest.get("projects", {}):
@@ -146,7 +170,6 @@ def check_shards(folders: list[Path]) -> tuple[list[Shard], PortfolioSettings]:
             f"{first.record['projects_total']}; a shard is incomplete (built "
             "from another checkout?)"
         )
-    return sorted(shards, key=_index), settings
 
 
 def _index(s: Shard) -> int:

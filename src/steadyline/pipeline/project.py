@@ -12,7 +12,7 @@ import traceback
 from pathlib import Path
 
 from ..analysis import MetricAnalysis, StudyAnalysis, analyse, analyse_study
-from ..config import PortfolioSettings, ProjectSpec, load_project, read_heading
+from ..config import MetricSpec, PortfolioSettings, ProjectSpec, load_project, read_heading
 from ..errors import Problem, ProjectError, rel
 from ..loading import load_metric, load_study
 from ..site.common import ProjectOutcome
@@ -80,12 +80,7 @@ def _load_and_analyse(
     loaded: list[MetricAnalysis | StudyAnalysis | NotBuilt] = []
     for m in spec.metrics:
         try:
-            if is_study(m):  # a measurement study: parts × appraisers × trials, no time axis
-                data = load_study(m, settings)
-                analysis = analyse_study(data)
-            else:
-                data = load_metric(m, settings)
-                analysis = analyse(data)
+            analysis, warned = _analyse_one(m, settings)
         except ProjectError as e:  # costs this metric only
             loaded.append(NotBuilt(m, tuple(e.problems)))
             continue
@@ -101,14 +96,25 @@ def _load_and_analyse(
                 )
             )
             continue
-        problems.extend(data.problems)
+        problems.extend(warned)
         loaded.append(analysis)
     if all(isinstance(x, NotBuilt) for x in loaded):
         raise ProjectError(_not_built_problems(loaded) + problems)
     return loaded, problems
 
 
-def _not_built_problems(loaded: list[MetricAnalysis | NotBuilt]) -> list[Problem]:
+def _analyse_one(
+    m: MetricSpec, settings: PortfolioSettings
+) -> tuple[MetricAnalysis | StudyAnalysis, list[Problem]]:
+    """One metric read and analysed: its analysis and the warnings of its data."""
+    if is_study(m):  # a measurement study: parts × appraisers × trials, no time axis
+        study = load_study(m, settings)
+        return analyse_study(study), study.problems
+    data = load_metric(m, settings)
+    return analyse(data), data.problems
+
+
+def _not_built_problems(loaded: list[MetricAnalysis | StudyAnalysis | NotBuilt]) -> list[Problem]:
     return [p for x in loaded if isinstance(x, NotBuilt) for p in x.problems]
 
 
