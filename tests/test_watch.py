@@ -171,7 +171,7 @@ def test_debouncer_empty_has_nothing_due():
 
 
 def test_debouncer_one_save_burst_is_one_batch():
-    # 17 raw events within 40 ms, like one editor save (STACK.md: 6-17 events a save)
+    # 17 raw events within 40 ms, like one editor save (one save was measured at 6 to 17 events)
     d = Debouncer(QUIET_S, CAP_S)
     t0 = 1000.0
     for i in range(17):
