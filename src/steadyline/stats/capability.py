@@ -96,6 +96,9 @@ def capability(
     ``normality`` is computed by Anderson–Darling when not given and there are at least 8
     values. Missing values (nan) are left out.
     """
+    # One function on purpose: the checks of the input, the indices within and overall, the
+    # observed and expected ppm and the reasons an index is not to be trusted share the same
+    # mean, sigmas and limits; cut apart, each part would take most of them as arguments.
     x = np.asarray(values, dtype=float)
     if x.ndim != 1:
         raise StatsError("capability needs a one-dimensional sequence of values")

@@ -140,6 +140,9 @@ def compare(
     ``metric`` names the measure in the sentence ("weekly error rate"); ``unit`` is appended to
     continuous values and rates ("min", "per 1,000 bed-days").
     """
+    # One function on purpose: one test chosen by the type of data, then one reading of its
+    # result by the direction of better; both halves fill the same Comparison, and the
+    # choice of test is easiest to check against the module's table when it is in one place.
     if data_type not in DATA_TYPES:
         raise StatsError(f"unknown data type {data_type!r}; choose one of {', '.join(DATA_TYPES)}")
     if better not in BETTER:

@@ -165,6 +165,10 @@ def gauge_study(
     >>> round(study.component("measurement system").study_percent, 2)
     9.1
     """
+    # One function from the readings to the verdict, on purpose: it follows the ANOVA method's
+    # table line by line (sums of squares, mean squares, the interaction test and its pooling,
+    # variance components, shares, distinct categories), so that it reads against the published
+    # worked example, and each line uses several figures of the lines above it.
     y, part_names, appr_names = _cube(values, parts, appraisers)
     p, o, r = y.shape
     grand = float(y.mean())

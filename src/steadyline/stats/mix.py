@@ -98,6 +98,9 @@ def mix_change(
     >>> r.merged, r.categories
     (('c', 'd'), ('a', 'b', 'other (merged)'))
     """
+    # One function on purpose: the chi-square test, Cochran's rule on the expected counts,
+    # the merging of small categories and the exact test that replaces it are one decision,
+    # taken in the order the module's text gives; each step reads the table the one before made.
     names = tuple(str(c) for c in categories)
     if len(set(names)) != len(names):
         raise StatsError("a change in mix needs each category once")
