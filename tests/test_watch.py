@@ -26,7 +26,7 @@ from pathlib import Path
 import pytest
 
 from steadyline.errors import BuildError, Problem
-from steadyline.site.common import is_ignored
+from steadyline.files import is_ignored
 from steadyline.watch import make_server
 from steadyline.watch_batches import (
     CAP_S,
