@@ -18,7 +18,11 @@ import pandas as pd
 KINDS = ("continuous", "subgroups", "defectives", "categories")
 
 
-def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int = 7) -> None:
+def write_project(
+    folder: Path, index: int, metrics: int, rows: int, seed: int = 7, rotate: bool = True
+) -> None:
+    """One project's metadata and data files. *rotate*: the cycle of types starts *index*
+    types further on (a portfolio's mix); else every project starts with a continuous metric."""
     rng = np.random.default_rng([seed, index])
     folder.mkdir(parents=True, exist_ok=True)
     start = np.datetime64("2026-01-05T06:00")
@@ -38,7 +42,7 @@ def write_project(folder: Path, index: int, metrics: int, rows: int, seed: int =
         "",
     ]
     for m in range(metrics):
-        kind = KINDS[(m + index) % len(KINDS)]
+        kind = KINDS[(m + (index if rotate else 0)) % len(KINDS)]
         name = f"m{m}.csv"
         shift = np.where(times >= pd.Timestamp("2026-06-01"), -0.8, 0.0)
         if kind == "continuous":

@@ -29,7 +29,7 @@ root = Path(sys.argv[1])
 for i in range(3):
     # metrics 0, 1, 2: a continuous value rolled up by day with an upper spec limit, subgroups of
     # 5 with both spec limits, 0/1 defectives rolled up into a daily proportion
-    synth.write_project(root / f"p{i}", i, metrics=3, rows=2000)
+    synth.write_project(root / f"p{i}", i, metrics=3, rows=2000, rotate=False)
 
 # and defect counts per week, compared by the exact Poisson rate test
 import numpy as np
