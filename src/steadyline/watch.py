@@ -41,7 +41,6 @@ from types import FrameType
 from typing import TYPE_CHECKING, Any, NoReturn
 
 from .errors import BuildError, SteadylineError
-from .files import is_ignored
 from .site.common import CSP
 from .watch_batches import (
     CAP_S,
@@ -366,7 +365,6 @@ __all__ = [
     "QUIET_S",
     "Debouncer",
     "changed_slugs",
-    "is_ignored",
     "known_slugs",
     "make_server",
     "problem_lines",

@@ -101,8 +101,8 @@ class MetricAnalysis:
 
     @functools.cached_property
     def has_after(self) -> bool:
-        # the data never change once loaded: worked out once
-        return bool((self.data.points["stage"].to_numpy() == STAGE_AFTER).any())
+        # the data never change once loaded: worked out once, from the pages' mask
+        return bool(self.in_after.any())
 
     # ---------------------------------------------------------------- what the pages read
     # The data as plotted, in arrays and plain values: steadyline.site reads these, never the
