@@ -7,6 +7,7 @@ in bulk when it holds one kind of value."""
 from __future__ import annotations
 
 import datetime as dt
+from collections import Counter
 from decimal import Decimal
 from typing import Literal
 
@@ -72,3 +73,15 @@ def _is_number(v) -> bool:
 def _short(e: Exception) -> str:
     text = " ".join(str(e).split())
     return text[:120] + "…" if len(text) > 120 else text or type(e).__name__
+
+
+def repeated_names(header: list[str]) -> str | None:
+    """The fault of a header that names a column more than once (whatever the file's kind:
+    CSV, workbook or Parquet), in words; None when every name is its own."""
+    dup = sorted(name for name, k in Counter(header).items() if k > 1)
+    if not dup:
+        return None
+    return (
+        f"the column name(s) {', '.join(repr(d) for d in dup)} "
+        "appear more than once; give each column its own name"
+    )

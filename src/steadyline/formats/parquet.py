@@ -9,7 +9,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .cells import _short, column_text
+from .cells import _short, column_text, repeated_names
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -79,14 +79,9 @@ def read_parquet(
         out.add(None, "", f"the file is not a Parquet file or it is damaged ({_short(e)})")
         return None
     header = [str(n) for n in schema.names]
-    dup = sorted({h for h in header if header.count(h) > 1})
-    if dup:
-        out.add(
-            None,
-            "header",
-            f"the column name(s) {', '.join(repr(d) for d in dup)} "
-            "appear more than once; give each column its own name",
-        )
+    repeated = repeated_names(header)
+    if repeated:
+        out.add(None, "header", repeated)
         return None
     if needed is None:  # every column (steadyline start): those that hold single values
         wanted = [h for h in header if _type_fault("", schema.field(h).type) is None]

@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .cells import _is_number, _short, cell_text, column_text
+from .cells import _is_number, _short, cell_text, column_text, repeated_names
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -160,14 +160,9 @@ def _sheet_table(
     names = [cell_text(c) for c in rows[0]]
     named = [(j, h) for j, h in enumerate(names) if h != ""]
     header = [h for _, h in named]
-    dup = sorted({h for h in header if header.count(h) > 1})
-    if dup:
-        out.add(
-            header_row,
-            "header",
-            f"the column name(s) {', '.join(repr(d) for d in dup)} "
-            "appear more than once; give each column its own name",
-        )
+    repeated = repeated_names(header)
+    if repeated:
+        out.add(header_row, "header", repeated)
         return None
     # The range is a rectangle: every row has the header's width. Rows holding nothing are
     # skipped, as blank lines of a CSV file are.

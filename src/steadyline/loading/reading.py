@@ -20,6 +20,7 @@ import pyarrow as pa
 
 from .. import columns, files, formats
 from ..config import MetricSpec, PortfolioSettings
+from ..formats.cells import repeated_names
 from .encoding import _SNIFF, _codec, _decode
 from .header import _columns_of
 from .plain import _read_plain
@@ -218,14 +219,9 @@ def _careful_table(records: list[_Record], delim: str, out: _Rows) -> pd.DataFra
     header_line, header = records[0]
     header = _trimmed_header([h.strip() for h in header], records)
     width = len(header)
-    dup = sorted({h for h in header if header.count(h) > 1})
-    if dup:
-        out.add(
-            header_line,
-            "header",
-            f"the column name(s) {', '.join(repr(d) for d in dup)} "
-            "appear more than once; give each column its own name",
-        )
+    repeated = repeated_names(header)
+    if repeated:
+        out.add(header_line, "header", repeated)
         return None
     body = []
     ragged: dict[tuple[int, int], list[int]] = {}
