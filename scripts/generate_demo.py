@@ -304,7 +304,7 @@ def wheel_build_lead_time() -> dict[str, str]:
                 "unit": "hours",
                 "better": "lower",
                 "spec_upper": 72.0,
-                "limits": "per-phase",
+                "limits": "per-period",
                 "bins": [0.0, 12.0, 24.0, 36.0, 48.0, 60.0, 72.0, 84.0, 96.0, 108.0, 120.0],
                 "set_aside": customs_aside,
             },

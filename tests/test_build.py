@@ -56,7 +56,7 @@ def test_demo_has_index_page_and_results_per_project(demo_site: Path):
         page = demo_site / "projects" / slug / "index.html"
         assert page.is_file(), slug
         doc = _no_nan((demo_site / "projects" / slug / "results.json").read_text("utf-8"))
-        assert doc["schema"] == "steadyline-results/2"
+        assert doc["schema"] == "steadyline-results/3"
         assert doc["project"]["slug"] == slug
         index = (demo_site / "index.html").read_text("utf-8")
         assert f'href="projects/{slug}/index.html"' in index
@@ -112,7 +112,7 @@ def test_the_demo_uses_every_setting_of_the_methods(demo_site: Path):
         ("runs", "anhoj"),
         ("runs", "perla"),
         ("limits", "baseline"),
-        ("limits", "per-phase"),
+        ("limits", "per-period"),
         ("quartiles", "linear"),
         ("quartiles", "tukey-hinges"),
         ("bins", "fd"),
@@ -149,10 +149,10 @@ def test_capability_reasons_read_as_one_sentence_each(demo_site: Path):
     assert rolled_up  # the demo's daily roll-up says why Cp and Cpk are missing
 
 
-def test_phase_histograms_share_their_bins_and_leave_no_value_out(demo_site: Path):
+def test_period_histograms_share_their_bins_and_leave_no_value_out(demo_site: Path):
     seen = 0
     for res in (demo_site / "projects").glob("*/results.json"):
-        for m in json.loads(res.read_text("utf-8"))["history"] or []:  # None: no after phase
+        for m in json.loads(res.read_text("utf-8"))["history"] or []:  # None: no after period
             hists = m.get("histograms") or {}
             if len(hists) < 2:
                 continue

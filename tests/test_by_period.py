@@ -258,7 +258,7 @@ def test_200000_rows_without_rollup_state_their_periods_and_stay_light(tmp_path)
     small = build(write_project(tmp_path, "small", 1000))
     big = build(write_project(tmp_path, "big", 200_000))
     doc = json.loads(big["results.json"])
-    assert doc["schema"] == RESULTS_SCHEMA == "steadyline-results/2"
+    assert doc["schema"] == RESULTS_SCHEMA == "steadyline-results/3"
     drawn = doc["metrics"][0]["drawn_by_period"]
     assert drawn["period"] == "day" and drawn["points"] == 200_000
     assert drawn["periods"] == len(doc["metrics"][0]["points"]["value"]) <= DRAWN_POINTS_MAX
@@ -353,6 +353,6 @@ better = "lower"
         p["categories_left_out"],
         p["count_left_out"],
     )
-    for phase in doc["history"][0]["paretos"].values():
-        assert len(phase["categories"]) <= 200
-        assert sum(phase["counts"]) + phase["count_left_out"] == phase["total"]
+    for period in doc["history"][0]["paretos"].values():
+        assert len(period["categories"]) <= 200
+        assert sum(period["counts"]) + period["count_left_out"] == period["total"]

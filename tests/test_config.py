@@ -75,6 +75,26 @@ def test_a_valid_file_loads(tmp_path):
     assert spec.metrics[1].rollup.period == "day"
 
 
+@pytest.mark.parametrize("code", ["per-period", "per-phase"])
+def test_limits_per_period_and_its_older_name(tmp_path, code):
+    """``per-phase`` was the code before "phase" was kept for the project's stage in the cycle:
+    a file that still says it is read as ``per-period``, with one warning naming key and line."""
+    text = (
+        TOML.replace("valeu = 3\n", f'limits = "{code}"\n')
+        .replace('"dya"', '"day"')
+        .replace('delimter = ";"', 'delimiter = ","')
+    )
+    root = write(tmp_path / "projects", {"p/project.toml": text, "p/data.csv": good_csv()})
+    spec, warnings = load_project(root / "p", root)
+    assert spec.metrics[1].limits == "per-period"
+    if code == "per-period":
+        assert warnings == []
+    else:
+        (w,) = warnings
+        assert (w.where, w.line, w.severity) == ("metric[2].limits", 26, "warning")
+        assert "'per-phase' is the older name of 'per-period'" in w.message
+
+
 @pytest.mark.parametrize(
     "text, where, line, words",
     [

@@ -411,7 +411,7 @@ def _ours(fn, *args, **kwargs):
     values=arrays,
     rules=st.sampled_from(["western-electric", "nelson"]),
     runs=st.sampled_from(["anhoj", "perla"]),
-    limits=st.sampled_from(["baseline", "per-phase"]),
+    limits=st.sampled_from(["baseline", "per-period"]),
     split=st.integers(0, 30),
 )
 def test_continuous_statistics(values, rules, runs, limits, split):

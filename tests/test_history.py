@@ -28,10 +28,10 @@ def mr_bar_within_runs(values: np.ndarray, days: np.ndarray) -> float:
     return float(np.abs(np.diff(values))[neighbours].mean())
 
 
-def test_individuals_limits_over_the_after_phase_are_the_baseline_limits(demo_site):
+def test_individuals_limits_over_the_after_period_are_the_baseline_limits(demo_site):
     m, h = metric(demo_site, "wheel-build-lead-time", "lead-time-daily")
     values = np.array(m["points"]["value"], dtype=float)
-    stage = np.array(m["points"]["stage"])
+    stage = np.array(m["points"]["period_kind"])
     days = np.array(m["points"]["period"], dtype="datetime64[D]")
     # the days set aside (a known cause removed) are no part of the baseline's limits
     aside = np.isin(m["points"]["label"], m["set_aside"]["labels"])
@@ -45,23 +45,23 @@ def test_individuals_limits_over_the_after_phase_are_the_baseline_limits(demo_si
     mr_bar = mr_bar_within_runs(base, days[kept])
     assert np.isclose(mr_bar, m["control_chart"]["chart"]["extras"]["average_moving_range"])
     ucl, lcl = centre + 3 * mr_bar / D2_2, centre - 3 * mr_bar / D2_2
-    chart = h["staged_control_chart"]["chart"]
+    chart = h["control_chart_by_period"]["chart"]
     after = stage == "After"
     assert np.allclose(np.array(chart["upper"], float)[after], ucl, rtol=1e-9)
     assert np.allclose(np.array(chart["lower"], float)[after], lcl, rtol=1e-9)
     assert np.allclose(np.array(chart["centre"], float)[after], centre, rtol=1e-9)
 
 
-def test_the_after_phase_own_limits_come_from_the_after_data_alone(demo_site):
+def test_the_after_period_own_limits_come_from_the_after_data_alone(demo_site):
     m, h = metric(demo_site, "wheel-build-lead-time", "lead-time-daily")
-    staged = h["staged_control_chart"]
+    staged = h["control_chart_by_period"]
     assert staged["own_after_limits"] is True
     values = np.array(m["points"]["value"], dtype=float)
-    stage = np.array(m["points"]["stage"])
+    stage = np.array(m["points"]["period_kind"])
     after = stage == "After"
     own = values[after]
     centre = own.mean()
-    # the after points run on without a change of phase; weekends are gaps, as above
+    # the after points run on without a change of period; weekends are gaps, as above
     days = np.array(m["points"]["period"], dtype="datetime64[D]")
     mr_bar = mr_bar_within_runs(own, days[after])
     chart = staged["after_chart"]
@@ -71,7 +71,7 @@ def test_the_after_phase_own_limits_come_from_the_after_data_alone(demo_site):
     )
 
 
-def test_p_chart_limits_over_the_after_phase_step_with_n_around_the_baseline_p_bar(demo_site):
+def test_p_chart_limits_over_the_after_period_step_with_n_around_the_baseline_p_bar(demo_site):
     m, h = metric(demo_site, "order-picking-errors", "picking-error-rate")
     raw = (
         (
@@ -85,7 +85,7 @@ def test_p_chart_limits_over_the_after_phase_step_with_n_around_the_baseline_p_b
     )
     header = raw[0].split(",")
     rows = [dict(zip(header, line.split(","), strict=True)) for line in raw[1:]]
-    stage = np.array(m["points"]["stage"])
+    stage = np.array(m["points"]["period_kind"])
     n = np.array([float(r["orders_checked"]) for r in rows])
     d = np.array([float(r["orders_with_error"]) for r in rows])
     base = stage == "Baseline"
@@ -94,7 +94,7 @@ def test_p_chart_limits_over_the_after_phase_step_with_n_around_the_baseline_p_b
     p_bar = d[base].sum() / n[base].sum()
     ucl = p_bar + 3 * np.sqrt(p_bar * (1 - p_bar) / n)
     lcl = np.maximum(p_bar - 3 * np.sqrt(p_bar * (1 - p_bar) / n), 0)
-    chart = h["staged_control_chart"]["chart"]
+    chart = h["control_chart_by_period"]["chart"]
     after = stage == "After"
     assert np.allclose(np.array(chart["upper"], float)[after], ucl[after], rtol=1e-9)
     assert np.allclose(np.array(chart["lower"], float)[after], lcl[after], rtol=1e-9, atol=1e-12)
@@ -126,7 +126,7 @@ def test_every_demo_metric_with_after_data_has_a_history_entry(demo_site):
     for res in (demo_site / "projects").glob("*/results.json"):
         doc = json.loads(res.read_text("utf-8"))
         for m in doc["metrics"]:
-            stages = set(m.get("points", {}).get("stage", []))
+            stages = set(m.get("points", {}).get("period_kind", []))
             if "After" in stages:
                 assert doc["history"], res
                 h = next(x for x in doc["history"] if x["id"] == m["id"])

@@ -97,7 +97,7 @@ def test_results_status_agrees_with_its_own_figures(demo_site: Path):
         m = next(x for x in doc["metrics"] if x["id"] == metric)
         hist = next((h for h in doc["history"] or [] if h["id"] == metric), None)
         c = m.get("comparison")
-        if "After" not in m["points"]["stage"]:  # the demo's headline metrics are time-based
+        if "After" not in m["points"]["period_kind"]:  # the demo's headline metrics are time-based
             assert status == "baseline-only" and c is None, slug
             continue
         assert c is not None, slug
@@ -106,7 +106,7 @@ def test_results_status_agrees_with_its_own_figures(demo_site: Path):
         elif not c["improved"]:
             assert status == "worse", slug
         else:
-            staged = hist["staged_control_chart"]
+            staged = hist["control_chart_by_period"]
             holds = staged["own_after_limits"] and not staged["after_signals"]
             assert status == ("gain-holds" if holds else "gain-not-yet-stable"), slug
 
@@ -245,10 +245,10 @@ def test_built_projects_get_each_status_from_their_results(tmp_path: Path):
         assert doc["status"]["code"] == want, (want, doc["status"])
         assert doc["status"]["metric"] == "m"
         if want == "gain-holds":
-            staged = doc["history"][0]["staged_control_chart"]
+            staged = doc["history"][0]["control_chart_by_period"]
             assert staged["own_after_limits"] and staged["after_signals"] == []
         if want == "gain-not-yet-stable":
-            assert "the after phase has 8 points; 12 are needed" in doc["status"]["reason"]
+            assert "the after period has 8 points; 12 are needed" in doc["status"]["reason"]
 
 
 def test_a_later_build_date_rewrites_only_the_index_and_its_csv(tmp_path: Path, monkeypatch):

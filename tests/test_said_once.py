@@ -156,7 +156,7 @@ def test_short_of_room_the_sentences_naming_points_go_to_the_table():
     count = Finding("signal", "◆", "After: 3 signals against the baseline's limits …", 3)
     clear = Finding("clear", "●", "No signal on its own limits.")
     given = [change, late, early, count, clear]
-    # instability by date (the count of a phase at its first signal), then change, then clear
+    # instability by date (the count of a period at its first signal), then change, then clear
     assert order_findings(given) == [early, count, late, change, clear]
     assert shown_findings(given, 5) == ([early, count, late, change, clear], 0)
     assert shown_findings(given, 4) == ([early, count, change, clear], 1)

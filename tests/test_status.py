@@ -36,21 +36,21 @@ def test_gain_holds_when_better_unlikely_chance_and_stable_on_its_own_limits():
     assert v.status is Status.GAIN_HOLDS
     assert v.reason == (
         "Lead time down 25%, better, unlikely to be chance (p = 0.001); the after "
-        "phase is stable on its own control limits (20 points)"
+        "period is stable on its own control limits (20 points)"
     )
-    assert v.note == "the after phase is stable on its own control limits (20 points)"
+    assert v.note == "the after period is stable on its own control limits (20 points)"
 
 
 @pytest.mark.parametrize(
     "kw, words",
     [
-        (dict(after_signals=3), "3 signals on the after phase's own control limits"),
-        (dict(after_signals=1), "1 signal on the after phase's own control limits"),
-        (dict(own_limits=False, after_points=7), "the after phase has 7 points; 12 are needed"),
+        (dict(after_signals=3), "3 signals on the after period's own control limits"),
+        (dict(after_signals=1), "1 signal on the after period's own control limits"),
+        (dict(own_limits=False, after_points=7), "the after period has 7 points; 12 are needed"),
         (dict(control=False), "no control chart"),
     ],
 )
-def test_a_gain_is_not_yet_stable_until_the_after_phase_is_shown_stable(kw, words):
+def test_a_gain_is_not_yet_stable_until_the_after_period_is_shown_stable(kw, words):
     v = judge(facts(**kw))
     assert v.status is Status.NOT_STABLE
     assert words in v.reason and words in v.note
@@ -81,9 +81,9 @@ def test_baseline_only_and_not_judged():
     assert judge(facts(has_after=False)).status is Status.BASELINE_ONLY
     cats = judge(facts(categories=True, compared=False))
     assert cats.status is Status.NOT_JUDGED and "category" in cats.reason
-    failed = judge(facts(compared=False, failure="each phase needs at least one count"))
+    failed = judge(facts(compared=False, failure="each period needs at least one count"))
     assert failed.status is Status.NOT_JUDGED
-    assert failed.reason.endswith("could not be made: each phase needs at least one count")
+    assert failed.reason.endswith("could not be made: each period needs at least one count")
     no_target = judge(facts(improved=None))
     assert no_target.status is Status.NOT_JUDGED and "no target" in no_target.reason
     # no test possible: the same values throughout, or different constants
@@ -146,7 +146,7 @@ def test_build_date_honours_source_date_epoch():
 
 def test_look_at_points_to_the_page_that_answers():
     assert st.look_at(Status.GAIN_HOLDS, "m", True) == (
-        "the control chart by phase",
+        "the control chart by period",
         "history.html#history-m-staged-control",
     )
     assert st.look_at(Status.NOT_STABLE, "m", False)[1] == "history.html#metric-m"

@@ -202,7 +202,7 @@ def test_capability_change_is_bissells_z_test(demo_site, slug, mid):
     assert ("do not overlap: the change is beyond them" in block) == (not overlap)
     ci = cb["cpk_ci"]
     assert f"{cb['cpk']:.2f} ({ci[0]:.2f} to {ci[1]:.2f})" in block
-    # the indices are said once: the phases' blocks below keep no tiles of their own
+    # the indices are said once: the periods' blocks below keep no tiles of their own
     assert "Room between the mean and the nearer limit" not in text
 
 
@@ -267,12 +267,12 @@ def test_expected_yield_of_measured_values_is_the_normal_models(demo_site):
     slug, mid = "spoke-tension", "tension"
     doc = _results(demo_site, slug)
     h = _metric(doc, mid, "history")
-    for phase in ("Baseline", "After"):
-        c = h["capability"][phase]
+    for period in ("Baseline", "After"):
+        c = h["capability"][period]
         outside = st.norm.cdf(c["lsl"], c["mean"], c["sigma_overall"]) + st.norm.sf(
             c["usl"], c["mean"], c["sigma_overall"]
         )
-        assert h["business"][phase]["yield"] == pytest.approx(1 - outside, rel=1e-9)
+        assert h["business"][period]["yield"] == pytest.approx(1 - outside, rel=1e-9)
     base = h["business"]["Baseline"]
     assert _metric(doc, mid)["business"] == base
     text = _text(demo_site, slug, "index.html")
@@ -349,7 +349,7 @@ def test_after_sample_of_a_rolled_up_metric_counts_its_days(demo_site):
     slug, mid = "wheel-build-lead-time", "lead-time-daily"
     doc = _results(demo_site, slug)
     m = _metric(doc, mid)
-    stage = np.array(m["points"]["stage"])
+    stage = np.array(m["points"]["period_kind"])
     v = np.array(m["points"]["value"], dtype=float)
     base, after = v[stage == "Baseline"], v[stage == "After"]
     plan = m["after_sample_plan"]

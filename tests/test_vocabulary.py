@@ -181,3 +181,59 @@ def test_results_json_uses_only_the_codes_of_the_vocabulary(demo_site):
                 if (m.get(part) or {}).get("rule_set") is not None:
                     assert m[part]["rule_set"] in vocab.RunRules.codes(), path
     assert seen
+
+
+# "phase" names the project's stage in its improvement cycle and nothing else; the places a
+# page may say it: the index's count and filter ("By phase: …", "Phase"), the table head, and a
+# phase named with its stage ("still in the measure phase", from a project's notes).
+_PHASE_ALLOWED = re.compile(
+    r"By phase:|\|\s*Phase\s*\||(define|measure|analyze|improve|control)\W*\|?\s*phases?\b", re.I
+)
+
+
+def _page_words(html: str) -> str:
+    """A page's text as a reader or a screen reader meets it: no styles, no class names or
+    links; tags become "|" so that a word in a cell of its own stands alone; the chart specs'
+    titles and descriptions, and every aria-label, stay."""
+    html = re.sub(r"<style.*?</style>", "", html, flags=re.S)
+    html = re.sub(r'\s(class|id|data-[a-z-]+|for|href|src|name|value)="[^"]*"', "", html)
+    return re.sub(r"<[^>]+>", "|", html)
+
+
+def test_no_page_of_the_demo_says_phase_for_a_period(demo_site):
+    seen = 0
+    for path in sorted(demo_site.rglob("*.html")):
+        text = _page_words(path.read_text(encoding="utf-8"))
+        for m in re.finditer(r"\bphases?\b", text, re.I):
+            seen += 1
+            context = text[max(0, m.start() - 30) : m.end() + 30]
+            assert _PHASE_ALLOWED.search(context), (path.name, context)
+        assert not re.search(r"\bstages?\b", re.sub(r'"stage"', "", text), re.I), path
+    assert seen >= 3  # the index's count, filter and table head at least
+
+
+def test_results_json_says_phase_only_of_the_project(demo_site):
+    def walk(node, where):
+        if isinstance(node, dict):
+            for key, value in node.items():
+                assert "phase" not in key or where == "project", (where, key)
+                # a chart's stage[] and its extras per stage (process_sigma_stage_1 ...) are
+                # the fit index its README entry explains; no other key says "stage"
+                assert "stage" not in key or re.fullmatch(r"stage|\w+_stage_\d", key), key
+                walk(value, where or key)
+        elif isinstance(node, list):
+            for item in node:
+                walk(item, where)
+        elif isinstance(node, str) and where != "project":
+            assert not re.search(r"\bphases?\b", node, re.I), (where, node)
+
+    by_period = 0
+    for path in sorted((demo_site / "projects").glob("*/results.json")):
+        data = json.loads(path.read_text(encoding="utf-8"))
+        assert data["schema"] == "steadyline-results/3"
+        walk(data, "")
+        by_period += sum(bool(h.get("control_chart_by_period")) for h in data["history"] or ())
+        for m in data["metrics"]:
+            if m.get("points"):
+                assert len(m["points"]["period_kind"]) == len(m["points"]["value"]), path
+    assert by_period >= 5  # the demo's metrics with after data

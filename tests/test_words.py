@@ -209,7 +209,7 @@ def test_the_before_after_test_of_a_roll_up_compares_the_period_values(demo_site
     assert daily["id"] == "lead-time-daily"
     points = daily["points"]
     vals = np.asarray(points["value"], dtype=float)
-    stage = np.asarray(points["stage"])
+    stage = np.asarray(points["period_kind"])
     # the days set aside (a known cause removed) are no part of the baseline's figures
     aside = set(daily["set_aside"]["labels"])
     kept = np.array([label not in aside for label in points["label"]])
@@ -236,7 +236,7 @@ def test_a_point_before_the_baseline_is_named_so_in_its_table_as_on_its_band(dem
     slug = demo_site / "projects/paint-finish-defects"
     results = json.loads((slug / "results.json").read_text("utf-8"))
     blemishes = next(m for m in results["metrics"] if m["id"] == "scanner-blemishes")
-    stages = blemishes["points"]["stage"]
+    stages = blemishes["points"]["period_kind"]
     # the first week lies before the baseline: it was called "Between periods"
     assert stages[0] == "Before the baseline" and stages[1] == "Baseline"
     assert "Between periods" in stages  # the weeks between the baseline and the after period

@@ -101,7 +101,7 @@
     return spec;
   }
 
-  /* Side-by-side charts (the Pareto chart of each phase) go one above the other in a box too
+  /* Side-by-side charts (the Pareto chart of each period) go one above the other in a box too
      narrow for both, rather than running past the edge of the page. */
   var SIDE_BY_SIDE_MIN = 640;
 

@@ -145,7 +145,7 @@ def analyse_frame(
         section, result = metric_section(a, project, files, list(data.problems), sctx)
         cards = list(section["displays"])
         history = None
-        if a.has_after or a.phase_paretos:
+        if a.has_after or a.period_paretos:
             hsection, history = history_section(project, a, files, sctx)
             cards += hsection["displays"]
             history = orjson.loads(dumps_bytes(history))

@@ -11,11 +11,11 @@ its headline change always speak of the same figures:
    failed, or a test that had nothing to test with different values) -> not judged
 3. better = "target" with no target value: no direction             -> not judged
 4. the test's p-value is 0.05 or more (the change could be chance)
-   or the two phases are the same                                   -> no clear change
+   or the two periods are the same                                   -> no clear change
 5. a change in the worse direction, unlikely to be chance           -> worse
 6. a change in the better direction, unlikely to be chance, and the
-   after phase stable on its own control limits (no signal there)   -> gain holds
-7. the same, but with signals on the after phase's own limits, or
+   after period stable on its own control limits (no signal there)   -> gain holds
+7. the same, but with signals on the after period's own limits, or
    too few after points for limits of its own, or no control chart  -> gain not yet stable
 
 Staleness depends on the day, not on the results: results.json carries the status above
@@ -74,7 +74,7 @@ MEANINGS = {
     "there is nothing to judge it by",
     Status.WORSE: "the headline metric moved in the worse direction, unlikely to be chance",
     Status.STALE: "no data for longer than the portfolio's stale_after_days before the build",
-    Status.NOT_STABLE: "better, unlikely to be chance, but the after phase is not (yet) shown "
+    Status.NOT_STABLE: "better, unlikely to be chance, but the after period is not (yet) shown "
     "stable on its own control limits",
     Status.NO_CLEAR_CHANGE: "the before-and-after test cannot tell the change from chance",
     Status.NOT_JUDGED: "the headline metric has no before-and-after test to judge by",
@@ -102,7 +102,7 @@ class HeadlineFacts:
     has_after: bool  # the after period has data
     built: bool = True  # False: the metric's data have errors, nothing was computed
     problem_count: int = 0  # its errors, when not built
-    categories: bool = False  # a categories metric: Pareto by phase, no test
+    categories: bool = False  # a categories metric: Pareto by period, no test
     compared: bool = False  # a before-and-after comparison was made
     failure: str = ""  # why not, when it was tried and failed
     improved: bool | None = None  # direction against `better`; None: no target to judge by
@@ -110,10 +110,10 @@ class HeadlineFacts:
     p_text: str = ""  # the p-value as the pages write it ("p < 0.001")
     change: float = 0.0  # after minus baseline
     percent_change: float | None = None
-    after_points: int = 0  # points of the after phase on the control chart
-    own_limits: bool = False  # the after phase has control limits of its own
+    after_points: int = 0  # points of the after period on the control chart
+    own_limits: bool = False  # the after period has control limits of its own
     own_limits_min: int = 12  # points needed for them
-    after_signals: int = 0  # signals of the after phase against its own limits
+    after_signals: int = 0  # signals of the after period against its own limits
     control: bool = True  # a control chart could be drawn at all
 
 
@@ -151,7 +151,7 @@ def judge(f: HeadlineFacts) -> Verdict:
         return Verdict(Status.BASELINE_ONLY, f"{f.metric_name}: no after period with data yet")
     if f.categories:
         note = (
-            "a count by category: the Pareto charts by phase show the change, there is no "
+            "a count by category: the Pareto charts by period show the change, there is no "
             "test to judge it by"
         )
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name} is {note}", note)
@@ -165,7 +165,7 @@ def judge(f: HeadlineFacts) -> Verdict:
             return Verdict(
                 Status.NO_CLEAR_CHANGE, f"{f.metric_name}: the same in the baseline and after"
             )
-        note = "no test is possible, as neither phase varies"
+        note = "no test is possible, as neither period varies"
         return Verdict(Status.NOT_JUDGED, f"{f.metric_name}: {note}", note)
     if f.improved is None:
         note = "better is 'target' but no target is set, so the direction cannot be judged"
@@ -181,28 +181,28 @@ def judge(f: HeadlineFacts) -> Verdict:
     if not f.improved:
         return Verdict(Status.WORSE, said)
     if not f.control:
-        note = "no control chart, so the after phase's stability is not judged"
+        note = "no control chart, so the after period's stability is not judged"
     elif not f.own_limits:
         note = (
-            f"the after phase has {f.after_points} point{'' if f.after_points == 1 else 's'}"
+            f"the after period has {f.after_points} point{'' if f.after_points == 1 else 's'}"
             f"; {f.own_limits_min} are needed for limits of its own, so its stability is "
             "not yet judged"
         )
     elif f.after_signals:
         n = f.after_signals
-        note = f"{n} signal{'' if n == 1 else 's'} on the after phase's own control limits"
+        note = f"{n} signal{'' if n == 1 else 's'} on the after period's own control limits"
     else:
-        note = f"the after phase is stable on its own control limits ({f.after_points} points)"
+        note = f"the after period is stable on its own control limits ({f.after_points} points)"
         return Verdict(Status.GAIN_HOLDS, f"{said}; {note}", note)
     return Verdict(Status.NOT_STABLE, f"{said}; {note}", note)
 
 
 def look_at(status: Status, metric_id: str, staged_chart: bool) -> tuple[str, str]:
     """What a reader should look at for this status: (words, link relative to the project's
-    folder). *staged_chart*: the history page has the metric's control chart by phase."""
+    folder). *staged_chart*: the history page has the metric's control chart by period."""
     history = f"history.html#metric-{metric_id}"
     if status in (Status.GAIN_HOLDS, Status.NOT_STABLE) and staged_chart:
-        return "the control chart by phase", f"history.html#history-{metric_id}-staged-control"
+        return "the control chart by period", f"history.html#history-{metric_id}-staged-control"
     if status in (Status.GAIN_HOLDS, Status.NOT_STABLE, Status.WORSE, Status.NO_CLEAR_CHANGE):
         return "the before-and-after comparison", history
     if status is Status.STALE:

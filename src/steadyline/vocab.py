@@ -58,7 +58,7 @@ class LimitMode(_Coded):
     baseline's, carried forward, or each period's own, drawn as steps."""
 
     BASELINE = "baseline"
-    PER_PHASE = "per-phase"
+    PER_PERIOD = "per-period"
 
 
 class Better(_Coded):

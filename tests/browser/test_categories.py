@@ -10,7 +10,7 @@ Two small projects are built, served on 127.0.0.1 and drawn in headless Debian C
 - ``many-categories``: one metric with 5,000 categories, drawn as its largest categories and
   one bar gathering all the others, whose number is stated.
 
-On the project page (Pareto and column chart) and the before-and-after page (Pareto by phase),
+On the project page (Pareto and column chart) and the before-and-after page (Pareto by period),
 each chart must be drawn with no console error and no page error, and its bars must be the
 expected ones: one per category, labelled with its name on the axis in the expected order, with
 a height proportional to its count. The expected counts are tallied here from the rows written.
@@ -271,7 +271,7 @@ def test_builtin_names_draw_like_any_other(browser, category_site):
     # before and after: the baseline panel descending, the after panel in the baseline's
     # order, the names new after the baseline appended, largest first
     history = _draw(browser, base_url + "projects/builtin-names/history.html")
-    chart = history["chart-history-reasons-phase-pareto"]
+    chart = history["chart-history-reasons-period-pareto"]
     order = _ranked(base) + ["call", "toJSON"]
     _check_panel(chart, 0, [(n, base[n]) for n in order], "baseline panel")
     _check_panel(chart, 1, [(n, after[n]) for n in order], "after panel")

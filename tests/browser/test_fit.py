@@ -87,8 +87,8 @@ def test_charts_are_drawn_again_for_a_narrower_window(browser, site_url, built_s
     assert not kept, f"charts that kept their first width: {kept}"
 
 
-# Time charts (run, control, control by phase) keep at least 300 px of plot on a phone: their
-# limit labels move into the plot there. Other charts keep at least 100 px (a Pareto by phase
+# Time charts (run, control, control by period) keep at least 300 px of plot on a phone: their
+# limit labels move into the plot there. Other charts keep at least 100 px (a Pareto by period
 # is as wide as its bars need).
 TIME_CHART = re.compile(r"-(run|control|staged-control)$")
 PHONE_PLOT_MIN = {True: 300, False: 100}

@@ -13,7 +13,7 @@ import pytest
 
 pytestmark = pytest.mark.browser
 
-# One with a capability block and a history (control chart by phase, histograms by phase),
+# One with a capability block and a history (control chart by period, histograms by period),
 # one of categories (Pareto charts).
 PACKS = ["spoke-tension", "customer-returns"]
 

@@ -377,7 +377,7 @@ def test_time_axes_read_the_same_in_every_time_zone(browser, site_url, built_sit
 
 
 def test_point_tooltips_give_the_date(browser_context, site_url, built_site):
-    """Hovering a point shows its date as text (it read "NaN" once), its value and phase."""
+    """Hovering a point shows its date as text (it read "NaN" once), its value and period."""
     path = next(
         p for p in screenshot_pages(built_site) if p.endswith("/index.html") and p != "index.html"
     )
@@ -398,7 +398,7 @@ def test_point_tooltips_give_the_date(browser_context, site_url, built_site):
     assert len(texts) == 2
     for text in texts:
         assert "NaN" not in text and re.search(r"date\s+\d{4}-\d{2}-\d{2}", text), text
-        assert "value" in text and "phase" in text, text
+        assert "value" in text and "period" in text, text
 
 
 # --------------------------------------------------------------------------------------------

@@ -86,8 +86,8 @@ def make_individuals(n: int = N, *, secondary: bool = True) -> ControlChart:
     )
 
 
-def make_individuals_per_phase(n: int = N) -> ControlChart:
-    """The same values with limits of their own for the after phase (points 20 on)."""
+def make_individuals_per_period(n: int = N) -> ControlChart:
+    """The same values with limits of their own for the after period (points 20 on)."""
     base = make_individuals(n)
     after = np.arange(n) >= 20
     centre = np.where(after, 31.0, 30.0)
@@ -451,7 +451,7 @@ def all_chart_specs():
         (
             "staged-control-chart own",
             charts.staged_control_chart(
-                ctx, make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+                ctx, make_individuals(), make_individuals_per_period(), MAIN_SIGNALS
             ),
         ),
         (
@@ -461,12 +461,12 @@ def all_chart_specs():
         (
             "staged-control-chart labels",
             charts.staged_control_chart(
-                ctx_labels, make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+                ctx_labels, make_individuals(), make_individuals_per_period(), MAIN_SIGNALS
             ),
         ),
         (
-            "pareto-by-phase",
-            charts.phase_pareto_chart(
+            "pareto-by-period",
+            charts.period_pareto_chart(
                 [("Baseline", make_pareto()), ("After", make_pareto_after())]
             ),
         ),

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 import vl_convert as vlc
 
-from steadyline.charts import column_chart, pareto_chart, phase_pareto_chart
+from steadyline.charts import column_chart, pareto_chart, period_pareto_chart
 from steadyline.charts.categorical.categories import MAX_BARS, gathered, others_label
 from steadyline.stats import pareto
 from steadyline.stats.pareto import pareto_in_order
@@ -67,7 +67,7 @@ def _charts_of(names: list[str]):
     return {
         "pareto": pareto_chart(p),
         "column": column_chart(sorted(counts), [counts[n] for n in sorted(counts)]),
-        "phases": phase_pareto_chart([("Baseline", base), ("After", after)]),
+        "periods": period_pareto_chart([("Baseline", base), ("After", after)]),
     }
 
 
@@ -159,13 +159,13 @@ def test_column_chart_of_many_categories_draws_the_largest_in_order():
     assert len(cs.table) == n
 
 
-def test_phase_paretos_of_many_categories_gather_after_the_common_order():
+def test_period_paretos_of_many_categories_gather_after_the_common_order():
     n = 30
     counts = _many(n)
     p = pareto(_entries(counts))
     later = {c: 1 + i % 4 for i, c in enumerate(counts)}
     after = pareto_in_order(_entries(later), None, p.categories)
-    cs = phase_pareto_chart([("Baseline", p), ("After", after)])
+    cs = period_pareto_chart([("Baseline", p), ("After", after)])
     d = cs.spec["datasets"]
     kept = list(p.categories[: MAX_BARS - 1])
     for name, q in (("p0_bars", p), ("p1_bars", after)):

@@ -292,7 +292,7 @@ def test_control_chart_table():
     cs = control_chart(make_ctx(), make_individuals(), MAIN_SIGNALS)
     assert cs.columns[:8] == (
         "date",
-        "phase",
+        "period",
         "value",
         "centre line",
         "LCL",
@@ -327,7 +327,7 @@ def test_run_chart_median_label_and_signal_points():
     assert "8 crossings (signal below 10)" in sub
     assert [b["kind"] for b in spec["datasets"]["bands"]] == ["baseline", "after"]
     assert missing_fields(spec) == []
-    assert cs.columns == ("date", "phase", "value", "median", "signals")
+    assert cs.columns == ("date", "period", "value", "median", "signals")
     assert cs.table[2]["signals"] == "fewer crossings of the median than expected"
 
 
@@ -342,7 +342,7 @@ def test_run_chart_without_phases_has_no_bands():
     )
     cs = run_chart(ctx, make_values(), make_run_analysis())
     assert cs.spec["datasets"]["bands"] == []
-    assert "phase" not in cs.columns
+    assert "period" not in cs.columns
     assert cs.spec["datasets"]["centre"][0]["text"] == "median 31.2"
 
 
@@ -363,10 +363,10 @@ def test_number_format_for_labels():
     assert fmt(7) == "7" and fmt(44.444, 4) == "44.44"
 
 
-def test_per_phase_limits_step_at_the_phase_change():
+def test_per_period_limits_step_at_the_change_of_period():
     cc = make_individuals(secondary=False)
     upper = cc.upper.copy()
-    upper[20:] = 40.0  # limits recomputed for the After phase
+    upper[20:] = 40.0  # limits recomputed for the After period
     cc2 = type(cc)(**{**cc.__dict__, "upper": upper})
     spec = control_chart(make_ctx(), cc2, ()).spec
     assert len(spec["datasets"]["limits"]) == 3 + 2 + 2  # one vertex per change and per end
@@ -439,7 +439,7 @@ def test_bands_filled_by_kind_of_period_not_by_order():
         "after",
         "after the after period",
     ]
-    # the same phases in another order keep their kinds' fills
+    # the same periods in another order keep their kinds' fills
     stages = tuple(["Baseline"] * 10 + ["Between periods"] * 5 + ["After"] * 15)
     ctx = SeriesContext(
         x=make_ctx().x, x_is_time=True, stage=stages, segment=(0,) * N, unit="", metric_name="Calls"
@@ -465,6 +465,6 @@ def test_bands_filled_by_kind_of_period_not_by_order():
         k: style.PERIOD_FILLS[k] for k in ("before the baseline", "baseline", "after")
     }
     assert fill["legend"]["title"] == "period"
-    # one named phase only: its band and its name, in its kind's fill
+    # one named period only: its band and its name, in its kind's fill
     one = band_rows(x_axis(ctx), ("Baseline",) * N)
     assert [(r["kind"], r["label"]) for r in one] == [("baseline", "Baseline")]

@@ -20,9 +20,9 @@ from steadyline.charts import (
     column_chart,
     histogram_chart,
     pareto_chart,
-    phase_pareto_chart,
+    period_pareto_chart,
 )
-from steadyline.charts.categorical.by_phase import common_order
+from steadyline.charts.categorical.by_period import common_order
 from steadyline.charts.categorical.categories import REST_LABEL, VITAL_LABEL
 from steadyline.stats.results import Histogram
 
@@ -235,9 +235,9 @@ def test_pareto_vital_few_set_apart_by_fill_opacity_and_legend():
     }
 
 
-def test_phase_pareto_same_order_in_every_panel():
+def test_period_pareto_same_order_in_every_panel():
     base, after = make_pareto(), make_pareto_after()
-    cs = phase_pareto_chart([("Baseline", base), ("After", after)])
+    cs = period_pareto_chart([("Baseline", base), ("After", after)])
     order = common_order([("Baseline", base), ("After", after)])
     assert order == ["Missing part", "Wrong label", "Damaged", "Late", "Scratched", "other"]
     d = cs.spec["datasets"]
@@ -254,8 +254,8 @@ def test_phase_pareto_same_order_in_every_panel():
         assert panel["title"] in ("Baseline (total 100)", "After (total 40)")
         scales = _y_scales(panel)
         assert scales["count"][0]["domain"] == [0, [100.0, 40.0][k]]
-    assert {r["phase"] for r in cs.table} == {"Baseline", "After"}
-    assert [r["in the first 80%"] for r in cs.table if r["phase"] == "After"] == [
+    assert {r["period"] for r in cs.table} == {"Baseline", "After"}
+    assert [r["in the first 80%"] for r in cs.table if r["period"] == "After"] == [
         "yes",
         "yes",
         "no",

@@ -1,5 +1,5 @@
 """The staged control chart of the history page: baseline limits carried forward (dashed), the
-after phase's own limits (solid, after phase only); later points in signals against the
+after period's own limits (solid, after period only); later points in signals against the
 baseline's limits marked as evidence of a change, points in signals on their own period's
 limits marked as instability."""
 
@@ -12,7 +12,7 @@ from chart_fixtures import (
     MAIN_SIGNALS,
     make_ctx,
     make_individuals,
-    make_individuals_per_phase,
+    make_individuals_per_period,
     make_p_chart,
     missing_fields,
     resolved_points,
@@ -72,9 +72,9 @@ def test_carried_limits_dashed_and_named_after_the_baseline():
     assert "after UCL" not in cs.columns
 
 
-def test_own_limits_solid_over_the_after_phase_only():
+def test_own_limits_solid_over_the_after_period_only():
     cs = staged_control_chart(
-        make_ctx(), make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+        make_ctx(), make_individuals(), make_individuals_per_period(), MAIN_SIGNALS
     )
     spec = cs.spec
     own = _parts(spec, set="after")
@@ -82,10 +82,10 @@ def test_own_limits_solid_over_the_after_phase_only():
     assert all(p["look"] == "solid" for p in own)
     for p in own:
         xs = [x for x, _ in _path(spec, p["p"])]
-        assert xs[0] == MID and xs[-1] == "2026-07-27"  # from the phase change to the end
+        assert xs[0] == MID and xs[-1] == "2026-07-27"  # from the change of period to the end
     (ucl,) = _parts(spec, name="after UCL")
     assert {y for _, y in _path(spec, ucl["p"])} == {41}
-    # labelled at the after phase's last point (drawn right of it), in their own dataset
+    # labelled at the after period's last point (drawn right of it), in their own dataset
     own_labels = {r["kind"]: r for r in spec["datasets"]["own_labels"]}
     assert own_labels["UCL"]["text"] == "after UCL 41"
     assert own_labels["centre line"]["text"] == "after CL 31"
@@ -105,7 +105,7 @@ def test_own_limits_solid_over_the_after_phase_only():
 
 def test_own_and_carried_sets_differ_in_dash_and_colour():
     spec = staged_control_chart(
-        make_ctx(), make_individuals(), make_individuals_per_phase(), ()
+        make_ctx(), make_individuals(), make_individuals_per_period(), ()
     ).spec
     view = next(v for v, d in unit_views(spec) if d == "limits")
     enc = view["encoding"]
@@ -130,7 +130,7 @@ def test_change_and_instability_marked_apart():
     staged = staged_control_chart(
         make_ctx(),
         make_individuals(),
-        make_individuals_per_phase(),
+        make_individuals_per_period(),
         MAIN_SIGNALS,
         OWN,
         _evidence(own_signals=OWN),
@@ -142,7 +142,7 @@ def test_change_and_instability_marked_apart():
     assert pts[x[25]]["signals"] == "against the baseline's limits: beyond the 3σ limits"
     # baseline points in a run, on the baseline's own limits: instability (the diamond)
     assert all(pts[x[i]]["own"] and pts[x[i]]["marker"] == MARK_ORDINARY for i in range(8, 16))
-    # an after point in a signal on the after phase's own limits: instability, not a change
+    # an after point in a signal on the after period's own limits: instability, not a change
     assert pts[x[27]]["own"] and pts[x[27]]["marker"] == MARK_ORDINARY
     assert pts[x[27]]["signals"] == "on its own limits: beyond the 3σ limits"
     others = set(range(30)) - {5, 25, 27, *range(8, 16)}
@@ -164,7 +164,9 @@ def test_change_and_instability_marked_apart():
     sub = staged.spec["title"]["subtitle"]
     assert sub[0].startswith("limits from Baseline, 2026-01-05 to 2026-05-18 (20 points)")
     assert sub[0].endswith("dashed where carried forward")
-    assert sub[1:] == ["after phase's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"]
+    assert sub[1:] == [
+        "after period's own limits (solid) from 2026-05-25 to 2026-07-27 (10 points)"
+    ]
     assert "1 of 10 after points signal a change: 1 worse" in staged.summary
     assert "on their own period's limits 3 signals" in staged.summary
     # the table names the mark in the legend's words
@@ -215,7 +217,7 @@ def test_the_project_pages_control_chart_keeps_its_signal_marks():
 
 def test_table_keeps_both_sets_of_limits():
     cs = staged_control_chart(
-        make_ctx(), make_individuals(), make_individuals_per_phase(), MAIN_SIGNALS
+        make_ctx(), make_individuals(), make_individuals_per_period(), MAIN_SIGNALS
     )
     for col in ("UCL", "after UCL", "after centre line", "after LCL", "mR UCL", "after mR UCL"):
         assert col in cs.columns
@@ -235,7 +237,7 @@ def test_attribute_chart_without_companion():
 def test_mismatched_charts_are_refused():
     with pytest.raises(ValueError):
         staged_control_chart(
-            make_ctx(), make_individuals(secondary=False), make_individuals_per_phase(), ()
+            make_ctx(), make_individuals(secondary=False), make_individuals_per_period(), ()
         )
     with pytest.raises(ValueError, match="points"):
         staged_control_chart(make_ctx(n=10), make_individuals(), None, ())

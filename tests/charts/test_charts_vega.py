@@ -20,7 +20,7 @@ EXPECTED_DISPLAY = {
     "box-plot": "box-plot",
     "column-chart": "column-chart",
     "pareto": "pareto",
-    "pareto-by-phase": "pareto-by-phase",
+    "pareto-by-period": "pareto-by-period",
     "staged-control-chart": "staged-control-chart",
     "study-components": "study-components",
     "study-ranges": "study-ranges",

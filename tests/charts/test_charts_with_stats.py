@@ -71,4 +71,4 @@ def test_real_pareto():
     _ok(cs)
     assert [r["category"] for r in cs.spec["datasets"]["bars"]] == list(p.categories)
     q = pareto_of(["late"] * 4 + ["damaged"] * 9)
-    _ok(charts.phase_pareto_chart([("Before", p), ("After", q)]))
+    _ok(charts.period_pareto_chart([("Before", p), ("After", q)]))

@@ -40,7 +40,7 @@ def _welch_cases():
         if rng.random() < 0.3:
             a, b = np.round(a, 1), np.round(b, 1)
         yield a, b
-    yield np.array([1.0, 1.0, 1.0]), np.array([2.0, 2.5, 3.5])  # one phase without spread
+    yield np.array([1.0, 1.0, 1.0]), np.array([2.0, 2.5, 3.5])  # one period without spread
     yield np.array([0.0, 1e-6]), np.array([1e6, 1e6 + 1e-6, 1e6 + 2e-6])  # |t| ~ 1e12
     yield np.arange(5000.0), np.arange(5000.0) + 1.0  # large df, tiny t
     yield (

@@ -97,16 +97,16 @@ def test_a_moving_range_never_spans_a_gap():
 
 
 def test_gaps_and_stages_together_and_bad_segments():
-    # a gap inside the baseline and a change of stage: neither range is used or drawn
+    # a gap inside the baseline and a change of period: neither range is used or drawn
     x = [10.0, 12.0, 11.0, 30.0, 31.0, 29.0, 40.0, 41.0]
     ch = C.individuals(x, stage=[0, 0, 0, 0, 0, 0, 1, 1], segment=[0, 0, 0, 1, 1, 1, 1, 1])
     assert np.isnan(ch.secondary.values[[0, 3, 6]]).all()
     # by hand: baseline moving ranges 2, 1 | 1, 2 -> MR-bar 1.5
     assert ch.extras["average_moving_range"] == pytest.approx(1.5)
-    per_phase = C.individuals(
-        x, stage=[0, 0, 0, 0, 0, 0, 1, 1], limits="per-phase", segment=[0, 0, 0, 1, 1, 1, 1, 1]
+    per_period = C.individuals(
+        x, stage=[0, 0, 0, 0, 0, 0, 1, 1], limits="per-period", segment=[0, 0, 0, 1, 1, 1, 1, 1]
     )
-    assert per_phase.extras["process_sigma_stage_1"] == pytest.approx(1.0 / d2(2))
+    assert per_period.extras["process_sigma_stage_1"] == pytest.approx(1.0 / d2(2))
     # a baseline of single points between gaps has no moving range at all
     with pytest.raises(StatsError, match="two consecutive points"):
         C.individuals([1.0, 2.0, 3.0], segment=[0, 1, 2])
@@ -152,15 +152,15 @@ def test_individuals_baseline_carried_forward_and_boundary_range_excluded():
     assert ch.centre == pytest.approx(np.full(8, base.mean()))
     assert ch.upper == pytest.approx(np.full(8, base.mean() + 3 * mr_bar / d2(2)))
     assert ch.fitted.tolist() == [True] * 5 + [False] * 3
-    assert np.isnan(ch.secondary.values[5])  # moving range across the change of stage
+    assert np.isnan(ch.secondary.values[5])  # moving range across the change of period
     assert ch.secondary.fitted.tolist() == [False, True, True, True, True, False, False, False]
-    assert any("change of stage" in n for n in ch.notes)
+    assert any("change of period" in n for n in ch.notes)
 
 
-def test_individuals_per_phase_equals_separate_fits():
+def test_individuals_per_period_equals_separate_fits():
     rng = np.random.default_rng(3)
     a, b = rng.normal(10, 1, 12), rng.normal(14, 2, 9)
-    ch = C.individuals(np.r_[a, b], stage=[0] * 12 + [1] * 9, limits="per-phase")
+    ch = C.individuals(np.r_[a, b], stage=[0] * 12 + [1] * 9, limits="per-period")
     sa, sb = C.individuals(a), C.individuals(b)
     assert ch.upper[:12] == pytest.approx(sa.upper)
     assert ch.upper[12:] == pytest.approx(sb.upper)
@@ -175,8 +175,8 @@ def test_baseline_without_stage_zero_uses_lowest_stage():
     assert any("stage 1 is used as the baseline" in n for n in ch.notes)
 
 
-def test_per_phase_short_stage_gets_no_limits():
-    ch = C.individuals([1.0, 2.0, 3.0, 2.0, 9.0], stage=[0, 0, 0, 0, 1], limits="per-phase")
+def test_per_period_short_stage_gets_no_limits():
+    ch = C.individuals([1.0, 2.0, 3.0, 2.0, 9.0], stage=[0, 0, 0, 0, 1], limits="per-period")
     assert np.isnan(ch.upper[4]) and np.isnan(ch.centre[4])
     assert any("Stage 1" in n and "no limits" in n for n in ch.notes)
 
@@ -450,10 +450,10 @@ def test_np_chart_matches_p_chart_times_n():
         C.np_chart([51], 50)
 
 
-def test_attribute_per_phase():
+def test_attribute_per_period():
     d = [5, 6, 4, 5, 15, 16, 14]
     n = [100] * 7
-    ch = C.p_chart(d, n, stage=[0, 0, 0, 0, 1, 1, 1], limits="per-phase")
+    ch = C.p_chart(d, n, stage=[0, 0, 0, 0, 1, 1, 1], limits="per-period")
     assert ch.centre[0] == pytest.approx(20 / 400)
     assert ch.centre[5] == pytest.approx(45 / 300)
     base = C.p_chart(d, n, stage=[0, 0, 0, 0, 1, 1, 1])

@@ -420,7 +420,7 @@ def test_anderson_darling_requirements():
         anderson_darling([3.0] * 10)
 
 
-# --- bins shared by several phases -------------------------------------------------------------
+# --- bins shared by several periods -------------------------------------------------------------
 
 
 def test_extended_edges_keep_the_grid_and_cover_every_value():

@@ -1,4 +1,4 @@
-"""Which points of a control chart by phase are evidence of a change, in which direction, and
+"""Which points of a control chart by period are evidence of a change, in which direction, and
 which are signals of instability (steadyline.stats.evidence). The charts are small hand-made
 series whose limits are set here, so every expectation can be read off the numbers."""
 
@@ -55,7 +55,7 @@ def test_carried_points_in_signals_are_change_the_rest_instability():
     assert main.change[12:16].tolist() == ["better"] * 4
     # in signals on both sides at once (the run below, the point above): not judged
     assert main.change[16] == "not judged"
-    assert main.unstable[16]  # and in a signal on the after phase's own limits
+    assert main.unstable[16]  # and in a signal on the after period's own limits
     assert main.unstable.tolist() == [i in (4, 16) for i in range(20)]
 
 
@@ -93,7 +93,7 @@ def test_dispersion_chart_lower_is_better_whatever_the_metric():
     assert sec.change[16 - offset] == "better"
 
 
-def test_counts_of_the_after_phase():
+def test_counts_of_the_after_period():
     main, _ = point_evidence(chart(VALUES), SIGNALS, OWN, better="lower")
     values = np.asarray(VALUES, float)
     values[19] = np.nan  # a missing period: not drawn, not counted

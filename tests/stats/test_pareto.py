@@ -83,7 +83,7 @@ def test_existing_other_category_stays_last():
     assert q.counts == (5.0, 3.0, 11.0)
 
 
-def test_in_order_for_later_phase():
+def test_in_order_for_later_period():
     base = pareto(DATA, max_bars=4)
     after = pareto_in_order(list("aabccg") + ["new"], None, base.categories)
     assert after.categories == base.categories

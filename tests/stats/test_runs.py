@@ -286,7 +286,7 @@ def test_missing_values_keep_positions():
 
 
 def test_shift_against_baseline_median():
-    # after-phase values all below the baseline median: sustained shift
+    # after-period values all below the baseline median: sustained shift
     after = [3.0, 2.5, 3.2, 2.8, 3.1, 2.9, 3.3, 2.7, 3.0, 2.6, 3.4, 2.9]
     res = shift_against(after, reference_median=5.0)
     assert res.median == 5.0

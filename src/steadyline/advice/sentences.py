@@ -49,7 +49,7 @@ class Finding:
 
 SIGNAL_MARKER = "◆"  # the same diamond the charts use for signal points
 CLEAR_MARKER = "●"
-# The control chart by phase marks evidence of a change in shapes of their own (charts.series:
+# The control chart by period marks evidence of a change in shapes of their own (charts.series:
 # a square for better, a cross for worse, a triangle where no direction is judged) and names
 # them in its legend with these words; the sentences under it use the same glyphs and words.
 CHANGE_MARKERS = {BETTER: "■", WORSE: "✚", NOT_JUDGED: "▲"}
@@ -80,10 +80,10 @@ def group_sentence(
     group: Sequence[Signal],
     x: Sequence[str],
     what: str = "point",
-    phase: str = "",
+    period: str = "",
     line: str = "centre line",
 ) -> str:
-    """One sentence for every occurrence of one rule (on one chart, in one phase); ``line`` is
+    """One sentence for every occurrence of one rule (on one chart, in one period); ``line`` is
     what the chart's sides are of (the centre line, or a run chart's median)."""
     sig = group[0]
     points = sorted({i for s in group for i in s.indices})
@@ -103,7 +103,7 @@ def group_sentence(
     chart = "" if sig.chart == "main" else " on the dispersion chart"
     times = "" if len(group) == 1 else f"{len(group)} times, "
     plural = what if len(points) == 1 else what + "s"
-    lead = f"{phase}: " if phase else ""
+    lead = f"{period}: " if period else ""
     if sig.rule in _WHOLE_SERIES or len(points) >= len(x):
         return f"{lead}{sig.description}{side}{chart}."  # the whole series': no list of points
     return f"{lead}{sig.description}{side}{chart}: {times}{len(points)} {plural}, {dates}."
@@ -117,9 +117,9 @@ def first_point(signals: Sequence[Signal]) -> int | None:
 def grouped_signals(
     signals: Sequence[Signal], stage_names: Sequence[str] | None
 ) -> dict[tuple[str, str, str, str], list[Signal]]:
-    """The signals by phase, chart, rule and description, in the order they first occur."""
+    """The signals by period, chart, rule and description, in the order they first occur."""
     groups: dict[tuple[str, str, str, str], list[Signal]] = {}
     for s in signals:
-        phase = stage_names[s.indices[0]] if stage_names and s.indices else ""
-        groups.setdefault((phase, s.chart, s.rule, s.description), []).append(s)
+        period = stage_names[s.indices[0]] if stage_names and s.indices else ""
+        groups.setdefault((period, s.chart, s.rule, s.description), []).append(s)
     return groups

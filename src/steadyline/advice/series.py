@@ -1,5 +1,5 @@
 """What the run and control charts show, in sentences: the signals with their dates, the after
-phase on its own limits, and the evidence of a change on the control chart by phase.
+period on its own limits, and the evidence of a change on the control chart by period.
 
 Pure functions: results in, findings out.
 """
@@ -45,10 +45,10 @@ def control_findings(
         ]
     out = []
     groups = grouped_signals(signals, stage_names)
-    phases = sorted({k[0] for k in groups if k[0] and k[0] != "Baseline"})
-    for ph in phases:
-        in_phase = [s for k, v in groups.items() if k[0] == ph for s in v]
-        n = len(in_phase)
+    periods = sorted({k[0] for k in groups if k[0] and k[0] != "Baseline"})
+    for ph in periods:
+        in_period = [s for k, v in groups.items() if k[0] == ph for s in v]
+        n = len(in_period)
         out.append(
             Finding(
                 "signal",
@@ -56,16 +56,16 @@ def control_findings(
                 f"{ph}: {n} signal{'s' if n != 1 else ''} against limits computed "
                 "from the baseline, so these points no longer behave like the "
                 "baseline process; check whether the change is the intended one.",
-                first_point(in_phase),
+                first_point(in_period),
             )
         )
     multi = len({k[0] for k in groups}) > 1
-    for (phase, _c, _r, _d), group in groups.items():
+    for (period, _c, _r, _d), group in groups.items():
         out.append(
             Finding(
                 "signal",
                 SIGNAL_MARKER,
-                group_sentence(group, x, phase=phase if multi else ""),
+                group_sentence(group, x, period=period if multi else ""),
                 first_point(group),
                 names_points=True,
             )
@@ -74,13 +74,13 @@ def control_findings(
 
 
 def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Finding]:
-    """The after phase judged on its own centre line and limits: is the new process stable?"""
+    """The after period judged on its own centre line and limits: is the new process stable?"""
     if not signals:
         return [
             Finding(
                 "clear",
                 CLEAR_MARKER,
-                "On its own limits the after phase shows no signal: the new process is "
+                "On its own limits the after period shows no signal: the new process is "
                 "stable so far.",
             )
         ]
@@ -89,7 +89,7 @@ def own_limit_findings(signals: Sequence[Signal], x: Sequence[str]) -> list[Find
         Finding(
             "signal",
             SIGNAL_MARKER,
-            f"On its own limits the after phase shows {n} signal{'s' if n != 1 else ''} "
+            f"On its own limits the after period shows {n} signal{'s' if n != 1 else ''} "
             f"(marked “{OWN_SIGNAL_WORDS}”): the new process is not yet stable; look "
             "into these points before reading its capability.",
             first_point(signals),
@@ -130,7 +130,7 @@ def change_findings(
     chart: ControlChart,
     signals: Sequence[Signal],
 ) -> list[Finding]:
-    """What the control chart by phase marks as evidence of a change: the after phase's points
+    """What the control chart by period marks as evidence of a change: the after period's points
     in signals against the baseline's limits carried forward, by direction, in the words and
     glyphs of the chart's legend; then the baseline's own signals, drawn with the diamond."""
     ev_main, ev_sec = evidence

@@ -6,7 +6,7 @@ rolled-up metric's points and values are.
 """
 
 from .notes import points_note, values_brief, values_note
-from .process import analyse, phase_names
+from .process import analyse, period_names
 from .results import AFTER_OWN_LIMITS_MIN, MetricAnalysis, StudyAnalysis
 from .study import analyse_study
 
@@ -16,7 +16,7 @@ __all__ = [
     "StudyAnalysis",
     "analyse",
     "analyse_study",
-    "phase_names",
+    "period_names",
     "points_note",
     "values_brief",
     "values_note",

@@ -27,7 +27,7 @@ TEST_KIND = {
 }
 
 
-def compare_phases(
+def compare_periods(
     res: MetricAnalysis, stage: np.ndarray, values: np.ndarray, base: np.ndarray
 ) -> None:
     """The before/after test and the after points' shift against the baseline's median; *base*
@@ -80,11 +80,11 @@ def _compared(
         res.compared = res.counted = "individual values"
         return vv[vs == STAGE_BASELINE], vv[vs == STAGE_AFTER], None, None
     counts, sizes = pts["count"].to_numpy(float), pts["size"].to_numpy(float)
-    # each phase's totals: all its items checked, or all its area, pooled
+    # each period's totals: all its items checked, or all its area, pooled
     res.compared = (
-        "items checked, pooled over each phase"
+        "items checked, pooled over each period"
         if data.kind == "defectives"
-        else "defects over the area checked, pooled over each phase"
+        else "defects over the area checked, pooled over each period"
     )
     res.counted = "periods"  # n of these tests counts the periods pooled
     return counts[base], counts[after], sizes[base], sizes[after]
@@ -97,9 +97,9 @@ def _subject(name: str, kind: str) -> str:
 
 
 def capability_before_after(res: MetricAnalysis) -> None:
-    """Cpk of the baseline against Cpk of the after period, when both phases have one."""
-    if len(res.phase_histograms) > 1:
-        (_, _, cb), (_, _, ca) = res.phase_histograms[0], res.phase_histograms[-1]
+    """Cpk of the baseline against Cpk of the after period, when both periods have one."""
+    if len(res.period_histograms) > 1:
+        (_, _, cb), (_, _, ca) = res.period_histograms[0], res.period_histograms[-1]
         if cb is not None and ca is not None and cb.cpk is not None and ca.cpk is not None:
             res.capability_change = attempt(
                 res, "capability before and after", capability_change, cb, ca
@@ -108,7 +108,7 @@ def capability_before_after(res: MetricAnalysis) -> None:
 
 def after_sample(res: MetricAnalysis) -> None:
     """How many after points the comparison's test needs to detect the expected change, at its
-    5% level with 80% power, and the power the after phase has reached so far.
+    5% level with 80% power, and the power the after period has reached so far.
 
     Sizes are what the test counts: values (the period values of a rolled-up metric), items
     checked (defectives) or the area of opportunity (defects; each point counts 1 without a

@@ -1,4 +1,4 @@
-"""The figures the business reports (ppm, yields, DPMO, sigma level) per phase, from a metric's
+"""The figures the business reports (ppm, yields, DPMO, sigma level) per period, from a metric's
 totals or its capability study.
 
 They restate results already on the page in the business's own terms, so they are worked out
@@ -18,8 +18,8 @@ SHIFT = {"with-shift": True, "without-shift": False, "off": False}
 
 def business_figures(res: MetricAnalysis) -> None:
     """The figures the business reports, for the baseline and (with data) the after period:
-    from each phase's totals (defectives; defects counted on units, ``size``), or from the
-    phase's capability study (measured values with specification limits)."""
+    from each period's totals (defectives; defects counted on units, ``size``), or from the
+    period's capability study (measured values with specification limits)."""
     data, spec = res.data, res.data.spec
     shift = SHIFT[spec.sigma_level]
     if data.kind in ("defectives", "defects"):
@@ -48,8 +48,8 @@ def business_figures(res: MetricAnalysis) -> None:
             )
             if f is not None:
                 res.business.append((STAGE_NAMES[st], f))
-    elif res.phase_histograms:
-        for name, _, c in res.phase_histograms:
+    elif res.period_histograms:
+        for name, _, c in res.period_histograms:
             if c is not None:
                 f = attempt(res, "business figures", measured_figures, c, "overall", shift)
                 if f is not None:

@@ -1,5 +1,5 @@
 """A categories metric's displays: the Pareto and column chart of the baseline, and for the
-history page each phase's Pareto in one order and the change in mix between them.
+history page each period's Pareto in one order and the change in mix between them.
 
 Categories have no points in time to chart; they take none of the process metrics' run,
 control or distribution displays.
@@ -47,7 +47,7 @@ def analyse_categories(res: MetricAnalysis) -> None:
         order = after_order(res.pareto, pareto(cats[after], weights[after]))
         p = attempt(res, "history", pareto_in_order, cats[after], weights[after], order)
         if p is not None:
-            res.phase_paretos = [
+            res.period_paretos = [
                 (STAGE_NAMES[STAGE_BASELINE], res.pareto),
                 (STAGE_NAMES[STAGE_AFTER], p),
             ]
@@ -67,7 +67,7 @@ def analyse_categories(res: MetricAnalysis) -> None:
 def after_order(baseline: Pareto, after: Pareto) -> list[str]:
     """The after period's bar order: the baseline's (descending there), then the categories
     new in the after period, descending there (ties by name, as its own Pareto orders them);
-    a category named "other" (any case) stays last, as the Pareto by phase draws it."""
+    a category named "other" (any case) stays last, as the Pareto by period draws it."""
     seen = set(baseline.categories)
     order = list(baseline.categories) + [c for c in after.categories if c not in seen]
     last = [c for c in order if c.strip().lower() == "other"]

@@ -22,7 +22,7 @@ from ..stats.evidence import point_evidence
 from ..stats.results import ChartChoice, ControlChart, Signal, StatsError
 from ..vocab import PeriodKind
 from .attempt import attempt
-from .before_after import after_sample, capability_before_after, compare_phases
+from .before_after import after_sample, capability_before_after, compare_periods
 from .business import business_figures
 from .categories import analyse_categories
 from .results import AFTER_OWN_LIMITS_MIN, MetricAnalysis
@@ -31,7 +31,7 @@ from .values import value_displays
 
 def analyse(data: MetricData) -> MetricAnalysis:
     """Every statistic that fits the metric's data. The order matters: capability is judged
-    on the control chart's signals, the business figures come from the phases' capability."""
+    on the control chart's signals, the business figures come from the periods' capability."""
     res = MetricAnalysis(data)
     if data.kind == "categories":
         analyse_categories(res)
@@ -41,7 +41,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
     # labels are text already; read through numpy (iterating a pandas string column value by
     # value costs more than the rest of this function's bookkeeping)
     res.x = tuple(map(str, pts["label"].to_numpy(dtype=object).tolist()))
-    res.stage_names = phase_names(stage)
+    res.stage_names = period_names(stage)
     values = pts["value"].to_numpy(float)
     base = stage == STAGE_BASELINE
     _set_aside(res)
@@ -50,7 +50,7 @@ def analyse(data: MetricData) -> MetricAnalysis:
     _control_chart(res, stage)
     value_displays(res)
     # Before / after: the baseline without the points set aside, as its charts describe it.
-    compare_phases(res, stage, values, kept)
+    compare_periods(res, stage, values, kept)
     business_figures(res)
     capability_before_after(res)
     after_sample(res)
@@ -98,7 +98,7 @@ def _control_chart(res: MetricAnalysis, stage: np.ndarray) -> None:
     res.signals = tuple(rules.detect_signals(res.control, spec.signal_rules))
     if res.has_after and int((stage == STAGE_AFTER).sum()) >= AFTER_OWN_LIMITS_MIN:
         res.after_limits = attempt(
-            res, "history", _control, res.choice.kind, data, stage, "per-phase"
+            res, "history", _control, res.choice.kind, data, stage, "per-period"
         )
         if res.after_limits is not None:
             res.after_signals = (
@@ -110,8 +110,8 @@ def _control_chart(res: MetricAnalysis, stage: np.ndarray) -> None:
     )
 
 
-def phase_names(stage: np.ndarray) -> tuple[str, ...]:
-    """Each point's phase by its kind of period (``vocab.PeriodKind``), capitalised as the
+def period_names(stage: np.ndarray) -> tuple[str, ...]:
+    """Each point's period by its kind of period (``vocab.PeriodKind``), capitalised as the
     charts' bands name it: a point in neither period is "Before the baseline" before the first
     baseline point, "After the after period" past an after point, else "Between periods"."""
     names = list(map(STAGE_NAMES.__getitem__, stage.tolist()))
@@ -135,7 +135,7 @@ def phase_names(stage: np.ndarray) -> tuple[str, ...]:
 
 def _control(kind: str, data: MetricData, stage: np.ndarray, limits: str) -> ControlChart:
     """The control chart of *kind* on the metric's points, with *limits* from the baseline or
-    per phase."""
+    per period."""
     pts = data.points
     # points set aside are left out of every fit (the revised trial limits of phase I)
     aside = pts["aside"].to_numpy(bool) if "aside" in pts else None
@@ -192,5 +192,5 @@ def _choose(data: MetricData) -> ChartChoice:
 
 
 def _after_signals(chart: ControlChart, rule_set: str) -> tuple[Signal, ...]:
-    """Signals of the after phase's points against the after phase's own limits."""
+    """Signals of the after period's points against the after period's own limits."""
     return tuple(rules.detect_signals(chart, rule_set, only_stage=STAGE_AFTER))

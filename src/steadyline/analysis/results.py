@@ -37,7 +37,7 @@ from ..stats.results_studies import (
     PowerReached,
 )
 
-# Fewer than this many points in the after phase: its own limits are not drawn on the history
+# Fewer than this many points in the after period: its own limits are not drawn on the history
 # page (Montgomery ch. 6 wants 20-25 subgroups for trial limits, from memory; we accept 12 for a
 # first look at the new process, common practice).
 AFTER_OWN_LIMITS_MIN = 12
@@ -55,8 +55,8 @@ class MetricAnalysis:
     choice: ChartChoice | None = None
     control: ControlChart | None = None
     signals: tuple[Signal, ...] = ()
-    after_limits: ControlChart | None = None  # per-phase limits, for the history page
-    after_signals: tuple[Signal, ...] = ()  # after-phase points against the after_limits
+    after_limits: ControlChart | None = None  # per-period limits, for the history page
+    after_signals: tuple[Signal, ...] = ()  # after-period points against the after_limits
     # per point of the control chart and its companion: change against the carried baseline
     # limits, or instability on a period's own limits (the history page's staged chart)
     evidence: tuple[PointEvidence, PointEvidence | None] | None = None
@@ -68,14 +68,14 @@ class MetricAnalysis:
     column: tuple[tuple[str, ...], tuple[float, ...]] | None = None
     comparison: Comparison | None = None
     after_shift: RunChartAnalysis | None = None
-    phase_boxes: list[tuple[str, BoxSummary]] = field(default_factory=list)
-    phase_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
-    phase_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
+    period_boxes: list[tuple[str, BoxSummary]] = field(default_factory=list)
+    period_histograms: list[tuple[str, Histogram, Capability | None]] = field(default_factory=list)
+    period_paretos: list[tuple[str, Pareto]] = field(default_factory=list)
     category_scope: str = ""  # categories: what the Pareto counts, "baseline" or "all data"
     category_rows: int = 0  # categories: how many rows it counts
     failures: list[tuple[str, str]] = field(default_factory=list)  # (display, sentence)
     # what the before/after test compared, in words ("daily means", "individual values",
-    # "items checked, pooled over each phase"), and what its n counts ("daily means",
+    # "items checked, pooled over each period"), and what its n counts ("daily means",
     # "individual values", "periods"): said beside its figures on the history page
     compared: str = ""
     counted: str = ""
@@ -88,12 +88,12 @@ class MetricAnalysis:
     # the history page's studies: the change in mix of a categories metric, Cpk before vs after
     mix: MixChange | None = None
     capability_change: CapabilityChange | None = None
-    # the figures the business reports, per phase (baseline first, then after when it has data)
+    # the figures the business reports, per period (baseline first, then after when it has data)
     business: list[tuple[str, BusinessFigures]] = field(default_factory=list)
     # the after sample needed to detect spec.expected_change, and the power reached so far
     after_plan: AfterSamplePlan | None = None
     after_power: PowerReached | None = None
-    after_points: int = 0  # points of the after phase (what the plan's points are counted in)
+    after_points: int = 0  # points of the after period (what the plan's points are counted in)
 
     @property
     def spec(self) -> MetricSpec:

@@ -1,7 +1,7 @@
 """A measurement study's data -> its figures: the ANOVA study and the ranges by appraiser.
 
 A metric of type measurement-study is read by ``loading.load_study`` and analysed here, apart
-from the process metrics: it has no phases, no control chart of its own and no status.
+from the process metrics: it has no periods, no control chart of its own and no status.
 """
 
 from __future__ import annotations

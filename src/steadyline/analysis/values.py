@@ -1,5 +1,5 @@
 """The displays of a metric's individual values: the baseline's histogram, box plot, normality
-and capability, and for the history page each phase's, drawn on one set of bins.
+and capability, and for the history page each period's, drawn on one set of bins.
 
 Continuous and subgrouped data only. A rolled-up metric's charts judge period values, but these
 displays describe the single items, which the specification limits apply to.
@@ -21,7 +21,7 @@ from .results import AFTER_OWN_LIMITS_MIN, MetricAnalysis
 
 
 def value_displays(res: MetricAnalysis) -> None:
-    """The baseline's box plot, histogram, normality and capability, then each phase's; the
+    """The baseline's box plot, histogram, normality and capability, then each period's; the
     charts' signals (``res.signals``, ``res.after_signals``) must be known already, since
     capability is judged only on a stable process."""
     data, spec = res.data, res.data.spec
@@ -42,13 +42,13 @@ def value_displays(res: MetricAnalysis) -> None:
         res.normality = attempt(res, "capability", distribution.anderson_darling, vbase)
     if spec.spec_lower is not None or spec.spec_upper is not None:
         res.capability = _capability(res, vbase, STAGE_BASELINE, res.normality)
-    _phase_displays(res, vals, vstage)
+    _period_displays(res, vals, vstage)
 
 
-def _phase_displays(res: MetricAnalysis, vals: np.ndarray, vstage: np.ndarray) -> None:
-    """Each phase's box plot, histogram and capability, for the history page."""
+def _period_displays(res: MetricAnalysis, vals: np.ndarray, vstage: np.ndarray) -> None:
+    """Each period's box plot, histogram and capability, for the history page."""
     spec = res.data.spec
-    # One set of bins for every phase: the baseline's, extended on the same grid to cover
+    # One set of bins for every period: the baseline's, extended on the same grid to cover
     # the after values (given edges stay as given: the user chose their range).
     given = isinstance(spec.bins, tuple)
     grid = res.histogram.edges if res.histogram is not None else None
@@ -65,8 +65,8 @@ def _phase_displays(res: MetricAnalysis, vals: np.ndarray, vstage: np.ndarray) -
         else:
             b = attempt(res, "history", distribution.box_summary, sel, spec.quartiles)
         if b is not None:
-            res.phase_boxes.append((name, b))
-        h = _phase_histogram(res, sel, st, grid, given)
+            res.period_boxes.append((name, b))
+        h = _period_histogram(res, sel, st, grid, given)
         if spec.spec_lower is None and spec.spec_upper is None:
             c = None
         elif st == STAGE_BASELINE:
@@ -74,21 +74,21 @@ def _phase_displays(res: MetricAnalysis, vals: np.ndarray, vstage: np.ndarray) -
         else:
             c = _capability(res, sel, st)
         if h is not None:
-            res.phase_histograms.append((name, h, c))
+            res.period_histograms.append((name, h, c))
 
 
-def _phase_histogram(
+def _period_histogram(
     res: MetricAnalysis,
     sel: np.ndarray,
     stage: int,
     grid: tuple[float, ...] | None,
     given: bool,
 ) -> Histogram | None:
-    """One phase's histogram on the common *grid* (the baseline's bins, extended), its rule
+    """One period's histogram on the common *grid* (the baseline's bins, extended), its rule
     named as the baseline's."""
     base = res.histogram  # not None whenever grid is not None
     if stage == STAGE_BASELINE and base is not None and grid is not None and grid == base.edges:
-        return base  # the baseline's own bins serve every phase
+        return base  # the baseline's own bins serve every period
     h = attempt(
         res,
         "history",
@@ -117,7 +117,7 @@ def _sigma_within(res: MetricAnalysis, stage: int) -> float | None:
         return None  # sigma of rolled-up means is not the sigma of single values
     if stage == STAGE_BASELINE:
         return chart.process_sigma
-    # the per-phase chart fitted each stage on its own points and keeps each stage's sigma
+    # the per-period chart fitted each stage on its own points and keeps each stage's sigma
     sigma = chart.extras.get(f"process_sigma_stage_{stage}")
     return None if sigma is None else float(sigma)
 
@@ -155,8 +155,8 @@ def _capability(
 
 
 def _stability(res: MetricAnalysis, stage: int) -> tuple[bool, str | None]:
-    """Whether the control chart shows the phase stable, and if not, why: the baseline on its
-    own limits, a later phase on the limits of its own points (stable when there is no chart)."""
+    """Whether the control chart shows the period stable, and if not, why: the baseline on its
+    own limits, a later period on the limits of its own points (stable when there is no chart)."""
     chart = res.control
     if chart is not None and stage == STAGE_BASELINE:
         here = (np.asarray(chart.stage) == stage).tolist()  # per point: in this period
@@ -167,16 +167,16 @@ def _stability(res: MetricAnalysis, stage: int) -> tuple[bool, str | None]:
                 "in this period"
             )
     elif chart is not None:
-        # a later phase is judged on its own limits (those of the baseline would flag the
+        # a later period is judged on its own limits (those of the baseline would flag the
         # very change the project made)
         if res.after_limits is None:
             return False, (
-                f"the phase has too few points for limits of its own "
+                f"the period has too few points for limits of its own "
                 f"({AFTER_OWN_LIMITS_MIN} are needed), so its stability is not yet judged"
             )
         if res.after_signals:
             n = len(res.after_signals)
             return False, (
-                f"{n} signal{'' if n == 1 else 's'} against the phase's own control limits"
+                f"{n} signal{'' if n == 1 else 's'} against the period's own control limits"
             )
     return True, None

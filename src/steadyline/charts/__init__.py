@@ -2,13 +2,13 @@
 
 Each builder returns a :class:`ChartSpec` whose ``spec`` carries
 ``usermeta.steadyline.display`` naming the display: "run-chart", "control-chart",
-"histogram", "box-plot", "column-chart", "pareto", "pareto-by-phase",
+"histogram", "box-plot", "column-chart", "pareto", "pareto-by-period",
 "staged-control-chart", "study-components", "study-ranges", "study-measurements".
 """
 
 from .base.templates import clear_template_cache
 from .base.types import ChartSpec, SeriesContext
-from .categorical.by_phase import phase_pareto_chart
+from .categorical.by_period import period_pareto_chart
 from .categorical.column import column_chart
 from .categorical.pareto import pareto_chart
 from .distribution.box import box_chart
@@ -32,7 +32,7 @@ __all__ = [
     "measurements_chart",
     "pareto_chart",
     "ranges_chart",
-    "phase_pareto_chart",
+    "period_pareto_chart",
     "run_chart",
     "staged_control_chart",
 ]

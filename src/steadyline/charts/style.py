@@ -20,7 +20,7 @@ DATA = "#1f4e79"  # measured values: lines, points, main bars (L* 32)
 SIGNAL = "#e08a00"  # points taking part in a signal (L* 65)
 CENTRE = "#707070"  # centre line, solid (L* 47)
 LIMIT = "#707070"  # control limits, dashed (L* 47)
-OWN_LIMIT = "#262626"  # a later phase's own limits on the staged chart, solid (L* 15)
+OWN_LIMIT = "#262626"  # a later period's own limits on the staged chart, solid (L* 15)
 EVENT = "#7b5aa6"  # event rules, dotted (L* 45)
 SPEC = "#9a3412"  # specification limits on a histogram, dashed (L* 37)
 TARGET = INK  # target on a histogram, dotted
@@ -29,7 +29,7 @@ BOX_FILL = "#8fb3d9"  # box between the quartiles (L* 72)
 CURVE = "#c46a00"  # fitted normal curve, cumulative-percentage line (L* 54)
 VITAL = DATA  # vital-few bars on a Pareto chart, full opacity (L* 32)
 REMAINING = "#a9c6e4"  # remaining bars on a Pareto chart, lighter and translucent (L* 79)
-# On the control chart by phase: an after point judged against the baseline's limits and taking
+# On the control chart by period: an after point judged against the baseline's limits and taking
 # part in a signal there is evidence of a change, drawn in a shape and colour of its own with a
 # dark outline (the outline, L* 15, sets it apart from the signal diamond it may sit on, L* 65).
 CHANGE_BETTER = "#5cc39a"  # square (L* 72)
@@ -42,7 +42,7 @@ ASIDE = "#8c8c8c"  # (L* 58)
 GRID = "#e3e3e3"
 WHITE = "#ffffff"
 
-# Phase backgrounds: one fill per kind of period, the same on every chart, whatever the order
+# Period backgrounds: one fill per kind of period, the same on every chart, whatever the order
 # of the periods (the kinds in time order; kept very light, L* 94 to 97, so that points and
 # lines read on every one; the band's name is printed on it and in the legend, so the fill
 # never carries the meaning alone).

@@ -232,6 +232,26 @@ def _bins(r: Reader, m: dict, settings: PortfolioSettings) -> str | tuple[float,
     return tuple(float(x) for x in v)
 
 
+# The code ``limits`` had before "phase" was kept for the project's stage in the improvement
+# cycle (steadyline-results/2 and earlier): still read, with a warning that names the new one.
+_OLDER_LIMIT_CODES = {"per-phase": "per-period"}
+
+
+def _limits(r: Reader) -> str:
+    """``limits``; an older code is read as the code that replaced it, with a warning."""
+    v = r.data.get("limits")
+    if isinstance(v, str) and v in _OLDER_LIMIT_CODES:
+        new = _OLDER_LIMIT_CODES[v]
+        r.ck.add(
+            f"{r.prefix}limits",
+            f"{v!r} is the older name of {new!r}; read as {new!r} (write {new!r} to keep this quiet)",
+            r._line("limits"),
+            severity="warning",
+        )
+        return new
+    return r.choice("limits", LIMIT_MODES, "baseline")
+
+
 def _plain_keys(r: Reader, settings: PortfolioSettings) -> dict[str, Any]:
     """The keys read on their own, with their defaults (the portfolio's where it has one)."""
     return {
@@ -243,7 +263,7 @@ def _plain_keys(r: Reader, settings: PortfolioSettings) -> dict[str, Any]:
         "chart": r.choice("chart", CHARTS, "auto"),
         "signal_rules": r.choice("signal_rules", SIGNAL_RULES, settings.signal_rules),
         "run_rules": r.choice("run_rules", RUN_RULES, settings.run_rules),
-        "limits": r.choice("limits", LIMIT_MODES, "baseline"),
+        "limits": _limits(r),
         "quartiles": r.choice("quartiles", QUARTILE_METHODS, settings.quartiles),
         "normal_curve": r.boolean("normal_curve"),
         "opportunities_per_unit": r.number("opportunities_per_unit"),

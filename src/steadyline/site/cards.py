@@ -30,7 +30,7 @@ _KIND_ORDER = {"signal": 0, "clear": 2}
 def shown_findings(findings, limit: int = FINDINGS_SHOWN) -> tuple[list, int]:
     """The findings a card shows, in :func:`order_findings`'s order, and how many it leaves to
     its data table. Short of room, the sentences that name a signal's points are left out
-    (last first), never one that counts or sums up (a phase's signals, the evidence of a
+    (last first), never one that counts or sums up (a period's signals, the evidence of a
     change): the table names every point, but not those sums."""
     ordered = order_findings(findings)
     keep = [not f.names_points for f in ordered]
@@ -50,7 +50,7 @@ def shown_findings(findings, limit: int = FINDINGS_SHOWN) -> tuple[list, int]:
 
 def order_findings(findings) -> list:
     """A card's findings, most important first: signals of instability by the date of the
-    first point they name (a sentence that counts a phase's signals before the sentences on
+    first point they name (a sentence that counts a period's signals before the sentences on
     them), then evidence of a change in the order given, then the all-clear sentences."""
 
     def key(item):

@@ -95,7 +95,7 @@ def _outside(ppm: float | None) -> str:
 def capability_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
     """Capability of the baseline and the after period side by side: the indices with their
     intervals, the expected share outside and the expected yield (one table, said once)."""
-    caps = [(n, c) for n, _, c in a.phase_histograms if c is not None]
+    caps = [(n, c) for n, _, c in a.period_histograms if c is not None]
     if len(caps) < 2:
         return []
     (_, b), (_, f) = caps[0], caps[-1]
@@ -140,8 +140,8 @@ def capability_sentence(a: MetricAnalysis) -> str:
         beyond = "the 95% intervals overlap, so the change is not shown beyond them"
     else:
         beyond = "the 95% intervals do not overlap: the change is beyond them"
-    caps = [c for _, _, c in a.phase_histograms if c is not None]
-    # which period's Cpk is not to be trusted, in a clause: the reasons are each phase's
+    caps = [c for _, _, c in a.period_histograms if c is not None]
+    # which period's Cpk is not to be trusted, in a clause: the reasons are each period's
     # block's own (said there, once)
     doubt = [
         name for name, c in (("baseline", caps[0]), ("after period", caps[-1])) if not c.trustworthy
@@ -149,7 +149,7 @@ def capability_sentence(a: MetricAnalysis) -> str:
     trust = (
         ""
         if not doubt
-        else " Neither Cpk is to be trusted yet, nor its interval (the phases' blocks below "
+        else " Neither Cpk is to be trusted yet, nor its interval (the periods' blocks below "
         "say why)."
         if len(doubt) == 2
         else f" The {doubt[0]}'s Cpk is not to be trusted yet, nor its interval (its block "
@@ -164,7 +164,7 @@ def capability_sentence(a: MetricAnalysis) -> str:
 def capability_note(a: MetricAnalysis) -> str:
     """What the capability table's figures rest on, said once under it."""
     note = (
-        "Expected shares and yields assume a normal distribution; each phase's block below "
+        "Expected shares and yields assume a normal distribution; each period's block below "
         "says whether its figures can be trusted."
     )
     if a.spec.sigma_level != "off" and any(f.kind == "measured" for _, f in a.business):

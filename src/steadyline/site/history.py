@@ -10,7 +10,7 @@ from ..charts import (
     SeriesContext,
     box_chart,
     histogram_chart,
-    phase_pareto_chart,
+    period_pareto_chart,
     staged_control_chart,
 )
 from ..charts.base import fmt as chart_fmt
@@ -67,7 +67,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
         else fmt(c.change, unit, 4).replace("-", "−")
     )
     # what the test compared: the period values of a rolled-up metric, else the individual
-    # values, or each phase's items or area pooled (n then counts the periods)
+    # values, or each period's items or area pooled (n then counts the periods)
     what = a.counted or ("values" if c.measure in ("mean", "median") else "periods")
     rows = [
         (
@@ -104,7 +104,7 @@ def comparison_rows(a: MetricAnalysis) -> list[tuple[str, str, str]]:
             (
                 "Sustained shift",
                 "yes" if sh.signals else "no",
-                "after-phase points against the baseline median "
+                "after-period points against the baseline median "
                 + (
                     proportion_text(sh.median, proportion_unit(unit), lambda v: fmt(v, "", 3))
                     if a.effective_type == "defectives"
@@ -144,16 +144,16 @@ def change_evidence_json(evidence, chart, x) -> list[dict]:
 
 def after_note(a: MetricAnalysis) -> str:
     """The sentence that stands where a metric has no comparison table: true to the charts
-    beside it (a category metric with after data has a Pareto of each phase, not a test)."""
+    beside it (a category metric with after data has a Pareto of each period, not a test)."""
     if a.comparison is not None:
         return ""
     if not a.has_after:
         return (
-            "No after period with data yet: the comparison appears once the after phase has data."
+            "No after period with data yet: the comparison appears once the after period has data."
         )
-    if len(a.phase_paretos) > 1:
+    if len(a.period_paretos) > 1:
         after = int(a.in_after.sum())
-        (b_name, b), (f_name, f) = a.phase_paretos[0], a.phase_paretos[-1]
+        (b_name, b), (f_name, f) = a.period_paretos[0], a.period_paretos[-1]
 
         def counted(p, rows: int) -> str:  # rows tell more only when each row has a weight
             total = fmt(p.total, a.spec.unit or ("values" if a.spec.count is None else ""), 4)
@@ -161,7 +161,7 @@ def after_note(a: MetricAnalysis) -> str:
 
         why = "; ".join(msg for disp, msg in a.failures if disp == "change in mix")
         return (
-            f"Categories are compared by their Pareto charts below, phase by phase, with no "
+            f"Categories are compared by their Pareto charts below, period by period, with no "
             f"test of the change{f' ({why})' if why else ''}: the {b_name.lower()} counts "
             f"{counted(b, a.category_rows)}, the {f_name.lower()} period "
             f"{counted(f, after)}."
@@ -187,11 +187,11 @@ def history_section(
     if a.control is not None and a.effective_type != "categories":
         assert sctx is not None  # a time series has its layout
         staged_card(d, a, sctx, result)
-    if len(a.phase_boxes) > 1:
-        phase_box_card(d, a, result)
-    caps = phase_histogram_cards(d, a, result)
-    if len(a.phase_paretos) > 1:
-        phase_pareto_card(d, a, result)
+    if len(a.period_boxes) > 1:
+        period_box_card(d, a, result)
+    caps = period_histogram_cards(d, a, result)
+    if len(a.period_paretos) > 1:
+        period_pareto_card(d, a, result)
     if a.comparison is not None:
         result["comparison"] = a.comparison
     if a.after_shift is not None:
@@ -210,7 +210,7 @@ def history_section(
     if len(a.business) > 1:
         result["business"] = {name: business_json(f, m.sigma_level) for name, f in a.business}
     if cap_rows:
-        # the indices are said once, in the table side by side: the phases' blocks keep
+        # the indices are said once, in the table side by side: the periods' blocks keep
         # their verdict, drawing and basis
         for c in caps:
             c["view"] = c["view"] | {"tiles": []}
@@ -236,26 +236,26 @@ def history_section(
 
 STAGED_METHOD_OWN = (
     "Baseline limits carried forward over the later points (dashed), and "
-    "the after phase's own centre line and limits over the after phase "
+    "the after period's own centre line and limits over the after period "
     "(solid). A later point in a signal against the baseline limits is "
     "evidence of a change, marked by its direction; a point in a signal on "
-    "its own period's limits (the baseline's, or the after phase's own) is "
+    "its own period's limits (the baseline's, or the after period's own) is "
     "marked with the signal diamond: that period is not yet stable."
 )
 STAGED_METHOD_CARRIED = (
     "Baseline limits carried forward over the later points (dashed). A later "
     "point in a signal against them is evidence of a change, marked by its "
     "direction; a baseline point in a signal on the baseline's limits is "
-    "marked with the signal diamond. The after phase has too few points "
+    "marked with the signal diamond. The after period has too few points "
     "for limits of its own, so its stability is not judged."
 )
 
 
 def staged_card(d: Displays, a: MetricAnalysis, sctx: SeriesContext, result: dict) -> None:
-    """The control chart by phase. Points outside the baseline are judged against the
+    """The control chart by period. Points outside the baseline are judged against the
     baseline limits carried forward (a.signals): a signal there is evidence of a change,
     marked by its direction; points in signals on their own period's limits (the baseline's,
-    the after phase's own: a.after_signals) are marked as instability (a.evidence tells the
+    the after period's own: a.after_signals) are marked as instability (a.evidence tells the
     two apart)."""
     control, evidence = a.control, a.evidence
     assert control is not None and evidence is not None  # made together (analysis)
@@ -268,7 +268,7 @@ def staged_card(d: Displays, a: MetricAnalysis, sctx: SeriesContext, result: dic
         findings += advice.own_limit_findings(a.after_signals, a.x)
     d.add(
         "staged-control",
-        "Control chart by phase",
+        "Control chart by period",
         chart,
         findings=findings,
         method=(STAGED_METHOD_OWN if own else STAGED_METHOD_CARRIED) + by_period_text(a),
@@ -282,31 +282,31 @@ def staged_card(d: Displays, a: MetricAnalysis, sctx: SeriesContext, result: dic
     if own:
         staged["after_chart"] = a.after_limits
         staged["after_signals"] = signals_json(a.after_signals, a.x)
-    result["staged_control_chart"] = staged
+    result["control_chart_by_period"] = staged
 
 
-def phase_box_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
-    """The box plots of every phase on one scale."""
+def period_box_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
+    """The box plots of every period on one scale."""
     m = a.spec
-    note = values_note(m, sum(b.n for _, b in a.phase_boxes))
-    brief = values_brief(m, sum(b.n for _, b in a.phase_boxes))
-    chart = box_chart(a.phase_boxes, unit=m.unit, measure=m.name, note=brief)
+    note = values_note(m, sum(b.n for _, b in a.period_boxes))
+    brief = values_brief(m, sum(b.n for _, b in a.period_boxes))
+    chart = box_chart(a.period_boxes, unit=m.unit, measure=m.name, note=brief)
     d.add(
-        "phase-box",
-        "Box plots by phase" + (", individual values" if note else ""),
+        "period-box",
+        "Box plots by period" + (", individual values" if note else ""),
         chart,
-        method=(f"{note} " if note else "") + "Both phases on one scale; "
-        f"quartiles by {a.phase_boxes[0][1].method_label}.",
+        method=(f"{note} " if note else "") + "Both periods on one scale; "
+        f"quartiles by {a.period_boxes[0][1].method_label}.",
     )
-    result["box_plots"] = {name: box_json(b) for name, b in a.phase_boxes}
+    result["box_plots"] = {name: box_json(b) for name, b in a.period_boxes}
 
 
-def phase_histogram_cards(d: Displays, a: MetricAnalysis, result: dict) -> list[dict]:
-    """A histogram of each phase (when there is more than one), and each phase's capability
+def period_histogram_cards(d: Displays, a: MetricAnalysis, result: dict) -> list[dict]:
+    """A histogram of each period (when there is more than one), and each period's capability
     block."""
     m = a.spec
     caps = []
-    for name, h, c in a.phase_histograms if len(a.phase_histograms) > 1 else []:
+    for name, h, c in a.period_histograms if len(a.period_histograms) > 1 else []:
         note = values_note(m, h.n)
         brief = values_brief(m, h.n)
         chart = histogram_chart(
@@ -324,38 +324,38 @@ def phase_histogram_cards(d: Displays, a: MetricAnalysis, result: dict) -> list[
             key,
             f"Histogram, {name.lower()}" + (", individual values" if note else ""),
             chart,
-            method=(f"{note} " if note else "") + "Same bin edges in every phase.",
+            method=(f"{note} " if note else "") + "Same bin edges in every period.",
         )
         if c is not None:
             caps.append(
                 {
-                    "phase": name,
+                    "period": name,
                     "view": capability_view(c, m.unit),
                     "trustworthy": c.trustworthy,
                     "reasons": list(c.reasons),
                     "verdict": advice.capability_verdict(c),
                 }
             )
-    if len(a.phase_histograms) > 1:
-        result["histograms"] = {name: h for name, h, _ in a.phase_histograms}
-        result["capability"] = {name: c for name, _, c in a.phase_histograms if c}
+    if len(a.period_histograms) > 1:
+        result["histograms"] = {name: h for name, h, _ in a.period_histograms}
+        result["capability"] = {name: c for name, _, c in a.period_histograms if c}
     return caps
 
 
-def phase_pareto_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
-    """The Pareto chart of every phase, categories in the baseline's order."""
-    chart = phase_pareto_chart(a.phase_paretos)
+def period_pareto_card(d: Displays, a: MetricAnalysis, result: dict) -> None:
+    """The Pareto chart of every period, categories in the baseline's order."""
+    chart = period_pareto_chart(a.period_paretos)
     d.add(
-        "phase-pareto",
-        "Pareto by phase, categories in the same order",
+        "period-pareto",
+        "Pareto by period, categories in the same order",
         chart,
         method="Categories keep the baseline's order (largest first there) in every "
-        "phase, so shrinking bars show which causes the improvement removed; "
+        "period, so shrinking bars show which causes the improvement removed; "
         "categories new after the baseline follow, largest first.",
     )
-    n_gathered = gathered(len(common_order(a.phase_paretos)))
+    n_gathered = gathered(len(common_order(a.period_paretos)))
     result["paretos"] = {
-        name: pareto_json(p) | {"gathered_categories": n_gathered} for name, p in a.phase_paretos
+        name: pareto_json(p) | {"gathered_categories": n_gathered} for name, p in a.period_paretos
     }
 
 

@@ -89,7 +89,7 @@ def control_card(
     chart = control_chart(ctx, control, a.signals)
     secondary = control.secondary.kind if control.secondary is not None else None
     title = "Control chart: " + control_chart_kind(control.kind, secondary).label
-    limits = "the baseline, carried forward" if m.limits == "baseline" else "each phase separately"
+    limits = "the baseline, carried forward" if m.limits == "baseline" else "each period separately"
     d.add(
         "control",
         title,

@@ -47,12 +47,13 @@ def result_head(a: MetricAnalysis) -> dict:
 
 
 def points_json(a: MetricAnalysis, ctx: SeriesContext) -> dict:
-    """A time series' points: label, period, plotted value and phase of each."""
+    """A time series' points: label, time (the day, or the date and time, of each point), plotted
+    value and kind of period (baseline, after ...) of each."""
     return {
         "label": list(a.x),
         "period": list(ctx.x),
         "value": a.point_values,
-        "stage": [s for s in a.stage_names],
+        "period_kind": list(a.stage_names),
     }
 
 

@@ -37,7 +37,7 @@ __all__ = [
     "project_view",
 ]
 
-RESULTS_SCHEMA = "steadyline-results/2"
+RESULTS_SCHEMA = "steadyline-results/3"
 
 Loaded = MetricAnalysis | StudyAnalysis | NotBuilt
 
@@ -60,7 +60,7 @@ def project_outcome(
     files: dict[str, bytes] = {}
     analyses = [a for a in loaded if isinstance(a, MetricAnalysis)]
     not_built = [b for b in loaded if isinstance(b, NotBuilt)]
-    has_history = any(a.has_after or a.phase_paretos for a in analyses)
+    has_history = any(a.has_after or a.period_paretos for a in analyses)
     parts = _metric_parts(spec, loaded, problems, files, has_history)
     sections, results, history_sections, history_results = parts
     notes_html = _notes_html(spec, root)

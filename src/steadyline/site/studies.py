@@ -6,7 +6,7 @@ are in :mod:`steadyline.site.change_studies`.
 Each figure is said once: the project page's facts carry the baseline's business figures and
 after-sample plan (a measured metric's expected yield sits in its fit-to-specification block,
 beside the expected share outside that it is the complement of); the history page's tables carry
-each figure before and after, and the capability table there replaces the per-phase blocks'
+each figure before and after, and the capability table there replaces the per-period blocks'
 index tiles. The words of the sigma level's convention are here only.
 """
 
@@ -163,7 +163,7 @@ def business_note(a: MetricAnalysis) -> str:
 
 
 def business_json(f: BusinessFigures, setting: str) -> dict:
-    """One phase's business figures in results.json; the sigma level only when shown."""
+    """One period's business figures in results.json; the sigma level only when shown."""
     out = plain(f)
     out["yield"] = out.pop("yield_")
     if setting == "off":

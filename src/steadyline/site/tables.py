@@ -122,7 +122,7 @@ def _csv_cells(values: list) -> list[str]:
                 add(str(int(v)))
             else:
                 add(repr(v))
-        elif type(v) is str:  # dates, phases, "yes"/"no", signals: mostly repeated
+        elif type(v) is str:  # dates, periods, "yes"/"no", signals: mostly repeated
             t = memo.get(v)
             if t is None:
                 t = memo[v] = _csv_field(safe_cell(v))
@@ -137,7 +137,7 @@ _STARTS_FORMULA = operator.methodcaller("startswith", _FORMULA_START)
 
 
 def _plain_text_column(values) -> bool:
-    """Whether every cell is text that goes into the CSV as it is (dates, phase names): no
+    """Whether every cell is text that goes into the CSV as it is (dates, period names): no
     formula start, nothing to quote. Checked in bulk instead of cell by cell; a tuple (the
     dates of a series, shared by its charts' tables) is checked once."""
     if type(values) is tuple:
@@ -210,7 +210,7 @@ def _html_cells(values: list) -> list[str]:
     ``{{ _cell(v) }}`` writes); numbers, formatted by :func:`fmt`, need no escaping."""
     if len(values) >= _BULK_MIN and _number_column(values):
         return _html_numbers(values)
-    if set(map(type, values)) == _STR_ONLY:  # dates, labels, phases, signals
+    if set(map(type, values)) == _STR_ONLY:  # dates, labels, periods, signals
         if _HTML_SPECIAL.search("".join(values)) is None:
             return values  # nothing to escape
         return [str(escape(v)) for v in values]

@@ -1,7 +1,7 @@
 """The binomial distribution and the exact two-sided binomial test, without importing scipy.
 
 Used by the exact test for two Poisson rates in :mod:`steadyline.stats.compare` (given the total
-count, the after-phase count is binomial). The tests check every value against
+count, the after-period count is binomial). The tests check every value against
 ``scipy.stats.binom`` and ``scipy.stats.binomtest`` (tests/stats/test_binomial.py).
 
 - ``pmf(x, n, p)`` by the saddle-point form (Loader 2000, "Fast and accurate computation of

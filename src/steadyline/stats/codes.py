@@ -62,7 +62,7 @@ class LimitMode(StrEnum):
     each period's own."""
 
     BASELINE = "baseline"
-    PER_PHASE = "per-phase"
+    PER_PERIOD = "per-period"
 
 
 class Better(StrEnum):

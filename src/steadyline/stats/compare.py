@@ -1,7 +1,7 @@
 """Baseline versus after: how much did the metric change, and could chance explain it?
 
 Tests (all two-sided):
-- ``continuous``: Welch's t-test on the means (Welch 1947) when each phase either has at least
+- ``continuous``: Welch's t-test on the means (Welch 1947) when each period either has at least
   30 values (common practice: the mean is then close to normally distributed) or passes the
   Anderson–Darling test at 5% (which needs at least 8 values); otherwise the Mann–Whitney U
   test (scipy's default exact/asymptotic choice) with the medians as the measure.
@@ -9,18 +9,18 @@ Tests (all two-sided):
   ``scipy.stats.ttest_ind(equal_var=False)``, with the t tail from
   :func:`steadyline.stats.special.t_two_sided`), so the common path needs no scipy; only the
   Mann–Whitney test imports scipy.stats, when it is used.
-- ``defectives``: two-proportion z-test with the pooled proportion, on (Σd, Σn) per phase.
+- ``defectives``: two-proportion z-test with the pooled proportion, on (Σd, Σn) per period.
   ``baseline`` / ``after`` are defective counts; ``baseline_sizes`` / ``after_sizes`` the
   numbers inspected.
 - ``defects``: exact conditional test for two Poisson rates: given the total count C, the
-  after-phase count is Binomial(C, e_after / (e_baseline + e_after)) under equal rates; the
+  after-period count is Binomial(C, e_after / (e_baseline + e_after)) under equal rates; the
   two-sided p-value sums the probabilities no larger than that of the observed count
   (as scipy.stats.binomtest; computed by :func:`steadyline.stats.binomial.two_sided_p`).
   ``baseline_sizes`` / ``after_sizes`` are the areas of opportunity (units, hours...), 1 per
   value when not given.
 
 ``statistic`` is signed as after minus baseline where it has a sign (t, z); for
-Mann–Whitney it is U of the after phase; for the exact rate test it is the rate ratio
+Mann–Whitney it is U of the after period; for the exact rate test it is the rate ratio
 after / baseline.
 
 ``improved`` reports direction only (lower / higher as wanted, or closer to the target);
@@ -99,7 +99,7 @@ def welch_t_test(a: np.ndarray, b: np.ndarray) -> tuple[float, float, float]:
 
     t = (mean a - mean b) / sqrt(v_a/n_a + v_b/n_b) with the n - 1 variances and
     df = (v_a/n_a + v_b/n_b)^2 / ((v_a/n_a)^2/(n_a - 1) + (v_b/n_b)^2/(n_b - 1)) (Welch 1947;
-    Satterthwaite 1946). Each phase needs at least two values and one of them some spread.
+    Satterthwaite 1946). Each period needs at least two values and one of them some spread.
     """
     a = np.asarray(a, dtype=float)
     b = np.asarray(b, dtype=float)
@@ -135,7 +135,7 @@ def compare(
     metric: str | None = None,
     unit: str = "",
 ) -> Comparison:
-    """Compare the after phase with the baseline; see the module docstring for the tests.
+    """Compare the after period with the baseline; see the module docstring for the tests.
 
     ``metric`` names the measure in the sentence ("weekly error rate"); ``unit`` is appended to
     continuous values and rates ("min", "per 1,000 bed-days").
@@ -154,7 +154,7 @@ def compare(
     if data_type == "continuous":
         if len(b) < 2 or len(a) < 2:
             raise StatsError(
-                f"comparing continuous data needs at least two values in each phase, got "
+                f"comparing continuous data needs at least two values in each period, got "
                 f"{len(b)} and {len(a)}"
             )
         ok_b = len(b) >= LARGE_SAMPLE or _looks_normal(b)
@@ -177,7 +177,7 @@ def compare(
     else:
         nb, na = len(b), len(a)
         if nb == 0 or na == 0:
-            raise StatsError("each phase needs at least one count to compare")
+            raise StatsError("each period needs at least one count to compare")
         if np.any(b < 0) or np.any(a < 0):
             raise StatsError("counts must not be negative")
         sb = _sizes(baseline_sizes, nb, data_type, "baseline")
@@ -276,7 +276,7 @@ def _sentence(
         suffix = f" {unit}" if unit else ""
         fb, fa = _fmt(vb) + suffix, _fmt(va) + suffix
     if va == vb:
-        head = f"{subject} did not change ({fb} in both phases)"
+        head = f"{subject} did not change ({fb} in both periods)"
     else:
         verb = "rose" if va > vb else "fell"
         pct_txt = f" ({_signed_pct(pct)}%)" if pct is not None else ""

@@ -1,7 +1,7 @@
-"""What each point of a control chart by phase shows: evidence of a change, or instability.
+"""What each point of a control chart by period shows: evidence of a change, or instability.
 
 A point judged against limits computed from its own period (the baseline on the baseline's
-limits, a later phase on its own limits) that takes part in a signal says that period's process
+limits, a later period on its own limits) that takes part in a signal says that period's process
 is not stable. A point of another period judged against the baseline's limits carried forward
 that takes part in a signal says something else: it no longer fits the baseline process, which
 is the evidence of a change the project set out to make (or of one it did not want). The two
@@ -46,7 +46,7 @@ class PointEvidence:
     change:   per point "better" / "worse" / "not judged" where a carried point takes part in
               a signal against the baseline's limits, else "" (an array of str objects).
     unstable: the point takes part in a signal on limits of its own period (a baseline point on
-              the baseline's limits, a later point on that phase's own limits).
+              the baseline's limits, a later point on that period's own limits).
     """
 
     carried: np.ndarray
@@ -133,7 +133,7 @@ def point_evidence(
     """Evidence per point of ``chart`` (baseline limits carried forward) and of its companion.
 
     signals:     found on ``chart`` (against the baseline's limits where carried);
-    own_signals: found on the later phases' own limits (``only_stage`` of the after phase), in
+    own_signals: found on the later periods' own limits (``only_stage`` of the after period), in
                  the same indexing as ``chart`` and its companion.
 
     >>> from steadyline.stats.control import individuals
@@ -166,7 +166,7 @@ def point_evidence(
 
 
 def change_counts(evidence: PointEvidence, stage, values, of_stage: int = 1) -> dict[str, int]:
-    """Of one phase's drawn points (``of_stage``, default the after phase; with a value) of
+    """Of one period's drawn points (``of_stage``, default the after period; with a value) of
     one chart: how many there are ("points") and how many are marked as evidence of a change
     in each direction ("better", "worse", "not judged").
 

@@ -15,7 +15,7 @@ Definitions used here:
   (from memory), not a law.
 - ``max_bars`` limits the number of bars including the catch-all: the largest
   ``max_bars − 1`` categories are kept and the rest are added into the catch-all.
-- A grand total of zero (e.g. a phase with no defects) gives percentages of 0 and no vital few.
+- A grand total of zero (e.g. a period with no defects) gives percentages of 0 and no vital few.
 """
 
 from __future__ import annotations
@@ -143,11 +143,11 @@ def pareto_in_order(
     threshold: float = 80.0,
     other_label: str = "Other",
 ) -> Pareto:
-    """Pareto with a fixed category order, e.g. the baseline order for every later phase.
+    """Pareto with a fixed category order, e.g. the baseline order for every later period.
 
     Categories in ``order`` that do not occur get a total of 0. Categories that occur but are
     not in ``order`` are added into ``other_label`` when it is in ``order``; otherwise they are
-    an error. ``vital_few`` follows the module definition (ranked by this phase's totals).
+    an error. ``vital_few`` follows the module definition (ranked by this period's totals).
     """
     _check_threshold(threshold)
     order = [str(c) for c in order]

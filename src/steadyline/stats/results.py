@@ -50,7 +50,7 @@ class ControlChart:
     """A control chart: the plotted statistic with its centre line and limits per point.
 
     All arrays have one entry per plotted point. Limits may vary per point (stepped p / u
-    limits, variable subgroup sizes, limits recomputed per phase); a missing limit is nan
+    limits, variable subgroup sizes, limits recomputed per period); a missing limit is nan
     (e.g. an LCL that does not exist).
 
     kind:          "individuals", "moving-range", "xbar", "range", "stdev", "p", "np", "c", "u",

@@ -12,7 +12,7 @@ Rule sets and their sources:
 - ``"limits-only"``: only the point-beyond-the-limits test.
 
 Zones are measured per point as z = (value - centre) / sigma, using the chart's own per-point
-centre and sigma, so stepped limits (variable n, per-phase limits) work unchanged. The
+centre and sigma, so stepped limits (variable n, per-period limits) work unchanged. The
 beyond-limits test compares with the chart's drawn limits (which may be truncated at 0 or 1).
 
 Conventions (explicit, see the constants below):
@@ -23,7 +23,7 @@ Conventions (explicit, see the constants below):
 - Equal consecutive values (ties) break a steady rise or fall and an up-and-down alternation.
 - Points whose value, centre or sigma is nan (no limits, dropped points, the first moving
   range) are skipped: they are left out of the sequence and patterns join across them.
-- Patterns never span a change of stage; each stage is examined on its own.
+- Patterns never span a change of period; each stage is examined on its own.
 - The "within 1σ" and "beyond 1σ" runs of the Nelson set count points on either side of the
   centre line; they do not require both sides to appear.
 - Overlapping detections of the same rule and side are merged into one signal whose indices

@@ -345,7 +345,7 @@ def shift_against(
     reference_median: float,
     rule_set: str = "anhoj",
 ) -> RunChartAnalysis:
-    """Judge (after-phase) values against a fixed reference median, e.g. the baseline median.
+    """Judge (after-period) values against a fixed reference median, e.g. the baseline median.
 
     Returns the run analysis against that median keeping only the signals that speak of a
     shift in level: long runs / shifts and too few crossings or runs. Trends and "too many

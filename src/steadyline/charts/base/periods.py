@@ -1,4 +1,4 @@
-"""Phases of a series drawn as background bands, each filled by its kind of period (before,
+"""Periods of a series drawn as background bands, each filled by its kind of period (before,
 baseline, between, after, later) and named in a legend.
 """
 
@@ -26,14 +26,14 @@ def stage_runs(stages: Sequence[_Name]) -> list[tuple[int, int, _Name]]:
     return [(a, b, stages[a]) for a, b in zip(starts, ends, strict=True)]
 
 
-# Phase names that say their kind of period; any other name is placed by where it lies.
+# Period names that say their kind of period; any other name is placed by where it lies.
 _KIND_OF_STAGE = {"Baseline": style.PERIOD_BASELINE, "After": style.PERIOD_AFTER}
 
 
 def period_kinds(names: Sequence[str]) -> list[str]:
-    """The kind of period (``style.PERIOD_KINDS``) of each contiguous phase, in order: the
-    baseline and after phases by name, any other phase by where it lies: before the first
-    baseline phase, after an after phase, else between the periods."""
+    """The kind of period (``style.PERIOD_KINDS``) of each contiguous period, in order: the
+    baseline and after periods by name, any other period by where it lies: before the first
+    baseline period, after an after period, else between the periods."""
     kinds = [_KIND_OF_STAGE.get(n, "") for n in names]
     seen_baseline = seen_after = False
     out = []
@@ -53,7 +53,7 @@ def period_kinds(names: Sequence[str]) -> list[str]:
 
 
 def band_rows(xa: XAxis, stages: Sequence[str]) -> list[dict]:
-    """Background bands, one per contiguous phase, each filled by its kind of period
+    """Background bands, one per contiguous period, each filled by its kind of period
     (``style.PERIOD_FILLS``, through the band layer's scale) and named by it."""
     runs = stage_runs(stages)
     if not runs or (len(runs) == 1 and not runs[0][2]):
@@ -83,7 +83,7 @@ def band_values(bands: Sequence[dict]) -> dict:
 
 
 def band_layers(is_time: bool, legend: bool = True) -> list[dict]:
-    """Phase background bands, filled by kind of period and named in a legend ("period"),
+    """Period background bands, filled by kind of period and named in a legend ("period"),
     with their names at the top left. A chart beneath another (the dispersion chart of a
     control chart) draws the same bands under the same legend."""
     x = x_encoding(is_time)

@@ -17,7 +17,7 @@ class SeriesContext:
 
     x:         per point an ISO date 'YYYY-MM-DD' (or ISO datetime) when x_is_time, else a label.
     x_is_time: whether x holds dates.
-    stage:     per point the phase name ("Baseline", "After"), "" if none.
+    stage:     per point the period name ("Baseline", "After"), "" if none.
     segment:   per point a segment number; lines never join across segments (gaps in periods).
     unit:      e.g. "hours", "" if none.
     metric_name: the metric's display name.

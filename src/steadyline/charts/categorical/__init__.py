@@ -1,9 +1,9 @@
-"""Counts by category: column chart, Pareto chart, and Pareto charts by phase.
+"""Counts by category: column chart, Pareto chart, and Pareto charts by period.
 
 The names code elsewhere imports from here; each lives in the module of its concern.
 """
 
-from .by_phase import common_order, phase_pareto_chart
+from .by_period import common_order, period_pareto_chart
 from .categories import MAX_BARS, gathered
 from .column import column_chart
 from .pareto import pareto_chart
@@ -14,5 +14,5 @@ __all__ = [
     "common_order",
     "gathered",
     "pareto_chart",
-    "phase_pareto_chart",
+    "period_pareto_chart",
 ]

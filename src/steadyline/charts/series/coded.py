@@ -104,7 +104,7 @@ def _pairs(a: np.ndarray, b: np.ndarray, b_size: int) -> tuple[np.ndarray, list[
 
 
 def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
-    """The limits text per point, with the after phase's own limits added where ``after``:
+    """The limits text per point, with the after period's own limits added where ``after``:
     "LCL 1, CL 2, UCL 3; after: LCL ..."."""
     code, pairs = _pairs(info.codes, np.where(after, own.codes + 1, 0), len(own.texts) + 1)
     return _Coded(
@@ -120,7 +120,7 @@ def _join_info(info: _Coded, own: _Coded, after: np.ndarray) -> _Coded:
 
 def _staged_text(marked: _Coded, carried: np.ndarray, own: _Coded) -> _Coded:
     """The staged chart's signal texts per point: the signals against the baseline's limits
-    (named so where the point's limits are carried forward) and those on the after phase's own
+    (named so where the point's limits are carried forward) and those on the after period's own
     limits."""
     a = marked.codes * 2 + np.asarray(carried, dtype=np.int64)
     code, pairs = _pairs(a, own.codes, len(own.texts) + 1)

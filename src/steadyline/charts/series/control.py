@@ -1,5 +1,5 @@
 """The control chart: centre line and limits per point, its dispersion chart beneath; and the
-datasets and template values it shares with the chart by phase.
+datasets and template values it shares with the chart by period.
 """
 
 from __future__ import annotations
@@ -42,14 +42,14 @@ def _control_parts(
     """Datasets, template values, per-point signal texts of a control chart (plain or staged).
 
     Staged: ``evidence`` is the pair of :class:`stats.evidence.PointEvidence` of the chart and
-    its companion; ``own_signals`` the after phase's signals on its own limits."""
+    its companion; ``own_signals`` the after period's signals on its own limits."""
     xa = x_axis(ctx)
     sec = chart.secondary
     marked, sec_marked, main_marks, sec_marks = _marking(
         signals, len(ctx.x), offset, sec is not None, staged, evidence, own_signals
     )
     # keys and line pieces are numbered in order of first use: the main chart's points, its
-    # limits (and the after phase's own), then the companion's, in that order
+    # limits (and the after period's own), then the companion's, in that order
     keys = _Keys(staged)
     parts = _Parts()
     set_name = "baseline" if staged else None
@@ -131,7 +131,7 @@ def _marking(
 
 
 def _info_of(c: ControlChart, o: ControlChart | None, stage_arr) -> _Coded:
-    """The limits text per point, with the after phase's own limits where ``o`` is given."""
+    """The limits text per point, with the after period's own limits where ``o`` is given."""
     info = _limits_info(c)
     if o is None:
         return info

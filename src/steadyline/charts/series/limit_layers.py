@@ -1,5 +1,5 @@
 """The template layers that draw a series chart's reference lines: a control chart's centre
-line and limits (plain or by phase) with their labels, and a run chart's median.
+line and limits (plain or by period) with their labels, and a run chart's median.
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ def _reference_layers(is_time: bool, prefix: str, y_slot: str, staged: bool = Fa
 
     Plain control chart: the centre line solid, the limits dashed, all grey. Staged chart: the
     baseline set grey (solid centre line over the baseline, everything dashed where carried
-    forward), the after phase's own set dark and solid, its labels at the start of the phase."""
+    forward), the after period's own set dark and solid, its labels at the start of the period."""
     dash, colour, seg_mark, parts_fields = _line_look(staged)
     segs = vl.view(
         f"{prefix}limits",
@@ -85,12 +85,12 @@ def _line_look(staged: bool) -> tuple[dict, dict, dict, list[str]]:
 def _label_layers(is_time: bool, prefix: str, y_slot: str, staged: bool) -> list[dict]:
     """The labels at the ends of the limit lines."""
     # Plain chart: labels right of the plot. Staged chart: the carried "baseline UCL ..." labels
-    # sit inside the plot, right-aligned just above their lines; the after phase's own labels
+    # sit inside the plot, right-aligned just above their lines; the after period's own labels
     # go right of the plot, beside their lines, so the two sets never print over each other.
     # In a narrow box (the page sets the parameter NARROW) the labels right of the plot move
     # inside it, right-aligned above the end of their lines, so that the plot keeps the width.
-    # In a narrow box the after phase's own labels move inside the plot, to the right end where
-    # the carried ones are: the carried labels then move to the start of the after phase (x0).
+    # In a narrow box the after period's own labels move inside the plot, to the right end where
+    # the carried ones are: the carried labels then move to the start of the after period (x0).
     # Two layers shown by turns (no transform: a layer's own data flow would make Vega warn of
     # an empty extent where a chart has no such labels).
     xy = {"y": _y("y", y_slot), "text": vl.field("text:N")}

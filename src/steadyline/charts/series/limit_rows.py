@@ -1,6 +1,6 @@
 """The rows of a control chart's centre line and limits: "step-after" lines with one vertex
 per change ("p", "x", "y"), their pieces named once in ``limit_parts``, and the labels at
-their ends (the after phase's own limits of a chart by phase too).
+their ends (the after period's own limits of a chart by period too).
 """
 
 from __future__ import annotations
@@ -89,7 +89,7 @@ def _limit_rows(
 
     Each run of equal values is one horizontal step from the midpoint before its first point to
     the midpoint after its last; a piece ("p") holds consecutive runs, so the line steps up or
-    down between them (stepped p/u limits, limits recomputed per phase). One vertex per run
+    down between them (stepped p/u limits, limits recomputed per period). One vertex per run
     start and one at the piece's end. A nan ends the piece and draws nothing until the next
     finite value.
 
@@ -143,7 +143,7 @@ def _limit_rows(
         label = {"x": x_end, "y": y, "text": f"{name_at(kind, i)} {fmt(y)}", "kind": kind}
         if carried is not None:
             # where the last piece starts: in a narrow box a carried label sits there, at the
-            # start of the after phase, so as not to print over the after phase's own labels
+            # start of the after period, so as not to print over the after period's own labels
             # at the right end
             label["x0"] = xa.at(int(starts[starts <= i][-1]) + offset)
         labels.append(label)
@@ -151,9 +151,9 @@ def _limit_rows(
 
 
 def _own_rows(xa: XAxis, own: ControlChart, stage_arr, offset: int, parts: _Parts):
-    """The after phase's own limits (stage 1 only), solid, labelled right of the phase's last
-    point: in the margin beside the plot when the after phase ends the chart, clear of the
-    phase's name, the events and the points at its start."""
+    """The after period's own limits (stage 1 only), solid, labelled right of the period's last
+    point: in the margin beside the plot when the after period ends the chart, clear of the
+    period's name, the events and the points at its start."""
     drawn = np.asarray(stage_arr, dtype=int) == 1
     rows, _ = _limit_rows(
         xa, own, offset, parts, drawn=drawn, set_name="after", label_prefix="after ", solid=True

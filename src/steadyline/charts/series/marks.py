@@ -14,10 +14,10 @@ MARK_SIGNAL = "part of a signal"
 # a point set aside (`set_aside` in project.toml): drawn, left out of the baseline's statistics
 MARK_ASIDE = "set aside"
 _MARK_DOMAIN = [MARK_ORDINARY, MARK_SIGNAL]
-# The control chart by phase tells a change from instability: a point outside the baseline
+# The control chart by period tells a change from instability: a point outside the baseline
 # judged against the baseline's limits carried forward, in a signal there, is evidence of a
 # change (better / worse by the metric's "better"); a point in a signal on limits of its own
-# period (the baseline on the baseline's, the after phase on its own) is a signal of
+# period (the baseline on the baseline's, the after period on its own) is a signal of
 # instability. The same words are used in the legend, the sentences under the chart and the
 # README.
 MARK_CHANGE_BETTER = "baseline limits: change, better"

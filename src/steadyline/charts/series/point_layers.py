@@ -1,5 +1,5 @@
 """The template layers that draw a series' points: the line through them and the points whose
-shape and colour mark signals (plain chart) or change marks (chart by phase).
+shape and colour mark signals (plain chart) or change marks (chart by period).
 """
 
 from __future__ import annotations
@@ -132,7 +132,7 @@ def _tooltip(is_time: bool, v: str, with_limits: bool, staged: bool) -> list[dic
     tooltip = [
         _x_tip(is_time),
         vl.tip(f"{v}:Q", "value", ",.4~g"),
-        vl.tip("stage:N", "phase"),
+        vl.tip("stage:N", "period"),
     ]
     if with_limits:
         tooltip += [vl.tip("info:N", "limits"), vl.tip("fitted:N", "used for limits")]

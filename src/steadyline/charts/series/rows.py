@@ -4,7 +4,7 @@ Data layout (kept small: a page embeds only what is drawn). One row per plotted 
 ``points``: "x", the main chart's value "v", line piece "g" and key "k" into ``point_info``; a
 control chart adds key "i" into ``limit_info`` (the limits at the point, as text); a chart with a
 dispersion companion adds "v2", "g2", "k2", "i2" to the same rows, so that positions are written
-once. ``point_info`` holds the distinct (phase, used for limits, signals) combinations that the
+once. ``point_info`` holds the distinct (period, used for limits, signals) combinations that the
 tooltips show; the marker is computed in the view from them.
 """
 
@@ -35,7 +35,7 @@ def _exact(ctx: SeriesContext, datasets: dict) -> tuple[str, ...]:
     return tuple(datasets) if ctx.x_is_time else _EXACT
 
 
-# The phase bands and event rules of a series, the same on its run chart and both control
+# The period bands and event rules of a series, the same on its run chart and both control
 # charts (the rows are not changed once made).
 _bands = by_identity(4)(band_rows)
 _events = by_identity(4)(event_rows)
@@ -60,7 +60,7 @@ def _x_format(ctx: SeriesContext) -> str:
 
 class _Keys:
     """Distinct tooltip texts of the points, each written once and keyed 0, 1, ... in order of
-    first use: ``point_info`` rows (phase, used for limits, signals) under "k" and
+    first use: ``point_info`` rows (period, used for limits, signals) under "k" and
     ``limit_info`` rows (the limits at the point) under "i"."""
 
     def __init__(self, staged: bool = False) -> None:
@@ -122,7 +122,7 @@ class _Series(NamedTuple):
 
 @by_identity(4)
 def _stage_codes(stage: tuple[str, ...]) -> tuple[tuple[str, ...], np.ndarray]:
-    """The distinct phase names of a series in order of first appearance, and a code per point."""
+    """The distinct period names of a series in order of first appearance, and a code per point."""
     names = tuple(dict.fromkeys(stage))
     code = {s: c for c, s in enumerate(names)}
     return names, np.fromiter(map(code.__getitem__, stage), dtype=np.int64, count=len(stage))
@@ -149,7 +149,7 @@ def _series_rows(
 ) -> _Series:
     """The drawn points of a series (finite values), with line pieces that break at segment
     changes and at missing values, and their keys into ``keys``. Keys are numbered in order of
-    first use, point by point; the Python work is done per distinct (phase, used for limits,
+    first use, point by point; the Python work is done per distinct (period, used for limits,
     signal text, mark) combination and per distinct limits text, not per point.
 
     marks: the staged chart's code per point of the series (``_mark_codes``), else None."""
@@ -167,7 +167,7 @@ def _series_rows(
     groups = np.concatenate([[0], np.cumsum(new)]).tolist()
     idx = ip.tolist()
 
-    # point keys: (phase, used for limits, signals), coded per point as one number
+    # point keys: (period, used for limits, signals), coded per point as one number
     names, stage_code = _stage_codes(ctx.stage)
     fit = None if fitted is None else np.asarray(fitted, dtype=bool)[kp]
     text_code, texts = marked
@@ -198,7 +198,7 @@ def _point_keys(
     distinct: np.ndarray, first: np.ndarray, names: tuple[str, ...], texts: list[str], keys: _Keys
 ) -> np.ndarray:
     """The key in ``keys`` of each distinct point code (see :func:`_series_rows`), taken in
-    order of first use: the code is read back into (phase, used for limits, signal text,
+    order of first use: the code is read back into (period, used for limits, signal text,
     mark, set aside)."""
     width = len(texts) + 1
     key_of = np.zeros(len(distinct), dtype=np.int64)

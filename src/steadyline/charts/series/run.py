@@ -138,10 +138,10 @@ def _run_table(
     x_col = "date" if ctx.x_is_time else "point"
     has_stage = any(ctx.stage)
     all_marked = _signal_text(analysis.signals, n)
-    columns = (x_col,) + (("phase",) if has_stage else ()) + ("value", "median", "signals")
+    columns = (x_col,) + (("period",) if has_stage else ()) + ("value", "median", "signals")
     cells = {
         x_col: ctx.x,
-        "phase": ctx.stage,
+        "period": ctx.stage,
         "value": num_list(vals),
         "median": [median] * n,
         "signals": _signal_column(n, all_marked),

@@ -1,5 +1,5 @@
-"""The control chart by phase: the baseline's limits carried forward over the later phases
-and the after phase's own limits, with marks telling a change from instability.
+"""The control chart by period: the baseline's limits carried forward over the later periods
+and the after period's own limits, with marks telling a change from instability.
 """
 
 from __future__ import annotations
@@ -38,11 +38,11 @@ def staged_control_chart(
     own_signals: Sequence[Signal] = (),
     evidence: tuple[PointEvidence, PointEvidence | None] | None = None,
 ) -> ChartSpec:
-    """A control chart by phase: the baseline limits carried forward over the later phases
-    (dashed, labelled "baseline UCL ..."), and, when ``own`` is given, the after phase's own
-    centre line and limits drawn solid over the after phase only ("after UCL ...").
+    """A control chart by period: the baseline limits carried forward over the later periods
+    (dashed, labelled "baseline UCL ..."), and, when ``own`` is given, the after period's own
+    centre line and limits drawn solid over the after period only ("after UCL ...").
 
-    ``signals`` are found on ``carried``; ``own_signals`` on the after phase's own limits.
+    ``signals`` are found on ``carried``; ``own_signals`` on the after period's own limits.
     ``evidence`` (:func:`stats.evidence.point_evidence` of the two) says per point what its
     mark is: a point outside the baseline in a signal against the baseline's limits is evidence
     of a change (better / worse); a point in a signal on its own period's limits gets the signal
@@ -81,7 +81,7 @@ def staged_control_chart(
         values_map["mark_colours"] = [*values_map["mark_colours"], style.ASIDE]
 
     name = _kind_name(carried)
-    title = f"{ctx.metric_name} \u2014 {name} by phase"
+    title = f"{ctx.metric_name} \u2014 {name} by period"
     # the periods and limits drawn; what they show is said in the card's sentences
     subtitle = _staged_subtitle(ctx, carried, own)
     change = _change_sentence(evidence[0], carried)
@@ -94,7 +94,7 @@ def staged_control_chart(
     lim = _last_limits(labels)
     own_lim = _last_limits(datasets.get("own_labels", []))
     summary = (
-        f"{name} of {ctx.metric_name} by phase: {plural(n, 'point')}"
+        f"{name} of {ctx.metric_name} by period: {plural(n, 'point')}"
         + (f", {lim}" if lim else "")
         + (f"; {own_lim}" if own_lim else "")
         + f"; {change}; {unstable}."
@@ -118,7 +118,7 @@ def _staged_subtitle(
     ctx: SeriesContext, carried: ControlChart, own: ControlChart | None
 ) -> list[str]:
     """The periods the limits come from: the baseline's, carried forward, and the after
-    phase's own."""
+    period's own."""
     after_idx = (
         np.flatnonzero(np.asarray(own.stage, dtype=int) == 1)
         if own is not None
@@ -131,7 +131,7 @@ def _staged_subtitle(
     if len(after_idx):
         a, b = int(after_idx[0]), int(after_idx[-1])
         subtitle.append(
-            f"after phase's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
+            f"after period's own limits (solid) from {_when(ctx.x[a])} to {_when(ctx.x[b])} "
             f"({plural(len(after_idx), 'point')})"
         )
     return subtitle

@@ -1,4 +1,4 @@
-"""The data table of a control chart (plain or by phase), column by column: the cells the
+"""The data table of a control chart (plain or by period), column by column: the cells the
 CSV download and the page's table are made from.
 """
 
@@ -63,7 +63,7 @@ def _control_table(
     abbr = _SECONDARY_SHORT.get(sec.kind, sec.label) if sec is not None else ""
     columns: list[str] = [x_col]
     if has_stage:
-        columns.append("phase")
+        columns.append("period")
     if chart.sizes is not None:
         columns.append("subgroup size")
     columns += ["value", "centre line", "LCL", "UCL", "used for limits"]
@@ -99,7 +99,7 @@ def _control_table(
                 columns.append(f"after {abbr} {name}")
     cols[x_col] = ctx.x
     if has_stage:
-        cols["phase"] = ctx.stage
+        cols["period"] = ctx.stage
     cols["used for limits"] = _yes_no(chart.fitted)
     cols["signals"] = _signal_column(n, marked, sec_marked)
     if marks is not None:

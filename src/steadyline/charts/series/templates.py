@@ -1,5 +1,5 @@
 """The templates of the series charts: the run chart and the control chart (plain or by
-phase, with or without its dispersion companion), composed from the layers once per process.
+period, with or without its dispersion companion), composed from the layers once per process.
 """
 
 from __future__ import annotations

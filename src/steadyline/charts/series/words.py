@@ -1,5 +1,5 @@
 """The sentences and titles of a series chart: the period the limits come from, the signals
-found, the change marks of a chart by phase, the y-axis title and the chart's name.
+found, the change marks of a chart by period, the y-axis title and the chart's name.
 """
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""The machinery every Shewhart chart shares: input checks, fitting by phase, limits per point.
+"""The machinery every Shewhart chart shares: input checks, fitting by period, limits per point.
 
 Each chart family has its own module (individuals, subgroups, rates, counts); what they have in
 common lives here, so that a stage, a set-aside point or a degenerate fit is handled the same way
@@ -24,7 +24,7 @@ Common arguments
 ``limits``
     ``"baseline"``: the limits are fitted on the stage-0 points and carried forward unchanged
     over later stages (if no point is in stage 0, the lowest stage is the baseline and a note
-    says so). ``"per-phase"``: each stage gets its own fit, so the limits step at each change
+    says so). ``"per-period"``: each stage gets its own fit, so the limits step at each change
     of stage.
 ``sigma_multiple``
     k in centre +- k sigma; 3 by default.
@@ -34,7 +34,7 @@ Degenerate data (stated behaviour, never a silent NaN)
 - Empty input, negative counts, defectives above the number checked, non-finite values, sizes
   that do not match: :class:`StatsError` whose message states the requirement.
 - One point on an individuals chart: :class:`StatsError` ("requires at least two data points").
-  The same applies to any baseline fit that has too little data. With ``"per-phase"`` a later
+  The same applies to any baseline fit that has too little data. With ``"per-period"`` a later
   stage that is too short to fit gets no limits (nan) and a note; at least one stage must fit.
 - Zero sigma (all fitted values equal): the limits collapse onto the centre line and a note
   says so.
@@ -45,10 +45,10 @@ Degenerate data (stated behaviour, never a silent NaN)
 - Laney chart with fewer than 3 usable points in a fit: falls back to the classic p / u chart
   for that fit (sigma_z = 1) with a note.
 
-Moving ranges never span a change of stage or a gap: the moving range at the first point of a
+Moving ranges never span a change of period or a gap: the moving range at the first point of a
 new stage, or at the first point after a gap in the periods (``segment``), is undefined -- not
 plotted (nan) and not used -- and a fit uses only moving ranges between consecutive points of
-its own fitted set with no change of stage or segment between them.
+its own fitted set with no change of period or segment between them.
 
 ``set_aside``
     optional boolean mask of points set aside: an assignable cause was found and removed there,
@@ -78,7 +78,7 @@ import numpy as np
 
 from ..results import ControlChart, StatsError
 
-LIMIT_MODES = ("baseline", "per-phase")
+LIMIT_MODES = ("baseline", "per-period")
 
 
 class TooFew(Exception):

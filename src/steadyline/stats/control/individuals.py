@@ -115,7 +115,7 @@ def _moving_ranges(
     mr[boundary] = np.nan
     notes: list[str] = []
     if (st[1:] != st[:-1]).any():
-        notes.append("Moving ranges that span a change of stage are not plotted or used.")
+        notes.append("Moving ranges that span a change of period are not plotted or used.")
     if seg is not None and (seg[1:] != seg[:-1]).any():
         notes.append("Moving ranges that span a gap in the periods are not plotted or used.")
     return mr, notes
@@ -185,7 +185,7 @@ def _extras(groups: list[Group], limits: str, base: _XmrFit) -> dict[str, float 
         "average_moving_range": base.mr_bar,
         "moving_ranges_used": float(base.n_ranges),
     }
-    if limits == "per-phase":
+    if limits == "per-period":
         for g in groups:
             extras[f"process_sigma_stage_{g.stage}"] = None if g.result is None else g.result.sigma
     return extras

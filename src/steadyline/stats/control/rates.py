@@ -235,7 +235,7 @@ def _described(
     if laney and used_laney:
         out_kind = f"laney-{kind}"
         extras["sigma_z"] = base.sigma_z if base.laney else None
-        if limits == "per-phase":
+        if limits == "per-period":
             for g in groups:
                 r = g.result
                 extras[f"sigma_z_stage_{g.stage}"] = r.sigma_z if r is not None else None

@@ -288,14 +288,14 @@ def _spread_chart(
 def _extras(
     groups: list[Group], limits: str, base: _SubgroupFit, spread: str
 ) -> dict[str, float | str | None]:
-    """Average range or standard deviation, grand mean, and sigma per stage when per-phase."""
+    """Average range or standard deviation, grand mean, and sigma per stage when per-period."""
     extras: dict[str, float | str | None]
     if spread == "range":
         extras = {"average_range": base.spread_bar}
     else:
         extras = {"average_stdev": base.spread_bar}
     extras["grand_mean"] = base.grand_mean
-    if limits == "per-phase":
+    if limits == "per-period":
         for g in groups:
             extras[f"process_sigma_stage_{g.stage}"] = None if g.result is None else g.result.sigma
     return extras

@@ -1,4 +1,4 @@
-"""The Pareto charts of a metric's phases side by side, the categories in one common order."""
+"""The Pareto charts of a metric's periods side by side, the categories in one common order."""
 
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ from .categories import IN_FIRST, MAX_BARS, VITAL_LABEL, gathered
 from .pareto import _domain_total, _drawn, _pareto_rows, _pareto_view
 
 
-def _phase_template(k: int) -> dict:
+def _period_template(k: int) -> dict:
     panels = []
     for j in range(k):
         panel = _pareto_view(prefix=f"p{j}_", panel_title=True)
@@ -24,11 +24,11 @@ def _phase_template(k: int) -> dict:
         "spacing": 24,
         "resolve": {"scale": {"fill": "shared", "opacity": "shared"}},
     }
-    return finish_template(chart, "pareto-by-phase")
+    return finish_template(chart, "pareto-by-period")
 
 
 def common_order(paretos: Sequence[tuple[str, Pareto]]) -> list[str]:
-    """The first phase's order, then categories new in later phases by their later totals
+    """The first period's order, then categories new in later periods by their later totals
     (descending, ties by name); a category named "other" stays last."""
     first = [str(c) for c in paretos[0][1].categories]
     seen = set(first)
@@ -44,20 +44,20 @@ def common_order(paretos: Sequence[tuple[str, Pareto]]) -> list[str]:
     return [c for c in order if c.strip().lower() != "other"] + others
 
 
-def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
-    """One Pareto panel per phase, side by side, every panel in the same category order (the
-    first phase's), so that a category can be followed across phases. Each panel's cumulative
-    line follows that common order; each marks its own phase's vital few."""
+def period_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
+    """One Pareto panel per period, side by side, every panel in the same category order (the
+    first period's), so that a category can be followed across periods. Each panel's cumulative
+    line follows that common order; each marks its own period's vital few."""
     if not paretos:
-        raise ValueError("a phase Pareto chart needs at least one phase")
+        raise ValueError("a period Pareto chart needs at least one period")
     k = len(paretos)
-    tpl = cached_template(("pareto-by-phase", k), lambda: _phase_template(k))
+    tpl = cached_template(("pareto-by-period", k), lambda: _period_template(k))
     order = common_order(paretos)
     values: dict = {}
     datasets: dict = {}
     table: list[dict] = []
     parts = []
-    for j, (phase, p) in enumerate(paretos):
+    for j, (period, p) in enumerate(paretos):
         counts = dict(zip((str(c) for c in p.categories), p.counts, strict=True))
         total = float(p.total)
         rows = _pareto_rows(order, [counts.get(c, 0.0) for c in order], total, set(p.vital_few))
@@ -66,11 +66,11 @@ def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
             {"cumulative": float(p.threshold), "text": f"{fmt(p.threshold)}%"}
         ]
         values[f"p{j}_total"] = _domain_total(total)
-        values[f"p{j}_panel_title"] = f"{phase} (total {fmt(total, 4)})"
+        values[f"p{j}_panel_title"] = f"{period} (total {fmt(total, 4)})"
         for r in rows:
             table.append(
                 {
-                    "phase": phase,
+                    "period": period,
                     "category": r["category"],
                     "count": r["count"],
                     "percent": r["percent"],
@@ -79,7 +79,7 @@ def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
                 }
             )
         top = order[max(range(len(order)), key=lambda i: rows[i]["count"])] if order else ""
-        parts.append(f"{phase}: total {fmt(total, 4)}, largest {top}")
+        parts.append(f"{period}: total {fmt(total, 4)}, largest {top}")
     sub = [
         f"categories in the order of {paretos[0][0]}; each panel's right axis puts 100% at its own total",
     ]
@@ -89,15 +89,15 @@ def phase_pareto_chart(paretos: Sequence[tuple[str, Pareto]]) -> ChartSpec:
             f"the last bar of each panel gathers the {n_gathered:,} categories after the first "
             f"{MAX_BARS - 1} of that order"
         )
-    spec = make_spec(tpl, values, datasets, "Pareto charts by phase", sub)
+    spec = make_spec(tpl, values, datasets, "Pareto charts by period", sub)
     summary = (
-        f"Pareto charts of {plural(k, 'phase')} in one category order \u2014 "
+        f"Pareto charts of {plural(k, 'period')} in one category order \u2014 "
         + "; ".join(parts)
         + "."
     )
     return ChartSpec(
         spec=spec,
         table=table,
-        columns=("phase", "category", "count", "percent", "cumulative percent", IN_FIRST),
+        columns=("period", "category", "count", "percent", "cumulative percent", IN_FIRST),
         summary=summary,
     )

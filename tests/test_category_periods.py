@@ -1,4 +1,4 @@
-"""Category metrics by phase: what each Pareto and column chart counts, and in which order.
+"""Category metrics by period: what each Pareto and column chart counts, and in which order.
 
 - The project page's Pareto and column chart count the baseline (like every other display on
   that page), or all data when there is no baseline period, and every categorical card names
@@ -115,7 +115,7 @@ def test_history_pareto_takes_the_baseline_order(demo_site, case):
     assert h["paretos"]["After"]["categories"] == order
     assert h["paretos"]["After"]["counts"] == [later[c] for c in order]
     page = (demo_site / "projects" / slug / "history.html").read_text("utf-8")
-    spec = json.loads(_cards(page, mid)["phase-pareto"][2])
+    spec = json.loads(_cards(page, mid)["period-pareto"][2])
     for panel, tally in (("p0_bars", base), ("p1_bars", later)):
         bars = spec["datasets"][panel]
         assert [b["category"] for b in bars] == order, panel

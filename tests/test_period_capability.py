@@ -1,4 +1,4 @@
-"""Capability of the after phase is trusted only when the phase is stable on its own limits."""
+"""Capability of the after period is trusted only when the period is stable on its own limits."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from steadyline.config import PortfolioSettings, load_project
 from steadyline.loading import STAGE_AFTER, load_metric
 from steadyline.stats import detect_signals
 
-TOML = """title = "Phase capability"
+TOML = """title = "Period capability"
 owner = "Test"
 phase = "control"
 problem = "A test project."
@@ -51,32 +51,32 @@ def _analyse(tmp_path: Path, after: np.ndarray):
 
 
 def _after_capability(a):
-    (cap,) = [c for name, _h, c in a.phase_histograms if name == "After"]
+    (cap,) = [c for name, _h, c in a.period_histograms if name == "After"]
     return cap
 
 
-def test_a_steady_after_phase_earns_trusted_indices(tmp_path):
+def test_a_steady_after_period_earns_trusted_indices(tmp_path):
     after = np.random.default_rng(9).normal(10, 0.5, 40)
     a = _analyse(tmp_path, after)
-    # reference: the signal rules on the after phase's own limits find nothing
+    # reference: the signal rules on the after period's own limits find nothing
     assert detect_signals(a.after_limits, "western-electric", STAGE_AFTER) == ()
     cap = _after_capability(a)
     assert cap.trustworthy, cap.reasons
 
 
-def test_an_after_phase_with_a_signal_on_its_own_limits_is_not_trusted(tmp_path):
+def test_an_after_period_with_a_signal_on_its_own_limits_is_not_trusted(tmp_path):
     after = np.random.default_rng(9).normal(10, 0.5, 40)
-    after[20] = 14.0  # far beyond the after phase's own 3-sigma limits
+    after[20] = 14.0  # far beyond the after period's own 3-sigma limits
     a = _analyse(tmp_path, after)
     cap = _after_capability(a)
     assert not cap.trustworthy
-    assert any("against the phase's own control limits" in r for r in cap.reasons)
+    assert any("against the period's own control limits" in r for r in cap.reasons)
     # the analysis keeps those signals for the page: the planted point is among them
     assert any(40 + 20 in s.indices for s in a.after_signals)
 
 
 @pytest.mark.parametrize("n", [8])
-def test_an_after_phase_too_short_for_its_own_limits_is_not_judged(tmp_path, n):
+def test_an_after_period_too_short_for_its_own_limits_is_not_judged(tmp_path, n):
     a = _analyse(tmp_path, np.random.default_rng(9).normal(10, 0.5, n))
     cap = _after_capability(a)
     assert a.after_limits is None and not cap.trustworthy

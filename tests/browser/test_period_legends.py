@@ -1,4 +1,4 @@
-"""The control charts by phase as Chromium draws them: the legend names, in full, every mark the
+"""The control charts by period as Chromium draws them: the legend names, in full, every mark the
 chart draws (from results.json's change evidence and the spec's points) and every kind of period
 its bands show, and each band carries its kind's name."""
 
@@ -29,7 +29,7 @@ def _history_charts(built_site):
     for res in sorted(built_site.glob("projects/*/results.json")):
         r = json.loads(res.read_text())
         for h in r["history"] or []:
-            if "staged_control_chart" in h:
+            if "control_chart_by_period" in h:
                 out.append((r["project"]["slug"], h))
     return out
 
@@ -48,7 +48,7 @@ def test_legends_name_every_mark_and_period_in_full(browser_context, site_url, b
             for h in entries:
                 cid = f"chart-history-{h['id']}-staged-control"
                 drawn = page.evaluate(DRAWN, cid)
-                sc = h["staged_control_chart"]
+                sc = h["control_chart_by_period"]
                 marks = {MARK_ORDINARY} | {
                     CHANGE_MARKS[g["direction"]] for g in sc["change_evidence"]
                 }

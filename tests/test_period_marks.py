@@ -1,5 +1,5 @@
-"""The demo site's charts by phase: marks, legend, sentences and results.json say the same thing,
-and every phase band is filled by its kind of period on every chart.
+"""The demo site's charts by period: marks, legend, sentences and results.json say the same thing,
+and every period band is filled by its kind of period on every chart.
 
 Read from the built demo (the chart specs under projects/*/data/*.vl.json, the history pages,
 results.json); the expected marks are worked out here from results.json's signals on their own,
@@ -46,13 +46,13 @@ def _views(node):
 
 
 def _staged(site: Path):
-    """(slug, metric entry, history entry, spec, page text) of every control chart by phase."""
+    """(slug, metric entry, history entry, spec, page text) of every control chart by period."""
     out = []
     for res in sorted(site.glob("projects/*/results.json")):
         r = json.loads(res.read_text())
         metrics = {m["id"]: m for m in r["metrics"]}
         for h in r["history"] or []:
-            if "staged_control_chart" not in h:
+            if "control_chart_by_period" not in h:
                 continue
             spec = json.loads(
                 (res.parent / "data" / f"history-{h['id']}-staged-control.vl.json").read_text()
@@ -118,15 +118,15 @@ def _expected(chart, signals, after_signals, which: str, stage, better: str, tar
 @pytest.fixture(scope="module")
 def staged(demo_site):
     found = _staged(demo_site)
-    assert len(found) >= 8  # the demo's history pages have nine charts by phase
+    assert len(found) >= 8  # the demo's history pages have nine charts by period
     return found
 
 
 def test_marks_agree_with_results_json(staged):
     after_marked = 0
     for slug, metric, h, spec, _page in staged:
-        sc = h["staged_control_chart"]
-        stage = metric["points"]["stage"]
+        sc = h["control_chart_by_period"]
+        stage = metric["points"]["period_kind"]
         stage_code = [{"Baseline": 0, "After": 1}.get(s, 2) for s in stage]
         recorded = {
             (g["chart"], i): g["direction"] for g in sc["change_evidence"] for i in g["indices"]
@@ -169,7 +169,7 @@ def test_marks_agree_with_results_json(staged):
                         if s["chart"] == "main"
                     )
                     assert got["own"] == in_after, where
-    assert after_marked > 100  # the demo's after phases moved: the test has marks to check
+    assert after_marked > 100  # the demo's after periods moved: the test has marks to check
 
 
 def _findings(page: str, metric_id: str) -> list[str]:
@@ -192,8 +192,8 @@ def _chart_label(page: str, metric_id: str) -> str:
 
 def test_sentences_and_legend_agree_with_results_json(staged):
     for slug, metric, h, spec, page in staged:
-        sc = h["staged_control_chart"]
-        stage = metric["points"]["stage"]
+        sc = h["control_chart_by_period"]
+        stage = metric["points"]["period_kind"]
         values = sc["chart"]["values"]
         after = [i for i in _finite(values) if stage[i] == "After"]
         found = _findings(page, metric["id"])
@@ -218,9 +218,9 @@ def test_sentences_and_legend_agree_with_results_json(staged):
         if sc["own_after_limits"]:
             n_own = len(sc["after_signals"])
             if n_own:
-                assert f"On its own limits the after phase shows {n_own} signal" in text, where
+                assert f"On its own limits the after period shows {n_own} signal" in text, where
             else:
-                assert "On its own limits the after phase shows no signal" in text, where
+                assert "On its own limits the after period shows no signal" in text, where
         # the chart's description says the same counts; its subtitle names the periods and
         # limits only (the sentences say what they show, once)
         k = sum(counts.values())
@@ -261,8 +261,8 @@ def test_sentences_and_legend_agree_with_results_json(staged):
 
 
 def _expected_kinds(stages: list[str]) -> list[str]:
-    """The kind of each contiguous phase, worked out here: named phases by name, the others by
-    whether a baseline or an after phase came before them."""
+    """The kind of each contiguous period, worked out here: named periods by name, the others by
+    whether a baseline or an after period came before them."""
     runs = [s for i, s in enumerate(stages) if i == 0 or stages[i - 1] != s]
     out, seen_base, seen_after = [], False, False
     for s in runs:
@@ -301,7 +301,7 @@ def test_every_band_is_filled_by_its_kind_of_period_and_named_in_the_legend(demo
         r = json.loads((path.parent.parent / "results.json").read_text())
         metric_id = re.sub(r"^history-|-(run|control|staged-control)\.vl\.json$", "", path.name)
         (metric,) = [m for m in r["metrics"] if m["id"] == metric_id]
-        assert [b["kind"] for b in bands] == _expected_kinds(metric["points"]["stage"]), path
+        assert [b["kind"] for b in bands] == _expected_kinds(metric["points"]["period_kind"]), path
         for rect in rects:
             enc = rect["encoding"]["fill"]
             assert enc["field"] == "kind"
@@ -323,7 +323,7 @@ def test_every_band_is_filled_by_its_kind_of_period_and_named_in_the_legend(demo
 
 def test_a_metric_without_after_data_on_a_history_page(tmp_path):
     # one metric with an after period gives the project a history page; the other, without
-    # one, still gets its chart by phase there, with no change marks and no sentence on them
+    # one, still gets its chart by period there, with no change marks and no sentence on them
     from corpus.kit import DEFAULT_METRIC, VALUES, dates, good_csv, meta, raw, write
 
     from steadyline.pipeline.build import BuildOptions, build
@@ -348,7 +348,7 @@ def test_a_metric_without_after_data_on_a_history_page(tmp_path):
     report = build(BuildOptions(root, out, jobs=1))
     assert report.ok, [p.format() for p in report.problems]
     r = json.loads((out / "projects/p/results.json").read_text())
-    hist = {h["id"]: h["staged_control_chart"] for h in r["history"]}
+    hist = {h["id"]: h["control_chart_by_period"] for h in r["history"]}
     assert hist["n"]["change_evidence"] == []
     (group,) = hist["m"]["change_evidence"]
     assert group["direction"] == "better" and group["chart"] == "main"
