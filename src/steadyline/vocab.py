@@ -7,35 +7,34 @@ set, a chart kind, a kind of period or a type of data takes the name from here, 
 thing is never named two ways on one site. The README's lists are checked against these sets
 by the tests.
 
-The statistics take some of these sets as arguments (data types, chart kinds, rule sets, limit
-modes, directions of better); they import nothing of ours, so they hold those codes in
-:mod:`steadyline.stats.codes`, which tests/test_vocabulary.py holds equal to the sets here. This
-module cannot build on that one: importing it would load the statistics into the light
-modules that name the sets (the metadata's validation, the index).
+The sets the statistics take as arguments (data types, chart kinds, rule sets, limit modes,
+directions of better) are defined in :mod:`steadyline.stats.codes`, which imports nothing and
+loads no statistics; they are handed on here as they are, the same classes. The sets only the
+pages and the metadata use (phases, kinds of period, roll-ups) are defined here.
 
 The statuses live in :mod:`steadyline.status` (the index reads them without loading anything
 else) and are re-exported here.
 
-This module imports nothing else of ours but the status vocabulary and nothing heavy.
+This module imports nothing else of ours but those two and nothing heavy.
 """
 
 from __future__ import annotations
 
-from enum import StrEnum
-
+from .stats.codes import (
+    RUN_RULES_DETAIL,
+    Better,
+    ChartKind,
+    Coded,
+    DataType,
+    LimitMode,
+    RunRules,
+    SignalRules,
+)
 from .status import LABELS as STATUS_LABELS
 from .status import Status
 
 
-class _Coded(StrEnum):
-    """A closed set of codes; a set whose codes the pages show as they are, or not at all."""
-
-    @classmethod
-    def codes(cls) -> tuple[str, ...]:
-        return tuple(m.value for m in cls)
-
-
-class _Worded(_Coded):
+class _Worded(Coded):
     """A code with its one name in words (``label``)."""
 
     @property
@@ -53,51 +52,6 @@ class Phase(_Worded):
     CONTROL = "control"
 
 
-class LimitMode(_Coded):
-    """Whose points a control chart's limits are fitted to (``limits`` in project.toml): the
-    baseline's, carried forward, or each period's own, drawn as steps."""
-
-    BASELINE = "baseline"
-    PER_PERIOD = "per-period"
-
-
-class Better(_Coded):
-    """Which way a metric improves (``better`` in project.toml)."""
-
-    LOWER = "lower"
-    HIGHER = "higher"
-    TARGET = "target"
-
-
-class SignalRules(_Worded):
-    """The sets of rules a control chart's points are judged by."""
-
-    WESTERN_ELECTRIC = "western-electric"
-    NELSON = "nelson"
-
-
-class RunRules(_Worded):
-    """The sets of rules a run chart's points are judged by."""
-
-    ANHOJ = "anhoj"
-    PERLA = "perla"
-
-
-class ChartKind(_Worded):
-    """The control charts a metric can ask for (``chart`` in project.toml)."""
-
-    AUTO = "auto"
-    XMR = "xmr"
-    XBAR_R = "xbar-r"
-    XBAR_S = "xbar-s"
-    P = "p"
-    NP = "np"
-    C = "c"
-    U = "u"
-    LANEY_P = "laney-p"
-    LANEY_U = "laney-u"
-
-
 class PeriodKind(_Worded):
     """The kinds of period a time axis is shaded by, in time order. The codes are the words
     themselves: the charts' legends show them as they are."""
@@ -107,17 +61,6 @@ class PeriodKind(_Worded):
     BETWEEN = "between periods"
     AFTER = "after"
     LATER = "after the after period"
-
-
-class DataType(_Worded):
-    """The types of data a metric holds (``type`` in project.toml)."""
-
-    CONTINUOUS = "continuous"
-    SUBGROUPS = "subgroups"
-    DEFECTIVES = "defectives"
-    DEFECTS = "defects"
-    CATEGORIES = "categories"
-    STUDY = "measurement-study"
 
 
 class RollupPeriod(_Worded):
@@ -143,35 +86,7 @@ class RollupStatistic(_Worded):
 
 _LABELS: dict[type, dict] = {
     Phase: {p: p.value.capitalize() for p in Phase},
-    SignalRules: {
-        SignalRules.WESTERN_ELECTRIC: "Western Electric zone rules",
-        SignalRules.NELSON: "Nelson rules",
-    },
-    RunRules: {
-        RunRules.ANHOJ: "Anhøj rules",
-        RunRules.PERLA: "Perla, Provost & Murray rules",
-    },
-    ChartKind: {
-        ChartKind.AUTO: "chosen from the data",
-        ChartKind.XMR: "individuals and moving-range chart (X-mR)",
-        ChartKind.XBAR_R: "Xbar-R chart",
-        ChartKind.XBAR_S: "Xbar-S chart",
-        ChartKind.P: "p chart",
-        ChartKind.NP: "np chart",
-        ChartKind.C: "c chart",
-        ChartKind.U: "u chart",
-        ChartKind.LANEY_P: "Laney p′ chart",
-        ChartKind.LANEY_U: "Laney u′ chart",
-    },
     PeriodKind: {k: k.value for k in PeriodKind},
-    DataType: {
-        DataType.CONTINUOUS: "single measured values",
-        DataType.SUBGROUPS: "measured values in subgroups",
-        DataType.DEFECTIVES: "defective items out of items checked",
-        DataType.DEFECTS: "defects counted over an area of opportunity",
-        DataType.CATEGORIES: "one category per row",
-        DataType.STUDY: "parts measured repeatedly by several appraisers",
-    },
     RollupPeriod: {
         RollupPeriod.DAY: "daily",
         RollupPeriod.WEEK: "weekly",
@@ -185,12 +100,6 @@ _LABELS: dict[type, dict] = {
         RollupStatistic.COUNT: "count",
         RollupStatistic.PROPORTION: "proportion",
     },
-}
-
-# What the run-chart rule sets test, for a card's method line (after the name).
-RUN_RULES_DETAIL = {
-    RunRules.ANHOJ: "longest run and number of crossings; Anhøj & Olesen 2014",
-    RunRules.PERLA: "shift, trend and number of runs; Perla, Provost & Murray 2011",
 }
 
 
@@ -265,6 +174,7 @@ def plural(n: int, word: str, words: str | None = None) -> str:
 
 
 __all__ = [
+    "RUN_RULES_DETAIL",
     "Better",
     "ChartKind",
     "DataType",

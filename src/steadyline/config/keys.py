@@ -11,6 +11,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from ..stats import codes as stats_codes
 from ..vocab import (
     Better,
     ChartKind,
@@ -35,24 +36,12 @@ LIMIT_MODES = LimitMode.codes()
 PERIODS = RollupPeriod.codes()
 STATISTICS = RollupStatistic.codes()
 
-# Sets the validator defines for itself: the statistics hold their codes in tables with their
-# names (stats.distribution's QUARTILE_METHODS and HISTOGRAM_RULES) and the pages name the sigma
-# levels (site.studies.SIGMA_WORDS), but the validation is light and loads neither; the tables
-# are held to these sets by tests/test_vocabulary.py.
+# The quartile methods and bin rules, by the codes the statistics define with their names; the
+# sigma levels the validator defines for itself (the pages name them: site.studies.SIGMA_WORDS,
+# held to this set by tests/test_vocabulary.py).
 SIGMA_LEVELS = ("off", "with-shift", "without-shift")
-QUARTILE_METHODS = (
-    "inverted_cdf",
-    "averaged_inverted_cdf",
-    "closest_observation",
-    "interpolated_inverted_cdf",
-    "hazen",
-    "weibull",
-    "linear",
-    "median_unbiased",
-    "normal_unbiased",
-    "tukey-hinges",
-)
-BIN_RULES = ("fd", "sturges", "scott")
+QUARTILE_METHODS = tuple(stats_codes.QUARTILE_METHODS)
+BIN_RULES = stats_codes.BIN_RULES
 SLUG_RE = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 
 

@@ -13,23 +13,10 @@ from typing import Literal, cast
 import numpy as np
 
 from . import normal
+from .codes import HISTOGRAM_RULES, QUARTILE_METHODS
 from .results import BoxSummary, Histogram, NormalityTest, StatsError
 
-# numpy quantile method names and their Hyndman & Fan (1996) types (numpy docstring), plus
-# Tukey's hinges (Tukey 1977), which are not in general any single H&F type.
-QUARTILE_METHODS: dict[str, str] = {
-    "inverted_cdf": "Hyndman & Fan type 1 (inverse of the empirical distribution function)",
-    "averaged_inverted_cdf": "Hyndman & Fan type 2 (inverse empirical distribution, averaged at steps)",
-    "closest_observation": "Hyndman & Fan type 3 (nearest even order statistic)",
-    "interpolated_inverted_cdf": "Hyndman & Fan type 4 (linear interpolation of the empirical distribution)",
-    "hazen": "Hyndman & Fan type 5 (Hazen, piecewise linear with midpoints)",
-    "weibull": "Hyndman & Fan type 6 (Weibull, position (n+1)p)",
-    "linear": "Hyndman & Fan type 7 (linear)",
-    "median_unbiased": "Hyndman & Fan type 8 (approximately median-unbiased)",
-    "normal_unbiased": "Hyndman & Fan type 9 (approximately unbiased for normal data)",
-    "tukey-hinges": "Tukey's hinges (medians of the lower and upper halves, median in both when n is odd)",
-}
-# numpy's own names of the Hyndman & Fan methods (every key above but "tukey-hinges")
+# numpy's own names of the Hyndman & Fan methods (every quartile method but "tukey-hinges")
 _NumpyQuantileMethod = Literal[
     "inverted_cdf",
     "averaged_inverted_cdf",
@@ -41,18 +28,6 @@ _NumpyQuantileMethod = Literal[
     "median_unbiased",
     "normal_unbiased",
 ]
-
-HISTOGRAM_RULES: dict[str, str] = {
-    "fd": "Freedman–Diaconis",
-    "sturges": "Sturges",
-    "scott": "Scott",
-    "doane": "Doane",
-    "rice": "Rice",
-    "sqrt": "square root of n",
-    "stone": "Stone",
-    "auto": "smaller bin width of Sturges and Freedman–Diaconis",
-    "edges": "given bin edges",
-}
 
 # The D'Agostino & Stephens small-sample adjustment is given for n >= 8 (from memory).
 AD_MIN_POINTS = 8

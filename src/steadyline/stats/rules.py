@@ -54,9 +54,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from steadyline.stats.results import ControlChart, Signal, StatsError
+from .codes import SignalRules
+from .results import ControlChart, Signal, StatsError
 
-DEFAULT_RULE_SET = "western-electric"
+DEFAULT_RULE_SET = SignalRules.WESTERN_ELECTRIC.value
 
 # Conventions, as constants so that pages and tests can refer to them.
 ON_CENTRE_BREAKS_RUN = True
@@ -139,13 +140,13 @@ _RULES = {
 }
 
 _SETS: dict[str, tuple[str, ...]] = {
-    "western-electric": (
+    SignalRules.WESTERN_ELECTRIC.value: (
         "beyond-limits",
         "two-of-three-beyond-2-sigma",
         "four-of-five-beyond-1-sigma",
         "run-of-8-one-side",
     ),
-    "nelson": (
+    SignalRules.NELSON.value: (
         "beyond-limits",
         "run-of-9-one-side",
         "trend-of-6",
@@ -164,8 +165,8 @@ RULE_SETS: dict[str, tuple[tuple[str, str], ...]] = {
 """Rule set name -> ((rule key, description), ...), in the order the rules are applied."""
 
 RULE_SET_SOURCES: dict[str, str] = {
-    "western-electric": "Western Electric, Statistical Quality Control Handbook (1956)",
-    "nelson": "Nelson (1984), Journal of Quality Technology 16(4):237-239",
+    SignalRules.WESTERN_ELECTRIC.value: "Western Electric, Statistical Quality Control Handbook (1956)",
+    SignalRules.NELSON.value: "Nelson (1984), Journal of Quality Technology 16(4):237-239",
     "limits-only": "Shewhart's 3-sigma limits alone",
 }
 

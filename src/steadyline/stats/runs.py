@@ -50,19 +50,15 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from .codes import RUN_RULES_DETAIL, RunRules
 from .results import RunChartAnalysis, Signal, StatsError
 from .run_limits import anhoj_limits, perla_runs_limits
 from .run_patterns import SideRuns, runs_of_sides, trends
 
-RULE_SETS = ("anhoj", "perla")
-RULE_SET_LABELS = {
-    "anhoj": "Anhøj rules (longest run and number of crossings; Anhøj & Olesen 2014)",
-    "perla": "Perla, Provost & Murray rules (shift, trend and number of runs; Perla, Provost & "
-    "Murray 2011)",
-}
-# the same rule sets by their name alone ("... by the Anhøj rules"); each label above starts
-# with this name, the one the pages use (a test holds them to the site's vocabulary)
-RULE_SET_SHORT = {"anhoj": "Anhøj rules", "perla": "Perla, Provost & Murray rules"}
+RULE_SETS = RunRules.codes()
+# each rule set by its name ("... by the Anhøj rules"), and with what it tests in the notes
+RULE_SET_SHORT = {r.value: r.label for r in RunRules}
+RULE_SET_LABELS = {r.value: f"{r.label} ({RUN_RULES_DETAIL[r]})" for r in RunRules}
 
 
 def _count(n: int, word: str) -> str:

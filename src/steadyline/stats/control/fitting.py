@@ -76,9 +76,10 @@ from typing import Any
 
 import numpy as np
 
+from ..codes import LimitMode
 from ..results import ControlChart, StatsError
 
-LIMIT_MODES = ("baseline", "per-period")
+LIMIT_MODES = LimitMode.codes()
 
 
 class TooFew(Exception):

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..codes import LimitMode
 from ..constants import d2, d3
 from ..results import ControlChart, StatsError
 from .fitting import (
@@ -185,7 +186,7 @@ def _extras(groups: list[Group], limits: str, base: _XmrFit) -> dict[str, float 
         "average_moving_range": base.mr_bar,
         "moving_ranges_used": float(base.n_ranges),
     }
-    if limits == "per-period":
+    if limits == LimitMode.PER_PERIOD:
         for g in groups:
             extras[f"process_sigma_stage_{g.stage}"] = None if g.result is None else g.result.sigma
     return extras

@@ -16,6 +16,7 @@ from typing import Any
 
 import numpy as np
 
+from ..codes import LimitMode
 from ..constants import d2
 from ..results import ControlChart, StatsError
 from .fitting import (
@@ -235,7 +236,7 @@ def _described(
     if laney and used_laney:
         out_kind = f"laney-{kind}"
         extras["sigma_z"] = base.sigma_z if base.laney else None
-        if limits == "per-period":
+        if limits == LimitMode.PER_PERIOD:
             for g in groups:
                 r = g.result
                 extras[f"sigma_z_stage_{g.stage}"] = r.sigma_z if r is not None else None

@@ -13,6 +13,7 @@ from typing import Any
 
 import numpy as np
 
+from ..codes import LimitMode
 from ..constants import c4, d2, d3
 from ..results import ControlChart, StatsError
 from .fitting import (
@@ -295,7 +296,7 @@ def _extras(
     else:
         extras = {"average_stdev": base.spread_bar}
     extras["grand_mean"] = base.grand_mean
-    if limits == "per-period":
+    if limits == LimitMode.PER_PERIOD:
         for g in groups:
             extras[f"process_sigma_stage_{g.stage}"] = None if g.result is None else g.result.sigma
     return extras
