@@ -9,6 +9,7 @@ is set: under CI a missing install step must not pass unnoticed.
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import http.server
 import os
@@ -72,18 +73,35 @@ def built_site(tmp_path_factory) -> Path:
     return out
 
 
-@pytest.fixture(scope="session")
-def site_url(built_site) -> str:
-    """Base URL (ending in '/') of a ThreadingHTTPServer serving the built site on 127.0.0.1."""
-    handler = functools.partial(_QuietHandler, directory=str(built_site))
+@contextlib.contextmanager
+def _serving(folder: Path):
+    """A quiet ThreadingHTTPServer serving *folder* on 127.0.0.1; its base URL (ending in '/')."""
+    handler = functools.partial(_QuietHandler, directory=str(folder))
     server = _QuietServer(("127.0.0.1", 0), handler)
     thread = threading.Thread(target=server.serve_forever, name="site-server", daemon=True)
     thread.start()
     host, port = server.server_address[:2]
-    yield f"http://{host}:{port}/"
-    server.shutdown()
-    server.server_close()
-    thread.join(timeout=5)
+    try:
+        yield f"http://{host}:{port}/"
+    finally:
+        server.shutdown()
+        server.server_close()
+        thread.join(timeout=5)
+
+
+@pytest.fixture(scope="session")
+def serve_folder():
+    """Serves a folder for the rest of the session: ``serve_folder(path)`` gives its base URL
+    (one server for every browser test that builds a site of its own)."""
+    with contextlib.ExitStack() as stack:
+        yield lambda folder: stack.enter_context(_serving(folder))
+
+
+@pytest.fixture(scope="session")
+def site_url(built_site) -> str:
+    """Base URL (ending in '/') of a ThreadingHTTPServer serving the built site on 127.0.0.1."""
+    with _serving(built_site) as url:
+        yield url
 
 
 @pytest.fixture(scope="session")

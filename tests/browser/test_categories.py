@@ -20,10 +20,7 @@ Skipped when Chromium or playwright is missing, except under CI (env CI set), wh
 
 from __future__ import annotations
 
-import functools
-import http.server
 import sys
-import threading
 from collections import Counter
 from datetime import date, timedelta
 from pathlib import Path
@@ -127,7 +124,7 @@ def _ranked(counts: Counter) -> list[str]:
 
 
 @pytest.fixture(scope="module")
-def category_site(tmp_path_factory):
+def category_site(tmp_path_factory, serve_folder):
     from steadyline.pipeline.build import BuildOptions, build
 
     root = tmp_path_factory.mktemp("categories")
@@ -150,24 +147,10 @@ def category_site(tmp_path_factory):
     )
     report = build(BuildOptions(projects, root / "site", force=True, jobs=1))
     assert report.ok and sorted(report.built) == ["builtin-names", "many-categories"], report
-    server = http.server.ThreadingHTTPServer(
-        ("127.0.0.1", 0),
-        functools.partial(_Quiet, directory=str(root / "site")),
-    )
-    server.daemon_threads = True
-    thread = threading.Thread(target=server.serve_forever, daemon=True)
-    thread.start()
     yield (
-        f"http://127.0.0.1:{server.server_address[1]}/",
+        serve_folder(root / "site"),
         {"base": base, "after": after, "many": many, "site": root / "site"},
     )
-    server.shutdown()
-    server.server_close()
-
-
-class _Quiet(http.server.SimpleHTTPRequestHandler):
-    def log_message(self, *args):
-        pass
 
 
 # Every drawn bar (rect marks) with its datum, and the x-axis labels, panel by panel, read

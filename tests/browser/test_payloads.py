@@ -12,11 +12,8 @@ Skipped when Chromium or playwright is missing, except under CI (env CI set), wh
 
 from __future__ import annotations
 
-import functools
-import http.server
 import os
 import sys
-import threading
 from pathlib import Path
 from urllib.parse import urlsplit
 
@@ -61,34 +58,20 @@ def _unavailable(reason: str):
     pytest.skip(reason)
 
 
-class _Quiet(http.server.SimpleHTTPRequestHandler):
-    def log_message(self, *args):
-        pass
-
-
 @pytest.fixture(scope="module")
-def hostile_url(tmp_path_factory):
+def hostile_url(tmp_path_factory, serve_folder):
     from steadyline.pipeline.build import BuildOptions, build
 
     root = tmp_path_factory.mktemp("payloads")
     projects = write(root / "projects", hostile_portfolio())
     report = build(BuildOptions(projects, root / "site", force=True, jobs=1))
     assert sorted(report.broken) == ["broken", "broken2"] and report.built == ["evil"]
-    server = http.server.ThreadingHTTPServer(
-        ("127.0.0.1", 0), functools.partial(_Quiet, directory=str(root / "site"))
-    )
-    server.daemon_threads = True
-    thread = threading.Thread(target=server.serve_forever, daemon=True)
-    thread.start()
-    host, port = server.server_address[:2]
     pages = sorted(p.relative_to(root / "site").as_posix() for p in (root / "site").rglob("*.html"))
     # a canary outside the site's pages: proves the watchers below do catch a payload that runs
     (root / "site" / "canary.html").write_text(
         "<!doctype html><title>c</title><script>window.__pwned=1;alert('canary')</script>"
     )
-    yield f"http://{host}:{port}/", pages
-    server.shutdown()
-    server.server_close()
+    return serve_folder(root / "site"), pages
 
 
 @pytest.fixture(scope="module")
