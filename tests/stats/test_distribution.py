@@ -215,6 +215,18 @@ def test_fd_falls_back_when_it_would_need_absurd_bin_count():
     assert h.counts == tuple(np.histogram(x, bins="sturges")[0])
 
 
+def test_fd_falls_back_without_a_warning_when_its_width_is_subnormal():
+    # found by the fuzz test: magnitudes within 1e12 whose quartiles differ by a subnormal
+    # amount; range / width overflows, which must read as "too many bins", quietly
+    x = [-1e12, 1e12] + [0.0] * 10 + [5e-324] * 10
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        h = histogram(x, "fd")
+    assert h.rule == "sturges" and "Freedman–Diaconis would need" in h.rule_label
+    # reference: numpy.histogram with the Sturges rule
+    assert h.counts == tuple(np.histogram(x, bins="sturges")[0])
+
+
 def test_histogram_errors():
     with pytest.raises(StatsError):
         histogram([], "fd")

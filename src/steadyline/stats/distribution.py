@@ -108,7 +108,7 @@ MAX_NAMED_BINS = 500  # our guard: beyond this a named rule falls back to Sturge
 def _fd_bins_needed(x: np.ndarray) -> int:
     """Number of bins the Freedman–Diaconis width would give, without allocating them."""
     q1, q3 = np.percentile(x, [25, 75])
-    width = 2.0 * (q3 - q1) * len(x) ** (-1 / 3)
+    width = 2.0 * float(q3 - q1) * len(x) ** (-1 / 3)  # a float: a huge ratio is inf, no warning
     if not width > 0:
         return 1
     k = (float(x.max()) - float(x.min())) / width
