@@ -8,7 +8,10 @@ Two small projects are built, served on 127.0.0.1 and drawn in headless Debian C
   Prototype Object", and its annex B for ``__proto__`` and ``__defineGetter__``), which a
   drawing library that keeps values as keys of a plain object would mistake for its own;
 - ``many-categories``: one metric with 5,000 categories, drawn as its largest categories and
-  one bar gathering all the others, whose number is stated.
+  one bar gathering all the others, whose number is stated;
+- ``builtin-metric-names``: measured values in metrics named ``constructor`` (unit
+  ``toString``) and ``__proto__``: every run chart, control chart, histogram and box plot is
+  drawn, with those names in its titles.
 
 On the project page (Pareto and column chart) and the before-and-after page (Pareto by period),
 each chart must be drawn with no console error and no page error, and its bars must be the
@@ -118,6 +121,43 @@ def _categories_meta(slug: str, comparison: str | None, **metric) -> str:
 BUILTIN_METRIC = {"name": "constructor", "unit": "toString"}
 
 
+# Measured values whose metrics are named like inherited properties: the name alone is an axis
+# title (no unit), and a unit is one line of the moving-range chart's wrapped axis title.
+BUILTIN_SERIES_TOML = f"""title = "Built-in metric names"
+owner = "O"
+phase = "improve"
+problem = "P"
+
+[comparison]
+baseline = [{BASELINE[0]}, {BASELINE[1]}]
+after = [{AFTER[0]}, {AFTER[1]}]
+""" + "".join(
+    f"""
+[[metric]]
+id = "{mid}"
+name = "{name}"
+file = "values.csv"
+type = "continuous"
+time = "day"
+value = "v"
+unit = "{unit}"
+better = "lower"
+spec_upper = 14.0
+"""
+    for mid, name, unit in (("a", "constructor", "toString"), ("b", "__proto__", ""))
+)
+
+
+def _series_csv() -> str:
+    """One value a day over the baseline and after periods, lower after (deterministic)."""
+    n = (AFTER[1] - BASELINE[0]).days + 1
+    days = [(BASELINE[0] + timedelta(days=i)).isoformat() for i in range(n)]
+    return "day,v\n" + "".join(
+        f"{d},{(10.0 if d <= BASELINE[1].isoformat() else 8.5) + ((7 * i) % 11) / 10:.1f}\n"
+        for i, d in enumerate(days)
+    )
+
+
 def _ranked(counts: Counter) -> list[str]:
     """Largest first, ties by name (the Pareto's order)."""
     return sorted(counts, key=lambda c: (-counts[c], c))
@@ -143,10 +183,16 @@ def category_site(tmp_path_factory, serve_folder):
             "builtin-names/reasons.csv": _csv(builtin_rows),
             "many-categories/project.toml": _categories_meta("many-categories", None, count="n"),
             "many-categories/reasons.csv": many_csv,
+            "builtin-metric-names/project.toml": BUILTIN_SERIES_TOML,
+            "builtin-metric-names/values.csv": _series_csv(),
         },
     )
     report = build(BuildOptions(projects, root / "site", force=True, jobs=1))
-    assert report.ok and sorted(report.built) == ["builtin-names", "many-categories"], report
+    assert report.ok and sorted(report.built) == [
+        "builtin-metric-names",
+        "builtin-names",
+        "many-categories",
+    ], report
     yield (
         serve_folder(root / "site"),
         {"base": base, "after": after, "many": many, "site": root / "site"},
@@ -259,6 +305,44 @@ def test_builtin_names_draw_like_any_other(browser, category_site):
     _check_panel(chart, 0, [(n, base[n]) for n in order], "baseline panel")
     _check_panel(chart, 1, [(n, after[n]) for n in order], "after panel")
     assert [base[n] for n in order[:-2]] == sorted(base.values(), reverse=True)
+
+
+TEXTS = """() => Array.from(document.querySelectorAll('.chart svg text'), t => {
+  const lines = t.querySelectorAll('tspan');
+  return lines.length ? Array.from(lines, l => l.textContent) : [t.textContent];
+}).flat()"""
+
+
+def test_metrics_named_like_builtins_draw_every_chart(browser, category_site):
+    base_url, _ = category_site
+    for name in ("index.html", "history.html"):
+        ctx = browser.new_context(viewport={"width": 1280, "height": 900})
+        ctx.set_default_timeout(60_000)
+        errors: list[str] = []
+        try:
+            page = ctx.new_page()
+            page.on("console", lambda m, e=errors: e.append(m.text) if m.type == "error" else None)
+            page.on("pageerror", lambda x, e=errors: e.append(str(x)))
+            page.goto(base_url + "projects/builtin-metric-names/" + name, wait_until="load")
+            settled = page.evaluate(
+                "async () => (await window.steadylineCharts).map(s => s.status)"
+            )
+            drawn = page.evaluate(
+                "() => Array.from(document.querySelectorAll('.chart'), "
+                "c => !!c.querySelector('svg text'))"
+            )
+            texts = page.evaluate(TEXTS)
+        finally:
+            ctx.close()
+        # every chart drawn (two metrics: at least run, control, histogram, box plot each)
+        assert errors == [], (name, errors)
+        assert len(settled) >= 8 and set(settled) == {"fulfilled"}, (name, settled)
+        assert all(drawn), (name, drawn)
+        assert not any("[object Object]" in t for t in texts), name
+        # the names and the unit are drawn as titles, as they are (the guard adds only a
+        # zero-width space, which nothing shows)
+        shown = {t.replace("\u200b", "") for t in texts}
+        assert {"constructor (toString)", "__proto__", "toString"} <= shown, (name, shown)
 
 
 def _vital_few(counts: Counter, threshold: float = 80.0) -> list[str]:

@@ -26,6 +26,37 @@ _TEMPLATES: dict[tuple[Hashable, ...], dict] = {}
 _COPIES: dict[int, tuple[bytes, list[tuple[tuple, str, bool]]]] = {}
 
 
+# The properties every JavaScript object inherits (ECMA-262, "Properties of the Object
+# Prototype Object", and annex B for the __ ones). Vega's runtime, as the site runs it (with
+# the expression interpreter), refuses a chart in which one of these names stands alone as a
+# constant text, such as an axis title ("Operator not defined"), and draws "__proto__" as
+# "[object Object]". A metric's name or unit from the metadata is such a text on an axis (alone,
+# or as one line of a wrapped title): every text filled into a template, and every line of a
+# chart's title and subtitle, goes through constant_text.
+_INHERITED = frozenset(
+    {
+        "constructor",
+        "__proto__",
+        "toString",
+        "toLocaleString",
+        "valueOf",
+        "hasOwnProperty",
+        "isPrototypeOf",
+        "propertyIsEnumerable",
+        "__defineGetter__",
+        "__defineSetter__",
+        "__lookupGetter__",
+        "__lookupSetter__",
+    }
+)
+
+
+def constant_text(text: str) -> str:
+    """``text`` to stand alone in a spec as a constant (a title): as it is, or, when it is an
+    inherited property's name, with a zero-width space after it, which nothing shows."""
+    return text + "\u200b" if text in _INHERITED else text
+
+
 def slot(name: str) -> str:
     """A placeholder string for a per-metric value in a template."""
     return _PLACEHOLDER + name
@@ -76,10 +107,18 @@ def _find_slots(node, path: tuple, out: list) -> None:
 
 def _slot_value(name: str, values: dict, is_list: bool):
     if is_list and name in values and isinstance(values[name], list):
-        return list(values[name])
+        return [_constant(v) for v in values[name]]
     if name not in values:
         raise KeyError(f"no value given for the template placeholder {name!r}")
-    return [values[name]] if is_list else values[name]
+    value = values[name]
+    if isinstance(value, list):
+        return [_constant(v) for v in value]
+    return [_constant(value)] if is_list else _constant(value)
+
+
+def _constant(value):
+    """A value filled into a template: a text through :func:`constant_text`, else as it is."""
+    return constant_text(value) if type(value) is str else value
 
 
 def fill(node, values: dict):
@@ -127,8 +166,8 @@ def make_spec(
         name: rows if name in exact else [_display_row(r) for r in rows]
         for name, rows in datasets.items()
     }
-    t: dict = {"text": title}
-    sub = [line for s in subtitle if s for line in _wrapped(s)]
+    t: dict = {"text": constant_text(title)}
+    sub = [constant_text(line) for s in subtitle if s for line in _wrapped(s)]
     if sub:
         t["subtitle"] = sub
     spec["title"] = t

@@ -34,35 +34,6 @@ _KEY_LABEL = "slice(datum.label, indexof(datum.label, ' ') + 1)"
 MAX_BARS = 25
 
 
-# The properties every JavaScript object inherits (ECMA-262, "Properties of the Object
-# Prototype Object", and annex B for the __ ones). Vega's runtime, as the site runs it (with
-# the expression interpreter), refuses a chart in which one of these names stands alone as a
-# constant text, such as an axis title ("Operator not defined"), and draws "__proto__" as
-# "[object Object]". A unit given in the metadata is such a text on the column chart's axis.
-_INHERITED = frozenset(
-    {
-        "constructor",
-        "__proto__",
-        "toString",
-        "toLocaleString",
-        "valueOf",
-        "hasOwnProperty",
-        "isPrototypeOf",
-        "propertyIsEnumerable",
-        "__defineGetter__",
-        "__defineSetter__",
-        "__lookupGetter__",
-        "__lookupSetter__",
-    }
-)
-
-
-def constant_text(text: str) -> str:
-    """``text`` to stand alone in a spec as a constant (a title): as it is, or, when it is an
-    inherited property's name, with a zero-width space after it, which nothing shows."""
-    return text + "\u200b" if text in _INHERITED else text
-
-
 def gathered(n_categories: int) -> int:
     """How many categories a chart of ``n_categories`` gathers into its last bar (0: none)."""
     return n_categories - (MAX_BARS - 1) if n_categories > MAX_BARS else 0

@@ -8,7 +8,7 @@ from .. import style, vl
 from ..base.numbers import fmt, num, plural, with_unit
 from ..base.templates import cached_template, finish_template, make_spec, slot
 from ..base.types import ChartSpec
-from .categories import MAX_BARS, _category_x, bar_keys, constant_text, gathered, others_label
+from .categories import MAX_BARS, _category_x, bar_keys, gathered, others_label
 
 
 def _column_template() -> dict:
@@ -73,7 +73,7 @@ def column_chart(
     ]
     spec = make_spec(
         tpl,
-        {"y_title": constant_text(unit or "count")},
+        {"y_title": unit or "count"},
         {"bars": rows},
         "Counts by category",
         sub,
