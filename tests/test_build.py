@@ -15,6 +15,7 @@ import time
 from pathlib import Path
 
 import pytest
+from corpus.kit import good_csv, meta, write
 
 from steadyline.cli import main
 from steadyline.pipeline.build import build
@@ -469,3 +470,45 @@ def test_a_first_build_in_a_pool_started_early_and_flushed_matches_a_serial_buil
     # a rebuild with a site in place starts no pool before planning
     build(BuildOptions(projects, tmp_path / "pooled", jobs=2))
     assert started == [2]
+
+
+def _caution_counts(site: Path) -> dict[str, tuple[int, int]]:
+    """Per project: the cautions its index card counts, and the cautions its page shows (the
+    cards' marked cautions and every warning line, under a metric or among the input notes)."""
+    index = (site / "index.html").read_text("utf-8")
+    out = {}
+    for page in sorted(site.glob("projects/*/index.html")):
+        slug = page.parent.name
+        card = index[index.index(f'<li class="card" data-slug="{slug}"') :]
+        card = card[: card.index("</li>")]
+        counted = int(re.search(r"<span>(\d+) cautions?</span>", card).group(1))
+        html = page.read_text("utf-8")
+        marked = sum(
+            u.count("<li>") for u in re.findall(r'<ul class="cautions"[^>]*>(.*?)</ul>', html, re.S)
+        )
+        out[slug] = (counted, marked + html.count('<li class="problem-warning">'))
+    return out
+
+
+def test_the_index_counts_the_cautions_the_project_page_shows(demo_site: Path, tmp_path: Path):
+    # the method notes under a card's "How it is made" are no cautions: the index counted them
+    # once (13 on a demo project whose page shows none)
+    demo = _caution_counts(demo_site)
+    assert all(counted == shown for counted, shown in demo.values()), demo
+    assert sum(shown for _, shown in demo.values()) >= 5  # the demo has some to count
+    # warnings of every kind: the metadata's (an older code), the data file's (rows out of
+    # time order, a repeated time) and a display's
+    rows = good_csv().splitlines()
+    rows[3], rows[4] = rows[4], rows[3]
+    rows.append(rows[-1])
+    projects = write(
+        tmp_path / "projects",
+        {
+            "w/project.toml": meta(metric={"limits": "per-phase", "spec_upper": 60.0}),
+            "w/data.csv": "\n".join(rows) + "\n",
+        },
+    )
+    report = build(BuildOptions(projects, tmp_path / "site", force=True, jobs=1))
+    assert report.ok, report
+    counted, shown = _caution_counts(tmp_path / "site")["w"]
+    assert counted == shown >= 3

@@ -34,17 +34,22 @@ def index_entry(
     spec: ProjectSpec,
     analyses: list[MetricAnalysis],
     sections: list[dict],
-    problems: list[Problem],
+    page_warnings: list[Problem],
     has_history: bool,
     fresh: str = "",
 ) -> dict:
     """The project's card on the index. *analyses*: the metrics built; a headline metric not
-    among them (its data have errors) is named on the card as not built."""
+    among them (its data have errors) is named on the card as not built. *page_warnings*: the
+    metadata's input notes, listed at the top of the project page."""
     headline = headline_card(spec, analyses, sections)
     signals = sum(s["open_signals"] for s in sections)
     baseline_signals = sum(s["baseline_signals"] for s in sections)
-    warnings = sum(len(c["cautions"]) for s in sections for c in s["displays"])
-    warnings += sum(1 for p in problems if p.severity == "warning")
+    # what the project page shows as cautions: each card's marked cautions (△; the method
+    # notes under "How it is made" are no cautions), the warnings under each metric's name and
+    # the metadata's input notes
+    warnings = sum(len(c["cautions_shown"]) for s in sections for c in s["displays"])
+    warnings += sum(p["severity"] == "warning" for s in sections for p in s.get("problems", ()))
+    warnings += sum(p.severity == "warning" for p in page_warnings)
     text = " ".join(
         [
             spec.title,

@@ -102,7 +102,7 @@ def project_outcome(
     history = history_results if has_history else None
     doc = results_doc(spec, verdict.as_json(), results, history, problems, prov, fresh)
     files["results.json"] = dumps_bytes(doc)
-    entry = index_entry(spec, analyses, sections, problems, has_history, fresh)
+    entry = index_entry(spec, analyses, sections, warnings, has_history, fresh)
     _add_status(entry, spec, head, verdict.as_json(), has_history, not_built)
     return ProjectOutcome(spec.slug, not not_built, files, entry, said)
 
