@@ -113,6 +113,69 @@
     return spec;
   }
 
+  /* Vega reports some failures only to its logger (a dataflow it cannot build) and draws
+     nothing, while vega-embed's promise still resolves: a blank box would pass for a chart.
+     Each chart's view gets a logger of its own, and an error it logs makes the chart fail as
+     any failure to draw does, in words on the page. vega-embed takes a View class but names
+     none: it is taken from a first view of an empty chart, made once per page. */
+  var LEVELS = { error: 1, warn: 2, info: 3, debug: 4 };  // Vega's log levels
+  var viewClass = null;
+
+  function baseView() {
+    if (viewClass) { return viewClass; }
+    viewClass = window.vegaEmbed(document.createElement("div"),
+                                 { mark: "point", data: { values: [] } },
+                                 { mode: "vega-lite", ast: true, renderer: "svg", actions: false })
+      .then(function (probe) {
+        var View = probe.view.constructor;
+        probe.finalize();
+        return View;
+      }, function () { return null; });
+    return viewClass;
+  }
+
+  function chartLogger(errors) {
+    var level = LEVELS.warn;
+    var logger = {
+      level: function (l) {
+        if (!arguments.length) { return level; }
+        level = l;
+        return logger;
+      }
+    };
+    Object.keys(LEVELS).forEach(function (name) {
+      logger[name] = function () {
+        var args = Array.prototype.slice.call(arguments);
+        if (name === "error") {
+          errors.push(args.map(function (a) { return a && a.message ? a.message : String(a); }).join(" "));
+        }
+        if (level >= LEVELS[name]) {
+          console[name === "debug" ? "log" : name].apply(console, [name.toUpperCase()].concat(args));
+        }
+        return logger;
+      };
+    });
+    return logger;
+  }
+
+  function loggedView(View, errors) {
+    if (!View) { return undefined; }
+    return class extends View {
+      constructor(spec, options) {
+        super(spec, Object.assign({}, options, { logger: chartLogger(errors) }));
+      }
+    };
+  }
+
+  function notDrawn(target, err) {
+    target.setAttribute("data-render", "error");
+    var p = document.createElement("p");
+    p.className = "render-error";
+    p.textContent = "This chart could not be drawn: " + (err && err.message ? err.message : err);
+    target.appendChild(p);
+    throw err;
+  }
+
   /* One chart: its spec is read afresh from the page each time (the fitting steps change it),
      fitted to the box's width now, and drawn. Returns vega-embed's promise. */
   var drawn = [];  // {target, block, width, result}
@@ -129,13 +192,22 @@
     spec = fitStacked(stackWhenNarrow(fitAxesAndLegends(narrowLabels(fitTitle(spec, target),
                                                                      target), target), target),
                       target, entry.shrink);
-    return window.vegaEmbed(target, spec, {
-      ast: true,                      // expression interpreter: works without 'unsafe-eval'
-      renderer: "svg",
-      actions: { export: true, source: false, compiled: false, editor: false },
-      downloadFileName: block.id.replace(/-spec$/, ""),
-      i18n: { SVG_ACTION: "Save as SVG", PNG_ACTION: "Save as PNG" }
+    var errors = [];
+    return Promise.resolve(baseView()).then(function (View) {
+      return window.vegaEmbed(target, spec, {
+        ast: true,                    // expression interpreter: works without 'unsafe-eval'
+        renderer: "svg",
+        actions: { export: true, source: false, compiled: false, editor: false },
+        downloadFileName: block.id.replace(/-spec$/, ""),
+        i18n: { SVG_ACTION: "Save as SVG", PNG_ACTION: "Save as PNG" },
+        viewClass: loggedView(View, errors)
+      });
     }).then(function (result) {
+      if (errors.length) {
+        result.finalize();
+        target.textContent = "";
+        return notDrawn(target, new Error(errors[0]));
+      }
       entry.result = result;
       // A stacked chart's widths are estimated before drawing (its labels' room is not known
       // yet); when the drawing came out wider than its box, draw it once more, narrower by
@@ -150,14 +222,7 @@
       }
       target.setAttribute("data-render", "done");
       return result;
-    }, function (err) {
-      target.setAttribute("data-render", "error");
-      var p = document.createElement("p");
-      p.className = "render-error";
-      p.textContent = "This chart could not be drawn: " + (err && err.message ? err.message : err);
-      target.appendChild(p);
-      throw err;
-    });
+    }, function (err) { return notDrawn(target, err); });
   }
 
   function drawCharts() {

@@ -345,6 +345,33 @@ def test_metrics_named_like_builtins_draw_every_chart(browser, category_site):
         assert {"constructor (toString)", "__proto__", "toString"} <= shown, (name, shown)
 
 
+def test_a_chart_vega_cannot_run_says_so_in_words(browser, category_site):
+    """A chart whose dataflow Vega cannot build is drawn as nothing while vega-embed's promise
+    resolves; the page must not pass that blank box off as a chart. The guarded names are
+    unguarded here, in a copy of a page, to make such a chart."""
+    base_url, counts = category_site
+    folder = counts["site"] / "projects/builtin-metric-names"
+    html = (folder / "index.html").read_text("utf-8")
+    assert "\u200b" in html
+    (folder / "unguarded.html").write_text(html.replace("\u200b", ""), "utf-8")
+    ctx = browser.new_context(viewport={"width": 1280, "height": 900})
+    ctx.set_default_timeout(60_000)
+    try:
+        page = ctx.new_page()
+        page.goto(base_url + "projects/builtin-metric-names/unguarded.html", wait_until="load")
+        settled = page.evaluate("async () => (await window.steadylineCharts).map(s => s.status)")
+        states = page.evaluate(
+            "() => Array.from(document.querySelectorAll('.chart'), "
+            "c => [c.getAttribute('data-render'), c.textContent])"
+        )
+    finally:
+        ctx.close()
+    failed = [text for state, text in states if state == "error"]
+    assert failed and settled.count("rejected") == len(failed), (settled, states)
+    assert all(t.startswith("This chart could not be drawn: ") for t in failed), failed
+    assert settled.count("fulfilled") >= 6  # the others are drawn as usual
+
+
 def _vital_few(counts: Counter, threshold: float = 80.0) -> list[str]:
     """The smallest leading set, largest first, reaching the threshold share of the total."""
     total, running, out = sum(counts.values()), 0, []
