@@ -7,7 +7,7 @@ from __future__ import annotations
 import json
 
 import pytest
-from test_site import open_page
+from test_site import open_page, site_pages
 
 from steadyline.charts.series.marks import CHANGE_MARKS, MARK_ORDINARY, MARK_OWN_SIGNAL
 
@@ -74,3 +74,36 @@ def test_legends_name_every_mark_and_period_in_full(browser_context, site_url, b
         finally:
             page.close()
         assert watch.problems == [], watch.problems
+
+
+# Each legend label's box, and the box of the drawing it belongs to (an SVG shows nothing past
+# its edge), as Chromium lays them out.
+LEGEND_BOXES = """
+() => Array.from(document.querySelectorAll('.chart svg')).flatMap(svg => {
+  const box = svg.getBoundingClientRect(), chart = svg.closest('.chart');
+  return Array.from(svg.querySelectorAll('.role-legend text')).map(t => {
+    const r = t.getBoundingClientRect();
+    return [chart.id, t.textContent, r.left - box.left, r.right - box.right, r.width];
+  });
+})
+"""
+
+
+@pytest.mark.slow  # every page of the demo drawn: about 20 s
+def test_every_legend_label_is_drawn_whole_inside_its_chart(browser_context, site_url, built_site):
+    # a legend of two columns once ran past the card's edge and cut "share of the variance
+    # (contribution)"; Vega's own cut ends a label with an ellipsis
+    seen = 0
+    for path in site_pages(built_site):
+        page, _ = open_page(browser_context, site_url, path)
+        try:
+            page.evaluate("async () => { await window.steadylineCharts; }")
+            boxes = page.evaluate(LEGEND_BOXES)
+        finally:
+            page.close()
+        for chart_id, text, left, right, width in boxes:
+            seen += 1
+            where = (path, chart_id, text)
+            assert left >= -1 and right <= 1 and width > 0, where
+            assert not text.endswith("…"), where
+    assert seen >= 100

@@ -27,7 +27,8 @@ def _components_template() -> dict:
         "share_key:N",
         title=None,
         scale={"range": [style.DATA, style.HIST_BAR, style.CURVE]},
-        legend=_legend_keyed(None),
+        # one entry a line: two columns of these long names run past a card's edge
+        legend=_legend_keyed(None) | {"columns": 1},
     )
     x = vl.field(
         "percent:Q",
