@@ -130,3 +130,62 @@ def test_invalid_counts():
         CH.choose_chart("defectives", sizes=[10, 12], counts=[11, 3])
     with pytest.raises(StatsError, match="not negative"):
         CH.choose_chart("defects", counts=[-1, 3])
+
+
+# --- the check on the points the limits are fitted to ------------------------------------------
+
+
+def _by_hand(d, n, fit, neighbours):
+    """Laney's sigma_z written out (Laney 2002): the pooled rate of the fitted points, their
+    z-scores, the mean of |z_b - z_a| over the given neighbouring pairs, divided by
+    d2(2) = 2/sqrt(pi) (the expected range of two standard normal values)."""
+    d, n = np.asarray(d, float), np.asarray(n, float)
+    p = d[fit].sum() / n[fit].sum()
+    z = (d / n - p) / np.sqrt(p * (1 - p) / n)
+    return np.mean([abs(z[b] - z[a]) for a, b in neighbours]) / (2 / np.sqrt(np.pi))
+
+
+def test_sigma_z_of_the_baseline_breaks_at_gaps_and_points_set_aside():
+    d = [12, 15, 8, 22, 18, 10, 14, 25, 9, 16, 30, 5, 28, 6]
+    n = [400, 420, 380, 450, 410, 390, 400, 460, 370, 420, 400, 400, 400, 400]
+    stage = [0] * 10 + [1] * 4
+    segment = [0, 0, 0, 0, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1]  # a missing period before point 4
+    aside = [False] * 6 + [True] + [False] * 7  # point 6 set aside
+    fit = np.array([s == 0 and not a for s, a in zip(stage, aside, strict=True)])
+    # successive fitted points in one segment, none across the set-aside point 6
+    pairs = [(0, 1), (1, 2), (2, 3), (4, 5), (7, 8), (8, 9)]
+    want = _by_hand(d, n, fit, pairs)
+    got = CH.sigma_z_of(d, n, stage=stage, segment=segment, set_aside=aside)
+    assert got == pytest.approx(want, rel=1e-12)
+    # and it is the sigma_z of the Laney chart fitted to the baseline
+    chart = laney_p(d, n, stage=stage, segment=segment, set_aside=aside)
+    assert chart.extras["sigma_z"] == pytest.approx(got, rel=1e-12)
+
+
+def test_sigma_z_sd_of_ranges_in_runs_against_simulation():
+    # reference: numpy simulation of independent N(0,1) z-scores in runs of 5, 8 and 12
+    # successive points (a moving range only within a run)
+    rng = np.random.default_rng(7)
+    runs = [5, 8, 12]
+    mrs = [np.abs(np.diff(rng.standard_normal((20000, r)), axis=1)) for r in runs]
+    sz = np.concatenate(mrs, axis=1).mean(axis=1) / (2 / np.sqrt(np.pi))
+    k = sum(r - 1 for r in runs)
+    pairs = sum(r - 2 for r in runs)
+    assert CH._sd_of_mr_mean(k, pairs) == pytest.approx(sz.std(), rel=0.03)
+    assert CH._sd_of_mr_mean(k, k - 1) == pytest.approx(CH.sigma_z_sd(k + 1))
+
+
+def test_after_points_do_not_change_the_chart_of_the_baseline():
+    # a stable baseline of large subgroups (binomial draws, scipy) and an after period that
+    # swings far more than the binomial model: judged on every point the check would ask for
+    # a Laney chart; judged on the baseline it keeps the p chart the baseline calls for
+    rng = np.random.default_rng(11)
+    n = rng.integers(1500, 3000, size=40)
+    base = stats.binom.rvs(n[:20], 0.03, random_state=rng)
+    after = np.round(n[20:] * np.where(np.arange(20) % 2 == 0, 0.005, 0.05))
+    d = np.concatenate([base, after])
+    stage = [0] * 20 + [1] * 20
+    assert CH.choose_chart("defectives", sizes=n[:20], counts=base).kind == "p"
+    assert CH.choose_chart("defectives", sizes=n, counts=d).kind == "laney-p"
+    kept = CH.choose_chart("defectives", sizes=n, counts=d, stage=stage)
+    assert kept.kind == "p" and "no overdispersion" in kept.reason

@@ -183,11 +183,16 @@ def _choose(data: MetricData) -> ChartChoice:
     if data.kind == "subgroups":
         sizes = [len(g) for g in data.subgroups or []]
         return choose_chart("continuous", subgroup_sizes=sizes, override=override)
+    # the overdispersion check is made on the points the limits are fitted to, as the chart's
+    # own sigma_z is: the baseline, without the points set aside, no moving range across a gap
     return choose_chart(
         data.kind,
         sizes=pts["size"].to_numpy(float),
         counts=pts["count"].to_numpy(float),
         override=override,
+        stage=pts["stage"].to_numpy(int),
+        segment=pts["segment"].to_numpy(np.int64) if "segment" in pts else None,
+        set_aside=pts["aside"].to_numpy(bool) if "aside" in pts else None,
     )
 
 

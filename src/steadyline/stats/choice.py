@@ -41,6 +41,8 @@ from steadyline.stats.results import ChartChoice, StatsError
 
 from . import normal
 from .codes import CHARTED_TYPES, ChartKind
+from .control.fitting import check_aside
+from .control.neighbours import chains, check_segment, consecutive_pairs, pair_key
 
 DATA_TYPES = CHARTED_TYPES
 CHART_KINDS = tuple(k.value for k in ChartKind if k is not ChartKind.AUTO)
@@ -67,9 +69,16 @@ def sigma_z_sd(m: int) -> float:
     Var(MR-bar) = [(m-1) Var|D| + 2 (m-2) Cov] / (m-1)^2, divided by d2(2)^2.
     Checked against simulation in the tests (reference: numpy random normal draws).
     """
-    if m < 2:
-        raise StatsError(f"sigma_z needs at least two points, got {m}")
-    var = ((m - 1) * _VAR_MR + 2 * max(m - 2, 0) * _COV_MR) / (m - 1) ** 2
+    return _sd_of_mr_mean(m - 1, max(m - 2, 0))
+
+
+def _sd_of_mr_mean(k: int, pairs: int) -> float:
+    """Standard deviation of sigma_z from ``k`` moving ranges of which ``pairs`` neighbouring
+    pairs share a point (m - 2 for m successive points; fewer when the ranges come in runs
+    broken by gaps, which are independent of each other)."""
+    if k < 1:
+        raise StatsError(f"sigma_z needs at least two points, got {k + 1}")
+    var = (k * _VAR_MR + 2 * pairs * _COV_MR) / k**2
     return math.sqrt(var) / d2(2)
 
 
@@ -85,26 +94,52 @@ def sigma_z_of(
     counts: Sequence[float] | np.ndarray,
     sizes: Sequence[float] | np.ndarray,
     proportion: bool = True,
+    stage: Sequence[int] | np.ndarray | None = None,
+    segment: Sequence[int] | np.ndarray | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> float:
-    """Laney's sigma_z over all points: average moving range of the z-scores / d2(2).
+    """Laney's sigma_z: average moving range of the z-scores / d2(2).
 
     z_i = (r_i - r-bar) / sqrt(v / n_i), r-bar = sum counts / sum sizes, v = r-bar(1 - r-bar)
-    for proportions and r-bar for rates. Points with size 0 are skipped.
+    for proportions and r-bar for rates. Points with size 0 are skipped. With ``stage``, of
+    the points of stage 0 (the baseline) only, as a Laney chart's limits are fitted; ``segment``
+    and ``set_aside`` break the moving ranges as the charts do (none across a gap in the
+    periods, none that involves a point set aside or joins the points either side of one),
+    and points set aside take no part. The value is the chart's ``extras["sigma_z"]``.
     """
+    return _sigma_z_fit(counts, sizes, proportion, stage, segment, set_aside)[0]
+
+
+def _sigma_z_fit(counts, sizes, proportion, stage, segment, set_aside) -> tuple[float, int, int]:
+    """(sigma_z, moving ranges, neighbouring pairs of them) of :func:`sigma_z_of`."""
     c = np.asarray(counts, dtype=float)
     n = np.asarray(sizes, dtype=float)
     if c.shape != n.shape or c.ndim != 1:
         raise StatsError("counts and sizes must be one-dimensional and of the same length")
-    keep = n > 0
-    c, n = c[keep], n[keep]
-    if c.size < 2:
-        raise StatsError(f"sigma_z needs at least two points with a positive size, got {c.size}")
-    rate = c.sum() / n.sum()
+    st = np.zeros(c.size, dtype=np.int64) if stage is None else np.asarray(stage, dtype=np.int64)
+    if st.shape != c.shape:
+        raise StatsError("stage must give one number per point")
+    _brk, chain = chains(st, check_segment(segment, c.size))
+    aside = check_aside(set_aside, c.size)
+    chain = pair_key(chain, aside)
+    fit = (n > 0) & (st == 0)
+    if aside is not None:
+        fit &= ~aside
+    if int(fit.sum()) < 2:
+        raise StatsError(
+            f"sigma_z needs at least two points with a positive size, got {int(fit.sum())}"
+        )
+    rate = c[fit].sum() / n[fit].sum()
     var = rate * (1 - rate) if proportion else rate
     if var <= 0:
         raise StatsError("sigma_z is undefined when no (or every) item is defective")
-    z = (c / n - rate) / np.sqrt(var / n)
-    return float(np.mean(np.abs(np.diff(z))) / d2(2))
+    z = np.full(c.size, np.nan)
+    z[fit] = (c[fit] / n[fit] - rate) / np.sqrt(var / n[fit])
+    a, b = consecutive_pairs(fit, chain)
+    if a.size < 1:
+        raise StatsError("sigma_z needs two successive points")
+    pairs = int(np.sum(a[1:] == b[:-1]))  # neighbouring ranges that share a point
+    return float(np.mean(np.abs(z[b] - z[a])) / d2(2)), int(a.size), pairs
 
 
 def _arr(values: Sequence[float] | np.ndarray | None, what: str) -> np.ndarray | None:
@@ -131,6 +166,9 @@ def choose_chart(
     sizes: Sequence[float] | np.ndarray | None = None,
     override: str | None = None,
     counts: Sequence[float] | np.ndarray | None = None,
+    stage: Sequence[int] | np.ndarray | None = None,
+    segment: Sequence[int] | np.ndarray | None = None,
+    set_aside: Sequence[bool] | np.ndarray | None = None,
 ) -> ChartChoice:
     """Pick a chart kind for ``data_type`` ("continuous", "defectives" or "defects").
 
@@ -141,6 +179,10 @@ def choose_chart(
 
     ``override`` forces a kind; it must suit the data type (an Xbar-R chart cannot be forced on
     defectives, an np chart needs a constant number checked), else :class:`StatsError`.
+
+    ``stage``, ``segment`` and ``set_aside`` (as the charts take them) place the points: the
+    overdispersion check of large counts is made on the baseline's points (stage 0) without
+    those set aside, with no moving range across a gap, as a Laney chart's sigma_z is.
     """
     if data_type not in DATA_TYPES:
         raise StatsError(f"data_type must be one of {', '.join(DATA_TYPES)}; got {data_type!r}")
@@ -149,7 +191,8 @@ def choose_chart(
     if data_type == "continuous":
         choice = _continuous(_arr(subgroup_sizes, "subgroup sizes"), override)
     else:
-        choice = _attribute(data_type, _arr(sizes, "sizes"), _arr(counts, "counts"), override)
+        fit = {"stage": stage, "segment": segment, "set_aside": set_aside}
+        choice = _attribute(data_type, _arr(sizes, "sizes"), _arr(counts, "counts"), override, fit)
     return choice
 
 
@@ -188,7 +231,11 @@ def _continuous(sg: np.ndarray | None, override: str | None) -> ChartChoice:
 
 
 def _attribute(
-    data_type: str, sizes: np.ndarray | None, counts: np.ndarray | None, override: str | None
+    data_type: str,
+    sizes: np.ndarray | None,
+    counts: np.ndarray | None,
+    override: str | None,
+    fit: dict,
 ) -> ChartChoice:
     defectives = data_type == "defectives"
     if defectives:
@@ -200,7 +247,7 @@ def _attribute(
         _check_counts(counts, sizes, defectives)
         allowed, kind, reason = _defects(sizes)
     if counts is not None and counts.size >= MIN_POINTS_FOR_CHECK:
-        kind, reason = _overdispersion(defectives, sizes, counts, kind, reason)
+        kind, reason = _overdispersion(defectives, sizes, counts, kind, reason, fit)
     return _apply_override(kind, reason, allowed, override, f"{data_type} data")
 
 
@@ -236,25 +283,38 @@ def _defects(sizes: np.ndarray | None) -> tuple[tuple[str, ...], str, str]:
 
 
 def _overdispersion(
-    defectives: bool, sizes: np.ndarray | None, counts: np.ndarray, kind: str, reason: str
+    defectives: bool,
+    sizes: np.ndarray | None,
+    counts: np.ndarray,
+    kind: str,
+    reason: str,
+    fit: dict,
 ) -> tuple[str, str]:
     """The overdispersion check on large subgroups: a Laney chart where the counts vary more
-    than the binomial or Poisson model allows, else the reason says they do not."""
+    than the binomial or Poisson model allows, else the reason says they do not. Judged on the
+    points a Laney chart's limits would be fitted to (*fit*: stage, segment, set_aside), so
+    that the sigma_z the reason quotes is the chart's."""
     laney = f"laney-{'p' if defectives else 'u'}"
-    n = np.broadcast_to(sizes if sizes is not None else np.ones(1), counts.shape)
+    n = np.array(np.broadcast_to(sizes if sizes is not None else np.ones(1), counts.shape))
+    st = fit.get("stage")
+    base = np.ones(counts.size, dtype=bool) if st is None else np.asarray(st) == 0
+    if not base.any():
+        return kind, reason
     large = (
-        float(np.mean(n)) >= LARGE_SUBGROUP if defectives else float(np.mean(counts)) >= LARGE_COUNT
+        float(np.mean(n[base])) >= LARGE_SUBGROUP
+        if defectives
+        else float(np.mean(counts[base])) >= LARGE_COUNT
     )
     if not large:
         return kind, reason
     try:
-        sz = sigma_z_of(counts, n, proportion=defectives)
+        sz, k, pairs = _sigma_z_fit(
+            counts, n, defectives, st, fit.get("segment"), fit.get("set_aside")
+        )
     except StatsError:
-        sz = None
-    if sz is None:
         return kind, reason
-    m = int(np.sum(n > 0))
-    bound = sigma_z_bound(m)
+    # the bound for k moving ranges in runs (k + 1 successive points when unbroken)
+    bound = 1.0 + normal.ppf(OVERDISPERSION_LEVEL) * _sd_of_mr_mean(k, pairs)
     if sz > bound:
         what = "subgroups" if defectives else "counts"
         reason = (
