@@ -41,8 +41,7 @@ from steadyline.stats.results import ChartChoice, StatsError
 
 from . import normal
 from .codes import CHARTED_TYPES, ChartKind
-from .control.fitting import check_aside
-from .control.neighbours import chains, check_segment, consecutive_pairs, pair_key
+from .control.rates import baseline_sigma_z
 
 DATA_TYPES = CHARTED_TYPES
 CHART_KINDS = tuple(k.value for k in ChartKind if k is not ChartKind.AUTO)
@@ -87,7 +86,13 @@ def sigma_z_bound(m: int, level: float = OVERDISPERSION_LEVEL) -> float:
 
     Normal approximation: 1 + z_level * :func:`sigma_z_sd`. For m = 25 it is about 1.30.
     """
-    return 1.0 + normal.ppf(level) * sigma_z_sd(m)
+    return _bound(m - 1, max(m - 2, 0), level)
+
+
+def _bound(k: int, pairs: int, level: float = OVERDISPERSION_LEVEL) -> float:
+    """The bound for ``k`` moving ranges of which ``pairs`` neighbouring pairs share a point
+    (``k`` + 1 successive points when the ranges are unbroken)."""
+    return 1.0 + normal.ppf(level) * _sd_of_mr_mean(k, pairs)
 
 
 def sigma_z_of(
@@ -107,39 +112,7 @@ def sigma_z_of(
     periods, none that involves a point set aside or joins the points either side of one),
     and points set aside take no part. The value is the chart's ``extras["sigma_z"]``.
     """
-    return _sigma_z_fit(counts, sizes, proportion, stage, segment, set_aside)[0]
-
-
-def _sigma_z_fit(counts, sizes, proportion, stage, segment, set_aside) -> tuple[float, int, int]:
-    """(sigma_z, moving ranges, neighbouring pairs of them) of :func:`sigma_z_of`."""
-    c = np.asarray(counts, dtype=float)
-    n = np.asarray(sizes, dtype=float)
-    if c.shape != n.shape or c.ndim != 1:
-        raise StatsError("counts and sizes must be one-dimensional and of the same length")
-    st = np.zeros(c.size, dtype=np.int64) if stage is None else np.asarray(stage, dtype=np.int64)
-    if st.shape != c.shape:
-        raise StatsError("stage must give one number per point")
-    _brk, chain = chains(st, check_segment(segment, c.size))
-    aside = check_aside(set_aside, c.size)
-    chain = pair_key(chain, aside)
-    fit = (n > 0) & (st == 0)
-    if aside is not None:
-        fit &= ~aside
-    if int(fit.sum()) < 2:
-        raise StatsError(
-            f"sigma_z needs at least two points with a positive size, got {int(fit.sum())}"
-        )
-    rate = c[fit].sum() / n[fit].sum()
-    var = rate * (1 - rate) if proportion else rate
-    if var <= 0:
-        raise StatsError("sigma_z is undefined when no (or every) item is defective")
-    z = np.full(c.size, np.nan)
-    z[fit] = (c[fit] / n[fit] - rate) / np.sqrt(var / n[fit])
-    a, b = consecutive_pairs(fit, chain)
-    if a.size < 1:
-        raise StatsError("sigma_z needs two successive points")
-    pairs = int(np.sum(a[1:] == b[:-1]))  # neighbouring ranges that share a point
-    return float(np.mean(np.abs(z[b] - z[a])) / d2(2)), int(a.size), pairs
+    return baseline_sigma_z(counts, sizes, proportion, stage, segment, set_aside)[0]
 
 
 def _arr(values: Sequence[float] | np.ndarray | None, what: str) -> np.ndarray | None:
@@ -308,13 +281,12 @@ def _overdispersion(
     if not large:
         return kind, reason
     try:
-        sz, k, pairs = _sigma_z_fit(
+        sz, k, pairs = baseline_sigma_z(
             counts, n, defectives, st, fit.get("segment"), fit.get("set_aside")
         )
     except StatsError:
         return kind, reason
-    # the bound for k moving ranges in runs (k + 1 successive points when unbroken)
-    bound = 1.0 + normal.ppf(OVERDISPERSION_LEVEL) * _sd_of_mr_mean(k, pairs)
+    bound = _bound(k, pairs)
     if sz > bound:
         what = "subgroups" if defectives else "counts"
         reason = (

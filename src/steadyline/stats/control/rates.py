@@ -79,18 +79,10 @@ def _rate_chart(
     set_aside: Any = None,
 ) -> ControlChart:
     proportion = kind == "p"
-    d, a = _counts_and_exposure(counts, exposure, proportion)
-    m = d.size
     k = float(sigma_multiple)
-    st = check_common(m, stage, limits, k)
-    _brk, chain = chains(st, check_segment(segment, m))
-    aside = check_aside(set_aside, m)
-    chain = pair_key(chain, aside)
-    usable = a > 0
+    rates, st, chain, aside = _placed(kind, counts, exposure, stage, limits, k, segment, set_aside)
+    a, usable, m = rates.a, rates.usable, rates.d.size
     notes = _unusable_notes(usable, proportion)
-    values = np.full(m, np.nan)
-    values[usable] = d[usable] / a[usable]
-    rates = _Rates(kind, d, a, usable, values)
 
     fit = _fitter(rates, st, chain, laney, notes)
     notes += aside_note(aside, ranges=False)
@@ -106,7 +98,7 @@ def _rate_chart(
         ControlChart(
             kind=out_kind,
             label=label,
-            values=values,
+            values=rates.values,
             centre=centre,
             lower=lower,
             upper=upper,
@@ -121,6 +113,59 @@ def _rate_chart(
             set_aside=aside,
         )
     )
+
+
+def _placed(
+    kind: str,
+    counts: Any,
+    exposure: Any,
+    stage: Any,
+    limits: str,
+    sigma_multiple: float,
+    segment: Any,
+    set_aside: Any,
+) -> tuple[_Rates, np.ndarray, np.ndarray, np.ndarray | None]:
+    """The checked counts and exposures with each usable point's rate, and where the points
+    stand: (rates, stage, chain of successive points for moving ranges, set aside)."""
+    d, a = _counts_and_exposure(counts, exposure, kind == "p")
+    m = d.size
+    st = check_common(m, stage, limits, sigma_multiple)
+    _brk, chain = chains(st, check_segment(segment, m))
+    aside = check_aside(set_aside, m)
+    usable = a > 0
+    values = np.full(m, np.nan)
+    values[usable] = d[usable] / a[usable]
+    return _Rates(kind, d, a, usable, values), st, pair_key(chain, aside), aside
+
+
+def baseline_sigma_z(
+    counts: Any,
+    exposure: Any,
+    proportion: bool,
+    stage: Any = None,
+    segment: Any = None,
+    set_aside: Any = None,
+) -> tuple[float, int, int]:
+    """Laney's sigma_z of the baseline (stage 0) as the p′ or u′ chart fits it, for the chart
+    choice's overdispersion check: (sigma_z, moving ranges, neighbouring pairs of them that
+    share a point). :class:`StatsError` where it is undefined (fewer than two usable points,
+    a rate of 0, or of 1 for proportions, no two successive points)."""
+    kind = "p" if proportion else "u"
+    rates, st, chain, aside = _placed(
+        kind, counts, exposure, stage, "baseline", 3.0, segment, set_aside
+    )
+    mask = rates.usable & (st == 0)
+    if aside is not None:
+        mask &= ~aside
+    if mask.sum() < 2:
+        raise StatsError(f"sigma_z needs at least two usable points, got {int(mask.sum())}")
+    rate = float(rates.d[mask].sum() / rates.a[mask].sum())
+    notes: list[str] = []
+    found = _sigma_z_pairs(rates, rate, mask, chain, notes)
+    if found is None:
+        raise StatsError(notes[-1])
+    sigma_z, pa, pb = found
+    return sigma_z, int(pa.size), int(np.sum(pa[1:] == pb[:-1]))
 
 
 def _counts_and_exposure(
@@ -192,6 +237,14 @@ def _sigma_z(
 ) -> float | None:
     """Laney's sigma_z: the average moving range of the fitted points' z-scores / d2(2); None
     (with a note) where the z-scores are undefined or no two points are successive."""
+    found = _sigma_z_pairs(rates, rate, mask, chain, notes)
+    return None if found is None else found[0]
+
+
+def _sigma_z_pairs(
+    rates: _Rates, rate: float, mask: np.ndarray, chain: np.ndarray, notes: list[str]
+) -> tuple[float, np.ndarray, np.ndarray] | None:
+    """:func:`_sigma_z` with the pairs of successive points its moving ranges join."""
     idx = np.flatnonzero(mask)
     s = rates.base_sigma(rate, idx)
     if np.any(s == 0):
@@ -207,7 +260,7 @@ def _sigma_z(
     if pa.size < 1:
         notes.append("No two consecutive usable points; the classic chart limits are used.")
         return None
-    return float(np.mean(np.abs(z[pb] - z[pa])) / d2(2))
+    return float(np.mean(np.abs(z[pb] - z[pa])) / d2(2)), pa, pb
 
 
 def _zero_variation_notes(groups: list[Group], proportion: bool) -> list[str]:
