@@ -22,6 +22,9 @@ def test_every_public_name_resolves_to_its_object():
         value = getattr(stats, name)
         assert not isinstance(value, types.ModuleType), name
     assert set(stats.__all__) <= set(dir(stats))
+    # the names listed for the type checker, those loaded on first use and those handed on
+    # are one list
+    assert set(stats._HOME) == set(stats.__all__)
 
 
 def test_a_function_named_like_its_module_stays_the_function():

@@ -152,20 +152,15 @@ def _usable_rows(
             f"column '{spec.count}'",
             f"more defectives than items checked ('{spec.size}')",
         )
+    if (kind == "defectives" and not flags) or (kind == "defects" and "size" in frame):
         zero = frame["size"] <= 0
-        out.rows(
-            list(frame.index[zero]),
-            f"column '{spec.size}'",
-            "no items checked (size 0); the row is left out",
-            severity="warning",
+        nothing = (
+            "no items checked (size 0)" if kind == "defectives" else "area of opportunity is zero"
         )
-        frame = frame[~zero]
-    if kind == "defects" and "size" in frame:
-        zero = frame["size"] <= 0
         out.rows(
             list(frame.index[zero]),
             f"column '{spec.size}'",
-            "area of opportunity is zero; the row is left out",
+            f"{nothing}; the row is left out",
             severity="warning",
         )
         frame = frame[~zero]
