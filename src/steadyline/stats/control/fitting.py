@@ -170,6 +170,30 @@ def fit_groups(
     return groups
 
 
+def counts_and_exposure(
+    counts: Any, exposure: Any, proportion: bool
+) -> tuple[np.ndarray, np.ndarray]:
+    """A rate chart's counts and exposures (number checked, or area of opportunity) as checked
+    arrays of one length; defectives no more than the number checked."""
+    d = as_counts(counts, "counts")
+    what = "sizes (number checked)" if proportion else "areas of opportunity"
+    if proportion:
+        a = as_counts(exposure, what)
+    else:
+        a = as_float_array(exposure, what)
+        if np.any(a < 0):
+            raise StatsError("areas of opportunity must not be negative")
+    if a.size != d.size:
+        raise StatsError(f"counts and {what} must have the same length ({d.size} vs {a.size})")
+    if proportion and np.any(d > a):
+        bad = positions(d > a)
+        raise StatsError(
+            f"defectives cannot exceed the number checked (positions {bad}); "
+            "each count must be between 0 and its size"
+        )
+    return d, a
+
+
 def check_aside(set_aside: Any, m: int) -> np.ndarray | None:
     """The set-aside mask as booleans, or None when no point is set aside."""
     if set_aside is None:

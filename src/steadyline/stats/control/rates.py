@@ -22,12 +22,11 @@ from ..results import ControlChart, StatsError
 from .fitting import (
     Group,
     TooFew,
-    as_counts,
-    as_float_array,
     aside_note,
     base_result,
     check_aside,
     check_common,
+    counts_and_exposure,
     fill,
     fit_groups,
     fitted_mask,
@@ -127,7 +126,7 @@ def _placed(
 ) -> tuple[_Rates, np.ndarray, np.ndarray, np.ndarray | None]:
     """The checked counts and exposures with each usable point's rate, and where the points
     stand: (rates, stage, chain of successive points for moving ranges, set aside)."""
-    d, a = _counts_and_exposure(counts, exposure, kind == "p")
+    d, a = counts_and_exposure(counts, exposure, kind == "p")
     m = d.size
     st = check_common(m, stage, limits, sigma_multiple)
     _brk, chain = chains(st, check_segment(segment, m))
@@ -166,30 +165,6 @@ def baseline_sigma_z(
         raise StatsError(notes[-1])
     sigma_z, pa, pb = found
     return sigma_z, int(pa.size), int(np.sum(pa[1:] == pb[:-1]))
-
-
-def _counts_and_exposure(
-    counts: Any, exposure: Any, proportion: bool
-) -> tuple[np.ndarray, np.ndarray]:
-    """The counts and the exposures as checked arrays of one length; defectives no more than
-    the number checked."""
-    d = as_counts(counts, "counts")
-    what = "sizes (number checked)" if proportion else "areas of opportunity"
-    if proportion:
-        a = as_counts(exposure, what)
-    else:
-        a = as_float_array(exposure, what)
-        if np.any(a < 0):
-            raise StatsError("areas of opportunity must not be negative")
-    if a.size != d.size:
-        raise StatsError(f"counts and {what} must have the same length ({d.size} vs {a.size})")
-    if proportion and np.any(d > a):
-        bad = positions(d > a)
-        raise StatsError(
-            f"defectives cannot exceed the number checked (positions {bad}); "
-            "each count must be between 0 and its size"
-        )
-    return d, a
 
 
 def _unusable_notes(usable: np.ndarray, proportion: bool) -> list[str]:
